@@ -246,6 +246,39 @@ impl fmt::Display for FrfKind {
     }
 }
 
+/// What a set holds when it is a signal spectrum rather than an FRF.
+///
+/// A spectrum is stored as an [`FrfSet`] with one input column: the outputs
+/// are the DOFs the spectrum acts at, the single input is a dimensionless
+/// reference (`Dof::scalar("", "ref")`). The kind says how to read the values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SignalKind {
+    /// Complex line spectrum, peak amplitude and phase of each harmonic.
+    Peak,
+    /// Complex line spectrum, RMS amplitude and phase of each line.
+    Rms,
+    /// Autopower per line (unit², mean square), phase unknown.
+    Autopower,
+    /// Power spectral density (unit²/Hz), phase unknown.
+    Psd,
+}
+
+impl SignalKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            SignalKind::Peak => "peak",
+            SignalKind::Rms => "rms",
+            SignalKind::Autopower => "autopower",
+            SignalKind::Psd => "psd",
+        }
+    }
+    /// True when the values carry phase.
+    pub fn has_phase(self) -> bool {
+        matches!(self, SignalKind::Peak | SignalKind::Rms)
+    }
+}
+
 /// Where a set came from.
 #[derive(Debug, Clone, PartialEq, Default, serde::Serialize, serde::Deserialize)]
 pub struct Provenance {
@@ -283,6 +316,9 @@ pub struct FrfSet {
     /// Non-fatal remarks made while building the set.
     #[serde(default)]
     pub warnings: Vec<String>,
+    /// `Some` when the set is a signal spectrum (see [`SignalKind`]), `None` for FRFs.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signal: Option<SignalKind>,
 }
 
 impl FrfSet {
@@ -309,6 +345,7 @@ impl FrfSet {
             coherence: None,
             provenance: Vec::new(),
             warnings: Vec::new(),
+            signal: None,
         }
     }
 
@@ -485,6 +522,7 @@ impl FrfSet {
         }
         s.provenance = self.provenance.clone();
         s.warnings = self.warnings.clone();
+        s.signal = self.signal;
         s
     }
 

@@ -35,10 +35,22 @@
 //! assert!(y.get(10, 0, 0).re >= 0.0); // passive driving point
 //! ```
 
+pub mod assemble;
+pub mod audit;
+#[cfg(not(target_arch = "wasm32"))]
+pub mod cli;
 pub mod error;
 pub mod frf;
 pub mod grid;
+pub mod io;
+pub mod levels;
+pub mod plot;
+pub mod predict;
+pub mod recipe;
+pub mod synth;
 pub mod units;
+#[cfg(target_arch = "wasm32")]
+pub mod wasm;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frf::{Direction, Dof, FrfKind, FrfSet};

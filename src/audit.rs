@@ -1,0 +1,1 @@
+//! Fitness audit: reciprocity, passivity, linearity, coherence, conditioning. (Being built.)

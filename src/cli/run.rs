@@ -1,0 +1,9 @@
+//! `mortise run` (being built).
+
+use super::Args;
+use crate::error::{Error, Result};
+
+pub fn run(args: &Args) -> Result<String> {
+    let _ = args;
+    Err(Error::unsupported("'run' is not built yet"))
+}

@@ -1,0 +1,1 @@
+//! Drawing of FRF plots, generic over a plotters backend. (Being built.)

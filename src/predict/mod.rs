@@ -1,0 +1,1 @@
+//! Operational prediction, path contributions, blocked forces, variants. (Being built.)

@@ -1,0 +1,1 @@
+//! Component synthesis: lumped networks, modal superposition, beams, isolators. (Being built.)

@@ -1,0 +1,1 @@
+//! wasm-bindgen layer: translation only. (Being built.)
