@@ -7,6 +7,7 @@
 
 pub mod bundle;
 pub mod csv;
+pub mod merge;
 pub mod uff58;
 
 use crate::error::{Error, Result};
