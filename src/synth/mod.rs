@@ -152,6 +152,86 @@ impl SystemMatrices {
     }
 }
 
+impl SystemMatrices {
+    /// Receptance by exact modal superposition for proportional damping,
+    /// C = αM + βK and K_h = ηK (the matrices' own `c` and `kh` are not
+    /// read): with the real modes (ω_r², φ_r) of K, M,
+    /// H_ij = Σ_r φ_ir φ_jr / (ω_r²(1 + iη) − ω² + iω(α + βω_r²)).
+    /// Keeping every mode this equals the direct solution of
+    /// K(1 + iη) − ω²M + iωC, at far less cost per line.
+    #[allow(clippy::too_many_arguments)]
+    pub fn receptance_proportional(
+        &self,
+        name: &str,
+        freqs: &[f64],
+        outputs: &[Dof],
+        inputs: &[Dof],
+        eta: f64,
+        alpha: f64,
+        beta: f64,
+    ) -> Result<FrfSet> {
+        crate::grid::check_grid(freqs)?;
+        if outputs.is_empty() || inputs.is_empty() {
+            return Err(Error::dof(format!(
+                "'{name}': no output or no input DOF was requested; expected at least one of each"
+            )));
+        }
+        let oi = outputs
+            .iter()
+            .map(|d| self.index_of(d))
+            .collect::<Result<Vec<_>>>()?;
+        let ii = inputs
+            .iter()
+            .map(|d| self.index_of(d))
+            .collect::<Result<Vec<_>>>()?;
+        let (lam, phi) = real_modes(&self.k, &self.m)?;
+        let lmax = lam.iter().fold(0.0f64, |a, &b| a.max(b.abs()));
+        let rigid = lam.iter().any(|&l| l.abs() <= 1e-9 * lmax);
+        if rigid && freqs[0] == 0.0 && alpha == 0.0 {
+            return Err(Error::numeric(format!(
+                "'{name}': the model can move as a rigid body, so its receptance at 0 Hz is infinite; start the grid above 0 Hz or add a support"
+            )));
+        }
+        let mut set = FrfSet::zeros(
+            name,
+            freqs.to_vec(),
+            outputs.to_vec(),
+            inputs.to_vec(),
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        set.validate()?;
+        // modal products φ_ir φ_jr with the requested signs, per entry
+        let nr = lam.len();
+        let (no, ni) = (oi.len(), ii.len());
+        let mut prod = vec![0.0; nr * no * ni];
+        for r in 0..nr {
+            for (a, &i) in oi.iter().enumerate() {
+                for (b, &j) in ii.iter().enumerate() {
+                    prod[(r * no + a) * ni + b] =
+                        phi[(i, r)] * phi[(j, r)] * outputs[a].sign() * inputs[b].sign();
+                }
+            }
+        }
+        for (l, &f) in freqs.iter().enumerate() {
+            let w = 2.0 * std::f64::consts::PI * f;
+            let line = set.line_mut(l);
+            for r in 0..nr {
+                let lr = if lam[r].abs() <= 1e-9 * lmax {
+                    0.0
+                } else {
+                    lam[r]
+                };
+                let g = 1.0 / Complex64::new(lr - w * w, lr * eta + w * (alpha + beta * lr));
+                for (e, v) in line.iter_mut().enumerate() {
+                    *v += g * prod[r * no * ni + e];
+                }
+            }
+        }
+        Ok(set)
+    }
+}
+
 /// Real modes of the undamped problem K φ = ω² M φ, M symmetric positive
 /// definite: returns ω_r² ascending and the mass-normalised shapes as the
 /// columns of Φ (Φᵀ M Φ = I). Uses nalgebra's Cholesky factor of M and its
