@@ -71,6 +71,23 @@ pub struct DemoParts {
     pub vibro: FrfSet,
 }
 
+impl DemoParts {
+    /// Every part with a short name (the set's own name), in a fixed order.
+    pub fn all(&self) -> Vec<(&'static str, &FrfSet)> {
+        vec![
+            ("casing", &self.casing),
+            ("blocked_forces", &self.blocked_forces),
+            ("isolator_axial", &self.isolator_axial),
+            ("isolator_shear", &self.isolator_shear),
+            ("isolator_axial_soft", &self.isolator_axial_soft),
+            ("isolator_shear_soft", &self.isolator_shear_soft),
+            ("bracket", &self.bracket),
+            ("wall", &self.wall),
+            ("vibro", &self.vibro),
+        ]
+    }
+}
+
 /// The demo grid: 10 Hz to 1 kHz in 1 Hz steps.
 pub fn grid() -> Vec<f64> {
     (10..=1000).map(|f| f as f64).collect()
@@ -196,6 +213,7 @@ pub fn casing_model() -> ModalModel {
         dofs,
         modes,
         residuals,
+        complex_modes: Vec::new(),
     }
 }
 
@@ -538,6 +556,7 @@ pub fn wall_model() -> ModalModel {
         dofs,
         modes,
         residuals: Vec::new(),
+        complex_modes: Vec::new(),
     }
 }
 

@@ -63,6 +63,9 @@ fn labels_kinds_and_grid() {
         assert!(s.signal.is_none());
     }
     assert_eq!(p.blocked_forces.signal, Some(SignalKind::Peak));
+    for (name, s) in p.all() {
+        assert_eq!(name, s.name);
+    }
     p.blocked_forces.validate().unwrap();
     assert_eq!(demo::grid().len(), 991);
     assert!(demo::scenario(&[0.0, 1.0]).is_err());
