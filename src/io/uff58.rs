@@ -583,7 +583,7 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
         if l.trimmed() != "-1" {
             let msg = match last_end {
                 None => format!(
-                    "not a UFF file: expected the start tag '    -1' on the first line, found '{}'",
+                    "not a UFF file: expected the start tag '    -1' on the first non-blank line, found '{}'",
                     preview(l.bytes)
                 ),
                 Some(e) => format!(
