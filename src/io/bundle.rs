@@ -126,11 +126,13 @@ pub fn read(bytes: &[u8], file: &str) -> Result<Bundle> {
     }
     match obj.get("version").and_then(|f| f.as_u64()) {
         Some(n) if n == u64::from(BUNDLE_VERSION) => {}
-        Some(n) if n > u64::from(BUNDLE_VERSION) => return Err(Error::unsupported(format!(
+        Some(n) if n > u64::from(BUNDLE_VERSION) => {
+            return Err(Error::unsupported(format!(
             "version {n} was written by a newer mortise; this one reads version {BUNDLE_VERSION}"
         ))
-        .field("version")
-        .in_file(file)),
+            .field("version")
+            .in_file(file))
+        }
         Some(n) => {
             return Err(Error::unsupported(format!(
                 "version {n}; this mortise reads version {BUNDLE_VERSION}"
