@@ -1409,19 +1409,6 @@ pub fn looks_delimited(text: &str) -> bool {
     false
 }
 
-/// The first non-blank line's cells, for messages about unmapped files.
-pub fn first_cells(text: &str) -> Vec<String> {
-    let Some(l) = text.lines().find(|l| !l.trim().is_empty()) else {
-        return Vec::new();
-    };
-    Delimiter::Auto
-        .resolve(l)
-        .split(l)
-        .into_iter()
-        .map(|c| c.trim().to_string())
-        .collect()
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

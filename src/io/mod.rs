@@ -243,20 +243,19 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::CsvMapped => {
             let Some(map) = &opts.column_map else {
                 let text = csv::decode_text(bytes);
-                let cells = csv::first_cells(&text);
+                let head: Vec<String> = text
+                    .lines()
+                    .filter(|l| !l.trim().is_empty())
+                    .take(3)
+                    .map(|l| format!("'{}'", l.trim().chars().take(80).collect::<String>()))
+                    .collect();
                 return Err(Error::usage(format!(
                     "this is delimited text but not mortise's own CSV layout, so it needs a column map: \
 the frequency column, and for each FRF its output DOF, input DOF and value columns (real/imaginary, \
 magnitude/phase or one value), the value unit and the output and input quantities. \
 On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag N --phase N | --value N) \
---unit U --out-qty Q --in-qty Q, or --map MAP.json. The first row has {} cells: {}",
-                    cells.len(),
-                    cells
-                        .iter()
-                        .take(12)
-                        .map(|c| format!("'{c}'"))
-                        .collect::<Vec<_>>()
-                        .join(", ")
+--unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json. The file starts: {}",
+                    head.join(" | ")
                 ))
                 .in_file(file));
             };
