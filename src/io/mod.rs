@@ -116,7 +116,8 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
     if first.trim_ascii() != b"-1" {
         return None;
     }
-    let second = lines.next()?;
+    // some writers start with an empty dataset ("-1" twice)
+    let second = lines.find(|l| l.trim_ascii() != b"-1")?;
     let tok = second
         .trim_ascii()
         .split(|b| b.is_ascii_whitespace())

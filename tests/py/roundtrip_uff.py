@@ -1,7 +1,12 @@
 """Write a UFF dataset 58 file with pyuff (a reference library outside
-mortise), ASCII or binary, with two FRFs of an invented heat-pump casing.
+mortise), ASCII or binary, with two FRFs of an invented heat-pump casing
+(response node 1 +Z, references nodes 1 and 2 +Z, receptance: ordinate type
+8 = displacement, denominator 13 = excitation force, as pyuff's dataset 58
+documentation lists them). Prints, as JSON, the frequencies and values
+handed to pyuff.
 Usage: roundtrip_uff.py OUT_FILE [binary]
 """
+import json
 import sys
 
 import numpy as np
@@ -12,9 +17,11 @@ binary = len(sys.argv) > 2 and sys.argv[2] == "binary"
 rng = np.random.default_rng(7)
 freqs = np.arange(1, 201) * 2.5
 sets = []
+values = {}
 for ref in (1, 2):
     data = rng.normal(size=freqs.size) + 1j * rng.normal(size=freqs.size)
     data *= 1e-4
+    values[str(ref)] = [[float(v.real), float(v.imag)] for v in data]
     sets.append(
         pyuff.prepare_58(
             binary=1 if binary else 0,
@@ -38,4 +45,4 @@ for ref in (1, 2):
     )
 u = pyuff.UFF(path)
 u.write_sets(sets, mode="overwrite")
-print(len(sets))
+print(json.dumps({"freqs": freqs.tolist(), "values": values}))
