@@ -3,7 +3,7 @@
 #![allow(dead_code)]
 
 use mortise::assemble::{Joint, JointKind};
-use mortise::{Dof, FrfKind, FrfSet};
+use mortise::{Dof, FrfKind, FrfSet, Quantity};
 use num_complex::Complex64;
 use serde_json::Value;
 
@@ -16,7 +16,13 @@ pub fn set_from_json(v: &Value, freqs: &[f64]) -> FrfSet {
             .map(|s| Dof::parse(s.as_str().unwrap(), "").unwrap())
             .collect()
     };
-    let (oq, iq) = FrfKind::quantities(v["kind"].as_str().unwrap()).unwrap();
+    let (oq, iq) = match v["kind"].as_str() {
+        Some(k) => FrfKind::quantities(k).unwrap(),
+        None => (
+            Quantity::parse(v["out_qty"].as_str().unwrap()).unwrap(),
+            Quantity::parse(v["in_qty"].as_str().unwrap()).unwrap(),
+        ),
+    };
     let mut s = FrfSet::zeros(
         v["name"].as_str().unwrap(),
         freqs.to_vec(),
