@@ -10,6 +10,7 @@ numpy and its receptance H = (K - w^2 M + i w C)^-1 is inverted per line
   bench_f      forces from numpy.linalg.pinv(Hb, rcond) @ y_ind, where Hb =
                H[ind][:, 0:2], ind = DOFs 2, 3, 4, y_ind = H[ind][:, 0:2] @ f0 + noise
   bench_sv     numpy.linalg.svd singular values of Hb per line
+  cond         numpy.linalg.cond (2-norm) of the full 5x5 receptance per line
 Usage: predict_reference.py RCOND NOISE"""
 import json
 import sys
@@ -82,6 +83,7 @@ print(
             "bench_f": c(bench_f),
             "bench_sv": np.array(bench_sv).tolist(),
             "val_y": c(val_y),
+            "cond": [float(np.linalg.cond(h)) for h in H],
         }
     )
 )
