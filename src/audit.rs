@@ -254,7 +254,8 @@ impl<'a> Flags<'a> {
         self.bands.iter().position(|b| b.contains(f))
     }
     fn ranges(&self) -> Vec<FlaggedRange> {
-        let mut out: Vec<(Option<usize>, FlaggedRange)> = Vec::new();
+        // (band of the last line, last flagged line, range)
+        let mut out: Vec<(Option<usize>, usize, FlaggedRange)> = Vec::new();
         let larger = self.larger_worse;
         for (k, h) in self.hit.iter().enumerate() {
             let Some((v, entries)) = h else { continue };
@@ -268,16 +269,20 @@ impl<'a> Flags<'a> {
                 ),
                 None => (0.0, 0.0, "0".to_string()),
             };
+            // merge with the previous range when no unflagged line lies
+            // between, or when the bands touch
             let merge = match out.last() {
-                Some((Some(pb), _)) => bi.is_some_and(|i| i == *pb || i == pb + 1),
-                Some((None, _)) => bi.is_none(),
+                Some((_, pk, _)) if pk + 1 == k => true,
+                Some((Some(pb), _, _)) => bi.is_some_and(|i| i == *pb || i == pb + 1),
+                Some((None, _, _)) => bi.is_none(),
                 None => false,
             };
             if merge {
-                let Some((pb, r)) = out.last_mut() else {
+                let Some((pb, pk, r)) = out.last_mut() else {
                     continue;
                 };
                 *pb = bi;
+                *pk = k;
                 r.upper = upper;
                 r.last_band = label;
                 r.lines += 1;
@@ -293,6 +298,7 @@ impl<'a> Flags<'a> {
             } else {
                 out.push((
                     bi,
+                    k,
                     FlaggedRange {
                         lower,
                         upper,
@@ -306,7 +312,7 @@ impl<'a> Flags<'a> {
                 ));
             }
         }
-        out.into_iter().map(|(_, r)| r).collect()
+        out.into_iter().map(|(_, _, r)| r).collect()
     }
 }
 
