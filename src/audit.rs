@@ -762,10 +762,18 @@ pub fn check_grid(set: &FrfSet, opts: &AuditOptions) -> CheckResult {
     }
 }
 
-/// Warnings made while importing.
+/// Warnings made while importing, missing entries, and sides of unknown quantity.
 pub fn check_import(set: &FrfSet) -> CheckResult {
     let missing = set.missing_entries();
     let mut details = set.warnings.clone();
+    if set.signal.is_none()
+        && (set.out_qty == Quantity::Dimensionless || set.in_qty == Quantity::Dimensionless)
+    {
+        details.push(format!(
+            "the quantities are {} per {}: a side without a known quantity cannot be converted or checked for units",
+            set.out_qty, set.in_qty
+        ));
+    }
     if !missing.is_empty() {
         details.push(format!("{} entries missing", missing.len()));
     }

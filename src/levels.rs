@@ -443,6 +443,42 @@ pub fn sum_levels_db(levels: &[f64]) -> f64 {
         .log10()
 }
 
+/// Levels of one spectrum row: per line, per band and overall, with the
+/// reference in the label; what a plot or a table of a response shows.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct SpectrumLevels {
+    pub dof: String,
+    /// Axis label, e.g. "dB re 1 nm/s".
+    pub unit: String,
+    pub weighting: Weighting,
+    pub freqs: Vec<f64>,
+    /// Unweighted level of each line, dB.
+    pub line_db: Vec<f64>,
+    pub bands: Vec<Band>,
+    /// Weighted band levels, dB (−∞ for bands without lines).
+    pub band_db: Vec<f64>,
+    /// Weighted overall level, dB.
+    pub overall_db: f64,
+}
+
+/// Levels of row `out` of spectrum `set` in 1/b bands with weighting `w`.
+pub fn spectrum_levels(set: &FrfSet, out: usize, b: u32, w: Weighting) -> Result<SpectrumLevels> {
+    let ms = line_mean_squares(set, out)?;
+    let dof = &set.outputs[out];
+    let r = reference(set.out_qty, dof.dir.is_rotational());
+    let bands = band_mean_squares(&set.freqs, &ms, b, w)?;
+    Ok(SpectrumLevels {
+        dof: dof.to_string(),
+        unit: axis_label(set.out_qty, dof.dir.is_rotational()),
+        weighting: w,
+        freqs: set.freqs.clone(),
+        line_db: ms.iter().map(|&m| db_mean_square(m, r.value)).collect(),
+        band_db: bands.levels_db(r.value),
+        bands: bands.bands,
+        overall_db: db_mean_square(overall_mean_square(&set.freqs, &ms, w), r.value),
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

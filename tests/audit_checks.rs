@@ -359,4 +359,14 @@ fn coarse_resolution_and_uneven_grid_are_flagged() {
     let ci = check_import(&w);
     assert_eq!(ci.status, Status::Flag);
     assert_eq!(ci.details.len(), 2);
+    // a side of unknown quantity cannot be unit-checked
+    let mut u = clean_two_dof(&grid(1.0, 10.0, 1.0));
+    u.in_qty = Quantity::Dimensionless;
+    let cu = check_import(&u);
+    assert_eq!(cu.status, Status::Flag);
+    assert!(cu.summary.contains("dimensionless"), "{}", cu.summary);
+    assert_eq!(
+        check_passivity(&u, &AuditOptions::default()).status,
+        Status::NotApplicable
+    );
 }

@@ -207,3 +207,32 @@ fn psd_and_line_forms_agree() {
     s.signal = None;
     assert!(line_mean_squares(&s, 0).is_err());
 }
+
+#[test]
+fn spectrum_levels_of_a_velocity_line() {
+    // 1 mm/s RMS at 1 kHz alone: 120 dB re 1 nm/s, A-weighting 0 dB at 1 kHz (IEC 61672-1)
+    let freqs = vec![500.0, 1000.0, 2000.0];
+    let mut s = FrfSet::zeros(
+        "wall",
+        freqs,
+        vec![Dof::new("wall", "w1", mortise::frf::Direction::Z)],
+        vec![Dof::scalar("", "ref")],
+        Quantity::Velocity,
+        Quantity::Dimensionless,
+    );
+    s.signal = Some(SignalKind::Rms);
+    s.set(1, 0, 0, Complex64::new(0.0, 1e-3));
+    let l = spectrum_levels(&s, 0, 3, Weighting::A).unwrap();
+    assert_eq!(l.unit, "dB re 1 nm/s");
+    assert!((l.overall_db - 120.0).abs() < 1e-9);
+    assert!((l.line_db[1] - 120.0).abs() < 1e-9);
+    let i = l.bands.iter().position(|b| b.label == "1k").unwrap();
+    assert!((l.band_db[i] - 120.0).abs() < 1e-9);
+    assert!(l.band_db[0].is_infinite());
+    // even b: bands of width 1/6 octave tile the range without gaps
+    let bs = bands_covering(6, 20.0, 20000.0).unwrap();
+    for w in bs.windows(2) {
+        assert!((w[0].upper - w[1].lower).abs() < 1e-9 * w[1].lower);
+        assert!((w[0].upper / w[0].lower - 10f64.powf(0.3 / 6.0)).abs() < 1e-12);
+    }
+}
