@@ -302,6 +302,11 @@ fn parse_num(tok: &str) -> Option<f64> {
     None
 }
 
+/// Codes out of the i32 range become i32::MIN (never a valid code).
+fn clamp_i32(v: i64) -> i32 {
+    i32::try_from(v).unwrap_or(i32::MIN)
+}
+
 fn parse_int(tok: &str) -> Option<i64> {
     tok.trim().parse::<i64>().ok()
 }
@@ -470,7 +475,7 @@ fn read_axis(file: &str, line: &Line, record: usize) -> Result<AxisInfo> {
         let s = col(&text, start, w);
         let s = s.trim();
         match parse_int(s) {
-            Some(v) => nums[n] = v as i32,
+            Some(v) => nums[n] = clamp_i32(v),
             None if s.is_empty() && n > 0 => {}
             None => by_cols = false,
         }
@@ -491,7 +496,7 @@ fn read_axis(file: &str, line: &Line, record: usize) -> Result<AxisInfo> {
     let mut nums = [0i32; 4];
     for (n, slot) in nums.iter_mut().enumerate() {
         match toks.get(n).and_then(|t| parse_int(t)) {
-            Some(v) => *slot = v as i32,
+            Some(v) => *slot = clamp_i32(v),
             None if n > 0 => {}
             None => {
                 return Err(perr(
@@ -795,7 +800,7 @@ fn parse_58(
         10,
     )?;
     let func_type = r6[0].int();
-    if function_type_name(func_type as i32).is_none() {
+    if function_type_name(clamp_i32(func_type)).is_none() {
         return Err(perr(
             file,
             recs[5].no,
@@ -830,13 +835,13 @@ fn parse_58(
         3,
     )?;
     let l7 = recs[6].no;
-    let ord_type = r7[0].int() as i32;
+    let ord_type = clamp_i32(r7[0].int());
     if !matches!(ord_type, 2 | 4 | 5 | 6) {
         return Err(perr(
             file,
             l7,
             "record 7, ordinate data type",
-            format!("expected 2 (real single), 4 (real double), 5 (complex single) or 6 (complex double), found {ord_type}"),
+            format!("expected 2 (real single), 4 (real double), 5 (complex single) or 6 (complex double), found {}", r7[0].int()),
         ));
     }
     let n_pts = r7[1].int();
@@ -848,7 +853,7 @@ fn parse_58(
             format!("expected at least 1 data point, found {n_pts}"),
         ));
     }
-    let n_pts = n_pts as usize;
+    let n_pts = usize::try_from(n_pts).unwrap_or(usize::MAX);
     let even = match r7[2].int() {
         0 => false,
         1 => true,
@@ -887,14 +892,14 @@ fn parse_58(
     let complex = matches!(ord_type, 5 | 6);
     let double = matches!(ord_type, 4 | 6);
     let per_pt = if complex { 2 } else { 1 } + if even { 0 } else { 1 };
-    let n_vals = n_pts * per_pt;
+    let n_vals = n_pts.saturating_mul(per_pt);
 
     // values and where each sits
-    let mut vals: Vec<f64> = Vec::with_capacity(n_vals);
-    let mut pos: Vec<(bool, usize)> = Vec::with_capacity(n_vals); // (is_byte, location)
+    let mut vals: Vec<f64> = Vec::with_capacity(n_vals.min(1 << 20));
+    let mut pos: Vec<(bool, usize)> = Vec::with_capacity(n_vals.min(1 << 20)); // (is_byte, location)
     if binary {
         let size = if double { 8 } else { 4 };
-        let need = n_vals * size;
+        let need = n_vals.saturating_mul(size);
         if let Some(h) = n_bytes_header {
             if h != need as i64 {
                 remarks.push(format!(
