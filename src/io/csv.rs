@@ -825,6 +825,12 @@ pub enum ValueColumns {
     Real {
         value: ColumnRef,
     },
+    /// Storage stiffness K' and loss factor η, as isolator makers give them:
+    /// the value is K'(1 + iη) (e^{+iωt}: a lossy spring has Im ≥ 0).
+    StorageLoss {
+        stiffness: ColumnRef,
+        loss: ColumnRef,
+    },
 }
 
 /// One FRF of a supplier file.
@@ -1012,6 +1018,7 @@ enum Cols {
     ReIm(usize, usize),
     MagPhase(usize, usize),
     Real(usize),
+    StorageLoss(usize, usize),
 }
 
 struct Plan {
@@ -1113,6 +1120,10 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
                 resolve(phase, header, &role("phase"))?,
             ),
             ValueColumns::Real { value } => Cols::Real(resolve(value, header, &role("value"))?),
+            ValueColumns::StorageLoss { stiffness, loss } => Cols::StorageLoss(
+                resolve(stiffness, header, &role("storage stiffness"))?,
+                resolve(loss, header, &role("loss factor"))?,
+            ),
         };
         let coh = match &e.coherence {
             Some(c) => Some(resolve(c, header, &role("coherence"))?),
@@ -1240,6 +1251,11 @@ fn parse_rows(
                     cell_num(&cells, a, map, ln, &format!("value of {label}"))?,
                     0.0,
                 ),
+                Cols::StorageLoss(a, b) => {
+                    let k = cell_num(&cells, a, map, ln, &format!("storage stiffness of {label}"))?;
+                    let eta = cell_num(&cells, b, map, ln, &format!("loss factor of {label}"))?;
+                    Complex64::new(k, k * eta)
+                }
             };
             let mut v = v * *factor;
             if map.conjugate {
