@@ -883,7 +883,7 @@ pub fn audit_linearity(low: &FrfSet, high: &FrfSet, opts: &AuditOptions) -> Resu
         status: if bad == 0 { Status::Pass } else { Status::Flag },
         summary: if bad == 0 {
             format!(
-                "'{}' vs '{}': {compared} entr(ies), band levels agree within {:.2} dB (limit {} dB, common practice)",
+                "'{}' vs '{}': {compared} entr(ies), levels agree within {:.2} dB at every line (limit {} dB, common practice)",
                 low.name, high.name, worst, opts.linearity_tol_db
             )
         } else {
