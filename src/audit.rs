@@ -234,6 +234,8 @@ impl<'a> Flags<'a> {
         }
     }
     fn add(&mut self, k: usize, value: f64, entry: &str) {
+        // JSON has no infinity: a singular matrix is reported as the largest finite number
+        let value = value.clamp(-f64::MAX, f64::MAX);
         let worse = |a: f64, b: f64| if self.larger_worse { a > b } else { a < b };
         match &mut self.hit[k] {
             Some((w, e)) => {
