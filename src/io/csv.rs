@@ -841,6 +841,12 @@ pub struct MapEntry {
 }
 
 /// How to read a supplier's CSV: which column is what.
+///
+/// Blank lines and lines starting with `#` after the skipped rows are
+/// ignored; every other line is a data row and must have as many cells as
+/// the first. Frequencies must increase strictly. Values are converted to
+/// SI: `SI value = factor(unit) × value`, where a magnitude/phase pair is
+/// `|H| e^{iφ}` and a dB level L gives `|H| = reference × 10^(L/20)`.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(default)]
 pub struct ColumnMap {
@@ -1031,6 +1037,14 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
         .field("entries"));
     }
     let freq = resolve(&map.freq, header, "frequency column")?;
+    if let MagScale::Db { reference } = map.mag_scale {
+        if !(reference.is_finite() && reference > 0.0) {
+            return Err(Error::usage(format!(
+                "dB reference {reference}; expected a positive value in the value unit, e.g. 1e-6 for dB re 1e-6 g/N"
+            ))
+            .field("mag_scale"));
+        }
+    }
     let spectrum = map.signal.is_some();
     let in_qty = if spectrum {
         Quantity::Dimensionless

@@ -216,6 +216,18 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     ))
 }
 
+/// Give every DOF the component `c`, except the reference input of a spectrum.
+fn rename_component(s: &mut FrfSet, c: &str) {
+    for d in s.outputs.iter_mut() {
+        d.component = c.to_string();
+    }
+    if s.signal.is_none() {
+        for d in s.inputs.iter_mut() {
+            d.component = c.to_string();
+        }
+    }
+}
+
 /// Import options as text for provenance records.
 fn options_text(opts: &ImportOptions) -> String {
     serde_json::to_string(opts).unwrap_or_default()
@@ -236,7 +248,7 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
             let mut sets = csv::read_native(bytes, file)?;
             if let Some(c) = &opts.component {
                 for s in &mut sets {
-                    s.set_component(c);
+                    rename_component(s, c);
                 }
             }
             sets
@@ -271,16 +283,13 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
                     b.inputs.len()
                 ));
             }
-            let sets = b.all_sets();
+            let mut sets = b.all_sets();
             if let Some(c) = &opts.component {
-                let mut sets = sets;
                 for s in &mut sets {
-                    s.set_component(c);
+                    rename_component(s, c);
                 }
-                sets
-            } else {
-                sets
             }
+            sets
         }
     };
     let prov = Provenance {
