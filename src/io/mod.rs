@@ -303,7 +303,17 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             e.field(format!("set {} ('{}')", n + 1, s.name))
                 .in_file(file)
         })?;
-        s.provenance.push(prov.clone());
+        // a reader may already have recorded this file (the UFF reader does,
+        // with the format of each set); then only the options are completed
+        match s.provenance.last_mut() {
+            Some(last) if last.file == prov.file && last.sha256 == prov.sha256 => {
+                last.options = prov.options.clone();
+                if last.format.is_empty() {
+                    last.format = prov.format.clone();
+                }
+            }
+            _ => s.provenance.push(prov.clone()),
+        }
         for w in &s.warnings {
             if !warnings.contains(w) {
                 warnings.push(w.clone());
