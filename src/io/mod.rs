@@ -193,7 +193,13 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
                 )),
             },
             // a damaged bundle: let the bundle reader say where it breaks
-            Err(_) if t[..t.len().min(4096)].contains(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
+            Err(_)
+                if t.as_bytes()[..t.len().min(4096)]
+                    .windows(bundle::BUNDLE_FORMAT.len())
+                    .any(|w| w == bundle::BUNDLE_FORMAT.as_bytes()) =>
+            {
+                Ok(Format::Bundle)
+            }
             Err(e) => fail(format!(
                 "this looks like JSON but does not parse ({e}); {ACCEPTED}"
             )),
