@@ -78,6 +78,10 @@ pub fn decode_text(bytes: &[u8]) -> String {
     let b = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
     match std::str::from_utf8(b) {
         Ok(s) => s.to_string(),
+        // UTF-8 cut inside its last character (a truncated file): keep the whole ones
+        Err(e) if e.error_len().is_none() => {
+            String::from_utf8_lossy(&b[..e.valid_up_to()]).into_owned()
+        }
         Err(_) => b.iter().map(|&c| c as char).collect(),
     }
 }
@@ -1475,6 +1479,15 @@ mod tests {
         assert_eq!(fmt_f64(-0.0), "-0");
         assert_eq!(fmt_f64(1e20), "1e20");
         assert!(fmt_f64(-0.0).parse::<f64>().unwrap().is_sign_negative());
+    }
+
+    #[test]
+    fn latin1_and_cut_utf8() {
+        // 0xB5 is µ in ISO 8859-1
+        assert_eq!(decode_text(b"\xb5m/s"), "µm/s");
+        assert_eq!(decode_text("µm".as_bytes()), "µm");
+        assert_eq!(decode_text(&"aµ".as_bytes()[..2]), "a");
+        assert_eq!(decode_text(b"\xEF\xBB\xBFfreq"), "freq");
     }
 
     #[test]
