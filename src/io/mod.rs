@@ -8,6 +8,7 @@
 pub mod bundle;
 pub mod csv;
 pub mod merge;
+pub mod nodes;
 pub mod uff58;
 
 use crate::error::{Error, Result};
