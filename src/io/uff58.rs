@@ -47,6 +47,18 @@
 //! three to a 78-column line: bit-exact, readable by blank-separated readers
 //! (and by mortise), but not by readers that insist on the 20-column fields.
 
+//!
+//! ## What mortise writes
+//! One dataset per present entry: function type 4 for FRFs; 12 for peak or
+//! RMS spectra, 2 for autopower, 9 for PSD; 6 for coherence after its FRF.
+//! Double precision, SI units labels (records 9 and 10), specific data types
+//! 8/11/12 (motion), 9 (force response) / 13 (excitation force), 15
+//! (pressure), 18 (frequency). ID line 1 holds the set name, ID line 2 the
+//! FRF kind or `signal=<kind>` (so our own spectra read back as peak or RMS
+//! without the usual warning), ID lines 3-5 the provenance chain
+//! ([`provenance_lines`]). The record-6 entity names hold the DOF component
+//! when it fits 10 columns; [`read_with`] with no component given restores it.
+
 use crate::error::{Error, Result};
 use crate::frf::{Direction, Dof, FrfSet, Provenance, SignalKind};
 use crate::units::{self, Dim, Quantity};
