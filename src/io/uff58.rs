@@ -1863,19 +1863,29 @@ fn fit(v: f64, width: usize) -> String {
             }
         }
     };
-    if let Some(t) = (0..=16)
-        .rev()
-        .map(|p| format!("{v:.p$e}"))
-        .find(|t| t.len() <= room)
-    {
-        consider(t);
-    }
-    if let Some(t) = (0..=16)
-        .rev()
-        .map(|p| format!("{v:.p$}"))
-        .find(|t| t.len() <= room)
-    {
-        consider(t);
+    // with p digits after the point the text is len(p = 0) + 1 + p long,
+    // give or take one when rounding carries into the exponent
+    for plain in [false, true] {
+        let f = |p: usize| {
+            if plain {
+                format!("{v:.p$}")
+            } else {
+                format!("{v:.p$e}")
+            }
+        };
+        let l0 = f(0).len();
+        let mut p = room.saturating_sub(l0 + 1).min(16);
+        loop {
+            let t = f(p);
+            if t.len() <= room {
+                consider(t);
+                break;
+            }
+            if p == 0 {
+                break;
+            }
+            p -= 1;
+        }
     }
     let t = best.map(|b| b.1).unwrap_or_else(|| format!("{v:.0e}"));
     format!("{t:>width$}")
