@@ -603,8 +603,21 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
             };
             return Err(perr(file, l.no, "dataset start tag", msg));
         }
-        let start = l.no;
-        let Some(h) = c.next_line() else {
+        let mut start = l.no;
+        let mut next = c.next_line();
+        // a lone tag (an empty dataset, as pyuff 2.5.8 leaves when it writes
+        // 58b in 'overwrite' mode): the next '-1' starts the dataset
+        while let Some(h) = &next {
+            if h.trimmed() != "-1" {
+                break;
+            }
+            remarks.push(format!(
+                "{file}: line {start}: a lone tag '    -1' (an empty dataset) skipped"
+            ));
+            start = h.no;
+            next = c.next_line();
+        }
+        let Some(h) = next else {
             return Err(perr(
                 file,
                 start + 1,
@@ -1482,6 +1495,25 @@ fn signal_marker(ds: &Dataset58) -> Option<SignalKind> {
 /// function type, quantity pair and grid); returns the sets and warnings.
 /// DOFs get the component namespace `component`.
 pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_with(bytes, file, Some(component))
+}
+
+/// Like [`read`]; with `component` None each DOF takes its component from
+/// the entity name of record 6 (mortise writes the component there when it
+/// fits the 10 columns), else from the file stem.
+pub fn read_with(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    let stem = super::file_stem(file);
+    let comp_of = |entity: &str| -> String {
+        match component {
+            Some(c) => c.to_string(),
+            None if !entity.is_empty() => entity.to_string(),
+            None => stem.clone(),
+        }
+    };
     let (datasets, mut warnings) = parse_datasets(bytes, file)?;
     if datasets.is_empty() {
         return Err(Error::parse(
@@ -1516,11 +1548,11 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, V
         let mut rm = Remarks::default();
         let freqs = frequencies(file, ds, &mut rm)?;
         let (od, opos) = dir_of(ds.rsp_dir);
-        let mut out = Dof::new(component, &ds.rsp_node.to_string(), od);
+        let mut out = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), od);
         out.positive = opos;
         let orot = od.is_rotational();
         let (id_, ipos) = dir_of(ds.ref_dir);
-        let mut inp = Dof::new(component, &ds.ref_node.to_string(), id_);
+        let mut inp = Dof::new(&comp_of(&ds.ref_entity), &ds.ref_node.to_string(), id_);
         inp.positive = ipos;
         let irot = id_.is_rotational();
         let name = ds.id[0].trim().to_string();
@@ -1591,12 +1623,14 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, V
         file: super::base_name(file),
         sha256: super::sha256_hex(bytes),
         format: String::new(),
-        options: format!("component={component}"),
+        options: match component {
+            Some(c) => format!("component={c}"),
+            None => "component from entity names or file stem".to_string(),
+        },
     };
-    let default_name = if component.is_empty() {
-        super::file_stem(file)
-    } else {
-        component.to_string()
+    let default_name = match component {
+        Some(c) if !c.is_empty() => c.to_string(),
+        _ => stem.clone(),
     };
     let mut sets: Vec<FrfSet> = Vec::new();
     for g in groups.iter_mut() {
@@ -1854,6 +1888,21 @@ fn node_number(d: &Dof, set: &str) -> Result<i64> {
     }
 }
 
+/// The component as a record-6 entity name, when it fits (1-10 characters,
+/// no blanks, not "NONE"); else none.
+fn entity_of(d: &Dof) -> String {
+    let c = d.component.as_str();
+    if !c.is_empty()
+        && c.chars().count() <= 10
+        && !c.chars().any(char::is_whitespace)
+        && !c.eq_ignore_ascii_case("none")
+    {
+        c.to_string()
+    } else {
+        String::new()
+    }
+}
+
 fn out_code(q: Quantity) -> i32 {
     match q {
         Quantity::Displacement => 8,
@@ -2108,10 +2157,14 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 func_id: 0,
                 version: 0,
                 load_case: 0,
-                rsp_entity: String::new(),
+                rsp_entity: entity_of(o),
                 rsp_node,
                 rsp_dir: dir_code(o),
-                ref_entity: String::new(),
+                ref_entity: if spectrum {
+                    String::new()
+                } else {
+                    entity_of(inp)
+                },
                 ref_node,
                 ref_dir,
                 ord_type: if real { 4 } else { 6 },
