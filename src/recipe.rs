@@ -585,15 +585,30 @@ fn spectrum_report(y: &FrfSet) -> Value {
         let a = levels::spectrum_levels(y, i, 3, Weighting::A);
         let z = levels::spectrum_levels(y, i, 3, Weighting::Z);
         match (a, z) {
-            (Ok(a), Ok(z)) => rows.push(json!({
-                "dof": a.dof,
-                "unit": a.unit,
-                "overall_dba": a.overall_db,
-                "overall_db": z.overall_db,
-                "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
-                "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
-            })),
-            (Err(e), _) | (_, Err(e)) => rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() })),
+            (Ok(a), Ok(z)) => {
+                // the three strongest lines, A-weighted (IEC 61672-1)
+                let mut lines: Vec<(f64, f64)> = z
+                    .freqs
+                    .iter()
+                    .zip(&z.line_db)
+                    .filter(|(_, l)| l.is_finite())
+                    .map(|(&f, &l)| (f, l + levels::weighting_db(Weighting::A, f)))
+                    .collect();
+                lines.sort_by(|x, y| y.1.total_cmp(&x.1));
+                lines.truncate(3);
+                rows.push(json!({
+                    "dof": a.dof,
+                    "unit": a.unit,
+                    "overall_dba": a.overall_db,
+                    "overall_db": z.overall_db,
+                    "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
+                    "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
+                    "top_lines_dba": lines.iter().map(|(f, l)| json!({"hz": f, "dba": l})).collect::<Vec<_>>(),
+                }))
+            }
+            (Err(e), _) | (_, Err(e)) => {
+                rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() }))
+            }
         }
     }
     Value::Array(rows)
@@ -604,7 +619,7 @@ fn spectrum_report(y: &FrfSet) -> Value {
 fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
     let mut out = Vec::new();
     for st in steps {
-        if st["op"] != "paths" && st["op"] != "respond" {
+        if st["op"] != "paths" {
             continue;
         }
         let Some(rows) = st["levels"].as_array() else {
@@ -628,15 +643,28 @@ fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
                 .take(3)
                 .map(|(b, v)| format!("{b} Hz {v:.1} dB(A)"))
                 .collect();
+            let lines: Vec<String> = row["top_lines_dba"]
+                .as_array()
+                .into_iter()
+                .flatten()
+                .filter_map(|l| {
+                    Some(format!(
+                        "{} Hz {:.1} dB(A)",
+                        l["hz"].as_f64()?,
+                        l["dba"].as_f64()?
+                    ))
+                })
+                .collect();
             out.push(format!(
-                "{} at {}: {:.1} dB(A), {:.1} dB unweighted ({}); loudest 1/3-octave bands: {}",
+                "{} at {}: {:.1} dB(A), {:.1} dB unweighted ({})",
                 st["id"].as_str().unwrap_or("?"),
                 row["dof"].as_str().unwrap_or("?"),
                 dba,
                 row["overall_db"].as_f64().unwrap_or(f64::NAN),
                 unit,
-                top.join(", ")
             ));
+            out.push(format!("  strongest lines: {}", lines.join(", ")));
+            out.push(format!("  loudest 1/3-octave bands: {}", top.join(", ")));
         }
         if let Some(targets) = st["ranking"]["targets"].as_array() {
             for t in targets {
@@ -663,10 +691,7 @@ fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
     }
     for v in variants {
         let name = v["name"].as_str().unwrap_or("?");
-        let base: Vec<&Value> = steps
-            .iter()
-            .filter(|s| s["op"] == "paths" || s["op"] == "respond")
-            .collect();
+        let base: Vec<&Value> = steps.iter().filter(|s| s["op"] == "paths").collect();
         let Some(vsteps) = v["steps"].as_array() else {
             continue;
         };
