@@ -45,6 +45,7 @@ use crate::frf::{Dof, FrfSet};
 use crate::io::{self, ImportOptions};
 use crate::levels::{self, Weighting};
 use crate::predict::{self, paths::PathGroup, paths::RankOptions};
+use crate::synth::Synth;
 use serde::{Deserialize, Serialize};
 use serde_json::{json, Value};
 use std::collections::BTreeMap;
@@ -97,7 +98,7 @@ impl FileSource for DirSource {
 }
 
 /// A component: a file (and a selection of its FRFs), or a set given inline.
-#[derive(Debug, Clone, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct ComponentSpec {
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -119,9 +120,54 @@ pub struct ComponentSpec {
     /// An FRF set given inline (as the bundle stores it).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub inline: Option<Box<FrfSet>>,
+    /// A synthesized part (lumped network, modal model, beam, frame, isolator),
+    /// computed on `grid` (or the recipe's grid).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub synth: Option<Box<Synth>>,
+    /// The grid of a synthesized part.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
     /// Free text shown beside the component.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub note: Option<String>,
+}
+
+/// A frequency grid: `{"from": 10, "to": 1000, "step": 1}` or `{"lines": [...]}` (Hz).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged, deny_unknown_fields)]
+pub enum GridSpec {
+    Range { from: f64, to: f64, step: f64 },
+    Lines { lines: Vec<f64> },
+}
+
+impl GridSpec {
+    /// The lines in Hz (checked: finite, strictly increasing, at most 1,000,000).
+    pub fn lines(&self) -> Result<Vec<f64>> {
+        let v = match self {
+            GridSpec::Lines { lines } => lines.clone(),
+            GridSpec::Range { from, to, step } => {
+                if !(step.is_finite()
+                    && *step > 0.0
+                    && from.is_finite()
+                    && to.is_finite()
+                    && to >= from)
+                {
+                    return Err(Error::grid(format!(
+                        "grid from {from} to {to} step {step}: expected finite from ≤ to and step > 0"
+                    )));
+                }
+                let n = ((to - from) / step + 1e-9).floor() as usize + 1;
+                if n > 1_000_000 {
+                    return Err(Error::grid(format!(
+                        "grid of {n} lines; at most 1,000,000 are allowed"
+                    )));
+                }
+                (0..n).map(|i| from + i as f64 * step).collect()
+            }
+        };
+        crate::grid::check_grid(&v)?;
+        Ok(v)
+    }
 }
 
 /// A choice of outputs and inputs by DOF label (omitted = all).
@@ -158,7 +204,7 @@ fn rigid() -> String {
 }
 
 /// One step. Operands depend on `op` (see the module docs).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Step {
     pub id: String,
@@ -218,6 +264,9 @@ pub struct Recipe {
     pub version: u32,
     #[serde(default)]
     pub title: String,
+    /// Default grid for synthesized components.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
     #[serde(default)]
     pub components: BTreeMap<String, ComponentSpec>,
     #[serde(default)]
@@ -354,14 +403,47 @@ pub fn load_components(
     let mut out = BTreeMap::new();
     for (name, spec) in &recipe.components {
         let at = format!("components.{name}");
-        let set = load_component(name, spec, files).map_err(|e| e.field(at.clone()))?;
+        let set = load_component(name, spec, recipe.grid.as_ref(), files)
+            .map_err(|e| e.field(at.clone()))?;
         out.insert(name.clone(), set);
     }
     Ok(out)
 }
 
-fn load_component(name: &str, spec: &ComponentSpec, files: &dyn FileSource) -> Result<FrfSet> {
+fn load_component(
+    name: &str,
+    spec: &ComponentSpec,
+    grid: Option<&GridSpec>,
+    files: &dyn FileSource,
+) -> Result<FrfSet> {
+    let sources = [
+        spec.file.is_some(),
+        spec.inline.is_some(),
+        spec.synth.is_some(),
+    ];
+    if sources.iter().filter(|&&b| b).count() > 1 {
+        return Err(Error::recipe(
+            "give one of 'file', 'inline' or 'synth', not several",
+        ));
+    }
     let mut set = match (&spec.file, &spec.inline) {
+        (None, None) if spec.synth.is_some() => {
+            let g = spec.grid.as_ref().or(grid).ok_or_else(|| {
+                Error::recipe(
+                    "a synthesized component needs a 'grid' (here or at the top of the recipe)",
+                )
+            })?;
+            let freqs = g.lines().map_err(|e| e.field("grid"))?;
+            let synth = spec
+                .synth
+                .as_ref()
+                .ok_or_else(|| Error::recipe("missing 'synth'"))?;
+            let mut s = synth.synthesize(&freqs).map_err(|e| e.field("synth"))?;
+            if let Some(c) = &spec.component {
+                s.set_component(c);
+            }
+            s
+        }
         (Some(file), None) => {
             let bytes = files.read(file)?;
             let mut opts = spec.import.clone().unwrap_or_default();
@@ -396,9 +478,15 @@ fn load_component(name: &str, spec: &ComponentSpec, files: &dyn FileSource) -> R
         }
         (None, Some(inline)) => (**inline).clone(),
         (Some(_), Some(_)) => {
-            return Err(Error::recipe("give either 'file' or 'inline', not both"))
+            return Err(Error::recipe(
+                "give one of 'file', 'inline' or 'synth', not several",
+            ))
         }
-        (None, None) => return Err(Error::recipe("a component needs 'file' or 'inline'")),
+        (None, None) => {
+            return Err(Error::recipe(
+                "a component needs 'file', 'inline' or 'synth'",
+            ))
+        }
     };
     if let Some(sel) = &spec.select {
         set = select(&set, sel.outputs.as_deref(), sel.inputs.as_deref())?;
