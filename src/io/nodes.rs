@@ -22,7 +22,6 @@ pub struct NodeNumber {
 /// Copies of `sets` whose nodes are all integers, and the renumbering used
 /// (empty when every node was already a number).
 pub fn numbered(sets: &[FrfSet]) -> (Vec<FrfSet>, Vec<NodeNumber>) {
-    let is_num = |n: &str| n.trim().parse::<u64>().is_ok();
     let mut max = 0u64;
     for s in sets {
         for d in s.outputs.iter().chain(&s.inputs) {
