@@ -17,6 +17,7 @@ use crate::units::Quantity;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::borrow::Cow;
+use std::mem::MaybeUninit;
 
 /// Threads used by [`couple`] and [`decouple`]: the available parallelism in
 /// native builds, 1 in wasm32.
@@ -310,8 +311,17 @@ fn solve(
             }
         }
     }
-    let mut data = vec![Complex64::new(0.0, 0.0); nl * n_rows * n_cols];
-    let (condition, truncated) = run_lines(&prep, &mut data, threads.max(1))?;
+    let total = nl * n_rows * n_cols;
+    let mut data = large_buffer(total);
+    let (condition, truncated) = run_lines(
+        &prep,
+        &mut data.spare_capacity_mut()[..total],
+        threads.max(1),
+    )?;
+    // SAFETY: run_lines returned Ok, so every line's `one_line` returned Ok,
+    // and it does so only after writing all n_rows × n_cols values of its line
+    // (it counts the rows written); the lines tile the first `total` values.
+    unsafe { data.set_len(total) };
     let nan = Complex64::new(f64::NAN, f64::NAN);
     if present.iter().any(|p| !p) {
         for line in data.chunks_mut(n_rows * n_cols) {
@@ -374,6 +384,32 @@ fn solve(
         truncated,
         warnings,
     })
+}
+
+/// An empty buffer with room for `n` values, written later by the worker
+/// threads (so the pages are first touched in parallel). On Linux the kernel
+/// is first asked to back it with huge pages (results of large couplings run
+/// to gigabytes, and 4 KiB page faults then cost as much as the arithmetic).
+fn large_buffer(n: usize) -> Vec<Complex64> {
+    let mut v: Vec<Complex64> = Vec::with_capacity(n);
+    #[cfg(target_os = "linux")]
+    {
+        const HUGE: usize = 2 << 20;
+        let bytes = n * std::mem::size_of::<Complex64>();
+        if bytes >= 4 * HUGE {
+            let start = v.as_mut_ptr() as usize;
+            let first = start.div_ceil(HUGE) * HUGE;
+            let end = (start + bytes) / HUGE * HUGE;
+            if end > first {
+                // SAFETY: [first, end) lies inside the allocation just made and
+                // not yet touched; MADV_HUGEPAGE only changes how it is backed.
+                unsafe {
+                    libc::madvise(first as *mut libc::c_void, end - first, libc::MADV_HUGEPAGE);
+                }
+            }
+        }
+    }
+    v
 }
 
 fn lines_text(lines: &[usize], freqs: &[f64]) -> String {
@@ -549,33 +585,48 @@ fn check_needed_entries(p: &Prepared, what: &str) -> Result<()> {
     Ok(())
 }
 
-/// Per-thread scratch space.
+/// Per-thread scratch space (allocated once per thread, not per line).
 struct Work {
-    by: DMatrix<Complex64>,
-    p: Vec<Complex64>,
+    path: kernel::Path,
+    /// padded column count of the result
+    cp: usize,
+    /// B_u Y, real and imaginary parts, m × cp
+    byr: Vec<f64>,
+    byi: Vec<f64>,
+    /// X = (B_u Y B_fᵀ + Γ)⁻¹ B_u Y, m × cp
     xr: Vec<f64>,
     xi: Vec<f64>,
-    tr: Vec<f64>,
-    ti: Vec<f64>,
+    /// Y B_fᵀ, n_rows × m
+    p: Vec<Complex64>,
+    /// the inverse (or pseudo-inverse) of the interface matrix, m × m row-major
+    zinv: Vec<Complex64>,
+    buf: Vec<f64>,
 }
 
 impl Work {
     fn new(p: &Prepared) -> Work {
         let m = p.ends.len();
+        let cp = kernel::padded(p.n_cols);
         Work {
-            by: DMatrix::zeros(m, p.n_cols),
-            p: vec![Complex64::new(0.0, 0.0); p.n_rows * m],
-            xr: vec![0.0; m * p.n_cols],
-            xi: vec![0.0; m * p.n_cols],
-            tr: vec![0.0; p.n_cols],
-            ti: vec![0.0; p.n_cols],
+            path: kernel::path(),
+            cp,
+            byr: vec![0.0; m * cp],
+            byi: vec![0.0; m * cp],
+            xr: vec![0.0; m * cp],
+            xi: vec![0.0; m * cp],
+            p: vec![
+                Complex64::new(0.0, 0.0);
+                p.n_rows.div_ceil(kernel::ROW_PAD) * kernel::ROW_PAD * m
+            ],
+            zinv: vec![Complex64::new(0.0, 0.0); m.div_ceil(kernel::ROW_PAD) * kernel::ROW_PAD * m],
+            buf: vec![0.0; 8 * cp],
         }
     }
 }
 
 type LineResults = (Vec<f64>, Vec<usize>);
 
-fn run_chunk(p: &Prepared, k0: usize, out: &mut [Complex64]) -> Result<LineResults> {
+fn run_chunk(p: &Prepared, k0: usize, out: &mut [MaybeUninit<Complex64>]) -> Result<LineResults> {
     let size = p.n_rows * p.n_cols;
     let n = out.len().checked_div(size).unwrap_or(0);
     let mut w = Work::new(p);
@@ -590,7 +641,11 @@ fn run_chunk(p: &Prepared, k0: usize, out: &mut [Complex64]) -> Result<LineResul
 }
 
 #[cfg(not(target_arch = "wasm32"))]
-fn run_lines(p: &Prepared, data: &mut [Complex64], threads: usize) -> Result<LineResults> {
+fn run_lines(
+    p: &Prepared,
+    data: &mut [MaybeUninit<Complex64>],
+    threads: usize,
+) -> Result<LineResults> {
     let nl = p.sets[0].n_lines();
     let size = p.n_rows * p.n_cols;
     if threads <= 1 || nl < 2 || size == 0 {
@@ -622,17 +677,27 @@ fn run_lines(p: &Prepared, data: &mut [Complex64], threads: usize) -> Result<Lin
 }
 
 #[cfg(target_arch = "wasm32")]
-fn run_lines(p: &Prepared, data: &mut [Complex64], _threads: usize) -> Result<LineResults> {
+fn run_lines(
+    p: &Prepared,
+    data: &mut [MaybeUninit<Complex64>],
+    _threads: usize,
+) -> Result<LineResults> {
     run_chunk(p, 0, data)
 }
 
 /// One frequency line: fills `dst` (n_rows × n_cols) and returns the
 /// condition number and the number of dropped singular values.
-fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Result<(f64, usize)> {
+fn one_line(
+    p: &Prepared,
+    k: usize,
+    w: &mut Work,
+    dst: &mut [MaybeUninit<Complex64>],
+) -> Result<(f64, usize)> {
     let m = p.ends.len();
     let nc = p.n_cols;
-    let lines: Vec<&[Complex64]> = p.sets.iter().map(|s| s.line(k)).collect();
-    let y = |q: usize, i: usize, j: usize| lines[q][i * p.sets[q].n_in() + j] * p.psign[q];
+    let cp = w.cp;
+    let line = |q: usize| p.sets[q].line(k);
+    let y = |q: usize, i: usize, j: usize| line(q)[i * p.sets[q].n_in() + j] * p.psign[q];
 
     // Interface matrix Z = B_u Y B_fᵀ + Γ.
     let mut z = DMatrix::<Complex64>::zeros(m, m);
@@ -657,35 +722,45 @@ fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Resu
         )));
     }
 
-    // B_u Y restricted to the result columns.
-    w.by.fill(Complex64::new(0.0, 0.0));
+    // B_u Y restricted to the result columns (signed row selections).
+    w.byr.fill(0.0);
+    w.byi.fill(0.0);
     for (r, er) in p.ends.iter().enumerate() {
         for e in er {
             if !p.res.contains(&e.part) {
                 continue;
             }
             let s = &p.sets[e.part];
-            let off = p.col_off[e.part];
-            let row = &lines[e.part][e.o * s.n_in()..(e.o + 1) * s.n_in()];
+            let off = r * cp + p.col_off[e.part];
+            let row = &line(e.part)[e.o * s.n_in()..(e.o + 1) * s.n_in()];
             let f = e.su * p.psign[e.part];
             for (j, v) in row.iter().enumerate() {
-                w.by[(r, off + j)] += v * f;
+                w.byr[off + j] += v.re * f;
+                w.byi[off + j] += v.im * f;
             }
         }
     }
-    // Y B_fᵀ restricted to the result rows (row-major n_rows × m).
+    // Y B_fᵀ restricted to the result rows (signed column selections),
+    // row by row so each row of Y is read once.
     w.p.fill(Complex64::new(0.0, 0.0));
-    for (s, es) in p.ends.iter().enumerate() {
-        for g in es {
-            if !p.res.contains(&g.part) {
-                continue;
-            }
-            let set = &p.sets[g.part];
-            let ni = set.n_in();
-            let off = p.row_off[g.part];
-            let f = g.sf * p.psign[g.part];
-            for i in 0..set.n_out() {
-                w.p[(off + i) * m + s] += lines[g.part][i * ni + g.i] * f;
+    for &q in &p.res {
+        let set = &p.sets[q];
+        let ni = set.n_in();
+        let off = p.row_off[q];
+        let l = line(q);
+        let cols: Vec<(usize, usize, f64)> = p
+            .ends
+            .iter()
+            .enumerate()
+            .flat_map(|(s, es)| es.iter().map(move |g| (s, g)))
+            .filter(|(_, g)| g.part == q)
+            .map(|(s, g)| (s, g.i, g.sf * p.psign[q]))
+            .collect();
+        for i in 0..set.n_out() {
+            let src = &l[i * ni..(i + 1) * ni];
+            let dst = &mut w.p[(off + i) * m..(off + i + 1) * m];
+            for &(s, j, f) in &cols {
+                dst[s] += src[j] * f;
             }
         }
     }
@@ -700,8 +775,9 @@ fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Resu
     };
 
     let mut dropped = 0;
-    match p.tsvd {
+    let inv = match p.tsvd {
         Some(t) => {
+            // pseudo-inverse V Σ⁺ Uᴴ without the singular values below t·σ_max
             let thr = t * smax;
             let svd = nalgebra::SVD::new(z, true, true);
             let (Some(u), Some(vt)) = (&svd.u, &svd.v_t) else {
@@ -709,7 +785,7 @@ fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Resu
                     "the SVD of the interface matrix at {freq} Hz did not converge"
                 )));
             };
-            let mut tmp = u.adjoint() * &w.by;
+            let mut uh = u.adjoint();
             for (r, s) in svd.singular_values.iter().enumerate() {
                 let f = if *s >= thr && *s > 0.0 {
                     1.0 / s
@@ -717,50 +793,92 @@ fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Resu
                     dropped += 1;
                     0.0
                 };
-                for j in 0..nc {
-                    tmp[(r, j)] *= f;
+                for j in 0..m {
+                    uh[(r, j)] *= f;
                 }
             }
-            w.by = vt.adjoint() * tmp;
+            vt.adjoint() * uh
         }
         None => {
-            let lu = z.lu();
-            if !lu.solve_mut(&mut w.by) || cond.is_nan() || cond >= 1e16 {
-                return Err(Error::numeric(format!(
+            let singular = || {
+                Error::numeric(format!(
                     "the interface matrix B Y Bᵀ + Γ is singular at {freq} Hz (condition number {cond:.3e}); check the joints (a DOF joined twice, a rigid joint at a point that cannot move) or use the truncated-SVD option"
-                )));
+                ))
+            };
+            if cond.is_nan() || cond >= 1e16 {
+                return Err(singular());
             }
+            z.lu().try_inverse().ok_or_else(singular)?
         }
-    }
-    for s in 0..m {
-        for j in 0..nc {
-            let v = w.by[(s, j)];
-            w.xr[s * nc + j] = v.re;
-            w.xi[s * nc + j] = v.im;
+    };
+    for r in 0..m {
+        for s in 0..m {
+            w.zinv[r * m + s] = inv[(r, s)];
         }
     }
 
-    // Block-diagonal Y, then subtract (Y B_fᵀ) X.
-    dst.fill(Complex64::new(0.0, 0.0));
-    for &q in &p.res {
-        let s = &p.sets[q];
-        let ni = s.n_in();
-        let (ro, co) = (p.row_off[q], p.col_off[q]);
-        let sg = p.psign[q];
-        for i in 0..s.n_out() {
-            let src = &lines[q][i * ni..(i + 1) * ni];
-            let d = &mut dst[(ro + i) * nc + co..(ro + i) * nc + co + ni];
-            if sg == 1.0 {
-                d.copy_from_slice(src);
-            } else {
-                for (a, b) in d.iter_mut().zip(src) {
-                    *a = b * sg;
-                }
-            }
-        }
-    }
-    kernel::sub_product(
-        dst, p.n_rows, nc, &w.p, m, &w.xr, &w.xi, &mut w.tr, &mut w.ti,
+    // X = Z⁻¹ (B_u Y)
+    let (xr, xi) = (&mut w.xr, &mut w.xi);
+    kernel::product(
+        w.path,
+        m,
+        m,
+        &w.zinv,
+        &w.byr,
+        &w.byi,
+        cp,
+        &mut w.buf,
+        |i, re, im| {
+            xr[i * cp..(i + 1) * cp].copy_from_slice(re);
+            xi[i * cp..(i + 1) * cp].copy_from_slice(im);
+        },
     );
+
+    // Y_c = Y − (Y B_fᵀ) X, row by row; Y is block diagonal.
+    let mut written = 0usize;
+    kernel::product(
+        w.path,
+        p.n_rows,
+        m,
+        &w.p,
+        &w.xr,
+        &w.xi,
+        cp,
+        &mut w.buf,
+        |i, re, im| {
+            let row = &mut dst[i * nc..(i + 1) * nc];
+            // the diagonal block of the part this row belongs to
+            let (co, src, sg): (usize, &[Complex64], f64) = match p
+                .res
+                .iter()
+                .find(|&&q| i >= p.row_off[q] && i < p.row_off[q] + p.sets[q].n_out())
+            {
+                Some(&q) => {
+                    let ni = p.sets[q].n_in();
+                    let li = i - p.row_off[q];
+                    (p.col_off[q], &line(q)[li * ni..(li + 1) * ni], p.psign[q])
+                }
+                None => (0, &[], 1.0),
+            };
+            let end = co + src.len();
+            for j in (0..co).chain(end..nc) {
+                row[j].write(Complex64::new(-re[j], -im[j]));
+            }
+            for ((d, y), (r, m)) in row[co..end]
+                .iter_mut()
+                .zip(src)
+                .zip(re[co..end].iter().zip(&im[co..end]))
+            {
+                d.write(Complex64::new(-r, -m) + y * sg);
+            }
+            written += 1;
+        },
+    );
+    if written != p.n_rows {
+        return Err(Error::numeric(format!(
+            "internal: {written} of {} result rows written at {freq} Hz",
+            p.n_rows
+        )));
+    }
     Ok((cond, dropped))
 }
