@@ -65,8 +65,9 @@ pub fn couple_with_threads(
     let name = format!("coupled({})", names.join(" + "));
     let signs = vec![1.0; components.len()];
     let result_parts: Vec<usize> = (0..components.len()).collect();
+    let refs: Vec<&FrfSet> = components.iter().collect();
     solve(
-        components,
+        &refs,
         &signs,
         joints,
         1.0,
@@ -107,9 +108,8 @@ pub fn decouple_with_threads(
     threads: usize,
 ) -> Result<Assembled> {
     let name = format!("{} without {}", assembly.name, removed.name);
-    let sets = [assembly.clone(), removed.clone()];
     let mut a = solve(
-        &sets,
+        &[assembly, removed],
         &[1.0, -1.0],
         joints,
         -1.0,
@@ -160,7 +160,7 @@ struct Prepared<'a> {
 
 #[allow(clippy::too_many_arguments)]
 fn solve(
-    components: &[FrfSet],
+    components: &[&FrfSet],
     signs: &[f64],
     joints: &[Joint],
     gamma_sign: f64,
@@ -170,8 +170,8 @@ fn solve(
     name: &str,
     what: &str,
 ) -> Result<Assembled> {
-    let first = &components[0];
-    for c in components {
+    let first = components[0];
+    for &c in components {
         require_motion_per_force(c, what)?;
         require_same_grid(first, c, what)?;
         let n = c.n_lines() * c.n_out() * c.n_in();
@@ -204,7 +204,7 @@ fn solve(
     let oq = first.out_qty;
     let sets: Vec<Cow<FrfSet>> = components
         .iter()
-        .map(|c| {
+        .map(|&c| {
             if c.out_qty == oq {
                 Ok(Cow::Borrowed(c))
             } else {
@@ -391,6 +391,7 @@ fn solve(
 /// is first asked to back it with huge pages (results of large couplings run
 /// to gigabytes, and 4 KiB page faults then cost as much as the arithmetic).
 fn large_buffer(n: usize) -> Vec<Complex64> {
+    #[cfg_attr(not(target_os = "linux"), allow(unused_mut))]
     let mut v: Vec<Complex64> = Vec::with_capacity(n);
     #[cfg(target_os = "linux")]
     {
@@ -424,7 +425,7 @@ fn lines_text(lines: &[usize], freqs: &[f64]) -> String {
     s.join(", ")
 }
 
-fn check_distinct_dofs(components: &[FrfSet]) -> Result<()> {
+fn check_distinct_dofs(components: &[&FrfSet]) -> Result<()> {
     for (a, ca) in components.iter().enumerate() {
         for cb in &components[a + 1..] {
             for d in ca.outputs.iter().chain(&ca.inputs) {
@@ -881,4 +882,107 @@ fn one_line(
         )));
     }
     Ok((cond, dropped))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::frf::Direction;
+
+    /// Grounded single-DOF oscillator k − ω²m (receptance), as component `c`.
+    fn sdof(c: &str, m: f64, k: f64, freqs: &[f64]) -> FrfSet {
+        let d = Dof::new(c, "1", Direction::Z);
+        let mut s = FrfSet::zeros(
+            c,
+            freqs.to_vec(),
+            vec![d.clone()],
+            vec![d],
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        for l in 0..freqs.len() {
+            let w = s.omega(l);
+            s.set(l, 0, 0, Complex64::new(1.0 / (k - w * w * m), 0.0));
+        }
+        s
+    }
+
+    #[test]
+    fn spring_joint_in_every_kind_matches_the_two_dof_closed_form() {
+        // textbook two-DOF system: masses m1, m2 grounded by k1, k2 and joined
+        // by kc; dynamic stiffness [[k1+kc−ω²m1, −kc], [−kc, k2+kc−ω²m2]] and
+        // its closed-form 2×2 inverse
+        let (m1, k1, m2, k2, kc) = (2.0, 4.0e5, 1.0, 1.5e5, 7.0e4);
+        let freqs = [3.0, 40.0, 75.0, 150.0];
+        let joint = Joint {
+            a: Dof::new("a", "1", Direction::Z),
+            b: Dof::new("b", "1", Direction::Z),
+            kind: JointKind::Spring { k: kc },
+        };
+        for kind in ["receptance", "mobility", "accelerance"] {
+            let a = sdof("a", m1, k1, &freqs).to_kind(kind).unwrap();
+            let b = sdof("b", m2, k2, &freqs).to_kind(kind).unwrap();
+            for threads in [1, 2] {
+                let r = couple_with_threads(
+                    &[a.clone(), b.clone()],
+                    std::slice::from_ref(&joint),
+                    &CouplingOptions::default(),
+                    threads,
+                )
+                .unwrap();
+                assert_eq!(r.set.kind().name(), kind);
+                let rec = r.set.to_kind("receptance").unwrap();
+                for l in 0..freqs.len() {
+                    let w2 = rec.omega(l).powi(2);
+                    let (d11, d22, d12) = (k1 + kc - w2 * m1, k2 + kc - w2 * m2, -kc);
+                    let det = d11 * d22 - d12 * d12;
+                    let want = [[d22 / det, -d12 / det], [-d12 / det, d11 / det]];
+                    for (i, row) in want.iter().enumerate() {
+                        for (j, &wv) in row.iter().enumerate() {
+                            let g = rec.get(l, i, j);
+                            assert!(
+                                (g - wv).norm() <= 1e-9 * wv.abs(),
+                                "{kind} line {l} ({i},{j}): {g} vs {wv}"
+                            );
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn spring_joint_decoupling_recovers_the_oscillator() {
+        // remove b and the spring from the two-DOF system above (closed form as
+        // the assembly): what stays is 1/(k1 − ω²m1), the textbook SDOF receptance
+        let (m1, k1, m2, k2, kc) = (2.0, 4.0e5, 1.0, 1.5e5, 7.0e4);
+        let freqs = [5.0, 60.0, 120.0];
+        let d = Dof::new("ab", "1", Direction::Z);
+        let mut asm = FrfSet::zeros(
+            "ab",
+            freqs.to_vec(),
+            vec![d.clone()],
+            vec![d.clone()],
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        for l in 0..freqs.len() {
+            let w2 = asm.omega(l).powi(2);
+            let (d11, d22) = (k1 + kc - w2 * m1, k2 + kc - w2 * m2);
+            asm.set(l, 0, 0, Complex64::new(d22 / (d11 * d22 - kc * kc), 0.0));
+        }
+        let b = sdof("b", m2, k2, &freqs);
+        let j = Joint {
+            a: d,
+            b: Dof::new("b", "1", Direction::Z),
+            kind: JointKind::Spring { k: kc },
+        };
+        let r = decouple(&asm, &b, &[j], &CouplingOptions::default()).unwrap();
+        assert_eq!(r.set.n_out(), 1);
+        for l in 0..freqs.len() {
+            let w2 = asm.omega(l).powi(2);
+            let want = 1.0 / (k1 - w2 * m1);
+            assert!((r.set.get(l, 0, 0) - want).norm() <= 1e-9 * want.abs());
+        }
+    }
 }
