@@ -351,8 +351,30 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
         variants
             .push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas }));
     }
+    // the fitness audit of every component, with default (common-practice) limits
+    let audits: BTreeMap<String, crate::audit::AuditReport> = comps
+        .iter()
+        .filter(|(_, s)| s.signal.is_none())
+        .map(|(k, s)| {
+            (
+                k.clone(),
+                crate::audit::audit(s, &crate::audit::AuditOptions::default()),
+            )
+        })
+        .collect();
+    let mut flagged = Vec::new();
+    for (name, a) in &audits {
+        for c in &a.checks {
+            if c.status == crate::audit::Status::Flag {
+                flagged.push(format!("audit of '{name}': {}: {}", c.check, c.summary));
+            }
+        }
+    }
+    report["audit"] = serde_json::to_value(&audits).unwrap_or(Value::Null);
     let steps = report["steps"].as_array().cloned().unwrap_or_default();
-    report["headline"] = json!(headline(&steps, &variants));
+    let mut head = headline(&steps, &variants);
+    head.extend(flagged);
+    report["headline"] = json!(head);
     report["variants"] = Value::Array(variants);
     report["caution"] = json!(predict::CAUTION);
     Ok(RunResult { outputs, report })
