@@ -703,15 +703,13 @@ fn run_lines(
     all.sort_by_key(|(b, _)| *b);
     let mut cond = Vec::with_capacity(nl);
     let mut trunc = Vec::with_capacity(nl);
-    let mut seen = 0;
-    for (b, r) in all {
+    for (seen, (b, r)) in all.into_iter().enumerate() {
         let (c, t) = r?;
         if b != seen {
             return Err(Error::numeric(format!(
                 "internal: block {seen} of the coupling was not computed"
             )));
         }
-        seen += 1;
         cond.extend(c);
         trunc.extend(t);
     }
