@@ -137,7 +137,7 @@ fn main() {
     }
     let r = result.expect("no run");
     if rust_only {
-        println!("mortise (Rust, {threads} threads, best of {REPS}): {best:.3} s");
+        println!("mortise (Rust, {threads} threads, best of {REPS}): {best:.3} s wall, {best_cpu:.3} s CPU");
         return;
     }
     let t1 = Instant::now();
