@@ -1,11 +1,56 @@
 //! The recipe: a versioned, declarative JSON description of an assembly
 //! (components, joints, operations, requested outputs) and its executor.
 //! The CLI (`mortise run`) and the page execute recipes with this code.
-//! (Being built; the signatures are the contract.)
+//!
+//! # Schema (version 1)
+//! ```json
+//! {
+//!   "format": "mortise-recipe",
+//!   "version": 1,
+//!   "title": "free text",
+//!   "components": {
+//!     "NAME": { "file": "relative/path.uff", "component": "ns", "import": { ...ImportOptions... },
+//!               "select": { "outputs": ["ns:1+Z"], "inputs": ["ns:1+Z"] }, "set": 0 },
+//!     ...
+//!   },
+//!   "steps": [
+//!     { "id": "ID", "op": "OP", ...operands... },
+//!     ...
+//!   ],
+//!   "variants": [ { "name": "softer isolators", "scale": { "NAME": 0.5 }, "drop_joints": ["STEP#index"] } ],
+//!   "outputs": ["ID", ...]
+//! }
+//! ```
+//! Components and step results share one namespace of names; a step may use
+//! any name defined before it. Operations (`op`):
+//! * `couple` — `parts: [names]`, `joints: [{a, b, type, ...}]`, optional `tsvd` (relative threshold).
+//!   Joint `type`: `rigid`, `spring` (k), `damper` (c), `hysteretic` (k, eta),
+//!   `spring-damper` (k, c, eta), `measured` (`stiffness`: a component name holding a 1×1 dynamic stiffness).
+//! * `decouple` — `assembly`, `remove`, `joints`, optional `tsvd`.
+//! * `cascade` — `first`, `second`: H = second · first.
+//! * `sum` — `parts`; `series` — `parts` (mobilities add); `parallel` — `parts` (impedances add).
+//! * `select` — `from`, `outputs`, `inputs` (DOF labels; omitted = all).
+//! * `convert` — `from`, `kind` (receptance, mobility, accelerance, dynamic-stiffness, impedance, apparent-mass).
+//! * `invert` — `from`: line-by-line matrix inverse (receptance ↔ dynamic stiffness).
+//! * `scale` — `from`, `factor`.
+//! * `respond` — `frf`, `excitation` (a spectrum set): y = H·f.
+//! * `paths` — `frf`, `excitation`, optional `groups: {name: [DOF labels]}`: contributions of each
+//!   input DOF (or group) to each output; their complex sum is the total.
+//!
+//! Every error names the recipe entry (`components.NAME`, `steps[3] (id 'x')`).
 
+use crate::assemble::{self, CouplingOptions, Joint, JointKind};
 use crate::error::{Error, Result};
-use crate::frf::FrfSet;
+use crate::frf::{Dof, FrfSet};
+use crate::io::{self, ImportOptions};
+use serde::{Deserialize, Serialize};
+use serde_json::{json, Value};
 use std::collections::BTreeMap;
+
+/// The `format` field of every recipe.
+pub const RECIPE_FORMAT: &str = "mortise-recipe";
+/// The schema version this build reads and writes.
+pub const RECIPE_VERSION: u32 = 1;
 
 /// Where a recipe's files come from: the disk for the CLI, memory for the page.
 pub trait FileSource {
@@ -19,39 +64,619 @@ pub struct MapSource(pub BTreeMap<String, Vec<u8>>);
 
 impl FileSource for MapSource {
     fn read(&self, name: &str) -> Result<Vec<u8>> {
-        self.0.get(name).cloned().ok_or_else(|| {
+        if let Some(b) = self.0.get(name) {
+            return Ok(b.clone());
+        }
+        // the page keys files by base name
+        let base = io::base_name(name);
+        self.0.get(&base).cloned().ok_or_else(|| {
             Error::recipe(format!(
                 "file '{name}' is not loaded; loaded: {}",
-                self.0.keys().cloned().collect::<Vec<_>>().join(", ")
+                if self.0.is_empty() {
+                    "none".to_string()
+                } else {
+                    self.0.keys().cloned().collect::<Vec<_>>().join(", ")
+                }
             ))
         })
     }
 }
 
+/// Files on disk relative to a directory (the recipe's own).
+#[derive(Debug, Clone)]
+pub struct DirSource(pub std::path::PathBuf);
+
+impl FileSource for DirSource {
+    fn read(&self, name: &str) -> Result<Vec<u8>> {
+        let p = self.0.join(name);
+        std::fs::read(&p)
+            .map_err(|e| Error::io(format!("cannot read '{}': {e}", p.display())).in_file(name))
+    }
+}
+
+/// A component: a file (and a selection of its FRFs), or a set given inline.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ComponentSpec {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// Component namespace for the DOFs (default: the component's name).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub component: Option<String>,
+    /// Import options (column map for supplier CSVs).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub import: Option<ImportOptions>,
+    /// Which set of the file (0-based) when it holds several.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub set: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub select: Option<Selection>,
+    /// Convert to this kind after loading.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub kind: Option<String>,
+    /// An FRF set given inline (as the bundle stores it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub inline: Option<Box<FrfSet>>,
+    /// Free text shown beside the component.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
+}
+
+/// A choice of outputs and inputs by DOF label (omitted = all).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Selection {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub outputs: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub inputs: Option<Vec<String>>,
+}
+
+/// A joint as written in a recipe.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct JointSpec {
+    pub a: String,
+    pub b: String,
+    #[serde(rename = "type", default = "rigid")]
+    pub kind: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub k: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub c: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub eta: Option<f64>,
+    /// For `measured`: the name of a component holding a 1×1 dynamic stiffness.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub stiffness: Option<String>,
+}
+
+fn rigid() -> String {
+    "rigid".into()
+}
+
+/// One step. Operands depend on `op` (see the module docs).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Step {
+    pub id: String,
+    pub op: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub parts: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub joints: Option<Vec<JointSpec>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tsvd: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub assembly: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub remove: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub first: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub second: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub from: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub outputs: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub inputs: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub kind: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub factor: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub frf: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub excitation: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub groups: Option<BTreeMap<String, Vec<String>>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
+}
+
+/// A what-if version of the recipe, computed beside the baseline.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Variant {
+    pub name: String,
+    /// Multiply a component's (or step result's) values by a factor.
+    #[serde(default)]
+    pub scale: BTreeMap<String, f64>,
+    /// Joints to leave out, as "STEP_ID#INDEX" (0-based index in that step's joints).
+    #[serde(default)]
+    pub drop_joints: Vec<String>,
+}
+
 /// A parsed recipe.
-#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Recipe {
     pub format: String,
     pub version: u32,
+    #[serde(default)]
+    pub title: String,
+    #[serde(default)]
+    pub components: BTreeMap<String, ComponentSpec>,
+    #[serde(default)]
+    pub steps: Vec<Step>,
+    #[serde(default)]
+    pub variants: Vec<Variant>,
+    #[serde(default)]
+    pub outputs: Vec<String>,
 }
 
 /// What a run produced.
 #[derive(Debug, Clone)]
 pub struct RunResult {
-    /// Requested outputs, each named.
+    /// Requested outputs, each named after its step (variants: "ID [variant]").
     pub outputs: Vec<FrfSet>,
     /// Conditioning, warnings, headline numbers, as JSON.
-    pub report: serde_json::Value,
+    pub report: Value,
 }
 
 /// Parse recipe text.
 pub fn parse(text: &str) -> Result<Recipe> {
-    let _ = text;
-    Err(Error::unsupported("recipes are not built yet"))
+    let r: Recipe = serde_json::from_str(text).map_err(|e| {
+        Error::recipe(format!("not a valid recipe: {e}"))
+            .at_line(e.line())
+            .field("recipe")
+    })?;
+    if r.format != RECIPE_FORMAT {
+        return Err(Error::recipe(format!(
+            "'format' is '{}'; expected '{RECIPE_FORMAT}'",
+            r.format
+        ))
+        .field("format"));
+    }
+    if r.version != RECIPE_VERSION {
+        return Err(Error::recipe(format!(
+            "recipe version {} is not supported; this mortise reads version {RECIPE_VERSION}",
+            r.version
+        ))
+        .field("version"));
+    }
+    Ok(r)
 }
 
-/// Execute a recipe.
+/// Serialise a recipe (pretty JSON).
+pub fn to_text(r: &Recipe) -> String {
+    serde_json::to_string_pretty(r).unwrap_or_default()
+}
+
+/// Execute a recipe: the baseline and then every variant.
 pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
-    let _ = (recipe, files);
-    Err(Error::unsupported("recipes are not built yet"))
+    let comps = load_components(recipe, files)?;
+    let base = execute(recipe, &comps, None)?;
+    let mut outputs = Vec::new();
+    let mut report = json!({
+        "title": recipe.title,
+        "mortise_version": crate::VERSION,
+        "steps": base.step_reports,
+        "components": comps.iter().map(|(k, v)| (k.clone(), component_summary(v))).collect::<BTreeMap<_, _>>(),
+    });
+    for name in &recipe.outputs {
+        let set = base.values.get(name).ok_or_else(|| {
+            Error::recipe(format!("output '{name}' is not a component or step id"))
+                .field(format!("outputs ('{name}')"))
+        })?;
+        let mut s = set.clone();
+        s.name = name.clone();
+        outputs.push(s);
+    }
+    let mut variants = Vec::new();
+    for v in &recipe.variants {
+        let res = execute(recipe, &comps, Some(v))
+            .map_err(|e| e.field(format!("variants ('{}')", v.name)))?;
+        let mut deltas = BTreeMap::new();
+        for name in &recipe.outputs {
+            if let (Some(a), Some(b)) = (base.values.get(name), res.values.get(name)) {
+                let mut s = b.clone();
+                s.name = format!("{name} [{}]", v.name);
+                deltas.insert(name.clone(), level_change_db(a, b));
+                outputs.push(s);
+            }
+        }
+        variants
+            .push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas }));
+    }
+    report["variants"] = Value::Array(variants);
+    Ok(RunResult { outputs, report })
+}
+
+fn component_summary(s: &FrfSet) -> Value {
+    json!({
+        "kind": s.kind().name(),
+        "outputs": s.outputs.len(),
+        "inputs": s.inputs.len(),
+        "lines": s.n_lines(),
+        "from_hz": s.freqs.first(),
+        "to_hz": s.freqs.last(),
+        "provenance": s.provenance,
+        "warnings": s.warnings,
+    })
+}
+
+/// Energetic level change in dB, b relative to a, over all present entries and lines.
+fn level_change_db(a: &FrfSet, b: &FrfSet) -> Option<f64> {
+    if a.data.len() != b.data.len() {
+        return None;
+    }
+    let ea: f64 = a
+        .data
+        .iter()
+        .filter(|v| v.re.is_finite())
+        .map(|v| v.norm_sqr())
+        .sum();
+    let eb: f64 = b
+        .data
+        .iter()
+        .filter(|v| v.re.is_finite())
+        .map(|v| v.norm_sqr())
+        .sum();
+    if ea > 0.0 && eb > 0.0 {
+        Some(10.0 * (eb / ea).log10())
+    } else {
+        None
+    }
+}
+
+/// Load every component of a recipe (once; variants reuse them).
+pub fn load_components(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+) -> Result<BTreeMap<String, FrfSet>> {
+    let mut out = BTreeMap::new();
+    for (name, spec) in &recipe.components {
+        let at = format!("components.{name}");
+        let set = load_component(name, spec, files).map_err(|e| e.field(at.clone()))?;
+        out.insert(name.clone(), set);
+    }
+    Ok(out)
+}
+
+fn load_component(name: &str, spec: &ComponentSpec, files: &dyn FileSource) -> Result<FrfSet> {
+    let mut set = match (&spec.file, &spec.inline) {
+        (Some(file), None) => {
+            let bytes = files.read(file)?;
+            let mut opts = spec.import.clone().unwrap_or_default();
+            if opts.component.is_none() {
+                opts.component = Some(spec.component.clone().unwrap_or_else(|| name.to_string()));
+            }
+            let loaded = io::load(&bytes, file, &opts)?;
+            let n = loaded.sets.len();
+            let idx = spec.set.unwrap_or(0);
+            if n == 0 {
+                return Err(Error::recipe(format!("file '{file}' holds no FRF set")));
+            }
+            if idx >= n {
+                return Err(Error::recipe(format!(
+                    "'set' is {idx} but file '{file}' holds {n} sets (0 to {})",
+                    n - 1
+                )));
+            }
+            if n > 1 && spec.set.is_none() {
+                return Err(Error::recipe(format!(
+                    "file '{file}' holds {n} sets; say which with \"set\": 0 to {}",
+                    n - 1
+                )));
+            }
+            let mut s = loaded
+                .sets
+                .into_iter()
+                .nth(idx)
+                .ok_or_else(|| Error::recipe("set index out of range"))?;
+            s.warnings.extend(loaded.warnings);
+            s
+        }
+        (None, Some(inline)) => (**inline).clone(),
+        (Some(_), Some(_)) => {
+            return Err(Error::recipe("give either 'file' or 'inline', not both"))
+        }
+        (None, None) => return Err(Error::recipe("a component needs 'file' or 'inline'")),
+    };
+    if let Some(sel) = &spec.select {
+        set = select(&set, sel.outputs.as_deref(), sel.inputs.as_deref())?;
+    }
+    if let Some(kind) = &spec.kind {
+        set = set.to_kind(kind)?;
+    }
+    set.name = name.to_string();
+    set.validate()?;
+    Ok(set)
+}
+
+fn parse_dofs(labels: &[String], what: &str) -> Result<Vec<Dof>> {
+    labels
+        .iter()
+        .map(|l| Dof::parse(l, "").map_err(|e| e.field(what.to_string())))
+        .collect()
+}
+
+fn select(set: &FrfSet, outputs: Option<&[String]>, inputs: Option<&[String]>) -> Result<FrfSet> {
+    let outs = match outputs {
+        Some(o) => parse_dofs(o, "outputs")?,
+        None => set.outputs.clone(),
+    };
+    let ins = match inputs {
+        Some(i) => parse_dofs(i, "inputs")?,
+        None => set.inputs.clone(),
+    };
+    set.select_dofs(&outs, &ins)
+}
+
+struct Executed {
+    values: BTreeMap<String, FrfSet>,
+    step_reports: Vec<Value>,
+}
+
+fn execute(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    variant: Option<&Variant>,
+) -> Result<Executed> {
+    let mut values: BTreeMap<String, FrfSet> = comps.clone();
+    if let Some(v) = variant {
+        for (name, f) in &v.scale {
+            if let Some(s) = values.get_mut(name) {
+                scale_in_place(s, *f);
+            } else if !recipe.steps.iter().any(|st| &st.id == name) {
+                return Err(Error::recipe(format!(
+                    "'scale' names '{name}', which is neither a component nor a step"
+                )));
+            }
+        }
+    }
+    let mut reports = Vec::new();
+    for (n, step) in recipe.steps.iter().enumerate() {
+        let at = format!("steps[{n}] (id '{}', op '{}')", step.id, step.op);
+        if values.contains_key(&step.id) {
+            return Err(Error::recipe(format!("id '{}' is already used", step.id)).field(at));
+        }
+        let (mut set, report) =
+            run_step(step, &values, variant).map_err(|e| e.field(at.clone()))?;
+        if let Some(v) = variant {
+            if let Some(f) = v.scale.get(&step.id) {
+                scale_in_place(&mut set, *f);
+            }
+        }
+        set.name = step.id.clone();
+        reports.push(report);
+        values.insert(step.id.clone(), set);
+    }
+    Ok(Executed {
+        values,
+        step_reports: reports,
+    })
+}
+
+fn scale_in_place(s: &mut FrfSet, f: f64) {
+    for v in &mut s.data {
+        *v *= f;
+    }
+}
+
+fn need<'a>(
+    values: &'a BTreeMap<String, FrfSet>,
+    name: &Option<String>,
+    operand: &str,
+) -> Result<&'a FrfSet> {
+    let n = name
+        .as_ref()
+        .ok_or_else(|| Error::recipe(format!("missing operand '{operand}'")))?;
+    values.get(n).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{operand}' names '{n}', which is not a component or an earlier step; known: {}",
+            values.keys().cloned().collect::<Vec<_>>().join(", ")
+        ))
+    })
+}
+
+fn need_parts(
+    values: &BTreeMap<String, FrfSet>,
+    parts: &Option<Vec<String>>,
+) -> Result<Vec<FrfSet>> {
+    let p = parts
+        .as_ref()
+        .ok_or_else(|| Error::recipe("missing operand 'parts'"))?;
+    if p.is_empty() {
+        return Err(Error::recipe("'parts' is empty"));
+    }
+    p.iter()
+        .map(|n| need(values, &Some(n.clone()), "parts").cloned())
+        .collect()
+}
+
+fn joints(
+    step: &Step,
+    values: &BTreeMap<String, FrfSet>,
+    variant: Option<&Variant>,
+) -> Result<Vec<Joint>> {
+    let specs = step
+        .joints
+        .as_ref()
+        .ok_or_else(|| Error::recipe("missing operand 'joints'"))?;
+    let mut out = Vec::new();
+    for (i, j) in specs.iter().enumerate() {
+        if let Some(v) = variant {
+            if v.drop_joints
+                .iter()
+                .any(|d| d == &format!("{}#{i}", step.id))
+            {
+                continue;
+            }
+        }
+        let at = format!("joints[{i}]");
+        let a = Dof::parse(&j.a, "").map_err(|e| e.field(format!("{at}.a")))?;
+        let b = Dof::parse(&j.b, "").map_err(|e| e.field(format!("{at}.b")))?;
+        let num = |v: Option<f64>, name: &str| -> Result<f64> {
+            let x = v.ok_or_else(|| {
+                Error::recipe(format!("joint type '{}' needs '{name}'", j.kind)).field(at.clone())
+            })?;
+            if !x.is_finite() || x < 0.0 {
+                return Err(Error::recipe(format!(
+                    "'{name}' is {x}; expected a finite, non-negative number"
+                ))
+                .field(at.clone()));
+            }
+            Ok(x)
+        };
+        let kind = match j.kind.as_str() {
+            "rigid" => JointKind::Rigid,
+            "spring" => JointKind::Spring { k: num(j.k, "k")? },
+            "damper" => JointKind::Damper { c: num(j.c, "c")? },
+            "hysteretic" => JointKind::Hysteretic {
+                k: num(j.k, "k")?,
+                eta: num(j.eta, "eta")?,
+            },
+            "spring-damper" => JointKind::SpringDamper {
+                k: num(j.k, "k")?,
+                c: j.c.unwrap_or(0.0),
+                eta: j.eta.unwrap_or(0.0),
+            },
+            "measured" => {
+                let s = need(values, &j.stiffness, "stiffness").map_err(|e| e.field(at.clone()))?;
+                JointKind::Measured {
+                    stiffness: Box::new(s.clone()),
+                }
+            }
+            other => {
+                return Err(Error::recipe(format!(
+                    "unknown joint type '{other}'; expected rigid, spring, damper, hysteretic, spring-damper or measured"
+                ))
+                .field(at))
+            }
+        };
+        out.push(Joint { a, b, kind });
+    }
+    Ok(out)
+}
+
+fn coupling_report(step: &Step, a: &assemble::Assembled) -> Value {
+    let worst = a.condition.iter().cloned().fold(f64::NAN, f64::max);
+    let worst_at = a
+        .condition
+        .iter()
+        .position(|&c| c == worst)
+        .and_then(|k| a.set.freqs.get(k).copied());
+    json!({
+        "id": step.id,
+        "op": step.op,
+        "condition": a.condition,
+        "worst_condition": worst,
+        "worst_condition_hz": worst_at,
+        "truncated": a.truncated,
+        "warnings": a.warnings,
+    })
+}
+
+fn run_step(
+    step: &Step,
+    values: &BTreeMap<String, FrfSet>,
+    variant: Option<&Variant>,
+) -> Result<(FrfSet, Value)> {
+    let plain = |s: FrfSet| {
+        let r = json!({ "id": step.id, "op": step.op, "warnings": s.warnings });
+        (s, r)
+    };
+    let opts = CouplingOptions {
+        tsvd_rel_threshold: step.tsvd,
+    };
+    match step.op.as_str() {
+        "couple" => {
+            let parts = need_parts(values, &step.parts)?;
+            let js = joints(step, values, variant)?;
+            let a = assemble::couple(&parts, &js, &opts)?;
+            let r = coupling_report(step, &a);
+            Ok((a.set, r))
+        }
+        "decouple" => {
+            let asm = need(values, &step.assembly, "assembly")?;
+            let rem = need(values, &step.remove, "remove")?;
+            let js = joints(step, values, variant)?;
+            let a = assemble::decouple(asm, rem, &js, &opts)?;
+            let r = coupling_report(step, &a);
+            Ok((a.set, r))
+        }
+        "cascade" => {
+            let a = need(values, &step.first, "first")?;
+            let b = need(values, &step.second, "second")?;
+            Ok(plain(assemble::cascade(a, b)?))
+        }
+        "sum" => Ok(plain(assemble::sum_paths(&need_parts(values, &step.parts)?)?)),
+        "series" => Ok(plain(assemble::series(&need_parts(values, &step.parts)?)?)),
+        "parallel" => Ok(plain(assemble::parallel(&need_parts(values, &step.parts)?)?)),
+        "select" => {
+            let s = need(values, &step.from, "from")?;
+            Ok(plain(select(s, step.outputs.as_deref(), step.inputs.as_deref())?))
+        }
+        "convert" => {
+            let s = need(values, &step.from, "from")?;
+            let k = step.kind.as_ref().ok_or_else(|| Error::recipe("missing operand 'kind'"))?;
+            Ok(plain(s.to_kind(k)?))
+        }
+        "invert" => {
+            let s = need(values, &step.from, "from")?;
+            Ok(plain(s.invert()?))
+        }
+        "scale" => {
+            let s = need(values, &step.from, "from")?;
+            let f = step.factor.ok_or_else(|| Error::recipe("missing operand 'factor'"))?;
+            if !f.is_finite() {
+                return Err(Error::recipe(format!("'factor' is {f}; expected a finite number")));
+            }
+            let mut s = s.clone();
+            scale_in_place(&mut s, f);
+            Ok(plain(s))
+        }
+        other => Err(Error::recipe(format!(
+            "unknown op '{other}'; expected couple, decouple, cascade, sum, series, parallel, select, convert, invert, scale, respond or paths"
+        ))),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_wrong_format_and_version() {
+        let e = parse(r#"{"format":"x","version":1}"#).unwrap_err();
+        assert!(e.to_string().contains("expected 'mortise-recipe'"), "{e}");
+        let e = parse(r#"{"format":"mortise-recipe","version":9}"#).unwrap_err();
+        assert!(e.to_string().contains("version 9"), "{e}");
+        let e = parse("{\n\"format\": \"mortise-recipe\",\n\"version\": 1,\n\"stepz\": []}")
+            .unwrap_err();
+        assert!(e.to_string().contains("line 4"), "{e}");
+        assert!(e.to_string().contains("stepz"), "{e}");
+    }
+
+    #[test]
+    fn missing_file_points_at_component() {
+        let r = parse(r#"{"format":"mortise-recipe","version":1,"components":{"casing":{"file":"nope.uff"}}}"#).unwrap();
+        let e = run(&r, &MapSource::default()).unwrap_err();
+        let t = e.to_string();
+        assert!(t.contains("components.casing"), "{t}");
+        assert!(t.contains("nope.uff"), "{t}");
+    }
 }

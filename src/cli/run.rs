@@ -1,9 +1,105 @@
-//! `mortise run` (being built).
+//! `mortise run RECIPE -o OUTDIR`: execute a recipe from files alone and write
+//! every requested output as UFF 58 and as our CSV, plus `report.json`.
 
 use super::Args;
 use crate::error::{Error, Result};
+use crate::io::{self, ExportFormat};
+use crate::recipe::{self, DirSource, RunResult};
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
 
 pub fn run(args: &Args) -> Result<String> {
-    let _ = args;
-    Err(Error::unsupported("'run' is not built yet"))
+    args.only(&["o", "quiet"])?;
+    let [path] = args.positional.as_slice() else {
+        return Err(Error::usage("usage: mortise run RECIPE -o OUTDIR"));
+    };
+    let out = PathBuf::from(
+        args.value("o")
+            .ok_or_else(|| Error::usage("mortise run needs -o OUTDIR"))?,
+    );
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
+    let r = recipe::parse(&text).map_err(|e| e.in_file(path.as_str()))?;
+    let dir = Path::new(path)
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_default();
+    let res = recipe::run(&r, &DirSource(dir)).map_err(|e| e.in_file(path.as_str()))?;
+    write_outputs(&res, &out)?;
+    Ok(summary(&r.title, &res, &out))
+}
+
+/// File-name-safe form of an output name.
+pub fn safe_name(name: &str) -> String {
+    name.chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '_' || c == '.' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect()
+}
+
+/// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
+pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
+    std::fs::create_dir_all(out)
+        .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
+    for s in &res.outputs {
+        let base = safe_name(&s.name);
+        for (fmt, ext) in [(ExportFormat::Uff, "uff"), (ExportFormat::Csv, "csv")] {
+            let bytes = io::save(std::slice::from_ref(s), fmt)?;
+            let p = out.join(format!("{base}.{ext}"));
+            std::fs::write(&p, bytes)
+                .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+        }
+    }
+    let p = out.join("report.json");
+    let text = serde_json::to_string_pretty(&res.report).map_err(|e| Error::io(e.to_string()))?;
+    std::fs::write(&p, text)
+        .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+    Ok(())
+}
+
+/// What `mortise run` prints.
+pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
+    let mut s = String::new();
+    if !title.is_empty() {
+        let _ = writeln!(s, "{title}");
+    }
+    if let Some(steps) = res.report["steps"].as_array() {
+        for st in steps {
+            if let Some(c) = st["worst_condition"].as_f64() {
+                let _ = writeln!(
+                    s,
+                    "  step '{}': interface condition number up to {:.3e} (at {} Hz)",
+                    st["id"].as_str().unwrap_or("?"),
+                    c,
+                    st["worst_condition_hz"]
+                        .as_f64()
+                        .map(|f| format!("{f}"))
+                        .unwrap_or_else(|| "?".into())
+                );
+            }
+            if let Some(ws) = st["warnings"].as_array() {
+                for w in ws {
+                    let _ = writeln!(s, "  warning: {}", w.as_str().unwrap_or(""));
+                }
+            }
+        }
+    }
+    if let Some(h) = res.report.get("headline").and_then(|h| h.as_array()) {
+        for line in h {
+            let _ = writeln!(s, "{}", line.as_str().unwrap_or(""));
+        }
+    }
+    let _ = writeln!(
+        s,
+        "wrote {} output(s) and report.json to {}",
+        res.outputs.len(),
+        out.display()
+    );
+    let _ = writeln!(s, "{}", super::CAUTION);
+    s
 }
