@@ -56,8 +56,13 @@ pub struct SeriesRef {
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct LineData {
     pub label: String,
+    #[serde(default)]
     pub x: Vec<f64>,
     pub y: Vec<f64>,
+    /// Take x from this set's frequencies instead (e.g. a per-line report
+    /// value such as the interface condition number).
+    #[serde(default)]
+    pub x_from: Option<String>,
 }
 
 /// One group of bars for [`PlotKind::Bars`], one value per category.
@@ -115,6 +120,11 @@ pub struct PlotSpec {
     pub x_label: String,
     #[serde(default)]
     pub y_label: String,
+    /// Bars from a set: one bar per input column of output `out`, each the
+    /// energetic sum of that entry's lines inside the x range (all lines when
+    /// no range is set), in dB. For a path-contribution set this ranks paths.
+    #[serde(default)]
+    pub ranking: Option<SeriesRef>,
 }
 
 impl PlotSpec {
@@ -808,8 +818,14 @@ pub fn draw<DB: DrawingBackend>(
     }
     let (left, right, bottom) = (84, w - 18, h - 52);
     let frames = match spec.kind {
-        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom))?,
-        PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom))?,
+        PlotKind::Lines => {
+            let spec = lines_with_x(spec, sets)?;
+            draw_lines(b, &spec, (left, top, right, bottom))?
+        }
+        PlotKind::Bars => {
+            let spec = bars_from_set(spec, sets)?;
+            draw_bars(b, &spec, (left, top, right, bottom))?
+        }
         kind => {
             let curves = resolve(spec, sets)?;
             if curves.is_empty() {
@@ -1013,6 +1029,91 @@ fn draw_frf<DB: DrawingBackend>(
         }
         PlotKind::Lines | PlotKind::Bars => Err(Error::usage("not an FRF plot")),
     }
+}
+
+fn lines_with_x(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<PlotSpec> {
+    let mut spec = spec.clone();
+    for l in &mut spec.lines {
+        if let Some(id) = &l.x_from {
+            let set = sets.get(id).ok_or_else(|| {
+                Error::missing(format!("no data set '{id}' is loaded")).field("lines x_from")
+            })?;
+            l.x = set.freqs.clone();
+        }
+    }
+    Ok(spec)
+}
+
+/// Band level of each input column of one output: 10·log10(Σ|v|²/ref²) over
+/// the lines inside the x range (energetic sum of lines, common practice).
+fn bars_from_set(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<PlotSpec> {
+    let Some(r) = &spec.ranking else {
+        return Ok(spec.clone());
+    };
+    let set = sets.get(&r.set).ok_or_else(|| {
+        Error::missing(format!("no data set '{}' is loaded", r.set)).field("ranking")
+    })?;
+    if r.out >= set.n_out() {
+        return Err(Error::usage(format!(
+            "output {} is outside set '{}' with {} outputs",
+            r.out,
+            r.set,
+            set.n_out()
+        ))
+        .field("ranking"));
+    }
+    let (lo, hi) = match spec.x_range {
+        Some([a, b]) => (a, b),
+        None => (f64::NEG_INFINITY, f64::INFINITY),
+    };
+    let ro = set.outputs[r.out].dir.is_rotational();
+    let (reference, ref_text) = match set.signal {
+        Some(_) => {
+            let (v, t) = db_reference(set.out_qty, ro);
+            (v, format!("dB re {t}"))
+        }
+        None => (1.0, format!("dB re 1 {}", ratio_unit(set, r.out, 0))),
+    };
+    // Peak amplitudes carry twice the mean square of RMS ones.
+    let ms = |v: Complex64| match set.signal {
+        Some(SignalKind::Peak) => v.norm_sqr() / 2.0,
+        Some(SignalKind::Autopower) | Some(SignalKind::Psd) => v.re.abs(),
+        _ => v.norm_sqr(),
+    };
+    let mut values = Vec::new();
+    for j in 0..set.n_in() {
+        let mut e = 0.0;
+        for k in 0..set.n_lines() {
+            let f = set.freqs[k];
+            if f >= lo && f <= hi {
+                let v = set.get(k, r.out, j);
+                if v.re.is_finite() && v.im.is_finite() {
+                    e += ms(v);
+                }
+            }
+        }
+        values.push(10.0 * (e / (reference * reference)).log10());
+    }
+    let mut out = spec.clone();
+    out.categories = set.inputs.iter().map(|d| d.to_string()).collect();
+    out.groups = vec![BarGroup {
+        label: format!("{} at {}", set.name, set.outputs[r.out]),
+        values,
+    }];
+    if out.y_label.is_empty() {
+        out.y_label = format!("band level ({ref_text})");
+    }
+    if out.x_label.is_empty() {
+        out.x_label = match spec.x_range {
+            Some([a, b]) => format!(
+                "inputs (paths), lines from {} to {} Hz",
+                tick_text(a),
+                tick_text(b)
+            ),
+            None => "inputs (paths), all lines".into(),
+        };
+    }
+    Ok(out)
 }
 
 fn draw_lines<DB: DrawingBackend>(
@@ -1319,6 +1420,32 @@ mod tests {
         )
         .unwrap();
         render_svg(&bars, &BTreeMap::new()).unwrap();
+        let cond = PlotSpec::from_json(
+            r#"{"kind":"lines","lines":[{"label":"c","y":[1,2],"x_from":"a"}]}"#,
+        )
+        .unwrap();
+        // 2 values against 400 lines: a clear error, not a wrong plot.
+        assert!(render_svg(&cond, &sdof()).is_err());
+    }
+
+    #[test]
+    fn ranking_bars_are_energetic_sums() {
+        // One line of |H| = 1e-4 m/N inside the range → 20·log10(1e-4) = −80 dB re 1 m/N.
+        let mut spec = PlotSpec::from_json(
+            r#"{"kind":"bars","ranking":{"set":"a","out":0,"in":0},"x_range":[0.5,0.5]}"#,
+        )
+        .unwrap();
+        let b = bars_from_set(&spec, &sdof()).unwrap();
+        let v = b.groups[0].values[0];
+        let h = sdof()["a"].get(0, 0, 0).norm();
+        assert!((v - 20.0 * h.log10()).abs() < 1e-12);
+        // Two lines: 10·log10(|H1|² + |H2|²).
+        spec.x_range = Some([0.5, 1.0]);
+        let b = bars_from_set(&spec, &sdof()).unwrap();
+        let s = sdof();
+        let e = s["a"].get(0, 0, 0).norm_sqr() + s["a"].get(1, 0, 0).norm_sqr();
+        assert!((b.groups[0].values[0] - 10.0 * e.log10()).abs() < 1e-12);
+        render_svg(&spec, &sdof()).unwrap();
     }
 
     #[test]

@@ -112,6 +112,15 @@ pub fn load_file(
     to_json(&sum)
 }
 
+/// The format of a file, detected from its bytes by the core ("uff58-ascii",
+/// "uff58-binary", "csv-mortise", "csv-mapped", "bundle").
+#[wasm_bindgen]
+pub fn detect_format(name: &str, bytes: &[u8]) -> std::result::Result<String, JsValue> {
+    io::detect(bytes, name)
+        .map(|f| f.name().to_string())
+        .map_err(js_err)
+}
+
 /// Remove a file and its sets from the workspace.
 #[wasm_bindgen]
 pub fn forget_file(name: &str) {

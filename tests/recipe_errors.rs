@@ -11,7 +11,14 @@ use serde_json::json;
 fn sdof(comp: &str, m: f64, k: f64, c: f64) -> FrfSet {
     let d = Dof::new(comp, "1", Direction::Z);
     let freqs: Vec<f64> = (1..=50).map(|i| i as f64 * 2.0).collect();
-    let mut s = FrfSet::zeros(comp, freqs, vec![d.clone()], vec![d], Quantity::Displacement, Quantity::Force);
+    let mut s = FrfSet::zeros(
+        comp,
+        freqs,
+        vec![d.clone()],
+        vec![d],
+        Quantity::Displacement,
+        Quantity::Force,
+    );
     for l in 0..s.n_lines() {
         let w = s.omega(l);
         s.set(l, 0, 0, 1.0 / Complex64::new(k - w * w * m, w * c));
@@ -38,7 +45,9 @@ fn missing_dof_points_at_step() {
     let r = recipe_with(json!([
         { "id": "ab", "op": "couple", "parts": ["a", "b"], "joints": [ { "a": "a:1+Z", "b": "b:9+Z" } ] }
     ]));
-    let e = recipe::run(&r, &MapSource::default()).unwrap_err().to_string();
+    let e = recipe::run(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("steps[0] (id 'ab', op 'couple')"), "{e}");
     assert!(e.contains("b:9+Z"), "{e}");
 }
@@ -48,7 +57,9 @@ fn unknown_operand_points_at_step() {
     let r = recipe_with(json!([
         { "id": "x", "op": "cascade", "first": "a", "second": "nothing" }
     ]));
-    let e = recipe::run(&r, &MapSource::default()).unwrap_err().to_string();
+    let e = recipe::run(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("steps[0] (id 'x', op 'cascade')"), "{e}");
     assert!(e.contains("'nothing'"), "{e}");
 }
@@ -59,7 +70,9 @@ fn incompatible_quantities_point_at_step() {
     let r = recipe_with(json!([
         { "id": "chain", "op": "cascade", "first": "a", "second": "b" }
     ]));
-    let e = recipe::run(&r, &MapSource::default()).unwrap_err().to_string();
+    let e = recipe::run(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("steps[0] (id 'chain', op 'cascade')"), "{e}");
     assert!(e.contains("displacement") && e.contains("force"), "{e}");
 }
@@ -67,10 +80,13 @@ fn incompatible_quantities_point_at_step() {
 #[test]
 fn missing_file_points_at_component() {
     let r = recipe::parse(
-        &json!({"format":"mortise-recipe","version":1,"components":{"wall":{"file":"wall.csv"}}}).to_string(),
+        &json!({"format":"mortise-recipe","version":1,"components":{"wall":{"file":"wall.csv"}}})
+            .to_string(),
     )
     .unwrap();
-    let e = recipe::run(&r, &MapSource::default()).unwrap_err().to_string();
+    let e = recipe::run(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("components.wall"), "{e}");
     assert!(e.contains("wall.csv"), "{e}");
 }
@@ -79,7 +95,9 @@ fn missing_file_points_at_component() {
 fn unknown_output_is_named() {
     let mut r = recipe_with(json!([]));
     r.outputs = vec!["ghost".into()];
-    let e = recipe::run(&r, &MapSource::default()).unwrap_err().to_string();
+    let e = recipe::run(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("outputs ('ghost')"), "{e}");
 }
 
@@ -96,7 +114,9 @@ fn variant_scaling_a_source_lowers_levels_by_6_02_db() {
     });
     let r = recipe::parse(&r.to_string()).unwrap();
     let res = recipe::run(&r, &MapSource::default()).unwrap();
-    let d = res.report["variants"][0]["level_change_db"]["half"].as_f64().unwrap();
+    let d = res.report["variants"][0]["level_change_db"]["half"]
+        .as_f64()
+        .unwrap();
     assert!((d + 20.0 * 2f64.log10()).abs() < 1e-12, "{d}");
     assert_eq!(res.outputs.len(), 2);
 }
