@@ -1,10 +1,60 @@
 //! Combining FRF sets: cascades, sums of paths, mechanical series and
 //! parallel, and LM-FBS coupling and decoupling with rigid or flexible joints.
 //!
-//! (Being built. The signatures below are the contract other modules use.)
+//! # Operations
+//! * [`cascade`]: transfer matrices in a chain, H = second · first per line.
+//! * [`sum_paths`]: parallel transfer paths, H = Σ Hₙ.
+//! * [`series`]: mechanical elements carrying one force; receptances (or
+//!   mobilities, accelerances) add.
+//! * [`parallel`]: mechanical elements sharing one motion; dynamic stiffnesses
+//!   (or impedances, apparent masses) add.
+//! * [`couple`] / [`decouple`]: Lagrange-multiplier frequency-based
+//!   substructuring (LM-FBS; de Klerk, Rixen, Voormeeren, AIAA J. 46(5), 2008).
+//!
+//! # LM-FBS conventions
+//! * **Form.** Y_c = Y − Y B_fᵀ (B_u Y B_fᵀ + Γ)⁻¹ B_u Y, per frequency line,
+//!   with Y the block diagonal of the components' FRFs. All components are
+//!   brought to the motion order of the first one (receptance, mobility or
+//!   accelerance) and the result is in that kind.
+//! * **B (signed Boolean).** One row per [`Joint`]: +1 at the DOF `a`, −1 at
+//!   the DOF `b`, each multiplied by the sign relating the joint's label to
+//!   the component's label (a joint naming `c:3-Z` on a component that lists
+//!   `c:3+Z` enters with −1). B_u acts on the outputs (motions), B_f on the
+//!   inputs (forces); they differ only when a component labels the same place
+//!   with opposite signs as output and as input.
+//! * **Γ (joint flexibility), diagonal, in the working kind.** For a joint of
+//!   dynamic stiffness K(ω): 1/K in receptance form, iω/K in mobility form,
+//!   −ω²/K in accelerance form; zero for a rigid joint. The joint force λ is
+//!   K times the elongation u_a − u_b; it pulls `a` by −λ and `b` by +λ.
+//! * **Result DOF order.** Outputs: the outputs of component 1, then of
+//!   component 2, ... in each component's own order; inputs likewise. Interface
+//!   DOFs therefore appear once per component (for a rigid joint both copies
+//!   carry the same motion).
+//! * **Decoupling** ([`decouple`]): Y_d = diag(Y_assembly, −Y_removed), the
+//!   joints enter with −Γ (a flexible joint listed is removed together with
+//!   the part), and the same formula is applied. Only the rows and columns of
+//!   the assembly's DOFs are returned. Those of the remaining component
+//!   (including the interface DOFs) are meaningful; rows or columns of
+//!   assembly DOFs that lie inside the removed part are not.
+//! * **Per line** the 2-norm condition number of B_u Y B_fᵀ + Γ (from its
+//!   singular values) is reported; with
+//!   [`CouplingOptions::tsvd_rel_threshold`] the inverse is a truncated-SVD
+//!   pseudo-inverse that drops σ < threshold · σ_max.
+//!
+//! The lines are independent; native builds spread them over threads
+//! (`std::thread::scope`), wasm32 builds stay serial. Both paths run the same
+//! per-line code and give identical numbers.
 
 use crate::error::{Error, Result};
-use crate::frf::{Dof, FrfSet};
+use crate::frf::{Dof, FrfKind, FrfSet};
+use crate::units::Quantity;
+
+mod chain;
+mod kernel;
+mod lmfbs;
+
+pub use chain::{cascade, parallel, series, sum_paths};
+pub use lmfbs::{couple, couple_with_threads, decouple, decouple_with_threads, default_threads};
 
 /// How two interface DOFs are joined.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -33,6 +83,21 @@ pub struct Joint {
     pub kind: JointKind,
 }
 
+impl Joint {
+    /// A rigid joint between `a` and `b`.
+    pub fn rigid(a: Dof, b: Dof) -> Joint {
+        Joint {
+            a,
+            b,
+            kind: JointKind::Rigid,
+        }
+    }
+    /// "a – b", for messages.
+    pub fn label(&self) -> String {
+        format!("{} – {}", self.a, self.b)
+    }
+}
+
 /// Options for the interface inversion.
 #[derive(Debug, Clone, Default, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct CouplingOptions {
@@ -53,48 +118,77 @@ pub struct Assembled {
     pub warnings: Vec<String>,
 }
 
-/// LM-FBS coupling of components at joints.
-pub fn couple(
-    components: &[FrfSet],
-    joints: &[Joint],
-    opts: &CouplingOptions,
-) -> Result<Assembled> {
-    let _ = (components, joints, opts);
-    Err(Error::unsupported("coupling is not built yet"))
+/// "N lines, a–b Hz" for messages about grids.
+fn grid_text(s: &FrfSet) -> String {
+    match (s.freqs.first(), s.freqs.last()) {
+        (Some(a), Some(b)) => format!("{} lines, {a}–{b} Hz", s.freqs.len()),
+        _ => "no lines".to_string(),
+    }
 }
 
-/// Remove `removed` from `assembly` (LM-FBS with the removed part entered negatively).
-pub fn decouple(
-    assembly: &FrfSet,
-    removed: &FrfSet,
-    joints: &[Joint],
-    opts: &CouplingOptions,
-) -> Result<Assembled> {
-    let _ = (assembly, removed, joints, opts);
-    Err(Error::unsupported("decoupling is not built yet"))
+/// Error unless `b` has the grid of `a` (equal within 1e-9 relative per line).
+pub(crate) fn require_same_grid(a: &FrfSet, b: &FrfSet, what: &str) -> Result<()> {
+    let same = a.freqs.len() == b.freqs.len()
+        && a.freqs
+            .iter()
+            .zip(&b.freqs)
+            .all(|(x, y)| (x - y).abs() <= 1e-9 * x.abs().max(y.abs()));
+    if same {
+        return Ok(());
+    }
+    let first_diff = a
+        .freqs
+        .iter()
+        .zip(&b.freqs)
+        .position(|(x, y)| (x - y).abs() > 1e-9 * x.abs().max(y.abs()));
+    let detail = match first_diff {
+        Some(k) => format!(
+            "; they first differ at line {} ({} Hz against {} Hz)",
+            k + 1,
+            a.freqs[k],
+            b.freqs[k]
+        ),
+        None => String::new(),
+    };
+    Err(Error::grid(format!(
+        "{what} needs identical frequency grids, but '{}' has {} and '{}' has {}{detail}; resample one onto the other first",
+        a.name,
+        grid_text(a),
+        b.name,
+        grid_text(b)
+    )))
 }
 
-/// Chain transfer matrices: H = second · first per line; `first`'s outputs
-/// (and quantity) must be `second`'s inputs.
-pub fn cascade(first: &FrfSet, second: &FrfSet) -> Result<FrfSet> {
-    let _ = (first, second);
-    Err(Error::unsupported("cascade is not built yet"))
+/// Error unless the set is an FRF (not a spectrum) of motion per force.
+pub(crate) fn require_motion_per_force(s: &FrfSet, what: &str) -> Result<()> {
+    if s.signal.is_some() {
+        return Err(Error::quantity(format!(
+            "{what} needs FRFs, but '{}' is a spectrum",
+            s.name
+        )));
+    }
+    if !(s.out_qty.is_motion() && s.in_qty == Quantity::Force) {
+        return Err(Error::quantity(format!(
+            "{what} needs receptance, mobility or accelerance (motion per force), but '{}' is {} ({} per {})",
+            s.name,
+            s.kind(),
+            s.out_qty,
+            s.in_qty
+        )));
+    }
+    Ok(())
 }
 
-/// Add sets that share outputs, inputs and quantities.
-pub fn sum_paths(sets: &[FrfSet]) -> Result<FrfSet> {
-    let _ = sets;
-    Err(Error::unsupported("sum of paths is not built yet"))
-}
-
-/// Elements carrying one force: mobilities (receptances) add.
-pub fn series(sets: &[FrfSet]) -> Result<FrfSet> {
-    let _ = sets;
-    Err(Error::unsupported("series is not built yet"))
-}
-
-/// Elements sharing one motion: impedances (dynamic stiffnesses) add.
-pub fn parallel(sets: &[FrfSet]) -> Result<FrfSet> {
-    let _ = sets;
-    Err(Error::unsupported("parallel is not built yet"))
+/// The kind name of the other side of an inversion (receptance ↔ dynamic
+/// stiffness, mobility ↔ impedance, accelerance ↔ apparent mass).
+pub(crate) fn inverse_kind(k: FrfKind) -> Option<FrfKind> {
+    Some(match k {
+        FrfKind::Receptance => FrfKind::DynamicStiffness,
+        FrfKind::Mobility => FrfKind::Impedance,
+        FrfKind::Accelerance => FrfKind::ApparentMass,
+        FrfKind::DynamicStiffness => FrfKind::Receptance,
+        FrfKind::Impedance => FrfKind::Mobility,
+        FrfKind::ApparentMass => FrfKind::Accelerance,
+        _ => return None,
+    })
 }

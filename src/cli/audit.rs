@@ -1,9 +1,265 @@
-//! `mortise audit` (being built).
+//! `mortise audit FILE... [--json] [--tolerance-db X] [--coherence-min X]
+//! [--reciprocity-tol X] [--condition-max X] [--pair A B]`
+//!
+//! Loads each file, audits every set in it ([`crate::audit`]) and prints a
+//! compact table per set (check, status, flagged bands, summary), or JSON
+//! with `--json`. `--pair A B` also compares the sets of A and B (the same
+//! component at two excitation levels) for linearity; when other files are
+//! listed too, write the pair as `--pair A,B`.
 
 use super::Args;
+use crate::audit::{audit, audit_pair, AuditOptions, AuditReport};
 use crate::error::{Error, Result};
+use crate::frf::FrfSet;
+use crate::io::{self, ImportOptions, Loaded};
+
+const OPTIONS: &[&str] = &[
+    "json",
+    "tolerance-db",
+    "coherence-min",
+    "reciprocity-tol",
+    "condition-max",
+    "pair",
+];
+
+/// The audit of one file.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct FileAudit {
+    pub file: String,
+    pub format: String,
+    pub reports: Vec<AuditReport>,
+}
+
+fn number(args: &Args, name: &str, lo: f64, hi: f64) -> Result<Option<f64>> {
+    let Some(v) = args.value(name) else {
+        return Ok(None);
+    };
+    let x: f64 = v
+        .trim()
+        .parse()
+        .map_err(|_| Error::usage(format!("--{name} '{v}': expected a number")))?;
+    if !(x.is_finite() && x >= lo && x <= hi) {
+        return Err(Error::usage(format!(
+            "--{name} {v}: expected a value from {lo} to {hi}"
+        )));
+    }
+    Ok(Some(x))
+}
+
+/// Audit options from the command line.
+pub fn options(args: &Args) -> Result<AuditOptions> {
+    let mut o = AuditOptions::default();
+    if let Some(x) = number(args, "tolerance-db", 0.0, 100.0)? {
+        o.linearity_tol_db = x;
+    }
+    if let Some(x) = number(args, "coherence-min", 0.0, 1.0)? {
+        o.coherence_min = x;
+    }
+    if let Some(x) = number(args, "reciprocity-tol", 0.0, 10.0)? {
+        o.reciprocity_tol = x;
+    }
+    if let Some(x) = number(args, "condition-max", 1.0, 1e300)? {
+        o.condition_max = x;
+    }
+    Ok(o)
+}
+
+fn read(path: &str) -> Result<Loaded> {
+    let bytes = std::fs::read(path).map_err(|e| Error::io(e.to_string()).in_file(path))?;
+    io::load(&bytes, &io::base_name(path), &ImportOptions::default())
+}
+
+fn with_file_warnings(set: &FrfSet, l: &Loaded) -> FrfSet {
+    let mut s = set.clone();
+    for w in &l.warnings {
+        if !s.warnings.contains(w) {
+            s.warnings.push(w.clone());
+        }
+    }
+    s
+}
+
+/// Audit loaded files: each set alone.
+pub fn audit_loaded(file: &str, l: &Loaded, opts: &AuditOptions) -> FileAudit {
+    FileAudit {
+        file: file.to_string(),
+        format: l.format.name().to_string(),
+        reports: l
+            .sets
+            .iter()
+            .map(|s| audit(&with_file_warnings(s, l), opts))
+            .collect(),
+    }
+}
+
+/// Audit two loaded files as one component at two excitation levels: the
+/// sets are paired in order.
+pub fn audit_loaded_pair(
+    a: (&str, &Loaded),
+    b: (&str, &Loaded),
+    opts: &AuditOptions,
+) -> Result<FileAudit> {
+    if a.1.sets.len() != b.1.sets.len() {
+        return Err(Error::usage(format!(
+            "--pair: {} holds {} set(s) and {} holds {}; the linearity check pairs them in order",
+            a.0,
+            a.1.sets.len(),
+            b.0,
+            b.1.sets.len()
+        )));
+    }
+    let reports =
+        a.1.sets
+            .iter()
+            .zip(&b.1.sets)
+            .map(|(x, y)| audit_pair(&with_file_warnings(x, a.1), y, opts))
+            .collect::<Result<Vec<_>>>()?;
+    Ok(FileAudit {
+        file: format!("{} with {}", a.0, b.0),
+        format: a.1.format.name().to_string(),
+        reports,
+    })
+}
+
+/// Text or JSON for a list of file audits.
+pub fn render(audits: &[FileAudit], json: bool) -> Result<String> {
+    if json {
+        let v = serde_json::json!({
+            "audits": audits,
+            "caution": crate::audit::CAUTION,
+        });
+        return serde_json::to_string_pretty(&v)
+            .map(|s| s + "\n")
+            .map_err(|e| Error::io(format!("JSON output: {e}")));
+    }
+    let mut s = String::new();
+    for a in audits {
+        s.push_str(&format!("== {} ({})\n", a.file, a.format));
+        if a.reports.is_empty() {
+            s.push_str("  no sets\n");
+        }
+        for r in &a.reports {
+            s.push_str(&r.table());
+        }
+        s.push('\n');
+    }
+    s.push_str(crate::audit::CAUTION);
+    s.push('\n');
+    Ok(s)
+}
 
 pub fn run(args: &Args) -> Result<String> {
-    let _ = args;
-    Err(Error::unsupported("'audit' is not built yet"))
+    args.only(OPTIONS)?;
+    let opts = options(args)?;
+    let mut files: Vec<String> = args.positional.clone();
+    let mut pair: Option<(String, String)> = None;
+    if let Some(p) = args.value("pair") {
+        if let Some((a, b)) = p.split_once(',') {
+            pair = Some((a.trim().to_string(), b.trim().to_string()));
+        } else if files.len() == 1 {
+            pair = Some((p.to_string(), files.remove(0)));
+        } else {
+            return Err(Error::usage(format!(
+                "--pair {p}: give the second file right after it when it is the only other file, or write --pair A,B"
+            )));
+        }
+    }
+    if files.is_empty() && pair.is_none() {
+        return Err(Error::usage(
+            "audit needs at least one file: mortise audit FILE... [--json] [--tolerance-db X] [--coherence-min X] [--pair A B]",
+        ));
+    }
+    let mut audits = Vec::new();
+    for f in &files {
+        let l = read(f)?;
+        audits.push(audit_loaded(f, &l, &opts));
+    }
+    if let Some((a, b)) = pair {
+        let la = read(&a)?;
+        let lb = read(&b)?;
+        audits.push(audit_loaded_pair((&a, &la), (&b, &lb), &opts)?);
+    }
+    render(&audits, args.flag("json"))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::frf::{Direction, Dof};
+    use crate::units::Quantity;
+    use num_complex::Complex64;
+
+    fn v(s: &[&str]) -> Vec<String> {
+        s.iter().map(|x| x.to_string()).collect()
+    }
+
+    fn sdof(k: f64) -> FrfSet {
+        let d = Dof::new("unit", "1", Direction::Z);
+        let f: Vec<f64> = (1..=400).map(|i| i as f64 * 0.1).collect();
+        let mut h = FrfSet::zeros(
+            "seat",
+            f,
+            vec![d.clone()],
+            vec![d],
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        for l in 0..h.n_lines() {
+            let w = h.omega(l);
+            h.set(l, 0, 0, 1.0 / Complex64::new(k - w * w, 2.0 * w));
+        }
+        h
+    }
+
+    #[test]
+    fn options_are_checked() {
+        let a = Args::parse(&v(&["x.uff", "--coherence-min", "1.5"])).unwrap();
+        assert!(run(&a).unwrap_err().message.contains("coherence-min"));
+        let a = Args::parse(&v(&["x.uff", "--bogus", "1"])).unwrap();
+        assert!(run(&a).is_err());
+        let a = Args::parse(&v(&[])).unwrap();
+        assert!(run(&a).unwrap_err().message.contains("at least one file"));
+        let a = Args::parse(&v(&["a", "--pair", "b", "c"])).unwrap();
+        assert!(run(&a).unwrap_err().message.contains("--pair A,B"));
+        let a = Args::parse(&v(&["--tolerance-db", "0.5", "--coherence-min", "0.8"])).unwrap();
+        let o = options(&a).unwrap();
+        assert_eq!((o.linearity_tol_db, o.coherence_min), (0.5, 0.8));
+    }
+
+    #[test]
+    fn missing_file_is_named() {
+        let a = Args::parse(&v(&["/nonexistent/dir/casing.uff"])).unwrap();
+        let e = run(&a).unwrap_err();
+        assert_eq!(e.kind, crate::error::ErrorKind::Io);
+        assert_eq!(e.file.as_deref(), Some("/nonexistent/dir/casing.uff"));
+    }
+
+    #[test]
+    fn table_and_json_of_loaded_sets() {
+        let l = Loaded {
+            format: io::Format::CsvNative,
+            sets: vec![sdof(1e3)],
+            warnings: vec!["column 2: unit 'mm' taken from the header".into()],
+        };
+        let h = Loaded {
+            format: io::Format::CsvNative,
+            sets: vec![sdof(8e2)],
+            warnings: vec![],
+        };
+        let opts = AuditOptions::default();
+        let one = audit_loaded("seat.csv", &l, &opts);
+        let two = audit_loaded_pair(("seat.csv", &l), ("seat-high.csv", &h), &opts).unwrap();
+        let text = render(&[one.clone(), two], false).unwrap();
+        print!("{text}");
+        assert!(text.contains("== seat.csv (csv-mortise)"));
+        assert!(text.contains("linearity") && text.contains("FLAG"));
+        assert!(text.contains("import") && text.contains("unit 'mm'"));
+        assert!(text.contains("licensed professional"));
+        let j: serde_json::Value = serde_json::from_str(&render(&[one], true).unwrap()).unwrap();
+        assert_eq!(
+            j["audits"][0]["reports"][0]["checks"][1]["check"],
+            "passivity"
+        );
+        assert_eq!(j["audits"][0]["reports"][0]["checks"][1]["status"], "pass");
+    }
 }

@@ -1,9 +1,472 @@
-//! `mortise inspect` (being built).
+//! `mortise inspect FILE... [--json]`: what each file holds (format, FRFs,
+//! DOFs, quantities, units, grid, SHA-256, warnings). A file that cannot be
+//! read is reported and the others are still inspected; the command then
+//! fails with every report in its message.
+//!
+//! Also home of the column-map options shared with `mortise convert`.
 
 use super::Args;
 use crate::error::{Error, Result};
+use crate::frf::{labels, FrfSet};
+use crate::grid::{spacing, Spacing};
+use crate::io::csv::{
+    ColumnMap, ColumnRef, Delimiter, FreqUnit, MagScale, MapEntry, PhaseUnit, ValueColumns,
+};
+use crate::io::{self, ImportOptions, Loaded};
+use crate::units::Quantity;
+
+/// Help text for the column-map options (printed by `--help` and in the usage).
+pub const MAP_HELP: &str = "\
+column-map options (for CSV/TSV files not in mortise's own layout):
+  --map MAP.json           a saved column map (JSON), instead of the options below
+  --delim auto|comma|semicolon|tab|space   cell separator (default auto)
+  --skip N                 lines before the first data row (default 0)
+  --header-line N          line holding the column names (default: the last skipped line)
+  --decimal point|comma    decimal separator (default point)
+  --freq-col C             frequency column (default 1); C is a 1-based number or a header name
+  --freq-unit hz|khz|rad/s (default hz)
+  --out-dof D --in-dof D   DOFs of one FRF, e.g. wall:A1+Z; repeat the group for each FRF
+  --re C --im C            real and imaginary part columns, or
+  --mag C --phase C        magnitude and phase columns, or
+  --value C                one real value column
+  --coh C                  coherence column (give one per FRF, or none)
+  --mag-db-ref R           magnitude is a level in dB re R (in --unit); default: linear
+  --phase-unit deg|rad     (default deg)
+  --unit U                 value unit, e.g. g/N, mm/s/N, N/mm, Pa/N (default: SI)
+  --out-qty Q --in-qty Q   displacement, velocity, acceleration, force, pressure, ...
+  --signal peak|rms|autopower|psd   the file holds spectra (no --in-dof/--in-qty)
+  --time-convention +iwt|-iwt       the supplier's convention (-iwt: values are conjugated)
+  --set-name NAME          name of the set read (default: the component name)
+  --component NAME         component namespace for DOFs without one (default: file stem)
+";
+
+/// The column-map and import option names, for `Args::only`.
+pub const IMPORT_OPTIONS: &[&str] = &[
+    "component",
+    "map",
+    "delim",
+    "skip",
+    "header-line",
+    "decimal",
+    "freq-col",
+    "freq-unit",
+    "out-dof",
+    "in-dof",
+    "re",
+    "im",
+    "mag",
+    "phase",
+    "value",
+    "coh",
+    "mag-db-ref",
+    "phase-unit",
+    "unit",
+    "out-qty",
+    "in-qty",
+    "signal",
+    "time-convention",
+    "set-name",
+];
+
+fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
+    match args.value(name) {
+        None => Ok(None),
+        Some(v) => v
+            .trim()
+            .parse::<T>()
+            .map(Some)
+            .map_err(|_| Error::usage(format!("--{name} '{v}': expected a number"))),
+    }
+}
+
+/// Import options from the command line: the component name and, when any
+/// column-map option (or `--map`) is given, a [`ColumnMap`].
+pub fn import_options(args: &Args) -> Result<ImportOptions> {
+    let component = args.value("component").map(str::to_string);
+    let map_opts = &IMPORT_OPTIONS[2..];
+    let any_col = map_opts.iter().any(|o| args.flag(o));
+    if let Some(path) = args.value("map") {
+        if any_col {
+            return Err(Error::usage(
+                "give either --map or the column options (--freq-col, --re, ...), not both",
+            ));
+        }
+        let bytes = std::fs::read(path).map_err(|e| Error::io(e.to_string()).in_file(path))?;
+        let map: ColumnMap = serde_json::from_slice(&bytes).map_err(|e| {
+            Error::parse(format!("not a column map: {e}"))
+                .at_line(e.line().max(1))
+                .in_file(path)
+        })?;
+        return Ok(ImportOptions {
+            component,
+            column_map: Some(map),
+        });
+    }
+    if !any_col {
+        return Ok(ImportOptions {
+            component,
+            column_map: None,
+        });
+    }
+    let mut m = ColumnMap::default();
+    if let Some(d) = args.value("delim") {
+        m.delimiter = Delimiter::parse(d)?;
+    }
+    m.skip_rows = num(args, "skip")?.unwrap_or(0);
+    m.header_line = num(args, "header-line")?;
+    m.decimal_comma = match args.value("decimal") {
+        None | Some("point") | Some(".") => false,
+        Some("comma") | Some(",") => true,
+        Some(o) => {
+            return Err(Error::usage(format!(
+                "--decimal '{o}': expected point or comma"
+            )))
+        }
+    };
+    if let Some(c) = args.value("freq-col") {
+        m.freq = ColumnRef::parse(c);
+    }
+    if let Some(u) = args.value("freq-unit") {
+        m.freq_unit = FreqUnit::parse(u)?;
+    }
+    if let Some(r) = args.value("mag-db-ref") {
+        let reference: f64 = r
+            .trim()
+            .parse()
+            .ok()
+            .filter(|x: &f64| x.is_finite() && *x > 0.0)
+            .ok_or_else(|| {
+                Error::usage(format!("--mag-db-ref '{r}': expected a positive number"))
+            })?;
+        m.mag_scale = MagScale::Db { reference };
+    }
+    if let Some(p) = args.value("phase-unit") {
+        m.phase_unit = PhaseUnit::parse(p)?;
+    }
+    if let Some(u) = args.value("unit") {
+        m.unit = u.to_string();
+    }
+    m.signal = match args.value("signal") {
+        None => None,
+        Some(s) => Some(match s.trim().to_ascii_lowercase().as_str() {
+            "peak" => crate::frf::SignalKind::Peak,
+            "rms" => crate::frf::SignalKind::Rms,
+            "autopower" => crate::frf::SignalKind::Autopower,
+            "psd" => crate::frf::SignalKind::Psd,
+            _ => {
+                return Err(Error::usage(format!(
+                    "--signal '{s}': expected peak, rms, autopower or psd"
+                )))
+            }
+        }),
+    };
+    let q = |name: &str| -> Result<Option<Quantity>> {
+        args.value(name)
+            .map(|v| {
+                Quantity::parse(v).map_err(|e| Error::usage(format!("--{name}: {}", e.message)))
+            })
+            .transpose()
+    };
+    m.out_qty = q("out-qty")?.ok_or_else(|| {
+        Error::usage("the column map needs --out-qty (displacement, velocity, acceleration, force, pressure, ...)")
+    })?;
+    m.in_qty =
+        match q("in-qty")? {
+            Some(x) => x,
+            None if m.signal.is_some() => Quantity::Dimensionless,
+            None => return Err(Error::usage(
+                "the column map needs --in-qty (force, displacement, ...), or --signal for spectra",
+            )),
+        };
+    m.conjugate = match args.value("time-convention") {
+        None | Some("+iwt") | Some("+iωt") => false,
+        Some("-iwt") | Some("-iωt") => true,
+        Some(o) => {
+            return Err(Error::usage(format!(
+                "--time-convention '{o}': expected +iwt or -iwt"
+            )))
+        }
+    };
+    m.name = args.value("set-name").map(str::to_string);
+    let outs = args.values("out-dof");
+    let ins = args.values("in-dof");
+    let n = outs.len();
+    if n == 0 {
+        return Err(Error::usage(
+            "the column map needs --out-dof (and --in-dof) for each FRF, e.g. --out-dof wall:A1+Z --in-dof wall:A1+Z",
+        ));
+    }
+    if m.signal.is_none() && ins.len() != n {
+        return Err(Error::usage(format!(
+            "{n} --out-dof but {} --in-dof; give one of each per FRF",
+            ins.len()
+        )));
+    }
+    let cols = |name: &str| args.values(name);
+    let (re, im, mag, ph, val, coh) = (
+        cols("re"),
+        cols("im"),
+        cols("mag"),
+        cols("phase"),
+        cols("value"),
+        cols("coh"),
+    );
+    let form = match (re.len(), im.len(), mag.len(), ph.len(), val.len()) {
+        (a, b, 0, 0, 0) if a == n && b == n => 0,
+        (0, 0, a, b, 0) if a == n && b == n => 1,
+        (0, 0, 0, 0, a) if a == n => 2,
+        _ => {
+            return Err(Error::usage(format!(
+                "for {n} FRF(s) give {n} --re and {n} --im, or {n} --mag and {n} --phase, or {n} --value; got {} --re, {} --im, {} --mag, {} --phase, {} --value",
+                re.len(),
+                im.len(),
+                mag.len(),
+                ph.len(),
+                val.len()
+            )))
+        }
+    };
+    if !coh.is_empty() && coh.len() != n {
+        return Err(Error::usage(format!(
+            "{} --coh for {n} FRF(s); give one per FRF or none",
+            coh.len()
+        )));
+    }
+    for e in 0..n {
+        let values = match form {
+            0 => ValueColumns::ReIm {
+                re: ColumnRef::parse(re[e]),
+                im: ColumnRef::parse(im[e]),
+            },
+            1 => ValueColumns::MagPhase {
+                mag: ColumnRef::parse(mag[e]),
+                phase: ColumnRef::parse(ph[e]),
+            },
+            _ => ValueColumns::Real {
+                value: ColumnRef::parse(val[e]),
+            },
+        };
+        m.entries.push(MapEntry {
+            out_dof: outs[e].to_string(),
+            in_dof: ins.get(e).map_or(String::new(), |s| s.to_string()),
+            values,
+            coherence: coh.get(e).map(|c| ColumnRef::parse(c)),
+        });
+    }
+    Ok(ImportOptions {
+        component,
+        column_map: Some(m),
+    })
+}
+
+/// One file as the CLI read it.
+pub struct FileResult {
+    pub path: String,
+    /// SHA-256 of the bytes, when the file could be read at all.
+    pub sha256: Option<String>,
+    pub result: Result<Loaded>,
+}
+
+/// Read and load every file; failures are kept, with the file name.
+pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
+    paths
+        .iter()
+        .map(|p| match std::fs::read(p) {
+            Err(e) => FileResult {
+                path: p.clone(),
+                sha256: None,
+                result: Err(Error::io(format!("cannot read the file: {e}")).in_file(p.as_str())),
+            },
+            Ok(bytes) => FileResult {
+                path: p.clone(),
+                sha256: Some(io::sha256_hex(&bytes)),
+                result: io::load(&bytes, p, opts),
+            },
+        })
+        .collect()
+}
+
+fn unit_text(s: &FrfSet) -> String {
+    let rot_out = s.outputs.iter().any(|d| d.dir.is_rotational());
+    let rot_in = s.inputs.iter().any(|d| d.dir.is_rotational());
+    let tr_out = s.outputs.iter().any(|d| !d.dir.is_rotational());
+    let tr_in = s.inputs.iter().any(|d| !d.dir.is_rotational());
+    let mut v = Vec::new();
+    for (ro, ri) in [(false, false), (false, true), (true, false), (true, true)] {
+        let has_o = if ro { rot_out } else { tr_out };
+        let has_i = if ri { rot_in } else { tr_in };
+        if has_o && has_i {
+            let u = if s.signal.is_some() {
+                s.out_qty.si_unit(ro).to_string()
+            } else {
+                let paren = |u: &str| {
+                    if u.contains(['/', '*']) {
+                        format!("({u})")
+                    } else {
+                        u.to_string()
+                    }
+                };
+                format!(
+                    "{}/{}",
+                    paren(s.out_qty.si_unit(ro)),
+                    paren(s.in_qty.si_unit(ri))
+                )
+            };
+            if !v.contains(&u) {
+                v.push(u);
+            }
+        }
+    }
+    v.join(", ")
+}
+
+/// A JSON summary of one set.
+pub fn set_summary(s: &FrfSet) -> serde_json::Value {
+    let present = s.present.iter().filter(|&&p| p).count();
+    serde_json::json!({
+        "name": s.name,
+        "frf_count": present,
+        "n_outputs": s.n_out(),
+        "n_inputs": s.n_in(),
+        "outputs": s.outputs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+        "inputs": s.inputs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+        "missing": s.missing_entries(),
+        "out_quantity": s.out_qty.name(),
+        "in_quantity": s.in_qty.name(),
+        "kind": if s.signal.is_some() { "spectrum".to_string() } else { s.kind().name().to_string() },
+        "signal": s.signal.map(|k| k.name()),
+        "si_unit": unit_text(s),
+        "lines": s.n_lines(),
+        "first_hz": s.freqs.first(),
+        "last_hz": s.freqs.last(),
+        "spacing": spacing(&s.freqs),
+        "coherence": s.coherence.is_some(),
+        "warnings": s.warnings,
+    })
+}
+
+fn set_text(n: usize, s: &FrfSet, out: &mut String) {
+    let present = s.present.iter().filter(|&&p| p).count();
+    let kind = match s.signal {
+        Some(k) => format!("{} spectrum of {}", k.name(), s.out_qty),
+        None => format!("{} ({} per {})", s.kind(), s.out_qty, s.in_qty),
+    };
+    out.push_str(&format!(
+        "  set {n} '{}': {present} FRF(s) in {} output(s) × {} input(s), {kind}, SI unit {}\n",
+        s.name,
+        s.n_out(),
+        s.n_in(),
+        unit_text(s)
+    ));
+    out.push_str(&format!("    outputs: {}\n", labels(&s.outputs)));
+    out.push_str(&format!("    inputs:  {}\n", labels(&s.inputs)));
+    let miss = s.missing_entries();
+    if !miss.is_empty() {
+        out.push_str(&format!(
+            "    missing: {}{}\n",
+            miss.iter().take(8).cloned().collect::<Vec<_>>().join(", "),
+            if miss.len() > 8 {
+                format!(", ... ({} in all)", miss.len())
+            } else {
+                String::new()
+            }
+        ));
+    }
+    let sp = match spacing(&s.freqs) {
+        Spacing::Single => "one line".to_string(),
+        Spacing::Even { step } => format!("even, Δf = {step} Hz"),
+        Spacing::Uneven { min_step, max_step } => {
+            format!("uneven, Δf from {min_step} to {max_step} Hz")
+        }
+    };
+    out.push_str(&format!(
+        "    lines:   {}, {} Hz to {} Hz, {sp}\n",
+        s.n_lines(),
+        s.freqs.first().copied().unwrap_or(f64::NAN),
+        s.freqs.last().copied().unwrap_or(f64::NAN)
+    ));
+    if s.coherence.is_some() {
+        out.push_str("    coherence: supplied\n");
+    }
+}
 
 pub fn run(args: &Args) -> Result<String> {
-    let _ = args;
-    Err(Error::unsupported("'inspect' is not built yet"))
+    if args.flag("help") {
+        return Ok(format!(
+            "usage: mortise inspect FILE... [--json] [column-map options]\n\n{MAP_HELP}"
+        ));
+    }
+    let mut known = vec!["json", "help"];
+    known.extend_from_slice(IMPORT_OPTIONS);
+    args.only(&known)?;
+    if args.positional.is_empty() {
+        return Err(Error::usage(format!(
+            "inspect needs at least one file\nusage: mortise inspect FILE... [--json] [column-map options]\n\n{MAP_HELP}"
+        )));
+    }
+    let opts = import_options(args)?;
+    let results = load_files(&args.positional, &opts);
+    let failed: Vec<&Error> = results
+        .iter()
+        .filter_map(|f| f.result.as_ref().err())
+        .collect();
+    let n_failed = failed.len();
+    let first_kind = failed.first().map(|e| e.kind);
+    let out = if args.flag("json") {
+        let files: Vec<serde_json::Value> = results
+            .iter()
+            .map(|f| match &f.result {
+                Ok(l) => serde_json::json!({
+                    "file": f.path,
+                    "ok": true,
+                    "format": l.format.name(),
+                    "sha256": f.sha256,
+                    "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
+                    "warnings": l.warnings,
+                }),
+                Err(e) => serde_json::json!({
+                    "file": f.path,
+                    "ok": false,
+                    "sha256": f.sha256,
+                    "error": e,
+                    "message": e.to_string(),
+                }),
+            })
+            .collect();
+        let mut s = serde_json::to_string_pretty(&serde_json::json!({ "files": files }))
+            .map_err(|e| Error::parse(e.to_string()))?;
+        s.push('\n');
+        s
+    } else {
+        let mut out = String::new();
+        for f in &results {
+            out.push_str(&format!("{}\n", f.path));
+            if let Some(h) = &f.sha256 {
+                out.push_str(&format!("  sha256: {h}\n"));
+            }
+            match &f.result {
+                Ok(l) => {
+                    out.push_str(&format!("  format: {}\n", l.format.name()));
+                    for (n, s) in l.sets.iter().enumerate() {
+                        set_text(n + 1, s, &mut out);
+                    }
+                    for w in &l.warnings {
+                        out.push_str(&format!("  warning: {w}\n"));
+                    }
+                }
+                Err(e) => out.push_str(&format!("  error: {e}\n")),
+            }
+        }
+        out
+    };
+    match first_kind {
+        None => Ok(out),
+        Some(kind) => Err(Error::new(
+            kind,
+            format!(
+                "{out}{n_failed} of {} file(s) could not be read (the others are reported above)",
+                results.len()
+            ),
+        )),
+    }
 }

@@ -20,11 +20,20 @@ mortise: FRF coupling and transfer-path prediction, offline
 usage:
   mortise inspect FILE... [--json] [column-map options]
   mortise convert IN... -o OUT [--to uff|uff-binary|csv|bundle] [--kind KIND] [--units si]
+                 [column-map options]
   mortise run RECIPE -o OUTDIR
   mortise couple A.uff B.csv --join 'A:1+Z=B:1+Z' ... -o OUT
   mortise audit FILE... [--json]
   mortise demo [-o DIR]
   mortise help [COMMAND]
+
+column-map options (inspect and convert; for CSV/TSV not in mortise's own layout):
+  --map MAP.json | --delim auto|comma|semicolon|tab|space --skip N --header-line N
+  --decimal point|comma --freq-col C --freq-unit hz|khz|rad/s
+  per FRF: --out-dof D --in-dof D and (--re C --im C | --mag C --phase C | --value C) [--coh C]
+  --mag-db-ref R --phase-unit deg|rad --unit U --out-qty Q --in-qty Q
+  --signal peak|rms|autopower|psd --time-convention +iwt|-iwt --set-name NAME --component NAME
+  (C is a 1-based column number or a header name; 'mortise inspect --help' explains each)
 
 Every prediction is an engineering estimate under a linear, small-amplitude
 model of the data supplied; it does not replace measurement, local

@@ -11,7 +11,7 @@ pub mod merge;
 pub mod uff58;
 
 use crate::error::{Error, Result};
-use crate::frf::FrfSet;
+use crate::frf::{FrfSet, Provenance};
 
 /// A file format mortise reads or writes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -82,16 +82,233 @@ pub fn base_name(name: &str) -> String {
     name.rsplit(['/', '\\']).next().unwrap_or(name).to_string()
 }
 
+/// What a file that is not one of ours looks like, by its first bytes.
+fn looks_like(bytes: &[u8]) -> Option<&'static str> {
+    const SIGS: &[(&[u8], &str)] = &[
+        (b"\x89PNG", "a PNG image"),
+        (b"%PDF", "a PDF document"),
+        (
+            b"PK\x03\x04",
+            "a zip archive (or an office document, which is one)",
+        ),
+        (b"\x1f\x8b", "a gzip-compressed file"),
+        (b"GIF8", "a GIF image"),
+        (b"\xff\xd8\xff", "a JPEG image"),
+        (b"\xd0\xcf\x11\xe0", "an old-style office document"),
+        (b"{\\rtf", "an RTF document"),
+    ];
+    SIGS.iter()
+        .find(|(sig, _)| bytes.starts_with(sig))
+        .map(|(_, what)| *what)
+}
+
+const ACCEPTED: &str = "accepted: UFF dataset 58 or 58b (first line '-1', then '58' or '58b'), \
+mortise's own CSV (first line '# mortise-frf 1'), a mortise bundle (JSON with \"format\": \"mortise-bundle\"), \
+or delimited text of numbers (CSV/TSV) with a column map";
+
+/// Dataset numbers of a UFF file, scanning the "-1" delimiter lines.
+fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
+    // first non-blank line must be "-1"
+    let mut lines = bytes
+        .split(|&b| b == b'\n')
+        .map(|l| l.strip_suffix(b"\r").unwrap_or(l));
+    let first = lines.find(|l| !l.iter().all(|b| b.is_ascii_whitespace()))?;
+    if first.trim_ascii() != b"-1" {
+        return None;
+    }
+    // some writers start with an empty dataset ("-1" twice)
+    let second = lines.find(|l| l.trim_ascii() != b"-1")?;
+    let tok = second
+        .trim_ascii()
+        .split(|b| b.is_ascii_whitespace())
+        .next()?;
+    let tok = std::str::from_utf8(tok).ok()?;
+    let num = tok.trim_end_matches(['b', 'B']);
+    if num.is_empty() || !num.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    if tok == "58" {
+        return Some(Ok(Format::Uff58Ascii));
+    }
+    if tok.eq_ignore_ascii_case("58b") {
+        return Some(Ok(Format::Uff58Binary));
+    }
+    // another dataset first: look for a later 58/58b header
+    let mut prev_delim = false;
+    for l in bytes.split(|&b| b == b'\n') {
+        let t = l.trim_ascii();
+        if prev_delim {
+            let tok = t.split(|b| b.is_ascii_whitespace()).next().unwrap_or(b"");
+            if tok == b"58" {
+                return Some(Ok(Format::Uff58Ascii));
+            }
+            if tok.eq_ignore_ascii_case(b"58b") {
+                return Some(Ok(Format::Uff58Binary));
+            }
+        }
+        prev_delim = t == b"-1";
+    }
+    Some(Err(Error::unsupported(format!(
+        "a Universal File (first dataset {tok}) without any dataset 58 or 58b; mortise reads FRFs from datasets 58 and 58b only"
+    ))))
+}
+
 /// Detect the format from the bytes (not the extension).
 pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
-    let _ = bytes;
-    Err(Error::unsupported("format detection is not built yet").in_file(file))
+    let fail = |m: String| Err(Error::unsupported(m).in_file(file));
+    if bytes.iter().all(|b| b.is_ascii_whitespace()) {
+        return fail(format!(
+            "the file is empty{}; {ACCEPTED}",
+            if bytes.is_empty() {
+                ""
+            } else {
+                " (only white space)"
+            }
+        ));
+    }
+    if let Some(what) = looks_like(bytes) {
+        return fail(format!("this looks like {what}, not FRF data; {ACCEPTED}"));
+    }
+    if let Some(r) = uff_kind(bytes) {
+        return r.map_err(|e| e.in_file(file));
+    }
+    let head = &bytes[..bytes.len().min(4096)];
+    if head.contains(&0) {
+        return fail(format!(
+            "this looks like a binary file of unknown kind (it holds NUL bytes); {ACCEPTED}"
+        ));
+    }
+    let text = csv::decode_text(bytes);
+    let t = text.trim_start();
+    if t.starts_with('{') || t.starts_with('[') {
+        return match serde_json::from_str::<serde_json::Value>(t) {
+            Ok(v) => match v.get("format").and_then(|f| f.as_str()) {
+                Some(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
+                Some(other) => fail(format!(
+                    "this is JSON with \"format\": \"{other}\", not a data file; expected \"{}\"; {ACCEPTED}",
+                    bundle::BUNDLE_FORMAT
+                )),
+                None => fail(format!(
+                    "this is JSON without a \"format\" field; {ACCEPTED}"
+                )),
+            },
+            // a damaged bundle: let the bundle reader say where it breaks
+            Err(_) if t[..t.len().min(4096)].contains(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
+            Err(e) => fail(format!(
+                "this looks like JSON but does not parse ({e}); {ACCEPTED}"
+            )),
+        };
+    }
+    if csv::is_native(&text) {
+        return Ok(Format::CsvNative);
+    }
+    if csv::looks_delimited(&text) {
+        return Ok(Format::CsvMapped);
+    }
+    let first = text
+        .lines()
+        .find(|l| !l.trim().is_empty())
+        .unwrap_or("")
+        .trim();
+    let shown: String = first.chars().take(60).collect();
+    fail(format!(
+        "this looks like plain text without columns of numbers (it starts '{shown}'); {ACCEPTED}"
+    ))
+}
+
+/// Import options as text for provenance records.
+fn options_text(opts: &ImportOptions) -> String {
+    serde_json::to_string(opts).unwrap_or_default()
 }
 
 /// Load one file. Errors name the file and the place in it.
 pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
-    let _ = (bytes, opts);
-    Err(Error::unsupported("loading is not built yet").in_file(file))
+    let format = detect(bytes, file)?;
+    let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
+    let mut warnings = Vec::new();
+    let mut sets = match format {
+        Format::Uff58Ascii | Format::Uff58Binary => {
+            let (sets, w) = uff58::read(bytes, file, &component)?;
+            warnings.extend(w);
+            sets
+        }
+        Format::CsvNative => {
+            let mut sets = csv::read_native(bytes, file)?;
+            if let Some(c) = &opts.component {
+                for s in &mut sets {
+                    s.set_component(c);
+                }
+            }
+            sets
+        }
+        Format::CsvMapped => {
+            let Some(map) = &opts.column_map else {
+                let text = csv::decode_text(bytes);
+                let head: Vec<String> = text
+                    .lines()
+                    .filter(|l| !l.trim().is_empty())
+                    .take(3)
+                    .map(|l| format!("'{}'", l.trim().chars().take(80).collect::<String>()))
+                    .collect();
+                return Err(Error::usage(format!(
+                    "this is delimited text but not mortise's own CSV layout, so it needs a column map: \
+the frequency column, and for each FRF its output DOF, input DOF and value columns (real/imaginary, \
+magnitude/phase or one value), the value unit and the output and input quantities. \
+On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag N --phase N | --value N) \
+--unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json. The file starts: {}",
+                    head.join(" | ")
+                ))
+                .in_file(file));
+            };
+            vec![csv::read_mapped(bytes, file, map, &component)?]
+        }
+        Format::Bundle => {
+            let b = bundle::read(bytes, file)?;
+            let withheld = b.inputs.iter().filter(|i| i.sets.is_none()).count();
+            if withheld > 0 {
+                warnings.push(format!(
+                    "{withheld} of {} inputs' raw FRFs were withheld by the sender; only their names and SHA-256 are in the bundle",
+                    b.inputs.len()
+                ));
+            }
+            let sets = b.all_sets();
+            if let Some(c) = &opts.component {
+                let mut sets = sets;
+                for s in &mut sets {
+                    s.set_component(c);
+                }
+                sets
+            } else {
+                sets
+            }
+        }
+    };
+    let prov = Provenance {
+        file: base_name(file),
+        sha256: sha256_hex(bytes),
+        format: format.name().to_string(),
+        options: options_text(opts),
+    };
+    for (n, s) in sets.iter_mut().enumerate() {
+        s.validate().map_err(|e| {
+            e.field(format!("set {} ('{}')", n + 1, s.name))
+                .in_file(file)
+        })?;
+        s.provenance.push(prov.clone());
+        for w in &s.warnings {
+            if !warnings.contains(w) {
+                warnings.push(w.clone());
+            }
+        }
+    }
+    if sets.is_empty() {
+        warnings.push("the file holds no FRF sets".to_string());
+    }
+    Ok(Loaded {
+        format,
+        sets,
+        warnings,
+    })
 }
 
 /// An export format.
@@ -106,6 +323,49 @@ pub enum ExportFormat {
 
 /// Write sets in a format.
 pub fn save(sets: &[FrfSet], fmt: ExportFormat) -> Result<Vec<u8>> {
-    let _ = (sets, fmt);
-    Err(Error::unsupported("saving is not built yet"))
+    match fmt {
+        ExportFormat::Uff => uff58::write(sets, false),
+        ExportFormat::UffBinary => uff58::write(sets, true),
+        ExportFormat::Csv => csv::write_native(sets),
+        ExportFormat::Bundle => {
+            let mut b = bundle::Bundle::new("");
+            b.results = sets.to_vec();
+            bundle::write(&b)
+        }
+    }
+}
+
+impl ExportFormat {
+    pub fn parse(s: &str) -> Result<ExportFormat> {
+        Ok(match s.trim().to_ascii_lowercase().as_str() {
+            "uff" | "uff58" | "unv" => ExportFormat::Uff,
+            "uff-binary" | "uff58b" => ExportFormat::UffBinary,
+            "csv" => ExportFormat::Csv,
+            "bundle" | "json" => ExportFormat::Bundle,
+            _ => {
+                return Err(Error::usage(format!(
+                    "unknown output format '{s}'; expected uff, uff-binary, csv or bundle"
+                )))
+            }
+        })
+    }
+    /// From a file name's extension: .uff/.unv, .csv, .json; binary UFF needs `--to`.
+    pub fn from_extension(name: &str) -> Option<ExportFormat> {
+        let base = base_name(name).to_ascii_lowercase();
+        let ext = base.rsplit_once('.').map(|(_, e)| e)?;
+        Some(match ext {
+            "uff" | "unv" => ExportFormat::Uff,
+            "csv" => ExportFormat::Csv,
+            "json" => ExportFormat::Bundle,
+            _ => return None,
+        })
+    }
+    pub fn name(self) -> &'static str {
+        match self {
+            ExportFormat::Uff => "uff",
+            ExportFormat::UffBinary => "uff-binary",
+            ExportFormat::Csv => "csv",
+            ExportFormat::Bundle => "bundle",
+        }
+    }
 }

@@ -17,12 +17,19 @@ pub fn python() -> PathBuf {
 /// (a cross-check that cannot run is a failed test, never a skipped one).
 pub fn run_py(script: &str, args: &[&str]) -> String {
     let py = python();
-    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/py").join(script);
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/py")
+        .join(script);
     let out = Command::new(&py)
         .arg(&path)
         .args(args)
         .output()
-        .unwrap_or_else(|e| panic!("cannot start {}: {e}; run ./build.sh test, which makes the venv", py.display()));
+        .unwrap_or_else(|e| {
+            panic!(
+                "cannot start {}: {e}; run ./build.sh test, which makes the venv",
+                py.display()
+            )
+        });
     assert!(
         out.status.success(),
         "{} {} failed:\n{}",
@@ -35,7 +42,9 @@ pub fn run_py(script: &str, args: &[&str]) -> String {
 
 /// A fresh scratch directory under target/.
 pub fn scratch(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/test-scratch").join(name);
+    let d = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("target/test-scratch")
+        .join(name);
     let _ = std::fs::remove_dir_all(&d);
     std::fs::create_dir_all(&d).unwrap();
     d

@@ -1,0 +1,766 @@
+//! LM-FBS coupling and decoupling (see the module docs of [`super`] for the
+//! form, the sign of B, the kind of Γ and the result DOF order).
+//!
+//! B is Boolean, so Y B_fᵀ is a signed selection of interface columns and
+//! B_u Y a signed selection of interface rows; the block-diagonal Y is never
+//! formed. Per line the work is: the m×m interface matrix, its singular values
+//! (condition number), an LU solve (or a truncated-SVD pseudo-inverse) for
+//! X = (B_u Y B_fᵀ + Γ)⁻¹ B_u Y, and the rank-m update Y − (Y B_fᵀ) X.
+
+use super::kernel;
+use super::{
+    require_motion_per_force, require_same_grid, Assembled, CouplingOptions, Joint, JointKind,
+};
+use crate::error::{Error, Result};
+use crate::frf::{labels, Dof, FrfKind, FrfSet};
+use crate::units::Quantity;
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+use std::borrow::Cow;
+
+/// Threads used by [`couple`] and [`decouple`]: the available parallelism in
+/// native builds, 1 in wasm32.
+pub fn default_threads() -> usize {
+    #[cfg(target_arch = "wasm32")]
+    {
+        1
+    }
+    #[cfg(not(target_arch = "wasm32"))]
+    {
+        std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1)
+    }
+}
+
+/// LM-FBS coupling of components at joints.
+///
+/// Every component is a motion-per-force FRF set (receptance, mobility or
+/// accelerance; outputs may differ from inputs) on one grid; each joint DOF
+/// must be both an output and an input of exactly one component, and no two
+/// components may share a DOF label (give each its own component name). The
+/// result is in the first component's kind, with the outputs of all
+/// components (in order) and their inputs.
+pub fn couple(
+    components: &[FrfSet],
+    joints: &[Joint],
+    opts: &CouplingOptions,
+) -> Result<Assembled> {
+    couple_with_threads(components, joints, opts, default_threads())
+}
+
+/// [`couple`] with an explicit number of worker threads (1 = serial; wasm32
+/// builds are always serial). Results do not depend on the thread count.
+pub fn couple_with_threads(
+    components: &[FrfSet],
+    joints: &[Joint],
+    opts: &CouplingOptions,
+    threads: usize,
+) -> Result<Assembled> {
+    if components.is_empty() {
+        return Err(Error::usage("coupling needs at least one component"));
+    }
+    let names: Vec<&str> = components.iter().map(|c| c.name.as_str()).collect();
+    let name = format!("coupled({})", names.join(" + "));
+    let signs = vec![1.0; components.len()];
+    let result_parts: Vec<usize> = (0..components.len()).collect();
+    solve(
+        components,
+        &signs,
+        joints,
+        1.0,
+        opts,
+        threads,
+        &result_parts,
+        &name,
+        "coupling",
+    )
+}
+
+/// Remove `removed` from `assembly` (LM-FBS with the removed part entered negatively).
+///
+/// Y_d = diag(Y_assembly, −Y_removed) with compatibility at the joints (each
+/// joint names one DOF of the assembly and one of the removed part); the
+/// joints' flexibilities enter as −Γ, so a flexible joint listed here is
+/// removed together with the part (use rigid joints to remove the part
+/// only). Returned: the rows and columns of the assembly's DOFs, in the
+/// assembly's kind. The DOFs of the remaining component, interface included,
+/// are meaningful; assembly DOFs that lie inside the removed part are not.
+/// Noise in the assembly or a missing interface DOF (rotations!) spoils the
+/// result; check the condition numbers.
+pub fn decouple(
+    assembly: &FrfSet,
+    removed: &FrfSet,
+    joints: &[Joint],
+    opts: &CouplingOptions,
+) -> Result<Assembled> {
+    decouple_with_threads(assembly, removed, joints, opts, default_threads())
+}
+
+/// [`decouple`] with an explicit number of worker threads.
+pub fn decouple_with_threads(
+    assembly: &FrfSet,
+    removed: &FrfSet,
+    joints: &[Joint],
+    opts: &CouplingOptions,
+    threads: usize,
+) -> Result<Assembled> {
+    let name = format!("{} without {}", assembly.name, removed.name);
+    let sets = [assembly.clone(), removed.clone()];
+    let mut a = solve(
+        &sets,
+        &[1.0, -1.0],
+        joints,
+        -1.0,
+        opts,
+        threads,
+        &[0],
+        &name,
+        "decoupling",
+    )?;
+    a.warnings.push(format!(
+        "decoupled '{}' from '{}': only the DOFs of the remaining component are meaningful; rows and columns of assembly DOFs inside the removed part are not",
+        removed.name, assembly.name
+    ));
+    a.set.warnings = a.warnings.clone();
+    Ok(a)
+}
+
+/// One end of a joint inside a component.
+#[derive(Debug, Clone, Copy)]
+struct End {
+    part: usize,
+    /// local output index
+    o: usize,
+    /// local input index
+    i: usize,
+    /// B_u entry (±1, times the component's sign)
+    su: f64,
+    /// B_f entry (±1)
+    sf: f64,
+}
+
+struct Prepared<'a> {
+    sets: Vec<Cow<'a, FrfSet>>,
+    ends: Vec<[End; 2]>,
+    /// n_lines × m flexibilities Γ (times the joint sign), row-major.
+    gamma: Vec<Complex64>,
+    tsvd: Option<f64>,
+    /// parts whose rows and columns form the result
+    res: Vec<usize>,
+    /// offsets of each result part's outputs (rows) and inputs (columns)
+    row_off: Vec<usize>,
+    col_off: Vec<usize>,
+    n_rows: usize,
+    n_cols: usize,
+    /// sign of each part (−1 for a removed part)
+    psign: Vec<f64>,
+}
+
+#[allow(clippy::too_many_arguments)]
+fn solve(
+    components: &[FrfSet],
+    signs: &[f64],
+    joints: &[Joint],
+    gamma_sign: f64,
+    opts: &CouplingOptions,
+    threads: usize,
+    result_parts: &[usize],
+    name: &str,
+    what: &str,
+) -> Result<Assembled> {
+    let first = &components[0];
+    for c in components {
+        require_motion_per_force(c, what)?;
+        require_same_grid(first, c, what)?;
+        let n = c.n_lines() * c.n_out() * c.n_in();
+        if c.data.len() != n || c.present.len() != c.n_out() * c.n_in() {
+            return Err(Error::numeric(format!(
+                "'{}': {} values for {} lines × {} outputs × {} inputs; the set is malformed",
+                c.name,
+                c.data.len(),
+                c.n_lines(),
+                c.n_out(),
+                c.n_in()
+            )));
+        }
+    }
+    if joints.is_empty() {
+        return Err(Error::usage(format!(
+            "{what} needs at least one joint between interface DOFs"
+        )));
+    }
+    if let Some(t) = opts.tsvd_rel_threshold {
+        if !(t.is_finite() && (0.0..1.0).contains(&t)) {
+            return Err(Error::usage(format!(
+                "the truncated-SVD threshold must be a fraction in [0, 1) of the largest singular value; found {t}"
+            )));
+        }
+    }
+    check_distinct_dofs(components)?;
+
+    // Bring every component to the first one's motion order.
+    let oq = first.out_qty;
+    let sets: Vec<Cow<FrfSet>> = components
+        .iter()
+        .map(|c| {
+            if c.out_qty == oq {
+                Ok(Cow::Borrowed(c))
+            } else {
+                c.to_quantities(oq, Quantity::Force).map(Cow::Owned)
+            }
+        })
+        .collect::<Result<_>>()?;
+    let order = oq.motion_order().unwrap_or(0);
+
+    // Joints → B entries.
+    let mut ends: Vec<[End; 2]> = Vec::with_capacity(joints.len());
+    for (n, j) in joints.iter().enumerate() {
+        let tag = format!("joint {} ({})", n + 1, j.label());
+        if j.a.same_place(&j.b) {
+            return Err(Error::dof(format!("{tag}: both ends are the same DOF")));
+        }
+        if let Some(p) = joints[..n].iter().position(|o| {
+            (o.a.same_place(&j.a) && o.b.same_place(&j.b))
+                || (o.a.same_place(&j.b) && o.b.same_place(&j.a))
+        }) {
+            return Err(Error::dof(format!(
+                "{tag} joins the same DOFs as joint {}; each pair may be joined once",
+                p + 1
+            )));
+        }
+        let ea = find_end(&sets, &j.a, 1.0, &tag)?;
+        let eb = find_end(&sets, &j.b, -1.0, &tag)?;
+        ends.push([ea, eb]);
+    }
+    let m = ends.len();
+
+    // Γ per line and joint.
+    let nl = first.n_lines();
+    let mut gamma = vec![Complex64::new(0.0, 0.0); nl * m];
+    for (r, j) in joints.iter().enumerate() {
+        let tag = format!("joint {} ({})", r + 1, j.label());
+        let measured = match &j.kind {
+            JointKind::Measured { stiffness } => Some(measured_stiffness(stiffness, first, &tag)?),
+            other => {
+                check_params(other, &tag)?;
+                None
+            }
+        };
+        if j.kind == JointKind::Rigid {
+            continue;
+        }
+        for k in 0..nl {
+            let w = first.omega(k);
+            let kk = match (&j.kind, &measured) {
+                (_, Some(v)) => v[k],
+                (JointKind::Spring { k }, _) => Complex64::new(*k, 0.0),
+                (JointKind::Damper { c }, _) => Complex64::new(0.0, w * c),
+                (JointKind::Hysteretic { k, eta }, _) => Complex64::new(*k, k * eta),
+                (JointKind::SpringDamper { k, c, eta }, _) => Complex64::new(*k, k * eta + w * c),
+                _ => Complex64::new(f64::INFINITY, 0.0),
+            };
+            if kk.norm() == 0.0 || !kk.re.is_finite() || !kk.im.is_finite() {
+                return Err(Error::numeric(format!(
+                    "{tag}: the dynamic stiffness at {} Hz is {kk}; a flexible joint needs a finite, non-zero stiffness on every line (its flexibility is 1/K)",
+                    first.freqs[k]
+                )));
+            }
+            let iw = Complex64::new(0.0, w);
+            gamma[k * m + r] = gamma_sign * iw.powi(order) / kk;
+        }
+    }
+
+    // Result layout.
+    let mut row_off = vec![0; components.len()];
+    let mut col_off = vec![0; components.len()];
+    let (mut n_rows, mut n_cols) = (0, 0);
+    for &p in result_parts {
+        row_off[p] = n_rows;
+        col_off[p] = n_cols;
+        n_rows += sets[p].n_out();
+        n_cols += sets[p].n_in();
+    }
+    let prep = Prepared {
+        sets,
+        ends,
+        gamma,
+        tsvd: opts.tsvd_rel_threshold,
+        res: result_parts.to_vec(),
+        row_off,
+        col_off,
+        n_rows,
+        n_cols,
+        psign: signs.to_vec(),
+    };
+    check_needed_entries(&prep, what)?;
+
+    let mut outputs: Vec<Dof> = Vec::with_capacity(n_rows);
+    let mut inputs: Vec<Dof> = Vec::with_capacity(n_cols);
+    for &p in result_parts {
+        outputs.extend(prep.sets[p].outputs.iter().cloned());
+        inputs.extend(prep.sets[p].inputs.iter().cloned());
+    }
+    let mut present = vec![true; n_rows * n_cols];
+    for &p in result_parts {
+        let s = &prep.sets[p];
+        for i in 0..s.n_out() {
+            for j in 0..s.n_in() {
+                present[(prep.row_off[p] + i) * n_cols + prep.col_off[p] + j] = s.is_present(i, j);
+            }
+        }
+    }
+    let mut data = vec![Complex64::new(0.0, 0.0); nl * n_rows * n_cols];
+    let (condition, truncated) = run_lines(&prep, &mut data, threads.max(1))?;
+    let nan = Complex64::new(f64::NAN, f64::NAN);
+    if present.iter().any(|p| !p) {
+        for line in data.chunks_mut(n_rows * n_cols) {
+            for (v, p) in line.iter_mut().zip(&present) {
+                if !p {
+                    *v = nan;
+                }
+            }
+        }
+    }
+
+    let mut warnings: Vec<String> = Vec::new();
+    for c in components {
+        for w in &c.warnings {
+            if !warnings.contains(w) {
+                warnings.push(w.clone());
+            }
+        }
+    }
+    let cut: Vec<usize> = (0..nl).filter(|&k| truncated[k] > 0).collect();
+    if !cut.is_empty() {
+        warnings.push(format!(
+            "{what}: the truncated SVD dropped singular values on {} of {} lines ({}); the interface forces there are regularised estimates",
+            cut.len(),
+            nl,
+            lines_text(&cut, &first.freqs)
+        ));
+    }
+    let bad: Vec<usize> = (0..nl)
+        .filter(|&k| condition[k].is_nan() || condition[k] >= 1e10)
+        .collect();
+    if !bad.is_empty() {
+        warnings.push(format!(
+            "{what}: the interface matrix is ill-conditioned (2-norm condition number above 1e10) on {} of {} lines ({}); results there are sensitive to noise",
+            bad.len(),
+            nl,
+            lines_text(&bad, &first.freqs)
+        ));
+    }
+    let set = FrfSet {
+        name: name.to_string(),
+        freqs: first.freqs.clone(),
+        outputs,
+        inputs,
+        out_qty: oq,
+        in_qty: Quantity::Force,
+        data,
+        present,
+        coherence: None,
+        provenance: components
+            .iter()
+            .flat_map(|c| c.provenance.iter().cloned())
+            .collect(),
+        warnings: warnings.clone(),
+        signal: None,
+    };
+    Ok(Assembled {
+        set,
+        condition,
+        truncated,
+        warnings,
+    })
+}
+
+fn lines_text(lines: &[usize], freqs: &[f64]) -> String {
+    let mut s: Vec<String> = lines
+        .iter()
+        .take(6)
+        .map(|&k| format!("{} Hz", freqs[k]))
+        .collect();
+    if lines.len() > 6 {
+        s.push("...".into());
+    }
+    s.join(", ")
+}
+
+fn check_distinct_dofs(components: &[FrfSet]) -> Result<()> {
+    for (a, ca) in components.iter().enumerate() {
+        for cb in &components[a + 1..] {
+            for d in ca.outputs.iter().chain(&ca.inputs) {
+                if cb.outputs.iter().chain(&cb.inputs).any(|e| e.same_place(d)) {
+                    return Err(Error::dof(format!(
+                        "DOF {} appears in both '{}' and '{}'; give each component its own component name (FrfSet::set_component) so joints can tell them apart",
+                        d.unsigned(),
+                        ca.name,
+                        cb.name
+                    )));
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Locate a joint DOF: its component, output and input; `b` is +1 for end a
+/// and −1 for end b.
+fn find_end(sets: &[Cow<FrfSet>], d: &Dof, b: f64, tag: &str) -> Result<End> {
+    for (p, s) in sets.iter().enumerate() {
+        let o = s.outputs.iter().position(|x| x.same_place(d));
+        let i = s.inputs.iter().position(|x| x.same_place(d));
+        match (o, i) {
+            (Some(o), Some(i)) => {
+                return Ok(End {
+                    part: p,
+                    o,
+                    i,
+                    su: b * d.sign() * s.outputs[o].sign(),
+                    sf: b * d.sign() * s.inputs[i].sign(),
+                })
+            }
+            (Some(_), None) => {
+                return Err(Error::dof(format!(
+                    "{tag}: DOF {d} is an output of '{}' but not one of its inputs; every interface DOF must be both an output and an input (driving point) of its component",
+                    s.name
+                )))
+            }
+            (None, Some(_)) => {
+                return Err(Error::dof(format!(
+                    "{tag}: DOF {d} is an input of '{}' but not one of its outputs; every interface DOF must be both an output and an input (driving point) of its component",
+                    s.name
+                )))
+            }
+            (None, None) => {}
+        }
+    }
+    let have: Vec<String> = sets
+        .iter()
+        .map(|s| format!("'{}' has {}", s.name, labels(&s.outputs)))
+        .collect();
+    Err(Error::dof(format!(
+        "{tag}: no component has DOF {d}; {}",
+        have.join("; ")
+    )))
+}
+
+fn check_params(kind: &JointKind, tag: &str) -> Result<()> {
+    // (name, value, zero allowed)
+    let vals: Vec<(&str, f64, bool)> = match kind {
+        JointKind::Rigid | JointKind::Measured { .. } => return Ok(()),
+        JointKind::Spring { k } => vec![("k", *k, false)],
+        JointKind::Damper { c } => vec![("c", *c, false)],
+        JointKind::Hysteretic { k, eta } => vec![("k", *k, false), ("eta", *eta, true)],
+        JointKind::SpringDamper { k, c, eta } => {
+            vec![("k", *k, true), ("c", *c, true), ("eta", *eta, true)]
+        }
+    };
+    for (n, v, zero_ok) in vals {
+        let ok = v.is_finite() && (v > 0.0 || (zero_ok && v == 0.0));
+        if !ok {
+            return Err(Error::usage(format!(
+                "{tag}: {n} = {v}; expected a finite {} value",
+                if zero_ok { "non-negative" } else { "positive" }
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// The measured joint's K(ω) per line, in N/m (N·m/rad).
+fn measured_stiffness(s: &FrfSet, grid: &FrfSet, tag: &str) -> Result<Vec<Complex64>> {
+    if s.n_out() != 1 || s.n_in() != 1 {
+        return Err(Error::dof(format!(
+            "{tag}: a measured joint needs a 1×1 set; '{}' has {} outputs and {} inputs",
+            s.name,
+            s.n_out(),
+            s.n_in()
+        )));
+    }
+    let ok_kind = matches!(
+        s.kind(),
+        FrfKind::DynamicStiffness | FrfKind::Impedance | FrfKind::ApparentMass
+    ) && s.signal.is_none();
+    if !ok_kind {
+        return Err(Error::quantity(format!(
+            "{tag}: a measured joint needs a dynamic stiffness (force per displacement; impedance and apparent mass are converted), but '{}' is {} ({} per {})",
+            s.name,
+            s.kind(),
+            s.out_qty,
+            s.in_qty
+        )));
+    }
+    require_same_grid(grid, s, &format!("{tag}: a measured joint"))?;
+    s.require_complete(&format!("{tag}: a measured joint"))?;
+    let k = s.to_quantities(Quantity::Force, Quantity::Displacement)?;
+    Ok(k.data)
+}
+
+/// Error naming every entry the formula reads that is missing.
+fn check_needed_entries(p: &Prepared, what: &str) -> Result<()> {
+    let n = p.sets.len();
+    let mut need: Vec<Vec<bool>> = p
+        .sets
+        .iter()
+        .map(|s| vec![false; s.n_out() * s.n_in()])
+        .collect();
+    let in_res: Vec<bool> = (0..n).map(|q| p.res.contains(&q)).collect();
+    for r in &p.ends {
+        for e in r {
+            let s = &p.sets[e.part];
+            let ni = s.n_in();
+            for row in &p.ends {
+                for g in row {
+                    if g.part == e.part {
+                        need[e.part][e.o * ni + g.i] = true;
+                    }
+                }
+            }
+            if in_res[e.part] {
+                for j in 0..ni {
+                    need[e.part][e.o * ni + j] = true;
+                }
+                for i in 0..s.n_out() {
+                    need[e.part][i * ni + e.i] = true;
+                }
+            }
+        }
+    }
+    for (q, s) in p.sets.iter().enumerate() {
+        let ni = s.n_in();
+        let missing: Vec<String> = (0..s.n_out() * ni)
+            .filter(|&x| need[q][x] && !s.present[x])
+            .map(|x| format!("{} / {}", s.outputs[x / ni], s.inputs[x % ni]))
+            .collect();
+        if !missing.is_empty() {
+            let shown: Vec<String> = missing.iter().take(8).cloned().collect();
+            return Err(Error::missing(format!(
+                "{what} needs the interface rows and columns of '{}', but {} of these entries are missing: {}{}",
+                s.name,
+                missing.len(),
+                shown.join(", "),
+                if missing.len() > 8 { ", ..." } else { "" }
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Per-thread scratch space.
+struct Work {
+    by: DMatrix<Complex64>,
+    p: Vec<Complex64>,
+    xr: Vec<f64>,
+    xi: Vec<f64>,
+    tr: Vec<f64>,
+    ti: Vec<f64>,
+}
+
+impl Work {
+    fn new(p: &Prepared) -> Work {
+        let m = p.ends.len();
+        Work {
+            by: DMatrix::zeros(m, p.n_cols),
+            p: vec![Complex64::new(0.0, 0.0); p.n_rows * m],
+            xr: vec![0.0; m * p.n_cols],
+            xi: vec![0.0; m * p.n_cols],
+            tr: vec![0.0; p.n_cols],
+            ti: vec![0.0; p.n_cols],
+        }
+    }
+}
+
+type LineResults = (Vec<f64>, Vec<usize>);
+
+fn run_chunk(p: &Prepared, k0: usize, out: &mut [Complex64]) -> Result<LineResults> {
+    let size = p.n_rows * p.n_cols;
+    let n = out.len().checked_div(size).unwrap_or(0);
+    let mut w = Work::new(p);
+    let mut cond = Vec::with_capacity(n);
+    let mut trunc = Vec::with_capacity(n);
+    for (l, dst) in out.chunks_mut(size.max(1)).enumerate() {
+        let (c, t) = one_line(p, k0 + l, &mut w, dst)?;
+        cond.push(c);
+        trunc.push(t);
+    }
+    Ok((cond, trunc))
+}
+
+#[cfg(not(target_arch = "wasm32"))]
+fn run_lines(p: &Prepared, data: &mut [Complex64], threads: usize) -> Result<LineResults> {
+    let nl = p.sets[0].n_lines();
+    let size = p.n_rows * p.n_cols;
+    if threads <= 1 || nl < 2 || size == 0 {
+        return run_chunk(p, 0, data);
+    }
+    let per = nl.div_ceil(threads.min(nl));
+    let results: Vec<Result<LineResults>> = std::thread::scope(|sc| {
+        let handles: Vec<_> = data
+            .chunks_mut(per * size)
+            .enumerate()
+            .map(|(c, chunk)| sc.spawn(move || run_chunk(p, c * per, chunk)))
+            .collect();
+        handles
+            .into_iter()
+            .map(|h| {
+                h.join()
+                    .unwrap_or_else(|_| Err(Error::numeric("a coupling worker thread panicked")))
+            })
+            .collect()
+    });
+    let mut cond = Vec::with_capacity(nl);
+    let mut trunc = Vec::with_capacity(nl);
+    for r in results {
+        let (c, t) = r?;
+        cond.extend(c);
+        trunc.extend(t);
+    }
+    Ok((cond, trunc))
+}
+
+#[cfg(target_arch = "wasm32")]
+fn run_lines(p: &Prepared, data: &mut [Complex64], _threads: usize) -> Result<LineResults> {
+    run_chunk(p, 0, data)
+}
+
+/// One frequency line: fills `dst` (n_rows × n_cols) and returns the
+/// condition number and the number of dropped singular values.
+fn one_line(p: &Prepared, k: usize, w: &mut Work, dst: &mut [Complex64]) -> Result<(f64, usize)> {
+    let m = p.ends.len();
+    let nc = p.n_cols;
+    let lines: Vec<&[Complex64]> = p.sets.iter().map(|s| s.line(k)).collect();
+    let y = |q: usize, i: usize, j: usize| lines[q][i * p.sets[q].n_in() + j] * p.psign[q];
+
+    // Interface matrix Z = B_u Y B_fᵀ + Γ.
+    let mut z = DMatrix::<Complex64>::zeros(m, m);
+    for (r, er) in p.ends.iter().enumerate() {
+        for (s, es) in p.ends.iter().enumerate() {
+            let mut v = Complex64::new(0.0, 0.0);
+            for e in er {
+                for g in es {
+                    if e.part == g.part {
+                        v += y(e.part, e.o, g.i) * (e.su * g.sf);
+                    }
+                }
+            }
+            z[(r, s)] = v;
+        }
+        z[(r, r)] += p.gamma[k * m + r];
+    }
+    let freq = p.sets[0].freqs[k];
+    if z.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
+        return Err(Error::numeric(format!(
+            "the interface matrix at {freq} Hz has non-finite values; check the components' data there"
+        )));
+    }
+
+    // B_u Y restricted to the result columns.
+    w.by.fill(Complex64::new(0.0, 0.0));
+    for (r, er) in p.ends.iter().enumerate() {
+        for e in er {
+            if !p.res.contains(&e.part) {
+                continue;
+            }
+            let s = &p.sets[e.part];
+            let off = p.col_off[e.part];
+            let row = &lines[e.part][e.o * s.n_in()..(e.o + 1) * s.n_in()];
+            let f = e.su * p.psign[e.part];
+            for (j, v) in row.iter().enumerate() {
+                w.by[(r, off + j)] += v * f;
+            }
+        }
+    }
+    // Y B_fᵀ restricted to the result rows (row-major n_rows × m).
+    w.p.fill(Complex64::new(0.0, 0.0));
+    for (s, es) in p.ends.iter().enumerate() {
+        for g in es {
+            if !p.res.contains(&g.part) {
+                continue;
+            }
+            let set = &p.sets[g.part];
+            let ni = set.n_in();
+            let off = p.row_off[g.part];
+            let f = g.sf * p.psign[g.part];
+            for i in 0..set.n_out() {
+                w.p[(off + i) * m + s] += lines[g.part][i * ni + g.i] * f;
+            }
+        }
+    }
+
+    let sv = z.singular_values();
+    let smax = sv.iter().cloned().fold(0.0, f64::max);
+    let smin = sv.iter().cloned().fold(f64::INFINITY, f64::min);
+    let cond = if smin > 0.0 {
+        smax / smin
+    } else {
+        f64::INFINITY
+    };
+
+    let mut dropped = 0;
+    match p.tsvd {
+        Some(t) => {
+            let thr = t * smax;
+            let svd = nalgebra::SVD::new(z, true, true);
+            let (Some(u), Some(vt)) = (&svd.u, &svd.v_t) else {
+                return Err(Error::numeric(format!(
+                    "the SVD of the interface matrix at {freq} Hz did not converge"
+                )));
+            };
+            let mut tmp = u.adjoint() * &w.by;
+            for (r, s) in svd.singular_values.iter().enumerate() {
+                let f = if *s >= thr && *s > 0.0 {
+                    1.0 / s
+                } else {
+                    dropped += 1;
+                    0.0
+                };
+                for j in 0..nc {
+                    tmp[(r, j)] *= f;
+                }
+            }
+            w.by = vt.adjoint() * tmp;
+        }
+        None => {
+            let lu = z.lu();
+            if !lu.solve_mut(&mut w.by) || cond.is_nan() || cond >= 1e16 {
+                return Err(Error::numeric(format!(
+                    "the interface matrix B Y Bᵀ + Γ is singular at {freq} Hz (condition number {cond:.3e}); check the joints (a DOF joined twice, a rigid joint at a point that cannot move) or use the truncated-SVD option"
+                )));
+            }
+        }
+    }
+    for s in 0..m {
+        for j in 0..nc {
+            let v = w.by[(s, j)];
+            w.xr[s * nc + j] = v.re;
+            w.xi[s * nc + j] = v.im;
+        }
+    }
+
+    // Block-diagonal Y, then subtract (Y B_fᵀ) X.
+    dst.fill(Complex64::new(0.0, 0.0));
+    for &q in &p.res {
+        let s = &p.sets[q];
+        let ni = s.n_in();
+        let (ro, co) = (p.row_off[q], p.col_off[q]);
+        let sg = p.psign[q];
+        for i in 0..s.n_out() {
+            let src = &lines[q][i * ni..(i + 1) * ni];
+            let d = &mut dst[(ro + i) * nc + co..(ro + i) * nc + co + ni];
+            if sg == 1.0 {
+                d.copy_from_slice(src);
+            } else {
+                for (a, b) in d.iter_mut().zip(src) {
+                    *a = b * sg;
+                }
+            }
+        }
+    }
+    kernel::sub_product(
+        dst, p.n_rows, nc, &w.p, m, &w.xr, &w.xi, &mut w.tr, &mut w.ti,
+    );
+    Ok((cond, dropped))
+}

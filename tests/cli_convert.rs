@@ -1,0 +1,196 @@
+//! `mortise convert`: format changes, kind changes, partial failures.
+
+mod common;
+
+use mortise::cli::run_cli;
+use mortise::io::{self, ImportOptions};
+use std::path::Path;
+
+fn argv(v: &[&str]) -> Vec<String> {
+    v.iter().map(|s| s.to_string()).collect()
+}
+
+fn p(d: &Path, f: &str) -> String {
+    d.join(f).to_str().unwrap().to_string()
+}
+
+/// Receptance of an invented isolated bracket in mm/N, real and imaginary columns.
+const BRACKET: &str = "f;re;im\n10;0,002;-0,001\n20;0,004;-0,003\n";
+
+fn bracket_opts() -> Vec<&'static str> {
+    vec![
+        "--skip",
+        "1",
+        "--decimal",
+        "comma",
+        "--re",
+        "2",
+        "--im",
+        "3",
+        "--out-dof",
+        "bracket:1+Z",
+        "--in-dof",
+        "bracket:1+Z",
+        "--unit",
+        "mm/N",
+        "--out-qty",
+        "displacement",
+        "--in-qty",
+        "force",
+    ]
+}
+
+#[test]
+fn supplier_csv_to_mobility_in_our_layout() {
+    let d = common::scratch("cli_convert_kind");
+    std::fs::write(d.join("bracket.csv"), BRACKET).unwrap();
+    let (i, o) = (p(&d, "bracket.csv"), p(&d, "bracket_y.csv"));
+    let mut a = vec![
+        "convert",
+        i.as_str(),
+        "-o",
+        o.as_str(),
+        "--kind",
+        "mobility",
+        "--units",
+        "si",
+    ];
+    a.extend(bracket_opts());
+    let out = run_cli(&argv(&a)).unwrap();
+    assert!(out.contains("read ") && out.contains("wrote "), "{out}");
+    let bytes = std::fs::read(&o).unwrap();
+    let l = io::load(&bytes, "bracket_y.csv", &ImportOptions::default()).unwrap();
+    let s = &l.sets[0];
+    assert_eq!(s.kind(), mortise::FrfKind::Mobility);
+    // Y = iωH with e^{+iωt} (crate convention): H = (2 - 1i)e-6 m/N at 10 Hz
+    let w = 2.0 * std::f64::consts::PI * 10.0;
+    let h = num_complex::Complex64::new(2e-6, -1e-6);
+    let want = num_complex::Complex64::new(0.0, w) * h;
+    assert!(
+        (s.get(0, 0, 0) - want).norm() < 1e-15 * want.norm() * 4.0,
+        "{}",
+        s.get(0, 0, 0)
+    );
+    // provenance chain: the supplier file, then our CSV
+    assert_eq!(s.provenance.len(), 2);
+    assert_eq!(s.provenance[0].file, "bracket.csv");
+    assert_eq!(s.provenance[0].format, "csv-mapped");
+    assert!(s.provenance[0].options.contains("mm/N"));
+}
+
+#[test]
+fn bundle_by_extension_and_back() {
+    let d = common::scratch("cli_convert_bundle");
+    std::fs::write(d.join("bracket.csv"), BRACKET).unwrap();
+    let (i, b, c) = (p(&d, "bracket.csv"), p(&d, "b.json"), p(&d, "c.csv"));
+    let mut a = vec!["convert", i.as_str(), "-o", b.as_str()];
+    a.extend(bracket_opts());
+    run_cli(&argv(&a)).unwrap();
+    let out = run_cli(&argv(&["convert", b.as_str(), "-o", c.as_str()])).unwrap();
+    assert!(
+        out.contains("read ") && out.contains(": bundle, 1 set(s)"),
+        "{out}"
+    );
+    let s = &io::load(
+        &std::fs::read(&c).unwrap(),
+        "c.csv",
+        &ImportOptions::default(),
+    )
+    .unwrap()
+    .sets[0];
+    assert_eq!(s.get(1, 0, 0).re, 0.004 * 1e-3);
+    // no extension we know, no --to
+    let e = run_cli(&argv(&["convert", c.as_str(), "-o", "x.dat"])).unwrap_err();
+    assert!(
+        e.message
+            .contains("give --to uff, uff-binary, csv or bundle"),
+        "{}",
+        e.message
+    );
+    let e = run_cli(&argv(&[
+        "convert",
+        c.as_str(),
+        "-o",
+        "x.csv",
+        "--units",
+        "mm",
+    ]))
+    .unwrap_err();
+    assert!(e.message.contains("SI values only"), "{}", e.message);
+}
+
+#[test]
+fn bad_input_among_good_still_writes_the_good_ones() {
+    let d = common::scratch("cli_convert_mixed");
+    std::fs::write(d.join("a.csv"), BRACKET).unwrap();
+    std::fs::write(d.join("letter.txt"), "Hello,\nthe data follow next week.\n").unwrap();
+    std::fs::write(d.join("b.csv"), BRACKET.replace("bracket", "x")).unwrap();
+    let (a, l, b, o) = (
+        p(&d, "a.csv"),
+        p(&d, "letter.txt"),
+        p(&d, "b.csv"),
+        p(&d, "out.csv"),
+    );
+    let mut args = vec![
+        "convert",
+        a.as_str(),
+        l.as_str(),
+        b.as_str(),
+        "-o",
+        o.as_str(),
+    ];
+    args.extend(bracket_opts());
+    let e = run_cli(&argv(&args)).unwrap_err();
+    assert!(
+        e.message.contains("letter.txt: this looks like plain text"),
+        "{}",
+        e.message
+    );
+    assert!(
+        e.message
+            .contains("1 problem(s); the sets that could be read were written"),
+        "{}",
+        e.message
+    );
+    let l = io::load(
+        &std::fs::read(&o).unwrap(),
+        "out.csv",
+        &ImportOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(l.sets.len(), 2);
+    // the same map applied to both files; each set named after its file
+    assert_eq!(l.sets[0].name, "a");
+    assert_eq!(l.sets[1].name, "b");
+    // nothing readable: nothing written
+    let o2 = p(&d, "none.csv");
+    let e = run_cli(&argv(&["convert", l_path(&d).as_str(), "-o", o2.as_str()])).unwrap_err();
+    assert!(e.message.contains("nothing to write"), "{}", e.message);
+    assert!(!Path::new(&o2).exists());
+}
+
+fn l_path(d: &Path) -> String {
+    p(d, "letter.txt")
+}
+
+#[test]
+fn kind_that_does_not_fit_is_reported() {
+    let d = common::scratch("cli_convert_badkind");
+    std::fs::write(d.join("a.csv"), BRACKET).unwrap();
+    let (a, o) = (p(&d, "a.csv"), p(&d, "o.csv"));
+    let mut args = vec![
+        "convert",
+        a.as_str(),
+        "-o",
+        o.as_str(),
+        "--kind",
+        "sideways",
+    ];
+    args.extend(bracket_opts());
+    let e = run_cli(&argv(&args)).unwrap_err();
+    assert!(
+        e.message.contains("unknown FRF kind 'sideways'"),
+        "{}",
+        e.message
+    );
+}

@@ -1,0 +1,184 @@
+//! `mortise inspect`: what the user sees, through the same function the binary calls.
+
+mod common;
+
+use mortise::cli::run_cli;
+use std::path::Path;
+
+fn argv(v: &[&str]) -> Vec<String> {
+    v.iter().map(|s| s.to_string()).collect()
+}
+
+fn p(d: &Path, f: &str) -> String {
+    d.join(f).to_str().unwrap().to_string()
+}
+
+/// A supplier file: hammer test on the invented timber-frame wall, accelerance in g/N.
+const WALL: &str = "Wall anchor A1, hammer test\nfreq,re,im,coh\n20,0.01,-0.02,0.99\n25,0.011,-0.019,0.98\n30,0.012,-0.018,0.97\n";
+
+fn wall_opts() -> Vec<&'static str> {
+    vec![
+        "--skip",
+        "2",
+        "--freq-col",
+        "freq",
+        "--re",
+        "re",
+        "--im",
+        "im",
+        "--coh",
+        "coh",
+        "--out-dof",
+        "wall:A1+Z",
+        "--in-dof",
+        "wall:A1+Z",
+        "--unit",
+        "g/N",
+        "--out-qty",
+        "acceleration",
+        "--in-qty",
+        "force",
+    ]
+}
+
+#[test]
+fn inspect_supplier_file_text_and_json() {
+    let d = common::scratch("cli_inspect_text");
+    std::fs::write(d.join("wall.csv"), WALL).unwrap();
+    let f = p(&d, "wall.csv");
+    let mut a = vec!["inspect", f.as_str()];
+    a.extend(wall_opts());
+    let out = run_cli(&argv(&a)).unwrap();
+    // SHA-256 from Python's hashlib, not from mortise
+    let sha = common::run_py("sha256_file.py", &[&f]);
+    assert!(out.contains(&format!("sha256: {}", sha.trim())), "{out}");
+    assert!(out.contains("format: csv-mapped"), "{out}");
+    assert!(out.contains("1 FRF(s) in 1 output(s) × 1 input(s), accelerance (acceleration per force), SI unit (m/s^2)/N"), "{out}");
+    assert!(out.contains("outputs: wall:A1+Z"), "{out}");
+    assert!(
+        out.contains("lines:   3, 20 Hz to 30 Hz, even, Δf = 5 Hz"),
+        "{out}"
+    );
+    assert!(out.contains("coherence: supplied"), "{out}");
+
+    a.push("--json");
+    let j: serde_json::Value = serde_json::from_str(&run_cli(&argv(&a)).unwrap()).unwrap();
+    let file = &j["files"][0];
+    assert_eq!(file["ok"], true);
+    assert_eq!(file["sha256"], sha.trim());
+    let s = &file["sets"][0];
+    assert_eq!(s["frf_count"], 1);
+    assert_eq!(s["kind"], "accelerance");
+    assert_eq!(s["out_quantity"], "acceleration");
+    assert_eq!(s["inputs"][0], "wall:A1+Z");
+    assert_eq!(s["lines"], 3);
+    assert_eq!(s["first_hz"], 20.0);
+    assert_eq!(s["last_hz"], 30.0);
+    assert_eq!(s["spacing"]["spacing"], "even");
+    assert_eq!(s["spacing"]["step"], 5.0);
+}
+
+#[test]
+fn a_bad_file_among_good_ones_is_reported_and_the_rest_inspected() {
+    let d = common::scratch("cli_inspect_mixed");
+    std::fs::write(d.join("wall.csv"), WALL).unwrap();
+    std::fs::write(d.join("photo.png"), b"\x89PNG\r\n\x1a\n....").unwrap();
+    std::fs::write(d.join("wall2.csv"), WALL.replace("30,", "40,")).unwrap();
+    let (a, b, c) = (p(&d, "wall.csv"), p(&d, "photo.png"), p(&d, "wall2.csv"));
+    let mut args = vec!["inspect", a.as_str(), b.as_str(), c.as_str()];
+    args.extend(wall_opts());
+    let e = run_cli(&argv(&args)).unwrap_err();
+    assert_eq!(e.kind, mortise::ErrorKind::Unsupported);
+    let m = e.message;
+    assert!(m.contains("photo.png: this looks like a PNG image"), "{m}");
+    assert!(m.contains("lines:   3, 20 Hz to 30 Hz"), "{m}");
+    assert!(m.contains("lines:   3, 20 Hz to 40 Hz, uneven"), "{m}");
+    assert!(m.contains("1 of 3 file(s) could not be read"), "{m}");
+    // a missing file too
+    let gone = p(&d, "gone.csv");
+    let e = run_cli(&argv(&["inspect", gone.as_str()])).unwrap_err();
+    assert_eq!(e.kind, mortise::ErrorKind::Io);
+    assert!(
+        e.message.contains("gone.csv: cannot read the file"),
+        "{}",
+        e.message
+    );
+    // JSON mode lists the failure with its fields
+    args.push("--json");
+    let e = run_cli(&argv(&args)).unwrap_err();
+    let j: serde_json::Value =
+        serde_json::from_str(e.message.split("1 of 3").next().unwrap()).unwrap();
+    assert_eq!(j["files"][1]["ok"], false);
+    assert_eq!(j["files"][1]["error"]["kind"], "unsupported");
+    assert_eq!(j["files"][2]["ok"], true);
+}
+
+#[test]
+fn map_file_and_option_errors() {
+    let d = common::scratch("cli_inspect_map");
+    std::fs::write(
+        d.join("iso.txt"),
+        "# isolator, axial\n10 1200 -5\n20 1250 -7\n50 1300 -9\n",
+    )
+    .unwrap();
+    std::fs::write(
+        d.join("map.json"),
+        r#"{"entries":[{"out_dof":"iso:1+Z","in_dof":"iso:1+Z","values":{"form":"mag-phase","mag":2,"phase":3}}],
+            "unit":"N/mm","out_qty":"force","in_qty":"displacement","phase_unit":"deg"}"#,
+    )
+    .unwrap();
+    let (f, m) = (p(&d, "iso.txt"), p(&d, "map.json"));
+    let out = run_cli(&argv(&["inspect", f.as_str(), "--map", m.as_str()])).unwrap();
+    assert!(
+        out.contains("dynamic-stiffness (force per displacement), SI unit N/m"),
+        "{out}"
+    );
+    assert!(out.contains("uneven, Δf from 10 to 30 Hz"), "{out}");
+    // both --map and column options
+    let e = run_cli(&argv(&[
+        "inspect",
+        f.as_str(),
+        "--map",
+        m.as_str(),
+        "--re",
+        "2",
+    ]))
+    .unwrap_err();
+    assert!(
+        e.message.contains("either --map or the column options"),
+        "{}",
+        e.message
+    );
+    // counts that do not match
+    let e = run_cli(&argv(&[
+        "inspect",
+        f.as_str(),
+        "--out-dof",
+        "1+Z",
+        "--in-dof",
+        "1+Z",
+        "--re",
+        "2",
+        "--out-qty",
+        "force",
+        "--in-qty",
+        "displacement",
+    ]))
+    .unwrap_err();
+    assert_eq!(e.kind, mortise::ErrorKind::Usage);
+    assert!(
+        e.message.contains("give 1 --re and 1 --im"),
+        "{}",
+        e.message
+    );
+    // unknown option
+    let e = run_cli(&argv(&["inspect", f.as_str(), "--colour", "red"])).unwrap_err();
+    assert!(
+        e.message.contains("unknown option --colour"),
+        "{}",
+        e.message
+    );
+    // help lists the column-map options
+    let h = run_cli(&argv(&["inspect", "--help"])).unwrap();
+    assert!(h.contains("--mag-db-ref R"), "{h}");
+}
