@@ -175,33 +175,18 @@ fn dash(i: usize) -> (u32, u32) {
     DASHES[i % DASHES.len()]
 }
 
-/// dB reference of a plotted quantity.
-///
-/// Spectra (signals) use the ISO 1683 reference values (from memory of
-/// ISO 1683:2015 table 1: displacement 1 pm, velocity 1 nm/s, acceleration
-/// 1 µm/s², force 1 µN, sound pressure in air 20 µPa). FRFs are plotted in dB
-/// re 1 SI unit of the ratio (common practice; ISO 1683 defines no FRF
-/// references). Local table until `crate::levels` provides the references.
-pub fn db_reference(q: Quantity, rotational: bool) -> (f64, &'static str) {
-    match (q, rotational) {
-        (Quantity::Displacement, false) => (1e-12, "1 pm"),
-        (Quantity::Velocity, false) => (1e-9, "1 nm/s"),
-        (Quantity::Acceleration, false) => (1e-6, "1 µm/s²"),
-        (Quantity::Force, false) => (1e-6, "1 µN"),
-        (Quantity::Pressure, _) => (2e-5, "20 µPa"),
-        (q, r) => (1.0, unit_one(q, r)),
-    }
-}
-
-fn unit_one(q: Quantity, rotational: bool) -> &'static str {
-    match (q, rotational) {
-        (Quantity::Displacement, true) => "1 rad",
-        (Quantity::Velocity, true) => "1 rad/s",
-        (Quantity::Acceleration, true) => "1 rad/s²",
-        (Quantity::Force, true) => "1 N·m",
-        (Quantity::VolumeVelocity, _) => "1 m³/s",
-        _ => "1",
-    }
+/// dB reference of a plotted spectrum quantity: the ISO 1683 values from
+/// [`crate::levels::reference`] (an SI unit, marked as such, where the
+/// standard gives none). FRFs are plotted in dB re 1 SI unit of the ratio
+/// (common practice; ISO 1683 defines no FRF references).
+pub fn db_reference(q: Quantity, rotational: bool) -> (f64, String) {
+    let r = crate::levels::reference(q, rotational);
+    let text = if r.standardised {
+        r.text
+    } else {
+        format!("{}, no standard reference", r.text)
+    };
+    (r.value, text)
 }
 
 /// A resolved curve.
@@ -437,7 +422,8 @@ fn text<DB: DrawingBackend>(
     pos: Pos,
     rotate: bool,
 ) -> Result<()> {
-    let mut st = TextStyle::from((FONT, size).into_font())
+    // The SVG backend writes font-size = size / 1.24; give it the pixel size we mean.
+    let mut st = TextStyle::from((FONT, size * 1.24).into_font())
         .color(&INK)
         .pos(pos);
     if rotate {
@@ -1074,24 +1060,22 @@ fn bars_from_set(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Plo
         }
         None => (1.0, format!("dB re 1 {}", ratio_unit(set, r.out, 0))),
     };
-    // Peak amplitudes carry twice the mean square of RMS ones.
-    let ms = |v: Complex64| match set.signal {
-        Some(SignalKind::Peak) => v.norm_sqr() / 2.0,
-        Some(SignalKind::Autopower) | Some(SignalKind::Psd) => v.re.abs(),
-        _ => v.norm_sqr(),
-    };
     let mut values = Vec::new();
     for j in 0..set.n_in() {
-        let mut e = 0.0;
-        for k in 0..set.n_lines() {
-            let f = set.freqs[k];
-            if f >= lo && f <= hi {
-                let v = set.get(k, r.out, j);
-                if v.re.is_finite() && v.im.is_finite() {
-                    e += ms(v);
-                }
-            }
-        }
+        let col = set.column(r.out, j);
+        // Mean square per line: spectra as crate::levels defines it (peak |X|²/2,
+        // RMS |X|², autopower, PSD × line width); FRFs |H|².
+        let ms: Vec<f64> = match set.signal {
+            Some(kind) => crate::levels::mean_squares(&col, &set.freqs, kind)?,
+            None => col.iter().map(|v| v.norm_sqr()).collect(),
+        };
+        let e: f64 = set
+            .freqs
+            .iter()
+            .zip(&ms)
+            .filter(|(f, m)| **f >= lo && **f <= hi && m.is_finite())
+            .map(|(_, m)| *m)
+            .sum();
         values.push(10.0 * (e / (reference * reference)).log10());
     }
     let mut out = spec.clone();

@@ -135,52 +135,6 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
     }
 }
 
-/// The first rows of a delimited text file split into cells, for a
-/// column-mapping preview. The delimiter is the one of tab, semicolon and
-/// comma that splits the first non-comment lines into the most columns.
-#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
-pub struct TablePreview {
-    pub delimiter: String,
-    /// (1-based line number, cells).
-    pub rows: Vec<(usize, Vec<String>)>,
-    pub lines_total: usize,
-}
-
-pub fn table_preview(bytes: &[u8], max_rows: usize) -> TablePreview {
-    let text = String::from_utf8_lossy(bytes);
-    let lines: Vec<&str> = text.lines().collect();
-    let sample: Vec<&str> = lines
-        .iter()
-        .filter(|l| !l.trim().is_empty())
-        .take(20)
-        .copied()
-        .collect();
-    let mut best = (',', 0usize);
-    for d in ['\t', ';', ','] {
-        let cols = sample.iter().map(|l| l.split(d).count()).max().unwrap_or(0);
-        if cols > best.1 {
-            best = (d, cols);
-        }
-    }
-    let d = best.0;
-    let rows = lines
-        .iter()
-        .enumerate()
-        .filter(|(_, l)| !l.trim().is_empty())
-        .take(max_rows)
-        .map(|(i, l)| (i + 1, l.split(d).map(|c| c.trim().to_string()).collect()))
-        .collect();
-    TablePreview {
-        delimiter: match d {
-            '\t' => "tab".into(),
-            ';' => ";".into(),
-            _ => ",".into(),
-        },
-        rows,
-        lines_total: lines.len(),
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -222,14 +176,5 @@ mod tests {
         assert_eq!((m.frfs, m.missing), (3, 1));
         assert_eq!(m.outputs[1], "wall:A2+Z");
         assert_eq!(m.out_unit, "m/s");
-    }
-
-    #[test]
-    fn table_preview_picks_delimiter() {
-        let t = table_preview(b"f;re;im\n10;1,5;2\n\n20;3;4\n", 10);
-        assert_eq!(t.delimiter, ";");
-        assert_eq!(t.rows.len(), 3);
-        assert_eq!(t.rows[2].0, 4);
-        assert_eq!(t.rows[1].1, vec!["10", "1,5", "2"]);
     }
 }

@@ -138,9 +138,11 @@ pub fn clear_workspace() {
     WS.with(|ws| *ws.borrow_mut() = Workspace::default());
 }
 
-/// Preview of a delimited text file read with the given options: its first
-/// rows split into cells, an options template, and, when the options read it,
-/// the file's summary and a plot of its first curve; otherwise the error.
+/// Preview of a supplier CSV read with the given import options: the core's
+/// preview (first rows split into cells, the values the column map gives
+/// them, or why it gives none), the default column map as a template, and,
+/// when the options read the whole file, its summary and a plot of its first
+/// curve; otherwise the error.
 #[wasm_bindgen]
 pub fn csv_preview(
     name: &str,
@@ -148,12 +150,19 @@ pub fn csv_preview(
     options_json: &str,
     rows: usize,
 ) -> std::result::Result<String, JsValue> {
-    let table = summary::table_preview(bytes, rows.clamp(1, 200));
+    let (opts, _) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
+    let map = opts.column_map.clone().unwrap_or_default();
     let template = serde_json::to_value(io::csv::ColumnMap::default())
         .map_err(|e| js_err(Error::io(e.to_string())))?;
-    let mut out = serde_json::json!({ "table": table, "template": template });
-    let attempt = options(options_json).and_then(|(opts, _)| io::load(bytes, name, &opts));
-    match attempt {
+    let mut out = serde_json::json!({ "template": template });
+    match io::csv::preview(bytes, name, &map, rows.clamp(1, 200)) {
+        Ok(p) => out["preview"] = serde_json::to_value(&p).unwrap_or_default(),
+        Err(e) => out["error"] = serde_json::to_value(&e).unwrap_or_default(),
+    }
+    if opts.column_map.is_none() {
+        return to_json(&out);
+    }
+    match io::load(bytes, name, &opts) {
         Ok(loaded) => {
             let sum = summary::file_summary(name, bytes, &loaded);
             out["summary"] = serde_json::to_value(&sum).unwrap_or_default();
@@ -253,7 +262,7 @@ pub fn put_results(json: &str) -> std::result::Result<String, JsValue> {
 
 /// Write the sets with the given ids (JSON array) as "uff", "uff-binary" or "csv".
 #[wasm_bindgen]
-pub fn export(ids_json: &str, format: &str) -> std::result::Result<Vec<u8>, JsValue> {
+pub fn export_sets(ids_json: &str, format: &str) -> std::result::Result<Vec<u8>, JsValue> {
     let fmt = match format {
         "uff" => ExportFormat::Uff,
         "uff-binary" => ExportFormat::UffBinary,

@@ -26,14 +26,25 @@ fn merge_pyuff_roving_hammer_files() {
     assert_eq!(m.n_in(), 3);
     assert_eq!(m.provenance.len(), 3);
     // the duplicate 11+Z / 2+Z: ref2.uff kept, ref3.uff named
-    let dup = remarks.iter().find(|r| r.contains("kept the first")).unwrap();
+    let dup = remarks
+        .iter()
+        .find(|r| r.contains("kept the first"))
+        .unwrap();
     assert!(
-        dup.contains("wall:11+Z / wall:2+Z") && dup.contains("ref2.uff") && dup.contains("ref3.uff"),
+        dup.contains("wall:11+Z / wall:2+Z")
+            && dup.contains("ref2.uff")
+            && dup.contains("ref3.uff"),
         "{dup}"
     );
     // the gap 14+Z / 3+Z
-    let gap = remarks.iter().find(|r| r.contains("remain missing")).unwrap();
-    assert!(gap.contains("1 of 12") && gap.contains("wall:14+Z / wall:3+Z"), "{gap}");
+    let gap = remarks
+        .iter()
+        .find(|r| r.contains("remain missing"))
+        .unwrap();
+    assert!(
+        gap.contains("1 of 12") && gap.contains("wall:14+Z / wall:3+Z"),
+        "{gap}"
+    );
     let o14 = m.out_index(&Dof::new("wall", "14", Direction::Z)).unwrap();
     let i3 = m.in_index(&Dof::new("wall", "3", Direction::Z)).unwrap();
     assert!(!m.is_present(o14, i3));
@@ -41,15 +52,38 @@ fn merge_pyuff_roving_hammer_files() {
     let mut seen = std::collections::HashSet::new();
     let mut n = 0;
     for d in exp.as_array().unwrap() {
-        let o = Dof::new("wall", &d["rsp_node"].as_i64().unwrap().to_string(), Direction::Z);
-        let r = Dof::new("wall", &d["ref_node"].as_i64().unwrap().to_string(), Direction::Z);
+        let o = Dof::new(
+            "wall",
+            &d["rsp_node"].as_i64().unwrap().to_string(),
+            Direction::Z,
+        );
+        let r = Dof::new(
+            "wall",
+            &d["ref_node"].as_i64().unwrap().to_string(),
+            Direction::Z,
+        );
         if !seen.insert((o.clone(), r.clone())) {
             continue;
         }
         let (i, j) = (m.out_index(&o).unwrap(), m.in_index(&r).unwrap());
-        let re: Vec<f64> = d["re"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
-        let im: Vec<f64> = d["im"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
-        let x: Vec<f64> = d["x"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
+        let re: Vec<f64> = d["re"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
+        let im: Vec<f64> = d["im"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
+        let x: Vec<f64> = d["x"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
         assert_eq!(m.freqs, x);
         for k in 0..x.len() {
             let want = Complex64::new(re[k], im[k]);

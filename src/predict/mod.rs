@@ -77,7 +77,8 @@ pub fn require_spectrum(s: &FrfSet) -> Result<SignalKind> {
             if !s.is_present(i, 0) {
                 continue;
             }
-            if v.re.is_nan() || v.re < 0.0 || v.im.abs() > 1e-9 * v.re.abs().max(f64::MIN_POSITIVE) {
+            if v.re.is_nan() || v.re < 0.0 || v.im.abs() > 1e-9 * v.re.abs().max(f64::MIN_POSITIVE)
+            {
                 let k = n / s.n_out().max(1);
                 return Err(Error::numeric(format!(
                     "'{}' is a {} but holds {} at {} / {} Hz; expected a real, non-negative mean square",
