@@ -234,6 +234,8 @@ impl<'a> Flags<'a> {
         }
     }
     fn add(&mut self, k: usize, value: f64, entry: &str) {
+        // JSON has no infinity: a singular matrix is reported as the largest finite number
+        let value = value.clamp(-f64::MAX, f64::MAX);
         let worse = |a: f64, b: f64| if self.larger_worse { a > b } else { a < b };
         match &mut self.hit[k] {
             Some((w, e)) => {
@@ -883,7 +885,7 @@ pub fn audit_linearity(low: &FrfSet, high: &FrfSet, opts: &AuditOptions) -> Resu
         status: if bad == 0 { Status::Pass } else { Status::Flag },
         summary: if bad == 0 {
             format!(
-                "'{}' vs '{}': {compared} entr(ies), band levels agree within {:.2} dB (limit {} dB, common practice)",
+                "'{}' vs '{}': {compared} entr(ies), levels agree within {:.2} dB at every line (limit {} dB, common practice)",
                 low.name, high.name, worst, opts.linearity_tol_db
             )
         } else {

@@ -342,6 +342,22 @@ pub fn common_grid(sets: &[&FrfSet], choice: &GridChoice) -> Result<Vec<f64>> {
     }
 }
 
+/// Bring several sets onto one grid chosen by `choice`: sets already on it
+/// are returned unchanged, the others resampled with `interp`.
+pub fn to_common_grid(
+    sets: &[FrfSet],
+    choice: &GridChoice,
+    interp: Interp,
+) -> Result<(Vec<f64>, Vec<FrfSet>)> {
+    let refs: Vec<&FrfSet> = sets.iter().collect();
+    let g = common_grid(&refs, choice)?;
+    let out = sets
+        .iter()
+        .map(|s| resample(s, &g, interp))
+        .collect::<Result<Vec<_>>>()?;
+    Ok((g, out))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -434,6 +450,24 @@ mod tests {
         let c = set("c", vec![200.0, 300.0], |_| Complex64::new(1.0, 0.0));
         let e = overlap(&[&a.freqs, &c.freqs], &["a", "c"]).unwrap_err();
         assert!(e.message.contains("do not overlap"), "{}", e.message);
+    }
+
+    #[test]
+    fn to_common_grid_leaves_sets_on_it_alone() {
+        let a = set("a", vec![0.0, 1.0, 2.0, 3.0], |f| Complex64::new(f, 0.0));
+        let b = set("b", vec![0.5, 2.5], |f| Complex64::new(2.0 * f, 1.0));
+        let (g, v) =
+            to_common_grid(&[a.clone(), b], &GridChoice::Finest, Interp::LinearReIm).unwrap();
+        assert_eq!(g, vec![1.0, 2.0]);
+        assert_eq!(v[0].get(0, 0, 0), Complex64::new(1.0, 0.0));
+        assert_eq!(v[1].get(1, 0, 0), Complex64::new(4.0, 1.0));
+        let (_, v) = to_common_grid(
+            &[a.clone(), a.clone()],
+            &GridChoice::Finest,
+            Interp::LinearReIm,
+        )
+        .unwrap();
+        assert_eq!(v[0], a);
     }
 
     #[test]

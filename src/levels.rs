@@ -334,12 +334,32 @@ pub fn line_mean_squares(set: &FrfSet, out: usize) -> Result<Vec<f64>> {
     mean_squares(&vals, &set.freqs, kind)
 }
 
-/// Mean-square value of each line of values of the given kind.
+/// Mean-square value of each line of values of the given kind; a PSD is
+/// multiplied by the width of each line from the grid ([`line_widths`]).
 pub fn mean_squares(
     values: &[num_complex::Complex64],
     freqs: &[f64],
     kind: SignalKind,
 ) -> Result<Vec<f64>> {
+    mean_squares_df(values, freqs, kind, None)
+}
+
+/// As [`mean_squares`], with the PSD line width `df` (Hz) given explicitly
+/// (for example an analyser's resolution) instead of taken from the grid.
+/// `df` is ignored for line spectra (peak, RMS, autopower).
+pub fn mean_squares_df(
+    values: &[num_complex::Complex64],
+    freqs: &[f64],
+    kind: SignalKind,
+    df: Option<f64>,
+) -> Result<Vec<f64>> {
+    if let Some(d) = df {
+        if !(d.is_finite() && d > 0.0) {
+            return Err(Error::usage(format!(
+                "PSD line width {d} Hz: expected a positive number"
+            )));
+        }
+    }
     if values.len() != freqs.len() {
         return Err(Error::numeric(format!(
             "{} values for {} frequency lines",
@@ -352,7 +372,10 @@ pub fn mean_squares(
         SignalKind::Rms => values.iter().map(|v| v.norm_sqr()).collect(),
         SignalKind::Autopower => values.iter().map(|v| v.re).collect(),
         SignalKind::Psd => {
-            let w = line_widths(freqs)?;
+            let w = match df {
+                Some(d) => vec![d; values.len()],
+                None => line_widths(freqs)?,
+            };
             values.iter().zip(w).map(|(v, d)| v.re * d).collect()
         }
     })

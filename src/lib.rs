@@ -39,6 +39,7 @@ pub mod assemble;
 pub mod audit;
 #[cfg(not(target_arch = "wasm32"))]
 pub mod cli;
+pub mod demo;
 pub mod error;
 pub mod frf;
 pub mod grid;

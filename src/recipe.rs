@@ -43,6 +43,8 @@ use crate::assemble::{self, CouplingOptions, Joint, JointKind};
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet};
 use crate::io::{self, ImportOptions};
+use crate::levels::{self, Weighting};
+use crate::predict::{self, paths::PathGroup, paths::RankOptions};
 use serde::{Deserialize, Serialize};
 use serde_json::{json, Value};
 use std::collections::BTreeMap;
@@ -300,7 +302,10 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
         variants
             .push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas }));
     }
+    let steps = report["steps"].as_array().cloned().unwrap_or_default();
+    report["headline"] = json!(headline(&steps, &variants));
     report["variants"] = Value::Array(variants);
+    report["caution"] = json!(predict::CAUTION);
     Ok(RunResult { outputs, report })
 }
 
@@ -572,6 +577,125 @@ fn joints(
     Ok(out)
 }
 
+/// Levels of every row of a spectrum: A-weighted and unweighted overall,
+/// A-weighted 1/3-octave bands (IEC 61260-1, IEC 61672-1).
+fn spectrum_report(y: &FrfSet) -> Value {
+    let mut rows = Vec::new();
+    for i in 0..y.n_out() {
+        let a = levels::spectrum_levels(y, i, 3, Weighting::A);
+        let z = levels::spectrum_levels(y, i, 3, Weighting::Z);
+        match (a, z) {
+            (Ok(a), Ok(z)) => rows.push(json!({
+                "dof": a.dof,
+                "unit": a.unit,
+                "overall_dba": a.overall_db,
+                "overall_db": z.overall_db,
+                "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
+                "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
+            })),
+            (Err(e), _) | (_, Err(e)) => rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() })),
+        }
+    }
+    Value::Array(rows)
+}
+
+/// Short lines for the terminal: levels at each target of `paths` and
+/// `respond` steps, dominant bands, strongest paths, variant changes.
+fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
+    let mut out = Vec::new();
+    for st in steps {
+        if st["op"] != "paths" && st["op"] != "respond" {
+            continue;
+        }
+        let Some(rows) = st["levels"].as_array() else {
+            continue;
+        };
+        for row in rows {
+            let (Some(dba), Some(unit)) = (row["overall_dba"].as_f64(), row["unit"].as_str())
+            else {
+                continue;
+            };
+            let mut bands: Vec<(String, f64)> = row["bands"]
+                .as_array()
+                .into_iter()
+                .flatten()
+                .zip(row["band_dba"].as_array().into_iter().flatten())
+                .filter_map(|(b, v)| Some((b.as_str()?.to_string(), v.as_f64()?)))
+                .collect();
+            bands.sort_by(|a, b| b.1.total_cmp(&a.1));
+            let top: Vec<String> = bands
+                .iter()
+                .take(3)
+                .map(|(b, v)| format!("{b} Hz {v:.1} dB(A)"))
+                .collect();
+            out.push(format!(
+                "{} at {}: {:.1} dB(A), {:.1} dB unweighted ({}); loudest 1/3-octave bands: {}",
+                st["id"].as_str().unwrap_or("?"),
+                row["dof"].as_str().unwrap_or("?"),
+                dba,
+                row["overall_db"].as_f64().unwrap_or(f64::NAN),
+                unit,
+                top.join(", ")
+            ));
+        }
+        if let Some(targets) = st["ranking"]["targets"].as_array() {
+            for t in targets {
+                let paths: Vec<String> = t["overall"]
+                    .as_array()
+                    .into_iter()
+                    .flatten()
+                    .map(|p| {
+                        format!(
+                            "{} {:.1} dB(A) ({:.0} %)",
+                            p["path"].as_str().unwrap_or("?"),
+                            p["level_db"].as_f64().unwrap_or(f64::NAN),
+                            100.0 * p["share"].as_f64().unwrap_or(f64::NAN)
+                        )
+                    })
+                    .collect();
+                out.push(format!(
+                    "  paths ranked at {}: {}",
+                    t["target"].as_str().unwrap_or("?"),
+                    paths.join("; ")
+                ));
+            }
+        }
+    }
+    for v in variants {
+        let name = v["name"].as_str().unwrap_or("?");
+        let base: Vec<&Value> = steps
+            .iter()
+            .filter(|s| s["op"] == "paths" || s["op"] == "respond")
+            .collect();
+        let Some(vsteps) = v["steps"].as_array() else {
+            continue;
+        };
+        for b in base {
+            let Some(vs) = vsteps.iter().find(|s| s["id"] == b["id"]) else {
+                continue;
+            };
+            for (rb, rv) in b["levels"]
+                .as_array()
+                .into_iter()
+                .flatten()
+                .zip(vs["levels"].as_array().into_iter().flatten())
+            {
+                if let (Some(x), Some(y)) = (rb["overall_dba"].as_f64(), rv["overall_dba"].as_f64())
+                {
+                    out.push(format!(
+                        "variant '{name}': {} at {}: {:.1} dB(A) ({:+.1} dB)",
+                        b["id"].as_str().unwrap_or("?"),
+                        rb["dof"].as_str().unwrap_or("?"),
+                        y,
+                        y - x
+                    ));
+                }
+            }
+        }
+    }
+    out
+}
+
 fn coupling_report(step: &Step, a: &assemble::Assembled) -> Value {
     let worst = a.condition.iter().cloned().fold(f64::NAN, f64::max);
     let worst_at = a
@@ -648,6 +772,43 @@ fn run_step(
             let mut s = s.clone();
             scale_in_place(&mut s, f);
             Ok(plain(s))
+        }
+        "respond" => {
+            let h = need(values, &step.frf, "frf")?;
+            let f = need(values, &step.excitation, "excitation")?;
+            let y = predict::operational_response(h, f)?;
+            let r = json!({ "id": step.id, "op": step.op, "warnings": y.warnings, "levels": spectrum_report(&y) });
+            Ok((y, r))
+        }
+        "paths" => {
+            let h = need(values, &step.frf, "frf")?;
+            let f = need(values, &step.excitation, "excitation")?;
+            let mut groups = Vec::new();
+            if let Some(g) = &step.groups {
+                for (name, dofs) in g {
+                    groups.push(PathGroup {
+                        name: name.clone(),
+                        inputs: parse_dofs(dofs, &format!("groups.{name}"))?,
+                    });
+                }
+            }
+            let c = predict::paths::path_contributions(h, f, &groups)?;
+            let ranking = predict::paths::rank_paths(
+                &c,
+                &RankOptions {
+                    band_fraction: Some(3),
+                    weighting: Weighting::A,
+                },
+            )?;
+            let total = c.total.clone();
+            let r = json!({
+                "id": step.id,
+                "op": step.op,
+                "warnings": c.warnings,
+                "levels": spectrum_report(&total),
+                "ranking": ranking,
+            });
+            Ok((total, r))
         }
         other => Err(Error::recipe(format!(
             "unknown op '{other}'; expected couple, decouple, cascade, sum, series, parallel, select, convert, invert, scale, respond or paths"

@@ -324,8 +324,11 @@ fn condition_numbers_match_numpy_and_flag_near_singular() {
         m.set(k, 1, 0, Complex64::new(1.0, 0.1));
         m.set(k, 1, 1, Complex64::new(1.0 + e, 0.1));
     }
+    m.set(110 - 50, 1, 1, Complex64::new(1.0, 0.1)); // exactly singular at 110 Hz
     let c = check_conditioning(&m, &AuditOptions::default());
     println!("{}", c.summary);
+    let back: CheckResult = serde_json::from_str(&serde_json::to_string(&c).unwrap()).unwrap();
+    assert_eq!(back.flagged[0].worst, f64::MAX);
     assert_eq!(c.status, Status::Flag);
     assert_eq!(c.flagged.len(), 1);
     assert_eq!(c.flagged[0].lines, 21);

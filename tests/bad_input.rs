@@ -325,3 +325,54 @@ fn uff_without_dataset_58() {
         "{e}"
     );
 }
+
+#[test]
+fn damaged_files_never_panic() {
+    // every prefix and many single-byte changes of valid files: an error or a
+    // result, never a panic
+    let d = mortise::Dof::new("c", "µ1", mortise::Direction::Z);
+    let mut s = mortise::FrfSet::zeros(
+        "c",
+        vec![1.0, 2.0, 3.0],
+        vec![d.clone()],
+        vec![d],
+        Quantity::Displacement,
+        Quantity::Force,
+    );
+    s.coherence = Some(vec![0.5, f64::NAN, 1.0]);
+    let own = io::save(std::slice::from_ref(&s), io::ExportFormat::Csv).unwrap();
+    let mut big = "{ \"format\":\"mortise-bundle\",\"pad\":\"".to_string(); // 35 bytes: the 4096th byte falls inside an é
+    big.push_str(&"é".repeat(3000)); // multi-byte text across the 4096-byte sniffing window
+    big.push('"');
+    let files: Vec<Vec<u8>> = vec![
+        own.clone(),
+        io::save(std::slice::from_ref(&s), io::ExportFormat::Bundle).unwrap(),
+        "Title\nf;re;im\n1;0,1;0,2\n2;0,3;0,4\n".as_bytes().to_vec(),
+        big.into_bytes(),
+    ];
+    let mut map = rec();
+    map.skip_rows = 2;
+    map.decimal_comma = true;
+    let with_map = ImportOptions {
+        component: None,
+        column_map: Some(map),
+    };
+    let mut x: u32 = 12345;
+    for f in &files {
+        for n in 0..=f.len() {
+            let _ = io::load(&f[..n], "cut", &ImportOptions::default());
+            let _ = io::load(&f[..n], "cut", &with_map);
+        }
+        for _ in 0..400 {
+            x ^= x << 13;
+            x ^= x >> 17;
+            x ^= x << 5;
+            let mut g = f.clone();
+            let at = x as usize % g.len();
+            g[at] = (x >> 8) as u8;
+            let _ = io::load(&g, "flip", &ImportOptions::default());
+            let _ = io::load(&g, "flip", &with_map);
+            let _ = io::csv::preview(&g, "flip", with_map.column_map.as_ref().unwrap(), 5);
+        }
+    }
+}

@@ -194,3 +194,124 @@ fn kind_that_does_not_fit_is_reported() {
         e.message
     );
 }
+
+#[test]
+fn grid_option_puts_sets_on_one_grid_without_extrapolating() {
+    let d = common::scratch("cli_convert_grid");
+    // a: 10, 20 Hz; b: 10, 15, 20, 25 Hz; common range 10–20 Hz
+    std::fs::write(d.join("a.csv"), BRACKET).unwrap();
+    std::fs::write(d.join("b.csv"), "f;re;im\n10;1;0\n15;2;0\n20;3;0\n25;4;0\n").unwrap();
+    let (a, b, o) = (p(&d, "a.csv"), p(&d, "b.csv"), p(&d, "o.csv"));
+    let mut args = vec![
+        "convert",
+        a.as_str(),
+        b.as_str(),
+        "-o",
+        o.as_str(),
+        "--grid",
+        "finest",
+    ];
+    args.extend(bracket_opts());
+    let out = run_cli(&argv(&args)).unwrap();
+    assert!(
+        out.contains("grid: 3 lines, 10 Hz to 20 Hz, linear in re/im"),
+        "{out}"
+    );
+    let l = io::load(
+        &std::fs::read(&o).unwrap(),
+        "o.csv",
+        &ImportOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(l.sets[0].freqs, vec![10.0, 15.0, 20.0]);
+    assert_eq!(l.sets[1].freqs, vec![10.0, 15.0, 20.0]);
+    // a at 15 Hz: halfway between (2 - 1i) and (4 - 3i) mm/N = (3 - 2i) mm/N
+    let v = l.sets[0].get(1, 0, 0);
+    assert!(
+        (v.re - 3e-6).abs() < 1e-20 && (v.im + 2e-6).abs() < 1e-20,
+        "{v}"
+    );
+    assert!(l.sets[0].warnings.iter().any(|w| w.contains("resampled")));
+    // b kept its own lines untouched
+    assert_eq!(l.sets[1].get(2, 0, 0).re, 3e-3);
+    // an even grid beyond a's range is refused, naming both ranges
+    let mut args = vec![
+        "convert",
+        a.as_str(),
+        b.as_str(),
+        "-o",
+        o.as_str(),
+        "--grid",
+        "5:25:5",
+    ];
+    args.extend(bracket_opts());
+    let e = run_cli(&argv(&args)).unwrap_err();
+    assert_eq!(e.kind, mortise::ErrorKind::Grid);
+    assert!(e.message.contains("5–25 Hz"), "{}", e.message);
+    assert!(e.message.contains("'a' 10–20 Hz"), "{}", e.message);
+    let e = run_cli(&argv(&[
+        "convert",
+        a.as_str(),
+        "-o",
+        o.as_str(),
+        "--grid",
+        "1:2",
+    ]))
+    .unwrap_err();
+    assert!(e.message.contains("START:STOP:STEP"), "{}", e.message);
+}
+
+#[test]
+fn resampling_matches_numpy_interp_and_unwrap() {
+    let d = common::scratch("cli_convert_resample");
+    let src = p(&d, "frf.csv");
+    let exp: serde_json::Value =
+        serde_json::from_str(&common::run_py("csv_resample.py", &[src.as_str()])).unwrap();
+    for (interp, key) in [("re-im", "linear"), ("log-mag-phase", "logmag")] {
+        let o = p(&d, &format!("{key}.csv"));
+        run_cli(&argv(&[
+            "convert",
+            src.as_str(),
+            "-o",
+            o.as_str(),
+            "--grid",
+            "12:380:0.5",
+            "--interp",
+            interp,
+            "--re",
+            "2",
+            "--im",
+            "3",
+            "--out-dof",
+            "w:1+Z",
+            "--in-dof",
+            "w:1+Z",
+            "--out-qty",
+            "displacement",
+            "--in-qty",
+            "force",
+        ]))
+        .unwrap();
+        let s = &io::load(
+            &std::fs::read(&o).unwrap(),
+            "o.csv",
+            &ImportOptions::default(),
+        )
+        .unwrap()
+        .sets[0];
+        let g = exp["grid"].as_array().unwrap();
+        assert_eq!(s.n_lines(), g.len());
+        for (k, gv) in g.iter().enumerate() {
+            assert!((s.freqs[k] - gv.as_f64().unwrap()).abs() < 1e-12);
+            let v = &exp[key][k];
+            let want = num_complex::Complex64::new(v[0].as_f64().unwrap(), v[1].as_f64().unwrap());
+            let got = s.get(k, 0, 0);
+            // numpy and mortise order the same few operations slightly differently
+            assert!(
+                (got - want).norm() <= 1e-12 * want.norm(),
+                "{key} at {} Hz: {got} vs {want}",
+                s.freqs[k]
+            );
+        }
+    }
+}

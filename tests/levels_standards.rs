@@ -200,6 +200,11 @@ fn psd_and_line_forms_agree() {
     }
     let ms = line_mean_squares(&s, 0).unwrap();
     assert!(ms.iter().all(|&m| (m - 6.0).abs() < 1e-12));
+    // an explicit line width overrides the grid's
+    let v = s.column(0, 0);
+    let m1 = mean_squares_df(&v, &freqs, SignalKind::Psd, Some(1.5)).unwrap();
+    assert!(m1.iter().all(|&m| (m - 4.5).abs() < 1e-12));
+    assert!(mean_squares_df(&v, &freqs, SignalKind::Psd, Some(0.0)).is_err());
     s.signal = Some(SignalKind::Peak);
     s.set(0, 0, 0, Complex64::new(0.0, 2.0));
     // peak amplitude 2 → mean square 2²/2 = 2

@@ -160,6 +160,7 @@ fn modal_superposition_equals_direct_inversion() {
         dofs: s.dofs.clone(),
         modes,
         residuals: vec![],
+        complex_modes: vec![],
     };
     let h = model.receptance(&freqs).unwrap();
     let href = r["h"].as_array().unwrap();

@@ -215,6 +215,7 @@ fn hysteretic_sdof_and_modal_form_agree() {
             shape: vec![1.0],
         }],
         residuals: vec![],
+        complex_modes: vec![],
     };
     let g = modal.receptance(&freqs).unwrap();
     for l in 0..3 {

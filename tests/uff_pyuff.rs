@@ -64,7 +64,7 @@ fn mortise_reads_files_written_by_pyuff() {
     // reference: pyuff 2.5.8 (PyPI)
     assert_eq!(exp["pyuff"], "2.5.8");
     let files = exp["files"].as_array().unwrap();
-    assert_eq!(files.len(), 9);
+    assert_eq!(files.len(), 10);
     let mut checked = 0;
     for f in files {
         let name = f["name"].as_str().unwrap();
@@ -84,6 +84,7 @@ fn mortise_reads_files_written_by_pyuff() {
             );
             assert_eq!(s.provenance[0].file, name);
             assert_eq!(s.name, "pyuff check");
+            assert!(s.freqs.len() > 1);
         }
         let dsets = f["datasets"].as_array().unwrap();
         // pyuff 2.5.8 writes the 58b byte count as points x 8 even for
@@ -108,6 +109,26 @@ fn mortise_reads_files_written_by_pyuff() {
                 ds["ref_node"].as_i64().unwrap(),
                 ds["ref_dir"].as_i64().unwrap(),
             );
+            if ft == 9 {
+                // PSD: a spectrum set, one dimensionless reference
+                let s = sets
+                    .iter()
+                    .find(|s| s.signal == Some(SignalKind::Psd))
+                    .expect("PSD set");
+                let i = s.out_index(&out).unwrap();
+                assert_eq!(s.inputs, vec![Dof::scalar("", "ref")]);
+                assert_eq!(s.out_qty, Quantity::Acceleration);
+                let re = floats(&ds["re"]);
+                // ISO 80000-3: 1 g = 9.80665 m/s^2, so 1 g^2/Hz = 9.80665^2 (m/s^2)^2/Hz
+                let fac = 9.80665f64 * 9.80665;
+                for (k, r) in re.iter().enumerate() {
+                    let got = s.get(k, i, 0);
+                    // reference: pyuff 2.5.8 (PyPI)
+                    assert!((got.re - r * fac).abs() <= 1e-12 * (r * fac).abs() && got.im == 0.0);
+                }
+                checked += 1;
+                continue;
+            }
             let s = sets
                 .iter()
                 .find(|s| {
@@ -165,7 +186,7 @@ fn mortise_reads_files_written_by_pyuff() {
             checked += 1;
         }
     }
-    assert_eq!(checked, 2 * (12 + 2 + 1 + 1) + 2);
+    assert_eq!(checked, 2 * (12 + 2 + 1 + 1) + 2 + 2);
 }
 
 fn mortise_sets() -> Vec<FrfSet> {
@@ -235,7 +256,25 @@ fn mortise_sets() -> Vec<FrfSet> {
             Complex64::new(1.0 / (k as f64 + 3.0), (k as f64).cos() / 11.0),
         );
     }
-    vec![a, b, c]
+    // D: an acceleration PSD
+    let mut p = FrfSet::zeros(
+        "fan psd",
+        c.freqs.clone(),
+        vec![Dof::new("m", "30", Direction::Z)],
+        vec![Dof::scalar("", "ref")],
+        Quantity::Acceleration,
+        Quantity::Dimensionless,
+    );
+    p.signal = Some(SignalKind::Psd);
+    for k in 0..p.n_lines() {
+        p.set(
+            k,
+            0,
+            0,
+            Complex64::new(1e-4 / (1.0 + k as f64).powf(0.7), 0.0),
+        );
+    }
+    vec![a, b, c, p]
 }
 
 fn expected_json(sets: &[FrfSet], layout: uff58::Layout, x_tol: f64, y_tol: f64) -> Value {
@@ -261,14 +300,14 @@ fn expected_json(sets: &[FrfSet], layout: uff58::Layout, x_tol: f64, y_tol: f64)
 fn pyuff_reads_files_written_by_mortise() {
     let dir = common::scratch("uff_pyuff_write");
     let sets = mortise_sets();
-    // ASCII in the layout's columns: ordinates keep >= 14 significant digits
-    // (≤ 1e-12 asked); the uneven computed grid keeps 9 in its 13 columns
-    // (≤ 5e-9). 58b: exact.
+    // ASCII in the layout's columns: ordinates keep >= 13 significant digits
+    // (≤ 1e-12 asked); the uneven computed grid keeps >= 10 in its 13
+    // columns (≤ 5e-10). 58b: exact.
     for (name, layout, xt, yt) in [
         (
             "m_ascii.uff",
             uff58::Layout::Ascii(uff58::AsciiLayout::Standard),
-            5e-9,
+            5e-10,
             1e-12,
         ),
         ("m_binary.uff", uff58::Layout::Binary, 0.0, 0.0),
@@ -278,8 +317,8 @@ fn pyuff_reads_files_written_by_mortise() {
         std::fs::write(&p, &bytes).unwrap();
         let e = expected_json(&sets, layout, xt, yt);
         let n = e["datasets"].as_array().unwrap().len();
-        // 4 FRFs + 4 coherences + 1 + 1 spectrum
-        assert_eq!(n, 10);
+        // 4 FRFs + 4 coherences + 1 FRF + 1 spectrum + 1 PSD
+        assert_eq!(n, 11);
         let jp = dir.join(format!("{name}.json"));
         std::fs::write(&jp, e.to_string()).unwrap();
         // reference: pyuff 2.5.8 (PyPI)
@@ -288,9 +327,10 @@ fn pyuff_reads_files_written_by_mortise() {
             &[p.to_str().unwrap(), jp.to_str().unwrap()],
         );
         assert!(out.starts_with(&format!("ok {n} datasets")), "{out}");
+        assert!(!out.contains("y=nan"), "{out}");
         eprintln!("{name}: {}", out.trim());
         // and mortise reads its own file back
         let (back, _) = uff58::read(&bytes, name, "m").unwrap();
-        assert_eq!(back.len(), 3);
+        assert_eq!(back.len(), 4);
     }
 }

@@ -369,3 +369,54 @@ fn big_endian_single_precision_binary() {
     assert_eq!(s.get(2, 0, 0), c(-3.0e-3, 0.125e-3));
     assert_eq!(s.provenance[0].format, "uff58-binary");
 }
+
+#[test]
+fn lone_tag_before_a_dataset_is_skipped() {
+    // pyuff 2.5.8 writing 58b in 'overwrite' mode leaves a lone '    -1'
+    // in front of the next dataset
+    let y = [c(1.0, 0.0); 3];
+    let mut b = b"    -1\n".to_vec();
+    b.extend(file(&[ds(4, (1, 3), (1, 3), &GA, &y)]));
+    let (sets, warns) = uff58::read(&b, "l.uff", "w").unwrap();
+    assert_eq!(sets[0].n_out(), 1);
+    assert!(
+        warns.iter().any(|w| w.contains("line 1: a lone tag")),
+        "{warns:?}"
+    );
+}
+
+#[test]
+fn components_travel_in_entity_names() {
+    let d = Dof::new("casing", "1", Direction::Z);
+    let r = Dof::new("bracket_l", "2", Direction::X);
+    let mut s = mortise::frf::FrfSet::zeros(
+        "h",
+        GA.to_vec(),
+        vec![d.clone()],
+        vec![r.clone()],
+        Quantity::Displacement,
+        Quantity::Force,
+    );
+    s.data[0] = c(1.0, 2.0);
+    let bytes = uff58::write(&[s], false).unwrap();
+    // record 6, response and reference entity names (10 columns each)
+    let t = String::from_utf8(bytes.clone()).unwrap();
+    assert!(
+        t.contains("     casing         1   3  bracket_l         2   1"),
+        "{t}"
+    );
+    let (sets, _) = uff58::read_with(&bytes, "out.uff", None).unwrap();
+    assert_eq!(sets[0].outputs, vec![d]);
+    assert_eq!(sets[0].inputs, vec![r]);
+    // a component given by the caller wins
+    let (sets, _) = uff58::read_with(&bytes, "out.uff", Some("x")).unwrap();
+    assert_eq!(sets[0].outputs[0].component, "x");
+    // no entity names: the file stem
+    let (sets, _) = uff58::read_with(
+        &file(&[ds(4, (1, 3), (1, 3), &GA, &[c(1.0, 0.0); 3])]),
+        "dir/wall.uff",
+        None,
+    )
+    .unwrap();
+    assert_eq!(sets[0].outputs[0].component, "wall");
+}

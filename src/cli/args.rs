@@ -10,7 +10,7 @@ pub struct Args {
 }
 
 /// Options that never take a value.
-const FLAGS: &[&str] = &["json", "help", "quiet", "force", "no-raw"];
+const FLAGS: &[&str] = &["json", "help", "quiet", "force", "no-raw", "check"];
 
 impl Args {
     pub fn parse(argv: &[String]) -> Result<Args> {

@@ -20,6 +20,7 @@ mortise: FRF coupling and transfer-path prediction, offline
 usage:
   mortise inspect FILE... [--json] [column-map options]
   mortise convert IN... -o OUT [--to uff|uff-binary|csv|bundle] [--kind KIND] [--units si]
+                 [--grid finest|coarsest|START:STOP:STEP] [--interp re-im|log-mag-phase]
                  [column-map options]
   mortise run RECIPE -o OUTDIR
   mortise couple A.uff B.csv --join 'A:1+Z=B:1+Z' ... -o OUT

@@ -78,6 +78,10 @@ pub fn decode_text(bytes: &[u8]) -> String {
     let b = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
     match std::str::from_utf8(b) {
         Ok(s) => s.to_string(),
+        // UTF-8 cut inside its last character (a truncated file): keep the whole ones
+        Err(e) if e.error_len().is_none() => {
+            String::from_utf8_lossy(&b[..e.valid_up_to()]).into_owned()
+        }
         Err(_) => b.iter().map(|&c| c as char).collect(),
     }
 }
@@ -825,6 +829,12 @@ pub enum ValueColumns {
     Real {
         value: ColumnRef,
     },
+    /// Storage stiffness K' and loss factor η, as isolator makers give them:
+    /// the value is K'(1 + iη) (e^{+iωt}: a lossy spring has Im ≥ 0).
+    StorageLoss {
+        stiffness: ColumnRef,
+        loss: ColumnRef,
+    },
 }
 
 /// One FRF of a supplier file.
@@ -841,6 +851,12 @@ pub struct MapEntry {
 }
 
 /// How to read a supplier's CSV: which column is what.
+///
+/// Blank lines and lines starting with `#` after the skipped rows are
+/// ignored; every other line is a data row and must have as many cells as
+/// the first. Frequencies must increase strictly. Values are converted to
+/// SI: `SI value = factor(unit) × value`, where a magnitude/phase pair is
+/// `|H| e^{iφ}` and a dB level L gives `|H| = reference × 10^(L/20)`.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(default)]
 pub struct ColumnMap {
@@ -1012,6 +1028,7 @@ enum Cols {
     ReIm(usize, usize),
     MagPhase(usize, usize),
     Real(usize),
+    StorageLoss(usize, usize),
 }
 
 struct Plan {
@@ -1031,6 +1048,14 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
         .field("entries"));
     }
     let freq = resolve(&map.freq, header, "frequency column")?;
+    if let MagScale::Db { reference } = map.mag_scale {
+        if !(reference.is_finite() && reference > 0.0) {
+            return Err(Error::usage(format!(
+                "dB reference {reference}; expected a positive value in the value unit, e.g. 1e-6 for dB re 1e-6 g/N"
+            ))
+            .field("mag_scale"));
+        }
+    }
     let spectrum = map.signal.is_some();
     let in_qty = if spectrum {
         Quantity::Dimensionless
@@ -1113,6 +1138,10 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
                 resolve(phase, header, &role("phase"))?,
             ),
             ValueColumns::Real { value } => Cols::Real(resolve(value, header, &role("value"))?),
+            ValueColumns::StorageLoss { stiffness, loss } => Cols::StorageLoss(
+                resolve(stiffness, header, &role("storage stiffness"))?,
+                resolve(loss, header, &role("loss factor"))?,
+            ),
         };
         let coh = match &e.coherence {
             Some(c) => Some(resolve(c, header, &role("coherence"))?),
@@ -1240,6 +1269,11 @@ fn parse_rows(
                     cell_num(&cells, a, map, ln, &format!("value of {label}"))?,
                     0.0,
                 ),
+                Cols::StorageLoss(a, b) => {
+                    let k = cell_num(&cells, a, map, ln, &format!("storage stiffness of {label}"))?;
+                    let eta = cell_num(&cells, b, map, ln, &format!("loss factor of {label}"))?;
+                    Complex64::new(k, k * eta)
+                }
             };
             let mut v = v * *factor;
             if map.conjugate {
@@ -1461,6 +1495,15 @@ mod tests {
         assert_eq!(fmt_f64(-0.0), "-0");
         assert_eq!(fmt_f64(1e20), "1e20");
         assert!(fmt_f64(-0.0).parse::<f64>().unwrap().is_sign_negative());
+    }
+
+    #[test]
+    fn latin1_and_cut_utf8() {
+        // 0xB5 is µ in ISO 8859-1
+        assert_eq!(decode_text(b"\xb5m/s"), "µm/s");
+        assert_eq!(decode_text("µm".as_bytes()), "µm");
+        assert_eq!(decode_text(&"aµ".as_bytes()[..2]), "a");
+        assert_eq!(decode_text(b"\xEF\xBB\xBFfreq"), "freq");
     }
 
     #[test]

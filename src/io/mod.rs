@@ -193,7 +193,13 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
                 )),
             },
             // a damaged bundle: let the bundle reader say where it breaks
-            Err(_) if t[..t.len().min(4096)].contains(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
+            Err(_)
+                if t.as_bytes()[..t.len().min(4096)]
+                    .windows(bundle::BUNDLE_FORMAT.len())
+                    .any(|w| w == bundle::BUNDLE_FORMAT.as_bytes()) =>
+            {
+                Ok(Format::Bundle)
+            }
             Err(e) => fail(format!(
                 "this looks like JSON but does not parse ({e}); {ACCEPTED}"
             )),
@@ -216,6 +222,18 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     ))
 }
 
+/// Give every DOF the component `c`, except the reference input of a spectrum.
+fn rename_component(s: &mut FrfSet, c: &str) {
+    for d in s.outputs.iter_mut() {
+        d.component = c.to_string();
+    }
+    if s.signal.is_none() {
+        for d in s.inputs.iter_mut() {
+            d.component = c.to_string();
+        }
+    }
+}
+
 /// Import options as text for provenance records.
 fn options_text(opts: &ImportOptions) -> String {
     serde_json::to_string(opts).unwrap_or_default()
@@ -236,7 +254,7 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
             let mut sets = csv::read_native(bytes, file)?;
             if let Some(c) = &opts.component {
                 for s in &mut sets {
-                    s.set_component(c);
+                    rename_component(s, c);
                 }
             }
             sets
@@ -271,16 +289,13 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
                     b.inputs.len()
                 ));
             }
-            let sets = b.all_sets();
+            let mut sets = b.all_sets();
             if let Some(c) = &opts.component {
-                let mut sets = sets;
                 for s in &mut sets {
-                    s.set_component(c);
+                    rename_component(s, c);
                 }
-                sets
-            } else {
-                sets
             }
+            sets
         }
     };
     let prov = Provenance {
@@ -294,7 +309,17 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             e.field(format!("set {} ('{}')", n + 1, s.name))
                 .in_file(file)
         })?;
-        s.provenance.push(prov.clone());
+        // a reader may already have recorded this file (the UFF reader does,
+        // with the format of each set); then only the options are completed
+        match s.provenance.last_mut() {
+            Some(last) if last.file == prov.file && last.sha256 == prov.sha256 => {
+                last.options = prov.options.clone();
+                if last.format.is_empty() {
+                    last.format = prov.format.clone();
+                }
+            }
+            _ => s.provenance.push(prov.clone()),
+        }
         for w in &s.warnings {
             if !warnings.contains(w) {
                 warnings.push(w.clone());

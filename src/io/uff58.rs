@@ -36,8 +36,13 @@
 //! the columns, so column-based readers such as pyuff read the file: each
 //! number is written with its shortest round-trip text when that fits its
 //! column (then it is bit-exact), otherwise with as many significant digits
-//! as fit (at least 14 for ordinates, relative error ≤ 5e-14; at least 8 for
-//! uneven abscissa values). [`AsciiLayout::Exact`] (via [`write_with`]) writes
+//! as fit with a blank before each number. Ordinates (20 columns) keep at
+//! least 13 significant digits while the decimal exponent has at most two
+//! digits (relative error ≤ 5e-13; 14 digits for |exponent| < 10, 12 beyond
+//! 1e±99). Uneven abscissa values (13 columns) keep at least 10 significant
+//! digits from 0.1 Hz to 1e10 Hz (relative error ≤ 5e-10). An even grid is
+//! written as minimum and increment only when both are exact in 13 columns
+//! and `min + k·inc` reproduces every line; otherwise the grid is uneven. [`AsciiLayout::Exact`] (via [`write_with`]) writes
 //! every number with its shortest round-trip text in 26-character fields,
 //! three to a 78-column line: bit-exact, readable by blank-separated readers
 //! (and by mortise), but not by readers that insist on the 20-column fields.
@@ -302,6 +307,11 @@ fn parse_num(tok: &str) -> Option<f64> {
     None
 }
 
+/// Codes out of the i32 range become i32::MIN (never a valid code).
+fn clamp_i32(v: i64) -> i32 {
+    i32::try_from(v).unwrap_or(i32::MIN)
+}
+
 fn parse_int(tok: &str) -> Option<i64> {
     tok.trim().parse::<i64>().ok()
 }
@@ -470,7 +480,7 @@ fn read_axis(file: &str, line: &Line, record: usize) -> Result<AxisInfo> {
         let s = col(&text, start, w);
         let s = s.trim();
         match parse_int(s) {
-            Some(v) => nums[n] = v as i32,
+            Some(v) => nums[n] = clamp_i32(v),
             None if s.is_empty() && n > 0 => {}
             None => by_cols = false,
         }
@@ -491,7 +501,7 @@ fn read_axis(file: &str, line: &Line, record: usize) -> Result<AxisInfo> {
     let mut nums = [0i32; 4];
     for (n, slot) in nums.iter_mut().enumerate() {
         match toks.get(n).and_then(|t| parse_int(t)) {
-            Some(v) => *slot = v as i32,
+            Some(v) => *slot = clamp_i32(v),
             None if n > 0 => {}
             None => {
                 return Err(perr(
@@ -593,8 +603,21 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
             };
             return Err(perr(file, l.no, "dataset start tag", msg));
         }
-        let start = l.no;
-        let Some(h) = c.next_line() else {
+        let mut start = l.no;
+        let mut next = c.next_line();
+        // a lone tag (an empty dataset, as pyuff 2.5.8 leaves when it writes
+        // 58b in 'overwrite' mode): the next '-1' starts the dataset
+        while let Some(h) = &next {
+            if h.trimmed() != "-1" {
+                break;
+            }
+            remarks.push(format!(
+                "{file}: line {start}: a lone tag '    -1' (an empty dataset) skipped"
+            ));
+            start = h.no;
+            next = c.next_line();
+        }
+        let Some(h) = next else {
             return Err(perr(
                 file,
                 start + 1,
@@ -795,7 +818,7 @@ fn parse_58(
         10,
     )?;
     let func_type = r6[0].int();
-    if function_type_name(func_type as i32).is_none() {
+    if function_type_name(clamp_i32(func_type)).is_none() {
         return Err(perr(
             file,
             recs[5].no,
@@ -830,13 +853,13 @@ fn parse_58(
         3,
     )?;
     let l7 = recs[6].no;
-    let ord_type = r7[0].int() as i32;
+    let ord_type = clamp_i32(r7[0].int());
     if !matches!(ord_type, 2 | 4 | 5 | 6) {
         return Err(perr(
             file,
             l7,
             "record 7, ordinate data type",
-            format!("expected 2 (real single), 4 (real double), 5 (complex single) or 6 (complex double), found {ord_type}"),
+            format!("expected 2 (real single), 4 (real double), 5 (complex single) or 6 (complex double), found {}", r7[0].int()),
         ));
     }
     let n_pts = r7[1].int();
@@ -848,7 +871,7 @@ fn parse_58(
             format!("expected at least 1 data point, found {n_pts}"),
         ));
     }
-    let n_pts = n_pts as usize;
+    let n_pts = usize::try_from(n_pts).unwrap_or(usize::MAX);
     let even = match r7[2].int() {
         0 => false,
         1 => true,
@@ -887,14 +910,14 @@ fn parse_58(
     let complex = matches!(ord_type, 5 | 6);
     let double = matches!(ord_type, 4 | 6);
     let per_pt = if complex { 2 } else { 1 } + if even { 0 } else { 1 };
-    let n_vals = n_pts * per_pt;
+    let n_vals = n_pts.saturating_mul(per_pt);
 
     // values and where each sits
-    let mut vals: Vec<f64> = Vec::with_capacity(n_vals);
-    let mut pos: Vec<(bool, usize)> = Vec::with_capacity(n_vals); // (is_byte, location)
+    let mut vals: Vec<f64> = Vec::with_capacity(n_vals.min(1 << 20));
+    let mut pos: Vec<(bool, usize)> = Vec::with_capacity(n_vals.min(1 << 20)); // (is_byte, location)
     if binary {
         let size = if double { 8 } else { 4 };
-        let need = n_vals * size;
+        let need = n_vals.saturating_mul(size);
         if let Some(h) = n_bytes_header {
             if h != need as i64 {
                 remarks.push(format!(
@@ -1472,6 +1495,25 @@ fn signal_marker(ds: &Dataset58) -> Option<SignalKind> {
 /// function type, quantity pair and grid); returns the sets and warnings.
 /// DOFs get the component namespace `component`.
 pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_with(bytes, file, Some(component))
+}
+
+/// Like [`read`]; with `component` None each DOF takes its component from
+/// the entity name of record 6 (mortise writes the component there when it
+/// fits the 10 columns), else from the file stem.
+pub fn read_with(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    let stem = super::file_stem(file);
+    let comp_of = |entity: &str| -> String {
+        match component {
+            Some(c) => c.to_string(),
+            None if !entity.is_empty() => entity.to_string(),
+            None => stem.clone(),
+        }
+    };
     let (datasets, mut warnings) = parse_datasets(bytes, file)?;
     if datasets.is_empty() {
         return Err(Error::parse(
@@ -1506,11 +1548,11 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, V
         let mut rm = Remarks::default();
         let freqs = frequencies(file, ds, &mut rm)?;
         let (od, opos) = dir_of(ds.rsp_dir);
-        let mut out = Dof::new(component, &ds.rsp_node.to_string(), od);
+        let mut out = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), od);
         out.positive = opos;
         let orot = od.is_rotational();
         let (id_, ipos) = dir_of(ds.ref_dir);
-        let mut inp = Dof::new(component, &ds.ref_node.to_string(), id_);
+        let mut inp = Dof::new(&comp_of(&ds.ref_entity), &ds.ref_node.to_string(), id_);
         inp.positive = ipos;
         let irot = id_.is_rotational();
         let name = ds.id[0].trim().to_string();
@@ -1581,12 +1623,14 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, V
         file: super::base_name(file),
         sha256: super::sha256_hex(bytes),
         format: String::new(),
-        options: format!("component={component}"),
+        options: match component {
+            Some(c) => format!("component={c}"),
+            None => "component from entity names or file stem".to_string(),
+        },
     };
-    let default_name = if component.is_empty() {
-        super::file_stem(file)
-    } else {
-        component.to_string()
+    let default_name = match component {
+        Some(c) if !c.is_empty() => c.to_string(),
+        _ => stem.clone(),
     };
     let mut sets: Vec<FrfSet> = Vec::new();
     for g in groups.iter_mut() {
@@ -1782,13 +1826,33 @@ fn fit(v: f64, width: usize) -> String {
     if s.len() <= room {
         return format!("{s:>width$}");
     }
-    for p in (0..=16).rev() {
-        let t = format!("{v:.p$e}");
-        if t.len() <= room {
-            return format!("{t:>width$}");
+    // the most digits that fit, in exponent or plain form, whichever reads
+    // back closer
+    let mut best: Option<(f64, String)> = None;
+    let mut consider = |t: String| {
+        if let Ok(r) = t.parse::<f64>() {
+            let err = (r - v).abs();
+            if best.as_ref().map(|b| err < b.0).unwrap_or(true) {
+                best = Some((err, t));
+            }
         }
+    };
+    if let Some(t) = (0..=16)
+        .rev()
+        .map(|p| format!("{v:.p$e}"))
+        .find(|t| t.len() <= room)
+    {
+        consider(t);
     }
-    format!("{:>width$}", format!("{v:.0e}"))
+    if let Some(t) = (0..=16)
+        .rev()
+        .map(|p| format!("{v:.p$}"))
+        .find(|t| t.len() <= room)
+    {
+        consider(t);
+    }
+    let t = best.map(|b| b.1).unwrap_or_else(|| format!("{v:.0e}"));
+    format!("{t:>width$}")
 }
 
 fn pad80(s: &str) -> String {
@@ -1821,6 +1885,21 @@ fn node_number(d: &Dof, set: &str) -> Result<i64> {
             "cannot write DOF {d} of '{set}' to UFF: node '{}' is not a number 0..9999999999; UFF nodes are integers",
             d.node
         ))),
+    }
+}
+
+/// The component as a record-6 entity name, when it fits (1-10 characters,
+/// no blanks, not "NONE"); else none.
+fn entity_of(d: &Dof) -> String {
+    let c = d.component.as_str();
+    if !c.is_empty()
+        && c.chars().count() <= 10
+        && !c.chars().any(char::is_whitespace)
+        && !c.eq_ignore_ascii_case("none")
+    {
+        c.to_string()
+    } else {
+        String::new()
     }
 }
 
@@ -1989,6 +2068,26 @@ pub fn write_dataset(out: &mut Vec<u8>, ds: &Dataset58, layout: Layout) {
 pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
     set.validate()?;
     let spectrum = set.signal.is_some();
+    // UFF has no component namespace: DOFs that differ only by component
+    // would become one
+    let sides: &[&Vec<Dof>] = if spectrum {
+        &[&set.outputs]
+    } else {
+        &[&set.outputs, &set.inputs]
+    };
+    for dofs in sides {
+        for (a, d) in dofs.iter().enumerate() {
+            if let Some(o) = dofs[..a]
+                .iter()
+                .find(|o| o.node == d.node && o.dir == d.dir && o.component != d.component)
+            {
+                return Err(Error::dof(format!(
+                    "cannot write '{}' to UFF: DOFs {o} and {d} differ only by component, and UFF has no component; write one component per file",
+                    set.name
+                )));
+            }
+        }
+    }
     let (func_type, id2) = match set.signal {
         None => (4, set.kind().name().to_string()),
         Some(SignalKind::Peak) => (12, "signal=peak".into()),
@@ -2058,10 +2157,14 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 func_id: 0,
                 version: 0,
                 load_case: 0,
-                rsp_entity: String::new(),
+                rsp_entity: entity_of(o),
                 rsp_node,
                 rsp_dir: dir_code(o),
-                ref_entity: String::new(),
+                ref_entity: if spectrum {
+                    String::new()
+                } else {
+                    entity_of(inp)
+                },
                 ref_node,
                 ref_dir,
                 ord_type: if real { 4 } else { 6 },
@@ -2210,7 +2313,7 @@ mod tests {
     }
 
     #[test]
-    fn standard_columns_keep_fourteen_digits() {
+    fn standard_columns_precision_bounds() {
         let s = sample(9);
         let bytes = write(std::slice::from_ref(&s), false).unwrap();
         assert_eq!(looks_like_uff(&bytes), Some(false));
@@ -2220,7 +2323,7 @@ mod tests {
         }
         let (sets, _) = read(&bytes, "x.uff", "c").unwrap();
         for (a, b) in sets[0].data.iter().zip(&s.data) {
-            assert!((a - b).norm() <= 5e-14 * b.norm(), "{a} vs {b}");
+            assert!((a - b).norm() <= 5e-13 * b.norm(), "{a} vs {b}");
         }
         // values whose shortest text fits the column come back exactly
         let mut t = s.clone();
@@ -2230,6 +2333,33 @@ mod tests {
         let b2 = write(std::slice::from_ref(&t), false).unwrap();
         let (r2, _) = read(&b2, "x.uff", "c").unwrap();
         assert_eq!(r2[0].data, t.data);
+        // the documented bounds, worst case negative 17-digit values
+        for e in [-300, -150, -99, -50, -12, -5, 0, 5, 12, 99, 150, 300] {
+            let v = -(1.0f64 / 3.0 + 1e-9) * 10f64.powi(e);
+            let txt = fit(v, 20);
+            assert_eq!(txt.len(), 20);
+            assert!(txt.starts_with(' '), "{txt}");
+            let r: f64 = txt.trim().parse().unwrap();
+            let e10 = (v.abs().log10().floor() as i32).abs();
+            let bound = if e10 < 10 {
+                5e-14
+            } else if e10 < 100 {
+                5e-13
+            } else {
+                5e-12
+            };
+            assert!(((r - v) / v).abs() <= bound, "{e}: {txt}");
+        }
+        for k in 0..60 {
+            let f = 0.1 * 1.5f64.powi(k) * (1.0 + 1.0 / 7.0);
+            if f > 1e10 {
+                break;
+            }
+            let txt = fit(f, 13);
+            assert!(txt.len() == 13 && txt.starts_with(' '), "{txt}");
+            let r: f64 = txt.trim().parse().unwrap();
+            assert!(((r - f) / f).abs() <= 5e-10, "{f}: {txt}");
+        }
     }
 
     #[test]
@@ -2242,6 +2372,18 @@ mod tests {
         assert_eq!(even_grid(&f), Some((2.0, 0.5)));
         let g: Vec<f64> = (0..10).map(|k| (k as f64 + 1.0).ln()).collect();
         assert_eq!(even_grid(&g), None);
+    }
+
+    #[test]
+    fn components_that_would_collide_are_refused() {
+        let mut s = sample(3);
+        s.outputs[1] = Dof::new("other", "12", Direction::Z);
+        let e = write(&[s], false).unwrap_err();
+        assert!(e.message.contains("c:12+Z and other:12+Z"), "{e}");
+        let mut t = sample(3);
+        t.outputs[0].node = "A7".into();
+        let e = write(&[t], true).unwrap_err();
+        assert!(e.message.contains("node 'A7' is not a number"), "{e}");
     }
 
     #[test]

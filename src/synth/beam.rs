@@ -211,7 +211,8 @@ impl Beam {
     }
 
     /// Receptance (Z and RY) at the given nodes, both ends when `nodes` is
-    /// empty. DOFs held by a support are left out.
+    /// empty, by exact modal superposition of all the model's modes (the
+    /// damping is proportional). DOFs held by a support are left out.
     pub fn receptance(&self, freqs: &[f64], nodes: &[usize]) -> Result<FrfSet> {
         let s = self.matrices()?;
         let nodes: Vec<usize> = if nodes.is_empty() {
@@ -240,7 +241,8 @@ impl Beam {
                 self.component
             )));
         }
-        s.receptance(&self.component, freqs, &at, &at)
+        let (a, b) = self.rayleigh.map_or((0.0, 0.0), |r| (r.alpha, r.beta));
+        s.receptance_proportional(&self.component, freqs, &at, &at, self.loss_factor, a, b)
     }
 }
 
@@ -502,10 +504,21 @@ impl Frame {
         Ok(reduce(&s, &keep))
     }
 
-    /// Receptance between the given DOFs (node names of the frame, X, Z or RY).
+    /// Receptance between the given DOFs (node names of the frame, X, Z or
+    /// RY), by exact modal superposition of all the frame's modes (the
+    /// damping is proportional).
     pub fn receptance(&self, freqs: &[f64], outputs: &[Dof], inputs: &[Dof]) -> Result<FrfSet> {
         let s = self.matrices()?;
-        s.receptance(&self.component, freqs, outputs, inputs)
+        let (a, b) = self.rayleigh.map_or((0.0, 0.0), |r| (r.alpha, r.beta));
+        s.receptance_proportional(
+            &self.component,
+            freqs,
+            outputs,
+            inputs,
+            self.loss_factor,
+            a,
+            b,
+        )
     }
 }
 
@@ -589,5 +602,25 @@ mod tests {
         assert!((h.get(0, 1, 1).re - l / (2.0e11 * 3e-4)).abs() < 1e-9 * h.get(0, 1, 1).re);
         // a positive RY turns +Z towards +X: a tip force +X gives a positive RY
         assert!(h.get(0, 2, 0).re > 0.0);
+        // the modal route equals the direct LU solution with damping
+        let mut g = f.clone();
+        g.loss_factor = 0.02;
+        g.rayleigh = Some(Rayleigh {
+            alpha: 1.5,
+            beta: 2e-6,
+        });
+        let freqs = [3.0, 47.0, 333.0, 1200.0];
+        let hm = g.receptance(&freqs, &at, &at).unwrap();
+        let hd = g
+            .matrices()
+            .unwrap()
+            .receptance("d", &freqs, &at, &at)
+            .unwrap();
+        for l in 0..freqs.len() {
+            let scale = hd.line(l).iter().map(|v| v.norm()).fold(0.0, f64::max);
+            for e in 0..9 {
+                assert!((hm.line(l)[e] - hd.line(l)[e]).norm() < 1e-9 * scale);
+            }
+        }
     }
 }

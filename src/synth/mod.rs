@@ -28,6 +28,73 @@ use crate::units::Quantity;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
+/// One synthesized component, as a recipe embeds it (JSON, tagged by
+/// `"model"`): every builder of this module behind one call.
+///
+/// ```
+/// let spec: mortise::synth::Synth = serde_json::from_str(r#"{
+///   "model": "network", "component": "rig",
+///   "masses": [{"node": "1", "mass": 2.0}],
+///   "links": [{"a": "1", "k": 8.0e4, "c": 15.0}]
+/// }"#).unwrap();
+/// let h = spec.synthesize(&[10.0, 20.0]).unwrap();
+/// assert_eq!(h.outputs[0].to_string(), "rig:1+Z");
+/// ```
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(tag = "model", rename_all = "kebab-case")]
+pub enum Synth {
+    /// A lumped network; receptance at the nodes in `at` (all when empty).
+    Network {
+        #[serde(flatten)]
+        network: Network,
+        #[serde(default)]
+        at: Vec<String>,
+    },
+    /// A modal model; receptance at its DOFs.
+    Modal(ModalModel),
+    /// A beam; receptance (Z, RY) at the node numbers in `at` (both ends when empty).
+    Beam {
+        #[serde(flatten)]
+        beam: Beam,
+        #[serde(default)]
+        at: Vec<usize>,
+    },
+    /// A planar frame; receptance at the DOFs in `at` (text form).
+    Frame {
+        #[serde(flatten)]
+        frame: Frame,
+        #[serde(with = "dof_text::list")]
+        at: Vec<Dof>,
+    },
+    /// An isolator; 1×1 dynamic stiffness.
+    Isolator(Isolator),
+}
+
+impl Synth {
+    /// Build the component's FRF set on `freqs` (receptance, or dynamic
+    /// stiffness for an isolator).
+    pub fn synthesize(&self, freqs: &[f64]) -> Result<FrfSet> {
+        match self {
+            Synth::Network { network, at } => {
+                let at: Vec<&str> = at.iter().map(|s| s.as_str()).collect();
+                network.receptance(freqs, &at, &at)
+            }
+            Synth::Modal(m) => m.receptance(freqs),
+            Synth::Beam { beam, at } => beam.receptance(freqs, at),
+            Synth::Frame { frame, at } => {
+                if at.is_empty() {
+                    return Err(Error::dof(format!(
+                        "frame '{}': 'at' lists no DOFs; expected labels such as {}:node+Z",
+                        frame.component, frame.component
+                    )));
+                }
+                frame.receptance(freqs, at, at)
+            }
+            Synth::Isolator(i) => i.stiffness(freqs),
+        }
+    }
+}
+
 /// The matrices of a linear structural model, all n × n real and symmetric,
 /// one row per DOF in `dofs`.
 #[derive(Debug, Clone, PartialEq)]
@@ -152,6 +219,86 @@ impl SystemMatrices {
     }
 }
 
+impl SystemMatrices {
+    /// Receptance by exact modal superposition for proportional damping,
+    /// C = αM + βK and K_h = ηK (the matrices' own `c` and `kh` are not
+    /// read): with the real modes (ω_r², φ_r) of K, M,
+    /// H_ij = Σ_r φ_ir φ_jr / (ω_r²(1 + iη) − ω² + iω(α + βω_r²)).
+    /// Keeping every mode this equals the direct solution of
+    /// K(1 + iη) − ω²M + iωC, at far less cost per line.
+    #[allow(clippy::too_many_arguments)]
+    pub fn receptance_proportional(
+        &self,
+        name: &str,
+        freqs: &[f64],
+        outputs: &[Dof],
+        inputs: &[Dof],
+        eta: f64,
+        alpha: f64,
+        beta: f64,
+    ) -> Result<FrfSet> {
+        crate::grid::check_grid(freqs)?;
+        if outputs.is_empty() || inputs.is_empty() {
+            return Err(Error::dof(format!(
+                "'{name}': no output or no input DOF was requested; expected at least one of each"
+            )));
+        }
+        let oi = outputs
+            .iter()
+            .map(|d| self.index_of(d))
+            .collect::<Result<Vec<_>>>()?;
+        let ii = inputs
+            .iter()
+            .map(|d| self.index_of(d))
+            .collect::<Result<Vec<_>>>()?;
+        let (lam, phi) = real_modes(&self.k, &self.m)?;
+        let lmax = lam.iter().fold(0.0f64, |a, &b| a.max(b.abs()));
+        let rigid = lam.iter().any(|&l| l.abs() <= 1e-9 * lmax);
+        if rigid && freqs[0] == 0.0 && alpha == 0.0 {
+            return Err(Error::numeric(format!(
+                "'{name}': the model can move as a rigid body, so its receptance at 0 Hz is infinite; start the grid above 0 Hz or add a support"
+            )));
+        }
+        let mut set = FrfSet::zeros(
+            name,
+            freqs.to_vec(),
+            outputs.to_vec(),
+            inputs.to_vec(),
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        set.validate()?;
+        // modal products φ_ir φ_jr with the requested signs, per entry
+        let nr = lam.len();
+        let (no, ni) = (oi.len(), ii.len());
+        let mut prod = vec![0.0; nr * no * ni];
+        for r in 0..nr {
+            for (a, &i) in oi.iter().enumerate() {
+                for (b, &j) in ii.iter().enumerate() {
+                    prod[(r * no + a) * ni + b] =
+                        phi[(i, r)] * phi[(j, r)] * outputs[a].sign() * inputs[b].sign();
+                }
+            }
+        }
+        for (l, &f) in freqs.iter().enumerate() {
+            let w = 2.0 * std::f64::consts::PI * f;
+            let line = set.line_mut(l);
+            for r in 0..nr {
+                let lr = if lam[r].abs() <= 1e-9 * lmax {
+                    0.0
+                } else {
+                    lam[r]
+                };
+                let g = 1.0 / Complex64::new(lr - w * w, lr * eta + w * (alpha + beta * lr));
+                for (e, v) in line.iter_mut().enumerate() {
+                    *v += g * prod[r * no * ni + e];
+                }
+            }
+        }
+        Ok(set)
+    }
+}
+
 /// Real modes of the undamped problem K φ = ω² M φ, M symmetric positive
 /// definite: returns ω_r² ascending and the mass-normalised shapes as the
 /// columns of Φ (Φᵀ M Φ = I). Uses nalgebra's Cholesky factor of M and its
@@ -242,6 +389,25 @@ mod tests {
         assert!((g - DMatrix::identity(2, 2)).norm() < 1e-12);
         // det(K − λM) = 2λ² − 5λ + 2 = 0 → λ = 0.5, 2 (hand calculation)
         assert!((lam[0] - 0.5).abs() < 1e-12 && (lam[1] - 2.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn every_model_through_one_entry_point() {
+        let specs = [
+            r#"{"model": "modal", "name": "m", "dofs": ["m:1+Z"], "modes": [{"freq": 30.0, "zeta": 0.02, "shape": [1.0]}]}"#,
+            r#"{"model": "beam", "component": "b", "young": 2.1e11, "second_moment": 1e-8, "density": 7850.0, "area": 1e-4, "length": 1.0, "elements": 6, "loss_factor": 0.01, "left": "clamped", "at": [6]}"#,
+            r#"{"model": "frame", "component": "f", "nodes": [{"name": "p", "x": 0.0, "z": 0.0}, {"name": "q", "x": 0.5, "z": 0.0}], "members": [{"a": "p", "b": "q", "elements": 2, "young": 2.1e11, "second_moment": 1e-8, "density": 7850.0, "area": 1e-4}], "supports": [{"node": "p", "fixed": ["X", "Z", "RY"]}], "loss_factor": 0.01, "at": ["f:q+Z"]}"#,
+            r#"{"model": "isolator", "name": "i", "dof": "i:1+Z", "table": [{"freq": 0.0, "k": 1e5, "eta": 0.1}]}"#,
+        ];
+        for t in specs {
+            let s: Synth = serde_json::from_str(t).unwrap();
+            let h = s.synthesize(&[5.0, 50.0]).unwrap();
+            h.validate().unwrap();
+            let back: Synth = serde_json::from_str(&serde_json::to_string(&s).unwrap()).unwrap();
+            assert_eq!(back, s);
+        }
+        let e = serde_json::from_str::<Synth>(r#"{"model": "cloud"}"#).unwrap_err();
+        assert!(e.to_string().contains("unknown variant"), "{e}");
     }
 
     #[test]

@@ -64,6 +64,26 @@ pub struct ModalModel {
     pub modes: Vec<Mode>,
     #[serde(default)]
     pub residuals: Vec<Residual>,
+    /// Complex modes (non-proportional damping), added to the real modes.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub complex_modes: Vec<ComplexMode>,
+}
+
+/// A complex mode: pole s_r = −ζ_r ω_r + iω_r√(1 − ζ_r²) and complex shape
+/// ψ_r scaled so that the residue is ψ_ir ψ_jr:
+///
+/// H_ij(ω) += ψ_ir ψ_jr / (iω − s_r) + ψ̄_ir ψ̄_jr / (iω − s̄_r).
+///
+/// A real mass-normalised mode φ_r with viscous ζ_r is the case
+/// ψ_r = φ_r / √(2iω_r√(1 − ζ_r²)).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct ComplexMode {
+    /// Undamped natural frequency f_r (Hz), above 0.
+    pub freq: f64,
+    /// Damping ratio ζ_r, 0 < ζ_r < 1.
+    pub zeta: f64,
+    /// Shape at each DOF as [re, im].
+    pub shape: Vec<Complex64>,
 }
 
 impl ModalModel {
@@ -101,6 +121,31 @@ impl ModalModel {
                 return Err(Error::numeric(format!(
                     "mode {} has a shape value that is not finite",
                     r + 1
+                ))
+                .field(f));
+            }
+        }
+        for (r, m) in self.complex_modes.iter().enumerate() {
+            let f = format!("complex_modes[{r}]");
+            check_value("natural frequency", m.freq, true).map_err(|e| e.field(f.clone()))?;
+            if !(m.zeta > 0.0 && m.zeta < 1.0) {
+                return Err(Error::numeric(format!(
+                    "complex mode {} has damping ratio {}; expected 0 < zeta < 1",
+                    r + 1,
+                    m.zeta
+                ))
+                .field(f));
+            }
+            if m.shape.len() != self.dofs.len()
+                || m.shape
+                    .iter()
+                    .any(|v| !(v.re.is_finite() && v.im.is_finite()))
+            {
+                return Err(Error::numeric(format!(
+                    "complex mode {} has {} shape values for {} DOFs, or a value that is not finite",
+                    r + 1,
+                    m.shape.len(),
+                    self.dofs.len()
                 ))
                 .field(f));
             }
@@ -196,6 +241,18 @@ impl ModalModel {
                     }
                 }
             }
+            let iw = Complex64::new(0.0, w);
+            for m in &self.complex_modes {
+                let wr = 2.0 * std::f64::consts::PI * m.freq;
+                let s = Complex64::new(-m.zeta * wr, wr * (1.0 - m.zeta * m.zeta).sqrt());
+                let (g, gc) = (1.0 / (iw - s), 1.0 / (iw - s.conj()));
+                for i in 0..n {
+                    for j in 0..n {
+                        let r = m.shape[i] * m.shape[j];
+                        line[i * n + j] += r * g + r.conj() * gc;
+                    }
+                }
+            }
             for e in 0..n * n {
                 line[e] += res_k[e];
                 if res_m[e] != 0.0 {
@@ -239,6 +296,7 @@ impl ModalModel {
             dofs: at.to_vec(),
             modes,
             residuals: Vec::new(),
+            complex_modes: Vec::new(),
         })
     }
 }
@@ -264,6 +322,7 @@ mod tests {
                 shape: vec![1.0],
             }],
             residuals: vec![],
+            complex_modes: vec![],
         };
         let h = model.receptance(&[5.0, 31.0, 100.0]).unwrap();
         for l in 0..3 {
@@ -285,6 +344,49 @@ mod tests {
     }
 
     #[test]
+    fn complex_form_of_a_real_mode_is_the_same() {
+        // ψ = φ/√(2iω_d) reproduces φφᵀ/(ω_r² − ω² + 2iζω_rω) (partial fractions; Ewins, Modal Testing)
+        let dofs = vec![
+            Dof::new("s", "1", Direction::Z),
+            Dof::new("s", "2", Direction::Z),
+        ];
+        let (fr, z, phi) = (40.0, 0.05, [0.3, -0.7]);
+        let real = ModalModel {
+            name: "r".into(),
+            dofs: dofs.clone(),
+            modes: vec![Mode {
+                freq: fr,
+                zeta: z,
+                eta: 0.0,
+                modal_mass: 1.0,
+                shape: phi.to_vec(),
+            }],
+            residuals: vec![],
+            complex_modes: vec![],
+        };
+        let wd = 2.0 * std::f64::consts::PI * fr * (1.0f64 - z * z).sqrt();
+        let sc = (Complex64::new(0.0, 2.0 * wd)).sqrt();
+        let cplx = ModalModel {
+            modes: vec![],
+            complex_modes: vec![ComplexMode {
+                freq: fr,
+                zeta: z,
+                shape: phi.iter().map(|p| p / sc).collect(),
+            }],
+            ..real.clone()
+        };
+        let f = [5.0, 39.0, 41.0, 300.0];
+        let (a, b) = (real.receptance(&f).unwrap(), cplx.receptance(&f).unwrap());
+        for l in 0..4 {
+            for e in 0..4 {
+                assert!((a.line(l)[e] - b.line(l)[e]).norm() < 1e-12 * a.line(l)[e].norm());
+            }
+        }
+        let json = serde_json::to_string(&cplx).unwrap();
+        assert_eq!(serde_json::from_str::<ModalModel>(&json).unwrap(), cplx);
+    }
+
+    #[test]
     fn residuals_add_constant_and_mass_line() {
         let d = Dof::new("s", "1", Direction::Z);
         let model = ModalModel {
@@ -297,6 +399,7 @@ mod tests {
                 stiffness: Some(1e6),
                 mass: Some(4.0),
             }],
+            complex_modes: vec![],
         };
         let h = model.receptance(&[10.0]).unwrap();
         let w = h.omega(0);

@@ -7,6 +7,7 @@ handed to pyuff.
 Usage: roundtrip_uff.py OUT_FILE [binary]
 """
 import json
+import os
 import sys
 
 import numpy as np
@@ -43,6 +44,8 @@ for ref in (1, 2):
             x=freqs,
         )
     )
-u = pyuff.UFF(path)
-u.write_sets(sets, mode="overwrite")
+if os.path.exists(path):
+    os.remove(path)
+# pyuff 2.5.8 truncates binary output in 'overwrite' mode; 'add' to a new file works
+pyuff.UFF(path).write_sets(sets, mode="add", force_double=True)
 print(json.dumps({"freqs": freqs.tolist(), "values": values}))

@@ -135,6 +135,13 @@ for rsp in [(1, 3), (2, 3)]:
     ds.append(d)
 files.append(write("p_ascii_even_single.uff", ds, 0, force_double=False))
 
+# 5. ASCII power spectral density (function type 9), real double, in g^2/Hz
+ds = [
+    dataset(0, 9, rsp, (0, 0), even_x, rng.uniform(1e-6, 1e-3, len(even_x)), True, "g^2/Hz", "NONE", (12, 0))
+    for rsp in [(1, 3), (2, 3)]
+]
+files.append(write("p_ascii_psd.uff", ds, 0))
+
 with open(os.path.join(out_dir, "expected.json"), "w") as fh:
     json.dump(dict(pyuff=pyuff.__version__, files=files), fh)
 print(len(files), "files written")
