@@ -132,14 +132,33 @@
   }
 
   // ---------- files ----------
+  // Import options the current recipe gives a file (its column map and DOF
+  // namespace), so a supplier CSV named in a recipe reads without the dialog.
+  function recipeOptionsFor(name) {
+    let r;
+    try { r = JSON.parse($('recipe-text').value); } catch (_) { return null; }
+    for (const [key, c] of Object.entries(r?.components || {})) {
+      if (!c || !c.file || c.file.replace(/^.*[\\/]/, '') !== name) continue;
+      const o = { ...(c.import || {}) };
+      o.component = c.component || o.component || key;
+      return o;
+    }
+    return null;
+  }
   async function addFile(name, bytes, options) {
     const fmtName = await Bridge.call('detect_format', [name, bytes]).catch(() => null);
     if (/\.recipe\.json$/i.test(name) || fmtName === 'recipe') {
       $('recipe-text').value = new TextDecoder().decode(bytes);
       S.recipeText = $('recipe-text').value;
+      // files already loaded that the recipe reads with other options: read them again
+      for (const f of S.files) {
+        const o = recipeOptionsFor(f.name);
+        if (o && JSON.stringify(o) !== JSON.stringify(f.options)) { f.options = o; await loadEntry(f); }
+      }
       autosave();
       return;
     }
+    if (!options) options = recipeOptionsFor(name) || undefined;
     if (fmtName === 'bundle') return openBundle(name, bytes);
     let entry = S.files.find((f) => f.name === name);
     if (!entry) {
@@ -394,7 +413,7 @@
       let n = 0;
       for (let i = 0; i < s.outputs.length; i++) for (let j = 0; j < s.inputs.length; j++) {
         if (n++ > 400) return;
-        out.push({ group, set: s.id, out: i, in: j, text: `${s.name}: ${s.outputs[i]} / ${s.inputs[j]}` });
+        out.push({ group, set: s.id, name: s.name, out: i, in: j, text: `${s.name}: ${s.outputs[i]} / ${s.inputs[j]}` });
       }
     };
     for (const r of S.results?.results || []) add('results', r);
@@ -409,7 +428,7 @@
     for (const c of curveChoices()) {
       if (!groups[c.group]) { groups[c.group] = el('optgroup', { label: c.group }); sel.append(groups[c.group]); }
       const chosen = S.plot.sel.some((x) => x.set === c.set && x.out === c.out && x.in === c.in);
-      groups[c.group].append(el('option', { value: JSON.stringify([c.set, c.out, c.in]), selected: chosen || null }, c.text));
+      groups[c.group].append(el('option', { value: JSON.stringify([c.set, c.out, c.in]), 'data-name': c.name, selected: chosen || null }, c.text));
     }
     $('plot-kind').value = S.plot.kind;
     $('opt-db').checked = S.plot.db;
@@ -778,7 +797,9 @@
     const demo = JSON.parse($('demo-files').textContent || '{"files":[]}');
     if (!demo.files.length) { status('this build carries no demo files (build.sh writes them to sample-frf/ first)', 'fail'); return; }
     status('loading the heat-pump demo…', 'busy');
-    for (const f of demo.files) await addFile(f.name, Bridge.decodeBase64(f.base64));
+    // the recipe first: it carries the column maps of the supplier CSVs
+    const order = [...demo.files].sort((a, b) => /\.recipe\.json$/i.test(b.name) - /\.recipe\.json$/i.test(a.name));
+    for (const f of order) await addFile(f.name, Bridge.decodeBase64(f.base64));
     status(`demo loaded: ${demo.files.length} file(s); press Run`);
   }
 

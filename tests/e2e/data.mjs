@@ -44,7 +44,7 @@ export function frameCsv(label2) {
 // Receptance of a rigid mass m: H = −1/(ω² m).
 export function massCsv(m = 0.5) {
   const rows = FREQS.map((f) => [f, -1 / ((2 * Math.PI * f) ** 2 * m), 0]);
-  return native('mass', ['mass:2+Z'], ['mass:2+Z'], rows);
+  return native('mass', ['mass:7+Z'], ['mass:7+Z'], rows);
 }
 
 export const XSS_NODE = '<img src=x onerror=window.__xss=1>';
@@ -64,7 +64,7 @@ export function corruptCsv() {
 export const RECIPE = {
   format: 'mortise-recipe', version: 1, title: 'two-mass chain carrying a mass',
   components: { frame: { file: 'frame.csv' }, mass: { file: 'mass.csv' } },
-  steps: [{ id: 'assembly', op: 'couple', parts: ['frame', 'mass'], joints: [{ a: 'frame:2+Z', b: 'mass:2+Z', type: 'rigid' }] }],
+  steps: [{ id: 'assembly', op: 'couple', parts: ['frame', 'mass'], joints: [{ a: 'frame:2+Z', b: 'mass:7+Z', type: 'rigid' }] }],
   outputs: ['assembly'],
 };
 

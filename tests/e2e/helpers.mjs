@@ -46,5 +46,6 @@ export async function addFiles(page, files) {
 }
 
 export async function shot(page, name) {
+  await page.evaluate(() => window.scrollTo(0, 0));
   await page.screenshot({ path: join(ARTIFACTS, name + '.png'), fullPage: true });
 }
