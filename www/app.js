@@ -482,6 +482,7 @@
     const wrap = $('plot-wrap');
     if (!S.plot.sel.length && S.plot.kind !== 'condition') { $('plot-img').removeAttribute('src'); lastFrames = []; return; }
     const spec = plotSpec(wrap.clientWidth || 960);
+    if (lastSpec && lastSpec.kind !== spec.kind) $('readout').textContent = '';
     const t0 = performance.now();
     const job = Bridge.callJson('plot_svg', [JSON.stringify(spec)], 'drawing');
     drawing = job;
@@ -495,6 +496,7 @@
       if (old && old.startsWith('blob:')) setTimeout(() => URL.revokeObjectURL(old), 1000);
       await img.decode().catch(() => {});
       timings.last_plot_ms = performance.now() - t0;
+      if (r.frames[0]) $('plot-wrap').dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
       document.body.dataset.plotted = String(Date.now());
     } catch (e) {
       lastFrames = [];
@@ -639,6 +641,12 @@
     $('map-file').textContent = entry.name;
     $('map-component').value = entry.options.component || '';
     mapState = entry.options.column_map ? JSON.parse(JSON.stringify(entry.options.column_map)) : null;
+    const box = $('map-fields');
+    clear(box);
+    box.append(el('div', { id: 'map-form', class: 'map-form-grid' }), el('div', { id: 'map-entries' }),
+      el('details', {}, el('summary', {}, 'column map as JSON'),
+        el('textarea', { id: 'map-json', rows: 10, spellcheck: 'false', style: 'width:100%;font:12px ui-monospace,monospace',
+          oninput: (e) => { try { mapState = JSON.parse(e.target.value); renderMapForm(); schedulePreview(); } catch (_) { /* typing */ } } })));
     preview(true).then(() => renderMapForm());
     $('map-component').oninput = schedulePreview;
     $('map-dialog').showModal();
@@ -650,12 +658,13 @@
   }
   function renderMapForm() {
     const m = mapState;
-    const box = $('map-fields');
+    const box = $('map-form');
     clear(box);
-    if (!m) return;
+    if (!m || typeof m !== 'object') return;
+    m.entries = Array.isArray(m.entries) ? m.entries : [];
     const upd = (fn) => (v) => { fn(v); syncJson(); schedulePreview(); };
 
-    box.append(
+    box.append(...[
       field('delimiter', select(m.delimiter, [['auto', 'decide from the data'], ['comma', 'comma'], ['semicolon', 'semicolon'], ['tab', 'tab'], ['whitespace', 'spaces']], upd((v) => { m.delimiter = v; }))),
       field('lines before the data', el('input', { type: 'number', min: 0, value: m.skip_rows, oninput: (e) => upd((v) => { m.skip_rows = Number(v) || 0; })(e.target.value) })),
       field('column-name line', el('input', { type: 'number', min: 1, value: m.header_line ?? '', placeholder: 'last skipped line', oninput: (e) => upd((v) => { m.header_line = v === '' ? null : Number(v); })(e.target.value) })),
@@ -669,27 +678,26 @@
       field('magnitude', select(m.mag_scale?.scale || 'linear', [['linear', 'linear'], ['db', 'dB']], upd((v) => { m.mag_scale = v === 'db' ? { scale: 'db', reference: m.mag_scale?.reference ?? 1 } : { scale: 'linear' }; renderMapForm(); }))),
       m.mag_scale?.scale === 'db' ? field('dB reference (value unit)', el('input', { type: 'number', step: 'any', value: m.mag_scale.reference, oninput: (e) => upd((v) => { m.mag_scale.reference = Number(v); })(e.target.value) })) : null,
       field('phase unit', select(m.phase_unit, [['deg', 'degrees'], ['rad', 'radians']], upd((v) => { m.phase_unit = v; }))),
-      el('label', {}, el('input', { type: 'checkbox', checked: m.conjugate, onchange: (e) => upd((v) => { m.conjugate = v; })(e.target.checked) }), ' supplier uses e^{−iωt} (conjugate the values)'),
-      el('h3', {}, 'FRFs in the file'));
+      el('label', {}, el('input', { type: 'checkbox', checked: m.conjugate, onchange: (e) => upd((v) => { m.conjugate = v; })(e.target.checked) }), ' supplier uses e^{−iωt} (conjugate the values)')].filter(Boolean));
+    const ebox = $('map-entries');
+    clear(ebox);
+    ebox.append(el('h3', {}, 'FRFs in the file'));
     const forms = [['re-im', 're / im'], ['mag-phase', 'magnitude / phase'], ['real', 'one real value']];
     m.entries.forEach((en, i) => {
       const v = en.values;
       const cols = v.form === 're-im' ? ['re', 'im'] : v.form === 'mag-phase' ? ['mag', 'phase'] : ['value'];
-      box.append(el('div', { class: 'stage' },
+      ebox.append(el('div', { class: 'stage' },
         el('input', { value: en.out_dof, size: 10, placeholder: 'output DOF', title: 'output DOF, e.g. A1+Z', oninput: (e) => upd((x) => { en.out_dof = x; })(e.target.value) }),
         el('input', { value: en.in_dof, size: 10, placeholder: 'input DOF', title: 'input DOF (ignored for spectra)', oninput: (e) => upd((x) => { en.in_dof = x; })(e.target.value) }),
         select(v.form, forms, upd((x) => { en.values = x === 're-im' ? { form: x, re: 2, im: 3 } : x === 'mag-phase' ? { form: x, mag: 2, phase: 3 } : { form: x, value: 2 }; renderMapForm(); })),
         ...cols.map((c) => el('input', { value: colText(v[c]), size: 4, title: c + ' column', placeholder: c, oninput: (e) => upd((x) => { v[c] = colRef(x); })(e.target.value) })),
         el('button', { class: 'btn small', type: 'button', onclick: () => { m.entries.splice(i, 1); renderMapForm(); syncJson(); schedulePreview(); } }, '✕')));
     });
-    box.append(el('button', { class: 'btn small', type: 'button', onclick: () => {
+    ebox.append(el('button', { class: 'btn small', type: 'button', onclick: () => {
       const n = m.entries.length;
       m.entries.push({ out_dof: `${n + 1}+Z`, in_dof: '1+Z', values: { form: 're-im', re: 2 + 2 * n, im: 3 + 2 * n }, coherence: null });
       renderMapForm(); syncJson(); schedulePreview();
     } }, 'Add an FRF'));
-    box.append(el('details', {}, el('summary', {}, 'column map as JSON'),
-      el('textarea', { id: 'map-json', rows: 10, spellcheck: 'false', style: 'width:100%;font:12px ui-monospace,monospace',
-        oninput: (e) => { try { mapState = JSON.parse(e.target.value); schedulePreview(); } catch (_) { /* typing */ } } })));
     syncJson();
   }
   function syncJson() { const t = $('map-json'); if (t && document.activeElement !== t) t.value = JSON.stringify(mapState, null, 2); }

@@ -42,9 +42,9 @@ export function frameCsv(label2) {
 }
 
 // Receptance of a rigid mass m: H = −1/(ω² m).
-export function massCsv(m = 0.5) {
+export function massCsv(m = 0.5, node = '7') {
   const rows = FREQS.map((f) => [f, -1 / ((2 * Math.PI * f) ** 2 * m), 0]);
-  return native('mass', ['mass:7+Z'], ['mass:7+Z'], rows);
+  return native('mass', [`mass:${node}+Z`], [`mass:${node}+Z`], rows);
 }
 
 export const XSS_NODE = '<img src=x onerror=window.__xss=1>';

@@ -146,11 +146,14 @@ test('a recipe runs in the worker, plots, exports like the CLI; a bundle without
     await s.page.waitForFunction(() => /f = .* Hz/.test(document.getElementById('readout').textContent), null, { timeout: 5000 });
     await shot(s.page, '03-result-plot');
     // zoom by dragging: the frequency range shrinks
+    const full = JSON.parse(await s.page.$eval('#plot-wrap', (w) => w.dataset.xrange));
+    const box2 = await s.page.$eval('#plot-img', (i) => { i.scrollIntoView({ block: 'center' }); const r = i.getBoundingClientRect(); return { x: r.x, y: r.y, w: r.width, h: r.height }; });
+    Object.assign(box, box2);
     await s.page.mouse.move(box.x + box.w * 0.3, box.y + box.h * 0.3);
     await s.page.mouse.down();
     await s.page.mouse.move(box.x + box.w * 0.6, box.y + box.h * 0.3, { steps: 4 });
     await s.page.mouse.up();
-    await s.page.waitForTimeout(500);
+    await s.page.waitForFunction((f) => { const r = JSON.parse(document.getElementById('plot-wrap').dataset.xrange); return r[0] > f[0] && r[1] < f[1]; }, full, { timeout: 5000 });
     await shot(s.page, '04-zoomed');
     for (const kind of ['re-im', 'nyquist', 'condition', 'bars']) {
       await s.page.selectOption('#plot-kind', kind);
@@ -243,9 +246,36 @@ test('a supplier CSV opens the column-mapping dialog with a live preview', async
     };
     await s.page.fill('#map-json', JSON.stringify(map));
     await s.page.waitForSelector('#map-plot:not([hidden])', { timeout: 10000 });
+    await s.page.$eval('#map-plot', (e) => e.scrollIntoView({ block: 'end' }));
     await shot(s.page, '07-mapping-dialog');
     await s.page.click('#map-ok');
     await s.page.waitForFunction(() => { const c = document.querySelector('.card[data-file="supplier.csv"]'); return c && !c.classList.contains('failed'); });
     assert.match(await s.page.textContent('.card[data-file="supplier.csv"]'), /mobility/);
+  } finally { await s.close(); }
+});
+
+test('the assembly panel suggests joints by node label and writes a recipe that runs', async () => {
+  const s = await open();
+  try {
+    await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv(0.5, '2') }]);
+    const n = await s.page.locator('#asm-parts input[type=checkbox]').count();
+    assert.equal(n, 2);
+    for (let i = 0; i < n; i++) await s.page.locator('#asm-parts input[type=checkbox]').nth(i).check();
+    await s.page.click('#suggest-btn');
+    const rows = await s.page.$$eval('#joints-body tr', (trs) => trs.map((tr) => [...tr.querySelectorAll('select')].slice(0, 3).map((x) => x.value)));
+    assert.deepEqual(rows, [['frame:2+Z', 'mass:2+Z', 'rigid']]);
+    // make it a flexible joint: spring-damper with k, c, η
+    await s.page.selectOption('#joints-body tr select >> nth=2', 'spring-damper');
+    const nums = s.page.locator('#joints-body tr input[type=number]');
+    await nums.nth(0).fill('2e5');
+    await nums.nth(1).fill('3');
+    await nums.nth(2).fill('0.1');
+    await s.page.click('#build-recipe-btn');
+    const recipe = JSON.parse(await s.page.inputValue('#recipe-text'));
+    assert.deepEqual(recipe.steps[0].joints, [{ a: 'frame:2+Z', b: 'mass:2+Z', type: 'spring-damper', k: 2e5, c: 3, eta: 0.1 }]);
+    assert.deepEqual(recipe.outputs, ['assembly']);
+    await runRecipe(s.page);
+    assert.match(await s.page.textContent('#report'), /assembly/);
+    await shot(s.page, '08-assembly-panel');
   } finally { await s.close(); }
 });
