@@ -94,11 +94,8 @@ fn round_trip(binary: bool) {
     let l2 = io::load(&bundle, "casing.json", &opts).unwrap();
     bits_equal(s0, &l2.sets[0], "CSV → bundle");
     let uff = io::save(&l2.sets, ExportFormat::UffBinary).unwrap();
-    let keep = ImportOptions {
-        component: Some("casing".into()),
-        ..ImportOptions::default()
-    };
-    let l3 = io::load(&uff, "casing_out.uff", &keep).unwrap();
+    // the component travels in the UFF entity names, not in the file name
+    let l3 = io::load(&uff, "casing_out.uff", &opts).unwrap();
     assert_eq!(l3.format, Format::Uff58Binary);
     bits_equal(s0, &l3.sets[0], "bundle → UFF 58b");
     // our CSV and the bundle carry the provenance chain; UFF has no place for it

@@ -9,7 +9,7 @@ mod common;
 
 use mortise::synth::beam::{beam_frequency, clamped_free_lambda, free_free_lambda};
 use mortise::synth::{Beam, BeamEnd, SystemMatrices};
-use mortise::FrfSet;
+use mortise::{Direction, FrfSet};
 use nalgebra::DMatrix;
 use serde_json::{json, Value};
 use std::f64::consts::PI;
@@ -171,4 +171,83 @@ fn beam_receptance_is_passive_and_reciprocal() {
     let ff = beam(BeamEnd::Free, BeamEnd::Free, 0.0);
     let e = ff.receptance(&[0.0, 1.0], &[]).unwrap_err();
     assert!(e.message.contains("0 Hz"), "{}", e.message);
+}
+
+#[test]
+fn inclined_free_frame_has_beam_and_bar_frequencies() {
+    // A straight free–free member at 30° in the X–Z plane: its bending modes are
+    // the beam's, λ_n = 4.73004074, 7.85320462 (Blevins; from memory), and its
+    // axial modes those of a free–free bar, f_n = n/(2L)·√(E/ρ) (textbook).
+    use mortise::synth::{real_modes, Frame, FrameMember, FrameNode};
+    let (c, s) = (30f64.to_radians().cos(), 30f64.to_radians().sin());
+    let f = Frame {
+        component: "f".into(),
+        nodes: vec![
+            FrameNode {
+                name: "p".into(),
+                x: 0.0,
+                z: 0.0,
+            },
+            FrameNode {
+                name: "q".into(),
+                x: L * c,
+                z: L * s,
+            },
+        ],
+        members: vec![FrameMember {
+            a: "p".into(),
+            b: "q".into(),
+            elements: 40,
+            young: E,
+            second_moment: I,
+            density: RHO,
+            area: A,
+        }],
+        supports: vec![],
+        loss_factor: 0.0,
+        rayleigh: None,
+    };
+    let sm = f.matrices().unwrap();
+    let (lam, phi) = real_modes(&sm.k, &sm.m).unwrap();
+    let hz: Vec<f64> = lam.iter().map(|l| l.max(0.0).sqrt() / (2.0 * PI)).collect();
+    assert!(
+        hz[..3].iter().all(|&x| x < 1e-2),
+        "three rigid-body modes: {:?}",
+        &hz[..4]
+    );
+    // sort the flexible modes into axial and bending by the share of motion along the member
+    let (mut axial, mut bending) = (Vec::new(), Vec::new());
+    for r in 3..hz.len() {
+        let (mut ua, mut ut) = (0.0, 0.0);
+        for (k, d) in sm.dofs.iter().enumerate() {
+            if d.dir == Direction::X {
+                let (x, z) = (phi[(k, r)], phi[(k + 1, r)]);
+                ua += (c * x + s * z).powi(2);
+                ut += (s * x - c * z).powi(2);
+            }
+        }
+        if ua > 0.9 * (ua + ut) {
+            axial.push(hz[r]);
+        } else if ua < 0.1 * (ua + ut) {
+            bending.push(hz[r]);
+        }
+    }
+    for (n, lam) in [4.73004074, 7.85320462].iter().enumerate() {
+        let want = beam_frequency(*lam, E, I, RHO, A, L);
+        let rel = (bending[n] - want).abs() / want;
+        println!(
+            "bending {want:.3} Hz: frame {:.3} Hz, rel. {rel:.2e}",
+            bending[n]
+        );
+        assert!(rel < 0.005);
+    }
+    for n in 1..=2 {
+        let want = n as f64 / (2.0 * L) * (E / RHO).sqrt();
+        let rel = (axial[n - 1] - want).abs() / want;
+        println!(
+            "axial {want:.1} Hz: frame {:.1} Hz, rel. {rel:.2e}",
+            axial[n - 1]
+        );
+        assert!(rel < 0.005);
+    }
 }

@@ -420,3 +420,42 @@ fn components_travel_in_entity_names() {
     .unwrap();
     assert_eq!(sets[0].outputs[0].component, "wall");
 }
+
+#[test]
+fn provenance_chain_travels_in_id_lines() {
+    use mortise::frf::Provenance;
+    let d = Dof::new("w", "1", Direction::Z);
+    let mut s = mortise::frf::FrfSet::zeros(
+        "h",
+        GA.to_vec(),
+        vec![d.clone()],
+        vec![d.clone(), Dof::new("w", "2", Direction::Z)],
+        Quantity::Displacement,
+        Quantity::Force,
+    );
+    for (n, f) in ["casing.uff", "casing.csv", "casing bundle.json"]
+        .iter()
+        .enumerate()
+    {
+        s.provenance.push(Provenance {
+            file: f.to_string(),
+            sha256: format!("{n}").repeat(64),
+            format: ["uff58-ascii", "csv-mortise", "bundle"][n].to_string(),
+            options: String::new(),
+        });
+    }
+    let bytes = uff58::write(&[s.clone()], true).unwrap();
+    let (sets, _) = uff58::read(&bytes, "out.uff", "w").unwrap();
+    let p = &sets[0].provenance;
+    // two datasets give six ID lines: room for three entries, then this file
+    assert_eq!(p.len(), 4, "{p:?}");
+    assert_eq!(&p[..3], &s.provenance[..]);
+    assert_eq!(p[3].file, "out.uff");
+    assert_eq!(p[3].sha256, mortise::io::sha256_hex(&bytes));
+    // one dataset holds only the first entry and a half: the first is kept
+    let one = s.select(&[0], &[0]);
+    let bytes = uff58::write(&[one], false).unwrap();
+    let (sets, _) = uff58::read(&bytes, "one.uff", "w").unwrap();
+    assert_eq!(sets[0].provenance.len(), 2);
+    assert_eq!(sets[0].provenance[0].file, "casing.uff");
+}

@@ -8,6 +8,7 @@
 pub mod bundle;
 pub mod csv;
 pub mod merge;
+pub mod nodes;
 pub mod uff58;
 
 use crate::error::{Error, Result};
@@ -246,7 +247,9 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
     let mut warnings = Vec::new();
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
-            let (sets, w) = uff58::read(bytes, file, &component)?;
+            // without a given component, each DOF takes the one written in
+            // the record-6 entity name, else the file stem
+            let (sets, w) = uff58::read_with(bytes, file, opts.component.as_deref())?;
             warnings.extend(w);
             sets
         }

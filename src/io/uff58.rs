@@ -47,6 +47,18 @@
 //! three to a 78-column line: bit-exact, readable by blank-separated readers
 //! (and by mortise), but not by readers that insist on the 20-column fields.
 
+//!
+//! ## What mortise writes
+//! One dataset per present entry: function type 4 for FRFs; 12 for peak or
+//! RMS spectra, 2 for autopower, 9 for PSD; 6 for coherence after its FRF.
+//! Double precision, SI units labels (records 9 and 10), specific data types
+//! 8/11/12 (motion), 9 (force response) / 13 (excitation force), 15
+//! (pressure), 18 (frequency). ID line 1 holds the set name, ID line 2 the
+//! FRF kind or `signal=<kind>` (so our own spectra read back as peak or RMS
+//! without the usual warning), ID lines 3-5 the provenance chain
+//! ([`provenance_lines`]). The record-6 entity names hold the DOF component
+//! when it fits 10 columns; [`read_with`] with no component given restores it.
+
 use crate::error::{Error, Result};
 use crate::frf::{Direction, Dof, FrfSet, Provenance, SignalKind};
 use crate::units::{self, Dim, Quantity};
@@ -1266,6 +1278,8 @@ struct Entry {
     line: usize,
     binary: bool,
     name: String,
+    /// ID lines 3-5 (they may carry an earlier provenance chain).
+    ids: [String; 3],
 }
 
 struct Group {
@@ -1588,6 +1602,7 @@ pub fn read_with(
                         line: ds.line,
                         binary: ds.binary,
                         name,
+                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
                     },
                     rm,
                 );
@@ -1613,6 +1628,7 @@ pub fn read_with(
                         line: ds.line,
                         binary: ds.binary,
                         name,
+                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
                     },
                     rm,
                 );
@@ -1642,6 +1658,16 @@ pub fn read_with(
             "uff58-ascii"
         }
         .to_string();
+        let lines: Vec<&str> = g
+            .entries
+            .iter()
+            .flat_map(|e| e.ids.iter().map(|t| t.as_str()))
+            .collect();
+        for q in provenance_from_lines(&lines) {
+            if !s.provenance.contains(&q) {
+                s.provenance.push(q);
+            }
+        }
         s.provenance.push(p);
         if sets.iter().any(|o| o.name == s.name) {
             let label = match g.role {
@@ -1837,19 +1863,29 @@ fn fit(v: f64, width: usize) -> String {
             }
         }
     };
-    if let Some(t) = (0..=16)
-        .rev()
-        .map(|p| format!("{v:.p$e}"))
-        .find(|t| t.len() <= room)
-    {
-        consider(t);
-    }
-    if let Some(t) = (0..=16)
-        .rev()
-        .map(|p| format!("{v:.p$}"))
-        .find(|t| t.len() <= room)
-    {
-        consider(t);
+    // with p digits after the point the text is len(p = 0) + 1 + p long,
+    // give or take one when rounding carries into the exponent
+    for plain in [false, true] {
+        let f = |p: usize| {
+            if plain {
+                format!("{v:.p$}")
+            } else {
+                format!("{v:.p$e}")
+            }
+        };
+        let l0 = f(0).len();
+        let mut p = room.saturating_sub(l0 + 1).min(16);
+        loop {
+            let t = f(p);
+            if t.len() <= room {
+                consider(t);
+                break;
+            }
+            if p == 0 {
+                break;
+            }
+            p -= 1;
+        }
     }
     let t = best.map(|b| b.1).unwrap_or_else(|| format!("{v:.0e}"));
     format!("{t:>width$}")
@@ -1886,6 +1922,75 @@ fn node_number(d: &Dof, set: &str) -> Result<i64> {
             d.node
         ))),
     }
+}
+
+/// The provenance chain as ID-line text, two lines an entry:
+/// `from <format> <file>` and `sha256 <hex>` (file names cut to fit 80
+/// columns). The writer spreads the lines over ID lines 3-5 of a set's
+/// datasets (three per dataset, in order); a chain longer than that keeps
+/// its first entries.
+pub fn provenance_lines(prov: &[Provenance]) -> Vec<String> {
+    let mut v = Vec::new();
+    for p in prov {
+        let fmt = if p.format.trim().is_empty() || p.format.contains(char::is_whitespace) {
+            "-"
+        } else {
+            p.format.as_str()
+        };
+        let head = format!("from {fmt} ");
+        let room = 80 - head.len().min(80);
+        let name: String = p
+            .file
+            .chars()
+            .map(|c| if c.is_control() { ' ' } else { c })
+            .take(room)
+            .collect();
+        v.push(format!("{head}{}", name.trim()));
+        let sha = if p.sha256.len() == 64 && p.sha256.chars().all(|c| c.is_ascii_hexdigit()) {
+            p.sha256.as_str()
+        } else {
+            "-"
+        };
+        v.push(format!("sha256 {sha}"));
+    }
+    v
+}
+
+/// Read back what [`provenance_lines`] wrote; other ID text is ignored.
+pub fn provenance_from_lines(lines: &[&str]) -> Vec<Provenance> {
+    let mut v = Vec::new();
+    let mut k = 0;
+    while k + 1 < lines.len() {
+        let a = lines[k].trim();
+        let b = lines[k + 1].trim();
+        if let (Some(rest), Some(sha)) = (a.strip_prefix("from "), b.strip_prefix("sha256 ")) {
+            if let Some((fmt, file)) = rest.split_once(' ') {
+                let sha = sha.trim();
+                let ok =
+                    sha == "-" || (sha.len() == 64 && sha.chars().all(|c| c.is_ascii_hexdigit()));
+                if ok && !file.trim().is_empty() {
+                    v.push(Provenance {
+                        file: file.trim().to_string(),
+                        sha256: if sha == "-" {
+                            String::new()
+                        } else {
+                            sha.to_string()
+                        },
+                        format: if fmt == "-" {
+                            String::new()
+                        } else {
+                            fmt.to_string()
+                        },
+                        options: String::new(),
+                    });
+                    k += 2;
+                    continue;
+                }
+            }
+        }
+        k += 1;
+    }
+    v
 }
 
 /// The component as a record-6 entity name, when it fits (1-10 characters,
@@ -2099,12 +2204,16 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
     let even = match layout {
         Layout::Binary | Layout::Ascii(_) => even_grid(&set.freqs),
     };
+    let chain = provenance_lines(&set.provenance);
+    let mut n_primary = 0usize;
     let mut out = Vec::new();
     for i in 0..set.n_out() {
         for j in 0..set.n_in() {
             if !set.is_present(i, j) {
                 continue;
             }
+            let slot = n_primary;
+            n_primary += 1;
             let o = &set.outputs[i];
             let inp = &set.inputs[j];
             let orot = o.dir.is_rotational();
@@ -2149,9 +2258,18 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 id: [
                     set.name.clone(),
                     id2.clone(),
-                    "NONE".into(),
-                    format!("{o} / {inp}"),
-                    "NONE".into(),
+                    chain
+                        .get(3 * slot)
+                        .cloned()
+                        .unwrap_or_else(|| "NONE".into()),
+                    chain
+                        .get(3 * slot + 1)
+                        .cloned()
+                        .unwrap_or_else(|| "NONE".into()),
+                    chain
+                        .get(3 * slot + 2)
+                        .cloned()
+                        .unwrap_or_else(|| "NONE".into()),
                 ],
                 func_type,
                 func_id: 0,
@@ -2183,6 +2301,9 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                     let mut cd = base.clone();
                     cd.func_type = 6;
                     cd.id[1] = "coherence".into();
+                    for l in cd.id[2..].iter_mut() {
+                        *l = "NONE".into();
+                    }
                     cd.ord_type = 4;
                     cd.y = c.iter().map(|&v| Complex64::new(v, 0.0)).collect();
                     cd.axes[1] = AxisInfo {

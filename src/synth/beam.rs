@@ -262,13 +262,16 @@ pub fn beam_frequency(
 
 /// The n-th (1-based) flexible eigenvalue λ of a free–free (equally a
 /// clamped–clamped) beam: root of cos λ cosh λ = 1 in ((n + ½)π ± ½π),
-/// found by bisection.
+/// found by bisection; 0 for n = 0.
 pub fn free_free_lambda(n: usize) -> f64 {
+    if n == 0 {
+        return 0.0; // the rigid-body modes
+    }
     bisect(|x| x.cos() * x.cosh() - 1.0, n)
 }
 
-/// The n-th (1-based) eigenvalue λ of a clamped–free beam: root of
-/// cos λ cosh λ = −1.
+/// The n-th (1-based; 0 is taken as 1) eigenvalue λ of a clamped–free beam:
+/// root of cos λ cosh λ = −1.
 pub fn clamped_free_lambda(n: usize) -> f64 {
     bisect(|x| x.cos() * x.cosh() + 1.0, n.saturating_sub(1))
 }
@@ -416,7 +419,15 @@ impl Frame {
                     b
                 } else {
                     let t = e as f64 / mb.elements as f64;
-                    names.push(format!("{}-{}.{e}", mb.a, mb.b));
+                    let gen = format!("{}-{}.{e}", mb.a, mb.b);
+                    if names.contains(&gen) {
+                        return Err(Error::dof(format!(
+                            "member {}–{} would create the node '{gen}', which already exists; rename that node or join the two members once",
+                            mb.a, mb.b
+                        ))
+                        .field(f));
+                    }
+                    names.push(gen);
                     pos.push((pa.0 + t * (pb.0 - pa.0), pa.1 + t * (pb.1 - pa.1)));
                     names.len() - 1
                 };
