@@ -651,8 +651,8 @@ fn legend<DB: DrawingBackend>(b: &mut DB, p: &Panel, labels: &[String]) -> Resul
     let shown: Vec<String> = labels
         .iter()
         .map(|l| {
-            if l.chars().count() > 48 {
-                format!("{}…", l.chars().take(47).collect::<String>())
+            if l.chars().count() > 72 {
+                format!("{}…", l.chars().take(71).collect::<String>())
             } else {
                 l.clone()
             }
@@ -831,7 +831,33 @@ fn draw_frf<DB: DrawingBackend>(
     curves: &[Curve],
     (left, top, right, bottom): (i32, i32, i32, i32),
 ) -> Result<Vec<Frame>> {
-    let labels: Vec<String> = curves.iter().map(|c| c.label.clone()).collect();
+    // Curves of different quantities share one axis only with their own
+    // reference or unit named in the legend.
+    let mixed_db = curves.iter().any(|c| c.db_label != curves[0].db_label);
+    let mixed_unit = curves.iter().any(|c| c.unit != curves[0].unit);
+    let level_db_mixed = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
+    let labels: Vec<String> = curves
+        .iter()
+        .map(|c| {
+            if level_db_mixed && mixed_db {
+                format!("{} [{}]", c.label, c.db_label)
+            } else if !level_db_mixed && mixed_unit {
+                format!("{} [{}]", c.label, c.unit)
+            } else {
+                c.label.clone()
+            }
+        })
+        .collect();
+    let unit_text = if mixed_unit {
+        "units in the legend".to_string()
+    } else {
+        curves[0].unit.clone()
+    };
+    let db_text = if mixed_db {
+        "dB, reference in the legend".to_string()
+    } else {
+        curves[0].db_label.clone()
+    };
     let fx =
         |c: &Curve, ys: Vec<f64>| -> Vec<(f64, f64)> { c.freqs.iter().copied().zip(ys).collect() };
     let freq_title = "frequency (Hz)";
@@ -871,7 +897,7 @@ fn draw_frf<DB: DrawingBackend>(
                 x,
                 y,
             };
-            let u = &curves[0].unit;
+            let u = &unit_text;
             axes(
                 b,
                 &p,
@@ -916,14 +942,14 @@ fn draw_frf<DB: DrawingBackend>(
                             .map(|c| fx(c, c.values.iter().map(|v| v.re).collect()))
                             .collect(),
                         y_axis(spec.y_range, v, false, false),
-                        format!("real part ({})", curves[0].unit),
+                        format!("real part ({unit_text})"),
                     )
                 } else if spec.db {
                     let v = visible_vals(&|c, k| c.level[k]);
                     (
                         curves.iter().map(|c| fx(c, c.level.clone())).collect(),
                         y_axis(spec.y_range, v, false, true),
-                        format!("level ({})", curves[0].db_label),
+                        format!("level ({db_text})"),
                     )
                 } else {
                     let v = visible_vals(&|c, k| c.values[k].norm());
@@ -933,7 +959,7 @@ fn draw_frf<DB: DrawingBackend>(
                             .map(|c| fx(c, c.values.iter().map(|v| v.norm()).collect()))
                             .collect(),
                         y_axis(spec.y_range, v, false, false),
-                        format!("magnitude ({})", curves[0].unit),
+                        format!("magnitude ({unit_text})"),
                     )
                 };
             let p1 = Panel {
@@ -963,7 +989,7 @@ fn draw_frf<DB: DrawingBackend>(
                                 .map(|c| fx(c, c.values.iter().map(|v| v.im).collect()))
                                 .collect::<Vec<_>>(),
                             y_axis(None, v, false, false),
-                            format!("imaginary part ({})", curves[0].unit),
+                            format!("imaginary part ({unit_text})"),
                             None,
                         )
                     } else {
@@ -1430,6 +1456,19 @@ mod tests {
         let e = s["a"].get(0, 0, 0).norm_sqr() + s["a"].get(1, 0, 0).norm_sqr();
         assert!((b.groups[0].values[0] - 10.0 * e.log10()).abs() < 1e-12);
         render_svg(&spec, &sdof()).unwrap();
+    }
+
+    #[test]
+    fn mixed_quantities_name_their_reference_in_the_legend() {
+        let mut sets = sdof();
+        let mut v = sets["a"].to_kind("mobility").unwrap();
+        v.name = "v".into();
+        sets.insert("b".into(), v);
+        let spec = PlotSpec::from_json(r#"{"series":[{"set":"a"},{"set":"b"}]}"#).unwrap();
+        let (svg, _) = render_svg(&spec, &sets).unwrap();
+        assert!(svg.contains("dB, reference in the legend"));
+        assert!(svg.contains("[dB re 1 (m/s)/(N)]"));
+        assert!(svg.contains("[dB re 1 (m)/(N)]"));
     }
 
     #[test]

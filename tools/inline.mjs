@@ -5,6 +5,7 @@
 // Content-Security-Policy, so no other script can run.
 import { readFileSync, writeFileSync, existsSync, readdirSync, statSync, mkdirSync } from 'node:fs';
 import { createHash } from 'node:crypto';
+import { gzipSync } from 'node:zlib';
 import { join, dirname } from 'node:path';
 
 const [www, gluePath, wasmPath, demoDir, out] = process.argv.slice(2);
@@ -31,14 +32,17 @@ if (css.toLowerCase().includes('</style')) {
 const glue = safeJs('the wasm-bindgen glue', read(gluePath));
 const workerSrc = safeJs('worker.js', glue + '\n' + read(join(www, 'worker.js')));
 const pageJs = safeJs('bridge.js + app.js', read(join(www, 'bridge.js')) + '\n' + read(join(www, 'app.js')));
-const wasmB64 = readFileSync(wasmPath).toString('base64');
+// The wasm and the demo files travel gzip-compressed (the page inflates them
+// with the browser's own DecompressionStream), which keeps the page small.
+const gz = (b) => gzipSync(b, { level: 9 });
+const wasmB64 = gz(readFileSync(wasmPath)).toString('base64');
 
 // Demo files: every regular file of the demo folder, base64.
 const demo = [];
 if (demoDir && existsSync(demoDir)) {
   for (const name of readdirSync(demoDir).sort()) {
     const p = join(demoDir, name);
-    if (statSync(p).isFile()) demo.push({ name, base64: readFileSync(p).toString('base64') });
+    if (statSync(p).isFile()) demo.push({ name, encoding: 'gzip', base64: gz(readFileSync(p)).toString('base64') });
   }
 }
 const demoJson = JSON.stringify({ files: demo }).replace(/</g, '\\u003c');
@@ -61,7 +65,7 @@ const parts = {
   '<!--@CSP-->': `<meta http-equiv="Content-Security-Policy" content="${csp}">`,
   '<!--@STYLE-->': `<style>\n${css}</style>`,
   '<!--@DATA-->':
-    `<script type="application/x-wasm-base64" id="core-wasm">${wasmB64}</script>\n` +
+    `<script type="application/x-wasm-base64" id="core-wasm" data-encoding="gzip">${wasmB64}</script>\n` +
     `<script type="text/plain" id="worker-src">${workerSrc}</script>\n` +
     `<script type="application/json" id="demo-files">${demoJson}</script>`,
   '<!--@SCRIPT-->': `<script>${pageJs}</script>`,

@@ -442,7 +442,7 @@
         el('td', {}, st.id), el('td', {}, st.op),
         el('td', {}, st.worst_condition !== undefined && st.worst_condition !== null
           ? `interface condition number up to ${fmt(st.worst_condition)} at ${fmt(st.worst_condition_hz)} Hz` : ''),
-        el('td', {}, (st.warnings || []).join('; '))));
+        el('td', {}, [...new Set(st.warnings || [])].join('; '))));
       if (rows.length) rep.append(el('table', {}, el('tr', {}, el('th', {}, 'step'), el('th', {}, 'operation'), el('th', {}, 'conditioning'), el('th', {}, 'warnings')), ...rows));
       for (const v of report.variants || []) {
         const d = Object.entries(v.level_change_db || {}).map(([k, x]) => `${k}: ${x === null ? '–' : (x > 0 ? '+' : '') + fmt(x, 3) + ' dB'}`).join(', ');
@@ -807,7 +807,10 @@
     status('loading the heat-pump demo…', 'busy');
     // the recipe first: it carries the column maps of the supplier CSVs
     const order = [...demo.files].sort((a, b) => /\.recipe\.json$/i.test(b.name) - /\.recipe\.json$/i.test(a.name));
-    for (const f of order) await addFile(f.name, Bridge.decodeBase64(f.base64));
+    for (const f of order) {
+      const raw = Bridge.decodeBase64(f.base64);
+      await addFile(f.name, f.encoding === 'gzip' ? await Bridge.gunzip(raw) : raw);
+    }
     status(`demo loaded: ${demo.files.length} file(s); press Run`);
   }
 
@@ -859,7 +862,7 @@
     wire();
     renderAll();
     try {
-      const version = await Bridge.start($('core-wasm').textContent, $('worker-src').textContent);
+      const version = await Bridge.start($('core-wasm').textContent, $('core-wasm').dataset.encoding, $('worker-src').textContent);
       $('core-version').textContent = 'core ' + version;
       const restored = await restore();
       timings.ready_ms = performance.now() - T0;

@@ -20,6 +20,12 @@ const Bridge = (() => {
     return out;
   }
 
+  // Inflate gzip bytes with the browser's DecompressionStream (no network involved).
+  async function gunzip(bytes) {
+    const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream('gzip'));
+    return new Uint8Array(await new Response(stream).arrayBuffer());
+  }
+
   function spawn() {
     worker = new Worker(workerUrl);
     ready = new Promise((resolve, reject) => {
@@ -47,8 +53,10 @@ const Bridge = (() => {
     return { kind: 'io', message: String(text) };
   }
 
-  async function start(wasmBase64, workerSource) {
-    module = await WebAssembly.compile(decodeBase64(wasmBase64));
+  async function start(wasmBase64, encoding, workerSource) {
+    let bytes = decodeBase64(wasmBase64);
+    if (encoding === 'gzip') bytes = await gunzip(bytes);
+    module = await WebAssembly.compile(bytes);
     workerUrl = URL.createObjectURL(new Blob([workerSource], { type: 'text/javascript' }));
     return spawn();
   }
@@ -78,7 +86,7 @@ const Bridge = (() => {
   }
 
   return {
-    start, call, callJson, cancel, decodeBase64,
+    start, call, callJson, cancel, decodeBase64, gunzip,
     onProgress(cb) { progressCb = cb; },
     setReplay(fn) { replayHook = fn; },
     busy() { return pending.size > 0; },

@@ -77,7 +77,9 @@ fn wall_csv(p: &DemoParts) -> Result<String> {
 fn vibro_csv(p: &DemoParts) -> String {
     let v = &p.vibro;
     let mut s = String::new();
-    s.push_str("# sound pressure at the bed per force at each anchor, Pa/N (demo data, invented)\n");
+    s.push_str(
+        "# sound pressure at the bed per force at each anchor, Pa/N (demo data, invented)\n",
+    );
     let mut head = vec!["freq_Hz".to_string()];
     for i in &v.inputs {
         head.push(format!("p_bed_{}_re", i.node));
@@ -98,14 +100,25 @@ fn vibro_csv(p: &DemoParts) -> String {
 }
 
 fn dofs(prefix: &str, nodes: &[&str], dir: &str) -> Vec<String> {
-    nodes.iter().map(|n| format!("{prefix}:{n}+{dir}")).collect()
+    nodes
+        .iter()
+        .map(|n| format!("{prefix}:{n}+{dir}"))
+        .collect()
 }
 
 /// The demo recipe.
 pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
     use serde_json::json;
-    let node = |map: &[(&str, &str)], n: &str| map.iter().find(|(a, _)| *a == n).map(|(_, b)| b.to_string()).unwrap_or_default();
-    let seats: Vec<String> = ["s1", "s2", "s3", "s4"].iter().map(|s| node(&CASING_NODES, s)).collect();
+    let node = |map: &[(&str, &str)], n: &str| {
+        map.iter()
+            .find(|(a, _)| *a == n)
+            .map(|(_, b)| b.to_string())
+            .unwrap_or_default()
+    };
+    let seats: Vec<String> = ["s1", "s2", "s3", "s4"]
+        .iter()
+        .map(|s| node(&CASING_NODES, s))
+        .collect();
     let anchors = ["a1", "a2", "a3", "a4"];
     let mut joints = Vec::new();
     for s in ["s1", "s2", "s3", "s4"] {
@@ -202,7 +215,8 @@ fn renumber(set: &FrfSet, map: &[(&str, &str)]) -> FrfSet {
 }
 
 /// The unit maker's node numbers for the isolator seats.
-pub const CASING_NODES: [(&str, &str); 4] = [("s1", "101"), ("s2", "102"), ("s3", "103"), ("s4", "104")];
+pub const CASING_NODES: [(&str, &str); 4] =
+    [("s1", "101"), ("s2", "102"), ("s3", "103"), ("s4", "104")];
 /// The bracket maker's node numbers for the seats and the wall anchors.
 pub const BRACKET_NODES: [(&str, &str); 8] = [
     ("s1", "1"),
@@ -221,14 +235,24 @@ pub fn files() -> Result<Vec<(String, Vec<u8>)>> {
     let casing = renumber(&p.casing.to_kind("mobility")?, &CASING_NODES);
     let forces = renumber(&p.blocked_forces, &CASING_NODES);
     let bracket = renumber(&p.bracket, &BRACKET_NODES);
-    let recipe = serde_json::to_string_pretty(&recipe_json(&p)).map_err(|e| Error::io(e.to_string()))?;
+    let recipe =
+        serde_json::to_string_pretty(&recipe_json(&p)).map_err(|e| Error::io(e.to_string()))?;
     Ok(vec![
         ("unit-casing.uff".into(), uff58::write(&[casing], false)?),
-        ("unit-blocked-forces.uff".into(), uff58::write(&[forces], false)?),
-        ("isolator-stiffness.csv".into(), isolator_csv(&p).into_bytes()),
+        (
+            "unit-blocked-forces.uff".into(),
+            uff58::write(&[forces], false)?,
+        ),
+        (
+            "isolator-stiffness.csv".into(),
+            isolator_csv(&p).into_bytes(),
+        ),
         ("brackets.uffb".into(), uff58::write(&[bracket], true)?),
         ("wall-accelerance.csv".into(), wall_csv(&p)?.into_bytes()),
-        ("wall-to-bed-pressure.csv".into(), vibro_csv(&p).into_bytes()),
+        (
+            "wall-to-bed-pressure.csv".into(),
+            vibro_csv(&p).into_bytes(),
+        ),
         ("heat-pump.recipe.json".into(), (recipe + "\n").into_bytes()),
     ])
 }
@@ -238,7 +262,8 @@ pub fn run(args: &Args) -> Result<String> {
     let dir = PathBuf::from(args.value("o").unwrap_or("sample-frf"));
     let check = args.flag("check");
     let mut out = String::new();
-    std::fs::create_dir_all(&dir).map_err(|e| Error::io(format!("cannot create '{}': {e}", dir.display())))?;
+    std::fs::create_dir_all(&dir)
+        .map_err(|e| Error::io(format!("cannot create '{}': {e}", dir.display())))?;
     let mut stale = Vec::new();
     for (name, bytes) in files()? {
         let p = dir.join(&name);
@@ -249,7 +274,8 @@ pub fn run(args: &Args) -> Result<String> {
             }
             continue;
         }
-        std::fs::write(&p, &bytes).map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+        std::fs::write(&p, &bytes)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
         let _ = writeln!(out, "wrote {} ({} bytes)", p.display(), bytes.len());
     }
     if check {

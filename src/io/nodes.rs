@@ -69,8 +69,14 @@ mod tests {
         let s = FrfSet::zeros(
             "x",
             vec![1.0],
-            vec![Dof::new("wall", "a1", Direction::X), Dof::new("wall", "7", Direction::X)],
-            vec![Dof::new("wall", "a1", Direction::X), Dof::scalar("room", "bed")],
+            vec![
+                Dof::new("wall", "a1", Direction::X),
+                Dof::new("wall", "7", Direction::X),
+            ],
+            vec![
+                Dof::new("wall", "a1", Direction::X),
+                Dof::scalar("room", "bed"),
+            ],
             Quantity::Velocity,
             Quantity::Force,
         );
@@ -79,6 +85,13 @@ mod tests {
         assert_eq!(o[0].inputs[0].node, "8");
         assert_eq!(o[0].inputs[1].node, "9");
         assert_eq!(map.len(), 2);
-        assert_eq!(map[1], NodeNumber { component: "room".into(), node: "bed".into(), number: 9 });
+        assert_eq!(
+            map[1],
+            NodeNumber {
+                component: "room".into(),
+                node: "bed".into(),
+                number: 9
+            }
+        );
     }
 }
