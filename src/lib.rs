@@ -49,6 +49,7 @@ pub mod levels;
 pub mod plot;
 pub mod predict;
 pub mod recipe;
+pub mod summary;
 pub mod synth;
 pub mod units;
 #[cfg(target_arch = "wasm32")]

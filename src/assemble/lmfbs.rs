@@ -627,52 +627,122 @@ impl Work {
 
 type LineResults = (Vec<f64>, Vec<usize>);
 
-fn run_chunk(p: &Prepared, k0: usize, out: &mut [MaybeUninit<Complex64>]) -> Result<LineResults> {
+fn run_chunk(
+    p: &Prepared,
+    k0: usize,
+    out: &mut [MaybeUninit<Complex64>],
+    w: &mut Work,
+) -> Result<LineResults> {
     let size = p.n_rows * p.n_cols;
     let n = out.len().checked_div(size).unwrap_or(0);
-    let mut w = Work::new(p);
     let mut cond = Vec::with_capacity(n);
     let mut trunc = Vec::with_capacity(n);
     for (l, dst) in out.chunks_mut(size.max(1)).enumerate() {
-        let (c, t) = one_line(p, k0 + l, &mut w, dst)?;
+        prefetch_line(p, k0 + l + 1);
+        let (c, t) = one_line(p, k0 + l, w, dst)?;
         cond.push(c);
         trunc.push(t);
     }
     Ok((cond, trunc))
 }
 
+/// Ask for the components' data of line `k` to be brought into the cache
+/// while the current line is computed (x86-64; a no-op elsewhere).
+#[inline]
+fn prefetch_line(p: &Prepared, k: usize) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        use std::arch::x86_64::{_mm_prefetch, _MM_HINT_T1};
+        for s in &p.sets {
+            if k >= s.n_lines() {
+                continue;
+            }
+            let l = s.line(k);
+            // one cache line (64 bytes) holds 4 values
+            for v in l.iter().step_by(4) {
+                // SAFETY: SSE is part of every x86-64 target; a prefetch of an
+                // address inside a live slice neither faults nor changes memory.
+                unsafe { _mm_prefetch::<_MM_HINT_T1>((v as *const Complex64).cast::<i8>()) };
+            }
+        }
+    }
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = (p, k);
+}
+
+/// Lines handed out to a worker at a time.
+#[cfg(not(target_arch = "wasm32"))]
+const BLOCK_LINES: usize = 32;
+
+/// The lines are dealt out in blocks of [`BLOCK_LINES`] to whichever worker
+/// is free (a busy machine slows threads unevenly); every line is computed
+/// by the same code whatever thread runs it.
 #[cfg(not(target_arch = "wasm32"))]
 fn run_lines(
     p: &Prepared,
     data: &mut [MaybeUninit<Complex64>],
     threads: usize,
 ) -> Result<LineResults> {
+    use std::sync::Mutex;
     let nl = p.sets[0].n_lines();
     let size = p.n_rows * p.n_cols;
-    if threads <= 1 || nl < 2 || size == 0 {
-        return run_chunk(p, 0, data);
+    if threads <= 1 || nl <= BLOCK_LINES || size == 0 {
+        return run_chunk(p, 0, data, &mut Work::new(p));
     }
-    let per = nl.div_ceil(threads.min(nl));
-    let results: Vec<Result<LineResults>> = std::thread::scope(|sc| {
-        let handles: Vec<_> = data
-            .chunks_mut(per * size)
-            .enumerate()
-            .map(|(c, chunk)| sc.spawn(move || run_chunk(p, c * per, chunk)))
+    let blocks = Mutex::new(data.chunks_mut(BLOCK_LINES * size).enumerate());
+    let workers = threads.min(nl.div_ceil(BLOCK_LINES));
+    type Done = Vec<(usize, Result<LineResults>)>;
+    let results: Vec<Done> = std::thread::scope(|sc| {
+        let handles: Vec<_> = (0..workers)
+            .map(|_| {
+                sc.spawn(|| {
+                    let mut w = Work::new(p);
+                    let mut done: Done = Vec::new();
+                    loop {
+                        let next = match blocks.lock() {
+                            Ok(mut it) => it.next(),
+                            Err(_) => None,
+                        };
+                        let Some((b, chunk)) = next else { break };
+                        let r = run_chunk(p, b * BLOCK_LINES, chunk, &mut w);
+                        let failed = r.is_err();
+                        done.push((b, r));
+                        if failed {
+                            break;
+                        }
+                    }
+                    done
+                })
+            })
             .collect();
         handles
             .into_iter()
             .map(|h| {
-                h.join()
-                    .unwrap_or_else(|_| Err(Error::numeric("a coupling worker thread panicked")))
+                h.join().unwrap_or_else(|_| {
+                    vec![(0, Err(Error::numeric("a coupling worker thread panicked")))]
+                })
             })
             .collect()
     });
+    let mut all: Done = results.into_iter().flatten().collect();
+    all.sort_by_key(|(b, _)| *b);
     let mut cond = Vec::with_capacity(nl);
     let mut trunc = Vec::with_capacity(nl);
-    for r in results {
+    for (seen, (b, r)) in all.into_iter().enumerate() {
         let (c, t) = r?;
+        if b != seen {
+            return Err(Error::numeric(format!(
+                "internal: block {seen} of the coupling was not computed"
+            )));
+        }
         cond.extend(c);
         trunc.extend(t);
+    }
+    if cond.len() != nl {
+        return Err(Error::numeric(format!(
+            "internal: {} of {nl} lines computed",
+            cond.len()
+        )));
     }
     Ok((cond, trunc))
 }
@@ -683,7 +753,7 @@ fn run_lines(
     data: &mut [MaybeUninit<Complex64>],
     _threads: usize,
 ) -> Result<LineResults> {
-    run_chunk(p, 0, data)
+    run_chunk(p, 0, data, &mut Work::new(p))
 }
 
 /// One frequency line: fills `dst` (n_rows × n_cols) and returns the

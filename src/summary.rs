@@ -1,0 +1,180 @@
+//! What a loaded file holds, in words and numbers a person checks at a
+//! glance: format, FRF count, DOFs, quantities and units, kind, grid,
+//! SHA-256 and warnings. Shared by the page (component cards) and any other
+//! face that wants an inspect summary.
+
+use crate::frf::FrfSet;
+use crate::io::Loaded;
+
+/// How the lines of a grid are spaced.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct GridSummary {
+    pub lines: usize,
+    pub f_min: f64,
+    pub f_max: f64,
+    /// "uniform", "logarithmic", "irregular" or "single line".
+    pub spacing: String,
+    /// Line spacing in Hz for a uniform grid, ratio between lines for a log grid.
+    pub step: Option<f64>,
+}
+
+/// One FRF set in words.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct SetSummary {
+    /// Identifier of the set in the caller's store (filled by the caller).
+    #[serde(default)]
+    pub id: String,
+    pub name: String,
+    pub kind: String,
+    /// "peak", "rms", "autopower", "psd" for spectra; None for FRFs.
+    pub signal: Option<String>,
+    pub out_qty: String,
+    pub in_qty: String,
+    /// SI unit of the outputs and inputs (translational DOFs).
+    pub out_unit: String,
+    pub in_unit: String,
+    pub outputs: Vec<String>,
+    pub inputs: Vec<String>,
+    /// Entries present (FRF count).
+    pub frfs: usize,
+    /// Entries absent from the matrix.
+    pub missing: usize,
+    pub coherence: bool,
+    pub grid: GridSummary,
+    pub warnings: Vec<String>,
+}
+
+/// One file in words.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct FileSummary {
+    pub file: String,
+    pub bytes: usize,
+    pub sha256: String,
+    pub format: String,
+    /// FRFs in all sets together.
+    pub frfs: usize,
+    pub sets: Vec<SetSummary>,
+    pub warnings: Vec<String>,
+}
+
+/// Describe the spacing of a frequency grid.
+pub fn grid(freqs: &[f64]) -> GridSummary {
+    let n = freqs.len();
+    let (f_min, f_max) = match (freqs.first(), freqs.last()) {
+        (Some(a), Some(b)) => (*a, *b),
+        _ => (f64::NAN, f64::NAN),
+    };
+    let mut g = GridSummary {
+        lines: n,
+        f_min,
+        f_max,
+        spacing: "single line".into(),
+        step: None,
+    };
+    if n < 2 {
+        return g;
+    }
+    let d0 = freqs[1] - freqs[0];
+    // Relative tolerance 1e-6 covers spacings printed with 7 significant digits.
+    let uniform = freqs
+        .windows(2)
+        .all(|w| ((w[1] - w[0]) - d0).abs() <= 1e-6 * d0.abs().max(f64::MIN_POSITIVE));
+    if uniform {
+        g.spacing = "uniform".into();
+        g.step = Some((f_max - f_min) / (n - 1) as f64);
+        return g;
+    }
+    if f_min > 0.0 {
+        let r0 = freqs[1] / freqs[0];
+        if freqs
+            .windows(2)
+            .all(|w| (w[1] / w[0] - r0).abs() <= 1e-6 * r0)
+        {
+            g.spacing = "logarithmic".into();
+            g.step = Some((f_max / f_min).powf(1.0 / (n - 1) as f64));
+            return g;
+        }
+    }
+    g.spacing = "irregular".into();
+    g
+}
+
+/// Summary of one set.
+pub fn set_summary(set: &FrfSet) -> SetSummary {
+    let frfs = set.present.iter().filter(|p| **p).count();
+    SetSummary {
+        id: String::new(),
+        name: set.name.clone(),
+        kind: set.kind().name().to_string(),
+        signal: set.signal.map(|s| s.name().to_string()),
+        out_qty: set.out_qty.name().to_string(),
+        in_qty: set.in_qty.name().to_string(),
+        out_unit: set.out_qty.si_unit(false).to_string(),
+        in_unit: set.in_qty.si_unit(false).to_string(),
+        outputs: set.outputs.iter().map(|d| d.to_string()).collect(),
+        inputs: set.inputs.iter().map(|d| d.to_string()).collect(),
+        frfs,
+        missing: set.present.len() - frfs,
+        coherence: set.coherence.is_some(),
+        grid: grid(&set.freqs),
+        warnings: set.warnings.clone(),
+    }
+}
+
+/// Summary of a loaded file.
+pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
+    let sets: Vec<SetSummary> = loaded.sets.iter().map(set_summary).collect();
+    FileSummary {
+        file: file.to_string(),
+        bytes: bytes.len(),
+        sha256: crate::io::sha256_hex(bytes),
+        format: loaded.format.name().to_string(),
+        frfs: sets.iter().map(|s| s.frfs).sum(),
+        sets,
+        warnings: loaded.warnings.clone(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::frf::{Direction, Dof};
+    use crate::units::Quantity;
+
+    #[test]
+    fn grids_are_named() {
+        let u: Vec<f64> = (0..11).map(|i| 10.0 + 2.5 * i as f64).collect();
+        let g = grid(&u);
+        assert_eq!(g.spacing, "uniform");
+        assert!((g.step.unwrap() - 2.5).abs() < 1e-12);
+        // Third-octave band centres (base-10 series, IEC 61260-1): ratio 10^0.1.
+        let l: Vec<f64> = (0..10)
+            .map(|i| 100.0 * 10f64.powf(0.1 * i as f64))
+            .collect();
+        let g = grid(&l);
+        assert_eq!(g.spacing, "logarithmic");
+        assert!((g.step.unwrap() - 10f64.powf(0.1)).abs() < 1e-9);
+        assert_eq!(grid(&[1.0, 2.0, 4.5]).spacing, "irregular");
+        assert_eq!(grid(&[5.0]).spacing, "single line");
+    }
+
+    #[test]
+    fn set_summary_counts_and_labels() {
+        let a = Dof::new("wall", "A1", Direction::Z);
+        let b = Dof::new("wall", "A2", Direction::Z);
+        let mut s = FrfSet::zeros(
+            "wall",
+            vec![10.0, 20.0],
+            vec![a.clone(), b.clone()],
+            vec![a, b],
+            Quantity::Velocity,
+            Quantity::Force,
+        );
+        s.present[1] = false;
+        let m = set_summary(&s);
+        assert_eq!(m.kind, "mobility");
+        assert_eq!((m.frfs, m.missing), (3, 1));
+        assert_eq!(m.outputs[1], "wall:A2+Z");
+        assert_eq!(m.out_unit, "m/s");
+    }
+}

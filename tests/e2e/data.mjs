@@ -1,0 +1,74 @@
+// Small FRF files for the page tests, written in mortise's own CSV layout
+// (see src/io/csv.rs, write_native). The numbers are a two-mass chain and a
+// rigid mass, made up for these plumbing tests only.
+
+function inv2(a, b, c, d) {
+  // inverse of the complex 2×2 [[a, b], [c, d]]; entries as [re, im]
+  const mul = (x, y) => [x[0] * y[0] - x[1] * y[1], x[0] * y[1] + x[1] * y[0]];
+  const sub = (x, y) => [x[0] - y[0], x[1] - y[1]];
+  const det = sub(mul(a, d), mul(b, c));
+  const n = det[0] * det[0] + det[1] * det[1];
+  const id = [det[0] / n, -det[1] / n];
+  const neg = (x) => [-x[0], -x[1]];
+  return [mul(d, id), mul(neg(b), id), mul(neg(c), id), mul(a, id)];
+}
+
+export const FREQS = Array.from({ length: 300 }, (_, i) => 2 + 2 * i);
+
+function native(name, outputs, inputs, rows) {
+  const lines = ['# mortise-frf 1', `# name: ${name}`, '# out-quantity: displacement', '# in-quantity: force', '# units: SI'];
+  for (const o of outputs) lines.push(`# output: ${o}`);
+  for (const i of inputs) lines.push(`# input: ${i}`);
+  const head = ['freq_Hz'];
+  for (const o of outputs) for (const i of inputs) head.push(`"re ${o}/${i}"`, `"im ${o}/${i}"`);
+  lines.push(head.join(','));
+  for (const r of rows) lines.push(r.map((v) => String(v)).join(','));
+  return lines.join('\n') + '\n';
+}
+
+// Receptance of a two-mass chain: ground –k1– m1 –k2– m2, hysteretic loss η.
+export function frameCsv(label2) {
+  const [m1, m2, k1, k2, eta] = [2, 1, 1e5, 5e4, 0.02];
+  const rows = FREQS.map((f) => {
+    const w2 = (2 * Math.PI * f) ** 2;
+    const kk = (k) => [k, k * eta];
+    const a = [kk(k1 + k2)[0] - w2 * m1, kk(k1 + k2)[1]];
+    const b = [-k2, -k2 * eta];
+    const d = [k2 - w2 * m2, k2 * eta];
+    const h = inv2(a, b, b, d);
+    return [f, ...h.flatMap((x) => x)];
+  });
+  return native('frame', ['frame:1+Z', `frame:${label2 || '2'}+Z`], ['frame:1+Z', `frame:${label2 || '2'}+Z`], rows);
+}
+
+// Receptance of a rigid mass m: H = −1/(ω² m).
+export function massCsv(m = 0.5, node = '7') {
+  const rows = FREQS.map((f) => [f, -1 / ((2 * Math.PI * f) ** 2 * m), 0]);
+  return native('mass', [`mass:${node}+Z`], [`mass:${node}+Z`], rows);
+}
+
+export const XSS_NODE = '<img src=x onerror=window.__xss=1>';
+export function xssCsv() {
+  const rows = FREQS.slice(0, 5).map((f) => [f, 1e-6, -1e-7]);
+  return native('odd', [`odd:${XSS_NODE}+Z`], [`odd:${XSS_NODE}+Z`], rows);
+}
+
+// Our layout with a bad number on data line 4 (file line 11).
+export function corruptCsv() {
+  const text = massCsv().split('\n');
+  const i = text.findIndex((l) => l.startsWith('freq_Hz')) + 4;
+  text[i] = text[i].replace(/,[^,]*$/, ',abc');
+  return { text: text.join('\n'), line: i + 1 };
+}
+
+export const RECIPE = {
+  format: 'mortise-recipe', version: 1, title: 'two-mass chain carrying a mass',
+  components: { frame: { file: 'frame.csv' }, mass: { file: 'mass.csv' } },
+  steps: [{ id: 'assembly', op: 'couple', parts: ['frame', 'mass'], joints: [{ a: 'frame:2+Z', b: 'mass:7+Z', type: 'rigid' }] }],
+  outputs: ['assembly'],
+};
+
+// Every number in a text, in order.
+export function numbers(text) {
+  return (text.match(/[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?/g) || []).map(Number);
+}

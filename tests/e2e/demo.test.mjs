@@ -1,0 +1,67 @@
+// The demo scenario on the page equals the CLI: `mortise run` on
+// sample-frf/heat-pump.recipe.json and the page's "Load demo" + Run give the
+// same numbers for every requested output (relative difference ≤ 1e-12).
+// Needs the demo files (./build.sh writes them with `mortise demo`) built
+// into the page; without them this test fails, it does not skip.
+import { test } from 'node:test';
+import assert from 'node:assert/strict';
+import { existsSync, readFileSync, mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { execFileSync } from 'node:child_process';
+import { open, shot, ROOT } from './helpers.mjs';
+import { numbers } from './data.mjs';
+
+const RECIPE = join(ROOT, 'sample-frf/heat-pump.recipe.json');
+// Same rule as the CLI's file names for outputs (src/cli/run.rs, safe_name).
+const safe = (n) => n.replace(/[^A-Za-z0-9._-]/g, '_');
+
+test('demo assembly on the page equals the CLI', async () => {
+  assert.ok(existsSync(RECIPE), `${RECIPE} is missing: run ./build.sh (mortise demo -o sample-frf) and tools/page.sh`);
+  const bin = process.env.MORTISE_BIN || join(ROOT, 'target/release/mortise');
+  assert.ok(existsSync(bin), `${bin} is missing`);
+  const out = mkdtempSync(join(tmpdir(), 'mortise-demo-'));
+  execFileSync(bin, ['run', RECIPE, '-o', out]);
+
+  const s = await open();
+  try {
+    await s.page.click('#demo-btn');
+    await s.page.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    const failed = await s.page.$$eval('.card.failed', (cs) => cs.map((c) => c.textContent));
+    assert.deepEqual(failed, [], 'every demo file reads');
+    await shot(s.page, '10-demo-loaded');
+    await s.page.evaluate(() => {
+      window.__long = 0;
+      new PerformanceObserver((l) => { for (const e of l.getEntries()) window.__long = Math.max(window.__long, e.duration); }).observe({ type: 'longtask' });
+    });
+    await s.page.click('#run-btn');
+    await s.page.waitForFunction(() => document.body.dataset.plotted || document.querySelector('#run-error:not([hidden])'), null, { timeout: 120000 });
+    assert.equal(await s.page.$eval('#run-error', (e) => (e.hidden ? '' : e.textContent)), '');
+    const t = await s.page.evaluate(() => ({ ...window.mortiseTimings, longest: window.__long }));
+    console.log(`# measure demo compute (ms): ${t.last_run_ms.toFixed(0)}`);
+    console.log(`# measure demo plot (ms): ${t.last_plot_ms.toFixed(0)}`);
+    console.log(`# measure longest main-thread task during the demo (ms): ${t.longest.toFixed(1)}`);
+    await shot(s.page, '11-demo-result');
+    const results = await s.page.$$eval('#curve-select optgroup[label=results] option', (os) => {
+      const seen = new Map();
+      for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
+      return [...seen.entries()];
+    });
+    assert.ok(results.length > 0, 'the demo produces results');
+    for (const [name, value] of results) {
+      await s.page.selectOption('#curve-select', value);
+      const [dl] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=csv]')]);
+      const pageNums = numbers(readFileSync(await dl.path(), 'utf8'));
+      const cliNums = numbers(readFileSync(join(out, safe(name) + '.csv'), 'utf8'));
+      assert.equal(pageNums.length, cliNums.length, name);
+      let worst = 0;
+      for (let i = 0; i < cliNums.length; i++) {
+        const a = pageNums[i], b = cliNums[i];
+        if (a !== b) worst = Math.max(worst, Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b)));
+      }
+      console.log(`# measure ${name}: page vs CLI worst relative difference ${worst}`);
+      assert.ok(worst <= 1e-12, `${name}: ${worst}`);
+    }
+    assert.deepEqual(s.foreign(), []);
+  } finally { await s.close(); }
+});

@@ -1,0 +1,51 @@
+// Shared browser helpers for the page's end-to-end tests (playwright-core with
+// the system chromium; no browser download).
+import { chromium } from 'playwright-core';
+import { mkdtempSync, mkdirSync, rmSync, existsSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, dirname, resolve } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+
+export const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '../..');
+export const PAGE = join(ROOT, 'dist/mortise.html');
+export const PAGE_URL = pathToFileURL(PAGE).href;
+export const ARTIFACTS = join(ROOT, 'tests/e2e/artifacts');
+mkdirSync(ARTIFACTS, { recursive: true });
+
+const ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+  '--disable-background-networking', '--disable-component-update', '--disable-sync'];
+
+// Open the page in a fresh profile. Every request is recorded; `foreign()`
+// lists those that are not the page itself, data: or blob:.
+export async function open(profile) {
+  if (!existsSync(PAGE)) throw new Error(`${PAGE} is missing: run tools/page.sh first`);
+  const dir = profile || mkdtempSync(join(tmpdir(), 'mortise-e2e-'));
+  const ctx = await chromium.launchPersistentContext(dir, {
+    executablePath: '/usr/bin/chromium', args: ARGS, viewport: { width: 1360, height: 1000 }, acceptDownloads: true,
+  });
+  const requests = [];
+  const errors = [];
+  ctx.on('request', (r) => requests.push(r.url()));
+  const page = ctx.pages()[0] || await ctx.newPage();
+  page.on('pageerror', (e) => errors.push(String(e)));
+  page.on('console', (m) => { if (m.type() === 'error') errors.push(m.text()); });
+  await page.goto(PAGE_URL);
+  await page.waitForFunction(() => document.body.dataset.state === 'ready' && window.mortiseTimings.ready_ms !== null, null, { timeout: 30000 });
+  const foreign = () => requests.filter((u) => !(u === PAGE_URL || u.startsWith('data:') || u.startsWith('blob:')));
+  return {
+    ctx, page, dir, requests, errors, foreign,
+    async close(keep) { await ctx.close(); if (!keep) rmSync(dir, { recursive: true, force: true }); },
+  };
+}
+
+// Put files into the page through its file input.
+export async function addFiles(page, files) {
+  const before = await page.evaluate(() => document.querySelectorAll('.card').length);
+  await page.setInputFiles('#file-input', files.map((f) => ({ name: f.name, mimeType: 'application/octet-stream', buffer: Buffer.from(f.data) })));
+  await page.waitForFunction((n) => document.querySelectorAll('.card').length >= n, before + files.length, { timeout: 20000 }).catch(() => {});
+}
+
+export async function shot(page, name) {
+  await page.evaluate(() => window.scrollTo(0, 0));
+  await page.screenshot({ path: join(ARTIFACTS, name + '.png'), fullPage: true });
+}

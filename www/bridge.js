@@ -1,0 +1,94 @@
+// bridge.js: the only code that talks to the core's worker.
+// Compiles the WebAssembly once, builds the worker from a Blob (glue + worker
+// code, both carried inside this page), and turns messages into promises.
+// cancel() terminates the worker and starts a fresh one; the page keeps the
+// workspace and replays it through the replay hook.
+'use strict';
+const Bridge = (() => {
+  let module = null, workerUrl = null, worker = null, ready = null;
+  let nextId = 1;
+  const pending = new Map();
+  let progressCb = () => {};
+  let replayHook = async () => {};
+
+  function decodeBase64(text) {
+    const clean = text.replace(/\s+/g, '');
+    if (Uint8Array.fromBase64) return Uint8Array.fromBase64(clean);
+    const bin = atob(clean);
+    const out = new Uint8Array(bin.length);
+    for (let i = 0; i < bin.length; i++) out[i] = bin.charCodeAt(i);
+    return out;
+  }
+
+  // Inflate gzip bytes with the browser's DecompressionStream (no network involved).
+  async function gunzip(bytes) {
+    const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream('gzip'));
+    return new Uint8Array(await new Response(stream).arrayBuffer());
+  }
+
+  function spawn() {
+    worker = new Worker(workerUrl);
+    ready = new Promise((resolve, reject) => {
+      worker.onmessage = (ev) => {
+        const m = ev.data;
+        if (m.type === 'ready') { resolve(m.version); return; }
+        if (m.type === 'fatal') { reject(new Error(m.error)); return; }
+        const p = pending.get(m.id);
+        if (!p) return;
+        if ('progress' in m) { progressCb({ id: m.id, stage: m.progress }); return; }
+        pending.delete(m.id);
+        if ('err' in m) p.reject(parseError(m.err)); else p.resolve(m.ok);
+      };
+      worker.onerror = (e) => reject(new Error('worker failed: ' + (e.message || 'unknown')));
+    });
+    worker.postMessage({ type: 'init', module });
+    return ready;
+  }
+
+  function parseError(text) {
+    try {
+      const e = JSON.parse(text);
+      if (e && typeof e === 'object' && 'message' in e) return e;
+    } catch (_) { /* not JSON */ }
+    return { kind: 'io', message: String(text) };
+  }
+
+  async function start(wasmBase64, encoding, workerSource) {
+    let bytes = decodeBase64(wasmBase64);
+    if (encoding === 'gzip') bytes = await gunzip(bytes);
+    module = await WebAssembly.compile(bytes);
+    workerUrl = URL.createObjectURL(new Blob([workerSource], { type: 'text/javascript' }));
+    return spawn();
+  }
+
+  // Call a core function in the worker. Byte arguments are copied (structured
+  // clone), so the page keeps its own bytes for replays.
+  async function call(fn, args, stage) {
+    await ready;
+    const id = nextId++;
+    return new Promise((resolve, reject) => {
+      pending.set(id, { resolve, reject, fn });
+      worker.postMessage({ id, fn, args: args || [], stage });
+    });
+  }
+
+  async function callJson(fn, args, stage) {
+    const text = await call(fn, args, stage);
+    return JSON.parse(text);
+  }
+
+  async function cancel() {
+    worker.terminate();
+    for (const [, p] of pending) p.reject({ kind: 'cancelled', message: 'cancelled by the user' });
+    pending.clear();
+    await spawn();
+    await replayHook();
+  }
+
+  return {
+    start, call, callJson, cancel, decodeBase64, gunzip,
+    onProgress(cb) { progressCb = cb; },
+    setReplay(fn) { replayHook = fn; },
+    busy() { return pending.size > 0; },
+  };
+})();
