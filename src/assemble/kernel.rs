@@ -5,9 +5,11 @@
 //! registers and vectorizes. Rows are taken two (four with AVX-512) at a time; each finished
 //! row of C is handed to a sink as (row index, real parts, imaginary parts).
 //!
-//! On x86-64 a copy compiled for AVX-512 or AVX2 + FMA is chosen at run time
-//! when the processor has those instructions. Every line of a coupling runs
-//! the same copy, so threaded and serial runs give identical numbers.
+//! On x86-64 a copy compiled for AVX-512 or AVX2 is chosen at run time when
+//! the processor has those instructions. Every copy does the same IEEE
+//! multiplies and adds in the same order (no fused multiply-add, which would
+//! round differently), so threaded, serial, native and WebAssembly runs give
+//! the same numbers: the page and the CLI agree.
 
 use num_complex::Complex64;
 
@@ -32,16 +34,6 @@ impl Mac for Plain {
     #[inline(always)]
     fn mac(a: f64, b: f64, c: f64) -> f64 {
         a * b + c
-    }
-}
-
-#[cfg(target_arch = "x86_64")]
-struct Fused;
-#[cfg(target_arch = "x86_64")]
-impl Mac for Fused {
-    #[inline(always)]
-    fn mac(a: f64, b: f64, c: f64) -> f64 {
-        a.mul_add(b, c)
     }
 }
 
@@ -132,7 +124,7 @@ unsafe fn body_avx512<S: FnMut(usize, &[f64], &[f64])>(
     buf: &mut [f64],
     sink: &mut S,
 ) {
-    body::<Fused, 4, S>(rows, m, p, xr, xi, cp, buf, sink)
+    body::<Plain, 4, S>(rows, m, p, xr, xi, cp, buf, sink)
 }
 
 #[cfg(target_arch = "x86_64")]
@@ -148,7 +140,7 @@ unsafe fn body_avx2<S: FnMut(usize, &[f64], &[f64])>(
     buf: &mut [f64],
     sink: &mut S,
 ) {
-    body::<Fused, 2, S>(rows, m, p, xr, xi, cp, buf, sink)
+    body::<Plain, 2, S>(rows, m, p, xr, xi, cp, buf, sink)
 }
 
 /// Which compiled copy of the product this processor runs.

@@ -72,3 +72,17 @@ export const RECIPE = {
 export function numbers(text) {
   return (text.match(/[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?/g) || []).map(Number);
 }
+
+// The complex values of a CSV in mortise's own layout: for each data row,
+// the frequency then [re, im] pairs (header and comment lines skipped).
+export function complexRows(text) {
+  const rows = [];
+  for (const line of text.split('\n')) {
+    if (!/^[-+]?[0-9.]/.test(line)) continue;
+    const v = line.split(',').map(Number);
+    const pairs = [];
+    for (let i = 1; i + 1 < v.length; i += 2) pairs.push([v[i], v[i + 1]]);
+    rows.push({ f: v[0], pairs });
+  }
+  return rows;
+}

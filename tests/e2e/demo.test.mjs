@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
 import { open, shot, ROOT } from './helpers.mjs';
-import { numbers } from './data.mjs';
+import { complexRows } from './data.mjs';
 
 const RECIPE = join(ROOT, 'sample-frf/heat-pump.recipe.json');
 // Same rule as the CLI's file names for outputs (src/cli/run.rs, safe_name).
@@ -51,13 +51,21 @@ test('demo assembly on the page equals the CLI', async () => {
     for (const [name, value] of results) {
       await s.page.selectOption('#curve-select', value);
       const [dl] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=csv]')]);
-      const pageNums = numbers(readFileSync(await dl.path(), 'utf8'));
-      const cliNums = numbers(readFileSync(join(out, safe(name) + '.csv'), 'utf8'));
-      assert.equal(pageNums.length, cliNums.length, name);
+      const pageRows = complexRows(readFileSync(await dl.path(), 'utf8'));
+      const cliRows = complexRows(readFileSync(join(out, safe(name) + '.csv'), 'utf8'));
+      assert.equal(pageRows.length, cliRows.length, name);
+      assert.ok(cliRows.length > 0, name);
+      // relative difference of each complex value: |a − b| / max(|a|, |b|)
       let worst = 0;
-      for (let i = 0; i < cliNums.length; i++) {
-        const a = pageNums[i], b = cliNums[i];
-        if (a !== b) worst = Math.max(worst, Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b)));
+      for (let k = 0; k < cliRows.length; k++) {
+        assert.equal(pageRows[k].f, cliRows[k].f, `${name}: frequency line ${k}`);
+        assert.equal(pageRows[k].pairs.length, cliRows[k].pairs.length, name);
+        cliRows[k].pairs.forEach(([br, bi], j) => {
+          const [ar, ai] = pageRows[k].pairs[j];
+          const d = Math.hypot(ar - br, ai - bi);
+          const m = Math.max(Math.hypot(ar, ai), Math.hypot(br, bi));
+          if (d > 0) worst = Math.max(worst, d / m);
+        });
       }
       console.log(`# measure ${name}: page vs CLI worst relative difference ${worst}`);
       assert.ok(worst <= 1e-12, `${name}: ${worst}`);
