@@ -49,6 +49,7 @@ case "${1:-build}" in
   build)
     cli
     demo
+    node_deps
     page
     echo
     echo "open: file://$ROOT/dist/mortise.html"
@@ -60,8 +61,8 @@ case "${1:-build}" in
     cargo test --quiet --doc
     cli
     demo
-    page
     node_deps
+    page
     echo "== browser end-to-end tests"
     node --test tests/e2e/
     ;;
