@@ -42,6 +42,9 @@ pub struct SetSummary {
     pub coherence: bool,
     pub grid: GridSummary,
     pub warnings: Vec<String>,
+    /// The fitness audit with default (common-practice) limits; None for spectra.
+    #[serde(default)]
+    pub audit: Option<crate::audit::AuditReport>,
 }
 
 /// One file in words.
@@ -118,6 +121,14 @@ pub fn set_summary(set: &FrfSet) -> SetSummary {
         coherence: set.coherence.is_some(),
         grid: grid(&set.freqs),
         warnings: set.warnings.clone(),
+        audit: if set.signal.is_none() {
+            Some(crate::audit::audit(
+                set,
+                &crate::audit::AuditOptions::default(),
+            ))
+        } else {
+            None
+        },
     }
 }
 

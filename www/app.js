@@ -213,7 +213,20 @@
       el('dt', {}, 'outputs'), el('dd', { class: 'dofs' }, s.outputs.join('  ')),
       el('dt', {}, 'inputs'), el('dd', { class: 'dofs' }, s.inputs.join('  ')),
       el('dt', {}, 'grid'), el('dd', {}, grid),
-      ...s.warnings.map((w) => el('dd', { class: 'warn' }, '⚠ ' + w)));
+      ...s.warnings.map((w) => el('dd', { class: 'warn' }, '⚠ ' + w)),
+      ...auditBlock(s.audit));
+  }
+  // The core's fitness audit of a set: a count line, then each flagged check
+  // with its bands (pass / n/a checks are counted, not listed).
+  function auditBlock(a) {
+    if (!a) return [];
+    const n = (st) => a.checks.filter((c) => c.status === st).length;
+    const head = el('dd', { class: 'audit-sum' }, `${n('pass')} passed, ${n('flag')} flagged, ${n('not-applicable')} not applicable`);
+    const flags = a.checks.filter((c) => c.status === 'flag').map((c) => {
+      const bands = (c.flagged || []).map((r) => r.first_band === r.last_band ? `${r.first_band} Hz` : `${r.first_band}–${r.last_band} Hz`).join(', ');
+      return el('dd', { class: 'audit-flag', 'data-check': c.check }, `⚑ ${c.check}: ${c.summary}` + (bands ? ` (bands ${bands})` : ''));
+    });
+    return [el('dt', {}, 'audit'), head, ...flags];
   }
   function renderCards() {
     const box = $('cards');
@@ -438,11 +451,15 @@
     const report = S.results?.report;
     if (report) {
       if (report.title) rep.append(el('div', {}, el('strong', {}, report.title)));
+      // the answer first: levels at the targets, strongest lines and paths, variants, audit flags
+      if ((report.headline || []).length) {
+        rep.append(el('div', { class: 'headline', id: 'headline' }, ...report.headline.map((h) => el('div', { class: /^\s/.test(h) ? 'sub' : '' }, h))));
+      }
       const rows = (report.steps || []).map((st) => el('tr', {},
         el('td', {}, st.id), el('td', {}, st.op),
         el('td', {}, st.worst_condition !== undefined && st.worst_condition !== null
           ? `interface condition number up to ${fmt(st.worst_condition)} at ${fmt(st.worst_condition_hz)} Hz` : ''),
-        el('td', {}, [...new Set(st.warnings || [])].join('; '))));
+        el('td', {}, [...new Set(st.warnings || [])].filter((w) => w !== report.caution).join('; '))));
       if (rows.length) rep.append(el('table', {}, el('tr', {}, el('th', {}, 'step'), el('th', {}, 'operation'), el('th', {}, 'conditioning'), el('th', {}, 'warnings')), ...rows));
       for (const v of report.variants || []) {
         const d = Object.entries(v.level_change_db || {}).map(([k, x]) => `${k}: ${x === null ? '–' : (x > 0 ? '+' : '') + fmt(x, 3) + ' dB'}`).join(', ');

@@ -29,6 +29,12 @@ test('demo assembly on the page equals the CLI', async () => {
     await s.page.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
     const failed = await s.page.$$eval('.card.failed', (cs) => cs.map((c) => c.textContent));
     assert.deepEqual(failed, [], 'every demo file reads');
+    // the core's fitness audit shows on every FRF card, flags included
+    // (the demo's wall test resolves its resonances with too few lines)
+    const audits = await s.page.$$eval('.card .audit-sum', (xs) => xs.length);
+    assert.ok(audits >= 5, `audit lines on the FRF cards: ${audits}`);
+    const flags = await s.page.$$eval('.card .audit-flag', (xs) => xs.map((x) => x.dataset.check));
+    assert.ok(flags.includes('grid'), `audit flags shown: ${flags}`);
     await shot(s.page, '10-demo-loaded');
     await s.page.evaluate(() => {
       window.__long = 0;
@@ -42,6 +48,11 @@ test('demo assembly on the page equals the CLI', async () => {
     console.log(`# measure demo plot (ms): ${t.last_plot_ms.toFixed(0)}`);
     console.log(`# measure longest main-thread task during the demo (ms): ${t.longest.toFixed(1)}`);
     await shot(s.page, '11-demo-result');
+    // the answer is shown: A-weighted level at the bed, ranked anchor paths, the variant's change
+    const head = await s.page.$eval('#headline', (e) => e.textContent);
+    assert.match(head, /room:bed: [0-9.]+ dB\(A\)/);
+    assert.match(head, /paths ranked at room:bed/);
+    assert.match(head, /softer isolators/);
     const results = await s.page.$$eval('#curve-select optgroup[label=results] option', (os) => {
       const seen = new Map();
       for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
