@@ -20,8 +20,6 @@ test('demo assembly on the page equals the CLI', async () => {
   assert.ok(existsSync(RECIPE), `${RECIPE} is missing: run ./build.sh (mortise demo -o sample-frf) and tools/page.sh`);
   const bin = process.env.MORTISE_BIN || join(ROOT, 'target/release/mortise');
   assert.ok(existsSync(bin), `${bin} is missing`);
-  const out = mkdtempSync(join(tmpdir(), 'mortise-demo-'));
-  execFileSync(bin, ['run', RECIPE, '-o', out]);
 
   const s = await open();
   try {
@@ -42,16 +40,29 @@ test('demo assembly on the page equals the CLI', async () => {
     console.log(`# measure demo plot (ms): ${t.last_plot_ms.toFixed(0)}`);
     console.log(`# measure longest main-thread task during the demo (ms): ${t.longest.toFixed(1)}`);
     await shot(s.page, '11-demo-result');
+    await s.page.selectOption('#plot-kind', 'bars');
+    await s.page.waitForTimeout(500);
+    assert.doesNotMatch(await s.page.textContent('#readout'), /cannot draw/);
+    await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/12-demo-path-ranking.png') });
+    await s.page.selectOption('#plot-kind', 'bode');
     const results = await s.page.$$eval('#curve-select optgroup[label=results] option', (os) => {
       const seen = new Map();
       for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
       return [...seen.entries()];
     });
     assert.ok(results.length > 0, 'the demo produces results');
+    const pageCsv = [];
     for (const [name, value] of results) {
       await s.page.selectOption('#curve-select', value);
       const [dl] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=csv]')]);
-      const pageNums = numbers(readFileSync(await dl.path(), 'utf8'));
+      pageCsv.push([name, readFileSync(await dl.path(), 'utf8')]);
+    }
+    assert.deepEqual(s.foreign(), []);
+    // The CLI on the same recipe and files.
+    const out = mkdtempSync(join(tmpdir(), 'mortise-demo-'));
+    execFileSync(bin, ['run', RECIPE, '-o', out]);
+    for (const [name, text] of pageCsv) {
+      const pageNums = numbers(text);
       const cliNums = numbers(readFileSync(join(out, safe(name) + '.csv'), 'utf8'));
       assert.equal(pageNums.length, cliNums.length, name);
       let worst = 0;
@@ -62,6 +73,5 @@ test('demo assembly on the page equals the CLI', async () => {
       console.log(`# measure ${name}: page vs CLI worst relative difference ${worst}`);
       assert.ok(worst <= 1e-12, `${name}: ${worst}`);
     }
-    assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
 });
