@@ -40,6 +40,7 @@ pub mod audit;
 #[cfg(not(target_arch = "wasm32"))]
 pub mod cli;
 pub mod demo;
+pub mod demo_files;
 pub mod error;
 pub mod frf;
 pub mod grid;

@@ -45,6 +45,7 @@ use crate::frf::{Dof, FrfSet};
 use crate::io::{self, ImportOptions};
 use crate::levels::{self, Weighting};
 use crate::predict::{self, paths::PathGroup, paths::RankOptions};
+use crate::synth::Synth;
 use serde::{Deserialize, Serialize};
 use serde_json::{json, Value};
 use std::collections::BTreeMap;
@@ -97,7 +98,7 @@ impl FileSource for DirSource {
 }
 
 /// A component: a file (and a selection of its FRFs), or a set given inline.
-#[derive(Debug, Clone, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct ComponentSpec {
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -119,9 +120,54 @@ pub struct ComponentSpec {
     /// An FRF set given inline (as the bundle stores it).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub inline: Option<Box<FrfSet>>,
+    /// A synthesized part (lumped network, modal model, beam, frame, isolator),
+    /// computed on `grid` (or the recipe's grid).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub synth: Option<Box<Synth>>,
+    /// The grid of a synthesized part.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
     /// Free text shown beside the component.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub note: Option<String>,
+}
+
+/// A frequency grid: `{"from": 10, "to": 1000, "step": 1}` or `{"lines": [...]}` (Hz).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged, deny_unknown_fields)]
+pub enum GridSpec {
+    Range { from: f64, to: f64, step: f64 },
+    Lines { lines: Vec<f64> },
+}
+
+impl GridSpec {
+    /// The lines in Hz (checked: finite, strictly increasing, at most 1,000,000).
+    pub fn lines(&self) -> Result<Vec<f64>> {
+        let v = match self {
+            GridSpec::Lines { lines } => lines.clone(),
+            GridSpec::Range { from, to, step } => {
+                if !(step.is_finite()
+                    && *step > 0.0
+                    && from.is_finite()
+                    && to.is_finite()
+                    && to >= from)
+                {
+                    return Err(Error::grid(format!(
+                        "grid from {from} to {to} step {step}: expected finite from ≤ to and step > 0"
+                    )));
+                }
+                let n = ((to - from) / step + 1e-9).floor() as usize + 1;
+                if n > 1_000_000 {
+                    return Err(Error::grid(format!(
+                        "grid of {n} lines; at most 1,000,000 are allowed"
+                    )));
+                }
+                (0..n).map(|i| from + i as f64 * step).collect()
+            }
+        };
+        crate::grid::check_grid(&v)?;
+        Ok(v)
+    }
 }
 
 /// A choice of outputs and inputs by DOF label (omitted = all).
@@ -158,7 +204,7 @@ fn rigid() -> String {
 }
 
 /// One step. Operands depend on `op` (see the module docs).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Step {
     pub id: String,
@@ -218,6 +264,9 @@ pub struct Recipe {
     pub version: u32,
     #[serde(default)]
     pub title: String,
+    /// Default grid for synthesized components.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
     #[serde(default)]
     pub components: BTreeMap<String, ComponentSpec>,
     #[serde(default)]
@@ -302,8 +351,30 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
         variants
             .push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas }));
     }
+    // the fitness audit of every component, with default (common-practice) limits
+    let audits: BTreeMap<String, crate::audit::AuditReport> = comps
+        .iter()
+        .filter(|(_, s)| s.signal.is_none())
+        .map(|(k, s)| {
+            (
+                k.clone(),
+                crate::audit::audit(s, &crate::audit::AuditOptions::default()),
+            )
+        })
+        .collect();
+    let mut flagged = Vec::new();
+    for (name, a) in &audits {
+        for c in &a.checks {
+            if c.status == crate::audit::Status::Flag {
+                flagged.push(format!("audit of '{name}': {}: {}", c.check, c.summary));
+            }
+        }
+    }
+    report["audit"] = serde_json::to_value(&audits).unwrap_or(Value::Null);
     let steps = report["steps"].as_array().cloned().unwrap_or_default();
-    report["headline"] = json!(headline(&steps, &variants));
+    let mut head = headline(&steps, &variants);
+    head.extend(flagged);
+    report["headline"] = json!(head);
     report["variants"] = Value::Array(variants);
     report["caution"] = json!(predict::CAUTION);
     Ok(RunResult { outputs, report })
@@ -354,14 +425,47 @@ pub fn load_components(
     let mut out = BTreeMap::new();
     for (name, spec) in &recipe.components {
         let at = format!("components.{name}");
-        let set = load_component(name, spec, files).map_err(|e| e.field(at.clone()))?;
+        let set = load_component(name, spec, recipe.grid.as_ref(), files)
+            .map_err(|e| e.field(at.clone()))?;
         out.insert(name.clone(), set);
     }
     Ok(out)
 }
 
-fn load_component(name: &str, spec: &ComponentSpec, files: &dyn FileSource) -> Result<FrfSet> {
+fn load_component(
+    name: &str,
+    spec: &ComponentSpec,
+    grid: Option<&GridSpec>,
+    files: &dyn FileSource,
+) -> Result<FrfSet> {
+    let sources = [
+        spec.file.is_some(),
+        spec.inline.is_some(),
+        spec.synth.is_some(),
+    ];
+    if sources.iter().filter(|&&b| b).count() > 1 {
+        return Err(Error::recipe(
+            "give one of 'file', 'inline' or 'synth', not several",
+        ));
+    }
     let mut set = match (&spec.file, &spec.inline) {
+        (None, None) if spec.synth.is_some() => {
+            let g = spec.grid.as_ref().or(grid).ok_or_else(|| {
+                Error::recipe(
+                    "a synthesized component needs a 'grid' (here or at the top of the recipe)",
+                )
+            })?;
+            let freqs = g.lines().map_err(|e| e.field("grid"))?;
+            let synth = spec
+                .synth
+                .as_ref()
+                .ok_or_else(|| Error::recipe("missing 'synth'"))?;
+            let mut s = synth.synthesize(&freqs).map_err(|e| e.field("synth"))?;
+            if let Some(c) = &spec.component {
+                s.set_component(c);
+            }
+            s
+        }
         (Some(file), None) => {
             let bytes = files.read(file)?;
             let mut opts = spec.import.clone().unwrap_or_default();
@@ -396,9 +500,15 @@ fn load_component(name: &str, spec: &ComponentSpec, files: &dyn FileSource) -> R
         }
         (None, Some(inline)) => (**inline).clone(),
         (Some(_), Some(_)) => {
-            return Err(Error::recipe("give either 'file' or 'inline', not both"))
+            return Err(Error::recipe(
+                "give one of 'file', 'inline' or 'synth', not several",
+            ))
         }
-        (None, None) => return Err(Error::recipe("a component needs 'file' or 'inline'")),
+        (None, None) => {
+            return Err(Error::recipe(
+                "a component needs 'file', 'inline' or 'synth'",
+            ))
+        }
     };
     if let Some(sel) = &spec.select {
         set = select(&set, sel.outputs.as_deref(), sel.inputs.as_deref())?;
@@ -585,15 +695,30 @@ fn spectrum_report(y: &FrfSet) -> Value {
         let a = levels::spectrum_levels(y, i, 3, Weighting::A);
         let z = levels::spectrum_levels(y, i, 3, Weighting::Z);
         match (a, z) {
-            (Ok(a), Ok(z)) => rows.push(json!({
-                "dof": a.dof,
-                "unit": a.unit,
-                "overall_dba": a.overall_db,
-                "overall_db": z.overall_db,
-                "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
-                "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
-            })),
-            (Err(e), _) | (_, Err(e)) => rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() })),
+            (Ok(a), Ok(z)) => {
+                // the three strongest lines, A-weighted (IEC 61672-1)
+                let mut lines: Vec<(f64, f64)> = z
+                    .freqs
+                    .iter()
+                    .zip(&z.line_db)
+                    .filter(|(_, l)| l.is_finite())
+                    .map(|(&f, &l)| (f, l + levels::weighting_db(Weighting::A, f)))
+                    .collect();
+                lines.sort_by(|x, y| y.1.total_cmp(&x.1));
+                lines.truncate(3);
+                rows.push(json!({
+                    "dof": a.dof,
+                    "unit": a.unit,
+                    "overall_dba": a.overall_db,
+                    "overall_db": z.overall_db,
+                    "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
+                    "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
+                    "top_lines_dba": lines.iter().map(|(f, l)| json!({"hz": f, "dba": l})).collect::<Vec<_>>(),
+                }))
+            }
+            (Err(e), _) | (_, Err(e)) => {
+                rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() }))
+            }
         }
     }
     Value::Array(rows)
@@ -604,7 +729,7 @@ fn spectrum_report(y: &FrfSet) -> Value {
 fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
     let mut out = Vec::new();
     for st in steps {
-        if st["op"] != "paths" && st["op"] != "respond" {
+        if st["op"] != "paths" {
             continue;
         }
         let Some(rows) = st["levels"].as_array() else {
@@ -628,15 +753,28 @@ fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
                 .take(3)
                 .map(|(b, v)| format!("{b} Hz {v:.1} dB(A)"))
                 .collect();
+            let lines: Vec<String> = row["top_lines_dba"]
+                .as_array()
+                .into_iter()
+                .flatten()
+                .filter_map(|l| {
+                    Some(format!(
+                        "{} Hz {:.1} dB(A)",
+                        l["hz"].as_f64()?,
+                        l["dba"].as_f64()?
+                    ))
+                })
+                .collect();
             out.push(format!(
-                "{} at {}: {:.1} dB(A), {:.1} dB unweighted ({}); loudest 1/3-octave bands: {}",
+                "{} at {}: {:.1} dB(A), {:.1} dB unweighted ({})",
                 st["id"].as_str().unwrap_or("?"),
                 row["dof"].as_str().unwrap_or("?"),
                 dba,
                 row["overall_db"].as_f64().unwrap_or(f64::NAN),
                 unit,
-                top.join(", ")
             ));
+            out.push(format!("  strongest lines: {}", lines.join(", ")));
+            out.push(format!("  loudest 1/3-octave bands: {}", top.join(", ")));
         }
         if let Some(targets) = st["ranking"]["targets"].as_array() {
             for t in targets {
@@ -663,10 +801,7 @@ fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
     }
     for v in variants {
         let name = v["name"].as_str().unwrap_or("?");
-        let base: Vec<&Value> = steps
-            .iter()
-            .filter(|s| s["op"] == "paths" || s["op"] == "respond")
-            .collect();
+        let base: Vec<&Value> = steps.iter().filter(|s| s["op"] == "paths").collect();
         let Some(vsteps) = v["steps"].as_array() else {
             continue;
         };

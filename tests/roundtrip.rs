@@ -98,7 +98,7 @@ fn round_trip(binary: bool) {
     let l3 = io::load(&uff, "casing_out.uff", &opts).unwrap();
     assert_eq!(l3.format, Format::Uff58Binary);
     bits_equal(s0, &l3.sets[0], "bundle → UFF 58b");
-    // our CSV and the bundle carry the provenance chain; UFF has no place for it
+    // our CSV, the bundle and our UFF (in ID lines 3-5) carry the provenance chain
     let files: Vec<&str> = l2.sets[0]
         .provenance
         .iter()
@@ -110,7 +110,10 @@ fn round_trip(binary: bool) {
         .iter()
         .map(|p| p.file.as_str())
         .collect();
-    assert_eq!(files, vec!["casing_out.uff"]);
+    assert_eq!(
+        files,
+        vec!["casing.uff", "casing.csv", "casing.json", "casing_out.uff"]
+    );
 }
 
 #[test]

@@ -48,13 +48,8 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
                 stem.clone(),
                 ComponentSpec {
                     file: Some(val.to_string()),
-                    component: None,
-                    import: None,
-                    set: None,
-                    select: None,
                     kind: Some("dynamic-stiffness".into()),
-                    inline: None,
-                    note: None,
+                    ..Default::default()
                 },
             );
             j.stiffness = Some(stem);
@@ -116,13 +111,7 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
             stem.clone(),
             ComponentSpec {
                 file: Some(f.clone()),
-                component: None,
-                import: None,
-                set: None,
-                select: None,
-                kind: None,
-                inline: None,
-                note: None,
+                ..Default::default()
             },
         );
         parts.push(stem);
@@ -139,6 +128,7 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
         format: recipe::RECIPE_FORMAT.into(),
         version: recipe::RECIPE_VERSION,
         title: format!("coupling of {}", parts.join(" + ")),
+        grid: None,
         components,
         steps: vec![Step {
             id: "coupled".into(),
@@ -146,19 +136,7 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
             parts: Some(parts),
             joints: Some(joints),
             tsvd,
-            assembly: None,
-            remove: None,
-            first: None,
-            second: None,
-            from: None,
-            outputs: None,
-            inputs: None,
-            kind: None,
-            factor: None,
-            frf: None,
-            excitation: None,
-            groups: None,
-            note: None,
+            ..Default::default()
         }],
         variants: vec![],
         outputs: vec!["coupled".into()],

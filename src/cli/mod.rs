@@ -24,8 +24,9 @@ usage:
                  [column-map options]
   mortise run RECIPE -o OUTDIR
   mortise couple A.uff B.csv --join 'A:1+Z=B:1+Z' ... -o OUT
-  mortise audit FILE... [--json]
-  mortise demo [-o DIR]
+  mortise audit FILE... [--json] [--tolerance-db X] [--coherence-min X]
+                 [--reciprocity-tol X] [--condition-max X] [--pair A,B]
+  mortise demo [-o DIR] [--check]
   mortise help [COMMAND]
 
 column-map options (inspect and convert; for CSV/TSV not in mortise's own layout):

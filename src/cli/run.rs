@@ -43,20 +43,36 @@ pub fn safe_name(name: &str) -> String {
 }
 
 /// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
+/// Text node labels are numbered for UFF (which needs integers); the report
+/// lists the numbers under `uff_node_numbers`.
 pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
+    let mut report = res.report.clone();
+    let mut numbers = serde_json::Map::new();
     for s in &res.outputs {
         let base = safe_name(&s.name);
-        for (fmt, ext) in [(ExportFormat::Uff, "uff"), (ExportFormat::Csv, "csv")] {
-            let bytes = io::save(std::slice::from_ref(s), fmt)?;
+        let (uff_sets, map) = io::nodes::numbered(std::slice::from_ref(s));
+        if !map.is_empty() {
+            numbers.insert(
+                s.name.clone(),
+                serde_json::to_value(&map).unwrap_or_default(),
+            );
+        }
+        let forms: [(&[crate::frf::FrfSet], ExportFormat, &str); 2] = [
+            (&uff_sets, ExportFormat::Uff, "uff"),
+            (std::slice::from_ref(s), ExportFormat::Csv, "csv"),
+        ];
+        for (sets, fmt, ext) in forms {
+            let bytes = io::save(sets, fmt)?;
             let p = out.join(format!("{base}.{ext}"));
             std::fs::write(&p, bytes)
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
         }
     }
+    report["uff_node_numbers"] = serde_json::Value::Object(numbers);
     let p = out.join("report.json");
-    let text = serde_json::to_string_pretty(&res.report).map_err(|e| Error::io(e.to_string()))?;
+    let text = serde_json::to_string_pretty(&report).map_err(|e| Error::io(e.to_string()))?;
     std::fs::write(&p, text)
         .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
     Ok(())
@@ -68,6 +84,7 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
     if !title.is_empty() {
         let _ = writeln!(s, "{title}");
     }
+    let mut seen: Vec<String> = Vec::new();
     if let Some(steps) = res.report["steps"].as_array() {
         for st in steps {
             if let Some(c) = st["worst_condition"].as_f64() {
@@ -84,7 +101,12 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
             }
             if let Some(ws) = st["warnings"].as_array() {
                 for w in ws {
-                    let _ = writeln!(s, "  warning: {}", w.as_str().unwrap_or(""));
+                    let w = w.as_str().unwrap_or("");
+                    // the caution is printed once, at the end
+                    if w != crate::predict::CAUTION && !seen.contains(&w.to_string()) {
+                        seen.push(w.to_string());
+                        let _ = writeln!(s, "  warning: {w}");
+                    }
                 }
             }
         }

@@ -3,7 +3,10 @@
 //! Suppliers label DOFs as they like (`wall:a1+X`); UFF needs integer nodes.
 //! [`numbered`] gives every non-numeric node a number above the largest
 //! numeric node of the sets, in order of first appearance, and returns the
-//! map so the report can say which number stands for which label.
+//! map so the report can say which number stands for which label. UFF has no
+//! component namespace, so a numeric node that a second component also uses
+//! (`A:1+Z` and `B:1+Z` in a coupled result) is renumbered the same way: the
+//! component that uses the number first keeps it.
 
 use crate::frf::FrfSet;
 use std::collections::BTreeMap;
@@ -19,12 +22,20 @@ pub struct NodeNumber {
 /// Copies of `sets` whose nodes are all integers, and the renumbering used
 /// (empty when every node was already a number).
 pub fn numbered(sets: &[FrfSet]) -> (Vec<FrfSet>, Vec<NodeNumber>) {
-    let is_num = |n: &str| n.trim().parse::<u64>().is_ok();
     let mut max = 0u64;
     for s in sets {
         for d in s.outputs.iter().chain(&s.inputs) {
             if let Ok(n) = d.node.trim().parse::<u64>() {
                 max = max.max(n);
+            }
+        }
+    }
+    // which component uses each numeric node first: it keeps the number
+    let mut owner: BTreeMap<u64, String> = BTreeMap::new();
+    for s in sets {
+        for d in s.outputs.iter().chain(&s.inputs) {
+            if let Ok(n) = d.node.trim().parse::<u64>() {
+                owner.entry(n).or_insert_with(|| d.component.clone());
             }
         }
     }
@@ -38,8 +49,10 @@ pub fn numbered(sets: &[FrfSet]) -> (Vec<FrfSet>, Vec<NodeNumber>) {
             if d.node == "ref" && d.component.is_empty() {
                 continue;
             }
-            if is_num(&d.node) {
-                continue;
+            if let Ok(n) = d.node.trim().parse::<u64>() {
+                if owner.get(&n) == Some(&d.component) {
+                    continue;
+                }
             }
             let key = (d.component.clone(), d.node.clone());
             let n = *map.entry(key.clone()).or_insert_with(|| {
@@ -93,5 +106,36 @@ mod tests {
                 number: 9
             }
         );
+    }
+
+    #[test]
+    fn a_node_number_used_by_two_components_is_split() {
+        // a coupled result lists A:1+Z and B:1+Z; UFF would merge them
+        let dofs = vec![
+            Dof::new("A", "1", Direction::Z),
+            Dof::new("A", "2", Direction::Z),
+            Dof::new("B", "1", Direction::Z),
+        ];
+        let s = FrfSet::zeros(
+            "ab",
+            vec![1.0],
+            dofs.clone(),
+            dofs,
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        let (o, map) = numbered(&[s]);
+        let nodes: Vec<&str> = o[0].outputs.iter().map(|d| d.node.as_str()).collect();
+        assert_eq!(nodes, ["1", "2", "3"]);
+        assert_eq!(o[0].inputs[2].node, "3");
+        assert_eq!(
+            map,
+            vec![NodeNumber {
+                component: "B".into(),
+                node: "1".into(),
+                number: 3
+            }]
+        );
+        crate::io::uff58::write(&o, false).unwrap();
     }
 }

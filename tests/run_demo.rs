@@ -1,0 +1,154 @@
+//! The demo from the command line: `mortise demo -o DIR`, then
+//! `mortise run DIR/heat-pump.recipe.json -o OUT`, and what a user finds in
+//! OUT (the demo data are invented; see src/demo.rs).
+
+mod common;
+
+use mortise::io::{self, ImportOptions};
+use mortise::predict::paths::path_contributions;
+use mortise::recipe::{self, DirSource};
+use mortise::FrfSet;
+use num_complex::Complex64;
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+
+fn cli(args: &[&str]) -> String {
+    let v: Vec<String> = args.iter().map(|s| s.to_string()).collect();
+    mortise::cli::run_cli(&v).unwrap()
+}
+
+fn load(path: &Path) -> FrfSet {
+    let bytes = std::fs::read(path).unwrap();
+    let mut l = io::load(&bytes, path.to_str().unwrap(), &ImportOptions::default()).unwrap();
+    l.sets.remove(0)
+}
+
+/// A weighting in dB from the analytic pole frequencies of IEC 61672-1:2013
+/// (20.598997, 107.65265, 737.86223, 12194.217 Hz), normalised to 0 dB at 1 kHz.
+fn a_weighting_db(f: f64) -> f64 {
+    let r = |f: f64| {
+        let f2 = f * f;
+        let (p1, p2, p3, p4) = (20.598997f64, 107.65265f64, 737.86223f64, 12194.217f64);
+        p4 * p4 * f2 * f2
+            / ((f2 + p1 * p1) * ((f2 + p2 * p2) * (f2 + p3 * p3)).sqrt() * (f2 + p4 * p4))
+    };
+    20.0 * (r(f) / r(1000.0)).log10()
+}
+
+/// Σ |p|² · 10^(A/10) over the lines of a one-row spectrum: proportional to
+/// the A-weighted mean square, whatever the amplitude convention.
+fn a_weighted_energy(s: &FrfSet) -> f64 {
+    (0..s.n_lines())
+        .map(|k| s.get(k, 0, 0).norm_sqr() * 10f64.powf(a_weighting_db(s.freqs[k]) / 10.0))
+        .sum()
+}
+
+#[test]
+fn demo_runs_from_its_files_and_the_paths_add_up() {
+    let dir = common::scratch("run_demo");
+    let input = dir.join("in");
+    let out = dir.join("out");
+    cli(&["demo", "-o", input.to_str().unwrap()]);
+    let recipe_path: PathBuf = input.join("heat-pump.recipe.json");
+    let printed = cli(&[
+        "run",
+        recipe_path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(printed.contains("caution:"), "{printed}");
+
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let headline = report["headline"].as_array().unwrap();
+    assert!(!headline.is_empty());
+    assert!(
+        headline
+            .iter()
+            .any(|l| l.as_str().unwrap().contains("paths ranked at room:bed")),
+        "{headline:?}"
+    );
+    let bedroom = report["steps"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["id"] == "bedroom")
+        .unwrap();
+    let target = bedroom["ranking"]["targets"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["target"] == "room:bed")
+        .expect("a paths ranking for room:bed");
+    let ranked: Vec<&str> = target["overall"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["path"].as_str().unwrap())
+        .collect();
+    // one path per wall anchor
+    assert_eq!(ranked.len(), 4, "{ranked:?}");
+    for a in ["a1", "a2", "a3", "a4"] {
+        assert!(
+            ranked.contains(&format!("wall:{a}+X").as_str()),
+            "{ranked:?}"
+        );
+    }
+
+    // the softer isolators lower the bedroom A-weighted level: in the report ...
+    let base_dba = bedroom["levels"][0]["overall_dba"].as_f64().unwrap();
+    let variant = report["variants"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|v| v["name"] == "softer isolators")
+        .unwrap();
+    let soft_dba = variant["steps"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["id"] == "bedroom")
+        .unwrap()["levels"][0]["overall_dba"]
+        .as_f64()
+        .unwrap();
+    eprintln!("bedroom: {base_dba:.2} dB(A), softer isolators {soft_dba:.2} dB(A)");
+    assert!(soft_dba < base_dba, "{soft_dba} ≥ {base_dba}");
+    // ... and in the written spectra, A-weighted here with IEC 61672-1's formula
+    let total = load(&out.join("bedroom.csv"));
+    let soft = load(&out.join(format!(
+        "{}.csv",
+        mortise::cli::run::safe_name("bedroom [softer isolators]")
+    )));
+    let change = 10.0 * (a_weighted_energy(&soft) / a_weighted_energy(&total)).log10();
+    eprintln!("A-weighted change from the written spectra: {change:+.2} dB");
+    assert!(change < 0.0, "{change}");
+    assert!((change - (soft_dba - base_dba)).abs() < 0.05, "{change}");
+
+    // the complex sum of the path contributions equals the total written by
+    // the run, and equals Σ_j H_bed,j F_j computed here (superposition of a
+    // linear system; common practice)
+    let r = recipe::parse(&std::fs::read_to_string(&recipe_path).unwrap()).unwrap();
+    let comps = recipe::load_components(&r, &DirSource(input.clone())).unwrap();
+    let room = &comps["room"];
+    let forces = load(&out.join("anchor_forces.csv"));
+    let c = path_contributions(room, &forces, &[]).unwrap();
+    assert_eq!(c.n_paths(), 4);
+    assert_eq!(total.freqs, c.freqs);
+    let mut worst = 0.0f64;
+    for k in 0..total.n_lines() {
+        let sum: Complex64 = (0..c.n_paths()).map(|p| c.get(k, 0, p)).sum();
+        let direct: Complex64 = (0..room.n_in())
+            .map(|j| {
+                let r = forces.out_index(&room.inputs[j]).unwrap();
+                room.get(k, 0, j) * forces.get(k, r, 0)
+            })
+            .sum();
+        let want = total.get(k, 0, 0);
+        let scale = want.norm().max(f64::MIN_POSITIVE);
+        worst = worst
+            .max((sum - want).norm() / scale)
+            .max((direct - want).norm() / scale);
+    }
+    eprintln!("path sum against the total: {worst:.2e} relative");
+    assert!(worst <= 1e-12, "{worst:e}");
+}
