@@ -72,3 +72,8 @@ export const RECIPE = {
 export function numbers(text) {
   return (text.match(/[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?/g) || []).map(Number);
 }
+
+// The values of the data rows of our CSV layout, frequency column left out.
+export function dataValues(text) {
+  return text.split('\n').filter((l) => /^\d/.test(l)).flatMap((l) => l.split(',').slice(1).filter((c) => c !== '').map(Number));
+}
