@@ -1182,10 +1182,10 @@ fn bars_from_ranking(spec: &PlotSpec, t: &serde_json::Value) -> Result<PlotSpec>
                 .collect(),
         })
         .collect();
-    let w = match t["weighting"].as_str() {
-        Some("a") => ", A-weighted",
-        Some("c") => ", C-weighted",
-        _ => "",
+    let (w, w_short) = match t["weighting"].as_str() {
+        Some("a") => (", A-weighted", "(A)"),
+        Some("c") => (", C-weighted", "(C)"),
+        _ => ("", ""),
     };
     if out.y_label.is_empty() {
         out.y_label = format!("path contribution ({}{w})", text(&t["unit"]));
@@ -1195,7 +1195,7 @@ fn bars_from_ranking(spec: &PlotSpec, t: &serde_json::Value) -> Result<PlotSpec>
     }
     if out.title.is_empty() {
         out.title = format!(
-            "paths at {}: total {:.1} dB, energetic sum of paths {:.1} dB",
+            "paths at {}: total {:.1} dB{w_short}, energetic sum of paths {:.1} dB{w_short}",
             text(&t["target"]),
             num(&t["total_db"]),
             num(&t["sum_of_paths_db"])
