@@ -125,6 +125,11 @@ pub struct PlotSpec {
     /// no range is set), in dB. For a path-contribution set this ranks paths.
     #[serde(default)]
     pub ranking: Option<SeriesRef>,
+    /// Bars from a run report's path ranking at one target: one group per
+    /// path, one bar per band (bands with no path level are left out).
+    #[serde(default)]
+    /// Kept as JSON: a report writes NaN and −∞ levels as null.
+    pub path_ranking: Option<serde_json::Value>,
 }
 
 impl PlotSpec {
@@ -199,6 +204,8 @@ struct Curve {
     level: Vec<f64>,
     db_label: String,
     unit: String,
+    /// A line spectrum with empty lines (harmonics): drawn as stems.
+    stems: bool,
 }
 
 fn ratio_unit(set: &FrfSet, i: usize, j: usize) -> String {
@@ -259,7 +266,9 @@ fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve
                 set.name, set.outputs[s.out], set.inputs[s.inp]
             )
         });
+        let stems = set.signal.is_some() && values.iter().any(|v| v.norm() == 0.0);
         out.push(Curve {
+            stems,
             label,
             freqs: set.freqs.clone(),
             values,
@@ -571,8 +580,13 @@ fn axes<DB: DrawingBackend>(
     x_title: Option<&str>,
     y_title: &str,
     y_fixed_ticks: Option<&[f64]>,
+    x_grid: bool,
 ) -> Result<()> {
-    let (xmaj, xmin) = p.x.ticks();
+    let (xmaj, xmin) = if x_grid {
+        p.x.ticks()
+    } else {
+        (Vec::new(), Vec::new())
+    };
     let (ymaj, ymin) = match y_fixed_ticks {
         Some(t) => (t.to_vec(), Vec::new()),
         None => p.y.ticks(),
@@ -645,6 +659,15 @@ fn axes<DB: DrawingBackend>(
 }
 
 fn legend<DB: DrawingBackend>(b: &mut DB, p: &Panel, labels: &[String]) -> Result<()> {
+    legend_with(b, p, labels, false)
+}
+
+fn legend_with<DB: DrawingBackend>(
+    b: &mut DB,
+    p: &Panel,
+    labels: &[String],
+    patches: bool,
+) -> Result<()> {
     if labels.is_empty() {
         return Ok(());
     }
@@ -672,12 +695,24 @@ fn legend<DB: DrawingBackend>(b: &mut DB, p: &Panel, labels: &[String]) -> Resul
         .map_err(derr)?;
     for (i, l) in shown.iter().enumerate() {
         let y = y0 + 13 + i as i32 * 18;
-        stroke(
-            b,
-            &[((x0 + 6) as f64, y as f64), ((x0 + 34) as f64, y as f64)],
-            colour(i),
-            dash(i),
-        )?;
+        if patches {
+            b.draw_rect((x0 + 10, y - 6), (x0 + 30, y + 6), &colour(i), true)
+                .map_err(derr)?;
+            if i % 2 == 1 {
+                for k in 0..4 {
+                    let xx = x0 + 12 + 5 * k;
+                    b.draw_line((xx, y + 6), (xx + 4, y - 6), &WHITE)
+                        .map_err(derr)?;
+                }
+            }
+        } else {
+            stroke(
+                b,
+                &[((x0 + 6) as f64, y as f64), ((x0 + 34) as f64, y as f64)],
+                colour(i),
+                dash(i),
+            )?;
+        }
         text(
             b,
             l,
@@ -770,7 +805,35 @@ fn draw_curves<DB: DrawingBackend>(
     p: &Panel,
     curves: &[Vec<(f64, f64)>],
 ) -> Result<()> {
+    draw_curves_stems(b, p, curves, &[], false)
+}
+
+/// Lines, or for line spectra (`stems[i]`) a marker at each line, with a
+/// stem down to the axis when `stem_lines`.
+fn draw_curves_stems<DB: DrawingBackend>(
+    b: &mut DB,
+    p: &Panel,
+    curves: &[Vec<(f64, f64)>],
+    stems: &[bool],
+    stem_lines: bool,
+) -> Result<()> {
     for (i, pts) in curves.iter().enumerate() {
+        if stems.get(i).copied().unwrap_or(false) {
+            let c = colour(i);
+            for &(x, y) in pts {
+                let ok = x.is_finite() && y.is_finite() && (!p.x.log || x > 0.0);
+                if !ok || x < p.x.min || x > p.x.max || y < p.y.min || y > p.y.max {
+                    continue;
+                }
+                let (px, py) = p.px(x, y);
+                let (px, py) = (px.round() as i32, py.round() as i32);
+                if stem_lines {
+                    b.draw_line((px, p.y1), (px, py), &c).map_err(derr)?;
+                }
+                b.draw_circle((px, py), 3, &c, i % 2 == 0).map_err(derr)?;
+            }
+            continue;
+        }
         for line in visible(p, pts) {
             stroke(b, &line, colour(i), dash(i))?;
         }
@@ -791,6 +854,12 @@ pub fn draw<DB: DrawingBackend>(
     let (w, h) = b.get_size();
     let (w, h) = (w as i32, h as i32);
     b.draw_rect((0, 0), (w, h), &WHITE, true).map_err(derr)?;
+    let resolved = match spec.kind {
+        PlotKind::Lines => lines_with_x(spec, sets)?,
+        PlotKind::Bars => bars_from_set(spec, sets)?,
+        _ => spec.clone(),
+    };
+    let spec = &resolved;
     let top = if spec.title.is_empty() { 14 } else { 34 };
     if !spec.title.is_empty() {
         text(
@@ -804,14 +873,8 @@ pub fn draw<DB: DrawingBackend>(
     }
     let (left, right, bottom) = (84, w - 18, h - 52);
     let frames = match spec.kind {
-        PlotKind::Lines => {
-            let spec = lines_with_x(spec, sets)?;
-            draw_lines(b, &spec, (left, top, right, bottom))?
-        }
-        PlotKind::Bars => {
-            let spec = bars_from_set(spec, sets)?;
-            draw_bars(b, &spec, (left, top, right, bottom))?
-        }
+        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom))?,
+        PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom))?,
         kind => {
             let curves = resolve(spec, sets)?;
             if curves.is_empty() {
@@ -904,6 +967,7 @@ fn draw_frf<DB: DrawingBackend>(
                 Some(&format!("real part ({u})")),
                 &format!("imaginary part ({u})"),
                 None,
+                true,
             )?;
             draw_curves(b, &p, &pts)?;
             legend(b, &p, &labels)?;
@@ -976,8 +1040,10 @@ fn draw_frf<DB: DrawingBackend>(
                 if two { None } else { Some(freq_title) },
                 &top_title,
                 None,
+                true,
             )?;
-            draw_curves(b, &p1, &top_pts)?;
+            let stems: Vec<bool> = curves.iter().map(|c| c.stems).collect();
+            draw_curves_stems(b, &p1, &top_pts, &stems, kind != PlotKind::ReIm)?;
             let mut frames = vec![p1.frame("frequency")];
             if two {
                 let (pts, axis, title, fixed): (_, Axis, String, Option<Vec<f64>>) =
@@ -996,7 +1062,17 @@ fn draw_frf<DB: DrawingBackend>(
                         (
                             curves
                                 .iter()
-                                .map(|c| fx(c, c.values.iter().map(|v| wrap_phase(*v)).collect()))
+                                .map(|c| {
+                                    // An empty line of a line spectrum has no phase.
+                                    let ph = c.values.iter().map(|v| {
+                                        if c.stems && v.norm() == 0.0 {
+                                            f64::NAN
+                                        } else {
+                                            wrap_phase(*v)
+                                        }
+                                    });
+                                    fx(c, ph.collect())
+                                })
                                 .collect::<Vec<_>>(),
                             Axis {
                                 min: -180.0,
@@ -1015,7 +1091,7 @@ fn draw_frf<DB: DrawingBackend>(
                     x,
                     y: axis,
                 };
-                axes(b, &p2, Some(freq_title), &title, fixed.as_deref())?;
+                axes(b, &p2, Some(freq_title), &title, fixed.as_deref(), true)?;
                 // Phase wraps at ±180°: break the line there instead of drawing a vertical jump.
                 let pts: Vec<Vec<(f64, f64)>> = if kind == PlotKind::Bode {
                     pts.into_iter()
@@ -1033,7 +1109,7 @@ fn draw_frf<DB: DrawingBackend>(
                 } else {
                     pts
                 };
-                draw_curves(b, &p2, &pts)?;
+                draw_curves_stems(b, &p2, &pts, &stems, false)?;
                 frames.push(p2.frame("frequency"));
             }
             legend(b, &p1, &labels)?;
@@ -1058,7 +1134,80 @@ fn lines_with_x(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Plot
 
 /// Band level of each input column of one output: 10·log10(Σ|v|²/ref²) over
 /// the lines inside the x range (energetic sum of lines, common practice).
+/// Bars from a report's `TargetRanking` (see `crate::predict::paths`), read
+/// from JSON where null stands for a level without value.
+fn bars_from_ranking(spec: &PlotSpec, t: &serde_json::Value) -> Result<PlotSpec> {
+    let num = |v: &serde_json::Value| v.as_f64().unwrap_or(f64::NAN);
+    let text = |v: &serde_json::Value| v.as_str().unwrap_or("?").to_string();
+    let bad = || {
+        Error::usage("path ranking: expected a target ranking from a run report")
+            .field("path_ranking")
+    };
+    let bands = t["bands"].as_array().ok_or_else(bad)?;
+    let mut names: Vec<String> = Vec::new();
+    for list in std::iter::once(&t["overall"]).chain(bands.iter().map(|b| &b["paths"])) {
+        for p in list.as_array().into_iter().flatten() {
+            let n = text(&p["path"]);
+            if !names.contains(&n) {
+                names.push(n);
+            }
+        }
+    }
+    let shown: Vec<&serde_json::Value> = bands
+        .iter()
+        .filter(|b| {
+            let any = b["paths"]
+                .as_array()
+                .is_some_and(|ps| ps.iter().any(|p| num(&p["level_db"]).is_finite()));
+            let (lo, hi) = (num(&b["band"]["lower"]), num(&b["band"]["upper"]));
+            any && spec.x_range.map_or(true, |[a, z]| hi >= a && lo <= z)
+        })
+        .collect();
+    let mut out = spec.clone();
+    out.categories = shown.iter().map(|b| text(&b["band"]["label"])).collect();
+    out.groups = names
+        .iter()
+        .map(|n| BarGroup {
+            label: n.clone(),
+            values: shown
+                .iter()
+                .map(|b| {
+                    b["paths"]
+                        .as_array()
+                        .into_iter()
+                        .flatten()
+                        .find(|p| p["path"].as_str() == Some(n))
+                        .map_or(f64::NAN, |p| num(&p["level_db"]))
+                })
+                .collect(),
+        })
+        .collect();
+    let (w, w_short) = match t["weighting"].as_str() {
+        Some("a") => (", A-weighted", "(A)"),
+        Some("c") => (", C-weighted", "(C)"),
+        _ => ("", ""),
+    };
+    if out.y_label.is_empty() {
+        out.y_label = format!("path contribution ({}{w})", text(&t["unit"]));
+    }
+    if out.x_label.is_empty() {
+        out.x_label = "one-third-octave band (Hz)".into();
+    }
+    if out.title.is_empty() {
+        out.title = format!(
+            "paths at {}: total {:.1} dB{w_short}, energetic sum of paths {:.1} dB{w_short}",
+            text(&t["target"]),
+            num(&t["total_db"]),
+            num(&t["sum_of_paths_db"])
+        );
+    }
+    Ok(out)
+}
+
 fn bars_from_set(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<PlotSpec> {
+    if let Some(t) = &spec.path_ranking {
+        return bars_from_ranking(spec, t);
+    }
     let Some(r) = &spec.ranking else {
         return Ok(spec.clone());
     };
@@ -1183,7 +1332,7 @@ fn draw_lines<DB: DrawingBackend>(
     } else {
         &spec.x_label
     };
-    axes(b, &p, Some(xt), &spec.y_label, None)?;
+    axes(b, &p, Some(xt), &spec.y_label, None, true)?;
     let pts: Vec<Vec<(f64, f64)>> = spec
         .lines
         .iter()
@@ -1240,7 +1389,7 @@ fn draw_bars<DB: DrawingBackend>(
         },
         y,
     };
-    axes(b, &p, None, &spec.y_label, None)?;
+    axes(b, &p, None, &spec.y_label, None, false)?;
     let ng = spec.groups.len() as f64;
     for (gi, g) in spec.groups.iter().enumerate() {
         for (ci, v) in g.values.iter().enumerate() {
@@ -1296,7 +1445,7 @@ fn draw_bars<DB: DrawingBackend>(
         )?;
     }
     let labels: Vec<String> = spec.groups.iter().map(|g| g.label.clone()).collect();
-    legend(b, &p, &labels)?;
+    legend_with(b, &p, &labels, true)?;
     Ok(vec![p.frame("category")])
 }
 
@@ -1456,6 +1605,34 @@ mod tests {
         let e = s["a"].get(0, 0, 0).norm_sqr() + s["a"].get(1, 0, 0).norm_sqr();
         assert!((b.groups[0].values[0] - 10.0 * e.log10()).abs() < 1e-12);
         render_svg(&spec, &sdof()).unwrap();
+    }
+
+    #[test]
+    fn report_ranking_becomes_band_bars() {
+        // Shape of predict::paths::TargetRanking as a report writes it (−∞ as null).
+        let t = serde_json::json!({
+            "target": "room:bed", "unit": "dB re 20 µPa", "weighting": "a",
+            "total_db": 30.0, "sum_of_paths_db": 31.0,
+            "overall": [{"path": "p1", "level_db": 29.0, "share": 0.6, "rank": 1},
+                        {"path": "p2", "level_db": 27.0, "share": 0.4, "rank": 2}],
+            "bands": [
+                {"band": {"label": "63", "lower": 56.2, "upper": 70.8}, "total_db": 20.0,
+                 "paths": [{"path": "p2", "level_db": 19.0}, {"path": "p1", "level_db": 12.0}]},
+                {"band": {"label": "80", "lower": 70.8, "upper": 89.1}, "total_db": null,
+                 "paths": [{"path": "p1", "level_db": null}, {"path": "p2", "level_db": null}]}
+            ]
+        });
+        let spec = PlotSpec {
+            path_ranking: Some(t),
+            ..PlotSpec::from_json(r#"{"kind":"bars"}"#).unwrap()
+        };
+        let b = bars_from_set(&spec, &BTreeMap::new()).unwrap();
+        assert_eq!(b.categories, vec!["63"]);
+        assert_eq!(b.groups[0].label, "p1");
+        assert_eq!(b.groups[0].values, vec![12.0]);
+        assert_eq!(b.groups[1].values, vec![19.0]);
+        assert!(b.y_label.contains("A-weighted"));
+        render_svg(&spec, &BTreeMap::new()).unwrap();
     }
 
     #[test]

@@ -489,6 +489,9 @@
         lines: steps.map((s) => ({ label: `step ${s.id}`, x: [], y: s.condition.map((v) => (v === null ? NaN : v)), x_from: grid })) };
     }
     if (S.plot.kind === 'bars') {
+      // the run report's path ranking when there is one, else the chosen set's inputs
+      const ranked = (S.results?.report?.steps || []).find((st) => st.ranking?.targets?.length);
+      if (ranked) return { ...base, kind: 'bars', path_ranking: ranked.ranking.targets[0] };
       const first = S.plot.sel[0];
       return { ...base, kind: 'bars', ranking: first || null, y_label: '' };
     }

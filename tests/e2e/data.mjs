@@ -86,3 +86,8 @@ export function complexRows(text) {
   }
   return rows;
 }
+
+// The values of the data rows of our CSV layout, frequency column left out.
+export function dataValues(text) {
+  return text.split('\n').filter((l) => /^\d/.test(l)).flatMap((l) => l.split(',').slice(1).filter((c) => c !== '').map(Number));
+}

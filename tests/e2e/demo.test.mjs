@@ -53,6 +53,12 @@ test('demo assembly on the page equals the CLI', async () => {
     assert.match(head, /room:bed: [0-9.]+ dB\(A\)/);
     assert.match(head, /paths ranked at room:bed/);
     assert.match(head, /softer isolators/);
+    // the path ranking as bars (one-third-octave bands × anchor paths)
+    await s.page.selectOption('#plot-kind', 'bars');
+    await s.page.waitForTimeout(500);
+    assert.doesNotMatch(await s.page.textContent('#readout'), /cannot draw/);
+    await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/12-demo-path-ranking.png') });
+    await s.page.selectOption('#plot-kind', 'bode');
     const results = await s.page.$$eval('#curve-select optgroup[label=results] option', (os) => {
       const seen = new Map();
       for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
