@@ -205,7 +205,7 @@
       (g.step ? (g.spacing === 'uniform' ? ` Δf = ${fmt(g.step)} Hz` : ` ratio ${fmt(g.step, 4)}`) : '');
     const qty = s.signal ? `${s.out_qty} spectrum (${s.signal}), ${s.out_unit}`
       : `${s.out_qty} / ${s.in_qty} (${s.out_unit} per ${s.in_unit})`;
-    return el('dl', { class: 'kv' },
+    const dl = el('dl', { class: 'kv' },
       el('dt', {}, 'set'), el('dd', {}, s.name),
       el('dt', {}, 'kind'), el('dd', {}, s.signal ? 'spectrum' : s.kind),
       el('dt', {}, 'quantities'), el('dd', {}, qty),
@@ -213,20 +213,20 @@
       el('dt', {}, 'outputs'), el('dd', { class: 'dofs' }, s.outputs.join('  ')),
       el('dt', {}, 'inputs'), el('dd', { class: 'dofs' }, s.inputs.join('  ')),
       el('dt', {}, 'grid'), el('dd', {}, grid),
-      ...s.warnings.map((w) => el('dd', { class: 'warn' }, '⚠ ' + w)),
-      ...auditBlock(s.audit));
+      ...s.warnings.map((w) => el('dd', { class: 'warn' }, '⚠ ' + w)));
+    return el('div', { class: 'set-block' }, dl, auditBlock(s.audit));
   }
   // The core's fitness audit of a set: a count line, then each flagged check
   // with its bands (pass / n/a checks are counted, not listed).
   function auditBlock(a) {
-    if (!a) return [];
+    if (!a) return null;
     const n = (st) => a.checks.filter((c) => c.status === st).length;
-    const head = el('dd', { class: 'audit-sum' }, `${n('pass')} passed, ${n('flag')} flagged, ${n('not-applicable')} not applicable`);
+    const head = el('div', { class: 'audit-sum' }, `audit: ${n('pass')} passed, ${n('flag')} flagged, ${n('not-applicable')} not applicable`);
     const flags = a.checks.filter((c) => c.status === 'flag').map((c) => {
       const bands = (c.flagged || []).map((r) => r.first_band === r.last_band ? `${r.first_band} Hz` : `${r.first_band}–${r.last_band} Hz`).join(', ');
-      return el('dd', { class: 'audit-flag', 'data-check': c.check }, `⚑ ${c.check}: ${c.summary}` + (bands ? ` (bands ${bands})` : ''));
+      return el('div', { class: 'audit-flag', 'data-check': c.check }, `⚑ ${c.check}: ${c.summary}` + (bands ? ` (bands ${bands})` : ''));
     });
-    return [el('dt', {}, 'audit'), head, ...flags];
+    return el('div', { class: 'audit' }, head, ...flags);
   }
   function renderCards() {
     const box = $('cards');
@@ -463,7 +463,7 @@
       if (rows.length) rep.append(el('table', {}, el('tr', {}, el('th', {}, 'step'), el('th', {}, 'operation'), el('th', {}, 'conditioning'), el('th', {}, 'warnings')), ...rows));
       for (const v of report.variants || []) {
         const d = Object.entries(v.level_change_db || {}).map(([k, x]) => `${k}: ${x === null ? '–' : (x > 0 ? '+' : '') + fmt(x, 3) + ' dB'}`).join(', ');
-        rep.append(el('div', {}, `variant “${v.name}”: ${d}`));
+        rep.append(el('div', {}, `variant “${v.name}”, change of the unweighted energy over all lines: ${d}`));
       }
     }
     renderBundleRaw();
