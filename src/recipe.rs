@@ -36,6 +36,12 @@
 //! * `respond` — `frf`, `excitation` (a spectrum set): y = H·f.
 //! * `paths` — `frf`, `excitation`, optional `groups: {name: [DOF labels]}`: contributions of each
 //!   input DOF (or group) to each output; their complex sum is the total.
+//! * `blocked-forces` — `bench` (FRFs from indicator DOFs to the source's interface DOFs, measured
+//!   with the source on a test bench; more indicators than forces allowed), `operational` (the
+//!   running source's responses at the indicators, a peak or RMS spectrum), optional `tsvd`
+//!   (relative singular-value threshold, default 1e-3) and `validate` (indicator DOFs left out of the
+//!   inversion and predicted as an on-board check; the report gives the error per band in dB).
+//!   The result is the blocked-force spectrum at the interface DOFs.
 //!
 //! Every error names the recipe entry (`components.NAME`, `steps[3] (id 'x')`).
 
@@ -239,6 +245,15 @@ pub struct Step {
     pub excitation: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub groups: Option<BTreeMap<String, Vec<String>>>,
+    /// For `blocked-forces`: the bench FRFs (indicators × interface DOFs).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bench: Option<String>,
+    /// For `blocked-forces`: the operational responses at the indicators (a spectrum).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub operational: Option<String>,
+    /// For `blocked-forces`: indicator DOFs left out of the inversion and predicted as a check.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub validate: Option<Vec<String>>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub note: Option<String>,
 }
@@ -945,8 +960,45 @@ fn run_step(
             });
             Ok((total, r))
         }
+        "blocked-forces" => {
+            let bench = need(values, &step.bench, "bench")?;
+            let op = need(values, &step.operational, "operational")?;
+            let mut o = predict::blocked::BlockedForceOptions::default();
+            if let Some(t) = step.tsvd {
+                o.rel_threshold = t;
+            }
+            if let Some(v) = &step.validate {
+                o.validation = parse_dofs(v, "validate")?;
+            }
+            let b = predict::blocked::blocked_forces(bench, op, &o)?;
+            let worst_val = b.validation.as_ref().map(|v| {
+                v.band_error_db
+                    .iter()
+                    .flatten()
+                    .filter(|x| x.is_finite())
+                    .fold(0.0f64, |m, x| m.max(x.abs()))
+            });
+            let worst = b.condition.iter().cloned().filter(|c| c.is_finite()).fold(f64::NAN, f64::max);
+            let r = json!({
+                "id": step.id,
+                "op": step.op,
+                "warnings": b.warnings,
+                "rel_threshold": b.rel_threshold,
+                "indicators": b.indicators.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+                "condition": b.condition.iter().map(|c| if c.is_finite() { json!(c) } else { Value::Null }).collect::<Vec<_>>(),
+                "worst_condition": if worst.is_finite() { json!(worst) } else { Value::Null },
+                "kept": b.kept,
+                "validation_worst_band_error_db": worst_val,
+                "validation": b.validation.as_ref().map(|v| json!({
+                    "dofs": v.dofs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+                    "bands": v.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
+                    "band_error_db": v.band_error_db.iter().map(|row| row.iter().map(|x| if x.is_finite() { json!(x) } else { Value::Null }).collect::<Vec<_>>()).collect::<Vec<_>>(),
+                })),
+            });
+            Ok((b.forces, r))
+        }
         other => Err(Error::recipe(format!(
-            "unknown op '{other}'; expected couple, decouple, cascade, sum, series, parallel, select, convert, invert, scale, respond or paths"
+            "unknown op '{other}'; expected couple, decouple, cascade, sum, series, parallel, select, convert, invert, scale, respond, paths or blocked-forces"
         ))),
     }
 }
