@@ -36,8 +36,8 @@ fn recipe_recovers_blocked_forces_and_validates() {
         SignalKind::Peak,
     );
     let mut truth = Vec::new();
-    for k in 0..freqs.len() {
-        let w = 2.0 * std::f64::consts::PI * freqs[k];
+    for (k, &fk) in freqs.iter().enumerate() {
+        let w = 2.0 * std::f64::consts::PI * fk;
         // a well-conditioned, frequency-dependent 4×2 transfer (invented test data)
         for i in 0..4 {
             for j in 0..2 {
@@ -73,8 +73,8 @@ fn recipe_recovers_blocked_forces_and_validates() {
     assert_eq!(fb.outputs, src);
     let mut worst = 0.0f64;
     for (k, f) in truth.iter().enumerate() {
-        for j in 0..2 {
-            worst = worst.max((fb.get(k, j, 0) - f[j]).norm() / f[j].norm());
+        for (j, fj) in f.iter().enumerate() {
+            worst = worst.max((fb.get(k, j, 0) - fj).norm() / fj.norm());
         }
     }
     assert!(worst <= 1e-9, "blocked forces recovered to {worst:e}");
