@@ -57,6 +57,8 @@ pub const IMPORT_OPTIONS: &[&str] = &[
     "mag",
     "phase",
     "value",
+    "stiffness",
+    "loss",
     "coh",
     "mag-db-ref",
     "phase-unit",
@@ -211,7 +213,18 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         cols("value"),
         cols("coh"),
     );
+    let (stiff, loss) = (cols("stiffness"), cols("loss"));
     let form = match (re.len(), im.len(), mag.len(), ph.len(), val.len()) {
+        _ if !stiff.is_empty() || !loss.is_empty() => {
+            if stiff.len() != n || loss.len() != n {
+                return Err(Error::usage(format!(
+                    "for {n} FRF(s) give {n} --stiffness and {n} --loss (storage stiffness K' and loss factor η); got {} and {}",
+                    stiff.len(),
+                    loss.len()
+                )));
+            }
+            3
+        }
         (a, b, 0, 0, 0) if a == n && b == n => 0,
         (0, 0, a, b, 0) if a == n && b == n => 1,
         (0, 0, 0, 0, a) if a == n => 2,
@@ -242,8 +255,12 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
                 mag: ColumnRef::parse(mag[e]),
                 phase: ColumnRef::parse(ph[e]),
             },
-            _ => ValueColumns::Real {
+            2 => ValueColumns::Real {
                 value: ColumnRef::parse(val[e]),
+            },
+            _ => ValueColumns::StorageLoss {
+                stiffness: ColumnRef::parse(stiff[e]),
+                loss: ColumnRef::parse(loss[e]),
             },
         };
         m.entries.push(MapEntry {

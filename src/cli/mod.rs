@@ -32,7 +32,8 @@ usage:
 column-map options (inspect and convert; for CSV/TSV not in mortise's own layout):
   --map MAP.json | --delim auto|comma|semicolon|tab|space --skip N --header-line N
   --decimal point|comma --freq-col C --freq-unit hz|khz|rad/s
-  per FRF: --out-dof D --in-dof D and (--re C --im C | --mag C --phase C | --value C) [--coh C]
+  per FRF: --out-dof D --in-dof D and (--re C --im C | --mag C --phase C | --value C
+           | --stiffness C --loss C) [--coh C]
   --mag-db-ref R --phase-unit deg|rad --unit U --out-qty Q --in-qty Q
   --signal peak|rms|autopower|psd --time-convention +iwt|-iwt --set-name NAME --component NAME
   (C is a 1-based column number or a header name; 'mortise inspect --help' explains each)
