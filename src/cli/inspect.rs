@@ -405,6 +405,24 @@ fn set_text(n: usize, s: &FrfSet, out: &mut String) {
     if s.coherence.is_some() {
         out.push_str("    coherence: supplied\n");
     }
+    // the fitness audit with default (common-practice) limits; `mortise audit` sets them
+    if s.signal.is_none() {
+        let a = crate::audit::audit(s, &crate::audit::AuditOptions::default());
+        let count = |st| a.checks.iter().filter(|c| c.status == st).count();
+        out.push_str(&format!(
+            "    audit:   {} passed, {} flagged, {} not applicable\n",
+            count(crate::audit::Status::Pass),
+            count(crate::audit::Status::Flag),
+            count(crate::audit::Status::NotApplicable)
+        ));
+        for c in a
+            .checks
+            .iter()
+            .filter(|c| c.status == crate::audit::Status::Flag)
+        {
+            out.push_str(&format!("      flag {}: {}\n", c.check, c.summary));
+        }
+    }
 }
 
 pub fn run(args: &Args) -> Result<String> {
