@@ -245,6 +245,13 @@
         card.append(el('dl', { class: 'kv' },
           el('dt', {}, 'FRFs'), el('dd', {}, `${s.frfs} in ${s.sets.length} set(s), ${s.bytes} bytes`),
           el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, s.sha256)));
+        // a file named in an opened bundle: is it the very file the bundle was made from?
+        const inBundle = (S.bundle?.info?.inputs || []).find((inp) => inp.name === f.name);
+        if (inBundle && inBundle.sha256) {
+          card.append(inBundle.sha256 === s.sha256
+            ? el('div', { class: 'audit-sum', 'data-bundle-match': 'yes' }, `SHA-256 matches the file bundle ${S.bundle.name} was made from`)
+            : el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ SHA-256 differs from the file bundle ${S.bundle.name} was made from (${inBundle.sha256.slice(0, 16)}…): its results do not describe this file`));
+        }
         for (const w of s.warnings) card.append(el('div', { class: 'warn' }, '⚠ ' + w));
         for (const set of s.sets) card.append(setBlock(set));
       }

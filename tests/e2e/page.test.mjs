@@ -209,6 +209,13 @@ test('a recipe runs in the worker, plots, exports like the CLI; a bundle without
     const again = await saveDownload(s2.page, '[data-export=csv]');
     assert.equal(again.bytes.toString(), csvPage.bytes.toString(), 'the reopened bundle gives the same result');
     await shot(s2.page, '06-bundle-reopened');
+    // the withheld file dropped in again is recognised by its SHA-256; an edited one is flagged
+    const drop = (data) => s2.page.setInputFiles('#file-input', { name: 'frame.csv', mimeType: 'text/csv', buffer: Buffer.from(data) });
+    await drop(frameCsv());
+    await s2.page.waitForSelector('[data-file="frame.csv"] [data-bundle-match]');
+    assert.equal(await s2.page.$eval('[data-file="frame.csv"] [data-bundle-match]', (e) => e.dataset.bundleMatch), 'yes');
+    await drop(frameCsv() + '\n');
+    await s2.page.waitForSelector('[data-file="frame.csv"] [data-bundle-match="no"]');
     assert.deepEqual(s2.foreign(), []);
   } finally { await s2.close(); }
 });
