@@ -42,7 +42,8 @@ pub struct SetSummary {
     pub coherence: bool,
     pub grid: GridSummary,
     pub warnings: Vec<String>,
-    /// The fitness audit with default (common-practice) limits; None for spectra.
+    /// The fitness audit with default (common-practice) limits, for sets read
+    /// from files ([`file_summary`]); None for spectra and results.
     #[serde(default)]
     pub audit: Option<crate::audit::AuditReport>,
 }
@@ -121,20 +122,24 @@ pub fn set_summary(set: &FrfSet) -> SetSummary {
         coherence: set.coherence.is_some(),
         grid: grid(&set.freqs),
         warnings: set.warnings.clone(),
-        audit: if set.signal.is_none() {
-            Some(crate::audit::audit(
-                set,
-                &crate::audit::AuditOptions::default(),
-            ))
-        } else {
-            None
-        },
+        audit: None,
     }
 }
 
 /// Summary of a loaded file.
 pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
-    let sets: Vec<SetSummary> = loaded.sets.iter().map(set_summary).collect();
+    // supplier data get the fitness audit (default, common-practice limits); results do not
+    let sets: Vec<SetSummary> = loaded
+        .sets
+        .iter()
+        .map(|set| SetSummary {
+            audit: set
+                .signal
+                .is_none()
+                .then(|| crate::audit::audit(set, &crate::audit::AuditOptions::default())),
+            ..set_summary(set)
+        })
+        .collect();
     FileSummary {
         file: file.to_string(),
         bytes: bytes.len(),
