@@ -25,8 +25,11 @@ test('demo assembly on the page equals the CLI', async () => {
 
   const s = await open();
   try {
-    await s.page.click('#demo-btn');
-    await s.page.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    // the suppliers' files from sample-frf/ through the file input, the recipe first
+    const names = ['heat-pump.recipe.json', 'unit-casing.uff', 'unit-blocked-forces.uff', 'isolator-stiffness.csv',
+      'brackets.uffb', 'wall-accelerance.csv', 'wall-to-bed-pressure.csv'];
+    await s.page.setInputFiles('#file-input', names.map((n) => ({ name: n, mimeType: 'application/octet-stream', buffer: readFileSync(join(ROOT, 'sample-frf', n)) })));
+    await s.page.waitForFunction(() => /6 file\(s\) in the workspace/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
     const failed = await s.page.$$eval('.card.failed', (cs) => cs.map((c) => c.textContent));
     assert.deepEqual(failed, [], 'every demo file reads');
     // the core's fitness audit shows on every FRF card, flags included
@@ -86,6 +89,23 @@ test('demo assembly on the page equals the CLI', async () => {
       }
       console.log(`# measure ${name}: page vs CLI worst relative difference ${worst}`);
       assert.ok(worst <= 1e-12, `${name}: ${worst}`);
+    }
+    assert.deepEqual(s.foreign(), []);
+  } finally { await s.close(); }
+});
+
+test('the demo button loads the same scenario the files hold', async () => {
+  const s = await open();
+  try {
+    await s.page.click('#demo-btn');
+    await s.page.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    assert.deepEqual(await s.page.$$eval('.card.failed', (cs) => cs.length), 0);
+    // the cards show the same SHA-256 as the committed sample-frf files
+    const { createHash } = await import('node:crypto');
+    for (const n of ['unit-casing.uff', 'brackets.uffb', 'wall-accelerance.csv']) {
+      const want = createHash('sha256').update(readFileSync(join(ROOT, 'sample-frf', n))).digest('hex');
+      const text = await s.page.$eval(`[data-file="${n}"]`, (e) => e.textContent);
+      assert.ok(text.includes(want), `${n}: SHA-256 ${want} on its card`);
     }
     assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
