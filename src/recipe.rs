@@ -363,8 +363,28 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
                 outputs.push(s);
             }
         }
-        variants
-            .push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas }));
+        // A-weighted 1/3-octave differences at each target of every spectrum output
+        // (variant minus baseline; IEC 61672-1, IEC 61260-1)
+        let mut bands = BTreeMap::new();
+        for name in &recipe.outputs {
+            if let (Some(a), Some(b)) = (base.values.get(name), res.values.get(name)) {
+                if a.signal.is_some() {
+                    if let Ok(d) = predict::variants::difference_db(a, b, 3, Weighting::A) {
+                        let fin = |x: &f64| if x.is_finite() { json!(x) } else { Value::Null };
+                        bands.insert(
+                            name.clone(),
+                            json!({
+                                "targets": d.targets.iter().map(|t| t.to_string()).collect::<Vec<_>>(),
+                                "bands": d.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
+                                "per_band_dba": d.per_band_db.iter().map(|r| r.iter().map(fin).collect::<Vec<_>>()).collect::<Vec<_>>(),
+                                "overall_dba": d.overall_db.iter().map(fin).collect::<Vec<_>>(),
+                            }),
+                        );
+                    }
+                }
+            }
+        }
+        variants.push(json!({ "name": v.name, "steps": res.step_reports, "level_change_db": deltas, "difference_dba": bands }));
     }
     // the fitness audit of every component, with default (common-practice) limits
     let audits: BTreeMap<String, crate::audit::AuditReport> = comps
@@ -839,6 +859,29 @@ fn headline(steps: &[Value], variants: &[Value]) -> Vec<String> {
                         y,
                         y - x
                     ));
+                    // the change per 1/3-octave band, where the bands hold lines
+                    let id = b["id"].as_str().unwrap_or("");
+                    let d = &v["difference_dba"][id];
+                    let t = d["targets"]
+                        .as_array()
+                        .and_then(|ts| ts.iter().position(|t| t == &rb["dof"]));
+                    if let Some(t) = t {
+                        let per: Vec<String> = d["bands"]
+                            .as_array()
+                            .into_iter()
+                            .flatten()
+                            .zip(d["per_band_dba"][t].as_array().into_iter().flatten())
+                            .filter_map(|(b, x)| {
+                                Some(format!("{} {:+.1}", b.as_str()?, x.as_f64()?))
+                            })
+                            .collect();
+                        if !per.is_empty() {
+                            out.push(format!(
+                                "  change by 1/3-octave band (Hz dB): {}",
+                                per.join(", ")
+                            ));
+                        }
+                    }
                 }
             }
         }

@@ -123,6 +123,20 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
     eprintln!("A-weighted change from the written spectra: {change:+.2} dB");
     assert!(change < 0.0, "{change}");
     assert!((change - (soft_dba - base_dba)).abs() < 0.05, "{change}");
+    // ... and in the report's A-weighted difference (overall and per band)
+    let diff = &variant["difference_dba"]["bedroom"];
+    let overall = diff["overall_dba"][0].as_f64().unwrap();
+    assert!((overall - (soft_dba - base_dba)).abs() < 1e-9, "{overall}");
+    let per_band: Vec<f64> = diff["per_band_dba"][0]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|x| x.as_f64())
+        .collect();
+    assert!(
+        !per_band.is_empty() && per_band.iter().all(|&d| d < 0.0),
+        "{per_band:?}"
+    );
 
     // the complex sum of the path contributions equals the total written by
     // the run, and equals Σ_j H_bed,j F_j computed here (superposition of a
