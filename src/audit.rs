@@ -345,18 +345,10 @@ pub fn check_reciprocity(set: &FrfSet, opts: &AuditOptions) -> CheckResult {
                 continue;
             }
             // the transposed entry: output at inputs[b], input at outputs[a]
-            let Some(a2) = set
-                .outputs
-                .iter()
-                .position(|o| o.same_place(&set.inputs[b]))
-            else {
+            let Some(a2) = set.out_place(&set.inputs[b]) else {
                 continue;
             };
-            let Some(b2) = set
-                .inputs
-                .iter()
-                .position(|i| i.same_place(&set.outputs[a]))
-            else {
+            let Some(b2) = set.in_place(&set.outputs[a]) else {
                 continue;
             };
             if !set.is_present(a2, b2) {
@@ -477,7 +469,7 @@ pub fn check_passivity(set: &FrfSet, opts: &AuditOptions) -> CheckResult {
     };
     let mut dps = Vec::new();
     for i in 0..y.n_out() {
-        if let Some(j) = y.inputs.iter().position(|d| d.same_place(&y.outputs[i])) {
+        if let Some(j) = y.in_place(&y.outputs[i]) {
             if y.is_present(i, j) {
                 dps.push((i, j));
             }
@@ -831,18 +823,10 @@ pub fn audit_linearity(low: &FrfSet, high: &FrfSet, opts: &AuditOptions) -> Resu
             if !low.is_present(i, j) {
                 continue;
             }
-            let Some(i2) = high
-                .outputs
-                .iter()
-                .position(|d| d.same_place(&low.outputs[i]))
-            else {
+            let Some(i2) = high.out_place(&low.outputs[i]) else {
                 continue;
             };
-            let Some(j2) = high
-                .inputs
-                .iter()
-                .position(|d| d.same_place(&low.inputs[j]))
-            else {
+            let Some(j2) = high.in_place(&low.inputs[j]) else {
                 continue;
             };
             if !high.is_present(i2, j2) {

@@ -399,6 +399,14 @@ impl FrfSet {
     pub fn in_index(&self, d: &Dof) -> Option<usize> {
         self.inputs.iter().position(|o| o == d)
     }
+    /// Index of the output at the same place as `d`, whatever its sign.
+    pub fn out_place(&self, d: &Dof) -> Option<usize> {
+        self.outputs.iter().position(|o| o.same_place(d))
+    }
+    /// Index of the input at the same place as `d`, whatever its sign.
+    pub fn in_place(&self, d: &Dof) -> Option<usize> {
+        self.inputs.iter().position(|o| o.same_place(d))
+    }
     /// Labels of missing entries, "out / in".
     pub fn missing_entries(&self) -> Vec<String> {
         let mut v = Vec::new();

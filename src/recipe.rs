@@ -727,15 +727,14 @@ fn joints(
 fn spectrum_report(y: &FrfSet) -> Value {
     let mut rows = Vec::new();
     for i in 0..y.n_out() {
-        let a = levels::spectrum_levels(y, i, 3, Weighting::A);
-        let z = levels::spectrum_levels(y, i, 3, Weighting::Z);
-        match (a, z) {
-            (Ok(a), Ok(z)) => {
-                // the three strongest lines, A-weighted (IEC 61672-1)
-                let mut lines: Vec<(f64, f64)> = z
+        match levels::spectrum_levels(y, i, 3, Weighting::A) {
+            Ok(a) => {
+                // `line_db` is unweighted: the Z overall is its energetic sum, and the
+                // three strongest lines are weighted here (IEC 61672-1)
+                let mut lines: Vec<(f64, f64)> = a
                     .freqs
                     .iter()
-                    .zip(&z.line_db)
+                    .zip(&a.line_db)
                     .filter(|(_, l)| l.is_finite())
                     .map(|(&f, &l)| (f, l + levels::weighting_db(Weighting::A, f)))
                     .collect();
@@ -745,15 +744,13 @@ fn spectrum_report(y: &FrfSet) -> Value {
                     "dof": a.dof,
                     "unit": a.unit,
                     "overall_dba": a.overall_db,
-                    "overall_db": z.overall_db,
+                    "overall_db": levels::sum_levels_db(&a.line_db),
                     "bands": a.bands.iter().map(|b| b.label.clone()).collect::<Vec<_>>(),
                     "band_dba": a.band_db.iter().map(|v| if v.is_finite() { json!(v) } else { Value::Null }).collect::<Vec<_>>(),
                     "top_lines_dba": lines.iter().map(|(f, l)| json!({"hz": f, "dba": l})).collect::<Vec<_>>(),
                 }))
             }
-            (Err(e), _) | (_, Err(e)) => {
-                rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() }))
-            }
+            Err(e) => rows.push(json!({ "dof": y.outputs[i].to_string(), "error": e.to_string() })),
         }
     }
     Value::Array(rows)

@@ -39,7 +39,7 @@ pub fn cascade(first: &FrfSet, second: &FrfSet) -> Result<FrfSet> {
     let mut map: Vec<(usize, f64)> = Vec::with_capacity(second.n_in());
     let mut not_in_first: Vec<Dof> = Vec::new();
     for d in &second.inputs {
-        match first.outputs.iter().position(|o| o.same_place(d)) {
+        match first.out_place(d) {
             Some(p) => map.push((p, d.sign() * first.outputs[p].sign())),
             None => not_in_first.push(d.clone()),
         }

@@ -447,8 +447,8 @@ fn check_distinct_dofs(components: &[&FrfSet]) -> Result<()> {
 /// and −1 for end b.
 fn find_end(sets: &[Cow<FrfSet>], d: &Dof, b: f64, tag: &str) -> Result<End> {
     for (p, s) in sets.iter().enumerate() {
-        let o = s.outputs.iter().position(|x| x.same_place(d));
-        let i = s.inputs.iter().position(|x| x.same_place(d));
+        let o = s.out_place(d);
+        let i = s.in_place(d);
         match (o, i) {
             (Some(o), Some(i)) => {
                 return Ok(End {

@@ -43,8 +43,8 @@ model of the data supplied; it does not replace measurement, local
 regulations, or the judgement of a licensed professional.
 ";
 
-/// The caution printed with every prediction.
-pub const CAUTION: &str = "caution: engineering estimate from a linear, small-amplitude model of the data supplied; it does not replace measurement, local regulations, or the judgement of a licensed professional where used against noise limits or for structural safety.";
+/// The caution printed with every prediction (one text for every face).
+pub const CAUTION: &str = crate::predict::CAUTION;
 
 /// Run one command line (without the program name); returns what to print.
 pub fn run_cli(argv: &[String]) -> Result<String> {

@@ -103,7 +103,7 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
                 for w in ws {
                     let w = w.as_str().unwrap_or("");
                     // the caution is printed once, at the end
-                    if w != crate::predict::CAUTION && !seen.contains(&w.to_string()) {
+                    if w != super::CAUTION && !seen.contains(&w.to_string()) {
                         seen.push(w.to_string());
                         let _ = writeln!(s, "  warning: {w}");
                     }
@@ -122,6 +122,6 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
         res.outputs.len(),
         out.display()
     );
-    let _ = writeln!(s, "{}", super::CAUTION);
+    let _ = writeln!(s, "caution: {}", super::CAUTION);
     s
 }

@@ -136,12 +136,12 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
     let mut remarks = Vec::new();
     for (sn, s) in sets.iter().enumerate() {
         for (a, o) in s.outputs.iter().enumerate() {
-            let i = m.outputs.iter().position(|d| d.same_place(o)).unwrap_or(0);
+            let i = m.out_place(o).unwrap_or(0);
             for (b, inp) in s.inputs.iter().enumerate() {
                 if !s.is_present(a, b) {
                     continue;
                 }
-                let j = m.inputs.iter().position(|d| d.same_place(inp)).unwrap_or(0);
+                let j = m.in_place(inp).unwrap_or(0);
                 let cell = i * n_in + j;
                 if let Some(prev) = source[cell] {
                     remarks.push(format!(

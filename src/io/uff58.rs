@@ -1691,8 +1691,8 @@ pub fn read_with(
             if g.role != Role::Frf || s.freqs != freqs {
                 continue;
             }
-            let i = s.outputs.iter().position(|d| d.same_place(&out));
-            let j = s.inputs.iter().position(|d| d.same_place(&inp));
+            let i = s.out_place(&out);
+            let j = s.in_place(&inp);
             if let (Some(i), Some(j)) = (i, j) {
                 let n = s.data.len();
                 let (n_out, n_in) = (s.n_out(), s.n_in());
@@ -1788,16 +1788,8 @@ fn build_set(file: &str, g: &mut Group, default_name: &str) -> FrfSet {
     }
     let mut first_line = vec![0usize; n_out * n_in];
     for e in &g.entries {
-        let i = s
-            .outputs
-            .iter()
-            .position(|d| d.same_place(&e.out))
-            .unwrap_or(0);
-        let j = s
-            .inputs
-            .iter()
-            .position(|d| d.same_place(&e.inp))
-            .unwrap_or(0);
+        let i = s.out_place(&e.out).unwrap_or(0);
+        let j = s.in_place(&e.inp).unwrap_or(0);
         let sign = e.out.sign() * s.outputs[i].sign() * e.inp.sign() * s.inputs[j].sign();
         let m = i * n_in + j;
         if s.present[m] {

@@ -70,9 +70,7 @@ pub struct BlockedForces {
 }
 
 fn row_of(set: &FrfSet, d: &Dof) -> Option<(usize, f64)> {
-    set.outputs
-        .iter()
-        .position(|o| o.same_place(d))
+    set.out_place(d)
         .map(|i| (i, set.outputs[i].sign() * d.sign()))
 }
 

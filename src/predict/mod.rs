@@ -28,7 +28,7 @@ use num_complex::Complex64;
 pub const INCOHERENT_ASSUMPTION: &str = "the excitation is an autopower/PSD without phase: contributions were added as mean squares, which assumes the sources are mutually uncorrelated; correlated sources can give up to 10·log10(N) dB more or much less";
 
 /// The caution shown with every prediction used against limits.
-pub const CAUTION: &str = "Predictions assume linear, small-amplitude behaviour of the data supplied; they do not replace measurement, local regulations or a licensed professional's judgement where used against noise limits or for safety.";
+pub const CAUTION: &str = "Predictions are engineering estimates that assume linear, small-amplitude behaviour of the data supplied; they do not replace measurement, local regulations or a licensed professional's judgement where used against noise limits or for structural safety.";
 
 /// True when two grids hold the same lines (relative 1e-9).
 pub fn same_grid(a: &[f64], b: &[f64]) -> bool {
@@ -119,18 +119,14 @@ pub fn new_spectrum(
 pub(crate) fn match_inputs(frf: &FrfSet, exc: &FrfSet) -> Result<Vec<(usize, f64)>> {
     let mut v = Vec::with_capacity(exc.n_out());
     for d in &exc.outputs {
-        let j = frf
-            .inputs
-            .iter()
-            .position(|i| i.same_place(d))
-            .ok_or_else(|| {
-                Error::dof(format!(
-                    "the excitation '{}' acts at {d}, which is not an input of '{}'; its inputs are {}",
-                    exc.name,
-                    frf.name,
-                    labels(&frf.inputs)
-                ))
-            })?;
+        let j = frf.in_place(d).ok_or_else(|| {
+            Error::dof(format!(
+                "the excitation '{}' acts at {d}, which is not an input of '{}'; its inputs are {}",
+                exc.name,
+                frf.name,
+                labels(&frf.inputs)
+            ))
+        })?;
         v.push((j, d.sign() * frf.inputs[j].sign()));
     }
     Ok(v)

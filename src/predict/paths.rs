@@ -82,16 +82,12 @@ pub fn path_contributions(
         paths.push(g.name.clone());
         path_inputs.push(Vec::new());
         for d in &g.inputs {
-            let r = exc
-                .outputs
-                .iter()
-                .position(|e| e.same_place(d))
-                .ok_or_else(|| {
-                    Error::dof(format!(
-                        "path group '{}' names {d}, where the excitation '{}' does not act",
-                        g.name, exc.name
-                    ))
-                })?;
+            let r = exc.out_place(d).ok_or_else(|| {
+                Error::dof(format!(
+                    "path group '{}' names {d}, where the excitation '{}' does not act",
+                    g.name, exc.name
+                ))
+            })?;
             if row_path[r] != usize::MAX {
                 return Err(Error::usage(format!(
                     "{d} is in path groups '{}' and '{}'; a DOF belongs to one path",

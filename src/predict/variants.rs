@@ -54,16 +54,12 @@ pub fn difference_db(
     let mut overall = Vec::new();
     let mut bands = Vec::new();
     for (t, d) in baseline.outputs.iter().enumerate() {
-        let tv = variant
-            .outputs
-            .iter()
-            .position(|o| o.same_place(d))
-            .ok_or_else(|| {
-                Error::dof(format!(
-                    "the variant '{}' has no response at {d}",
-                    variant.name
-                ))
-            })?;
+        let tv = variant.out_place(d).ok_or_else(|| {
+            Error::dof(format!(
+                "the variant '{}' has no response at {d}",
+                variant.name
+            ))
+        })?;
         let ma = levels::line_mean_squares(baseline, t)?;
         let mb = levels::line_mean_squares(variant, tv)?;
         per_line.push(ma.iter().zip(&mb).map(|(a, b)| ratio_db(*b, *a)).collect());
@@ -121,12 +117,9 @@ pub fn scale_source(exc: &FrfSet, factor: Complex64, dofs: Option<&[Dof]>) -> Re
         Some(ds) => ds
             .iter()
             .map(|d| {
-                exc.outputs
-                    .iter()
-                    .position(|o| o.same_place(d))
-                    .ok_or_else(|| {
-                        Error::dof(format!("the source '{}' does not act at {d}", exc.name))
-                    })
+                exc.out_place(d).ok_or_else(|| {
+                    Error::dof(format!("the source '{}' does not act at {d}", exc.name))
+                })
             })
             .collect::<Result<_>>()?,
     };

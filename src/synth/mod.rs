@@ -138,6 +138,28 @@ impl SystemMatrices {
         })
     }
 
+    /// Check the grid and the requested DOFs; their indices in the matrices.
+    fn requested(
+        &self,
+        name: &str,
+        freqs: &[f64],
+        outputs: &[Dof],
+        inputs: &[Dof],
+    ) -> Result<(Vec<usize>, Vec<usize>)> {
+        crate::grid::check_grid(freqs)?;
+        if outputs.is_empty() || inputs.is_empty() {
+            return Err(Error::dof(format!(
+                "'{name}': no output or no input DOF was requested; expected at least one of each"
+            )));
+        }
+        let idx = |ds: &[Dof]| {
+            ds.iter()
+                .map(|d| self.index_of(d))
+                .collect::<Result<Vec<_>>>()
+        };
+        Ok((idx(outputs)?, idx(inputs)?))
+    }
+
     /// Index of a DOF (same place; the sign of the request is applied by
     /// [`SystemMatrices::receptance`]).
     pub fn index_of(&self, d: &Dof) -> Result<usize> {
@@ -163,20 +185,7 @@ impl SystemMatrices {
         outputs: &[Dof],
         inputs: &[Dof],
     ) -> Result<FrfSet> {
-        crate::grid::check_grid(freqs)?;
-        if outputs.is_empty() || inputs.is_empty() {
-            return Err(Error::dof(format!(
-                "'{name}': no output or no input DOF was requested; expected at least one of each"
-            )));
-        }
-        let oi = outputs
-            .iter()
-            .map(|d| self.index_of(d))
-            .collect::<Result<Vec<_>>>()?;
-        let ii = inputs
-            .iter()
-            .map(|d| self.index_of(d))
-            .collect::<Result<Vec<_>>>()?;
+        let (oi, ii) = self.requested(name, freqs, outputs, inputs)?;
         let mut set = FrfSet::zeros(
             name,
             freqs.to_vec(),
@@ -237,20 +246,7 @@ impl SystemMatrices {
         alpha: f64,
         beta: f64,
     ) -> Result<FrfSet> {
-        crate::grid::check_grid(freqs)?;
-        if outputs.is_empty() || inputs.is_empty() {
-            return Err(Error::dof(format!(
-                "'{name}': no output or no input DOF was requested; expected at least one of each"
-            )));
-        }
-        let oi = outputs
-            .iter()
-            .map(|d| self.index_of(d))
-            .collect::<Result<Vec<_>>>()?;
-        let ii = inputs
-            .iter()
-            .map(|d| self.index_of(d))
-            .collect::<Result<Vec<_>>>()?;
+        let (oi, ii) = self.requested(name, freqs, outputs, inputs)?;
         let (lam, phi) = real_modes(&self.k, &self.m)?;
         let lmax = lam.iter().fold(0.0f64, |a, &b| a.max(b.abs()));
         let rigid = lam.iter().any(|&l| l.abs() <= 1e-9 * lmax);
