@@ -4,18 +4,102 @@
 #   ./build.sh test   run every test: Rust unit and integration tests (with Python cross-checks),
 #                     and the browser end-to-end tests against the built page
 #   ./build.sh bench  run the coupling benchmark (Rust core against a numpy reference)
+#
+# On a fresh machine the first run installs what is missing, and only that: the wasm32 Rust target,
+# the pinned wasm-bindgen CLI, the npm packages (playwright-core, binaryen's wasm-opt); `test` also
+# makes the Python venv and installs Debian's Chromium. A second run finds them and starts building.
 set -euo pipefail
 cd "$(dirname "$0")"
 ROOT=$(pwd)
+WANT_BINDGEN=0.2.130
 
-venv() {
-  if [ ! -x .venv/bin/python ] || ! .venv/bin/python -c 'import numpy, scipy, pyuff, control' 2>/dev/null; then
-    echo "== making the Python cross-check venv (.venv)"
-    python3 -m venv .venv
-    .venv/bin/pip install --quiet --disable-pip-version-check -r tests/py/requirements.txt
+# ---- installs: each checks first, says what it does and how long it usually takes, and on failure
+# ---- names the step and the command to run by hand, leaving nothing half-installed in the way.
+
+fail_install() { # step, command to run by hand
+  echo >&2
+  echo "build.sh: installing $1 failed." >&2
+  echo "  Run it by hand, then run ./build.sh again:" >&2
+  echo "    $2" >&2
+  exit 1
+}
+
+need_tool() { # tool, what provides it
+  if ! command -v "$1" >/dev/null 2>&1; then
+    echo "build.sh: '$1' is not on PATH; it comes with $2. Install it, then run ./build.sh again." >&2
+    exit 1
+  fi
+}
+
+ensure_wasm_target() {
+  if rustup target list --installed 2>/dev/null | grep -qx wasm32-unknown-unknown; then return; fi
+  echo "== installing the Rust target wasm32-unknown-unknown (rustup, about 10 s)"
+  rustup target add wasm32-unknown-unknown || fail_install "the wasm32 target" \
+    "rustup target add wasm32-unknown-unknown"
+}
+
+ensure_bindgen() {
+  if wasm-bindgen --version 2>/dev/null | grep -q "$WANT_BINDGEN"; then return; fi
+  echo "== installing the wasm-bindgen CLI $WANT_BINDGEN (cargo install, about 3-4 min on 2 cores)"
+  # cargo install places the binary only when the build succeeded; a failed build leaves nothing.
+  cargo install wasm-bindgen-cli --version "$WANT_BINDGEN" --no-default-features --force --quiet ||
+    fail_install "the wasm-bindgen CLI" \
+      "cargo install wasm-bindgen-cli --version $WANT_BINDGEN --no-default-features --force"
+}
+
+node_ready() {
+  [ -d node_modules/playwright-core ] && [ node_modules/.package-lock.json -nt package-lock.json ]
+}
+
+ensure_node_deps() {
+  if node_ready; then return; fi
+  need_tool node "Node.js (Debian package nodejs)"
+  need_tool npm "npm (Debian package npm)"
+  echo "== installing the npm packages (npm ci: playwright-core, binaryen's wasm-opt; about 20 s)"
+  if ! npm ci --no-audit --no-fund --silent; then
+    rm -rf node_modules
+    fail_install "the npm packages" "npm ci"
+  fi
+  touch node_modules/.package-lock.json
+}
+
+venv_ready() {
+  [ -x .venv/bin/python ] && .venv/bin/python -c 'import numpy, scipy, pyuff, control' 2>/dev/null
+}
+
+ensure_venv() {
+  if ! venv_ready; then
+    need_tool python3 "CPython 3 (Debian package python3, with python3-venv)"
+    echo "== making the Python cross-check venv .venv (numpy, scipy, pyuff, python-control; about 40 s)"
+    rm -rf .venv
+    if ! { python3 -m venv .venv &&
+      .venv/bin/pip install --quiet --disable-pip-version-check -r tests/py/requirements.txt; }; then
+      rm -rf .venv
+      fail_install "the Python venv" \
+        "python3 -m venv .venv && .venv/bin/pip install -r tests/py/requirements.txt"
+    fi
   fi
   export MORTISE_PYTHON="$ROOT/.venv/bin/python"
 }
+
+ensure_chromium() {
+  if [ -x /usr/bin/chromium ]; then return; fi
+  local cmd="apt-get update && apt-get install -y chromium chromium-driver"
+  if [ "$(id -u)" -ne 0 ]; then
+    echo "build.sh: the browser tests need Debian's Chromium at /usr/bin/chromium, and installing it" >&2
+    echo "  needs root. Run this once, then run ./build.sh test again:" >&2
+    echo "    sudo sh -c '$cmd'" >&2
+    exit 1
+  fi
+  echo "== installing Chromium (Debian packages chromium and chromium-driver, about 1-2 min)"
+  # apt-get unpacks and configures as one transaction; dpkg --configure -a finishes an interrupted one.
+  if ! { DEBIAN_FRONTEND=noninteractive apt-get update -qq &&
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium chromium-driver >/dev/null; }; then
+    fail_install "Chromium" "$cmd"
+  fi
+}
+
+# ---- the build itself
 
 cli() {
   echo "== building the CLI (release)"
@@ -29,45 +113,38 @@ demo() {
 }
 
 page() {
-  if [ -x tools/page.sh ]; then
-    echo "== building the offline page"
-    tools/page.sh
-  else
-    echo "tools/page.sh missing" >&2
-    return 1
-  fi
-}
-
-node_deps() {
-  if [ -f package.json ] && [ ! -d node_modules/playwright-core ]; then
-    echo "== installing node test dependencies"
-    npm ci --no-audit --no-fund --silent
-  fi
+  echo "== building the offline page"
+  tools/page.sh
 }
 
 case "${1:-build}" in
   build)
+    ensure_wasm_target
+    ensure_bindgen
+    ensure_node_deps
     cli
     demo
-    node_deps
     page
     echo
     echo "open: file://$ROOT/dist/mortise.html"
     ;;
   test)
-    venv
+    ensure_wasm_target
+    ensure_bindgen
+    ensure_node_deps
+    ensure_venv
+    ensure_chromium
     echo "== cargo test"
     cargo test --quiet --all-targets
     cargo test --quiet --doc
     cli
     demo
-    node_deps
     page
     echo "== browser end-to-end tests"
     node --test tests/e2e/
     ;;
   bench)
-    venv
+    ensure_venv
     cargo run --release --quiet --example bench_couple
     ;;
   *)
