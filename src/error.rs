@@ -32,6 +32,8 @@ pub enum ErrorKind {
     Usage,
     /// The user cancelled a long computation.
     Cancelled,
+    /// A defect of mortise itself, not of the input (exit code 3).
+    Internal,
 }
 
 /// Where in a file an error sits.
@@ -53,6 +55,11 @@ pub struct Error {
     pub location: Option<Location>,
     /// The field or column concerned, e.g. "record 6, reference direction".
     pub field: Option<String>,
+    /// Where in a recipe (or other nested input) the error sits, innermost
+    /// first: `["joints[1].a", "steps[2] (id 'mounted', op 'couple')", "variants ('softer')"]`.
+    /// Displayed outer to inner.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub context: Vec<String>,
     /// What was expected and what was found, in words.
     pub message: String,
 }
@@ -66,6 +73,7 @@ impl Error {
             file: None,
             location: None,
             field: None,
+            context: Vec::new(),
             message: message.into(),
         }
     }
@@ -123,6 +131,24 @@ impl Error {
         }
         self
     }
+    pub fn internal(message: impl Into<String>) -> Self {
+        Self::new(ErrorKind::Internal, message)
+    }
+    /// Wrap the error in one more level of context (an enclosing recipe entry):
+    /// contexts stack, the outermost is added last and shown first.
+    pub fn within(mut self, context: impl Into<String>) -> Self {
+        self.context.push(context.into());
+        self
+    }
+    /// The recipe path of the error, outer to inner, joined by " → ".
+    pub fn context_path(&self) -> String {
+        self.context
+            .iter()
+            .rev()
+            .cloned()
+            .collect::<Vec<_>>()
+            .join(" → ")
+    }
     /// Attach a field name (keeps an existing one).
     pub fn field(mut self, field: impl Into<String>) -> Self {
         if self.field.is_none() {
@@ -147,6 +173,13 @@ impl fmt::Display for Error {
                 Location::Line(n) => write!(f, "line {n}")?,
                 Location::Byte(n) => write!(f, "byte {n}")?,
             }
+            wrote = true;
+        }
+        for c in self.context.iter().rev() {
+            if wrote {
+                write!(f, ": ")?;
+            }
+            write!(f, "{c}")?;
             wrote = true;
         }
         if let Some(field) = &self.field {
@@ -184,6 +217,24 @@ mod tests {
         assert_eq!(
             e.to_string(),
             "casing.uff: line 12: record 7, number of values: expected an integer, found 'abc'"
+        );
+    }
+
+    #[test]
+    fn context_stacks_outer_to_inner() {
+        let e = Error::dof("no DOF 'B:9+X' in 'B'")
+            .field("b")
+            .within("joints[1]")
+            .within("steps[2] (id 'mounted', op 'couple')")
+            .within("variants[0] ('softer')")
+            .in_file("r.json");
+        assert_eq!(
+            e.to_string(),
+            "r.json: variants[0] ('softer'): steps[2] (id 'mounted', op 'couple'): joints[1]: b: no DOF 'B:9+X' in 'B'"
+        );
+        assert_eq!(
+            e.context_path(),
+            "variants[0] ('softer') → steps[2] (id 'mounted', op 'couple') → joints[1]"
         );
     }
 

@@ -93,9 +93,48 @@ pub fn spacing(freqs: &[f64]) -> Spacing {
     }
 }
 
-/// True when both grids have the same lines, bit for bit.
+/// Two lines are the same when they differ by at most this fraction of the larger.
+pub const SAME_LINE_REL: f64 = 1e-9;
+
+fn same_line(x: f64, y: f64) -> bool {
+    (x - y).abs() <= SAME_LINE_REL * x.abs().max(y.abs())
+}
+
+/// The one "same grid" rule of mortise: as many lines, each equal within
+/// [`SAME_LINE_REL`] relative (files written with 6 to 17 digits still match).
 pub fn same_grid(a: &[f64], b: &[f64]) -> bool {
-    a.len() == b.len() && a.iter().zip(b).all(|(x, y)| x.to_bits() == y.to_bits())
+    a.len() == b.len() && a.iter().zip(b).all(|(&x, &y)| same_line(x, y))
+}
+
+/// Error unless `b` has the grid of `a` ([`same_grid`]); `what` names the
+/// operation. The message names both grids, the first line that differs and
+/// the ways to bring the sets onto one grid.
+pub fn require_same_grid(a: &FrfSet, b: &FrfSet, what: &str) -> Result<()> {
+    if same_grid(&a.freqs, &b.freqs) {
+        return Ok(());
+    }
+    let detail = match a
+        .freqs
+        .iter()
+        .zip(&b.freqs)
+        .position(|(&x, &y)| !same_line(x, y))
+    {
+        Some(k) => format!(
+            "; they first differ at line {} ({} Hz against {} Hz)",
+            k + 1,
+            a.freqs[k],
+            b.freqs[k]
+        ),
+        None => String::new(),
+    };
+    let text = |s: &FrfSet| format!("{} lines, {}", s.n_lines(), range_text(&s.freqs));
+    Err(Error::grid(format!(
+        "{what} needs one frequency grid, but '{}' has {} and '{}' has {}{detail}; bring them onto one grid with a 'resample' step in the recipe (or a 'grid' on the component; on the command line, mortise convert --grid)",
+        a.name,
+        text(a),
+        b.name,
+        text(b)
+    )))
 }
 
 fn range_text(g: &[f64]) -> String {
@@ -222,7 +261,9 @@ pub fn resample_values(
 /// is interpolated linearly. Adds a warning saying what was done.
 pub fn resample(set: &FrfSet, dst: &[f64], interp: Interp) -> Result<FrfSet> {
     if same_grid(&set.freqs, dst) {
-        return Ok(set.clone());
+        let mut s = set.clone();
+        s.freqs = dst.to_vec();
+        return Ok(s);
     }
     let (n_out, n_in) = (set.n_out(), set.n_in());
     let mut s = FrfSet::zeros(

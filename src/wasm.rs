@@ -78,6 +78,19 @@ fn summaries_with_ids(ids: &[String], ws: &Workspace) -> Vec<SetSummary> {
         .collect()
 }
 
+/// The recipe vocabulary for the page: operations with their operands,
+/// joint types with their parameters, the rule for untyped joints, and the
+/// schema text (`mortise help recipe`).
+#[wasm_bindgen]
+pub fn recipe_vocabulary() -> std::result::Result<String, JsValue> {
+    to_json(&serde_json::json!({
+        "operations": recipe::vocabulary(),
+        "joint_types": recipe::JOINT_TYPES,
+        "inference_rule": recipe::INFERENCE_RULE,
+        "schema": recipe::schema_help(),
+    }))
+}
+
 /// The library version.
 #[wasm_bindgen]
 pub fn version() -> String {
@@ -207,7 +220,9 @@ pub fn run_recipe(recipe_text: &str) -> std::result::Result<String, JsValue> {
         )
     });
     let run = recipe::run(&r, &files).map_err(js_err)?;
-    store_results(run.outputs, Some(run.report))
+    let report = serde_json::to_value(&run.report)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode the report: {e}"))))?;
+    store_results(run.outputs, Some(report))
 }
 
 fn store_results(

@@ -79,8 +79,10 @@ fn recipe_recovers_blocked_forces_and_validates() {
     }
     assert!(worst <= 1e-9, "blocked forces recovered to {worst:e}");
     // the left-out indicator is predicted from the recovered forces: error ~0 dB
-    let st = &res.report["steps"][0];
-    let v = st["validation_worst_band_error_db"].as_f64().unwrap();
+    let b = res.report.steps[0].blocked.as_ref().unwrap();
+    let v = b.validation.as_ref().unwrap().worst_band_error_db.unwrap();
     assert!(v.abs() < 1e-6, "validation error {v} dB");
-    assert_eq!(st["indicators"].as_array().unwrap().len(), 3);
+    assert_eq!(b.indicators.len(), 3);
+    // no interface conditioning on a blocked-force step: it has an indicator matrix
+    assert!(res.report.steps[0].interface.is_none());
 }

@@ -96,7 +96,9 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
     }
 
     // the softer isolators lower the bedroom A-weighted level: in the report ...
-    let base_dba = bedroom["levels"][0]["overall_dba"].as_f64().unwrap();
+    let base_dba = bedroom["levels"][0]["overall_db"].as_f64().unwrap();
+    // sound pressure: A-weighted (IEC 61672-1)
+    assert_eq!(bedroom["levels"][0]["weighting"], "a");
     let variant = report["variants"]
         .as_array()
         .unwrap()
@@ -108,7 +110,7 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
         .unwrap()
         .iter()
         .find(|s| s["id"] == "bedroom")
-        .unwrap()["levels"][0]["overall_dba"]
+        .unwrap()["levels"][0]["overall_db"]
         .as_f64()
         .unwrap();
     eprintln!("bedroom: {base_dba:.2} dB(A), softer isolators {soft_dba:.2} dB(A)");
@@ -124,10 +126,10 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
     assert!(change < 0.0, "{change}");
     assert!((change - (soft_dba - base_dba)).abs() < 0.05, "{change}");
     // ... and in the report's A-weighted difference (overall and per band)
-    let diff = &variant["difference_dba"]["bedroom"];
-    let overall = diff["overall_dba"][0].as_f64().unwrap();
+    let diff = &variant["band_change"]["bedroom"];
+    let overall = diff["overall_db"][0].as_f64().unwrap();
     assert!((overall - (soft_dba - base_dba)).abs() < 1e-9, "{overall}");
-    let per_band: Vec<f64> = diff["per_band_dba"][0]
+    let per_band: Vec<f64> = diff["per_band_db"][0]
         .as_array()
         .unwrap()
         .iter()

@@ -156,7 +156,10 @@ fn three_parts_with_a_two_dof_interface_equal_direct_assembly() {
         .iter()
         .find(|s| s["id"] == "three")
         .unwrap();
-    assert!(three["worst_condition"].as_f64().unwrap().is_finite());
+    assert!(three["interface"]["worst_condition"]
+        .as_f64()
+        .unwrap()
+        .is_finite());
 }
 
 #[test]

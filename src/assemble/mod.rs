@@ -118,45 +118,9 @@ pub struct Assembled {
     pub warnings: Vec<String>,
 }
 
-/// "N lines, a–b Hz" for messages about grids.
-fn grid_text(s: &FrfSet) -> String {
-    match (s.freqs.first(), s.freqs.last()) {
-        (Some(a), Some(b)) => format!("{} lines, {a}–{b} Hz", s.freqs.len()),
-        _ => "no lines".to_string(),
-    }
-}
-
-/// Error unless `b` has the grid of `a` (equal within 1e-9 relative per line).
+/// Error unless `b` has the grid of `a` (the one rule: [`crate::grid::require_same_grid`]).
 pub(crate) fn require_same_grid(a: &FrfSet, b: &FrfSet, what: &str) -> Result<()> {
-    let same = a.freqs.len() == b.freqs.len()
-        && a.freqs
-            .iter()
-            .zip(&b.freqs)
-            .all(|(x, y)| (x - y).abs() <= 1e-9 * x.abs().max(y.abs()));
-    if same {
-        return Ok(());
-    }
-    let first_diff = a
-        .freqs
-        .iter()
-        .zip(&b.freqs)
-        .position(|(x, y)| (x - y).abs() > 1e-9 * x.abs().max(y.abs()));
-    let detail = match first_diff {
-        Some(k) => format!(
-            "; they first differ at line {} ({} Hz against {} Hz)",
-            k + 1,
-            a.freqs[k],
-            b.freqs[k]
-        ),
-        None => String::new(),
-    };
-    Err(Error::grid(format!(
-        "{what} needs identical frequency grids, but '{}' has {} and '{}' has {}{detail}; resample one onto the other first",
-        a.name,
-        grid_text(a),
-        b.name,
-        grid_text(b)
-    )))
+    crate::grid::require_same_grid(a, b, what)
 }
 
 /// Error unless the set is an FRF (not a spectrum) of motion per force.

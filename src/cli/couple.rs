@@ -14,7 +14,7 @@
 use super::Args;
 use crate::error::{Error, Result};
 use crate::io::{self, ExportFormat};
-use crate::recipe::{self, ComponentSpec, DirSource, JointSpec, Recipe, Step};
+use crate::recipe::{self, ComponentSpec, Couple, DirSource, JointSpec, Op, Recipe, Step};
 use std::collections::BTreeMap;
 
 /// Parse one `--join` value.
@@ -29,15 +29,7 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
         .ok_or_else(|| bad("no '=' between the two DOFs"))?;
     let mut words = rest.split_whitespace();
     let b = words.next().ok_or_else(|| bad("no second DOF"))?;
-    let mut j = JointSpec {
-        a: a.trim().to_string(),
-        b: b.to_string(),
-        kind: "rigid".into(),
-        k: None,
-        c: None,
-        eta: None,
-        stiffness: None,
-    };
+    let (mut k, mut c, mut eta, mut stiffness) = (None, None, None, None);
     for w in words {
         let (key, val) = w
             .split_once('=')
@@ -52,31 +44,30 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
                     ..Default::default()
                 },
             );
-            j.stiffness = Some(stem);
+            stiffness = Some(stem);
             continue;
         }
         let x: f64 = val
             .parse()
             .map_err(|_| bad(&format!("'{val}' is not a number for {key}")))?;
         match key {
-            "k" => j.k = Some(x),
-            "c" => j.c = Some(x),
-            "eta" => j.eta = Some(x),
+            "k" => k = Some(x),
+            "c" => c = Some(x),
+            "eta" => eta = Some(x),
             _ => return Err(bad(&format!("unknown key '{key}'"))),
         }
     }
-    j.kind = match (j.stiffness.is_some(), j.k, j.c, j.eta) {
-        (true, None, None, None) => "measured",
-        (true, ..) => return Err(bad("stiffness=FILE cannot be combined with k, c or eta")),
-        (false, None, None, None) => "rigid",
-        (false, Some(_), None, None) => "spring",
-        (false, None, Some(_), None) => "damper",
-        (false, Some(_), None, Some(_)) => "hysteretic",
-        (false, Some(_), _, _) => "spring-damper",
-        (false, None, _, Some(_)) => return Err(bad("eta needs k")),
-    }
-    .to_string();
-    Ok(j)
+    // the type is read from the parameters by the recipe's one rule
+    JointSpec::from_parts(
+        a.trim().to_string(),
+        b.to_string(),
+        None,
+        k,
+        c,
+        eta,
+        stiffness,
+    )
+    .map_err(|e| bad(&e.message))
 }
 
 /// The export format implied by a file name's extension.
@@ -132,11 +123,12 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
         components,
         steps: vec![Step {
             id: "coupled".into(),
-            op: "couple".into(),
-            parts: Some(parts),
-            joints: Some(joints),
-            tsvd,
-            ..Default::default()
+            note: None,
+            op: Op::Couple(Couple {
+                parts,
+                joints,
+                tsvd,
+            }),
         }],
         variants: vec![],
         outputs: vec!["coupled".into()],
@@ -183,22 +175,20 @@ pub fn run(args: &Args) -> Result<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::recipe::JointType;
 
     #[test]
     fn join_syntax() {
         let mut x = BTreeMap::new();
         let j = parse_join("a:1+Z = b:2-Z", &mut x).unwrap();
         assert_eq!(
-            (j.a.as_str(), j.b.as_str(), j.kind.as_str()),
-            ("a:1+Z", "b:2-Z", "rigid")
+            (j.a.as_str(), j.b.as_str(), &j.kind),
+            ("a:1+Z", "b:2-Z", &JointType::Rigid)
         );
         let j = parse_join("a:1+Z=b:2+Z k=2e5 eta=0.1", &mut x).unwrap();
-        assert_eq!(
-            (j.kind.as_str(), j.k, j.eta),
-            ("hysteretic", Some(2e5), Some(0.1))
-        );
+        assert_eq!(j.kind, JointType::Hysteretic { k: 2e5, eta: 0.1 });
         let j = parse_join("a:1+Z=b:2+Z stiffness=iso.csv", &mut x).unwrap();
-        assert_eq!(j.kind, "measured");
+        assert_eq!(j.type_name(), "measured");
         assert!(x.contains_key("iso"));
         assert!(parse_join("a:1+Z b:2+Z", &mut x)
             .unwrap_err()

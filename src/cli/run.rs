@@ -49,7 +49,7 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
     let mut report = res.report.clone();
-    let mut numbers = serde_json::Map::new();
+    let mut numbers = std::collections::BTreeMap::new();
     for s in &res.outputs {
         let base = safe_name(&s.name);
         let (uff_sets, map) = io::nodes::numbered(std::slice::from_ref(s));
@@ -70,7 +70,7 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
         }
     }
-    report["uff_node_numbers"] = serde_json::Value::Object(numbers);
+    report.uff_node_numbers = numbers;
     let p = out.join("report.json");
     let text = serde_json::to_string_pretty(&report).map_err(|e| Error::io(e.to_string()))?;
     std::fs::write(&p, text)
@@ -84,37 +84,52 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
     if !title.is_empty() {
         let _ = writeln!(s, "{title}");
     }
-    let mut seen: Vec<String> = Vec::new();
-    if let Some(steps) = res.report["steps"].as_array() {
-        for st in steps {
-            if let Some(c) = st["worst_condition"].as_f64() {
+    for n in &res.report.notes {
+        let _ = writeln!(s, "  note: {n}");
+    }
+    let mut seen: Vec<&String> = Vec::new();
+    for st in &res.report.steps {
+        if let Some(i) = &st.interface {
+            if let Some(c) = i.worst_condition {
                 let _ = writeln!(
                     s,
-                    "  step '{}': interface condition number up to {:.3e} (at {} Hz)",
-                    st["id"].as_str().unwrap_or("?"),
-                    c,
-                    st["worst_condition_hz"]
-                        .as_f64()
-                        .map(|f| format!("{f}"))
-                        .unwrap_or_else(|| "?".into())
+                    "  step '{}': interface condition number up to {c:.3e}{}",
+                    st.id,
+                    i.worst_condition_hz
+                        .map(|f| format!(" (at {f} Hz)"))
+                        .unwrap_or_default()
                 );
             }
-            if let Some(ws) = st["warnings"].as_array() {
-                for w in ws {
-                    let w = w.as_str().unwrap_or("");
-                    // the caution is printed once, at the end
-                    if w != super::CAUTION && !seen.contains(&w.to_string()) {
-                        seen.push(w.to_string());
-                        let _ = writeln!(s, "  warning: {w}");
-                    }
-                }
+        }
+        if let Some(b) = &st.blocked {
+            if let Some(c) = b.worst_indicator_condition {
+                let _ = writeln!(
+                    s,
+                    "  step '{}': indicator matrix condition number up to {c:.3e}{}",
+                    st.id,
+                    b.worst_indicator_condition_hz
+                        .map(|f| format!(" (at {f} Hz)"))
+                        .unwrap_or_default()
+                );
+            }
+            if let Some(v) = b.validation.as_ref().and_then(|v| v.worst_band_error_db) {
+                let _ = writeln!(
+                    s,
+                    "  step '{}': on-board validation, largest 1/3-octave band error {v:.1} dB",
+                    st.id
+                );
+            }
+        }
+        for w in &st.warnings {
+            // the caution is printed once, at the end
+            if w != super::CAUTION && !seen.contains(&w) {
+                seen.push(w);
+                let _ = writeln!(s, "  warning: {w}");
             }
         }
     }
-    if let Some(h) = res.report.get("headline").and_then(|h| h.as_array()) {
-        for line in h {
-            let _ = writeln!(s, "{}", line.as_str().unwrap_or(""));
-        }
+    for line in &res.report.headline {
+        let _ = writeln!(s, "{line}");
     }
     let _ = writeln!(
         s,

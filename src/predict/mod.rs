@@ -30,29 +30,9 @@ pub const INCOHERENT_ASSUMPTION: &str = "the excitation is an autopower/PSD with
 /// The caution shown with every prediction used against limits.
 pub const CAUTION: &str = "Predictions are engineering estimates that assume linear, small-amplitude behaviour of the data supplied; they do not replace measurement, local regulations or a licensed professional's judgement where used against noise limits or for structural safety.";
 
-/// True when two grids hold the same lines (relative 1e-9).
-pub fn same_grid(a: &[f64], b: &[f64]) -> bool {
-    a.len() == b.len()
-        && a.iter()
-            .zip(b)
-            .all(|(x, y)| (x - y).abs() <= 1e-9 * x.abs().max(y.abs()).max(1.0))
-}
-
+/// Error unless `b` has the grid of `a` (the one rule: [`crate::grid::require_same_grid`]).
 pub(crate) fn require_same_grid(a: &FrfSet, b: &FrfSet) -> Result<()> {
-    if same_grid(&a.freqs, &b.freqs) {
-        return Ok(());
-    }
-    Err(Error::grid(format!(
-        "'{}' has {} lines from {} to {} Hz and '{}' has {} lines from {} to {} Hz; resample both onto one grid first",
-        a.name,
-        a.n_lines(),
-        a.freqs.first().copied().unwrap_or(f64::NAN),
-        a.freqs.last().copied().unwrap_or(f64::NAN),
-        b.name,
-        b.n_lines(),
-        b.freqs.first().copied().unwrap_or(f64::NAN),
-        b.freqs.last().copied().unwrap_or(f64::NAN),
-    )))
+    crate::grid::require_same_grid(a, b, "a prediction")
 }
 
 /// Check that `s` is a spectrum and return its kind.

@@ -1,0 +1,312 @@
+//! Components: where a recipe's sets come from (a file, an inline set, a
+//! synthesized part), and what is done to them on the way in (a selection,
+//! a kind, a grid).
+
+use super::ops::transform_select;
+use super::FileSource;
+use crate::error::{Error, Result};
+use crate::frf::FrfSet;
+use crate::grid;
+use crate::io::{self, ImportOptions};
+use crate::synth::Synth;
+use serde::{Deserialize, Serialize};
+
+/// A component: a file (and a choice of its FRFs), a set given inline, or a
+/// synthesized part.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ComponentSpec {
+    /// A file, by name relative to the recipe.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// Component namespace for the DOFs (default: the component's name).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub component: Option<String>,
+    /// Import options of a file (column map for supplier CSVs, ...).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub import: Option<ImportOptions>,
+    /// Which set of a file (0-based) when it holds several.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub set: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub select: Option<Selection>,
+    /// Convert to this kind after loading.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub kind: Option<String>,
+    /// An FRF set given inline (as the bundle stores it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub inline: Option<Box<FrfSet>>,
+    /// A synthesized part (lumped network, modal model, beam, frame, isolator),
+    /// computed on `grid` (or the recipe's grid).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub synth: Option<Box<Synth>>,
+    /// The grid: where a synthesized part is computed; a file's or inline
+    /// set's lines are resampled onto it (interpolation only, never
+    /// extrapolation).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
+    /// Interpolation when `grid` resamples a file or inline set: `re-im`
+    /// (default) or `log-mag-phase`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub interp: Option<String>,
+    /// Free text shown beside the component.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
+}
+
+/// The component keys, with their meaning (for the help; a unit test checks
+/// them against the struct).
+pub const COMPONENT_FIELDS: &[(&str, &str)] = &[
+    ("file", "a file, by name relative to the recipe (format detected from its content)"),
+    ("component", "namespace of the DOFs (default: the component's name)"),
+    ("import", "import options of the file: column_map (supplier CSVs), component, set_name, time_convention, ..."),
+    ("set", "which set of the file, 0-based, when it holds several (required then)"),
+    ("select", "{outputs: [DOF labels], inputs: [DOF labels]}: keep these, in this order"),
+    ("kind", "convert to this FRF kind after loading (receptance, mobility, accelerance, ...)"),
+    ("inline", "an FRF set written inline (as bundles store results)"),
+    ("synth", "a synthesized part: lumped, modal, beam, frame or isolator (see below)"),
+    ("grid", "{from, to, step} or {lines: [...]}, Hz: where a synthesized part is computed; a file's or inline set's lines are resampled onto it (never extrapolated)"),
+    ("interp", "interpolation for 'grid' on a file or inline set: re-im (default) or log-mag-phase"),
+    ("note", "free text"),
+];
+
+/// A frequency grid: `{"from": 10, "to": 1000, "step": 1}` or `{"lines": [...]}` (Hz).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged, deny_unknown_fields)]
+pub enum GridSpec {
+    Range { from: f64, to: f64, step: f64 },
+    Lines { lines: Vec<f64> },
+}
+
+/// The most lines a recipe grid may have.
+pub const MAX_GRID_LINES: usize = 1_000_000;
+
+impl GridSpec {
+    /// The lines in Hz (checked: finite, strictly increasing, at most
+    /// [`MAX_GRID_LINES`]).
+    pub fn lines(&self) -> Result<Vec<f64>> {
+        let v = match self {
+            GridSpec::Lines { lines } => {
+                if lines.len() > MAX_GRID_LINES {
+                    return Err(Error::grid(format!(
+                        "grid of {} lines; at most {MAX_GRID_LINES} are allowed",
+                        lines.len()
+                    )));
+                }
+                lines.clone()
+            }
+            GridSpec::Range { from, to, step } => {
+                if !(step.is_finite()
+                    && *step > 0.0
+                    && from.is_finite()
+                    && to.is_finite()
+                    && to >= from)
+                {
+                    return Err(Error::grid(format!(
+                        "grid from {from} to {to} step {step}: expected finite from ≤ to and step > 0"
+                    )));
+                }
+                // counted in f64 first: a tiny step must not wrap the count
+                let n = ((to - from) / step + 1e-9).floor() + 1.0;
+                if n.is_nan() || n > MAX_GRID_LINES as f64 {
+                    return Err(Error::grid(format!(
+                        "grid from {from} to {to} step {step} has {n:.3e} lines; at most {MAX_GRID_LINES} are allowed"
+                    )));
+                }
+                (0..n as usize).map(|i| from + i as f64 * step).collect()
+            }
+        };
+        grid::check_grid(&v)?;
+        Ok(v)
+    }
+}
+
+/// A choice of outputs and inputs by DOF label (omitted = all).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Selection {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub outputs: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub inputs: Option<Vec<String>>,
+}
+
+/// Refuse a key that this kind of component does not use.
+fn unused(given: bool, key: &str, why: &str) -> Result<()> {
+    if given {
+        return Err(Error::recipe(format!("'{key}' {why}")).field(key.to_string()));
+    }
+    Ok(())
+}
+
+/// Load one component (every key used or refused).
+pub(crate) fn load_component(
+    name: &str,
+    spec: &ComponentSpec,
+    grid: Option<&GridSpec>,
+    files: &dyn FileSource,
+) -> Result<FrfSet> {
+    let n_sources = [
+        spec.file.is_some(),
+        spec.inline.is_some(),
+        spec.synth.is_some(),
+    ]
+    .iter()
+    .filter(|&&b| b)
+    .count();
+    if n_sources != 1 {
+        return Err(Error::recipe(if n_sources == 0 {
+            "a component needs one of 'file', 'inline' or 'synth'"
+        } else {
+            "give one of 'file', 'inline' or 'synth', not several"
+        }));
+    }
+    if spec.file.is_none() {
+        unused(spec.import.is_some(), "import", "applies to a 'file' only")?;
+        unused(spec.set.is_some(), "set", "applies to a 'file' only")?;
+    }
+    let mut set = if let Some(synth) = &spec.synth {
+        unused(
+            spec.interp.is_some(),
+            "interp",
+            "applies to a file or inline set resampled by 'grid'; a synthesized part is computed on its grid",
+        )?;
+        let g = spec.grid.as_ref().or(grid).ok_or_else(|| {
+            Error::recipe(
+                "a synthesized component needs a 'grid' (here or at the top of the recipe)",
+            )
+        })?;
+        let freqs = g.lines().map_err(|e| e.field("grid"))?;
+        let mut s = synth.synthesize(&freqs).map_err(|e| e.field("synth"))?;
+        if let Some(c) = &spec.component {
+            s.set_component(c);
+        }
+        s
+    } else {
+        let mut s = if let Some(file) = &spec.file {
+            load_file(name, file, spec, files)?
+        } else if let Some(inline) = &spec.inline {
+            let mut s = (**inline).clone();
+            if let Some(c) = &spec.component {
+                s.set_component(c);
+            }
+            s
+        } else {
+            return Err(Error::internal("component without a source"));
+        };
+        match &spec.grid {
+            Some(g) => {
+                let lines = g.lines().map_err(|e| e.field("grid"))?;
+                let how = super::ops::transform_interp(spec.interp.as_deref())?;
+                s = grid::resample(&s, &lines, how).map_err(|e| e.field("grid"))?;
+            }
+            None => unused(
+                spec.interp.is_some(),
+                "interp",
+                "needs a 'grid' to resample onto",
+            )?,
+        }
+        s
+    };
+    if let Some(sel) = &spec.select {
+        set = transform_select(&set, sel.outputs.as_deref(), sel.inputs.as_deref())
+            .map_err(|e| e.field("select"))?;
+    }
+    if let Some(kind) = &spec.kind {
+        set = set.to_kind(kind).map_err(|e| e.field("kind"))?;
+    }
+    set.name = name.to_string();
+    set.validate()?;
+    Ok(set)
+}
+
+fn load_file(
+    name: &str,
+    file: &str,
+    spec: &ComponentSpec,
+    files: &dyn FileSource,
+) -> Result<FrfSet> {
+    let bytes = files.read(file)?;
+    let mut opts = spec.import.clone().unwrap_or_default();
+    match (&opts.component, &spec.component) {
+        (Some(a), Some(b)) if a != b => {
+            return Err(Error::recipe(format!(
+                "'component' is '{b}' but 'import.component' is '{a}'; give one"
+            ))
+            .field("component"))
+        }
+        (None, _) => {
+            opts.component = Some(spec.component.clone().unwrap_or_else(|| name.to_string()))
+        }
+        _ => {}
+    }
+    let loaded = io::load(&bytes, file, &opts)?;
+    let n = loaded.sets.len();
+    if n == 0 {
+        return Err(Error::recipe(format!("file '{file}' holds no FRF set")));
+    }
+    let idx = match spec.set {
+        Some(i) if i >= n => {
+            return Err(Error::recipe(format!(
+                "'set' is {i} but file '{file}' holds {n} set(s) (0 to {})",
+                n - 1
+            ))
+            .field("set"))
+        }
+        Some(i) => i,
+        None if n > 1 => {
+            return Err(Error::recipe(format!(
+                "file '{file}' holds {n} sets; say which with \"set\": 0 to {}",
+                n - 1
+            )))
+        }
+        None => 0,
+    };
+    let mut s = loaded
+        .sets
+        .into_iter()
+        .nth(idx)
+        .ok_or_else(|| Error::internal("set index out of range"))?;
+    for w in loaded.warnings {
+        if !s.warnings.contains(&w) {
+            s.warnings.push(w);
+        }
+    }
+    Ok(s)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn documented_keys_are_exactly_the_accepted_ones() {
+        let e = serde_json::from_value::<ComponentSpec>(serde_json::json!({"zz": 1}))
+            .unwrap_err()
+            .to_string();
+        let tail = e.split("expected").nth(1).unwrap_or("").to_string();
+        let mut got: Vec<&str> = tail
+            .split('`')
+            .enumerate()
+            .filter(|(i, _)| i % 2 == 1)
+            .map(|(_, s)| s)
+            .collect();
+        let mut doc: Vec<&str> = COMPONENT_FIELDS.iter().map(|f| f.0).collect();
+        got.sort();
+        doc.sort();
+        assert_eq!(got, doc);
+    }
+
+    #[test]
+    fn a_tiny_step_is_refused_not_wrapped() {
+        // 1e-300 Hz steps: the line count overflows usize; it must be refused
+        let e = GridSpec::Range {
+            from: 10.0,
+            to: 1000.0,
+            step: 1e-300,
+        }
+        .lines()
+        .unwrap_err();
+        assert!(e.message.contains("at most 1000000"), "{e}");
+    }
+}

@@ -1,0 +1,219 @@
+//! Running a recipe: load the components once, run the steps for the
+//! baseline and for each variant, collect the requested outputs (with each
+//! step's extra results beside it) and the typed report.
+
+use super::component::load_component;
+use super::headline::headline;
+use super::ops::{scale_in_place, Ctx};
+use super::report::{
+    dedup, fin, weighting_for, BandChange, ComponentReport, RunReport, StepReport, VariantReport,
+    REPORT_FORMAT, REPORT_VERSION,
+};
+use super::{FileSource, Recipe, Variant};
+use crate::audit::{self, AuditOptions};
+use crate::error::Result;
+use crate::frf::FrfSet;
+use crate::predict;
+use std::collections::BTreeMap;
+
+/// What a run produced.
+#[derive(Debug, Clone)]
+pub struct RunResult {
+    /// Requested outputs, each named after its step and followed by the
+    /// step's extra results (`ID/NAME`); variants' as `NAME [variant]`.
+    pub outputs: Vec<FrfSet>,
+    pub report: RunReport,
+}
+
+/// Load every component of a recipe (once; variants reuse them).
+pub fn load_components(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+) -> Result<BTreeMap<String, FrfSet>> {
+    let mut out = BTreeMap::new();
+    for (name, spec) in &recipe.components {
+        let mut set = load_component(name, spec, recipe.grid.as_ref(), files)
+            .map_err(|e| e.within(format!("components.{name}")))?;
+        dedup(&mut set.warnings);
+        out.insert(name.clone(), set);
+    }
+    Ok(out)
+}
+
+struct Executed {
+    values: BTreeMap<String, FrfSet>,
+    /// Extra results of each step, by step id: (full name, set).
+    extras: BTreeMap<String, Vec<(String, FrfSet)>>,
+    steps: Vec<StepReport>,
+}
+
+fn execute(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    variant: Option<&Variant>,
+) -> Result<Executed> {
+    let mut values: BTreeMap<String, FrfSet> = comps.clone();
+    if let Some(v) = variant {
+        for (name, f) in &v.scale {
+            if let Some(s) = values.get_mut(name) {
+                scale_in_place(s, *f);
+            }
+        }
+    }
+    let mut steps = Vec::new();
+    let mut extras = BTreeMap::new();
+    for (n, step) in recipe.steps.iter().enumerate() {
+        let label = format!("steps[{n}] (id '{}', op '{}')", step.id, step.op.name());
+        let cx = Ctx {
+            values: &values,
+            id: &step.id,
+            variant,
+        };
+        let mut out = step.op.run(&cx).map_err(|e| e.within(label))?;
+        if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
+            scale_in_place(&mut out.set, *f);
+        }
+        out.set.name = step.id.clone();
+        dedup(&mut out.set.warnings);
+        let mut named = Vec::new();
+        for (suffix, mut s) in out.extras {
+            let full = format!("{}/{suffix}", step.id);
+            s.name = full.clone();
+            dedup(&mut s.warnings);
+            out.report.extras.push(full.clone());
+            named.push((full, s));
+        }
+        for (full, s) in &named {
+            values.insert(full.clone(), s.clone());
+        }
+        extras.insert(step.id.clone(), named);
+        steps.push(out.report);
+        values.insert(step.id.clone(), out.set);
+    }
+    Ok(Executed {
+        values,
+        extras,
+        steps,
+    })
+}
+
+/// The requested outputs of one execution, each followed by its extras.
+fn collect(recipe: &Recipe, ex: &Executed, suffix: &str) -> Vec<FrfSet> {
+    let mut out = Vec::new();
+    for name in &recipe.outputs {
+        if let Some(s) = ex.values.get(name) {
+            let mut s = s.clone();
+            s.name = format!("{name}{suffix}");
+            out.push(s);
+        }
+        for (full, s) in ex.extras.get(name).into_iter().flatten() {
+            let mut s = s.clone();
+            s.name = format!("{full}{suffix}");
+            out.push(s);
+        }
+    }
+    out
+}
+
+/// Execute a recipe: the baseline and then every variant.
+pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
+    // a recipe built in code gets the checks a parsed one had
+    super::check_names(recipe)?;
+    let comps = load_components(recipe, files)?;
+    let base = execute(recipe, &comps, None)?;
+    let mut outputs = collect(recipe, &base, "");
+    let mut variants = Vec::new();
+    for (n, v) in recipe.variants.iter().enumerate() {
+        let res = execute(recipe, &comps, Some(v))
+            .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
+        outputs.extend(collect(recipe, &res, &format!(" [{}]", v.name)));
+        variants.push(variant_report(recipe, &base, res, &v.name));
+    }
+    let mut notes: Vec<String> = base
+        .steps
+        .iter()
+        .flat_map(|s| s.notes.iter().map(move |n| format!("step '{}': {n}", s.id)))
+        .collect();
+    if !notes.is_empty() {
+        notes.push(format!("rule: {}", super::INFERENCE_RULE));
+    }
+    // the fitness audit of every FRF component, with common-practice limits
+    let audit: BTreeMap<String, audit::AuditReport> = comps
+        .iter()
+        .filter(|(_, s)| s.signal.is_none())
+        .map(|(k, s)| (k.clone(), audit::audit(s, &AuditOptions::default())))
+        .collect();
+    let mut report = RunReport {
+        format: REPORT_FORMAT.into(),
+        version: REPORT_VERSION,
+        title: recipe.title.clone(),
+        mortise_version: crate::VERSION.into(),
+        notes,
+        components: comps
+            .iter()
+            .map(|(k, v)| (k.clone(), ComponentReport::new(v)))
+            .collect(),
+        steps: base.steps,
+        variants,
+        outputs: outputs.iter().map(|s| s.name.clone()).collect(),
+        audit,
+        headline: Vec::new(),
+        uff_node_numbers: BTreeMap::new(),
+        caution: predict::CAUTION.into(),
+    };
+    report.headline = headline(&report);
+    Ok(RunResult { outputs, report })
+}
+
+fn variant_report(recipe: &Recipe, base: &Executed, res: Executed, name: &str) -> VariantReport {
+    let mut level_change_db = BTreeMap::new();
+    let mut band_change = BTreeMap::new();
+    for out in &recipe.outputs {
+        let (Some(a), Some(b)) = (base.values.get(out), res.values.get(out)) else {
+            continue;
+        };
+        level_change_db.insert(out.clone(), level_change_db_of(a, b));
+        if a.signal.is_some() {
+            // per 1/3-octave band at each target (IEC 61260-1), weighted as
+            // the output's levels are (A for sound pressure only)
+            if let Ok(d) = predict::variants::difference_db(a, b, 3, weighting_for(a)) {
+                band_change.insert(
+                    out.clone(),
+                    BandChange {
+                        weighting: d.weighting,
+                        targets: d.targets.iter().map(|t| t.to_string()).collect(),
+                        bands: d.bands.iter().map(|b| b.label.clone()).collect(),
+                        per_band_db: d
+                            .per_band_db
+                            .iter()
+                            .map(|r| r.iter().map(|&x| fin(x)).collect())
+                            .collect(),
+                        overall_db: d.overall_db.iter().map(|&x| fin(x)).collect(),
+                    },
+                );
+            }
+        }
+    }
+    VariantReport {
+        name: name.to_string(),
+        steps: res.steps,
+        level_change_db,
+        band_change,
+    }
+}
+
+/// Energetic level change in dB, b relative to a, over all present entries and lines.
+fn level_change_db_of(a: &FrfSet, b: &FrfSet) -> Option<f64> {
+    if a.data.len() != b.data.len() {
+        return None;
+    }
+    let energy = |s: &FrfSet| -> f64 {
+        s.data
+            .iter()
+            .filter(|v| v.re.is_finite())
+            .map(|v| v.norm_sqr())
+            .sum()
+    };
+    let (ea, eb) = (energy(a), energy(b));
+    (ea > 0.0 && eb > 0.0).then(|| 10.0 * (eb / ea).log10())
+}

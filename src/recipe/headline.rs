@@ -1,0 +1,115 @@
+//! The headline: a few lines a person reads first, from the typed report.
+//! Levels carry "dB(A)" only where the A-weighting applies (sound pressure).
+
+use super::report::{db_unit, RunReport, StepReport};
+use crate::audit::Status;
+
+pub(crate) fn headline(r: &RunReport) -> Vec<String> {
+    let mut out = Vec::new();
+    // path analyses lead; responses are shown when there is no path analysis
+    let has_paths = r.steps.iter().any(|s| s.op == "paths");
+    let shown = |s: &&StepReport| s.op == "paths" || (!has_paths && s.op == "respond");
+    for st in r.steps.iter().filter(shown) {
+        for row in st.levels.iter().flatten() {
+            let (Some(overall), Some(unweighted)) = (row.overall_db, row.overall_unweighted_db)
+            else {
+                continue;
+            };
+            let u = db_unit(row.weighting);
+            if row.weighting == crate::levels::Weighting::Z {
+                out.push(format!(
+                    "{} at {}: {overall:.1} dB ({})",
+                    st.id, row.dof, row.reference
+                ));
+            } else {
+                out.push(format!(
+                    "{} at {}: {overall:.1} {u}, {unweighted:.1} dB unweighted ({})",
+                    st.id, row.dof, row.reference
+                ));
+            }
+            let lines: Vec<String> = row
+                .top_lines
+                .iter()
+                .map(|l| format!("{} Hz {:.1} {u}", l.hz, l.db))
+                .collect();
+            out.push(format!("  strongest lines: {}", lines.join(", ")));
+            let mut bands: Vec<(&String, f64)> = row
+                .bands
+                .iter()
+                .zip(&row.band_db)
+                .filter_map(|(b, v)| Some((b, (*v)?)))
+                .collect();
+            bands.sort_by(|a, b| b.1.total_cmp(&a.1));
+            let top: Vec<String> = bands
+                .iter()
+                .take(3)
+                .map(|(b, v)| format!("{b} Hz {v:.1} {u}"))
+                .collect();
+            out.push(format!("  loudest 1/3-octave bands: {}", top.join(", ")));
+        }
+        for t in st.ranking.iter().flat_map(|r| &r.targets) {
+            let u = db_unit(t.weighting);
+            let paths: Vec<String> = t
+                .overall
+                .iter()
+                .map(|p| {
+                    format!(
+                        "{} {:.1} {u} ({:.0} %)",
+                        p.path,
+                        p.level_db,
+                        100.0 * p.share
+                    )
+                })
+                .collect();
+            out.push(format!(
+                "  paths ranked at {}: {}",
+                t.target,
+                paths.join("; ")
+            ));
+        }
+    }
+    for v in &r.variants {
+        for b in r.steps.iter().filter(shown) {
+            let Some(vs) = v.steps.iter().find(|s| s.id == b.id) else {
+                continue;
+            };
+            for (rb, rv) in b.levels.iter().flatten().zip(vs.levels.iter().flatten()) {
+                let (Some(x), Some(y)) = (rb.overall_db, rv.overall_db) else {
+                    continue;
+                };
+                let u = db_unit(rb.weighting);
+                out.push(format!(
+                    "variant '{}': {} at {}: {y:.1} {u} ({:+.1} dB)",
+                    v.name,
+                    b.id,
+                    rb.dof,
+                    y - x
+                ));
+                let Some(d) = v.band_change.get(&b.id) else {
+                    continue;
+                };
+                let Some(t) = d.targets.iter().position(|t| t == &rb.dof) else {
+                    continue;
+                };
+                let per: Vec<String> = d
+                    .bands
+                    .iter()
+                    .zip(d.per_band_db.get(t).into_iter().flatten())
+                    .filter_map(|(b, x)| Some(format!("{b} {:+.1}", (*x)?)))
+                    .collect();
+                if !per.is_empty() {
+                    out.push(format!(
+                        "  change by 1/3-octave band (Hz dB): {}",
+                        per.join(", ")
+                    ));
+                }
+            }
+        }
+    }
+    for (name, a) in &r.audit {
+        for c in a.checks.iter().filter(|c| c.status == Status::Flag) {
+            out.push(format!("audit of '{name}': {}: {}", c.check, c.summary));
+        }
+    }
+    out
+}

@@ -1,0 +1,372 @@
+//! The recipe: a versioned, declarative JSON description of an assembly
+//! (components, joints, operations, requested outputs, what-if variants) and
+//! its executor. The CLI (`mortise run`), the page and the tests execute
+//! recipes with this code.
+//!
+//! The full schema, generated from the same definitions the parser uses, is
+//! printed by `mortise help recipe` ([`schema_help`]); the page lists the
+//! operations and joint types from [`vocabulary`] and [`JOINT_TYPES`].
+//!
+//! A recipe means exactly one computation or is refused: every key is known
+//! to the entry that carries it (components, each operation, each joint type,
+//! import options), each operation takes exactly its operands, and an error
+//! names its entry, outer to inner (variant → step → joint → field).
+//!
+//! Module map: `component` (sources of sets), `joint` (joint types),
+//! `ops/` (one struct per operation), `execute` (running steps and
+//! variants), `report` (the typed run report), `headline` (the short lines),
+//! `help` (the schema text).
+
+mod component;
+mod execute;
+mod headline;
+mod help;
+mod joint;
+mod ops;
+mod report;
+
+pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
+pub use execute::{load_components, run, RunResult};
+pub use help::schema_help;
+pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
+pub use ops::{
+    vocabulary, BlockedForces, Cascade, Convert, Couple, Decouple, Invert, Op, OpInfo, Operand,
+    Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum,
+};
+pub use report::{
+    db_unit, level_rows, weighting_for, BandChange, BlockedReport, ComponentReport,
+    InterfaceReport, LevelRow, LineLevel, RunReport, StepReport, ValidationReport, VariantReport,
+    REPORT_FORMAT, REPORT_VERSION,
+};
+
+use crate::error::{Error, Result};
+use crate::io;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// The `format` field of every recipe.
+pub const RECIPE_FORMAT: &str = "mortise-recipe";
+/// The schema version this build reads and writes.
+pub const RECIPE_VERSION: u32 = 1;
+
+/// Where a recipe's files come from: the disk for the CLI, memory for the page.
+pub trait FileSource {
+    /// The bytes of the file the recipe names (a name relative to the recipe).
+    fn read(&self, name: &str) -> Result<Vec<u8>>;
+}
+
+/// Files held in memory, by name.
+#[derive(Debug, Clone, Default)]
+pub struct MapSource(pub BTreeMap<String, Vec<u8>>);
+
+impl FileSource for MapSource {
+    fn read(&self, name: &str) -> Result<Vec<u8>> {
+        if let Some(b) = self.0.get(name) {
+            return Ok(b.clone());
+        }
+        // the page keys files by base name
+        let base = io::base_name(name);
+        self.0.get(&base).cloned().ok_or_else(|| {
+            Error::recipe(format!(
+                "file '{name}' is not loaded; loaded: {}",
+                if self.0.is_empty() {
+                    "none".to_string()
+                } else {
+                    self.0.keys().cloned().collect::<Vec<_>>().join(", ")
+                }
+            ))
+            .field("file")
+        })
+    }
+}
+
+/// Files on disk relative to a directory (the recipe's own).
+#[derive(Debug, Clone)]
+pub struct DirSource(pub std::path::PathBuf);
+
+impl FileSource for DirSource {
+    fn read(&self, name: &str) -> Result<Vec<u8>> {
+        let p = self.0.join(name);
+        std::fs::read(&p)
+            .map_err(|e| Error::io(format!("cannot read '{}': {e}", p.display())).in_file(name))
+    }
+}
+
+/// A what-if version of the recipe, computed beside the baseline.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Variant {
+    pub name: String,
+    /// Multiply a component's (or step result's) values by a factor.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub scale: BTreeMap<String, f64>,
+    /// Joints to leave out, as "STEP_ID#INDEX" (0-based index in that step's joints).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub drop_joints: Vec<String>,
+}
+
+impl Variant {
+    /// True when this variant leaves out joint `index` of step `step`.
+    pub fn drops(&self, step: &str, index: usize) -> bool {
+        self.drop_joints
+            .iter()
+            .any(|d| d.rsplit_once('#') == Some((step, &index.to_string())))
+    }
+}
+
+/// A parsed recipe.
+#[derive(Debug, Clone, Serialize)]
+pub struct Recipe {
+    pub format: String,
+    pub version: u32,
+    #[serde(default)]
+    pub title: String,
+    /// Default grid for synthesized components.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub grid: Option<GridSpec>,
+    pub components: BTreeMap<String, ComponentSpec>,
+    pub steps: Vec<Step>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub variants: Vec<Variant>,
+    pub outputs: Vec<String>,
+}
+
+/// The recipe as written: the top level checked with line numbers, each
+/// entry kept raw so its errors can name the entry.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawRecipe {
+    format: String,
+    version: u32,
+    #[serde(default)]
+    title: String,
+    #[serde(default)]
+    grid: Option<GridSpec>,
+    #[serde(default)]
+    components: BTreeMap<String, serde_json::Value>,
+    #[serde(default)]
+    steps: Vec<serde_json::Value>,
+    #[serde(default)]
+    variants: Vec<serde_json::Value>,
+    #[serde(default)]
+    outputs: Vec<String>,
+}
+
+/// Parse recipe text. Errors name the entry (`components.NAME`,
+/// `steps[2] (id 'x', op 'couple')`, `variants[0] ('softer')`) or, for the
+/// top level, the line.
+pub fn parse(text: &str) -> Result<Recipe> {
+    let raw: RawRecipe = serde_json::from_str(text).map_err(|e| {
+        Error::recipe(format!("not a valid recipe: {e}"))
+            .at_line(e.line())
+            .field("recipe")
+    })?;
+    from_raw(raw)
+}
+
+fn from_raw(raw: RawRecipe) -> Result<Recipe> {
+    if raw.format != RECIPE_FORMAT {
+        return Err(Error::recipe(format!(
+            "'format' is '{}'; expected '{RECIPE_FORMAT}'",
+            raw.format
+        ))
+        .field("format"));
+    }
+    if raw.version != RECIPE_VERSION {
+        return Err(Error::recipe(format!(
+            "recipe version {} is not supported; this mortise reads version {RECIPE_VERSION}",
+            raw.version
+        ))
+        .field("version"));
+    }
+    let mut components = BTreeMap::new();
+    for (name, v) in raw.components {
+        let c: ComponentSpec = serde_json::from_value(v).map_err(|e| {
+            Error::recipe(e.to_string().replace("unknown field", "unknown key"))
+                .within(format!("components.{name}"))
+        })?;
+        components.insert(name, c);
+    }
+    let mut steps = Vec::new();
+    for (n, v) in raw.steps.into_iter().enumerate() {
+        let label = step_label(n, &v);
+        steps.push(Step::from_value(v).map_err(|e| e.within(label))?);
+    }
+    let mut variants = Vec::new();
+    for (n, v) in raw.variants.into_iter().enumerate() {
+        let name = v
+            .get("name")
+            .and_then(|x| x.as_str())
+            .unwrap_or("")
+            .to_string();
+        let var: Variant = serde_json::from_value(v).map_err(|e| {
+            Error::recipe(e.to_string()).within(format!("variants[{n}] ('{name}')"))
+        })?;
+        variants.push(var);
+    }
+    let r = Recipe {
+        format: raw.format,
+        version: raw.version,
+        title: raw.title,
+        grid: raw.grid,
+        components,
+        steps,
+        variants,
+        outputs: raw.outputs,
+    };
+    check_names(&r)?;
+    Ok(r)
+}
+
+/// "steps[2] (id 'x', op 'couple')" from a raw step, as far as it tells.
+fn step_label(n: usize, v: &serde_json::Value) -> String {
+    let id = v.get("id").and_then(|x| x.as_str());
+    let op = v.get("op").and_then(|x| x.as_str());
+    match (id, op) {
+        (Some(i), Some(o)) => format!("steps[{n}] (id '{i}', op '{o}')"),
+        (Some(i), None) => format!("steps[{n}] (id '{i}')"),
+        _ => format!("steps[{n}]"),
+    }
+}
+
+/// Every name a step, an output or a variant uses is defined before it, ids
+/// are unique, and every variant's scale and dropped joint exists.
+fn check_names(r: &Recipe) -> Result<()> {
+    let mut known: Vec<&str> = r.components.keys().map(String::as_str).collect();
+    for (n, st) in r.steps.iter().enumerate() {
+        let label = format!("steps[{n}] (id '{}', op '{}')", st.id, st.op.name());
+        if known.contains(&st.id.as_str()) {
+            return Err(Error::recipe(format!(
+                "id '{}' is already used by a component or an earlier step",
+                st.id
+            ))
+            .field("id")
+            .within(label));
+        }
+        for name in st.op.reads() {
+            // an earlier step's extra result is "ID/NAME"
+            let base = name.split_once('/').map_or(name, |(id, _)| id);
+            if !known.contains(&name) && !known.contains(&base) {
+                return Err(Error::recipe(format!(
+                    "'{name}' is not a component or an earlier step; known: {}",
+                    known.join(", ")
+                ))
+                .within(label));
+            }
+        }
+        known.push(&st.id);
+    }
+    for o in &r.outputs {
+        if !known.contains(&o.as_str()) {
+            return Err(Error::recipe(format!(
+                "output '{o}' is not a component or step id; known: {}",
+                known.join(", ")
+            ))
+            .field("outputs"));
+        }
+    }
+    for (n, v) in r.variants.iter().enumerate() {
+        let label = format!("variants[{n}] ('{}')", v.name);
+        for name in v.scale.keys() {
+            if !known.contains(&name.as_str()) {
+                return Err(Error::recipe(format!(
+                    "'scale' names '{name}', which is neither a component nor a step"
+                ))
+                .field("scale")
+                .within(label));
+            }
+        }
+        for d in &v.drop_joints {
+            let ok = d.rsplit_once('#').and_then(|(id, i)| {
+                let i: usize = i.parse().ok()?;
+                let st = r.steps.iter().find(|s| s.id == id)?;
+                let n = match &st.op {
+                    Op::Couple(c) => c.joints.len(),
+                    Op::Decouple(c) => c.joints.len(),
+                    _ => return None,
+                };
+                (i < n).then_some(())
+            });
+            if ok.is_none() {
+                return Err(Error::recipe(format!(
+                    "'drop_joints' entry '{d}' names no joint; expected STEP_ID#INDEX of a couple or decouple step's joints (0-based)"
+                ))
+                .field("drop_joints")
+                .within(label));
+            }
+        }
+    }
+    Ok(())
+}
+
+impl<'de> Deserialize<'de> for Recipe {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        let raw = RawRecipe::deserialize(d)?;
+        from_raw(raw).map_err(|e| serde::de::Error::custom(e.to_string()))
+    }
+}
+
+/// Serialise a recipe (pretty JSON).
+pub fn to_text(r: &Recipe) -> String {
+    serde_json::to_string_pretty(r).unwrap_or_default()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_wrong_format_and_version() {
+        let e = parse(r#"{"format":"x","version":1}"#).unwrap_err();
+        assert!(e.to_string().contains("expected 'mortise-recipe'"), "{e}");
+        let e = parse(r#"{"format":"mortise-recipe","version":9}"#).unwrap_err();
+        assert!(e.to_string().contains("version 9"), "{e}");
+        let e = parse("{\n\"format\": \"mortise-recipe\",\n\"version\": 1,\n\"stepz\": []}")
+            .unwrap_err();
+        assert!(e.to_string().contains("line 4"), "{e}");
+        assert!(e.to_string().contains("stepz"), "{e}");
+    }
+
+    #[test]
+    fn missing_file_points_at_component() {
+        let r = parse(r#"{"format":"mortise-recipe","version":1,"components":{"casing":{"file":"nope.uff"}}}"#).unwrap();
+        let e = run(&r, &MapSource::default()).unwrap_err();
+        let t = e.to_string();
+        assert!(t.contains("components.casing"), "{t}");
+        assert!(t.contains("nope.uff"), "{t}");
+    }
+
+    #[test]
+    fn a_recipe_writes_back_as_it_reads() {
+        let text = r#"{"format":"mortise-recipe","version":1,"title":"t",
+            "components":{"A":{"file":"a.uff"},"B":{"file":"b.uff"}},
+            "steps":[{"id":"c","op":"couple","parts":["A","B"],
+                      "joints":[{"a":"A:1+Z","b":"B:1+Z","k":1e5,"eta":0.1}]}],
+            "variants":[{"name":"v","drop_joints":["c#0"]}],
+            "outputs":["c"]}"#;
+        let r = parse(text).unwrap();
+        let back = parse(&to_text(&r)).unwrap();
+        assert_eq!(back.steps, {
+            // the inferred type is written out, so it reads back as given
+            let mut s = r.steps.clone();
+            if let Op::Couple(c) = &mut s[0].op {
+                c.joints[0].inferred = false;
+            }
+            s
+        });
+        assert!(to_text(&r).contains("\"type\": \"hysteretic\""));
+    }
+
+    #[test]
+    fn variants_must_name_what_exists() {
+        let base = r#"{"format":"mortise-recipe","version":1,
+            "components":{"A":{"file":"a.uff"},"B":{"file":"b.uff"}},
+            "steps":[{"id":"c","op":"couple","parts":["A","B"],"joints":[{"a":"A:1+Z","b":"B:1+Z"}]}],
+            "variants":[VAR], "outputs":["c"]}"#;
+        let e =
+            parse(&base.replace("VAR", r#"{"name":"soft","drop_joints":["c#3"]}"#)).unwrap_err();
+        assert!(e.to_string().contains("variants[0] ('soft')"), "{e}");
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","scale":{"Q":2}}"#)).unwrap_err();
+        assert!(e.to_string().contains("'Q'"), "{e}");
+    }
+}

@@ -1,0 +1,125 @@
+//! `couple` and `decouple`: LM-FBS through the recipe's joints.
+
+use super::{check_tsvd, opt, req, Ctx, Operand, Operation, StepOutput};
+use crate::assemble::{self, Assembled, CouplingOptions, Joint};
+use crate::error::{Error, Result};
+use crate::recipe::joint::JointSpec;
+use crate::recipe::report::{InterfaceReport, StepReport};
+use serde::{Deserialize, Serialize};
+
+/// Couple components at their interface DOFs.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Couple {
+    pub parts: Vec<String>,
+    pub joints: Vec<JointSpec>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tsvd: Option<f64>,
+}
+
+/// Remove a known part from an assembly.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Decouple {
+    pub assembly: String,
+    pub remove: String,
+    pub joints: Vec<JointSpec>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tsvd: Option<f64>,
+}
+
+const JOINTS_DOC: &str = "list of {a, b, type, parameters}: see the joint types";
+const TSVD_DOC: &str = "truncated-SVD regularisation of the interface inversion: singular values below this fraction of the largest are dropped (for example 1e-6); nothing dropped → the plain solve";
+
+impl Operation for Couple {
+    const SUMMARY: &'static str =
+        "couple components at interface DOFs (LM-FBS), rigidly or through joints; the result is in the first part's kind";
+    const OPERANDS: &'static [Operand] = &[
+        req("parts", "names of the components to couple"),
+        req("joints", JOINTS_DOC),
+        opt("tsvd", TSVD_DOC),
+    ];
+    fn reads(&self) -> Vec<&str> {
+        let mut r: Vec<&str> = self.parts.iter().map(String::as_str).collect();
+        r.extend(self.joints.iter().filter_map(JointSpec::reads));
+        r
+    }
+    fn run(&self, cx: &Ctx) -> Result<StepOutput> {
+        let parts = cx.get_all("parts", &self.parts)?;
+        let (joints, notes) = resolve_joints(cx, &self.joints)?;
+        let opts = CouplingOptions {
+            tsvd_rel_threshold: check_tsvd(self.tsvd)?,
+        };
+        let a = assemble::couple(&parts, &joints, &opts)?;
+        Ok(output(cx, "couple", a, notes))
+    }
+}
+
+impl Operation for Decouple {
+    const SUMMARY: &'static str =
+        "remove a known part (a fixture, a mount) from an assembly: the removed part enters with −Y, its joints with −Γ";
+    const OPERANDS: &'static [Operand] = &[
+        req("assembly", "name of the assembled FRFs"),
+        req("remove", "name of the part to remove"),
+        req("joints", JOINTS_DOC),
+        opt("tsvd", TSVD_DOC),
+    ];
+    fn reads(&self) -> Vec<&str> {
+        let mut r = vec![self.assembly.as_str(), self.remove.as_str()];
+        r.extend(self.joints.iter().filter_map(JointSpec::reads));
+        r
+    }
+    fn run(&self, cx: &Ctx) -> Result<StepOutput> {
+        let asm = cx.get("assembly", &self.assembly)?;
+        let rem = cx.get("remove", &self.remove)?;
+        let (joints, notes) = resolve_joints(cx, &self.joints)?;
+        let opts = CouplingOptions {
+            tsvd_rel_threshold: check_tsvd(self.tsvd)?,
+        };
+        let a = assemble::decouple(asm, rem, &joints, &opts)?;
+        Ok(output(cx, "decouple", a, notes))
+    }
+}
+
+/// The engine's joints, without those the variant drops; notes on joints
+/// whose type was read from their parameters.
+fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint>, Vec<String>)> {
+    let mut out = Vec::new();
+    let mut notes = Vec::new();
+    for (i, j) in specs.iter().enumerate() {
+        let at = format!("joints[{i}]");
+        if let Some(v) = cx.variant {
+            if v.drops(cx.id, i) {
+                continue;
+            }
+        }
+        if let Some(n) = j.inference_note() {
+            notes.push(format!("{at}: {n}"));
+        }
+        out.push(j.resolve(cx.values).map_err(|e| e.within(at))?);
+    }
+    if out.is_empty() {
+        return Err(Error::recipe(if specs.is_empty() {
+            "'joints' is empty: nothing joins the parts".to_string()
+        } else {
+            "every joint is dropped: nothing joins the parts".to_string()
+        })
+        .field("joints"));
+    }
+    Ok((out, notes))
+}
+
+fn output(cx: &Ctx, op: &str, a: Assembled, notes: Vec<String>) -> StepOutput {
+    let mut report = StepReport::new(cx.id, op, a.warnings.clone());
+    report.notes = notes;
+    report.interface = Some(InterfaceReport::new(
+        &a.set.freqs,
+        &a.condition,
+        &a.truncated,
+    ));
+    StepOutput {
+        set: a.set,
+        extras: Vec::new(),
+        report,
+    }
+}
