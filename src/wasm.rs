@@ -168,7 +168,7 @@ pub fn csv_preview(
     let template = serde_json::to_value(io::csv::ColumnMap::default())
         .map_err(|e| js_err(Error::io(e.to_string())))?;
     let mut out = serde_json::json!({ "template": template });
-    match io::csv::preview(bytes, name, &map, rows.clamp(1, 200)) {
+    match io::csv::preview_as(bytes, name, &map, opts.signal, rows.clamp(1, 200)) {
         Ok(p) => out["preview"] = serde_json::to_value(&p).unwrap_or_default(),
         Err(e) => out["error"] = serde_json::to_value(&e).unwrap_or_default(),
     }
@@ -275,38 +275,62 @@ pub fn put_results(json: &str) -> std::result::Result<String, JsValue> {
     store_results(saved.results, saved.report)
 }
 
-/// Write the sets with the given ids (JSON array) as "uff", "uff-binary" or "csv".
-#[wasm_bindgen]
-pub fn export_sets(ids_json: &str, format: &str) -> std::result::Result<Vec<u8>, JsValue> {
+/// The sets with the given ids (JSON array) written by [`io::export`] as
+/// "uff", "uff-binary" or "csv" (UFF: text node labels numbered as
+/// `mortise run` numbers them).
+fn export_ids(ids_json: &str, format: &str) -> Result<io::Exported> {
     let fmt = match format {
         "uff" => ExportFormat::Uff,
         "uff-binary" => ExportFormat::UffBinary,
         "csv" => ExportFormat::Csv,
         other => {
-            return Err(js_err(
-                Error::usage(format!(
-                    "unknown export format '{other}'; expected uff, uff-binary or csv"
-                ))
-                .field("format"),
+            return Err(Error::usage(format!(
+                "unknown export format '{other}'; expected uff, uff-binary or csv"
             ))
+            .field("format"))
         }
     };
     let ids: Vec<String> = serde_json::from_str(ids_json)
-        .map_err(|e| js_err(Error::usage(format!("set list: {e}"))))?;
-    let sets = WS
-        .with(|ws| {
-            let ws = ws.borrow();
-            ids.iter()
-                .map(|id| {
-                    ws.sets
-                        .get(id)
-                        .cloned()
-                        .ok_or_else(|| Error::missing(format!("no data set '{id}' is loaded")))
-                })
-                .collect::<Result<Vec<FrfSet>>>()
-        })
-        .map_err(js_err)?;
-    io::save(&sets, fmt).map_err(js_err)
+        .map_err(|e| Error::usage(format!("set list: {e}")).field("ids"))?;
+    let sets = WS.with(|ws| {
+        let ws = ws.borrow();
+        ids.iter()
+            .map(|id| {
+                ws.sets
+                    .get(id)
+                    .cloned()
+                    .ok_or_else(|| Error::missing(format!("no data set '{id}' is loaded")))
+            })
+            .collect::<Result<Vec<FrfSet>>>()
+    })?;
+    io::export(&sets, fmt)
+}
+
+/// Write the sets with the given ids (JSON array) as "uff", "uff-binary" or
+/// "csv"; the file's bytes only (see [`export_file`] for the node numbers).
+#[wasm_bindgen]
+pub fn export_sets(ids_json: &str, format: &str) -> std::result::Result<Vec<u8>, JsValue> {
+    export_ids(ids_json, format)
+        .map(|e| e.bytes)
+        .map_err(js_err)
+}
+
+/// Like [`export_sets`], with the node-number table: returns
+/// `{ bytes: Uint8Array, node_numbers: text }`, the text being the JSON list
+/// `[{component, node, number}]` to show and to offer as a file beside the
+/// UFF (`[]` when no label needed a number, and always for CSV).
+#[wasm_bindgen]
+pub fn export_file(ids_json: &str, format: &str) -> std::result::Result<JsValue, JsValue> {
+    let ex = export_ids(ids_json, format).map_err(js_err)?;
+    let o = js_sys::Object::new();
+    let bytes: JsValue = js_sys::Uint8Array::from(ex.bytes.as_slice()).into();
+    js_sys::Reflect::set(&o, &JsValue::from_str("bytes"), &bytes)?;
+    js_sys::Reflect::set(
+        &o,
+        &JsValue::from_str("node_numbers"),
+        &JsValue::from_str(&ex.node_numbers_json()),
+    )?;
+    Ok(o.into())
 }
 
 #[derive(serde::Deserialize, Default)]

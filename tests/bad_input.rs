@@ -355,6 +355,7 @@ fn damaged_files_never_panic() {
     map.decimal_comma = true;
     let with_map = ImportOptions {
         component: None,
+        signal: None,
         column_map: Some(map),
     };
     let mut x: u32 = 12345;

@@ -315,3 +315,165 @@ fn resampling_matches_numpy_interp_and_unwrap() {
         }
     }
 }
+
+/// An invented accelerance of `comp` from each output node to each input node (+Z).
+fn acc_set(name: &str, comp: &str, outs: &[&str], ins: &[&str], scale: f64) -> mortise::FrfSet {
+    use mortise::frf::{Direction, Dof};
+    let z = |n: &&str| Dof::new(comp, n, Direction::Z);
+    let mut s = mortise::FrfSet::zeros(
+        name,
+        (0..30).map(|k| 10.0 + 2.0 * k as f64).collect(),
+        outs.iter().map(z).collect(),
+        ins.iter().map(z).collect(),
+        mortise::units::Quantity::Acceleration,
+        mortise::units::Quantity::Force,
+    );
+    for (n, v) in s.data.iter_mut().enumerate() {
+        *v = num_complex::Complex64::new(scale * (1.0 + n as f64).ln(), -scale / (1.0 + n as f64));
+    }
+    s
+}
+
+// The user's report: two files converted into one UFF read back as one
+// merged set with missing entries, and `"set": 1` failed.
+#[test]
+fn two_uff_files_converted_into_one_keep_both_sets() {
+    let d = common::scratch("cli_convert_two_sets");
+    let a = acc_set("A", "A", &["1", "2", "3", "4"], &["1", "2", "3"], 1.0);
+    let b = acc_set(
+        "B",
+        "B",
+        &["11", "12", "13", "14"],
+        &["11", "12", "13"],
+        2.0,
+    );
+    std::fs::write(
+        d.join("A.uff"),
+        mortise::io::uff58::write(std::slice::from_ref(&a), false).unwrap(),
+    )
+    .unwrap();
+    std::fs::write(
+        d.join("B.uff"),
+        mortise::io::uff58::write(std::slice::from_ref(&b), true).unwrap(),
+    )
+    .unwrap();
+    for out_name in ["both.uff", "both_b.uff"] {
+        let (ia, ib, o) = (p(&d, "A.uff"), p(&d, "B.uff"), p(&d, out_name));
+        let mut args = vec!["convert", ia.as_str(), ib.as_str(), "-o", o.as_str()];
+        if out_name == "both_b.uff" {
+            args.extend(["--to", "uff-binary"]);
+        }
+        let printed = run_cli(&argv(&args)).unwrap();
+        assert!(printed.contains("2 set(s)"), "{printed}");
+        let bytes = std::fs::read(&o).unwrap();
+        let l = io::load(&bytes, out_name, &ImportOptions::default()).unwrap();
+        assert_eq!(l.sets.len(), 2, "{:?}", l.warnings);
+        for (got, want) in l.sets.iter().zip([&a, &b]) {
+            assert_eq!(got.name, want.name);
+            assert_eq!(got.outputs, want.outputs);
+            assert_eq!(got.inputs, want.inputs);
+            assert!(
+                got.missing_entries().is_empty(),
+                "{:?}",
+                got.missing_entries()
+            );
+        }
+        // "set": 1 in a recipe takes the second
+        let recipe = format!(
+            r#"{{"format": "mortise-recipe", "version": 1,
+                "components": {{"b": {{"file": "{out_name}", "set": 1}}}},
+                "steps": [{{"id": "second", "op": "select", "from": "b"}}],
+                "outputs": ["second"]}}"#
+        );
+        let r = mortise::recipe::parse(&recipe).unwrap();
+        let res = mortise::recipe::run(&r, &mortise::recipe::DirSource(d.clone())).unwrap();
+        let s = &res.outputs[0];
+        assert_eq!(s.n_out() * s.n_in(), 12);
+        assert_eq!(s.outputs[3].node, "14");
+        for (x, y) in s.data.iter().zip(&b.data) {
+            // ASCII keeps ≥ 13 significant digits (src/io/uff58.rs), 58b is exact
+            assert!((x - y).norm() <= 1e-12 * y.norm(), "{x} vs {y}");
+        }
+    }
+}
+
+/// A UFF force spectrum of function type 12 (peak or RMS not stated), written
+/// by mortise as a peak spectrum and with the ID-line marker removed, so the
+/// file says no more than a foreign one would.
+fn foreign_spectrum_uff() -> Vec<u8> {
+    use mortise::frf::{Direction, Dof, SignalKind};
+    let mut s = mortise::FrfSet::zeros(
+        "fan",
+        vec![50.0, 100.0, 150.0],
+        vec![Dof::new("fan", "3", Direction::Z)],
+        vec![Dof::scalar("", "ref")],
+        mortise::units::Quantity::Force,
+        mortise::units::Quantity::Dimensionless,
+    );
+    s.signal = Some(SignalKind::Peak);
+    s.data[1] = num_complex::Complex64::new(2.0, -1.0);
+    let text = String::from_utf8(mortise::io::uff58::write(&[s], false).unwrap()).unwrap();
+    let text = text.replacen("signal=peak", "NONE", 1);
+    assert!(!text.contains("signal="));
+    text.into_bytes()
+}
+
+#[test]
+fn signal_option_declares_uff_spectra() {
+    let d = common::scratch("cli_convert_signal");
+    std::fs::write(d.join("fan.uff"), foreign_spectrum_uff()).unwrap();
+    let (i, o) = (p(&d, "fan.uff"), p(&d, "fan.csv"));
+    let printed = run_cli(&argv(&[
+        "convert",
+        i.as_str(),
+        "-o",
+        o.as_str(),
+        "--signal",
+        "rms",
+    ]))
+    .unwrap();
+    assert!(!printed.contains("read as peak"), "{printed}");
+    let csv = std::fs::read_to_string(&o).unwrap();
+    assert!(csv.contains("# signal: rms"), "{csv}");
+    // without it: peak, with the warning
+    let printed = run_cli(&argv(&["convert", i.as_str(), "-o", o.as_str()])).unwrap();
+    assert!(printed.contains("read as peak"), "{printed}");
+    // a declaration the file contradicts names both
+    std::fs::write(d.join("own.uff"), {
+        let l = io::load(
+            &std::fs::read(d.join("fan.csv")).unwrap(),
+            "fan.csv",
+            &ImportOptions::default(),
+        )
+        .unwrap();
+        io::save(&l.sets, io::ExportFormat::Uff).unwrap()
+    })
+    .unwrap();
+    let own = p(&d, "own.uff");
+    let e = run_cli(&argv(&[
+        "convert",
+        own.as_str(),
+        "-o",
+        o.as_str(),
+        "--signal",
+        "rms",
+    ]))
+    .unwrap_err();
+    assert!(
+        e.message.contains("rms") && e.message.contains("peak"),
+        "{e}"
+    );
+    let e = run_cli(&argv(&[
+        "convert",
+        i.as_str(),
+        "-o",
+        o.as_str(),
+        "--signal",
+        "loud",
+    ]))
+    .unwrap_err();
+    assert!(
+        e.message.contains("--signal") && e.message.contains("loud"),
+        "{e}"
+    );
+}

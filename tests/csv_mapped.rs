@@ -342,3 +342,54 @@ fn column_map_json_round_trip() {
     assert_eq!(part.freq, ColumnRef::Index(1));
     assert_eq!(part.delimiter, Delimiter::Auto);
 }
+
+// A typo in a recipe's "import" object must not be taken for "not given".
+#[test]
+fn import_options_refuse_unknown_keys() {
+    use mortise::io::ImportOptions;
+    let e = serde_json::from_str::<ImportOptions>(r#"{"componnet": "x"}"#).unwrap_err();
+    assert!(e.to_string().contains("componnet"), "{e}");
+    // inside the column map and its entries too
+    for (json, key) in [
+        (r#"{"column_map": {"skip_row": 3}}"#, "skip_row"),
+        (
+            r#"{"column_map": {"entries": [{"out_dof": "1+Z", "in_dof": "1+Z", "valeus": {"form": "real", "value": 2}}]}}"#,
+            "valeus",
+        ),
+        (
+            r#"{"column_map": {"entries": [{"out_dof": "1+Z", "values": {"form": "real", "value": 2, "imag": 3}}]}}"#,
+            "imag",
+        ),
+        (
+            r#"{"column_map": {"mag_scale": {"scale": "db", "reference": 1, "ref": 2}}}"#,
+            "ref",
+        ),
+    ] {
+        let e = serde_json::from_str::<ImportOptions>(json).unwrap_err();
+        assert!(e.to_string().contains(key), "{json}: {e}");
+    }
+    // the recipe face (components.NAME.import) names it as well
+    let recipe = r#"{"format": "mortise-recipe", "version": 1,
+        "components": {"wall": {"file": "wall.csv", "import": {"componnet": "x"}}},
+        "steps": [], "outputs": []}"#;
+    let e = mortise::recipe::parse(recipe).unwrap_err();
+    assert!(e.message.contains("componnet"), "{e}");
+    // what the page's mapping dialog and saved maps write is still read:
+    // "signal" inside the column map is the declaration of the import options
+    let o: ImportOptions = serde_json::from_str(
+        r#"{"component": "fan", "column_map": {"signal": "psd", "out_qty": "force"}}"#,
+    )
+    .unwrap();
+    assert_eq!(o.signal, Some(mortise::frf::SignalKind::Psd));
+    let o: ImportOptions =
+        serde_json::from_str(r#"{"column_map": {"signal": null, "skip_rows": 2}}"#).unwrap();
+    assert_eq!(o.signal, None);
+    let e = serde_json::from_str::<ImportOptions>(
+        r#"{"signal": "rms", "column_map": {"signal": "psd"}}"#,
+    )
+    .unwrap_err();
+    assert!(
+        e.to_string().contains("rms") && e.to_string().contains("psd"),
+        "{e}"
+    );
+}

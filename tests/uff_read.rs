@@ -20,6 +20,7 @@ struct Ds {
     codes: (i32, i32),
     units: (&'static str, &'static str),
     id1: &'static str,
+    id2: &'static str,
 }
 
 fn ds(func: i32, rsp: (i64, i32), refr: (i64, i32), x: &[f64], y: &[Complex64]) -> Ds {
@@ -33,6 +34,7 @@ fn ds(func: i32, rsp: (i64, i32), refr: (i64, i32), x: &[f64], y: &[Complex64]) 
         codes: (12, 13),
         units: ("m/s^2", "N"),
         id1: "NONE",
+        id2: "NONE",
     }
 }
 
@@ -48,7 +50,7 @@ fn text(d: &Ds) -> String {
         "    -1".to_string(),
         "    58".to_string(),
         d.id1.to_string(),
-        "NONE".into(),
+        d.id2.to_string(),
         "NONE".into(),
         "NONE".into(),
         "NONE".into(),
@@ -458,4 +460,117 @@ fn provenance_chain_travels_in_id_lines() {
     let (sets, _) = uff58::read(&bytes, "one.uff", "w").unwrap();
     assert_eq!(sets[0].provenance.len(), 2);
     assert_eq!(sets[0].provenance[0].file, "casing.uff");
+}
+
+/// A one-DOF force spectrum dataset of function type `func`, amplitude unit label `units`.
+fn spectrum(func: i32, units: &'static str) -> Ds {
+    let y = [c(1.5, 0.5), c(2.0, -1.0), c(0.25, 0.0)];
+    let y = if func == 12 {
+        y
+    } else {
+        y.map(|v| c(v.norm_sqr(), 0.0))
+    };
+    let mut s = ds(func, (9, 3), (0, 0), &GA, &y);
+    s.codes = (13, 0);
+    s.units = (units, "NONE");
+    s
+}
+
+fn opts(json: &str) -> mortise::io::ImportOptions {
+    serde_json::from_str(json).unwrap()
+}
+
+// Item: a spectrum's scaling declared on import. UFF function type 12 does
+// not say peak or RMS (common practice: the dataset 58 layout has no field
+// for it), so the user's declaration decides, without the warning.
+#[test]
+fn declared_rms_spectrum_reads_as_rms_without_warning() {
+    let bytes = file(&[spectrum(12, "N")]);
+    let plain = mortise::io::load(&bytes, "fan.uff", &opts("{}")).unwrap();
+    assert_eq!(plain.sets[0].signal, Some(SignalKind::Peak));
+    assert!(plain.warnings.iter().any(|w| w.contains("read as peak")));
+    for json in [
+        r#"{"signal": "rms"}"#,
+        r#"{"signal": "RMS", "component": "fan"}"#,
+    ] {
+        let l = mortise::io::load(&bytes, "fan.uff", &opts(json)).unwrap();
+        let s = &l.sets[0];
+        assert_eq!(s.signal, Some(SignalKind::Rms), "{json}");
+        assert!(
+            !l.warnings.iter().any(|w| w.contains("peak")),
+            "{:?}",
+            l.warnings
+        );
+        assert!(
+            !s.warnings.iter().any(|w| w.contains("peak")),
+            "{:?}",
+            s.warnings
+        );
+        assert_eq!(s.data, plain.sets[0].data);
+        assert!(
+            s.provenance[0].options.contains("rms"),
+            "{:?}",
+            s.provenance
+        );
+    }
+    // the function types that fix the kind agree with a matching declaration
+    let l = mortise::io::load(
+        &file(&[spectrum(2, "N^2")]),
+        "a.uff",
+        &opts(r#"{"signal": "autopower"}"#),
+    )
+    .unwrap();
+    assert_eq!(l.sets[0].signal, Some(SignalKind::Autopower));
+    let l = mortise::io::load(
+        &file(&[spectrum(9, "N^2/Hz")]),
+        "p.uff",
+        &opts(r#"{"signal": "psd"}"#),
+    )
+    .unwrap();
+    assert_eq!(l.sets[0].signal, Some(SignalKind::Psd));
+}
+
+#[test]
+fn declaration_contradicting_the_function_type_is_refused() {
+    for (func, units, decl, file_says) in [
+        (2, "N^2", "rms", "autopower"),
+        (9, "N^2/Hz", "peak", "psd"),
+        (2, "N^2", "psd", "autopower"),
+    ] {
+        let bytes = file(&[spectrum(func, units)]);
+        let e = mortise::io::load(
+            &bytes,
+            "s.uff",
+            &opts(&format!(r#"{{"signal": "{decl}"}}"#)),
+        )
+        .unwrap_err();
+        assert!(
+            e.message.contains(decl) && e.message.contains(file_says),
+            "type {func}, declared {decl}: {e}"
+        );
+        assert_eq!(e.file.as_deref(), Some("s.uff"));
+        // record 6 of the first dataset: line 1 is the start tag
+        assert_eq!(e.location, Some(mortise::error::Location::Line(8)), "{e}");
+    }
+    // our own writer's ID-line marker says RMS: a peak declaration contradicts it
+    let mut own = spectrum(12, "N");
+    own.id2 = "signal=rms";
+    let e =
+        mortise::io::load(&file(&[own]), "own.uff", &opts(r#"{"signal": "peak"}"#)).unwrap_err();
+    assert!(
+        e.message.contains("peak") && e.message.contains("rms"),
+        "{e}"
+    );
+    // a file of FRFs only: the declaration would change nothing, so it is refused
+    let y = [c(1.0, 2.0), c(3.0, 4.0), c(5.0, 6.0)];
+    let e = mortise::io::load(
+        &file(&[ds(4, (1, 3), (1, 3), &GA, &y)]),
+        "frf.uff",
+        &opts(r#"{"signal": "rms"}"#),
+    )
+    .unwrap_err();
+    assert!(
+        e.message.contains("rms") && e.message.contains("no spectr"),
+        "{e}"
+    );
 }

@@ -34,7 +34,9 @@ column-map options (for CSV/TSV files not in mortise's own layout):
   --phase-unit deg|rad     (default deg)
   --unit U                 value unit, e.g. g/N, mm/s/N, N/mm, Pa/N (default: SI)
   --out-qty Q --in-qty Q   displacement, velocity, acceleration, force, pressure, ...
-  --signal peak|rms|autopower|psd   the file holds spectra (no --in-dof/--in-qty)
+  --signal peak|rms|autopower|psd   what the file's spectra are: for UFF, function type 12
+                           (else read as peak); for CSV, the columns are spectra
+                           (no --in-dof/--in-qty)
   --time-convention +iwt|-iwt       the supplier's convention (-iwt: values are conjugated)
   --set-name NAME          name of the set read (default: the component name)
   --component NAME         component namespace for DOFs without one (default: file stem)
@@ -81,12 +83,17 @@ fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
     }
 }
 
-/// Import options from the command line: the component name and, when any
-/// column-map option (or `--map`) is given, a [`ColumnMap`].
+/// Import options from the command line: the component name, the spectrum
+/// kind (`--signal`, for any format) and, when any column-map option (or
+/// `--map`) is given, a [`ColumnMap`].
 pub fn import_options(args: &Args) -> Result<ImportOptions> {
     let component = args.value("component").map(str::to_string);
+    let signal = args
+        .value("signal")
+        .map(|s| io::parse_signal(s).map_err(|e| Error::usage(format!("--signal: {}", e.message))))
+        .transpose()?;
     let map_opts = &IMPORT_OPTIONS[2..];
-    let any_col = map_opts.iter().any(|o| args.flag(o));
+    let any_col = map_opts.iter().any(|o| *o != "signal" && args.flag(o));
     if let Some(path) = args.value("map") {
         if any_col {
             return Err(Error::usage(
@@ -94,19 +101,22 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             ));
         }
         let bytes = std::fs::read(path).map_err(|e| Error::io(e.to_string()).in_file(path))?;
-        let map: ColumnMap = serde_json::from_slice(&bytes).map_err(|e| {
+        let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
             Error::parse(format!("not a column map: {e}"))
                 .at_line(e.line().max(1))
                 .in_file(path)
         })?;
+        let (map, in_map) = io::csv::map_from_json(value).map_err(|e| e.in_file(path))?;
         return Ok(ImportOptions {
             component,
+            signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
         });
     }
     if !any_col {
         return Ok(ImportOptions {
             component,
+            signal,
             column_map: None,
         });
     }
@@ -148,20 +158,6 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
     if let Some(u) = args.value("unit") {
         m.unit = u.to_string();
     }
-    m.signal = match args.value("signal") {
-        None => None,
-        Some(s) => Some(match s.trim().to_ascii_lowercase().as_str() {
-            "peak" => crate::frf::SignalKind::Peak,
-            "rms" => crate::frf::SignalKind::Rms,
-            "autopower" => crate::frf::SignalKind::Autopower,
-            "psd" => crate::frf::SignalKind::Psd,
-            _ => {
-                return Err(Error::usage(format!(
-                    "--signal '{s}': expected peak, rms, autopower or psd"
-                )))
-            }
-        }),
-    };
     let q = |name: &str| -> Result<Option<Quantity>> {
         args.value(name)
             .map(|v| {
@@ -175,7 +171,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
     m.in_qty =
         match q("in-qty")? {
             Some(x) => x,
-            None if m.signal.is_some() => Quantity::Dimensionless,
+            None if signal.is_some() => Quantity::Dimensionless,
             None => return Err(Error::usage(
                 "the column map needs --in-qty (force, displacement, ...), or --signal for spectra",
             )),
@@ -198,7 +194,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             "the column map needs --out-dof (and --in-dof) for each FRF, e.g. --out-dof wall:A1+Z --in-dof wall:A1+Z",
         ));
     }
-    if m.signal.is_none() && ins.len() != n {
+    if signal.is_none() && ins.len() != n {
         return Err(Error::usage(format!(
             "{n} --out-dof but {} --in-dof; give one of each per FRF",
             ins.len()
@@ -272,6 +268,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
     }
     Ok(ImportOptions {
         component,
+        signal,
         column_map: Some(m),
     })
 }

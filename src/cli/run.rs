@@ -43,8 +43,9 @@ pub fn safe_name(name: &str) -> String {
 }
 
 /// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
-/// Text node labels are numbered for UFF (which needs integers); the report
-/// lists the numbers under `uff_node_numbers`.
+/// Text node labels are numbered for UFF (which needs integers) by
+/// [`io::export`], as the page's export numbers them; the report lists the
+/// numbers under `uff_node_numbers`.
 pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
@@ -52,21 +53,16 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
     let mut numbers = std::collections::BTreeMap::new();
     for s in &res.outputs {
         let base = safe_name(&s.name);
-        let (uff_sets, map) = io::nodes::numbered(std::slice::from_ref(s));
-        if !map.is_empty() {
-            numbers.insert(
-                s.name.clone(),
-                serde_json::to_value(&map).unwrap_or_default(),
-            );
-        }
-        let forms: [(&[crate::frf::FrfSet], ExportFormat, &str); 2] = [
-            (&uff_sets, ExportFormat::Uff, "uff"),
-            (std::slice::from_ref(s), ExportFormat::Csv, "csv"),
-        ];
-        for (sets, fmt, ext) in forms {
-            let bytes = io::save(sets, fmt)?;
+        for (fmt, ext) in [(ExportFormat::Uff, "uff"), (ExportFormat::Csv, "csv")] {
+            let ex = io::export(std::slice::from_ref(s), fmt)?;
+            if !ex.node_numbers.is_empty() {
+                numbers.insert(
+                    s.name.clone(),
+                    serde_json::to_value(&ex.node_numbers).unwrap_or_default(),
+                );
+            }
             let p = out.join(format!("{base}.{ext}"));
-            std::fs::write(&p, bytes)
+            std::fs::write(&p, ex.bytes)
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
         }
     }

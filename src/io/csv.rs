@@ -299,16 +299,6 @@ struct Header {
     warnings: Vec<String>,
 }
 
-fn parse_signal(s: &str) -> Option<SignalKind> {
-    Some(match s.trim().to_ascii_lowercase().as_str() {
-        "peak" => SignalKind::Peak,
-        "rms" => SignalKind::Rms,
-        "autopower" => SignalKind::Autopower,
-        "psd" => SignalKind::Psd,
-        _ => return None,
-    })
-}
-
 fn parse_num(cell: &str, what: &str) -> std::result::Result<f64, String> {
     let t = cell.trim();
     match t.parse::<f64>() {
@@ -406,12 +396,10 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             "in-quantity" => h.in_qty = Some(Quantity::parse(value).map_err(|e| e.at_line(ln).field(key))?),
             "units" => h.units = Some(value.trim().to_string()),
             "signal" => {
-                h.signal = Some(parse_signal(value).ok_or_else(|| {
-                    err(format!(
-                        "'{}'; expected peak, rms, autopower or psd",
-                        value.trim()
-                    ))
-                })?)
+                h.signal = Some(
+                    crate::io::parse_signal(value)
+                        .map_err(|e| err(format!("'{}': {}", value.trim(), e.message)))?,
+                )
             }
             "output" | "input" => {
                 let d = Dof::parse(value, "").map_err(|e| e.at_line(ln).field(key))?;
@@ -780,7 +768,7 @@ impl FreqUnit {
 
 /// How a magnitude column is scaled.
 #[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize, serde::Deserialize)]
-#[serde(tag = "scale", rename_all = "kebab-case")]
+#[serde(tag = "scale", rename_all = "kebab-case", deny_unknown_fields)]
 pub enum MagScale {
     /// The magnitude itself, in the map's value unit.
     #[default]
@@ -815,7 +803,7 @@ impl PhaseUnit {
 
 /// Which columns hold one FRF's value.
 #[derive(Debug, Clone, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
-#[serde(tag = "form", rename_all = "kebab-case")]
+#[serde(tag = "form", rename_all = "kebab-case", deny_unknown_fields)]
 pub enum ValueColumns {
     ReIm {
         re: ColumnRef,
@@ -839,6 +827,7 @@ pub enum ValueColumns {
 
 /// One FRF of a supplier file.
 #[derive(Debug, Clone, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct MapEntry {
     /// Output DOF text, `node+Z` or `component:node+Z`.
     pub out_dof: String,
@@ -857,8 +846,13 @@ pub struct MapEntry {
 /// the first. Frequencies must increase strictly. Values are converted to
 /// SI: `SI value = factor(unit) × value`, where a magnitude/phase pair is
 /// `|H| e^{iφ}` and a dB level L gives `|H| = reference × 10^(L/20)`.
+///
+/// Whether the columns hold spectra is declared once, in
+/// [`crate::io::ImportOptions::signal`] (passed to [`read_mapped_as`] and
+/// [`preview_as`]). Unknown keys are refused; [`map_from_json`] also reads
+/// the `signal` key that maps saved before carry.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct ColumnMap {
     pub delimiter: Delimiter,
     /// Lines before the first data row (titles, column names, units rows).
@@ -878,8 +872,6 @@ pub struct ColumnMap {
     pub unit: String,
     pub out_qty: Quantity,
     pub in_qty: Quantity,
-    /// Set when the file holds spectra rather than FRFs.
-    pub signal: Option<SignalKind>,
     /// The supplier used the e^{-iωt} convention: values are conjugated.
     pub conjugate: bool,
     /// Set name (default: the component name).
@@ -901,11 +893,32 @@ impl Default for ColumnMap {
             unit: String::new(),
             out_qty: Quantity::Dimensionless,
             in_qty: Quantity::Dimensionless,
-            signal: None,
             conjugate: false,
             name: None,
         }
     }
+}
+
+/// A column map from its JSON form, and the spectrum kind a legacy
+/// `"signal"` key in it declares (maps saved before the declaration moved to
+/// [`crate::io::ImportOptions::signal`] carry it; the page's mapping dialog
+/// writes it). Unknown keys are refused, naming them.
+pub fn map_from_json(mut v: serde_json::Value) -> Result<(ColumnMap, Option<SignalKind>)> {
+    let legacy = match v.as_object_mut().and_then(|o| o.remove("signal")) {
+        None | Some(serde_json::Value::Null) => None,
+        Some(serde_json::Value::String(t)) => {
+            Some(crate::io::parse_signal(&t).map_err(|e| e.field("column_map.signal"))?)
+        }
+        Some(other) => {
+            return Err(Error::usage(format!(
+                "column_map.signal is {other}; expected peak, rms, autopower or psd"
+            ))
+            .field("column_map.signal"))
+        }
+    };
+    let map = serde_json::from_value::<ColumnMap>(v)
+        .map_err(|e| Error::usage(e.to_string()).field("column_map"))?;
+    Ok((map, legacy))
 }
 
 /// The first rows of a supplier file split into cells, and what the map makes of them.
@@ -1040,7 +1053,12 @@ struct Plan {
     in_qty: Quantity,
 }
 
-fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
+fn plan(
+    map: &ColumnMap,
+    signal: Option<SignalKind>,
+    header: &[String],
+    component: &str,
+) -> Result<Plan> {
     if map.entries.is_empty() {
         return Err(Error::usage(
             "the column map names no FRF; give at least one entry (output DOF, input DOF and value columns)",
@@ -1056,7 +1074,7 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
             .field("mag_scale"));
         }
     }
-    let spectrum = map.signal.is_some();
+    let spectrum = signal.is_some();
     let in_qty = if spectrum {
         Quantity::Dimensionless
     } else {
@@ -1110,7 +1128,7 @@ fn plan(map: &ColumnMap, header: &[String], component: &str) -> Result<Plan> {
         let unit = map.unit.trim();
         let factor = if unit.is_empty() || unit.eq_ignore_ascii_case("si") {
             1.0
-        } else if let Some(sig) = map.signal {
+        } else if let Some(sig) = signal {
             let f = factor_for(unit, map.out_qty, od.dir.is_rotational())
                 .map_err(|x| x.field("unit"))?;
             if sig.has_phase() {
@@ -1311,8 +1329,21 @@ fn parse_rows(
     Ok(out)
 }
 
-/// Read a supplier file through a column map. DOFs without a component get `component`.
+/// Read a supplier file of FRFs through a column map. DOFs without a
+/// component get `component`.
 pub fn read_mapped(bytes: &[u8], file: &str, map: &ColumnMap, component: &str) -> Result<FrfSet> {
+    read_mapped_as(bytes, file, map, component, None)
+}
+
+/// Read a supplier file through a column map; with `signal` the columns are
+/// spectra of that kind (the import options' declaration), else FRFs.
+pub fn read_mapped_as(
+    bytes: &[u8],
+    file: &str,
+    map: &ColumnMap,
+    component: &str,
+    signal: Option<SignalKind>,
+) -> Result<FrfSet> {
     let go = || -> Result<FrfSet> {
         let text = decode_text(bytes);
         if text.trim().is_empty() {
@@ -1320,7 +1351,7 @@ pub fn read_mapped(bytes: &[u8], file: &str, map: &ColumnMap, component: &str) -
         }
         let lines = numbered_lines(&text);
         let lay = layout(&lines, map)?;
-        let p = plan(map, &lay.header, component)?;
+        let p = plan(map, signal, &lay.header, component)?;
         if lay.data.is_empty() {
             return Err(Error::parse(format!(
                 "no data rows after skipping {} lines",
@@ -1355,7 +1386,7 @@ pub fn read_mapped(bytes: &[u8], file: &str, map: &ColumnMap, component: &str) -
         if any_coh {
             s.coherence = Some(coh);
         }
-        s.signal = map.signal;
+        s.signal = signal;
         s.warnings = parsed.warnings;
         let missing = s.missing_entries().len();
         if missing > 0 {
@@ -1373,6 +1404,18 @@ pub fn read_mapped(bytes: &[u8], file: &str, map: &ColumnMap, component: &str) -
 /// The first `rows` data rows split into cells, and the values the map gives
 /// them (or, in `problem`, why it gives none). For the import dialog.
 pub fn preview(bytes: &[u8], file: &str, map: &ColumnMap, rows: usize) -> Result<Preview> {
+    preview_as(bytes, file, map, None, rows)
+}
+
+/// [`preview`] of a file whose columns are spectra of kind `signal` (the
+/// import options' declaration), or FRFs when `None`.
+pub fn preview_as(
+    bytes: &[u8],
+    file: &str,
+    map: &ColumnMap,
+    signal: Option<SignalKind>,
+    rows: usize,
+) -> Result<Preview> {
     let text = decode_text(bytes);
     let lines = numbered_lines(&text);
     let lay = layout(&lines, map).map_err(|e| e.in_file(file))?;
@@ -1389,7 +1432,7 @@ pub fn preview(bytes: &[u8], file: &str, map: &ColumnMap, rows: usize) -> Result
                 .collect(),
         })
         .collect();
-    let (values, problem) = match plan(map, &lay.header, &crate::io::file_stem(file))
+    let (values, problem) = match plan(map, signal, &lay.header, &crate::io::file_stem(file))
         .and_then(|p| parse_rows(&shown, lay.delim, map, &p))
     {
         Ok(parsed) => (

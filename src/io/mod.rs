@@ -1,5 +1,7 @@
 //! File exchange: format detection by content, loading into [`FrfSet`]s with
-//! provenance, and saving.
+//! provenance ([`load`] with [`ImportOptions`]), and saving ([`save`], and
+//! [`export`], which also numbers text node labels for UFF and returns the
+//! table: the one export of `mortise run` and the page).
 //!
 //! Formats: UFF dataset 58 ASCII and 58b binary ([`uff58`]), our own
 //! self-describing CSV and supplier CSVs through a column map ([`csv`]), and
@@ -12,7 +14,7 @@ pub mod nodes;
 pub mod uff58;
 
 use crate::error::{Error, Result};
-use crate::frf::{FrfSet, Provenance};
+use crate::frf::{FrfSet, Provenance, SignalKind};
 
 /// A file format mortise reads or writes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -39,15 +41,109 @@ impl Format {
     }
 }
 
-/// Options for [`load`].
-#[derive(Debug, Clone, Default, serde::Serialize, serde::Deserialize)]
+/// Options for [`load`]: the `"import"` object of a recipe, the page's
+/// import options and the CLI's import flags.
+///
+/// Unknown keys are refused, here and in the column map. `signal` is the one
+/// place where a file's spectra are declared peak, RMS, autopower or PSD: for
+/// UFF it says what function type 12 spectra are (the layout does not say;
+/// undeclared they are read as peak, with a warning) and must agree with
+/// function types 2 (autopower) and 9 (PSD); for a supplier CSV it says the
+/// columns hold spectra. A file that holds no spectra refuses it. For JSON
+/// written before the declaration moved here, `"signal"` inside
+/// `"column_map"` is read as this field (giving both, different, is refused).
+#[derive(Debug, Clone, Default, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(try_from = "ImportOptionsJson")]
 pub struct ImportOptions {
     /// Component namespace given to every DOF read (default: the file stem).
     #[serde(default)]
     pub component: Option<String>,
+    /// What the file's spectra are (see above); `None`: as the file says.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signal: Option<SignalKind>,
     /// Column map for supplier CSVs; required when the CSV is not our own layout.
     #[serde(default)]
     pub column_map: Option<csv::ColumnMap>,
+}
+
+/// The JSON form of [`ImportOptions`] as read (the column map is taken
+/// apart by [`csv::map_from_json`] for its legacy `signal` key).
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ImportOptionsJson {
+    #[serde(default)]
+    component: Option<String>,
+    #[serde(default, deserialize_with = "signal_from_json")]
+    signal: Option<SignalKind>,
+    #[serde(default)]
+    column_map: Option<serde_json::Value>,
+}
+
+fn signal_from_json<'de, D: serde::Deserializer<'de>>(
+    d: D,
+) -> std::result::Result<Option<SignalKind>, D::Error> {
+    use serde::Deserialize;
+    match Option::<String>::deserialize(d)? {
+        None => Ok(None),
+        Some(t) => parse_signal(&t)
+            .map(Some)
+            .map_err(|e| serde::de::Error::custom(e.message)),
+    }
+}
+
+impl TryFrom<ImportOptionsJson> for ImportOptions {
+    type Error = String;
+    fn try_from(j: ImportOptionsJson) -> std::result::Result<Self, String> {
+        let (column_map, in_map) = match j.column_map {
+            None | Some(serde_json::Value::Null) => (None, None),
+            Some(v) => {
+                let (m, s) = csv::map_from_json(v).map_err(|e| match e.field {
+                    Some(f) => format!("{f}: {}", e.message),
+                    None => e.message,
+                })?;
+                (Some(m), s)
+            }
+        };
+        Ok(ImportOptions {
+            component: j.component,
+            signal: declared_signal(j.signal, in_map).map_err(|e| e.message)?,
+            column_map,
+        })
+    }
+}
+
+/// The one parser of spectrum kinds, for every face and file: `peak`,
+/// `rms`, `autopower` or `psd` (any case).
+pub fn parse_signal(text: &str) -> Result<SignalKind> {
+    Ok(match text.trim().to_ascii_lowercase().as_str() {
+        "peak" => SignalKind::Peak,
+        "rms" => SignalKind::Rms,
+        "autopower" => SignalKind::Autopower,
+        "psd" => SignalKind::Psd,
+        _ => {
+            return Err(Error::usage(format!(
+                "unknown signal kind '{text}'; expected peak, rms, autopower or psd"
+            ))
+            .field("signal"))
+        }
+    })
+}
+
+/// One declaration from the import options' `signal` and a column map's
+/// legacy `signal`: either, or both when they agree.
+pub fn declared_signal(
+    given: Option<SignalKind>,
+    in_map: Option<SignalKind>,
+) -> Result<Option<SignalKind>> {
+    match (given, in_map) {
+        (Some(a), Some(b)) if a != b => Err(Error::usage(format!(
+            "the import options declare the spectra {}, but the column map's \"signal\" says {}; declare it once",
+            a.name(),
+            b.name()
+        ))
+        .field("signal")),
+        (a, b) => Ok(a.or(b)),
+    }
 }
 
 /// What one file held.
@@ -240,6 +336,34 @@ fn options_text(opts: &ImportOptions) -> String {
     serde_json::to_string(opts).unwrap_or_default()
 }
 
+/// A declared spectrum kind must be what the file's spectra are, and the
+/// file must hold spectra (else the declaration would change nothing).
+fn check_declared(sets: &[FrfSet], k: SignalKind) -> Result<()> {
+    for (n, s) in sets.iter().enumerate() {
+        if let Some(have) = s.signal {
+            if have != k {
+                return Err(Error::usage(format!(
+                    "set {} ('{}') of the file is a {} spectrum, but the import options declare {}; declare {} or leave \"signal\" out",
+                    n + 1,
+                    s.name,
+                    have.name(),
+                    k.name(),
+                    have.name()
+                ))
+                .field("signal"));
+            }
+        }
+    }
+    if !sets.iter().any(|s| s.signal.is_some()) {
+        return Err(Error::usage(format!(
+            "the import options declare {} spectra, but the file holds no spectra (only FRFs); leave \"signal\" out",
+            k.name()
+        ))
+        .field("signal"));
+    }
+    Ok(())
+}
+
 /// Load one file. Errors name the file and the place in it.
 pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
     let format = detect(bytes, file)?;
@@ -249,7 +373,8 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
             // the record-6 entity name, else the file stem
-            let (sets, w) = uff58::read_with(bytes, file, opts.component.as_deref())?;
+            let (sets, w) =
+                uff58::read_declared(bytes, file, opts.component.as_deref(), opts.signal)?;
             warnings.extend(w);
             sets
         }
@@ -281,7 +406,13 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
                 ))
                 .in_file(file));
             };
-            vec![csv::read_mapped(bytes, file, map, &component)?]
+            vec![csv::read_mapped_as(
+                bytes,
+                file,
+                map,
+                &component,
+                opts.signal,
+            )?]
         }
         Format::Bundle => {
             let b = bundle::read(bytes, file)?;
@@ -301,6 +432,9 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             sets
         }
     };
+    if let Some(k) = opts.signal {
+        check_declared(&sets, k).map_err(|e| e.in_file(file))?;
+    }
     let prov = Provenance {
         file: base_name(file),
         sha256: sha256_hex(bytes),
@@ -360,6 +494,43 @@ pub fn save(sets: &[FrfSet], fmt: ExportFormat) -> Result<Vec<u8>> {
             b.results = sets.to_vec();
             bundle::write(&b)
         }
+    }
+}
+
+/// What [`export`] wrote.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Exported {
+    pub bytes: Vec<u8>,
+    /// For UFF: the number written for each text node label (and for a
+    /// numeric node a second component also uses), see [`nodes::numbered`];
+    /// empty for the other formats and when every node was a number.
+    pub node_numbers: Vec<nodes::NodeNumber>,
+}
+
+impl Exported {
+    /// The node-number table as JSON text (`[{component, node, number}]`),
+    /// the small file offered beside a UFF export.
+    pub fn node_numbers_json(&self) -> String {
+        serde_json::to_string_pretty(&self.node_numbers).unwrap_or_else(|_| "[]".into())
+    }
+}
+
+/// Write sets for a user: like [`save`], but UFF (whose nodes are integers)
+/// gets text node labels numbered by [`nodes::numbered`], and the table is
+/// returned with the bytes. The one export of `mortise run` and the page.
+pub fn export(sets: &[FrfSet], fmt: ExportFormat) -> Result<Exported> {
+    match fmt {
+        ExportFormat::Uff | ExportFormat::UffBinary => {
+            let (numbered, node_numbers) = nodes::numbered(sets);
+            Ok(Exported {
+                bytes: save(&numbered, fmt)?,
+                node_numbers,
+            })
+        }
+        ExportFormat::Csv | ExportFormat::Bundle => Ok(Exported {
+            bytes: save(sets, fmt)?,
+            node_numbers: Vec::new(),
+        }),
     }
 }
 

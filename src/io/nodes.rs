@@ -7,6 +7,9 @@
 //! component namespace, so a numeric node that a second component also uses
 //! (`A:1+Z` and `B:1+Z` in a coupled result) is renumbered the same way: the
 //! component that uses the number first keeps it.
+//!
+//! [`super::export`] applies it to every UFF export of `mortise run` and of
+//! the page, so both faces write the same numbers for the same sets.
 
 use crate::frf::FrfSet;
 use std::collections::BTreeMap;

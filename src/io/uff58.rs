@@ -32,7 +32,7 @@
 //! The layout's ASCII columns are 20 characters for double-precision values
 //! and 13 for abscissa values and the even-grid minimum and increment. A
 //! double needs up to 17 significant digits (24 characters) to round-trip, so
-//! it cannot always fit. [`AsciiLayout::Standard`] (used by [`write`]) keeps
+//! it cannot always fit. [`AsciiLayout::Standard`] (used by [`write()`]) keeps
 //! the columns, so column-based readers such as pyuff read the file: each
 //! number is written with its shortest round-trip text when that fits its
 //! column (then it is bit-exact), otherwise with as many significant digits
@@ -54,10 +54,40 @@
 //! Double precision, SI units labels (records 9 and 10), specific data types
 //! 8/11/12 (motion), 9 (force response) / 13 (excitation force), 15
 //! (pressure), 18 (frequency). ID line 1 holds the set name, ID line 2 the
-//! FRF kind or `signal=<kind>` (so our own spectra read back as peak or RMS
-//! without the usual warning), ID lines 3-5 the provenance chain
-//! ([`provenance_lines`]). The record-6 entity names hold the DOF component
-//! when it fits 10 columns; [`read_with`] with no component given restores it.
+//! FRF kind, `coherence` or `signal=<kind>` (so our own spectra read back as
+//! peak or RMS without the usual warning), followed by ` set=<n>` (n = 1, 2,
+//! ... in the order written) when the file holds more than one set; ID lines
+//! 3-5 the provenance chain ([`provenance_lines`]). The record-6 entity names
+//! hold the DOF component when it fits 10 columns; [`read_with`] with no
+//! component given restores it. A set without any present entry cannot be
+//! written (it would vanish from the file) and is refused.
+//!
+//! ## How datasets are grouped into sets
+//! A UFF file has no set record, so the reader groups datasets:
+//! * datasets whose ID line 2 is exactly mortise's own text with a set tag
+//!   (`<kind> set=<n>`, `signal=<kind> set=<n>`, `coherence set=<n>`) form
+//!   one set per tag and ID line 1 (the set name), so several sets written
+//!   to one file come back as those sets, even when they share DOFs, grid
+//!   and quantities; files joined byte for byte keep their sets apart when
+//!   the names differ;
+//! * every other dataset (other writers' files, and our files of one set)
+//!   is grouped by function (FRF or the spectrum kind), quantity pair and
+//!   frequency grid, whatever its ID lines say: one FRF matrix exported as
+//!   many datasets, one per response/reference pair with its own ID text,
+//!   reads as one set, with missing entries where no dataset gives one;
+//! * coherence (function type 6) joins the FRF of the same DOFs and grid in
+//!   the same group.
+//!
+//! One set spread over several files (a roving-hammer delivery) is read file
+//! by file and joined by [`super::merge`].
+//!
+//! ## Spectrum kinds
+//! Function type 2 is an autopower and 9 a PSD; type 12 does not say peak or
+//! RMS. The kind the caller declares ([`read_declared`], from
+//! [`super::ImportOptions::signal`]) decides for type 12; undeclared, our own
+//! `signal=` marker decides, else the spectrum is read as peak with a
+//! warning. A declaration that contradicts type 2 or 9 or our marker is
+//! refused, naming both.
 
 use crate::error::{Error, Result};
 use crate::frf::{Direction, Dof, FrfSet, Provenance, SignalKind};
@@ -1282,11 +1312,16 @@ struct Entry {
     ids: [String; 3],
 }
 
+/// Our writer's set number and the set name (ID line 1), when ID line 2
+/// carries `set=<n>`.
+type SetTag = (u32, String);
+
 struct Group {
     role: Role,
     out_qty: Quantity,
     in_qty: Quantity,
     freqs: Vec<f64>,
+    tag: Option<SetTag>,
     entries: Vec<Entry>,
     remarks: Remarks,
 }
@@ -1493,16 +1528,100 @@ fn frequencies(file: &str, ds: &Dataset58, rm: &mut Remarks) -> Result<Vec<f64>>
     Ok(f)
 }
 
-/// The signal kind our own writer records in ID line 2 (`signal=peak` ...).
-fn signal_marker(ds: &Dataset58) -> Option<SignalKind> {
-    let t = ds.id[1].trim();
-    Some(match t.strip_prefix("signal=")? {
-        "peak" => SignalKind::Peak,
-        "rms" => SignalKind::Rms,
-        "autopower" => SignalKind::Autopower,
-        "psd" => SignalKind::Psd,
-        _ => return None,
+/// What our own writer puts in ID line 2 (see the module docs), when the
+/// line is exactly that text; other text gives nothing.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+struct OwnId2 {
+    /// `signal=<kind>`.
+    signal: Option<SignalKind>,
+    /// `set=<n>`, n ≥ 1.
+    set: Option<u32>,
+}
+
+fn own_id2(line: &str) -> OwnId2 {
+    let toks: Vec<&str> = line.split_whitespace().collect();
+    let (first, rest) = match toks.split_first() {
+        Some(x) => x,
+        None => return OwnId2::default(),
+    };
+    let mut id = OwnId2::default();
+    if let Some(text) = first.strip_prefix("signal=") {
+        match super::parse_signal(text) {
+            Ok(k) if k.name() == text => id.signal = Some(k),
+            _ => return OwnId2::default(),
+        }
+    } else if *first != "coherence" && !is_kind_name(first) {
+        return OwnId2::default();
+    }
+    match rest {
+        [] => {}
+        [t] => match t.strip_prefix("set=").and_then(|n| n.parse::<u32>().ok()) {
+            Some(n) if n >= 1 => id.set = Some(n),
+            _ => return OwnId2::default(),
+        },
+        _ => return OwnId2::default(),
+    }
+    id
+}
+
+/// An FRF kind name as [`crate::frf::FrfKind::name`] writes it.
+fn is_kind_name(t: &str) -> bool {
+    Quantity::ALL.iter().any(|a| {
+        Quantity::ALL
+            .iter()
+            .any(|b| crate::frf::FrfKind::of(*a, *b).name() == t)
     })
+}
+
+/// The spectrum kind of a dataset of function type `func` (2, 9 or 12),
+/// from the function type, our ID-line marker and the caller's declaration.
+fn spectrum_kind(
+    file: &str,
+    ds: &Dataset58,
+    marker: Option<SignalKind>,
+    declared: Option<SignalKind>,
+) -> Result<SignalKind> {
+    let refuse = |what: String, have: SignalKind, d: SignalKind| {
+        Error::usage(format!(
+            "{what} makes this dataset {} {} spectrum, but the import options declare {}; declare {} or leave \"signal\" out",
+            if have == SignalKind::Autopower { "an" } else { "a" },
+            have.name(),
+            d.name(),
+            have.name()
+        ))
+        .field("record 6, function type")
+        .at_line(ds.record_line(6))
+        .in_file(file)
+    };
+    let fixed = match ds.func_type {
+        2 => Some(SignalKind::Autopower),
+        9 => Some(SignalKind::Psd),
+        _ => None,
+    };
+    if let Some(have) = fixed {
+        return match declared {
+            Some(d) if d != have => Err(refuse(
+                format!(
+                    "function type {} ({})",
+                    ds.func_type,
+                    function_type_name(ds.func_type).unwrap_or("")
+                ),
+                have,
+                d,
+            )),
+            _ => Ok(have),
+        };
+    }
+    match (marker, declared) {
+        (Some(m), Some(d)) if m != d => Err(refuse(
+            format!("ID line 2 'signal={}' (written by mortise)", m.name()),
+            m,
+            d,
+        )),
+        (Some(m), _) => Ok(m),
+        (None, Some(d)) => Ok(d),
+        (None, None) => Ok(SignalKind::Peak),
+    }
 }
 
 /// Read every dataset 58/58b in a file and group them into FRF sets (one per
@@ -1519,6 +1638,17 @@ pub fn read_with(
     bytes: &[u8],
     file: &str,
     component: Option<&str>,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_declared(bytes, file, component, None)
+}
+
+/// Like [`read_with`], with the spectrum kind the caller declares for the
+/// file's spectra (see "Spectrum kinds" in the module docs).
+pub fn read_declared(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
 ) -> Result<(Vec<FrfSet>, Vec<String>)> {
     let stem = super::file_stem(file);
     let comp_of = |entity: &str| -> String {
@@ -1537,17 +1667,17 @@ pub fn read_with(
         .in_file(file));
     }
     let mut groups: Vec<Group> = Vec::new();
-    // (response, reference, grid, values, line)
-    type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize);
+    // (response, reference, grid, values, line, set tag)
+    type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize, Option<SetTag>);
     let mut coherences: Vec<Coh> = Vec::new();
     let mut file_rm = Remarks::default();
     for ds in &datasets {
+        let own = own_id2(&ds.id[1]);
+        let tag = own.set.map(|n| (n, ds.id[0].trim().to_string()));
         let role = match ds.func_type {
             4 | 5 => Role::Frf,
             6 => Role::Coherence,
-            12 => Role::Spectrum(signal_marker(ds).unwrap_or(SignalKind::Peak)),
-            2 => Role::Spectrum(SignalKind::Autopower),
-            9 => Role::Spectrum(SignalKind::Psd),
+            2 | 9 | 12 => Role::Spectrum(spectrum_kind(file, ds, own.signal, declared)?),
             t => {
                 file_rm.add(
                     format!(
@@ -1573,7 +1703,7 @@ pub fn read_with(
         match role {
             Role::Coherence => {
                 let v: Vec<f64> = ds.y.iter().map(|c| c.re).collect();
-                coherences.push((out, inp, freqs, v, ds.line));
+                coherences.push((out, inp, freqs, v, ds.line, tag));
                 continue;
             }
             Role::Frf => {
@@ -1594,7 +1724,7 @@ pub fn read_with(
                 let values = ds.y.iter().map(|v| v * factor).collect();
                 push_entry(
                     &mut groups,
-                    (role, oq, iq, freqs),
+                    (role, oq, iq, freqs, tag),
                     Entry {
                         out,
                         inp,
@@ -1610,7 +1740,7 @@ pub fn read_with(
             Role::Spectrum(kind) => {
                 let q = axis_quantity(file, ds, 9, orot, false)?.unwrap_or(Quantity::Force);
                 let factor = spectrum_factor(file, ds, q, orot, kind, &mut rm)?;
-                if ds.func_type == 12 && signal_marker(ds).is_none() {
+                if ds.func_type == 12 && own.signal.is_none() && declared.is_none() {
                     rm.add(
                         "UFF does not say whether spectrum amplitudes are peak or RMS; read as peak"
                             .to_string(),
@@ -1620,7 +1750,7 @@ pub fn read_with(
                 let values = ds.y.iter().map(|v| v * factor).collect();
                 push_entry(
                     &mut groups,
-                    (role, q, Quantity::Dimensionless, freqs),
+                    (role, q, Quantity::Dimensionless, freqs, tag),
                     Entry {
                         out,
                         inp: Dof::scalar("", "ref"),
@@ -1685,10 +1815,10 @@ pub fn read_with(
         sets.push(s);
     }
     // coherence onto the matching FRF entries
-    for (out, inp, freqs, v, line) in coherences {
+    for (out, inp, freqs, v, line, tag) in coherences {
         let mut done = false;
         for (g, s) in groups.iter().zip(sets.iter_mut()) {
-            if g.role != Role::Frf || s.freqs != freqs {
+            if g.role != Role::Frf || s.freqs != freqs || g.tag != tag {
                 continue;
             }
             let i = s.out_place(&out);
@@ -1727,17 +1857,13 @@ pub fn read_with(
     Ok((sets, warnings))
 }
 
-fn push_entry(
-    groups: &mut Vec<Group>,
-    key: (Role, Quantity, Quantity, Vec<f64>),
-    e: Entry,
-    rm: Remarks,
-) {
-    let (role, oq, iq, freqs) = key;
-    let g = match groups
-        .iter_mut()
-        .position(|g| g.role == role && g.out_qty == oq && g.in_qty == iq && g.freqs == freqs)
-    {
+type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);
+
+fn push_entry(groups: &mut Vec<Group>, key: GroupKey, e: Entry, rm: Remarks) {
+    let (role, oq, iq, freqs, tag) = key;
+    let g = match groups.iter_mut().position(|g| {
+        g.role == role && g.out_qty == oq && g.in_qty == iq && g.freqs == freqs && g.tag == tag
+    }) {
         Some(p) => &mut groups[p],
         None => {
             groups.push(Group {
@@ -1745,6 +1871,7 @@ fn push_entry(
                 out_qty: oq,
                 in_qty: iq,
                 freqs,
+                tag,
                 entries: Vec::new(),
                 remarks: Remarks::default(),
             });
@@ -2331,15 +2458,30 @@ pub fn write(sets: &[FrfSet], binary: bool) -> Result<Vec<u8>> {
     )
 }
 
-/// Write sets in a chosen layout.
+/// Write sets in a chosen layout. With more than one set, ID line 2 of
+/// every dataset carries ` set=<n>` so the reader gives the sets back (see
+/// the module docs); a set without any present entry is refused.
 pub fn write_with(sets: &[FrfSet], layout: Layout) -> Result<Vec<u8>> {
     if sets.is_empty() {
         return Err(Error::usage("no FRF sets to write"));
     }
+    let tagged = sets.len() > 1;
     let mut out = Vec::new();
     let mut n = 0;
-    for s in sets {
-        for ds in datasets_of(s, layout)? {
+    for (k, s) in sets.iter().enumerate() {
+        let list = datasets_of(s, layout)?;
+        if list.is_empty() && tagged {
+            return Err(Error::missing(format!(
+                "set {} of {} ('{}') has no present entry; UFF cannot hold an empty set (it would vanish from the file), so leave it out",
+                k + 1,
+                sets.len(),
+                s.name
+            )));
+        }
+        for mut ds in list {
+            if tagged {
+                ds.id[1] = format!("{} set={}", ds.id[1], k + 1);
+            }
             write_dataset(&mut out, &ds, layout);
             n += 1;
         }
@@ -2497,6 +2639,34 @@ mod tests {
         t.outputs[0].node = "A7".into();
         let e = write(&[t], true).unwrap_err();
         assert!(e.message.contains("node 'A7' is not a number"), "{e}");
+    }
+
+    #[test]
+    fn only_our_own_id_line_2_carries_a_set_tag() {
+        let id = |t: &str| {
+            let o = own_id2(t);
+            (o.signal, o.set)
+        };
+        assert_eq!(id("accelerance set=2"), (None, Some(2)));
+        assert_eq!(id("vibro-acoustic set=11"), (None, Some(11)));
+        assert_eq!(id("coherence set=1"), (None, Some(1)));
+        assert_eq!(id("signal=rms set=3"), (Some(SignalKind::Rms), Some(3)));
+        assert_eq!(id("signal=psd"), (Some(SignalKind::Psd), None));
+        assert_eq!(id("mobility"), (None, None));
+        // other writers' text: no tag, no marker
+        for t in [
+            "NONE",
+            "run 2",
+            "set=2",
+            "Accelerance set=2",
+            "accelerance set=0",
+            "accelerance set=2 x",
+            "accelerance set=two",
+            "signal=RMS",
+            "signal=loud set=1",
+        ] {
+            assert_eq!(id(t), (None, None), "{t}");
+        }
     }
 
     #[test]
