@@ -32,6 +32,8 @@ pub enum ErrorKind {
     Usage,
     /// The user cancelled a long computation.
     Cancelled,
+    /// A bug in mortise: an invariant of the code broke (never caused by input alone).
+    Internal,
 }
 
 /// Where in a file an error sits.

@@ -11,11 +11,13 @@
 //! `k=` (N/m), `c=` (N·s/m), `eta=` (loss factor) for a flexible joint, or
 //! `stiffness=FILE` for a measured dynamic stiffness (a 1×1 set).
 
-use super::Args;
-use crate::error::{Error, Result};
+use super::{as_data, Args, Done};
+use crate::error::{Error, ErrorKind, Result};
+use crate::frf::Dof;
 use crate::io::{self, ExportFormat};
 use crate::recipe::{self, ComponentSpec, DirSource, JointSpec, Recipe, Step};
 use std::collections::BTreeMap;
+use std::path::{Component, Path, PathBuf};
 
 /// Parse one `--join` value.
 pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Result<JointSpec> {
@@ -29,6 +31,9 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
         .ok_or_else(|| bad("no '=' between the two DOFs"))?;
     let mut words = rest.split_whitespace();
     let b = words.next().ok_or_else(|| bad("no second DOF"))?;
+    for label in [a.trim(), b] {
+        Dof::parse(label, "").map_err(|e| bad(&e.message))?;
+    }
     let mut j = JointSpec {
         a: a.trim().to_string(),
         b: b.to_string(),
@@ -58,6 +63,11 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
         let x: f64 = val
             .parse()
             .map_err(|_| bad(&format!("'{val}' is not a number for {key}")))?;
+        if !(x.is_finite() && x >= 0.0) {
+            return Err(bad(&format!(
+                "{key}={val}: expected a finite, non-negative number"
+            )));
+        }
         match key {
             "k" => j.k = Some(x),
             "c" => j.c = Some(x),
@@ -76,6 +86,16 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
         (false, None, _, Some(_)) => return Err(bad("eta needs k")),
     }
     .to_string();
+    // a spring alone, a damper alone and a hysteretic joint need a non-zero rate
+    match (j.kind.as_str(), j.k, j.c) {
+        ("spring" | "hysteretic", Some(0.0), _) => {
+            return Err(bad("k=0 leaves the joint without stiffness; give k > 0"))
+        }
+        ("damper", _, Some(0.0)) => {
+            return Err(bad("c=0 leaves the joint without damping; give c > 0"))
+        }
+        _ => {}
+    }
     Ok(j)
 }
 
@@ -143,41 +163,161 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
     })
 }
 
-pub fn run(args: &Args) -> Result<String> {
-    args.only(&["join", "o", "tsvd", "print-recipe"])?;
+/// Lexically normalised `p` (no `.`, `..` folded where possible).
+fn normalise(p: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for c in p.components() {
+        match c {
+            Component::CurDir => {}
+            Component::ParentDir => {
+                if !out.pop() {
+                    out.push("..");
+                }
+            }
+            other => out.push(other.as_os_str()),
+        }
+    }
+    out
+}
+
+/// The absolute form of directory `dir` (relative to `cwd`), with symbolic
+/// links resolved where it exists.
+fn absolute_dir(cwd: &Path, dir: &Path) -> PathBuf {
+    let j = cwd.join(dir);
+    j.canonicalize().unwrap_or_else(|_| normalise(&j))
+}
+
+/// `file` (as given on the command line: relative to the current directory,
+/// or absolute) as a path relative to the directory `dir`, with `/` between
+/// the parts, so that a recipe written into `dir` finds it.
+pub fn relative_to_dir(file: &str, dir: &Path) -> Result<String> {
+    let cwd = std::env::current_dir()
+        .map_err(|e| Error::io(format!("cannot tell the current directory: {e}")))?;
+    let f = Path::new(file);
+    let name = f
+        .file_name()
+        .ok_or_else(|| Error::usage(format!("'{file}' does not end in a file name")))?;
+    let parent = f
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    // the file's own name is kept (not resolved): its stem names the component
+    let from_dir = absolute_dir(&cwd, dir);
+    let from: Vec<Component> = from_dir.components().collect();
+    let to_dir = absolute_dir(&cwd, parent);
+    let to: Vec<Component> = to_dir.components().collect();
+    let common = from.iter().zip(&to).take_while(|(a, b)| a == b).count();
+    let text = |c: &Component| -> Result<String> {
+        c.as_os_str()
+            .to_str()
+            .map(str::to_string)
+            .ok_or_else(|| Error::io(format!("the path to '{file}' is not valid UTF-8")))
+    };
+    let mut parts: Vec<String> = Vec::new();
+    if common == 0 {
+        // no common root (another drive): the absolute path
+        return to_dir
+            .join(name)
+            .to_str()
+            .map(|s| s.replace('\\', "/"))
+            .ok_or_else(|| Error::io(format!("the path to '{file}' is not valid UTF-8")));
+    }
+    for _ in common..from.len() {
+        parts.push("..".into());
+    }
+    for c in &to[common..] {
+        parts.push(text(c)?);
+    }
+    parts.push(text(&Component::Normal(name))?);
+    Ok(parts.join("/"))
+}
+
+/// The recipe as written by `--print-recipe RECIPE`: file names relative to
+/// RECIPE's directory.
+pub fn recipe_for_file(r: &Recipe, recipe_path: &str) -> Result<Recipe> {
+    let dir = Path::new(recipe_path)
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut out = r.clone();
+    for c in out.components.values_mut() {
+        if let Some(f) = &c.file {
+            c.file = Some(relative_to_dir(f, dir)?);
+        }
+    }
+    Ok(out)
+}
+
+pub fn run(args: &Args) -> Result<Done> {
     if args.positional.len() < 2 {
         return Err(Error::usage(
-            "mortise couple needs at least two files, then --join 'A:1+Z = B:1+Z' ... -o OUT",
+            "couple needs at least two files, then --join 'A:1+Z = B:1+Z' ... -o OUT",
         ));
     }
     let joins = args.values("join");
     if joins.is_empty() {
         return Err(Error::usage(
-            "mortise couple needs at least one --join 'A:1+Z = B:1+Z'",
+            "couple needs at least one --join 'A:1+Z = B:1+Z'",
         ));
     }
     let tsvd = match args.value("tsvd") {
         Some(t) => Some(
-            t.parse::<f64>()
-                .map_err(|_| Error::usage(format!("--tsvd '{t}' is not a number")))?,
+            t.trim()
+                .parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite() && (0.0..1.0).contains(x))
+                .ok_or_else(|| {
+                    Error::usage(format!(
+                        "--tsvd '{t}': expected a fraction from 0 to below 1 of the largest singular value"
+                    ))
+                })?,
         ),
         None => None,
     };
-    let r = recipe_for(&args.positional, &joins, tsvd)?;
-    if let Some(p) = args.value("print-recipe") {
-        std::fs::write(p, recipe::to_text(&r))
-            .map_err(|e| Error::io(format!("cannot write '{p}': {e}")))?;
-    }
     let out = args
         .value("o")
-        .ok_or_else(|| Error::usage("mortise couple needs -o OUT"))?;
+        .ok_or_else(|| Error::usage("couple needs -o OUT"))?;
     let fmt = format_from_name(out)?;
-    let res = recipe::run(&r, &DirSource(".".into()))?;
-    let bytes = io::save(&res.outputs, fmt)?;
-    std::fs::write(out, bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
-    let mut s = super::run::summary(&r.title, &res, std::path::Path::new(out));
-    s = s.replace("and report.json ", "");
-    Ok(s)
+    let r = recipe_for(&args.positional, &joins, tsvd)?;
+    let json = args.flag("json");
+    let mut result = serde_json::json!({
+        "files": args.positional,
+        "title": r.title,
+        "recipe_file": args.value("print-recipe"),
+        "output": null,
+    });
+    let ran = (|| -> Result<(recipe::RunResult, serde_json::Value)> {
+        if let Some(p) = args.value("print-recipe") {
+            let printed = recipe_for_file(&r, p)?;
+            std::fs::write(p, recipe::to_text(&printed))
+                .map_err(|e| Error::io(format!("cannot write '{p}': {e}")))?;
+        }
+        let res =
+            recipe::run(&r, &DirSource(".".into())).map_err(|e| as_data(e, ErrorKind::Recipe))?;
+        let bytes = io::save(&res.outputs, fmt).map_err(|e| as_data(e, ErrorKind::Internal))?;
+        std::fs::write(out, &bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
+        let written = serde_json::json!({
+            "file": out,
+            "format": fmt.name(),
+            "bytes": bytes.len(),
+            "sha256": io::sha256_hex(&bytes),
+        });
+        Ok((res, written))
+    })();
+    match ran {
+        Ok((res, written)) if json => {
+            result["output"] = written;
+            result["report"] = res.report;
+            result["caution"] = super::CAUTION.into();
+            Ok(Done::json(result))
+        }
+        Ok((res, _)) => {
+            let s = super::run::summary(&r.title, &res, Path::new(out));
+            Ok(Done::text(s.replace("and report.json ", "")))
+        }
+        Err(e) if json => Ok(Done::json(result).failed(Some(e))),
+        Err(e) => Err(e),
+    }
 }
 
 #[cfg(test)]
