@@ -49,6 +49,13 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
             .ok_or_else(|| bad(&format!("'{w}' is not key=value")))?;
         if key == "stiffness" {
             let stem = io::file_stem(val);
+            if let Some(other) = extra.get(&stem).and_then(|c| c.file.as_deref()) {
+                if other != val {
+                    return Err(bad(&format!(
+                        "stiffness files '{other}' and '{val}' have the same stem '{stem}'; component names come from file stems and must differ"
+                    )));
+                }
+            }
             extra.insert(
                 stem.clone(),
                 ComponentSpec {
@@ -142,7 +149,13 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
         .map(|j| parse_join(j, &mut extra))
         .collect::<Result<Vec<_>>>()?;
     for (k, v) in extra {
-        components.entry(k).or_insert(v);
+        if components.contains_key(&k) {
+            return Err(Error::usage(format!(
+                "the stiffness file '{}' has the stem '{k}' of a file being coupled; component names come from file stems and must differ",
+                v.file.as_deref().unwrap_or("")
+            )));
+        }
+        components.insert(k, v);
     }
     Ok(Recipe {
         format: recipe::RECIPE_FORMAT.into(),
@@ -348,6 +361,17 @@ mod tests {
             .unwrap_err()
             .message
             .contains("'x' is not a number"));
+        assert!(parse_join("a:1+Z=b:2+Z stiffness=other/iso.csv", &mut x)
+            .unwrap_err()
+            .message
+            .contains("the same stem 'iso'"));
+        let files = ["a.csv".to_string(), "iso.csv".to_string()];
+        assert!(
+            recipe_for(&files, &["a:1+Z=iso:1+Z stiffness=iso.csv"], None)
+                .unwrap_err()
+                .message
+                .contains("stem 'iso' of a file being coupled")
+        );
         assert!(parse_join("a=b q=1", &mut x)
             .unwrap_err()
             .message
