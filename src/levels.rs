@@ -184,7 +184,7 @@ impl Band {
     /// Band x of bandwidth 1/b.
     pub fn new(b: u32, index: i32) -> Result<Band> {
         if b == 0 || b > 48 {
-            return Err(Error::usage(format!(
+            return Err(Error::recipe(format!(
                 "band width 1/{b}: expected b between 1 (octave) and 48"
             )));
         }
@@ -355,7 +355,7 @@ pub fn mean_squares_df(
 ) -> Result<Vec<f64>> {
     if let Some(d) = df {
         if !(d.is_finite() && d > 0.0) {
-            return Err(Error::usage(format!(
+            return Err(Error::numeric(format!(
                 "PSD line width {d} Hz: expected a positive number"
             )));
         }

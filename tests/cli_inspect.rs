@@ -2,7 +2,7 @@
 
 mod common;
 
-use mortise::cli::run_cli;
+use mortise::cli::{execute, run_cli};
 use std::path::Path;
 
 fn argv(v: &[&str]) -> Vec<String> {
@@ -87,27 +87,36 @@ fn a_bad_file_among_good_ones_is_reported_and_the_rest_inspected() {
     let (a, b, c) = (p(&d, "wall.csv"), p(&d, "photo.png"), p(&d, "wall2.csv"));
     let mut args = vec!["inspect", a.as_str(), b.as_str(), c.as_str()];
     args.extend(wall_opts());
-    let e = run_cli(&argv(&args)).unwrap_err();
+    // the reports go to stdout, the failure (one message) to stderr
+    let o = execute(&argv(&args));
+    assert_eq!(o.code(), 1);
+    let e = o.error.as_ref().unwrap();
     assert_eq!(e.kind, mortise::ErrorKind::Unsupported);
-    let m = e.message;
+    assert!(
+        e.message.contains("1 of 3 file(s) could not be used"),
+        "{}",
+        e.message
+    );
+    assert!(
+        o.stderr.contains("photo.png: this looks like a PNG image"),
+        "{}",
+        o.stderr
+    );
+    let m = &o.stdout;
     assert!(m.contains("photo.png: this looks like a PNG image"), "{m}");
     assert!(m.contains("lines:   3, 20 Hz to 30 Hz"), "{m}");
     assert!(m.contains("lines:   3, 20 Hz to 40 Hz, uneven"), "{m}");
-    assert!(m.contains("1 of 3 file(s) could not be read"), "{m}");
     // a missing file too
     let gone = p(&d, "gone.csv");
     let e = run_cli(&argv(&["inspect", gone.as_str()])).unwrap_err();
     assert_eq!(e.kind, mortise::ErrorKind::Io);
-    assert!(
-        e.message.contains("gone.csv: cannot read the file"),
-        "{}",
-        e.message
-    );
-    // JSON mode lists the failure with its fields
+    assert!(e.message.contains("cannot read the file"), "{}", e.message);
+    assert!(e.file.as_deref().unwrap().ends_with("gone.csv"));
+    // JSON mode lists the failure with its fields, on stdout
     args.push("--json");
-    let e = run_cli(&argv(&args)).unwrap_err();
-    let j: serde_json::Value =
-        serde_json::from_str(e.message.split("1 of 3").next().unwrap()).unwrap();
+    let o = execute(&argv(&args));
+    assert_eq!(o.code(), 1);
+    let j: serde_json::Value = serde_json::from_str(&o.stdout).unwrap();
     assert_eq!(j["files"][1]["ok"], false);
     assert_eq!(j["files"][1]["error"]["kind"], "unsupported");
     assert_eq!(j["files"][2]["ok"], true);

@@ -5,22 +5,15 @@
 //! compact table per set (check, status, flagged bands, summary), or JSON
 //! with `--json`. `--pair A B` also compares the sets of A and B (the same
 //! component at two excitation levels) for linearity; when other files are
-//! listed too, write the pair as `--pair A,B`.
+//! listed too, write the pair as `--pair A,B`. A file that cannot be read is
+//! reported in its place and the others are still audited; the command then
+//! fails (exit 1). Options are in [`super::spec::AUDIT`].
 
-use super::Args;
+use super::{as_data, error_json, Args, Done};
 use crate::audit::{audit, audit_pair, AuditOptions, AuditReport};
-use crate::error::{Error, Result};
+use crate::error::{Error, ErrorKind, Result};
 use crate::frf::FrfSet;
 use crate::io::{self, ImportOptions, Loaded};
-
-const OPTIONS: &[&str] = &[
-    "json",
-    "tolerance-db",
-    "coherence-min",
-    "reciprocity-tol",
-    "condition-max",
-    "pair",
-];
 
 /// The audit of one file.
 #[derive(Debug, Clone, serde::Serialize)]
@@ -65,8 +58,10 @@ pub fn options(args: &Args) -> Result<AuditOptions> {
 }
 
 fn read(path: &str) -> Result<Loaded> {
-    let bytes = std::fs::read(path).map_err(|e| Error::io(e.to_string()).in_file(path))?;
+    let bytes = std::fs::read(path)
+        .map_err(|e| Error::io(format!("cannot read the file: {e}")).in_file(path))?;
     io::load(&bytes, &io::base_name(path), &ImportOptions::default())
+        .map_err(|e| as_data(e, ErrorKind::Parse).in_file(path))
 }
 
 fn with_file_warnings(set: &FrfSet, l: &Loaded) -> FrfSet {
@@ -100,7 +95,7 @@ pub fn audit_loaded_pair(
     opts: &AuditOptions,
 ) -> Result<FileAudit> {
     if a.1.sets.len() != b.1.sets.len() {
-        return Err(Error::usage(format!(
+        return Err(Error::missing(format!(
             "--pair: {} holds {} set(s) and {} holds {}; the linearity check pairs them in order",
             a.0,
             a.1.sets.len(),
@@ -112,7 +107,10 @@ pub fn audit_loaded_pair(
         a.1.sets
             .iter()
             .zip(&b.1.sets)
-            .map(|(x, y)| audit_pair(&with_file_warnings(x, a.1), y, opts))
+            .map(|(x, y)| {
+                audit_pair(&with_file_warnings(x, a.1), y, opts)
+                    .map_err(|e| as_data(e, ErrorKind::Quantity))
+            })
             .collect::<Result<Vec<_>>>()?;
     Ok(FileAudit {
         file: format!("{} with {}", a.0, b.0),
@@ -121,35 +119,61 @@ pub fn audit_loaded_pair(
     })
 }
 
-/// Text or JSON for a list of file audits.
-pub fn render(audits: &[FileAudit], json: bool) -> Result<String> {
+/// The audit of one file or pair, or why it could not be made.
+pub struct Entry {
+    /// The file (or "A with B" for a pair).
+    pub file: String,
+    pub result: Result<FileAudit>,
+}
+
+/// Text or JSON for a list of file audits, in the order given.
+pub fn render(entries: &[Entry], json: bool) -> Done {
     if json {
-        let v = serde_json::json!({
+        let audits: Vec<serde_json::Value> = entries
+            .iter()
+            .map(|e| match &e.result {
+                Ok(a) => {
+                    let mut v = serde_json::to_value(a).unwrap_or_else(|err| {
+                        serde_json::json!({ "file": e.file, "error": error_json(&super::internal(format!("audit as JSON: {err}"))) })
+                    });
+                    v["ok"] = true.into();
+                    v
+                }
+                Err(err) => serde_json::json!({
+                    "file": e.file,
+                    "ok": false,
+                    "error": error_json(err),
+                    "message": err.to_string(),
+                }),
+            })
+            .collect();
+        return Done::json(serde_json::json!({
             "audits": audits,
             "caution": crate::audit::CAUTION,
-        });
-        return serde_json::to_string_pretty(&v)
-            .map(|s| s + "\n")
-            .map_err(|e| Error::io(format!("JSON output: {e}")));
+        }));
     }
     let mut s = String::new();
-    for a in audits {
-        s.push_str(&format!("== {} ({})\n", a.file, a.format));
-        if a.reports.is_empty() {
-            s.push_str("  no sets\n");
-        }
-        for r in &a.reports {
-            s.push_str(&r.table());
+    for e in entries {
+        match &e.result {
+            Ok(a) => {
+                s.push_str(&format!("== {} ({})\n", a.file, a.format));
+                if a.reports.is_empty() {
+                    s.push_str("  no sets\n");
+                }
+                for r in &a.reports {
+                    s.push_str(&r.table());
+                }
+            }
+            Err(err) => s.push_str(&format!("== {}\n  error: {err}\n", e.file)),
         }
         s.push('\n');
     }
     s.push_str(crate::audit::CAUTION);
     s.push('\n');
-    Ok(s)
+    Done::text(s)
 }
 
-pub fn run(args: &Args) -> Result<String> {
-    args.only(OPTIONS)?;
+pub fn run(args: &Args) -> Result<Done> {
     let opts = options(args)?;
     let mut files: Vec<String> = args.positional.clone();
     let mut pair: Option<(String, String)> = None;
@@ -166,25 +190,38 @@ pub fn run(args: &Args) -> Result<String> {
     }
     if files.is_empty() && pair.is_none() {
         return Err(Error::usage(
-            "audit needs at least one file: mortise audit FILE... [--json] [--tolerance-db X] [--coherence-min X] [--pair A B]",
+            "audit needs at least one FILE (or --pair A,B)",
         ));
     }
-    let mut audits = Vec::new();
-    for f in &files {
-        let l = read(f)?;
-        audits.push(audit_loaded(f, &l, &opts));
-    }
+    let mut entries: Vec<Entry> = files
+        .iter()
+        .map(|f| Entry {
+            file: f.clone(),
+            result: read(f).map(|l| audit_loaded(f, &l, &opts)),
+        })
+        .collect();
     if let Some((a, b)) = pair {
-        let la = read(&a)?;
-        let lb = read(&b)?;
-        audits.push(audit_loaded_pair((&a, &la), (&b, &lb), &opts)?);
+        let result = read(&a).and_then(|la| {
+            let lb = read(&b)?;
+            audit_loaded_pair((&a, &la), (&b, &lb), &opts)
+        });
+        entries.push(Entry {
+            file: format!("{a} with {b}"),
+            result,
+        });
     }
-    render(&audits, args.flag("json"))
+    let failed: Vec<&Error> = entries
+        .iter()
+        .filter_map(|e| e.result.as_ref().err())
+        .collect();
+    let error = super::files_failed(&failed, entries.len(), "on standard output");
+    Ok(render(&entries, args.flag("json")).failed(error))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::cli::Body;
     use crate::frf::{Direction, Dof};
     use crate::units::Quantity;
     use num_complex::Complex64;
@@ -211,27 +248,39 @@ mod tests {
         h
     }
 
+    fn parse(s: &[&str]) -> Args {
+        Args::parse(&v(s), &crate::cli::spec::AUDIT).unwrap()
+    }
+
     #[test]
     fn options_are_checked() {
-        let a = Args::parse(&v(&["x.uff", "--coherence-min", "1.5"])).unwrap();
+        let a = parse(&["x.uff", "--coherence-min", "1.5"]);
         assert!(run(&a).unwrap_err().message.contains("coherence-min"));
-        let a = Args::parse(&v(&["x.uff", "--bogus", "1"])).unwrap();
-        assert!(run(&a).is_err());
-        let a = Args::parse(&v(&[])).unwrap();
-        assert!(run(&a).unwrap_err().message.contains("at least one file"));
-        let a = Args::parse(&v(&["a", "--pair", "b", "c"])).unwrap();
+        assert!(Args::parse(&v(&["x.uff", "--bogus", "1"]), &crate::cli::spec::AUDIT).is_err());
+        let a = parse(&[]);
+        assert!(run(&a).unwrap_err().message.contains("at least one FILE"));
+        let a = parse(&["a", "--pair", "b", "c"]);
         assert!(run(&a).unwrap_err().message.contains("--pair A,B"));
-        let a = Args::parse(&v(&["--tolerance-db", "0.5", "--coherence-min", "0.8"])).unwrap();
+        let a = parse(&["--tolerance-db", "0.5", "--coherence-min", "0.8"]);
         let o = options(&a).unwrap();
         assert_eq!((o.linearity_tol_db, o.coherence_min), (0.5, 0.8));
     }
 
     #[test]
     fn missing_file_is_named() {
-        let a = Args::parse(&v(&["/nonexistent/dir/casing.uff"])).unwrap();
-        let e = run(&a).unwrap_err();
+        let a = parse(&["/nonexistent/dir/casing.uff"]);
+        let d = run(&a).unwrap();
+        let e = d.error.unwrap();
         assert_eq!(e.kind, crate::error::ErrorKind::Io);
         assert_eq!(e.file.as_deref(), Some("/nonexistent/dir/casing.uff"));
+        assert!(e.message.contains("cannot read the file"), "{}", e.message);
+        let Body::Text(t) = d.body else {
+            panic!("text expected")
+        };
+        assert!(
+            t.contains("== /nonexistent/dir/casing.uff\n  error: "),
+            "{t}"
+        );
     }
 
     #[test]
@@ -249,13 +298,21 @@ mod tests {
         let opts = AuditOptions::default();
         let one = audit_loaded("seat.csv", &l, &opts);
         let two = audit_loaded_pair(("seat.csv", &l), ("seat-high.csv", &h), &opts).unwrap();
-        let text = render(&[one.clone(), two], false).unwrap();
+        let entry = |a: &FileAudit| Entry {
+            file: a.file.clone(),
+            result: Ok(a.clone()),
+        };
+        let Body::Text(text) = render(&[entry(&one), entry(&two)], false).body else {
+            panic!("text expected")
+        };
         print!("{text}");
         assert!(text.contains("== seat.csv (csv-mortise)"));
         assert!(text.contains("linearity") && text.contains("FLAG"));
         assert!(text.contains("import") && text.contains("unit 'mm'"));
         assert!(text.contains("licensed professional"));
-        let j: serde_json::Value = serde_json::from_str(&render(&[one], true).unwrap()).unwrap();
+        let Body::Json(j) = render(&[entry(&one)], true).body else {
+            panic!("JSON expected")
+        };
         assert_eq!(
             j["audits"][0]["reports"][0]["checks"][1]["check"],
             "passivity"

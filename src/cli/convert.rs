@@ -1,23 +1,15 @@
 //! `mortise convert IN... -o OUT [--to uff|uff-binary|csv|bundle] [--kind KIND] [--units si]`:
 //! read every input (column-map options as for `inspect`), optionally change
-//! the FRF kind, and write all sets to OUT. A file that cannot be read is
-//! reported, the others are still written, and the command then fails.
+//! the FRF kind, and write all sets to OUT. A file or set that cannot be read
+//! or converted is reported, the others are still written, and the command
+//! then fails (exit 1). Options are in [`super::spec::CONVERT`].
 
-use super::inspect::{import_options, load_files, IMPORT_OPTIONS, MAP_HELP};
-use super::Args;
-use crate::error::{Error, Result};
+use super::inspect::{import_options, load_files};
+use super::{as_data, error_json, Args, Done};
+use crate::error::{Error, ErrorKind, Result};
+use crate::frf::FrfKind;
 use crate::grid::{to_common_grid, GridChoice, Interp};
 use crate::io::{self, ExportFormat};
-
-const USAGE: &str = "usage: mortise convert IN... -o OUT [--to uff|uff-binary|csv|bundle] [--kind KIND] [--units si] [column-map options]
-  --to       output format; default from OUT's extension (.uff/.unv, .csv, .json)
-  --kind     receptance, mobility, accelerance, dynamic-stiffness, impedance or apparent-mass
-  --units    si (every format mortise writes holds SI values)
-  --grid     finest|coarsest|START:STOP:STEP  put every set on one grid: the finest or
-             coarsest of the inputs' lines inside the range all cover, or an even grid in Hz
-             (never extrapolated: a grid beyond any input's range is an error)
-  --interp   re-im|log-mag-phase  interpolation for --grid (default re-im)
-";
 
 /// Parse `--grid`.
 fn grid_choice(text: &str) -> Result<GridChoice> {
@@ -54,20 +46,12 @@ fn grid_choice(text: &str) -> Result<GridChoice> {
     })
 }
 
-pub fn run(args: &Args) -> Result<String> {
-    if args.flag("help") {
-        return Ok(format!("{USAGE}\n{MAP_HELP}"));
-    }
-    let mut known = vec!["o", "to", "kind", "units", "grid", "interp", "help"];
-    known.extend_from_slice(IMPORT_OPTIONS);
-    args.only(&known)?;
+pub fn run(args: &Args) -> Result<Done> {
     if args.positional.is_empty() {
-        return Err(Error::usage(format!(
-            "convert needs at least one input file\n{USAGE}"
-        )));
+        return Err(Error::usage("convert needs at least one input file"));
     }
     let Some(out_path) = args.value("o") else {
-        return Err(Error::usage(format!("convert needs -o OUT\n{USAGE}")));
+        return Err(Error::usage("convert needs -o OUT"));
     };
     let fmt = match args.value("to") {
         Some(t) => ExportFormat::parse(t)?,
@@ -86,20 +70,30 @@ pub fn run(args: &Args) -> Result<String> {
             )))
         }
     }
+    let kind = args.value("kind");
+    if let Some(k) = kind {
+        FrfKind::quantities(k).map_err(|e| Error::usage(format!("--kind: {}", e.message)))?;
+    }
     let grid = args.value("grid").map(grid_choice).transpose()?;
     let interp = match args.value("interp") {
-        Some(i) => Interp::parse(i)?,
+        Some(i) => {
+            Interp::parse(i).map_err(|e| Error::usage(format!("--interp: {}", e.message)))?
+        }
         None => Interp::default(),
     };
     if args.value("interp").is_some() && grid.is_none() {
         return Err(Error::usage("--interp needs --grid"));
     }
+    let json = args.flag("json");
     let opts = import_options(args)?;
     let results = load_files(&args.positional, &opts);
     let mut report = String::new();
+    let mut inputs = Vec::new();
     let mut sets = Vec::new();
-    let mut failures = Vec::new();
+    let mut failures: Vec<Error> = Vec::new();
+    let mut failed_files = 0;
     for f in results {
+        let mut entry = serde_json::json!({ "file": f.path, "sha256": f.sha256 });
         match f.result {
             Ok(l) => {
                 report.push_str(&format!(
@@ -111,75 +105,114 @@ pub fn run(args: &Args) -> Result<String> {
                 for w in &l.warnings {
                     report.push_str(&format!("  warning: {w}\n"));
                 }
+                let mut names = Vec::new();
+                let mut errors = Vec::new();
                 for s in l.sets {
-                    let s = match args.value("kind") {
-                        None => s,
-                        Some(k) => {
-                            if s.signal.is_some() {
-                                failures.push(
-                                    Error::quantity(format!(
-                                        "'{}' is a spectrum, not an FRF; --kind does not apply",
-                                        s.name
-                                    ))
-                                    .in_file(f.path.as_str()),
-                                );
-                                continue;
-                            }
-                            match s.to_kind(k) {
-                                Ok(c) => c,
-                                Err(e) => {
-                                    failures.push(e.in_file(f.path.as_str()));
-                                    continue;
-                                }
-                            }
-                        }
+                    let s = match kind {
+                        None => Ok(s),
+                        Some(_) if s.signal.is_some() => Err(Error::quantity(format!(
+                            "'{}' is a spectrum, not an FRF; --kind does not apply",
+                            s.name
+                        ))),
+                        Some(k) => s.to_kind(k).map_err(|e| as_data(e, ErrorKind::Quantity)),
                     };
-                    sets.push(s);
+                    match s {
+                        Ok(s) => {
+                            names.push(s.name.clone());
+                            sets.push(s);
+                        }
+                        Err(e) => {
+                            let e = e.in_file(f.path.as_str());
+                            report.push_str(&format!("  error: {e}\n"));
+                            errors.push(e);
+                        }
+                    }
                 }
+                entry["ok"] = errors.is_empty().into();
+                entry["format"] = l.format.name().into();
+                entry["sets"] = names.into();
+                entry["warnings"] = l.warnings.into();
+                entry["errors"] = errors.iter().map(error_json).collect::<Vec<_>>().into();
+                if !errors.is_empty() {
+                    failed_files += 1;
+                }
+                failures.extend(errors);
             }
-            Err(e) => failures.push(e),
+            Err(e) => {
+                report.push_str(&format!("error: {e}\n"));
+                entry["ok"] = false.into();
+                entry["error"] = error_json(&e);
+                entry["message"] = e.to_string().into();
+                failed_files += 1;
+                failures.push(e);
+            }
         }
+        inputs.push(entry);
     }
-    for e in &failures {
-        report.push_str(&format!("error: {e}\n"));
-    }
+    let n_inputs = inputs.len();
+    let mut result = serde_json::json!({ "inputs": inputs, "output": null });
+    let problems = |what: &str| -> Option<Error> {
+        let first = failures.first()?;
+        Some(Error::new(
+            first.kind,
+            format!(
+                "{} problem(s) in {failed_files} of {n_inputs} file(s) (each is reported on standard output); {what}; the first: {first}",
+                failures.len()
+            ),
+        ))
+    };
     if sets.is_empty() {
-        return Err(Error::new(
-            failures
-                .first()
-                .map_or(crate::ErrorKind::Missing, |e| e.kind),
-            format!("{report}nothing to write: no input could be read"),
-        ));
+        let error = problems("nothing was written")
+            .unwrap_or_else(|| Error::missing("the inputs hold no FRF set; nothing was written"));
+        return Ok(done(json, report, result).failed(Some(error)));
     }
     if let Some(g) = &grid {
-        let (freqs, resampled) = to_common_grid(&sets, g, interp)?;
+        let (freqs, resampled) = match to_common_grid(&sets, g, interp) {
+            Ok(x) => x,
+            Err(e) => return Ok(done(json, report, result).failed(Some(e))),
+        };
+        let (first, last) = (freqs.first().copied(), freqs.last().copied());
         report.push_str(&format!(
             "grid: {} lines, {} Hz to {} Hz, {}\n",
             freqs.len(),
-            freqs[0],
-            freqs[freqs.len() - 1],
+            first.unwrap_or(f64::NAN),
+            last.unwrap_or(f64::NAN),
             interp.name()
         ));
+        result["grid"] = serde_json::json!({
+            "lines": freqs.len(), "first_hz": first, "last_hz": last, "interp": interp.name()
+        });
         sets = resampled;
     }
-    let bytes = io::save(&sets, fmt)?;
-    std::fs::write(out_path, &bytes)
-        .map_err(|e| Error::io(format!("cannot write: {e}")).in_file(out_path))?;
+    let written = io::save(&sets, fmt)
+        .map_err(|e| as_data(e, ErrorKind::Internal))
+        .and_then(|bytes| {
+            std::fs::write(out_path, &bytes)
+                .map_err(|e| Error::io(format!("cannot write: {e}")).in_file(out_path))?;
+            Ok(bytes)
+        });
+    let bytes = match written {
+        Ok(b) => b,
+        Err(e) => return Ok(done(json, report, result).failed(Some(e))),
+    };
+    let sha = io::sha256_hex(&bytes);
     report.push_str(&format!(
-        "wrote {out_path}: {}, {} set(s), {} bytes, sha256 {}\n",
+        "wrote {out_path}: {}, {} set(s), {} bytes, sha256 {sha}\n",
         fmt.name(),
         sets.len(),
         bytes.len(),
-        io::sha256_hex(&bytes)
     ));
-    match failures.first() {
-        None => Ok(report),
-        Some(e) => Err(Error::new(
-            e.kind,
-            format!(
-                "{report}{} problem(s); the sets that could be read were written",
-                failures.len()
-            ),
-        )),
+    result["output"] = serde_json::json!({
+        "file": out_path, "format": fmt.name(), "sets": sets.len(), "bytes": bytes.len(), "sha256": sha
+    });
+    let error = problems("the sets that could be read were written");
+    Ok(done(json, report, result).failed(error))
+}
+
+fn done(json: bool, text: String, result: serde_json::Value) -> Done {
+    if json {
+        Done::json(result)
+    } else {
+        Done::text(text)
     }
 }

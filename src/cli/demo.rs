@@ -4,19 +4,25 @@
 //! fail if any differs (so the committed files stay what the code makes).
 //! Every value is invented.
 
-use super::Args;
+use super::{Args, Done};
 use crate::demo_files::files;
 use crate::error::{Error, Result};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
-pub fn run(args: &Args) -> Result<String> {
-    args.only(&["o", "check"])?;
+pub fn run(args: &Args) -> Result<Done> {
+    if let Some(p) = args.positional.first() {
+        return Err(Error::usage(format!(
+            "demo takes no operand; found '{p}' (the directory is given with -o DIR)"
+        )));
+    }
     let dir = PathBuf::from(args.value("o").unwrap_or("sample-frf"));
     let check = args.flag("check");
     let mut out = String::new();
-    std::fs::create_dir_all(&dir)
-        .map_err(|e| Error::io(format!("cannot create '{}': {e}", dir.display())))?;
+    if !check {
+        std::fs::create_dir_all(&dir)
+            .map_err(|e| Error::io(format!("cannot create '{}': {e}", dir.display())))?;
+    }
     let mut stale = Vec::new();
     for (name, bytes) in files()? {
         let p = dir.join(&name);
@@ -42,5 +48,5 @@ pub fn run(args: &Args) -> Result<String> {
         }
         let _ = writeln!(out, "demo files in {} are current", dir.display());
     }
-    Ok(out)
+    Ok(Done::text(out))
 }

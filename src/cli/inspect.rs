@@ -1,12 +1,13 @@
 //! `mortise inspect FILE... [--json]`: what each file holds (format, FRFs,
 //! DOFs, quantities, units, grid, SHA-256, warnings). A file that cannot be
-//! read is reported and the others are still inspected; the command then
-//! fails with every report in its message.
+//! read is reported in its place (in the text, or with its error in the JSON)
+//! and the others are still inspected; the command then fails (exit 1).
 //!
-//! Also home of the column-map options shared with `mortise convert`.
+//! Also home of the column-map options shared with `mortise convert` (their
+//! definitions are in [`super::spec::IMPORT_OPTS`]).
 
-use super::Args;
-use crate::error::{Error, Result};
+use super::{as_data, Args, Done};
+use crate::error::{Error, ErrorKind, Result};
 use crate::frf::{labels, FrfSet};
 use crate::grid::{spacing, Spacing};
 use crate::io::csv::{
@@ -14,63 +15,6 @@ use crate::io::csv::{
 };
 use crate::io::{self, ImportOptions, Loaded};
 use crate::units::Quantity;
-
-/// Help text for the column-map options (printed by `--help` and in the usage).
-pub const MAP_HELP: &str = "\
-column-map options (for CSV/TSV files not in mortise's own layout):
-  --map MAP.json           a saved column map (JSON), instead of the options below
-  --delim auto|comma|semicolon|tab|space   cell separator (default auto)
-  --skip N                 lines before the first data row (default 0)
-  --header-line N          line holding the column names (default: the last skipped line)
-  --decimal point|comma    decimal separator (default point)
-  --freq-col C             frequency column (default 1); C is a 1-based number or a header name
-  --freq-unit hz|khz|rad/s (default hz)
-  --out-dof D --in-dof D   DOFs of one FRF, e.g. wall:A1+Z; repeat the group for each FRF
-  --re C --im C            real and imaginary part columns, or
-  --mag C --phase C        magnitude and phase columns, or
-  --value C                one real value column
-  --coh C                  coherence column (give one per FRF, or none)
-  --mag-db-ref R           magnitude is a level in dB re R (in --unit); default: linear
-  --phase-unit deg|rad     (default deg)
-  --unit U                 value unit, e.g. g/N, mm/s/N, N/mm, Pa/N (default: SI)
-  --out-qty Q --in-qty Q   displacement, velocity, acceleration, force, pressure, ...
-  --signal peak|rms|autopower|psd   what the file's spectra are: for UFF, function type 12
-                           (else read as peak); for CSV, the columns are spectra
-                           (no --in-dof/--in-qty)
-  --time-convention +iwt|-iwt       the supplier's convention (-iwt: values are conjugated)
-  --set-name NAME          name of the set read (default: the component name)
-  --component NAME         component namespace for DOFs without one (default: file stem)
-";
-
-/// The column-map and import option names, for `Args::only`.
-pub const IMPORT_OPTIONS: &[&str] = &[
-    "component",
-    "map",
-    "delim",
-    "skip",
-    "header-line",
-    "decimal",
-    "freq-col",
-    "freq-unit",
-    "out-dof",
-    "in-dof",
-    "re",
-    "im",
-    "mag",
-    "phase",
-    "value",
-    "stiffness",
-    "loss",
-    "coh",
-    "mag-db-ref",
-    "phase-unit",
-    "unit",
-    "out-qty",
-    "in-qty",
-    "signal",
-    "time-convention",
-    "set-name",
-];
 
 fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
     match args.value(name) {
@@ -85,15 +29,19 @@ fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
 
 /// Import options from the command line: the component name, the spectrum
 /// kind (`--signal`, for any format) and, when any column-map option (or
-/// `--map`) is given, a [`ColumnMap`].
+/// `--map`) is given, a [`ColumnMap`]. Every mistake a column map from options
+/// can hold is refused here, as a usage error; what the reader refuses later
+/// is about the file (or a `--map` file).
 pub fn import_options(args: &Args) -> Result<ImportOptions> {
     let component = args.value("component").map(str::to_string);
     let signal = args
         .value("signal")
         .map(|s| io::parse_signal(s).map_err(|e| Error::usage(format!("--signal: {}", e.message))))
         .transpose()?;
-    let map_opts = &IMPORT_OPTIONS[2..];
-    let any_col = map_opts.iter().any(|o| *o != "signal" && args.flag(o));
+    let any_col = super::spec::IMPORT_OPTS
+        .iter()
+        .filter(|o| o.name != "component" && o.name != "map" && o.name != "signal")
+        .any(|o| args.flag(o.name));
     if let Some(path) = args.value("map") {
         if any_col {
             return Err(Error::usage(
@@ -120,6 +68,23 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             column_map: None,
         });
     }
+    for name in [
+        "freq-col",
+        "re",
+        "im",
+        "mag",
+        "phase",
+        "value",
+        "stiffness",
+        "loss",
+        "coh",
+    ] {
+        for c in args.values(name) {
+            if c.trim().parse::<usize>() == Ok(0) {
+                return Err(Error::usage(format!("--{name} {c}: columns count from 1")));
+            }
+        }
+    }
     let mut m = ColumnMap::default();
     if let Some(d) = args.value("delim") {
         m.delimiter = Delimiter::parse(d)?;
@@ -135,6 +100,11 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             )))
         }
     };
+    if m.decimal_comma && m.delimiter == Delimiter::Comma {
+        return Err(Error::usage(
+            "--decimal comma needs a --delim other than comma (semicolon, tab or space)",
+        ));
+    }
     if let Some(c) = args.value("freq-col") {
         m.freq = ColumnRef::parse(c);
     }
@@ -281,8 +251,11 @@ pub struct FileResult {
     pub result: Result<Loaded>,
 }
 
-/// Read and load every file; failures are kept, with the file name.
+/// Read and load every file; failures are kept, with the file name. (A
+/// usage error from the reader is about the file, or a `--map` file: a data
+/// error.)
 pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
+    let data = |e: Error| as_data(e, ErrorKind::Parse);
     paths
         .iter()
         .map(|p| match std::fs::read(p) {
@@ -294,7 +267,7 @@ pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
             Ok(bytes) => FileResult {
                 path: p.clone(),
                 sha256: Some(io::sha256_hex(&bytes)),
-                result: io::load(&bytes, p, opts),
+                result: io::load(&bytes, p, opts).map_err(data),
             },
         })
         .collect()
@@ -422,19 +395,9 @@ fn set_text(n: usize, s: &FrfSet, out: &mut String) {
     }
 }
 
-pub fn run(args: &Args) -> Result<String> {
-    if args.flag("help") {
-        return Ok(format!(
-            "usage: mortise inspect FILE... [--json] [column-map options]\n\n{MAP_HELP}"
-        ));
-    }
-    let mut known = vec!["json", "help"];
-    known.extend_from_slice(IMPORT_OPTIONS);
-    args.only(&known)?;
+pub fn run(args: &Args) -> Result<Done> {
     if args.positional.is_empty() {
-        return Err(Error::usage(format!(
-            "inspect needs at least one file\nusage: mortise inspect FILE... [--json] [column-map options]\n\n{MAP_HELP}"
-        )));
+        return Err(Error::usage("inspect needs at least one FILE"));
     }
     let opts = import_options(args)?;
     let results = load_files(&args.positional, &opts);
@@ -442,9 +405,8 @@ pub fn run(args: &Args) -> Result<String> {
         .iter()
         .filter_map(|f| f.result.as_ref().err())
         .collect();
-    let n_failed = failed.len();
-    let first_kind = failed.first().map(|e| e.kind);
-    let out = if args.flag("json") {
+    let error = super::files_failed(&failed, results.len(), "on standard output");
+    if args.flag("json") {
         let files: Vec<serde_json::Value> = results
             .iter()
             .map(|f| match &f.result {
@@ -460,45 +422,31 @@ pub fn run(args: &Args) -> Result<String> {
                     "file": f.path,
                     "ok": false,
                     "sha256": f.sha256,
-                    "error": e,
+                    "error": super::error_json(e),
                     "message": e.to_string(),
                 }),
             })
             .collect();
-        let mut s = serde_json::to_string_pretty(&serde_json::json!({ "files": files }))
-            .map_err(|e| Error::parse(e.to_string()))?;
-        s.push('\n');
-        s
-    } else {
-        let mut out = String::new();
-        for f in &results {
-            out.push_str(&format!("{}\n", f.path));
-            if let Some(h) = &f.sha256 {
-                out.push_str(&format!("  sha256: {h}\n"));
-            }
-            match &f.result {
-                Ok(l) => {
-                    out.push_str(&format!("  format: {}\n", l.format.name()));
-                    for (n, s) in l.sets.iter().enumerate() {
-                        set_text(n + 1, s, &mut out);
-                    }
-                    for w in &l.warnings {
-                        out.push_str(&format!("  warning: {w}\n"));
-                    }
-                }
-                Err(e) => out.push_str(&format!("  error: {e}\n")),
-            }
-        }
-        out
-    };
-    match first_kind {
-        None => Ok(out),
-        Some(kind) => Err(Error::new(
-            kind,
-            format!(
-                "{out}{n_failed} of {} file(s) could not be read (the others are reported above)",
-                results.len()
-            ),
-        )),
+        return Ok(Done::json(serde_json::json!({ "files": files })).failed(error));
     }
+    let mut out = String::new();
+    for f in &results {
+        out.push_str(&format!("{}\n", f.path));
+        if let Some(h) = &f.sha256 {
+            out.push_str(&format!("  sha256: {h}\n"));
+        }
+        match &f.result {
+            Ok(l) => {
+                out.push_str(&format!("  format: {}\n", l.format.name()));
+                for (n, s) in l.sets.iter().enumerate() {
+                    set_text(n + 1, s, &mut out);
+                }
+                for w in &l.warnings {
+                    out.push_str(&format!("  warning: {w}\n"));
+                }
+            }
+            Err(e) => out.push_str(&format!("  error: {e}\n")),
+        }
+    }
+    Ok(Done::text(out).failed(error))
 }

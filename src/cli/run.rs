@@ -1,32 +1,69 @@
 //! `mortise run RECIPE -o OUTDIR`: execute a recipe from files alone and write
 //! every requested output as UFF 58 and as our CSV, plus `report.json`.
 
-use super::Args;
-use crate::error::{Error, Result};
+use super::{as_data, internal, Args, Done};
+use crate::error::{Error, ErrorKind, Result};
 use crate::io::{self, ExportFormat};
 use crate::recipe::{self, DirSource, RunResult};
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
-pub fn run(args: &Args) -> Result<String> {
-    args.only(&["o", "quiet"])?;
-    let [path] = args.positional.as_slice() else {
-        return Err(Error::usage("usage: mortise run RECIPE -o OUTDIR"));
+pub fn run(args: &Args) -> Result<Done> {
+    let path = match args.positional.as_slice() {
+        [p] => p,
+        [] => return Err(Error::usage("run needs a RECIPE file")),
+        more => {
+            return Err(Error::usage(format!(
+                "run takes one RECIPE; found {} operands ({})",
+                more.len(),
+                more.join(" ")
+            )))
+        }
     };
     let out = PathBuf::from(
         args.value("o")
-            .ok_or_else(|| Error::usage("mortise run needs -o OUTDIR"))?,
+            .ok_or_else(|| Error::usage("run needs -o OUTDIR"))?,
     );
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
-    let r = recipe::parse(&text).map_err(|e| e.in_file(path.as_str()))?;
-    let dir = Path::new(path)
-        .parent()
-        .map(Path::to_path_buf)
-        .unwrap_or_default();
-    let res = recipe::run(&r, &DirSource(dir)).map_err(|e| e.in_file(path.as_str()))?;
-    write_outputs(&res, &out)?;
-    Ok(summary(&r.title, &res, &out))
+    let json = args.flag("json");
+    let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
+    let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
+        let r = recipe::parse(&text)
+            .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+        let dir = Path::new(path)
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_default();
+        let res = recipe::run(&r, &DirSource(dir))
+            .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+        let w = write_outputs(&res, &out)?;
+        Ok((r, res, w))
+    })();
+    match ran {
+        Ok((r, res, w)) => {
+            if !json {
+                return Ok(Done::text(summary(&r.title, &res, &out)));
+            }
+            result["title"] = r.title.clone().into();
+            result["files"] = w.files.into();
+            result["headline"] = res.report.headline.clone().into();
+            result["report"] = serde_json::to_value(&w.report)
+                .map_err(|e| internal(format!("report as JSON: {e}")))?;
+            result["caution"] = super::CAUTION.into();
+            Ok(Done::json(result))
+        }
+        Err(e) if json => Ok(Done::json(result).failed(Some(e))),
+        Err(e) => Err(e),
+    }
+}
+
+/// What [`write_outputs`] wrote.
+pub struct Written {
+    /// Every file written, report.json last.
+    pub files: Vec<String>,
+    /// The report as written (with `uff_node_numbers`).
+    pub report: crate::recipe::RunReport,
 }
 
 /// File-name-safe form of an output name.
@@ -46,32 +83,38 @@ pub fn safe_name(name: &str) -> String {
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
 /// numbers under `uff_node_numbers`.
-pub fn write_outputs(res: &RunResult, out: &Path) -> Result<()> {
+pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
     let mut report = res.report.clone();
     let mut numbers = std::collections::BTreeMap::new();
+    let mut files = Vec::new();
     for s in &res.outputs {
         let base = safe_name(&s.name);
         for (fmt, ext) in [(ExportFormat::Uff, "uff"), (ExportFormat::Csv, "csv")] {
-            let ex = io::export(std::slice::from_ref(s), fmt)?;
+            let ex = io::export(std::slice::from_ref(s), fmt)
+                .map_err(|e| as_data(e, ErrorKind::Internal))?;
             if !ex.node_numbers.is_empty() {
                 numbers.insert(
                     s.name.clone(),
-                    serde_json::to_value(&ex.node_numbers).unwrap_or_default(),
+                    serde_json::to_value(&ex.node_numbers)
+                        .map_err(|e| internal(format!("UFF node numbers as JSON: {e}")))?,
                 );
             }
             let p = out.join(format!("{base}.{ext}"));
             std::fs::write(&p, ex.bytes)
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+            files.push(p.display().to_string());
         }
     }
     report.uff_node_numbers = numbers;
     let p = out.join("report.json");
-    let text = serde_json::to_string_pretty(&report).map_err(|e| Error::io(e.to_string()))?;
+    let text = serde_json::to_string_pretty(&report)
+        .map_err(|e| internal(format!("report as JSON: {e}")))?;
     std::fs::write(&p, text)
         .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
-    Ok(())
+    files.push(p.display().to_string());
+    Ok(Written { files, report })
 }
 
 /// What `mortise run` prints.

@@ -104,7 +104,7 @@ pub fn blocked_forces(
         )));
     }
     if !(opts.rel_threshold >= 0.0 && opts.rel_threshold < 1.0) {
-        return Err(Error::usage(format!(
+        return Err(Error::recipe(format!(
             "SVD threshold {}: expected a fraction in [0, 1)",
             opts.rel_threshold
         )));

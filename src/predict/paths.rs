@@ -70,10 +70,13 @@ pub fn path_contributions(
     let mut row_path = vec![usize::MAX; exc.n_out()];
     for g in groups {
         if g.inputs.is_empty() {
-            return Err(Error::usage(format!("path group '{}' has no DOFs", g.name)));
+            return Err(Error::recipe(format!(
+                "path group '{}' has no DOFs",
+                g.name
+            )));
         }
         if paths.contains(&g.name) {
-            return Err(Error::usage(format!(
+            return Err(Error::recipe(format!(
                 "path group '{}' is named twice",
                 g.name
             )));
@@ -89,7 +92,7 @@ pub fn path_contributions(
                 ))
             })?;
             if row_path[r] != usize::MAX {
-                return Err(Error::usage(format!(
+                return Err(Error::dof(format!(
                     "{d} is in path groups '{}' and '{}'; a DOF belongs to one path",
                     paths[row_path[r]], g.name
                 )));

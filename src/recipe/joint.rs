@@ -236,6 +236,19 @@ impl JointSpec {
                 })?,
             },
         };
+        // a joint that neither stiffens nor damps joins nothing (its
+        // flexibility would be infinite)
+        let zero = match &jt {
+            JointType::Spring { k } | JointType::Hysteretic { k, .. } => *k == 0.0,
+            JointType::Damper { c } => *c == 0.0,
+            JointType::SpringDamper { k, c, .. } => *k == 0.0 && c.unwrap_or(0.0) == 0.0,
+            _ => false,
+        };
+        if zero {
+            return Err(Error::recipe(format!(
+                "joint type '{name}' with zero stiffness and damping joins nothing; give k > 0 (or c > 0), or leave the joint out"
+            )));
+        }
         Ok(JointSpec {
             a,
             b,

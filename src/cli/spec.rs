@@ -1,0 +1,628 @@
+//! The one definition of every command and its options. The argument parser
+//! ([`super::Args::parse`]) accepts exactly the options listed here for the
+//! command, and the help text (`mortise help CMD`, `mortise CMD --help`) is
+//! rendered from the same table, so an option cannot be accepted without
+//! being documented, nor documented without being accepted.
+
+/// One option of a command.
+#[derive(Debug, Clone, Copy)]
+pub struct Opt {
+    /// Name without dashes; a one-letter name is written `-x`, a longer one `--name`.
+    pub name: &'static str,
+    /// Placeholder of the value in the help, or "" for a flag (no value).
+    pub value: &'static str,
+    /// May be given more than once (every value is used, in order).
+    pub repeat: bool,
+    /// What it does, and its default.
+    pub help: &'static str,
+}
+
+const fn flag(name: &'static str, help: &'static str) -> Opt {
+    Opt {
+        name,
+        value: "",
+        repeat: false,
+        help,
+    }
+}
+const fn val(name: &'static str, value: &'static str, help: &'static str) -> Opt {
+    Opt {
+        name,
+        value,
+        repeat: false,
+        help,
+    }
+}
+const fn many(name: &'static str, value: &'static str, help: &'static str) -> Opt {
+    Opt {
+        name,
+        value,
+        repeat: true,
+        help,
+    }
+}
+
+impl Opt {
+    pub fn is_flag(&self) -> bool {
+        self.value.is_empty()
+    }
+    /// `--name` or `-x`, as typed.
+    pub fn spelled(&self) -> String {
+        if self.name.len() == 1 {
+            format!("-{}", self.name)
+        } else {
+            format!("--{}", self.name)
+        }
+    }
+}
+
+/// A titled group of options.
+#[derive(Debug, Clone, Copy)]
+pub struct Group {
+    pub title: &'static str,
+    pub opts: &'static [Opt],
+}
+
+/// One command: what the general help, the command's help and the parser use.
+#[derive(Debug, Clone, Copy)]
+pub struct Command {
+    pub name: &'static str,
+    /// One line for the general help.
+    pub summary: &'static str,
+    /// The synopsis after `usage:`.
+    pub usage: &'static str,
+    /// What it does, operands included (paragraphs separated by blank lines).
+    pub about: &'static str,
+    pub groups: &'static [Group],
+    /// One example command line (runs as written from the repository's root).
+    pub example: &'static str,
+}
+
+/// The help option every command takes (handled by the parser).
+pub const HELP_OPT: Opt = flag("help", "print this help and exit");
+
+const JSON_OPT: Opt = flag(
+    "json",
+    "print one JSON document on standard output instead of text, also when something fails: \
+     \"ok\", \"exit_code\", the results and, on failure, \"error\" with its kind, file, line or \
+     byte, field and message (default: text)",
+);
+
+/// Column-map and import options (inspect and convert).
+pub const IMPORT_OPTS: &[Opt] = &[
+    val(
+        "component",
+        "NAME",
+        "component namespace for DOFs that name none (default: the file stem)",
+    ),
+    val(
+        "map",
+        "MAP.json",
+        "a saved column map (JSON, as in a recipe's \"column_map\"), instead of the options below",
+    ),
+    val(
+        "delim",
+        "D",
+        "cell separator: auto, comma, semicolon, tab or space (default auto)",
+    ),
+    val("skip", "N", "lines before the first data row (default 0)"),
+    val(
+        "header-line",
+        "N",
+        "1-based line holding the column names (default: the last skipped line)",
+    ),
+    val(
+        "decimal",
+        "SEP",
+        "decimal separator: point or comma (default point)",
+    ),
+    val(
+        "freq-col",
+        "C",
+        "frequency column (default 1); C is a 1-based column number or a header name",
+    ),
+    val(
+        "freq-unit",
+        "U",
+        "unit of the frequency column: hz, khz or rad/s (default hz)",
+    ),
+    many(
+        "out-dof",
+        "D",
+        "output DOF of one FRF, e.g. wall:A1+Z; give one --out-dof (and one --in-dof) per FRF, \
+         in the order of the value columns (required with a column map)",
+    ),
+    many(
+        "in-dof",
+        "D",
+        "input DOF of one FRF (required with a column map, except for spectra: --signal)",
+    ),
+    many(
+        "re",
+        "C",
+        "real-part column of one FRF (with --im; one per FRF)",
+    ),
+    many("im", "C", "imaginary-part column of one FRF (with --re)"),
+    many(
+        "mag",
+        "C",
+        "magnitude column of one FRF (with --phase; linear unless --mag-db-ref)",
+    ),
+    many("phase", "C", "phase column of one FRF (with --mag)"),
+    many(
+        "value",
+        "C",
+        "one real value column per FRF (no phase: the imaginary part is zero)",
+    ),
+    many(
+        "stiffness",
+        "C",
+        "storage stiffness K' column of one FRF (with --loss): the value is K'(1 + iη)",
+    ),
+    many(
+        "loss",
+        "C",
+        "loss factor η column of one FRF (with --stiffness)",
+    ),
+    many(
+        "coh",
+        "C",
+        "coherence column of one FRF (give one per FRF, or none; default: none)",
+    ),
+    val(
+        "mag-db-ref",
+        "R",
+        "the magnitude columns are levels in dB re R (R in the value unit --unit); default: linear",
+    ),
+    val(
+        "phase-unit",
+        "U",
+        "unit of the phase columns: deg or rad (default deg)",
+    ),
+    val(
+        "unit",
+        "U",
+        "unit of the values, e.g. g/N, mm/s/N, N/mm, Pa/N (default: SI for the quantities)",
+    ),
+    val(
+        "out-qty",
+        "Q",
+        "output quantity: displacement, velocity, acceleration, force, pressure, ... \
+         (required with a column map)",
+    ),
+    val(
+        "in-qty",
+        "Q",
+        "input quantity: force, displacement, ... (required with a column map, except for spectra)",
+    ),
+    val(
+        "signal",
+        "KIND",
+        "what the file's spectra are: peak, rms, autopower or psd; for UFF it declares the scaling of function type 12 (else read as peak), for CSV the columns are spectra (no --in-dof/--in-qty)",
+    ),
+    val(
+        "time-convention",
+        "TC",
+        "the supplier's time convention: +iwt or -iwt (-iwt values are conjugated on reading; \
+         default +iwt)",
+    ),
+    val(
+        "set-name",
+        "NAME",
+        "name of the set read (default: the component name)",
+    ),
+];
+
+const IMPORT_GROUP: Group = Group {
+    title: "column-map options (for CSV/TSV files not in mortise's own layout; C is a 1-based \
+            column number or a header name)",
+    opts: IMPORT_OPTS,
+};
+
+pub const INSPECT: Command = Command {
+    name: "inspect",
+    summary:
+        "what each file holds: format, FRFs, DOFs, quantities, SI unit, grid, SHA-256, audit flags",
+    usage: "mortise inspect FILE... [--json] [column-map options]",
+    about: "Reads each FILE (UFF 58 ASCII or 58b binary, mortise CSV, a bundle, or a supplier \
+            CSV/TSV through the column-map options; the format is detected from the content, not \
+            the extension) and prints its SHA-256 and format and, for each FRF set, its DOFs, \
+            quantities, SI unit, frequency lines, missing entries, coherence and the fitness audit \
+            with the default limits of 'mortise audit'.\n\n\
+            A file that cannot be read is reported in its place and the other files are still \
+            inspected; the exit code is then 1. The column-map options apply to every FILE.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[JSON_OPT, HELP_OPT],
+        },
+        IMPORT_GROUP,
+    ],
+    example: "mortise inspect sample-frf/unit-casing.uff sample-frf/brackets.uffb --json",
+};
+
+pub const CONVERT: Command = Command {
+    name: "convert",
+    summary:
+        "read files (any format, supplier CSV through a column map) and write them as one file",
+    usage: "mortise convert IN... -o OUT [--to FORMAT] [--kind KIND] [--grid G [--interp I]] \
+            [--json] [column-map options]",
+    about: "Reads every IN (formats as for 'mortise inspect', the column-map options applying to \
+            each), optionally converts each FRF set to another kind and puts all sets on one \
+            frequency grid, and writes them all to OUT in SI units.\n\n\
+            A file or set that cannot be read or converted is reported, the others are still \
+            written, and the exit code is then 1; when nothing could be read, nothing is written.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                val(
+                    "to",
+                    "FORMAT",
+                    "uff (UFF 58 ASCII), uff-binary (58b), csv (mortise CSV, lossless) or bundle \
+                     (JSON); default: from OUT's extension: .uff or .unv, .csv, .json",
+                ),
+                val(
+                    "kind",
+                    "KIND",
+                    "convert every FRF set to receptance, mobility, accelerance, \
+                     dynamic-stiffness, impedance or apparent-mass (multiplying by (iω)^n, or \
+                     inverting line by line); default: keep each set's kind",
+                ),
+                val(
+                    "units",
+                    "si",
+                    "si, the only choice: every format mortise writes holds SI values (a \
+                     supplier's units are set when reading, with --unit); default si",
+                ),
+                val(
+                    "grid",
+                    "G",
+                    "put every set on one grid: finest or coarsest (the finest or coarsest of \
+                     the inputs' lines inside the range all of them cover) or START:STOP:STEP \
+                     (an even grid in Hz); never extrapolated: a grid beyond any input's range is \
+                     an error; default: keep each set's lines",
+                ),
+                val(
+                    "interp",
+                    "I",
+                    "interpolation for --grid: re-im (linear in real and imaginary part) or \
+                     log-mag-phase (linear in log magnitude and unwrapped phase); default re-im; \
+                     needs --grid",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        IMPORT_GROUP,
+    ],
+    example: "mortise convert sample-frf/isolator-stiffness.csv -o isolator.csv --delim semicolon \
+              --skip 3 --freq-col 'f [Hz]' --stiffness \"K' axial [N/mm]\" --loss 'eta axial [-]' \
+              --out-dof isolator:1+Z --in-dof isolator:1+Z --unit N/mm --out-qty force --in-qty \
+              displacement",
+};
+
+pub const RUN: Command = Command {
+    name: "run",
+    summary: "execute a recipe; write its outputs as UFF 58 and CSV plus report.json",
+    usage: "mortise run RECIPE -o OUTDIR [--json]",
+    about: "Executes RECIPE (mortise's JSON recipe: components, steps, variants, outputs; \
+            'mortise help recipe') from files alone. File names inside the recipe are relative to \
+            the recipe file's own directory, so a recipe runs the same from any current \
+            directory.\n\n\
+            Writes every requested output to OUTDIR (created if needed) as NAME.uff (UFF 58; text \
+            node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
+            lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
+            of every component, the headline), and prints the headline.",
+    groups: &[Group {
+        title: "options",
+        opts: &[
+            val(
+                "o",
+                "OUTDIR",
+                "the directory to write the outputs and report.json into (required)",
+            ),
+            JSON_OPT,
+            HELP_OPT,
+        ],
+    }],
+    example: "mortise run sample-frf/heat-pump.recipe.json -o results",
+};
+
+pub const COUPLE: Command = Command {
+    name: "couple",
+    summary: "couple two or more files at listed DOF pairs (LM-FBS) without writing a recipe",
+    usage: "mortise couple FILE FILE... --join 'A = B [k=.. c=.. eta=.. | stiffness=FILE]'... \
+            -o OUT [--tsvd X] [--print-recipe RECIPE] [--json]",
+    about: "Couples the FRF sets of the FILEs (formats as for 'mortise inspect', read without a \
+            column map) at the joints given by --join, by LM-FBS, and writes the coupled set to \
+            OUT. Each FILE becomes a component named after its file stem, which is also the DOF \
+            namespace of its DOFs: node 4 of casing.uff is casing:4. The result is in the first \
+            FILE's kind. It runs the same code as a one-step recipe given to 'mortise run'.",
+    groups: &[Group {
+        title: "options",
+        opts: &[
+            many(
+                "join",
+                "'A = B ...'",
+                "one joint between DOF A of one component and DOF B of another (labels \
+                 component:node+DIR, DIR one of X Y Z RX RY RZ). Alone it is rigid; followed by \
+                 k=N/m it is a spring, c=N*s/m a damper, k= and eta= hysteretic, k= and c= (and \
+                 eta=) a spring-damper, stiffness=FILE a measured dynamic stiffness (a 1x1 set \
+                 in FILE). At least one",
+            ),
+            val(
+                "o",
+                "OUT",
+                "the file to write (required); its format follows the extension: .uff or .unv \
+                 (UFF 58), .uffb (58b), .csv, .tsv or .txt (mortise CSV), .json or .mortise \
+                 (bundle)",
+            ),
+            val(
+                "tsvd",
+                "X",
+                "regularise the interface inversion by truncated SVD: singular values below X \
+                 times the largest are dropped; X from 0 to below 1; default: no truncation",
+            ),
+            val(
+                "print-recipe",
+                "RECIPE",
+                "also write the recipe this command runs to the file RECIPE, with file names \
+                 relative to RECIPE's directory, to grow it and run it with 'mortise run \
+                 RECIPE'; default: none",
+            ),
+            JSON_OPT,
+            HELP_OPT,
+        ],
+    }],
+    example: "mortise couple sample-frf/unit-casing.uff sample-frf/brackets.uffb \
+              --join 'unit-casing:101+Z = brackets:1+Z k=2e5 eta=0.1' \
+              --join 'unit-casing:102+Z = brackets:2+Z k=2e5 eta=0.1' -o mounted.uff",
+};
+
+pub const AUDIT: Command = Command {
+    name: "audit",
+    summary: "fitness of each file's FRFs: reciprocity, passivity, coherence, linearity, conditioning, grid",
+    usage: "mortise audit FILE... [--pair A,B] [--json] [limits]",
+    about: "Audits every FRF set of each FILE (formats as for 'mortise inspect', read without a \
+            column map): reciprocity, passivity, coherence, conditioning, grid (spacing and \
+            resolution of the resonance peaks) and import remarks, each passed, flagged (with the 1/3-octave bands where it \
+            flags) or not applicable. With --pair it also compares one component measured at \
+            two excitation levels for linearity.\n\n\
+            A file that cannot be read is reported in its place and the others are still \
+            audited; the exit code is then 1. A flag is a finding, not a failure: it does not \
+            change the exit code.",
+    groups: &[Group {
+        title: "options",
+        opts: &[
+            val(
+                "pair",
+                "A,B",
+                "also compare the sets of files A and B (the same component at two excitation \
+                 levels, sets paired in order) for linearity; '--pair A B' works too when B is \
+                 the only FILE; default: no pair",
+            ),
+            val(
+                "tolerance-db",
+                "X",
+                "linearity: largest level difference accepted between the two levels of \
+                 --pair, in dB, 0 to 100 (default 1)",
+            ),
+            val(
+                "coherence-min",
+                "X",
+                "smallest coherence accepted, 0 to 1 (default 0.9)",
+            ),
+            val(
+                "reciprocity-tol",
+                "X",
+                "largest relative reciprocity difference |H_ij - H_ji| / max(|H_ij|, |H_ji|) \
+                 accepted, 0 to 10 (default 0.1)",
+            ),
+            val(
+                "condition-max",
+                "X",
+                "largest condition number of a set's matrix accepted, at least 1 (default 1000)",
+            ),
+            JSON_OPT,
+            HELP_OPT,
+        ],
+    }],
+    example: "mortise audit sample-frf/unit-casing.uff sample-frf/brackets.uffb --coherence-min 0.8",
+};
+
+pub const DEMO: Command = Command {
+    name: "demo",
+    summary: "write (or check) the demo scenario's supplier files and recipe",
+    usage: "mortise demo [-o DIR] [--check]",
+    about: "Writes the invented demo scenario (a heat-pump outdoor unit on a timber-frame wall, \
+            a bedroom behind it): four suppliers' files, each in its own format and units, and \
+            heat-pump.recipe.json, synthesized deterministically by mortise itself. Run the \
+            recipe with 'mortise run DIR/heat-pump.recipe.json -o OUTDIR'.",
+    groups: &[Group {
+        title: "options",
+        opts: &[
+            val(
+                "o",
+                "DIR",
+                "the directory to write into (created if needed); default sample-frf",
+            ),
+            flag(
+                "check",
+                "write nothing: compare the files in DIR with what this build synthesizes and \
+                 fail (exit 1) if any differs or is missing",
+            ),
+            HELP_OPT,
+        ],
+    }],
+    example: "mortise demo -o demo-files",
+};
+
+pub const HELP: Command = Command {
+    name: "help",
+    summary: "the list of commands, or one command's help: mortise help COMMAND",
+    usage: "mortise help [COMMAND | recipe]",
+    about: "Without an operand, lists the commands. With a command's name, prints what the \
+            command does, every option with its meaning and default, and an example (as \
+            'mortise COMMAND --help' and 'mortise COMMAND -h' do). 'mortise help recipe' tells \
+            where the recipe format is described.",
+    groups: &[Group {
+        title: "options",
+        opts: &[HELP_OPT],
+    }],
+    example: "mortise help couple",
+};
+
+pub const VERSION: Command = Command {
+    name: "version",
+    summary: "mortise's version (also --version)",
+    usage: "mortise version",
+    about: "Prints the version of mortise.",
+    groups: &[Group {
+        title: "options",
+        opts: &[HELP_OPT],
+    }],
+    example: "mortise version",
+};
+
+/// Every command, in the order the general help lists them.
+pub const COMMANDS: &[Command] = &[INSPECT, CONVERT, RUN, COUPLE, AUDIT, DEMO, HELP, VERSION];
+
+pub fn command(name: &str) -> Option<&'static Command> {
+    COMMANDS.iter().find(|c| c.name == name)
+}
+
+const WIDTH: usize = 100;
+const COL: usize = 26;
+
+/// Words of `text` in lines of at most `width` characters (a longer word stays whole).
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for w in text.split_whitespace() {
+        if !line.is_empty() && line.chars().count() + 1 + w.chars().count() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(w);
+    }
+    if !line.is_empty() {
+        lines.push(line);
+    }
+    lines
+}
+
+impl Command {
+    /// Every option the command accepts.
+    pub fn options(&self) -> impl Iterator<Item = &'static Opt> {
+        self.groups.iter().flat_map(|g| g.opts.iter())
+    }
+    pub fn option(&self, name: &str) -> Option<&'static Opt> {
+        self.options().find(|o| o.name == name)
+    }
+    pub fn takes_json(&self) -> bool {
+        self.option("json").is_some()
+    }
+    /// The command's help text.
+    pub fn help(&self) -> String {
+        let mut s = format!("mortise {}: {}\n\nusage: {}\n", self.name, self.summary, {
+            let mut u = wrap(self.usage, WIDTH - 7);
+            for l in u.iter_mut().skip(1) {
+                l.insert_str(0, "         ");
+            }
+            u.join("\n")
+        });
+        for para in self.about.split("\n\n") {
+            s.push('\n');
+            for l in wrap(para, WIDTH) {
+                s.push_str(&l);
+                s.push('\n');
+            }
+        }
+        for g in self.groups {
+            s.push('\n');
+            for l in wrap(&format!("{}:", g.title), WIDTH) {
+                s.push_str(&l);
+                s.push('\n');
+            }
+            for o in g.opts {
+                let mut head = format!("  {}", o.spelled());
+                if o.name == "help" {
+                    head = "  -h, --help".to_string();
+                }
+                if !o.is_flag() {
+                    head.push(' ');
+                    head.push_str(o.value);
+                }
+                let mut text = o.help.to_string();
+                if o.repeat {
+                    text.push_str(" (may be repeated)");
+                }
+                let body = wrap(&text, WIDTH - COL);
+                let pad = |n: usize| " ".repeat(n);
+                let mut lines = body.into_iter();
+                if head.chars().count() < COL - 1 {
+                    let n = head.chars().count();
+                    s.push_str(&head);
+                    s.push_str(&pad(COL - n));
+                    s.push_str(&lines.next().unwrap_or_default());
+                    s.push('\n');
+                } else {
+                    s.push_str(&head);
+                    s.push('\n');
+                }
+                for l in lines {
+                    s.push_str(&pad(COL));
+                    s.push_str(&l);
+                    s.push('\n');
+                }
+            }
+        }
+        s.push_str(&format!("\nexample:\n  {}\n", self.example));
+        s
+    }
+}
+
+/// The general help: every command with one line, and where to read more.
+pub fn general_help() -> String {
+    let mut s = String::from(
+        "mortise: FRF coupling and transfer-path prediction, offline\n\n\
+         usage: mortise COMMAND [OPERANDS] [OPTIONS]\n\ncommands:\n",
+    );
+    for c in COMMANDS {
+        let mut lines = wrap(c.summary, WIDTH - 12).into_iter();
+        s.push_str(&format!(
+            "  {:<10}{}\n",
+            c.name,
+            lines.next().unwrap_or_default()
+        ));
+        for l in lines {
+            s.push_str(&format!("            {l}\n"));
+        }
+    }
+    s.push('\n');
+    for para in [
+        "'mortise help COMMAND' (or 'mortise COMMAND --help', or -h) prints what a command does, \
+         every option with its meaning and default, and an example; 'mortise help recipe' tells \
+         where the recipe format is described.",
+        "exit codes: 0 success; 1 bad data or a failed computation (anything from a file or a \
+         recipe, an output that cannot be written); 2 a bad command line (unknown command or \
+         option, missing operand, bad option value); 3 an internal error (a bug in mortise: \
+         please report it).",
+        "With --json (inspect, convert, run, couple, audit) standard output holds exactly one \
+         JSON document, also when something fails (\"ok\": false, the exit code, the error with \
+         its place); messages go to standard error.",
+        crate::predict::CAUTION,
+    ] {
+        for l in wrap(para, WIDTH) {
+            s.push_str(&l);
+            s.push('\n');
+        }
+        s.push('\n');
+    }
+    s.pop();
+    s
+}
