@@ -167,4 +167,61 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
     }
     eprintln!("path sum against the total: {worst:.2e} relative");
     assert!(worst <= 1e-12, "{worst:e}");
+
+    // each path's complex contribution is written beside the total, and the
+    // written contributions add up to the written total (superposition)
+    let paths: Vec<FrfSet> = ["a1", "a2", "a3", "a4"]
+        .iter()
+        .map(|a| load(&out.join(format!("bedroom_wall_{a}_X.csv"))))
+        .collect();
+    let mut worst = 0.0f64;
+    for k in 0..total.n_lines() {
+        let sum: Complex64 = paths.iter().map(|p| p.get(k, 0, 0)).sum();
+        let want = total.get(k, 0, 0);
+        worst = worst.max((sum - want).norm() / want.norm().max(f64::MIN_POSITIVE));
+    }
+    assert!(worst <= 1e-12, "written paths against the total: {worst:e}");
+
+    // levels are A-weighted only for sound pressure (IEC 61672-1): the anchor
+    // velocities and forces are in plain dB, and no structural line says dB(A)
+    for st in report["steps"].as_array().unwrap() {
+        for row in st["levels"].as_array().into_iter().flatten() {
+            let pressure = row["reference"].as_str().unwrap().contains("Pa");
+            assert_eq!(row["weighting"], if pressure { "a" } else { "z" }, "{row}");
+        }
+    }
+    for l in headline {
+        let l = l.as_str().unwrap();
+        if l.contains("dB re 1 nm/s") || l.contains("dB re 1 µN") {
+            assert!(!l.contains("dB(A)"), "{l}");
+        }
+    }
+    // each warning once: in the component report and in every written CSV
+    for (name, c) in report["components"].as_object().unwrap() {
+        let w: Vec<&str> = c["summary"]["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_str().unwrap())
+            .collect();
+        let mut u = w.clone();
+        u.sort();
+        u.dedup();
+        assert_eq!(u.len(), w.len(), "component {name}: {w:?}");
+    }
+    for e in std::fs::read_dir(&out).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().and_then(|x| x.to_str()) != Some("csv") {
+            continue;
+        }
+        let text = std::fs::read_to_string(&p).unwrap();
+        let mut w: Vec<&str> = text
+            .lines()
+            .filter(|l| l.starts_with('#') && l.to_lowercase().contains("warning"))
+            .collect();
+        let n = w.len();
+        w.sort();
+        w.dedup();
+        assert_eq!(w.len(), n, "{}: a warning line repeats", p.display());
+    }
 }
