@@ -54,6 +54,7 @@ pub mod synth;
 pub mod units;
 #[cfg(target_arch = "wasm32")]
 pub mod wasm;
+pub mod workspace;
 
 pub use error::{Error, ErrorKind, Result};
 pub use frf::{Direction, Dof, FrfKind, FrfSet};

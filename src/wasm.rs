@@ -2,38 +2,28 @@
 //! into library calls and library results into JSON text or bytes; the
 //! physics and the file formats live in the library.
 //!
-//! The worker holds one [`Workspace`]: the bytes of the loaded files (so a
-//! recipe can read them by name), the FRF sets read from them and the last
-//! run's results, each under a string id the page uses in plot requests.
-//! The page keeps its own copy of everything needed to rebuild the workspace
-//! (file bytes, options, recipe, results), so a cancelled worker can be
-//! replaced without losing work.
+//! The worker holds one core [`Workspace`] (files, an opened bundle's
+//! inputs, results; `src/workspace.rs`, tested natively): every function
+//! here calls it. The page keeps its own copy of everything needed to
+//! rebuild the workspace (file bytes, options, recipe, results), so a
+//! cancelled worker can be replaced without losing work.
 //!
 //! Errors are thrown as the JSON text of [`crate::Error`] (kind, file,
 //! location, field, message).
 
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
-use crate::io::{self, bundle, ExportFormat, ImportOptions};
+use crate::io::{self, ExportFormat, ImportOptions};
 use crate::plot::{self, PlotSpec};
-use crate::recipe::{self, MapSource};
-use crate::summary::{self, SetSummary};
+use crate::recipe;
+use crate::summary;
+use crate::workspace::{BundleOptions, Workspace};
 use std::cell::RefCell;
 use std::collections::BTreeMap;
 use wasm_bindgen::prelude::*;
 
-#[derive(Default)]
-struct Workspace {
-    /// name → (bytes, import options JSON, detected format name).
-    files: BTreeMap<String, (Vec<u8>, serde_json::Value, String)>,
-    /// id → set; ids "file:<name>#<k>", "bundle:<name>#<k>", "result:<k>", "preview".
-    sets: BTreeMap<String, FrfSet>,
-    results: Vec<String>,
-    report: Option<serde_json::Value>,
-}
-
 thread_local! {
-    static WS: RefCell<Workspace> = RefCell::new(Workspace::default());
+    static WS: RefCell<Workspace> = RefCell::new(Workspace::new());
 }
 
 fn js_err(e: Error) -> JsValue {
@@ -42,7 +32,8 @@ fn js_err(e: Error) -> JsValue {
 }
 
 fn to_json<T: serde::Serialize>(v: &T) -> std::result::Result<String, JsValue> {
-    serde_json::to_string(v).map_err(|e| js_err(Error::io(format!("cannot encode result: {e}"))))
+    serde_json::to_string(v)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode result: {e}"))))
 }
 
 fn options(options_json: &str) -> Result<(ImportOptions, serde_json::Value)> {
@@ -56,26 +47,6 @@ fn options(options_json: &str) -> Result<(ImportOptions, serde_json::Value)> {
     let opts: ImportOptions = serde_json::from_value(value.clone())
         .map_err(|e| Error::usage(format!("import options: {e}")).field("options"))?;
     Ok((opts, value))
-}
-
-fn file_prefix(name: &str) -> String {
-    format!("file:{name}#")
-}
-
-fn drop_prefix(ws: &mut Workspace, prefix: &str) {
-    ws.sets.retain(|k, _| !k.starts_with(prefix));
-}
-
-fn summaries_with_ids(ids: &[String], ws: &Workspace) -> Vec<SetSummary> {
-    ids.iter()
-        .filter_map(|id| {
-            ws.sets.get(id).map(|s| {
-                let mut m = summary::set_summary(s);
-                m.id = id.clone();
-                m
-            })
-        })
-        .collect()
 }
 
 /// The recipe vocabulary for the page: operations with their operands,
@@ -105,23 +76,10 @@ pub fn load_file(
     bytes: &[u8],
     options_json: &str,
 ) -> std::result::Result<String, JsValue> {
-    let (opts, value) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
-    let loaded = io::load(bytes, name, &opts).map_err(|e| js_err(e.in_file(name)))?;
-    let mut sum = summary::file_summary(name, bytes, &loaded);
-    WS.with(|ws| {
-        let mut ws = ws.borrow_mut();
-        let prefix = file_prefix(name);
-        drop_prefix(&mut ws, &prefix);
-        for (k, (set, s)) in loaded.sets.into_iter().zip(sum.sets.iter_mut()).enumerate() {
-            let id = format!("{prefix}{k}");
-            s.id = id.clone();
-            ws.sets.insert(id, set);
-        }
-        ws.files.insert(
-            name.to_string(),
-            (bytes.to_vec(), value, loaded.format.name().to_string()),
-        );
-    });
+    let (_, value) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
+    let sum = WS
+        .with(|ws| ws.borrow_mut().load_file(name, bytes, value))
+        .map_err(js_err)?;
     to_json(&sum)
 }
 
@@ -137,18 +95,13 @@ pub fn detect_format(name: &str, bytes: &[u8]) -> std::result::Result<String, Js
 /// Remove a file and its sets from the workspace.
 #[wasm_bindgen]
 pub fn forget_file(name: &str) {
-    WS.with(|ws| {
-        let mut ws = ws.borrow_mut();
-        ws.files.remove(name);
-        drop_prefix(&mut ws, &file_prefix(name));
-        drop_prefix(&mut ws, &format!("bundle:{name}#"));
-    });
+    WS.with(|ws| ws.borrow_mut().forget_file(name));
 }
 
 /// Empty the workspace.
 #[wasm_bindgen]
 pub fn clear_workspace() {
-    WS.with(|ws| *ws.borrow_mut() = Workspace::default());
+    WS.with(|ws| ws.borrow_mut().clear());
 }
 
 /// Preview of a supplier CSV read with the given import options: the core's
@@ -204,47 +157,16 @@ pub fn csv_preview(
     to_json(&out)
 }
 
-/// Run a recipe on the workspace's files. Returns
-/// `{ results: [SetSummary], report }` and keeps the results for plots,
-/// exports and bundles.
+/// Run a recipe on the workspace's files and the opened bundle's inputs.
+/// Returns `{ results: [SetSummary], report }` and keeps the results for
+/// plots, exports and bundles; on failure the last results stay (the page
+/// marks them stale).
 #[wasm_bindgen]
 pub fn run_recipe(recipe_text: &str) -> std::result::Result<String, JsValue> {
-    let r = recipe::parse(recipe_text).map_err(js_err)?;
-    let files = WS.with(|ws| {
-        MapSource(
-            ws.borrow()
-                .files
-                .iter()
-                .map(|(k, v)| (k.clone(), v.0.clone()))
-                .collect(),
-        )
-    });
-    let run = recipe::run(&r, &files).map_err(js_err)?;
-    let report = serde_json::to_value(&run.report)
-        .map_err(|e| js_err(Error::internal(format!("cannot encode the report: {e}"))))?;
-    store_results(run.outputs, Some(report))
-}
-
-fn store_results(
-    outputs: Vec<FrfSet>,
-    report: Option<serde_json::Value>,
-) -> std::result::Result<String, JsValue> {
-    WS.with(|ws| {
-        let mut ws = ws.borrow_mut();
-        drop_prefix(&mut ws, "result:");
-        ws.results.clear();
-        for (k, set) in outputs.into_iter().enumerate() {
-            let id = format!("result:{k}");
-            ws.sets.insert(id.clone(), set);
-            ws.results.push(id);
-        }
-        ws.report = report;
-        let out = serde_json::json!({
-            "results": summaries_with_ids(&ws.results, &ws),
-            "report": ws.report,
-        });
-        to_json(&out)
-    })
+    let run = WS
+        .with(|ws| ws.borrow_mut().run_recipe(recipe_text))
+        .map_err(js_err)?;
+    to_json(&run)
 }
 
 /// The last results as JSON (`{ results: [FrfSet], report }`), for the page's
@@ -253,8 +175,8 @@ fn store_results(
 pub fn results_json() -> std::result::Result<String, JsValue> {
     WS.with(|ws| {
         let ws = ws.borrow();
-        let sets: Vec<&FrfSet> = ws.results.iter().filter_map(|id| ws.sets.get(id)).collect();
-        to_json(&serde_json::json!({ "results": sets, "report": ws.report }))
+        let (sets, report) = ws.results();
+        to_json(&serde_json::json!({ "results": sets, "report": report }))
     })
 }
 
@@ -269,10 +191,10 @@ pub fn put_results(json: &str) -> std::result::Result<String, JsValue> {
     }
     let saved: Saved = serde_json::from_str(json)
         .map_err(|e| js_err(Error::parse(format!("saved results: {e}")).field("results")))?;
-    for s in &saved.results {
-        s.validate().map_err(js_err)?;
-    }
-    store_results(saved.results, saved.report)
+    let run = WS
+        .with(|ws| ws.borrow_mut().put_results(saved.results, saved.report))
+        .map_err(js_err)?;
+    to_json(&run)
 }
 
 /// The sets with the given ids (JSON array) written by [`io::export`] as
@@ -292,17 +214,7 @@ fn export_ids(ids_json: &str, format: &str) -> Result<io::Exported> {
     };
     let ids: Vec<String> = serde_json::from_str(ids_json)
         .map_err(|e| Error::usage(format!("set list: {e}")).field("ids"))?;
-    let sets = WS.with(|ws| {
-        let ws = ws.borrow();
-        ids.iter()
-            .map(|id| {
-                ws.sets
-                    .get(id)
-                    .cloned()
-                    .ok_or_else(|| Error::missing(format!("no data set '{id}' is loaded")))
-            })
-            .collect::<Result<Vec<FrfSet>>>()
-    })?;
+    let sets = WS.with(|ws| ws.borrow().sets_by_id(&ids))?;
     io::export(&sets, fmt)
 }
 
@@ -322,126 +234,45 @@ pub fn export_sets(ids_json: &str, format: &str) -> std::result::Result<Vec<u8>,
 #[wasm_bindgen]
 pub fn export_file(ids_json: &str, format: &str) -> std::result::Result<JsValue, JsValue> {
     let ex = export_ids(ids_json, format).map_err(js_err)?;
+    bytes_and_text(&ex.bytes, "node_numbers", &ex.node_numbers_json())
+}
+
+fn bytes_and_text(bytes: &[u8], key: &str, text: &str) -> std::result::Result<JsValue, JsValue> {
     let o = js_sys::Object::new();
-    let bytes: JsValue = js_sys::Uint8Array::from(ex.bytes.as_slice()).into();
-    js_sys::Reflect::set(&o, &JsValue::from_str("bytes"), &bytes)?;
-    js_sys::Reflect::set(
-        &o,
-        &JsValue::from_str("node_numbers"),
-        &JsValue::from_str(&ex.node_numbers_json()),
-    )?;
+    let b: JsValue = js_sys::Uint8Array::from(bytes).into();
+    js_sys::Reflect::set(&o, &JsValue::from_str("bytes"), &b)?;
+    js_sys::Reflect::set(&o, &JsValue::from_str(key), &JsValue::from_str(text))?;
     Ok(o.into())
 }
 
-#[derive(serde::Deserialize, Default)]
-struct BundleOptions {
-    /// ISO 8601 creation time from the page's clock.
-    #[serde(default)]
-    created: String,
-    /// File name → include its FRFs (default: include).
-    #[serde(default)]
-    include_raw: BTreeMap<String, bool>,
-}
-
-/// Make a bundle of the recipe, the loaded files' provenance (with or
-/// without their FRFs, per file) and the last results.
+/// Make a bundle of the recipe, the loaded files (raw data per file included
+/// or withheld, or `results_only`) and the last results. Returns
+/// `{ bytes: Uint8Array, info: text }`, `info` being the JSON of
+/// `workspace::MadeBundle` (what was withheld or left out, and the notice of
+/// what a recipient could still infer).
 #[wasm_bindgen]
-pub fn make_bundle(recipe_text: &str, options_json: &str) -> std::result::Result<Vec<u8>, JsValue> {
+pub fn make_bundle(recipe_text: &str, options_json: &str) -> std::result::Result<JsValue, JsValue> {
     let opts: BundleOptions = if options_json.trim().is_empty() {
         BundleOptions::default()
     } else {
         serde_json::from_str(options_json)
             .map_err(|e| js_err(Error::usage(format!("bundle options: {e}"))))?
     };
-    let recipe_value = if recipe_text.trim().is_empty() {
-        None
-    } else {
-        Some(
-            serde_json::from_str::<serde_json::Value>(recipe_text).map_err(|e| {
-                js_err(Error::recipe(format!("the recipe is not JSON: {e}")).field("recipe"))
-            })?,
-        )
-    };
-    let b = WS.with(|ws| {
-        let ws = ws.borrow();
-        let inputs = ws
-            .files
-            .iter()
-            .map(|(name, (bytes, o, format))| {
-                let include = opts.include_raw.get(name).copied().unwrap_or(true);
-                let prefix = file_prefix(name);
-                bundle::BundleInput {
-                    name: name.clone(),
-                    sha256: io::sha256_hex(bytes),
-                    format: format.clone(),
-                    options: o.clone(),
-                    sets: include.then(|| {
-                        ws.sets
-                            .iter()
-                            .filter(|(k, _)| k.starts_with(&prefix))
-                            .map(|(_, s)| s.clone())
-                            .collect()
-                    }),
-                }
-            })
-            .collect();
-        bundle::Bundle {
-            format: bundle::BUNDLE_FORMAT.to_string(),
-            version: bundle::BUNDLE_VERSION,
-            mortise_version: crate::VERSION.to_string(),
-            created: opts.created.clone(),
-            recipe: recipe_value,
-            inputs,
-            results: ws
-                .results
-                .iter()
-                .filter_map(|id| ws.sets.get(id).cloned())
-                .collect(),
-            report: ws.report.clone(),
-        }
-    });
-    bundle::write(&b).map_err(js_err)
+    let made = WS
+        .with(|ws| ws.borrow().make_bundle(recipe_text, &opts))
+        .map_err(js_err)?;
+    bytes_and_text(&made.bytes, "info", &to_json(&made)?)
 }
 
-/// Open a bundle: its inputs' sets and its results replace the workspace's
-/// sets; returns `{ recipe, created, mortise_version, inputs, results, report }`.
+/// Open a bundle: its inputs (raw data carried, or to be dropped in again)
+/// become available to recipes and its results become the workspace's;
+/// returns `workspace::OpenedBundle` as JSON.
 #[wasm_bindgen]
 pub fn open_bundle(name: &str, bytes: &[u8]) -> std::result::Result<String, JsValue> {
-    let b = bundle::read(bytes, name).map_err(js_err)?;
-    let inputs = WS.with(|ws| {
-        let mut ws = ws.borrow_mut();
-        drop_prefix(&mut ws, "bundle:");
-        let mut inputs = Vec::new();
-        for inp in &b.inputs {
-            let mut ids = Vec::new();
-            if let Some(sets) = &inp.sets {
-                for (k, s) in sets.iter().enumerate() {
-                    let id = format!("bundle:{}#{k}", inp.name);
-                    ws.sets.insert(id.clone(), s.clone());
-                    ids.push(id);
-                }
-            }
-            inputs.push(serde_json::json!({
-                "name": inp.name,
-                "sha256": inp.sha256,
-                "format": inp.format,
-                "options": inp.options,
-                "withheld": inp.sets.is_none(),
-                "sets": summaries_with_ids(&ids, &ws),
-            }));
-        }
-        inputs
-    });
-    let stored = store_results(b.results.clone(), b.report.clone())?;
-    let stored: serde_json::Value = serde_json::from_str(&stored).unwrap_or_default();
-    to_json(&serde_json::json!({
-        "recipe": b.recipe,
-        "created": b.created,
-        "mortise_version": b.mortise_version,
-        "inputs": inputs,
-        "results": stored["results"],
-        "report": b.report,
-    }))
+    let b = WS
+        .with(|ws| ws.borrow_mut().open_bundle(name, bytes))
+        .map_err(js_err)?;
+    to_json(&b)
 }
 
 /// Draw a plot (`plot::PlotSpec` JSON) as SVG; returns `{ svg, frames }`.
@@ -449,7 +280,7 @@ pub fn open_bundle(name: &str, bytes: &[u8]) -> std::result::Result<String, JsVa
 pub fn plot_svg(spec_json: &str) -> std::result::Result<String, JsValue> {
     let spec = PlotSpec::from_json(spec_json).map_err(js_err)?;
     let (svg, frames) = WS
-        .with(|ws| plot::render_svg(&spec, &ws.borrow().sets))
+        .with(|ws| plot::render_svg(&spec, ws.borrow().sets()))
         .map_err(js_err)?;
     to_json(&serde_json::json!({ "svg": svg, "frames": frames }))
 }
@@ -459,7 +290,7 @@ pub fn plot_svg(spec_json: &str) -> std::result::Result<String, JsValue> {
 pub fn probe(spec_json: &str, freq: f64) -> std::result::Result<String, JsValue> {
     let spec = PlotSpec::from_json(spec_json).map_err(js_err)?;
     let p = WS
-        .with(|ws| plot::probe(&spec, &ws.borrow().sets, freq))
+        .with(|ws| plot::probe(&spec, ws.borrow().sets(), freq))
         .map_err(js_err)?;
     to_json(&p)
 }

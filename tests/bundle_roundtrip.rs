@@ -88,6 +88,7 @@ fn random_bit_patterns_survive_exactly() {
             format: "uff58-ascii".into(),
             options: serde_json::json!({"component": "bracket"}),
             sets: Some(vec![s.clone()]),
+            data: None,
         });
         b.results.push(s.clone());
         b.recipe = Some(serde_json::json!({"format": "mortise-recipe", "version": 1}));
@@ -113,10 +114,12 @@ fn raw_data_can_be_withheld() {
         format: "csv-mapped".into(),
         options: serde_json::Value::Null,
         sets: Some(vec![s.clone()]),
+        data: Some(BundleInput::encode(b"wall bytes")),
     });
     b.results.push(s.clone());
     let w = b.without_raw();
-    assert!(w.inputs[0].sets.is_none());
+    assert!(w.inputs[0].sets.is_none() && w.inputs[0].data.is_none());
+    assert!(w.inputs[0].withheld());
     assert_eq!(w.inputs[0].sha256, b.inputs[0].sha256);
     let bytes = bundle::write(&w).unwrap();
     let l = io::load(&bytes, "shared.json", &ImportOptions::default()).unwrap();

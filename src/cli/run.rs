@@ -27,16 +27,24 @@ pub fn run(args: &Args) -> Result<Done> {
     let json = args.flag("json");
     let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
-        let text = std::fs::read_to_string(path)
+        let bytes = std::fs::read(path)
             .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
-        let r = recipe::parse(&text)
-            .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
         let dir = Path::new(path)
             .parent()
             .map(Path::to_path_buf)
             .unwrap_or_default();
-        let res = recipe::run(&r, &DirSource(dir))
-            .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+        let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
+            run_bundle(path, &bytes, &dir)?
+        } else {
+            let text = String::from_utf8(bytes).map_err(|e| {
+                Error::parse(format!("a recipe is UTF-8 text: {e}")).in_file(path.as_str())
+            })?;
+            let r = recipe::parse(&text)
+                .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+            let res = recipe::run(&r, &DirSource(dir))
+                .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+            (r, res)
+        };
         let w = write_outputs(&res, &out)?;
         Ok((r, res, w))
     })();
@@ -64,6 +72,36 @@ pub struct Written {
     pub files: Vec<String>,
     /// The report as written (with `uff_node_numbers`).
     pub report: crate::recipe::RunReport,
+}
+
+/// Run the recipe a bundle holds, on the inputs it carries; withheld inputs
+/// are read from files of the same name beside the bundle (their SHA-256
+/// must match the bundle's record).
+fn run_bundle(path: &str, bytes: &[u8], dir: &Path) -> Result<(recipe::Recipe, RunResult)> {
+    let mut ws = crate::workspace::Workspace::new();
+    let opened = ws.open_bundle(path, bytes)?;
+    for name in &opened.missing {
+        let p = dir.join(name);
+        let Ok(b) = std::fs::read(&p) else {
+            continue;
+        };
+        let opts = ws.bundle_input_options(name).cloned().unwrap_or_default();
+        ws.load_file(name, &b, opts)?;
+    }
+    let missing = ws.missing_inputs();
+    if !missing.is_empty() {
+        return Err(Error::missing(format!(
+            "the bundle withholds {}; put the original file(s) beside it (same name, same SHA-256) to run it",
+            missing.join(", ")
+        ))
+        .in_file(path));
+    }
+    let text = ws
+        .bundle_recipe_text()
+        .ok_or_else(|| Error::missing("the bundle holds no recipe").in_file(path))?;
+    let r = recipe::parse(&text).map_err(|e| e.in_file(path).field("recipe"))?;
+    let res = ws.run(&r).map_err(|e| e.in_file(path))?;
+    Ok((r, res))
 }
 
 /// File-name-safe form of an output name.

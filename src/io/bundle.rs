@@ -14,8 +14,9 @@ use num_complex::Complex64;
 
 /// The `format` field of every bundle.
 pub const BUNDLE_FORMAT: &str = "mortise-bundle";
-/// The current bundle schema version.
-pub const BUNDLE_VERSION: u32 = 1;
+/// The current bundle schema version (2: inputs carry their file's bytes,
+/// so a bundle runs again as it is; version 1, sets only, is still read).
+pub const BUNDLE_VERSION: u32 = 2;
 
 /// One input file of a bundle.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -28,9 +29,49 @@ pub struct BundleInput {
     /// Import options used (component name, column map).
     #[serde(default)]
     pub options: serde_json::Value,
-    /// The FRF sets read from the file; `None` when the sender withheld the raw data.
-    #[serde(default, with = "wire_opt_sets")]
+    /// The FRF sets read from the file (version 1 bundles); `None` when the
+    /// sender withheld the raw data or the file's bytes are in `data`.
+    #[serde(
+        default,
+        with = "wire_opt_sets",
+        skip_serializing_if = "Option::is_none"
+    )]
     pub sets: Option<Vec<FrfSet>>,
+    /// The file's bytes, base64 (standard alphabet, padded); `None` when the
+    /// sender withheld the raw data.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub data: Option<String>,
+}
+
+impl BundleInput {
+    /// True when neither the file's bytes nor its sets travel in the bundle.
+    pub fn withheld(&self) -> bool {
+        self.sets.is_none() && self.data.is_none()
+    }
+
+    /// The file's bytes, when the bundle carries them.
+    pub fn bytes(&self) -> Result<Option<Vec<u8>>> {
+        use base64::Engine as _;
+        match &self.data {
+            None => Ok(None),
+            Some(d) => base64::engine::general_purpose::STANDARD
+                .decode(d)
+                .map(Some)
+                .map_err(|e| {
+                    Error::parse(format!(
+                        "the bytes of input '{}' are not base64: {e}",
+                        self.name
+                    ))
+                    .field("inputs.data")
+                }),
+        }
+    }
+
+    /// Base64 text of bytes, as `data` holds it.
+    pub fn encode(bytes: &[u8]) -> String {
+        use base64::Engine as _;
+        base64::engine::general_purpose::STANDARD.encode(bytes)
+    }
 }
 
 /// A whole bundle.
@@ -74,6 +115,7 @@ impl Bundle {
         let mut b = self.clone();
         for i in &mut b.inputs {
             i.sets = None;
+            i.data = None;
         }
         b
     }
@@ -125,7 +167,7 @@ pub fn read(bytes: &[u8], file: &str) -> Result<Bundle> {
         }
     }
     match obj.get("version").and_then(|f| f.as_u64()) {
-        Some(n) if n == u64::from(BUNDLE_VERSION) => {}
+        Some(n) if (1..=u64::from(BUNDLE_VERSION)).contains(&n) => {}
         Some(n) if n > u64::from(BUNDLE_VERSION) => {
             return Err(Error::unsupported(format!(
             "version {n} was written by a newer mortise; this one reads version {BUNDLE_VERSION}"

@@ -1,0 +1,602 @@
+//! The workspace: what a user has open (loaded files with their bytes and
+//! import options, an opened bundle's inputs, the last run's results and
+//! report), running a recipe on it, and bundles: written with each input's
+//! raw data included or withheld, opened, and run again.
+//!
+//! The page's worker holds one `Workspace` (the wasm layer only translates);
+//! the CLI uses it for `mortise run BUNDLE`. Sets are addressed by string ids:
+//! `file:<name>#<k>` (a loaded file's k-th set), `bundle:<name>#<k>` (a
+//! bundle input's), `result:<k>` (the last run's), `preview`.
+//!
+//! Withholding: when any input's raw data is withheld (or "results only"),
+//! the bundle keeps only the recipe's requested outputs (with their extra
+//! results), and of those only the sets with no DOF of a withheld part; the
+//! notice says what a recipient could still infer.
+
+use crate::error::{Error, Result};
+use crate::frf::FrfSet;
+use crate::io::{self, bundle, ImportOptions};
+use crate::recipe::{self, FileSource};
+use crate::summary::{self, FileSummary, SetSummary};
+use serde::{Deserialize, Serialize};
+use std::collections::{BTreeMap, BTreeSet};
+
+/// A loaded file.
+#[derive(Debug, Clone)]
+struct WsFile {
+    bytes: Vec<u8>,
+    /// The import options as given (JSON), kept for bundles.
+    options: serde_json::Value,
+    format: String,
+}
+
+/// An input of an opened bundle.
+#[derive(Debug, Clone)]
+struct BundleIn {
+    sha256: String,
+    options: serde_json::Value,
+    format: String,
+    /// The file's bytes when the bundle carries them.
+    bytes: Option<Vec<u8>>,
+    /// Sets of a version-1 bundle (no bytes).
+    sets: Option<Vec<FrfSet>>,
+}
+
+/// The workspace.
+#[derive(Debug, Clone, Default)]
+pub struct Workspace {
+    files: BTreeMap<String, WsFile>,
+    bundle_name: Option<String>,
+    bundle_inputs: BTreeMap<String, BundleIn>,
+    bundle_recipe: Option<serde_json::Value>,
+    sets: BTreeMap<String, FrfSet>,
+    results: Vec<String>,
+    report: Option<serde_json::Value>,
+}
+
+/// What a run left in the workspace.
+#[derive(Debug, Clone, Serialize)]
+pub struct RunSummary {
+    pub results: Vec<SetSummary>,
+    pub report: Option<serde_json::Value>,
+}
+
+/// How to write a bundle.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BundleOptions {
+    /// ISO 8601 creation time (the caller's clock; the core has none).
+    #[serde(default)]
+    pub created: String,
+    /// File name → include its raw data (default: include).
+    #[serde(default)]
+    pub include_raw: BTreeMap<String, bool>,
+    /// No raw data at all: the recipe, the provenance and the requested outputs.
+    #[serde(default)]
+    pub results_only: bool,
+}
+
+/// A written bundle and what it shares.
+#[derive(Debug, Clone, Serialize)]
+pub struct MadeBundle {
+    #[serde(skip)]
+    pub bytes: Vec<u8>,
+    /// Inputs whose raw data stayed out.
+    pub withheld: Vec<String>,
+    /// Results left out (not requested, or over a withheld part's DOFs).
+    pub dropped_results: Vec<String>,
+    /// Results the bundle holds.
+    pub kept_results: Vec<String>,
+    /// One sentence: what a recipient could still infer from what is shared.
+    pub notice: String,
+}
+
+/// An opened bundle, for the page.
+#[derive(Debug, Clone, Serialize)]
+pub struct OpenedBundle {
+    pub recipe: Option<serde_json::Value>,
+    pub created: String,
+    pub mortise_version: String,
+    pub inputs: Vec<OpenedInput>,
+    pub results: Vec<SetSummary>,
+    pub report: Option<serde_json::Value>,
+    /// Inputs to drop in again (withheld) before the recipe can run.
+    pub missing: Vec<String>,
+}
+
+/// One input of an opened bundle.
+#[derive(Debug, Clone, Serialize)]
+pub struct OpenedInput {
+    pub name: String,
+    pub sha256: String,
+    pub format: String,
+    pub options: serde_json::Value,
+    pub withheld: bool,
+    /// Loaded again from a file the user gave (SHA-256 checked).
+    pub supplied: bool,
+    pub sets: Vec<SetSummary>,
+}
+
+fn import_options(value: &serde_json::Value) -> Result<ImportOptions> {
+    if value.is_null() {
+        return Ok(ImportOptions::default());
+    }
+    serde_json::from_value(value.clone())
+        .map_err(|e| Error::parse(format!("import options: {e}")).field("options"))
+}
+
+fn prefix_of(kind: &str, name: &str) -> String {
+    format!("{kind}:{name}#")
+}
+
+impl Workspace {
+    pub fn new() -> Workspace {
+        Workspace::default()
+    }
+
+    /// A set by id.
+    pub fn set(&self, id: &str) -> Option<&FrfSet> {
+        self.sets.get(id)
+    }
+
+    /// Every set by id (for plots).
+    pub fn sets(&self) -> &BTreeMap<String, FrfSet> {
+        &self.sets
+    }
+
+    /// Put a set under an id (the page's CSV preview).
+    pub fn put_set(&mut self, id: &str, set: FrfSet) {
+        self.sets.insert(id.to_string(), set);
+    }
+
+    fn drop_prefix(&mut self, prefix: &str) {
+        self.sets.retain(|k, _| !k.starts_with(prefix));
+    }
+
+    /// Load one file (replacing one of the same name). A file named by an
+    /// opened bundle's input must be that very file (same SHA-256).
+    pub fn load_file(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: serde_json::Value,
+    ) -> Result<FileSummary> {
+        let opts = import_options(&options).map_err(|e| e.in_file(name))?;
+        if let Some(b) = self.bundle_inputs.get(name) {
+            let sha = io::sha256_hex(bytes);
+            if sha != b.sha256 {
+                return Err(Error::parse(format!(
+                    "SHA-256 {sha} differs from {} recorded in bundle '{}' for this input: it is not the file the bundle's results came from",
+                    b.sha256,
+                    self.bundle_name.as_deref().unwrap_or("?")
+                ))
+                .in_file(name));
+            }
+        }
+        let loaded = io::load(bytes, name, &opts).map_err(|e| e.in_file(name))?;
+        let mut sum = summary::file_summary(name, bytes, &loaded);
+        let prefix = prefix_of("file", name);
+        self.drop_prefix(&prefix);
+        for (k, (set, s)) in loaded.sets.into_iter().zip(sum.sets.iter_mut()).enumerate() {
+            let id = format!("{prefix}{k}");
+            s.id = id.clone();
+            self.sets.insert(id, set);
+        }
+        self.files.insert(
+            name.to_string(),
+            WsFile {
+                bytes: bytes.to_vec(),
+                options,
+                format: loaded.format.name().to_string(),
+            },
+        );
+        Ok(sum)
+    }
+
+    /// Remove a file and its sets.
+    pub fn forget_file(&mut self, name: &str) {
+        self.files.remove(name);
+        self.drop_prefix(&prefix_of("file", name));
+    }
+
+    /// Empty the workspace.
+    pub fn clear(&mut self) {
+        *self = Workspace::default();
+    }
+
+    /// Run a recipe on the loaded files and the opened bundle's inputs; the
+    /// results replace the last ones. On failure the last results stay as
+    /// they were (the page marks them stale).
+    pub fn run_recipe(&mut self, recipe_text: &str) -> Result<RunSummary> {
+        let r = recipe::parse(recipe_text)?;
+        let run = recipe::run(&r, &Source(self))?;
+        let report = serde_json::to_value(&run.report)
+            .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
+        Ok(self.store_results(run.outputs, Some(report)))
+    }
+
+    /// Run a parsed recipe on the workspace's files without keeping the
+    /// results (the CLI's `mortise run BUNDLE`).
+    pub fn run(&self, r: &recipe::Recipe) -> Result<recipe::RunResult> {
+        recipe::run(r, &Source(self))
+    }
+
+    /// The import options an opened bundle recorded for an input.
+    pub fn bundle_input_options(&self, name: &str) -> Option<&serde_json::Value> {
+        self.bundle_inputs.get(name).map(|b| &b.options)
+    }
+
+    fn store_results(
+        &mut self,
+        outputs: Vec<FrfSet>,
+        report: Option<serde_json::Value>,
+    ) -> RunSummary {
+        self.drop_prefix("result:");
+        self.results.clear();
+        let mut sums = Vec::new();
+        for (k, s) in outputs.into_iter().enumerate() {
+            let id = format!("result:{k}");
+            let mut m = summary::set_summary(&s);
+            m.id = id.clone();
+            sums.push(m);
+            self.sets.insert(id.clone(), s);
+            self.results.push(id);
+        }
+        self.report = report.clone();
+        RunSummary {
+            results: sums,
+            report,
+        }
+    }
+
+    /// The last results and report, for saving (`{results, report}`).
+    pub fn results(&self) -> (Vec<&FrfSet>, Option<&serde_json::Value>) {
+        (
+            self.results
+                .iter()
+                .filter_map(|id| self.sets.get(id))
+                .collect(),
+            self.report.as_ref(),
+        )
+    }
+
+    /// Put saved results back.
+    pub fn put_results(
+        &mut self,
+        results: Vec<FrfSet>,
+        report: Option<serde_json::Value>,
+    ) -> Result<RunSummary> {
+        for s in &results {
+            s.validate()?;
+        }
+        Ok(self.store_results(results, report))
+    }
+
+    /// The sets with the given ids.
+    pub fn sets_by_id(&self, ids: &[String]) -> Result<Vec<FrfSet>> {
+        ids.iter()
+            .map(|id| {
+                self.sets
+                    .get(id)
+                    .cloned()
+                    .ok_or_else(|| Error::missing(format!("no data set '{id}' is loaded")))
+            })
+            .collect()
+    }
+
+    /// Write a bundle of the recipe, the inputs (raw data included or
+    /// withheld per file) and the last results.
+    pub fn make_bundle(&self, recipe_text: &str, opts: &BundleOptions) -> Result<MadeBundle> {
+        let r = recipe::parse(recipe_text).map_err(|e| e.field("recipe"))?;
+        let recipe_value = serde_json::to_value(&r)
+            .map_err(|e| Error::internal(format!("cannot encode the recipe: {e}")))?;
+        for name in opts.include_raw.keys() {
+            if !self.files.contains_key(name) && !self.bundle_inputs.contains_key(name) {
+                return Err(Error::usage(format!(
+                    "'include_raw' names '{name}', which is not loaded"
+                ))
+                .field("include_raw"));
+            }
+        }
+        let mut inputs = Vec::new();
+        let mut withheld = Vec::new();
+        let mut names: BTreeSet<&String> = self.files.keys().collect();
+        names.extend(self.bundle_inputs.keys());
+        for name in names {
+            let include = !opts.results_only && opts.include_raw.get(name).copied().unwrap_or(true);
+            let (bytes, options, format, sha, sets) = match self.files.get(name) {
+                Some(f) => (
+                    Some(f.bytes.clone()),
+                    f.options.clone(),
+                    f.format.clone(),
+                    io::sha256_hex(&f.bytes),
+                    None,
+                ),
+                None => {
+                    let b = &self.bundle_inputs[name];
+                    (
+                        b.bytes.clone(),
+                        b.options.clone(),
+                        b.format.clone(),
+                        b.sha256.clone(),
+                        b.sets.clone(),
+                    )
+                }
+            };
+            let has = bytes.is_some() || sets.is_some();
+            if !include || !has {
+                withheld.push(name.clone());
+            }
+            inputs.push(bundle::BundleInput {
+                name: name.clone(),
+                sha256: sha,
+                format,
+                options,
+                sets: if include && bytes.is_none() {
+                    sets
+                } else {
+                    None
+                },
+                data: if include {
+                    bytes.map(|b| bundle::BundleInput::encode(&b))
+                } else {
+                    None
+                },
+            });
+        }
+        // the results: everything of the last run, unless something is withheld
+        let mut kept = Vec::new();
+        let mut dropped = Vec::new();
+        let hidden = self.withheld_namespaces(&r, &withheld);
+        for id in &self.results {
+            let Some(s) = self.sets.get(id) else { continue };
+            let keep = if withheld.is_empty() {
+                true
+            } else {
+                let requested = r.outputs.iter().any(|o| {
+                    let base = s.name.split(" [").next().unwrap_or(&s.name);
+                    base == o || base.starts_with(&format!("{o}/"))
+                });
+                let touches = s
+                    .outputs
+                    .iter()
+                    .chain(&s.inputs)
+                    .any(|d| hidden.contains(d.component.as_str()));
+                requested && !touches
+            };
+            if keep {
+                kept.push(s.clone());
+            } else {
+                dropped.push(s.name.clone());
+            }
+        }
+        let notice = notice(&withheld, &hidden, &dropped, &kept, opts.results_only);
+        let b = bundle::Bundle {
+            format: bundle::BUNDLE_FORMAT.to_string(),
+            version: bundle::BUNDLE_VERSION,
+            mortise_version: crate::VERSION.to_string(),
+            created: opts.created.clone(),
+            recipe: Some(recipe_value),
+            inputs,
+            results: kept.clone(),
+            report: self.report.clone(),
+        };
+        Ok(MadeBundle {
+            bytes: bundle::write(&b)?,
+            withheld,
+            dropped_results: dropped,
+            kept_results: kept.iter().map(|s| s.name.clone()).collect(),
+            notice,
+        })
+    }
+
+    /// The DOF namespaces of the components read from withheld files.
+    fn withheld_namespaces(&self, r: &recipe::Recipe, withheld: &[String]) -> BTreeSet<String> {
+        let mut out = BTreeSet::new();
+        for (name, c) in &r.components {
+            let Some(file) = &c.file else { continue };
+            if withheld
+                .iter()
+                .any(|w| w == file || *w == io::base_name(file))
+            {
+                let ns = c
+                    .import
+                    .as_ref()
+                    .and_then(|i| i.component.clone())
+                    .or_else(|| c.component.clone())
+                    .unwrap_or_else(|| name.clone());
+                out.insert(ns);
+            }
+        }
+        // the sets the page loaded from those files
+        for w in withheld {
+            let prefix = prefix_of("file", w);
+            for (id, s) in &self.sets {
+                if id.starts_with(&prefix) {
+                    for d in s.outputs.iter().chain(&s.inputs) {
+                        out.insert(d.component.clone());
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    /// Open a bundle: its inputs become available to recipes (raw data
+    /// carried, or files the user drops in again, checked by SHA-256), its
+    /// results become the workspace's results.
+    pub fn open_bundle(&mut self, name: &str, bytes: &[u8]) -> Result<OpenedBundle> {
+        let b = bundle::read(bytes, name)?;
+        self.drop_prefix("bundle:");
+        self.bundle_inputs.clear();
+        let mut inputs = Vec::new();
+        let mut missing = Vec::new();
+        for inp in &b.inputs {
+            let raw = inp.bytes().map_err(|e| e.in_file(name))?;
+            if let Some(r) = &raw {
+                let sha = io::sha256_hex(r);
+                if sha != inp.sha256 {
+                    return Err(Error::parse(format!(
+                        "input '{}': its bytes have SHA-256 {sha}, the bundle records {}: the bundle is damaged or was altered",
+                        inp.name, inp.sha256
+                    ))
+                    .in_file(name));
+                }
+            }
+            let sets = match (&raw, &inp.sets) {
+                (Some(r), _) => {
+                    let opts = import_options(&inp.options).map_err(|e| e.in_file(name))?;
+                    io::load(r, &inp.name, &opts)
+                        .map_err(|e| e.in_file(name).field(format!("inputs '{}'", inp.name)))?
+                        .sets
+                }
+                (None, Some(s)) => s.clone(),
+                (None, None) => Vec::new(),
+            };
+            let mut ids = Vec::new();
+            for (k, s) in sets.into_iter().enumerate() {
+                let id = format!("{}{k}", prefix_of("bundle", &inp.name));
+                self.sets.insert(id.clone(), s);
+                ids.push(id);
+            }
+            let supplied = self
+                .files
+                .get(&inp.name)
+                .is_some_and(|f| io::sha256_hex(&f.bytes) == inp.sha256);
+            if inp.withheld() && !supplied {
+                missing.push(inp.name.clone());
+            }
+            inputs.push(OpenedInput {
+                name: inp.name.clone(),
+                sha256: inp.sha256.clone(),
+                format: inp.format.clone(),
+                options: inp.options.clone(),
+                withheld: inp.withheld(),
+                supplied,
+                sets: ids
+                    .iter()
+                    .filter_map(|id| {
+                        self.sets.get(id).map(|s| {
+                            let mut m = summary::set_summary(s);
+                            m.id = id.clone();
+                            m
+                        })
+                    })
+                    .collect(),
+            });
+            self.bundle_inputs.insert(
+                inp.name.clone(),
+                BundleIn {
+                    sha256: inp.sha256.clone(),
+                    options: inp.options.clone(),
+                    format: inp.format.clone(),
+                    bytes: raw,
+                    sets: inp.sets.clone(),
+                },
+            );
+        }
+        self.bundle_name = Some(name.to_string());
+        self.bundle_recipe = b.recipe.clone();
+        let stored = self.store_results(b.results.clone(), b.report.clone());
+        Ok(OpenedBundle {
+            recipe: b.recipe,
+            created: b.created,
+            mortise_version: b.mortise_version,
+            inputs,
+            results: stored.results,
+            report: b.report,
+            missing,
+        })
+    }
+
+    /// The opened bundle's inputs still to be supplied (withheld, not yet
+    /// dropped in again).
+    pub fn missing_inputs(&self) -> Vec<String> {
+        self.bundle_inputs
+            .iter()
+            .filter(|(n, b)| b.bytes.is_none() && b.sets.is_none() && !self.files.contains_key(*n))
+            .map(|(n, _)| n.clone())
+            .collect()
+    }
+
+    /// The recipe of the opened bundle, as text.
+    pub fn bundle_recipe_text(&self) -> Option<String> {
+        self.bundle_recipe
+            .as_ref()
+            .and_then(|v| serde_json::to_string_pretty(v).ok())
+    }
+}
+
+/// Recipe files served from the workspace: loaded files first, then the
+/// opened bundle's inputs.
+struct Source<'a>(&'a Workspace);
+
+impl FileSource for Source<'_> {
+    fn read(&self, name: &str) -> Result<Vec<u8>> {
+        let ws = self.0;
+        let base = io::base_name(name);
+        for key in [name, base.as_str()] {
+            if let Some(f) = ws.files.get(key) {
+                return Ok(f.bytes.clone());
+            }
+            if let Some(b) = ws.bundle_inputs.get(key) {
+                if let Some(bytes) = &b.bytes {
+                    return Ok(bytes.clone());
+                }
+                if b.sets.is_some() {
+                    return Err(Error::unsupported(format!(
+                        "'{key}' travels in this version-1 bundle as FRF sets, not as the file; drop the original file in again to run the recipe"
+                    ))
+                    .field("file"));
+                }
+                return Err(Error::missing(format!(
+                    "'{key}' was withheld from bundle '{}'; drop the original file in again (its SHA-256 must be {})",
+                    ws.bundle_name.as_deref().unwrap_or("?"),
+                    b.sha256
+                ))
+                .field("file"));
+            }
+        }
+        let mut loaded: Vec<&String> = ws.files.keys().collect();
+        loaded.extend(ws.bundle_inputs.keys());
+        Err(Error::recipe(format!(
+            "file '{name}' is not loaded; loaded: {}",
+            if loaded.is_empty() {
+                "none".to_string()
+            } else {
+                loaded
+                    .iter()
+                    .map(|s| s.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            }
+        ))
+        .field("file"))
+    }
+}
+
+/// The one sentence on what a recipient could still infer.
+fn notice(
+    withheld: &[String],
+    hidden: &BTreeSet<String>,
+    dropped: &[String],
+    kept: &[FrfSet],
+    results_only: bool,
+) -> String {
+    if withheld.is_empty() {
+        return "Every input's raw data travels in this bundle: the recipient can see and re-run everything.".into();
+    }
+    let kept_names: Vec<&str> = kept.iter().map(|s| s.name.as_str()).collect();
+    format!(
+        "Withheld: {} (parts {}); the bundle keeps only requested outputs that hold none of the withheld parts' DOFs{}{}, yet a recipient who knows the other parts' FRFs and the excitation can still infer from the kept results ({}) how the withheld parts transmit between those results' DOFs, though not their FRFs over their own DOFs.",
+        withheld.join(", "),
+        hidden.iter().cloned().collect::<Vec<_>>().join(", "),
+        if dropped.is_empty() {
+            String::new()
+        } else {
+            format!(" (left out: {})", dropped.join(", "))
+        },
+        if results_only { ", and no raw data at all" } else { "" },
+        if kept_names.is_empty() { "none".to_string() } else { kept_names.join(", ") },
+    )
+}
