@@ -240,6 +240,10 @@
       head.append(el('button', { class: 'btn small', title: 'remove this file', onclick: () => removeFile(f.name) }, 'Remove'));
       card.append(head);
       if (f.error) card.append(errorBox(f.error));
+      // refused because it is not the file an opened bundle was made from
+      if (f.error && (S.bundle?.info?.inputs || []).some((inp) => inp.name === f.name) && /SHA-256/.test(errorText(f.error))) {
+        card.append(el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ not the file bundle ${S.bundle.name} was made from: refused`));
+      }
       if (f.summary) {
         const s = f.summary;
         card.append(el('dl', { class: 'kv' },
@@ -464,8 +468,10 @@
       }
       const rows = (report.steps || []).map((st) => el('tr', {},
         el('td', {}, st.id), el('td', {}, st.op),
-        el('td', {}, st.worst_condition !== undefined && st.worst_condition !== null
-          ? `interface condition number up to ${fmt(st.worst_condition)} at ${fmt(st.worst_condition_hz)} Hz` : ''),
+        el('td', {}, st.interface?.worst_condition != null
+          ? `interface condition number up to ${fmt(st.interface.worst_condition)} at ${fmt(st.interface.worst_condition_hz)} Hz`
+          : st.blocked?.worst_indicator_condition != null
+            ? `indicator matrix condition number up to ${fmt(st.blocked.worst_indicator_condition)} at ${fmt(st.blocked.worst_indicator_condition_hz)} Hz` : ''),
         el('td', {}, [...new Set(st.warnings || [])].filter((w) => w !== report.caution).join('; '))));
       if (rows.length) rep.append(el('table', {}, el('tr', {}, el('th', {}, 'step'), el('th', {}, 'operation'), el('th', {}, 'conditioning'), el('th', {}, 'warnings')), ...rows));
       for (const v of report.variants || []) {
@@ -490,10 +496,10 @@
     const h = Math.round(Math.max(320, Math.min(560, w * 0.48)));
     const base = { width: w, height: h, db: S.plot.db, x_log: S.plot.xlog, x_range: S.plot.xrange };
     if (S.plot.kind === 'condition') {
-      const steps = (S.results?.report?.steps || []).filter((s) => Array.isArray(s.condition));
+      const steps = (S.results?.report?.steps || []).filter((s) => Array.isArray(s.interface?.condition));
       const grid = S.results?.results?.[0]?.id;
       return { ...base, kind: 'lines', y_log: true, y_label: 'condition number of the interface matrix',
-        lines: steps.map((s) => ({ label: `step ${s.id}`, x: [], y: s.condition.map((v) => (v === null ? NaN : v)), x_from: grid })) };
+        lines: steps.map((s) => ({ label: `step ${s.id}`, x: [], y: s.interface.condition.map((v) => (v === null ? NaN : v)), x_from: grid })) };
     }
     if (S.plot.kind === 'bars') {
       // the run report's path ranking when there is one, else the chosen set's inputs
@@ -630,10 +636,13 @@
   }
   async function saveBundle() {
     try {
-      const opts = { created: new Date().toISOString(), include_raw: S.includeRaw };
-      const bytes = await Bridge.call('make_bundle', [$('recipe-text').value, JSON.stringify(opts)], 'writing the bundle');
-      download(bytes, 'mortise-bundle.json', 'application/json');
-      $('bundle-info').textContent = `bundle written: ${bytes.length} bytes`;
+      const loaded = new Set(S.files.filter((f) => f.summary).map((f) => f.name));
+      const include = Object.fromEntries(Object.entries(S.includeRaw).filter(([n]) => loaded.has(n)));
+      const opts = { created: new Date().toISOString(), include_raw: include, results_only: $('bundle-results-only').checked };
+      const made = await Bridge.call('make_bundle', [$('recipe-text').value, JSON.stringify(opts)], 'writing the bundle');
+      const info = JSON.parse(made.info);
+      download(made.bytes, 'mortise-bundle.json', 'application/json');
+      $('bundle-info').textContent = `bundle written: ${made.bytes.length} bytes. ${info.notice}`;
     } catch (e) {
       $('bundle-info').textContent = 'bundle failed: ' + errorText(e);
     }
@@ -648,7 +657,8 @@
       if (!restoring) { S.plot.sel = defaultSelection(info.results); S.plot.xrange = null; }
       renderAll();
       await drawPlot();
-      status(`bundle ${name} opened: ${info.results.length} result(s), made with mortise ${info.mortise_version}` + (info.created ? ` on ${info.created}` : ''));
+      status(`bundle ${name} opened: ${info.results.length} result(s), made with mortise ${info.mortise_version}` + (info.created ? ` on ${info.created}` : '')
+        + (info.missing.length ? `; to re-run, drop in again: ${info.missing.join(', ')}` : '; it runs as it is'));
       autosave();
     } catch (e) {
       S.files.push({ name, bytes, options: {}, summary: null, error: e });

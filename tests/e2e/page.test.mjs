@@ -127,7 +127,7 @@ function cli() {
   return bin;
 }
 
-test('a recipe runs in the worker, plots, exports like the CLI; a bundle without raw data hides them and reopens the same', async () => {
+test('a recipe runs in the worker, plots, exports like the CLI; a bundle with a supplier withheld leaks nothing and runs again once the original is dropped in', async () => {
   const s = await open();
   let csvPage, bundle;
   try {
@@ -169,9 +169,14 @@ test('a recipe runs in the worker, plots, exports like the CLI; a bundle without
     assert.match(svgFile.bytes.toString(), /^<svg/);
     const png = await saveDownload(s.page, '[data-export=png]');
     assert.deepEqual([...png.bytes.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47]);
-    // bundle without the frame supplier's raw data
+    // bundle without the frame supplier's raw data: the coupled result over
+    // frame DOFs is left out, and the page says what could still be inferred
     await s.page.uncheck('[data-raw="frame.csv"]');
     bundle = await saveDownload(s.page, '#bundle-btn');
+    const note = await s.page.textContent('#bundle-info');
+    assert.match(note, /Withheld: frame\.csv/, note);
+    assert.match(note, /left out: assembly/, note);
+    assert.match(note, /infer/, note);
     assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
 
@@ -186,36 +191,64 @@ test('a recipe runs in the worker, plots, exports like the CLI; a bundle without
   report('page vs CLI worst relative difference', d);
   assert.ok(d <= 1e-12, `page and CLI differ by ${d}`);
 
-  // Withheld data: none of frame.csv's values are in the bundle; mass.csv's are.
+  // Withheld data: frame.csv's bytes and values are not in the bundle;
+  // mass.csv travels as its bytes; no result holds a frame DOF.
   const btext = bundle.bytes.toString();
+  const b = JSON.parse(btext);
+  const inputs = Object.fromEntries(b.inputs.map((i) => [i.name, i]));
+  assert.equal(inputs['frame.csv'].data, undefined);
+  assert.equal(inputs['frame.csv'].sets, undefined);
+  assert.equal(Buffer.from(inputs['mass.csv'].data, 'base64').toString(), massCsv());
+  assert.equal(b.results.length, 0, 'the coupled matrix over frame DOFs must not travel');
   const frameVals = frameCsv().split('\n').filter((l) => /^\d/.test(l)).slice(0, 40).flatMap((l) => l.split(',').slice(1, 3));
-  const massVals = massCsv().split('\n').filter((l) => /^\d/.test(l)).slice(0, 40).map((l) => l.split(',')[1]);
   const jsonNum = (t) => JSON.stringify(Number(t));
   assert.equal(frameVals.filter((v) => btext.includes(jsonNum(v))).length, 0, 'withheld values must not be in the bundle');
-  assert.ok(massVals.filter((v) => btext.includes(jsonNum(v))).length > 30, 'included values are in the bundle (the check can see them)');
-  assert.match(btext, /"frame\.csv"/);
+  assert.ok(!btext.includes(Buffer.from(frameCsv()).toString('base64')), 'withheld bytes must not be in the bundle');
   const sha = (await import('node:crypto')).createHash('sha256').update(frameCsv()).digest('hex');
   assert.ok(btext.includes(sha), 'the withheld input keeps its SHA-256');
 
-  // Reopen the bundle in a fresh browser: same result.
+  // Reopen the bundle in a fresh browser: it asks for the withheld file; an
+  // edited one is refused by its SHA-256; the original makes it run, to the
+  // same numbers.
   const s2 = await open();
   try {
     await s2.page.setInputFiles('#file-input', { name: bundle.name, mimeType: 'application/json', buffer: bundle.bytes });
     await s2.page.waitForFunction(() => /bundle .* opened/.test(document.getElementById('status-text').textContent), null, { timeout: 20000 })
       .catch(async (e) => { throw new Error(`${e.message}; status: ${await s2.page.textContent('#status-text')}; cards: ${await s2.page.textContent('#cards')}`); });
-    await s2.page.waitForFunction(() => document.body.dataset.plotted);
-    const text = await s2.page.textContent('#cards');
-    assert.match(text, /raw data withheld by the sender/);
-    const again = await saveDownload(s2.page, '[data-export=csv]');
-    assert.equal(again.bytes.toString(), csvPage.bytes.toString(), 'the reopened bundle gives the same result');
+    assert.match(await s2.page.textContent('#status-text'), /drop in again: frame\.csv/);
+    assert.match(await s2.page.textContent('#cards'), /raw data withheld by the sender/);
     await shot(s2.page, '06-bundle-reopened');
-    // the withheld file dropped in again is recognised by its SHA-256; an edited one is flagged
     const drop = (data) => s2.page.setInputFiles('#file-input', { name: 'frame.csv', mimeType: 'text/csv', buffer: Buffer.from(data) });
-    await drop(frameCsv());
-    await s2.page.waitForSelector('[data-file="frame.csv"] [data-bundle-match]');
-    assert.equal(await s2.page.$eval('[data-file="frame.csv"] [data-bundle-match]', (e) => e.dataset.bundleMatch), 'yes');
     await drop(frameCsv() + '\n');
     await s2.page.waitForSelector('[data-file="frame.csv"] [data-bundle-match="no"]');
+    await drop(frameCsv());
+    await s2.page.waitForSelector('[data-file="frame.csv"] [data-bundle-match="yes"]');
+    await runRecipe(s2.page);
+    const again = await saveDownload(s2.page, '[data-export=csv]');
+    assert.equal(again.bytes.toString(), csvPage.bytes.toString(), 'the re-supplied bundle gives the same result');
+    assert.deepEqual(s2.foreign(), []);
+  } finally { await s2.close(); }
+});
+
+test('a bundle with every input opens in a fresh profile and runs again to the same numbers', async () => {
+  const s = await open();
+  let first, bundle;
+  try {
+    await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
+    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await runRecipe(s.page);
+    first = await saveDownload(s.page, '[data-export=csv]');
+    bundle = await saveDownload(s.page, '#bundle-btn');
+    assert.match(await s.page.textContent('#bundle-info'), /Every input's raw data travels/);
+  } finally { await s.close(); }
+  const s2 = await open();
+  try {
+    await s2.page.setInputFiles('#file-input', { name: bundle.name, mimeType: 'application/json', buffer: bundle.bytes });
+    await s2.page.waitForFunction(() => /bundle .* opened/.test(document.getElementById('status-text').textContent), null, { timeout: 20000 });
+    assert.match(await s2.page.textContent('#status-text'), /it runs as it is/);
+    await runRecipe(s2.page);
+    const again = await saveDownload(s2.page, '[data-export=csv]');
+    assert.equal(again.bytes.toString(), first.bytes.toString(), 'the bundle runs again to the same numbers');
     assert.deepEqual(s2.foreign(), []);
   } finally { await s2.close(); }
 });
