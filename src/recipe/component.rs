@@ -310,3 +310,96 @@ mod tests {
         assert!(e.message.contains("at most 1000000"), "{e}");
     }
 }
+
+/// The first key of `given` that parsing did not use: the path of a key
+/// absent from the re-serialized `parsed` (a `null` may be absent). The
+/// synthesized models flatten their parameters, which serde cannot check for
+/// unknown keys; this check closes that gap.
+pub(crate) fn unused_key(
+    given: &serde_json::Value,
+    parsed: &serde_json::Value,
+    path: &str,
+) -> Option<String> {
+    use serde_json::Value;
+    match (given, parsed) {
+        (Value::Object(g), Value::Object(p)) => {
+            for (k, v) in g {
+                let here = if path.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{path}.{k}")
+                };
+                match p.get(k) {
+                    None if v.is_null() => {}
+                    None => return Some(here),
+                    Some(pv) => {
+                        if let Some(u) = unused_key(v, pv, &here) {
+                            return Some(u);
+                        }
+                    }
+                }
+            }
+            None
+        }
+        (Value::Array(g), Value::Array(p)) if g.len() == p.len() => g
+            .iter()
+            .zip(p)
+            .enumerate()
+            .find_map(|(i, (a, b))| unused_key(a, b, &format!("{path}[{i}]"))),
+        _ => None,
+    }
+}
+
+#[cfg(test)]
+mod synth_keys {
+    use super::*;
+
+    #[test]
+    fn unknown_keys_of_synthesized_parts_are_refused() {
+        for (t, key) in [
+            (
+                r#"{"model": "network", "component": "rig", "masses": [{"node": "1", "mass": 2.0}], "links": [{"a": "1", "k": 8.0e4, "c": 15.0}], "zz": 1}"#,
+                "zz",
+            ),
+            (
+                r#"{"model": "modal", "name": "m", "dofs": ["m:1+Z"], "modes": [{"freq": 30.0, "zeta": 0.02, "shape": [1.0]}], "damping": 1}"#,
+                "damping",
+            ),
+            (
+                r#"{"model": "beam", "component": "b", "young": 2.1e11, "second_moment": 1e-8, "density": 7850.0, "area": 1e-4, "length": 1.0, "elements": 6, "loss_factor": 0.01, "left": "clamped", "at": [6], "lenght": 2}"#,
+                "lenght",
+            ),
+            (
+                r#"{"model": "isolator", "name": "i", "dof": "i:1+Z", "table": [{"freq": 0.0, "k": 1e5, "eta": 0.1}], "zz": 1}"#,
+                "zz",
+            ),
+            (
+                r#"{"model": "network", "component": "rig", "masses": [{"node": "1", "mass": 2.0, "mas": 1}], "links": [{"a": "1", "k": 8.0e4, "c": 15.0}]}"#,
+                "masses[0].mas",
+            ),
+        ] {
+            let v =
+                serde_json::json!({"synth": serde_json::from_str::<serde_json::Value>(t).unwrap()});
+            let spec: ComponentSpec = serde_json::from_value(v.clone()).unwrap();
+            let back = serde_json::to_value(&spec).unwrap();
+            assert_eq!(
+                unused_key(&v, &back, "").as_deref(),
+                Some(format!("synth.{key}").as_str()),
+                "{t}"
+            );
+            // and without the stray key nothing is flagged
+            let mut clean = v.clone();
+            let obj = clean["synth"].as_object_mut().unwrap();
+            obj.remove(key);
+            if key.starts_with("masses") {
+                obj["masses"][0].as_object_mut().unwrap().remove("mas");
+            }
+            let spec: ComponentSpec = serde_json::from_value(clean.clone()).unwrap();
+            assert_eq!(
+                unused_key(&clean, &serde_json::to_value(&spec).unwrap(), ""),
+                None,
+                "{t}"
+            );
+        }
+    }
+}

@@ -181,10 +181,20 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
     }
     let mut components = BTreeMap::new();
     for (name, v) in raw.components {
-        let c: ComponentSpec = serde_json::from_value(v).map_err(|e| {
+        let c: ComponentSpec = serde_json::from_value(v.clone()).map_err(|e| {
             Error::recipe(e.to_string().replace("unknown field", "unknown key"))
                 .within(format!("components.{name}"))
         })?;
+        // every key used: what serde's flattened models cannot refuse
+        let back = serde_json::to_value(&c)
+            .map_err(|e| Error::internal(format!("cannot encode a component: {e}")))?;
+        if let Some(k) = component::unused_key(&v["synth"], &back["synth"], "synth") {
+            return Err(
+                Error::recipe(format!("unknown key `{k}`: nothing reads it"))
+                    .field(k)
+                    .within(format!("components.{name}")),
+            );
+        }
         components.insert(name, c);
     }
     let mut steps = Vec::new();
