@@ -305,13 +305,18 @@ pub const CONVERT: Command = Command {
 
 pub const RUN: Command = Command {
     name: "run",
-    summary: "execute a recipe; write its outputs as UFF 58 and CSV plus report.json",
-    usage: "mortise run RECIPE -o OUTDIR [--json]",
+    summary: "execute a recipe (or the recipe of a bundle); write its outputs as UFF 58 and CSV plus report.json",
+    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json]",
     about: "Executes RECIPE (mortise's JSON recipe: components, steps, variants, outputs; \
             'mortise help recipe') from files alone. File names inside the recipe are relative to \
             the recipe file's own directory, so a recipe runs the same from any current \
             directory.\n\n\
-            Writes every requested output to OUTDIR (created if needed) as NAME.uff (UFF 58; text \
+            Given a BUNDLE instead (detected by content), runs the recipe it holds on the input \
+            files it carries; an input the sender withheld is read from a file of the same name \
+            beside the bundle, which must have the SHA-256 the bundle records.\n\n\
+            Writes every requested output (and each step's extra results: a path analysis's \
+            per-path contributions as ID/PATH, a blocked-force validation's predicted and measured \
+            spectra) to OUTDIR (created if needed) as NAME.uff (UFF 58; text \
             node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
             lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
             of every component, the headline), and prints the headline.",
