@@ -201,16 +201,15 @@ pub fn put_results(json: &str) -> std::result::Result<String, JsValue> {
 /// "uff", "uff-binary" or "csv" (UFF: text node labels numbered as
 /// `mortise run` numbers them).
 fn export_ids(ids_json: &str, format: &str) -> Result<io::Exported> {
-    let fmt = match format {
-        "uff" => ExportFormat::Uff,
-        "uff-binary" => ExportFormat::UffBinary,
-        "csv" => ExportFormat::Csv,
-        other => {
-            return Err(Error::usage(format!(
-                "unknown export format '{other}'; expected uff, uff-binary or csv"
-            ))
+    // the one parser of format names; a bundle is written by make_bundle
+    let fmt = match ExportFormat::parse(format).map_err(|e| e.field("format"))? {
+        ExportFormat::Bundle => {
+            return Err(Error::usage(
+                "a bundle is written by 'Save bundle', not as an export of sets",
+            )
             .field("format"))
         }
+        f => f,
     };
     let ids: Vec<String> = serde_json::from_str(ids_json)
         .map_err(|e| Error::usage(format!("set list: {e}")).field("ids"))?;

@@ -87,20 +87,13 @@ pub fn parse_join(text: &str, extra: &mut BTreeMap<String, ComponentSpec>) -> Re
     .map_err(|e| bad(&e.message))
 }
 
-/// The export format implied by a file name's extension.
+/// The export format implied by a file name's extension (the one table,
+/// [`ExportFormat::from_extension`]).
 pub fn format_from_name(name: &str) -> Result<ExportFormat> {
-    let lower = name.to_ascii_lowercase();
-    let ext = lower.rsplit('.').next().unwrap_or("");
-    Ok(match ext {
-        "uff" | "unv" => ExportFormat::Uff,
-        "uffb" => ExportFormat::UffBinary,
-        "csv" | "tsv" | "txt" => ExportFormat::Csv,
-        "json" | "mortise" => ExportFormat::Bundle,
-        _ => {
-            return Err(Error::usage(format!(
-                "cannot tell the output format from '{name}'; use an extension .uff, .uffb, .csv or .json (bundle)"
-            )))
-        }
+    ExportFormat::from_extension(name).ok_or_else(|| {
+        Error::usage(format!(
+            "cannot tell the output format from '{name}'; use an extension .uff, .uffb, .csv or .json (bundle)"
+        ))
     })
 }
 

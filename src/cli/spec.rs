@@ -361,8 +361,7 @@ pub const COUPLE: Command = Command {
                 "o",
                 "OUT",
                 "the file to write (required); its format follows the extension: .uff or .unv \
-                 (UFF 58), .uffb (58b), .csv, .tsv or .txt (mortise CSV), .json or .mortise \
-                 (bundle)",
+                 (UFF 58), .uffb (58b), .csv (mortise CSV), .json (bundle)",
             ),
             val(
                 "tsvd",

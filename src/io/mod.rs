@@ -548,12 +548,14 @@ impl ExportFormat {
             }
         })
     }
-    /// From a file name's extension: .uff/.unv, .csv, .json; binary UFF needs `--to`.
+    /// From a file name's extension: .uff/.unv, .uffb (binary UFF), .csv,
+    /// .json (bundle). The one table of extensions (convert and couple).
     pub fn from_extension(name: &str) -> Option<ExportFormat> {
         let base = base_name(name).to_ascii_lowercase();
         let ext = base.rsplit_once('.').map(|(_, e)| e)?;
         Some(match ext {
             "uff" | "unv" => ExportFormat::Uff,
+            "uffb" => ExportFormat::UffBinary,
             "csv" => ExportFormat::Csv,
             "json" => ExportFormat::Bundle,
             _ => return None,
