@@ -3,10 +3,13 @@
 //!
 //! B is Boolean, so Y B_fᵀ is a signed selection of interface columns and
 //! B_u Y a signed selection of interface rows; the block-diagonal Y is never
-//! formed. Per line the work is: the m×m interface matrix, its singular values
-//! (condition number), an LU solve (or a truncated-SVD pseudo-inverse) for
-//! X = (B_u Y B_fᵀ + Γ)⁻¹ B_u Y, and the rank-m update Y − (Y B_fᵀ) X.
+//! formed. This file checks and prepares the inputs, deals the lines out to
+//! threads and, per line, forms the m×m interface matrix and the selections,
+//! hands X = (B_u Y B_fᵀ + Γ)⁻¹ B_u Y to [`super::interface_solve`] (singular
+//! values, LU or truncated-SVD pseudo-inverse) and does the rank-m update
+//! Y − (Y B_fᵀ) X with [`super::kernel`].
 
+use super::interface_solve::{self, Inverted};
 use super::kernel;
 use super::{
     require_motion_per_force, require_same_grid, Assembled, CouplingOptions, Joint, JointKind,
@@ -14,7 +17,6 @@ use super::{
 use crate::error::{Error, Result};
 use crate::frf::{labels, Dof, FrfKind, FrfSet};
 use crate::units::Quantity;
-use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::borrow::Cow;
 use std::mem::MaybeUninit;
@@ -313,11 +315,13 @@ fn solve(
     }
     let total = nl * n_rows * n_cols;
     let mut data = large_buffer(total);
-    let (condition, truncated) = run_lines(
+    let lines = run_lines(
         &prep,
         &mut data.spare_capacity_mut()[..total],
         threads.max(1),
     )?;
+    let condition: Vec<f64> = lines.iter().map(|l| l.cond).collect();
+    let truncated: Vec<usize> = lines.iter().map(|l| l.dropped).collect();
     // SAFETY: run_lines returned Ok, so every line's `one_line` returned Ok,
     // and it does so only after writing all n_rows × n_cols values of its line
     // (it counts the rows written); the lines tile the first `total` values.
@@ -341,26 +345,13 @@ fn solve(
             }
         }
     }
-    let cut: Vec<usize> = (0..nl).filter(|&k| truncated[k] > 0).collect();
-    if !cut.is_empty() {
-        warnings.push(format!(
-            "{what}: the truncated SVD dropped singular values on {} of {} lines ({}); the interface forces there are regularised estimates",
-            cut.len(),
-            nl,
-            lines_text(&cut, &first.freqs)
-        ));
-    }
-    let bad: Vec<usize> = (0..nl)
-        .filter(|&k| condition[k].is_nan() || condition[k] >= 1e10)
-        .collect();
-    if !bad.is_empty() {
-        warnings.push(format!(
-            "{what}: the interface matrix is ill-conditioned (2-norm condition number above 1e10) on {} of {} lines ({}); results there are sensitive to noise",
-            bad.len(),
-            nl,
-            lines_text(&bad, &first.freqs)
-        ));
-    }
+    warnings.extend(interface_solve::warnings(
+        what,
+        &lines,
+        &first.freqs,
+        opts.tsvd_rel_threshold,
+        m,
+    ));
     let set = FrfSet {
         name: name.to_string(),
         freqs: first.freqs.clone(),
@@ -411,18 +402,6 @@ fn large_buffer(n: usize) -> Vec<Complex64> {
         }
     }
     v
-}
-
-fn lines_text(lines: &[usize], freqs: &[f64]) -> String {
-    let mut s: Vec<String> = lines
-        .iter()
-        .take(6)
-        .map(|&k| format!("{} Hz", freqs[k]))
-        .collect();
-    if lines.len() > 6 {
-        s.push("...".into());
-    }
-    s.join(", ")
 }
 
 fn check_distinct_dofs(components: &[&FrfSet]) -> Result<()> {
@@ -599,8 +578,8 @@ struct Work {
     xi: Vec<f64>,
     /// Y B_fᵀ, n_rows × m
     p: Vec<Complex64>,
-    /// the inverse (or pseudo-inverse) of the interface matrix, m × m row-major
-    zinv: Vec<Complex64>,
+    /// scratch of the interface solve
+    solve: interface_solve::SolveWork,
     buf: Vec<f64>,
 }
 
@@ -619,13 +598,14 @@ impl Work {
                 Complex64::new(0.0, 0.0);
                 p.n_rows.div_ceil(kernel::ROW_PAD) * kernel::ROW_PAD * m
             ],
-            zinv: vec![Complex64::new(0.0, 0.0); m.div_ceil(kernel::ROW_PAD) * kernel::ROW_PAD * m],
+            solve: interface_solve::SolveWork::new(m),
             buf: vec![0.0; 8 * cp],
         }
     }
 }
 
-type LineResults = (Vec<f64>, Vec<usize>);
+/// How each line's interface matrix was inverted, in line order.
+type LineResults = Vec<Inverted>;
 
 fn run_chunk(
     p: &Prepared,
@@ -635,15 +615,12 @@ fn run_chunk(
 ) -> Result<LineResults> {
     let size = p.n_rows * p.n_cols;
     let n = out.len().checked_div(size).unwrap_or(0);
-    let mut cond = Vec::with_capacity(n);
-    let mut trunc = Vec::with_capacity(n);
+    let mut done = Vec::with_capacity(n);
     for (l, dst) in out.chunks_mut(size.max(1)).enumerate() {
         prefetch_line(p, k0 + l + 1);
-        let (c, t) = one_line(p, k0 + l, w, dst)?;
-        cond.push(c);
-        trunc.push(t);
+        done.push(one_line(p, k0 + l, w, dst)?);
     }
-    Ok((cond, trunc))
+    Ok(done)
 }
 
 /// Ask for the components' data of line `k` to be brought into the cache
@@ -726,25 +703,23 @@ fn run_lines(
     });
     let mut all: Done = results.into_iter().flatten().collect();
     all.sort_by_key(|(b, _)| *b);
-    let mut cond = Vec::with_capacity(nl);
-    let mut trunc = Vec::with_capacity(nl);
+    let mut lines = Vec::with_capacity(nl);
     for (seen, (b, r)) in all.into_iter().enumerate() {
-        let (c, t) = r?;
+        let done = r?;
         if b != seen {
             return Err(Error::numeric(format!(
                 "internal: block {seen} of the coupling was not computed"
             )));
         }
-        cond.extend(c);
-        trunc.extend(t);
+        lines.extend(done);
     }
-    if cond.len() != nl {
+    if lines.len() != nl {
         return Err(Error::numeric(format!(
             "internal: {} of {nl} lines computed",
-            cond.len()
+            lines.len()
         )));
     }
-    Ok((cond, trunc))
+    Ok(lines)
 }
 
 #[cfg(target_arch = "wasm32")]
@@ -756,22 +731,22 @@ fn run_lines(
     run_chunk(p, 0, data, &mut Work::new(p))
 }
 
-/// One frequency line: fills `dst` (n_rows × n_cols) and returns the
-/// condition number and the number of dropped singular values.
+/// One frequency line: fills `dst` (n_rows × n_cols) and returns how the
+/// interface matrix was inverted (condition number, dropped singular values).
 fn one_line(
     p: &Prepared,
     k: usize,
     w: &mut Work,
     dst: &mut [MaybeUninit<Complex64>],
-) -> Result<(f64, usize)> {
+) -> Result<Inverted> {
     let m = p.ends.len();
     let nc = p.n_cols;
     let cp = w.cp;
     let line = |q: usize| p.sets[q].line(k);
     let y = |q: usize, i: usize, j: usize| line(q)[i * p.sets[q].n_in() + j] * p.psign[q];
 
-    // Interface matrix Z = B_u Y B_fᵀ + Γ.
-    let mut z = DMatrix::<Complex64>::zeros(m, m);
+    // Interface matrix Z = B_u Y B_fᵀ + Γ, row-major.
+    let z = &mut w.solve.z;
     for (r, er) in p.ends.iter().enumerate() {
         for (s, es) in p.ends.iter().enumerate() {
             let mut v = Complex64::new(0.0, 0.0);
@@ -782,9 +757,9 @@ fn one_line(
                     }
                 }
             }
-            z[(r, s)] = v;
+            z[r * m + s] = v;
         }
-        z[(r, r)] += p.gamma[k * m + r];
+        z[r * m + r] += p.gamma[k * m + r];
     }
     let freq = p.sets[0].freqs[k];
     if z.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
@@ -836,74 +811,21 @@ fn one_line(
         }
     }
 
-    let sv = z.singular_values();
-    let smax = sv.iter().cloned().fold(0.0, f64::max);
-    let smin = sv.iter().cloned().fold(f64::INFINITY, f64::min);
-    let cond = if smin > 0.0 {
-        smax / smin
-    } else {
-        f64::INFINITY
-    };
-
-    let mut dropped = 0;
-    let inv = match p.tsvd {
-        Some(t) => {
-            // pseudo-inverse V Σ⁺ Uᴴ without the singular values below t·σ_max
-            let thr = t * smax;
-            let svd = nalgebra::SVD::new(z, true, true);
-            let (Some(u), Some(vt)) = (&svd.u, &svd.v_t) else {
-                return Err(Error::numeric(format!(
-                    "the SVD of the interface matrix at {freq} Hz did not converge"
-                )));
-            };
-            let mut uh = u.adjoint();
-            for (r, s) in svd.singular_values.iter().enumerate() {
-                let f = if *s >= thr && *s > 0.0 {
-                    1.0 / s
-                } else {
-                    dropped += 1;
-                    0.0
-                };
-                for j in 0..m {
-                    uh[(r, j)] *= f;
-                }
-            }
-            vt.adjoint() * uh
-        }
-        None => {
-            let singular = || {
-                Error::numeric(format!(
-                    "the interface matrix B Y Bᵀ + Γ is singular at {freq} Hz (condition number {cond:.3e}); check the joints (a DOF joined twice, a rigid joint at a point that cannot move) or use the truncated-SVD option"
-                ))
-            };
-            if cond.is_nan() || cond >= 1e16 {
-                return Err(singular());
-            }
-            z.lu().try_inverse().ok_or_else(singular)?
-        }
-    };
-    for r in 0..m {
-        for s in 0..m {
-            w.zinv[r * m + s] = inv[(r, s)];
-        }
-    }
-
-    // X = Z⁻¹ (B_u Y)
-    let (xr, xi) = (&mut w.xr, &mut w.xi);
-    kernel::product(
-        w.path,
-        m,
-        m,
-        &w.zinv,
-        &w.byr,
-        &w.byi,
-        cp,
-        &mut w.buf,
-        |i, re, im| {
-            xr[i * cp..(i + 1) * cp].copy_from_slice(re);
-            xi[i * cp..(i + 1) * cp].copy_from_slice(im);
+    // X = Z⁻¹ (B_u Y), or Z⁺ (B_u Y) with the truncated SVD
+    let inv = interface_solve::solve(
+        &mut w.solve,
+        p.tsvd,
+        freq,
+        interface_solve::Columns {
+            br: &w.byr,
+            bi: &w.byi,
+            xr: &mut w.xr,
+            xi: &mut w.xi,
+            cp,
         },
-    );
+        w.path,
+        &mut w.buf,
+    )?;
 
     // Y_c = Y − (Y B_fᵀ) X, row by row; Y is block diagonal.
     let mut written = 0usize;
@@ -951,7 +873,7 @@ fn one_line(
             p.n_rows
         )));
     }
-    Ok((cond, dropped))
+    Ok(inv)
 }
 
 #[cfg(test)]

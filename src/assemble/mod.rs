@@ -37,9 +37,14 @@
 //!   (including the interface DOFs) are meaningful; rows or columns of
 //!   assembly DOFs that lie inside the removed part are not.
 //! * **Per line** the 2-norm condition number of B_u Y B_fᵀ + Γ (from its
-//!   singular values) is reported; with
-//!   [`CouplingOptions::tsvd_rel_threshold`] the inverse is a truncated-SVD
-//!   pseudo-inverse that drops σ < threshold · σ_max.
+//!   singular values, one-sided Jacobi) is reported, and (B_u Y B_fᵀ + Γ)⁻¹ B_u Y
+//!   is solved by LU with partial pivoting. With
+//!   [`CouplingOptions::tsvd_rel_threshold`] the lines where some σ <
+//!   threshold · σ_max use the truncated-SVD pseudo-inverse without them
+//!   instead; lines where none is dropped keep the LU solve, bit for bit.
+//!   Ill-conditioned lines (condition number, or that of the kept singular
+//!   values, above 1e10) are named in a warning with the worst value and the
+//!   remedy.
 //!
 //! The lines are independent; native builds spread them over threads
 //! (`std::thread::scope`), wasm32 builds stay serial. Both paths run the same
@@ -50,6 +55,7 @@ use crate::frf::{Dof, FrfKind, FrfSet};
 use crate::units::Quantity;
 
 mod chain;
+mod interface_solve;
 mod kernel;
 mod lmfbs;
 
@@ -101,7 +107,9 @@ impl Joint {
 /// Options for the interface inversion.
 #[derive(Debug, Clone, Default, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct CouplingOptions {
-    /// Truncated SVD: singular values below this fraction of the largest are dropped.
+    /// Truncated SVD: singular values below this fraction of the largest are
+    /// dropped (the recipe operand "tsvd", `--tsvd` on `mortise couple`).
+    /// Lines where none falls below keep the plain LU solve.
     #[serde(default)]
     pub tsvd_rel_threshold: Option<f64>,
 }
@@ -111,9 +119,11 @@ pub struct CouplingOptions {
 pub struct Assembled {
     /// The assembled FRFs, in the kind of the first component.
     pub set: FrfSet,
-    /// 2-norm condition number of the interface matrix B Y Bᵀ + Γ per line.
+    /// 2-norm condition number of the interface matrix B Y Bᵀ + Γ per line
+    /// (of the whole matrix, also where singular values were dropped).
     pub condition: Vec<f64>,
-    /// Singular values dropped by the regularisation, per line (count).
+    /// Singular values dropped by the regularisation, per line (count; 0 where
+    /// the LU solve was used). The rank kept is the number of joints minus this.
     pub truncated: Vec<usize>,
     pub warnings: Vec<String>,
 }
