@@ -39,6 +39,13 @@ pub struct SetSummary {
     pub frfs: usize,
     /// Entries absent from the matrix.
     pub missing: usize,
+    /// The absent entries, "OUT / IN".
+    #[serde(default)]
+    pub missing_entries: Vec<String>,
+    /// SI unit of the values, e.g. "(m/s²)/N", with rotational DOFs' units
+    /// listed too ("m/N, rad/N").
+    #[serde(default)]
+    pub unit: String,
     pub coherence: bool,
     pub grid: GridSummary,
     pub warnings: Vec<String>,
@@ -119,11 +126,49 @@ pub fn set_summary(set: &FrfSet) -> SetSummary {
         inputs: set.inputs.iter().map(|d| d.to_string()).collect(),
         frfs,
         missing: set.present.len() - frfs,
+        missing_entries: set.missing_entries(),
+        unit: unit_text(set),
         coherence: set.coherence.is_some(),
         grid: grid(&set.freqs),
         warnings: set.warnings.clone(),
         audit: None,
     }
+}
+
+/// The SI unit text of a set's values, for every combination of
+/// translational and rotational DOFs it holds.
+pub fn unit_text(s: &FrfSet) -> String {
+    let rot_out = s.outputs.iter().any(|d| d.dir.is_rotational());
+    let rot_in = s.inputs.iter().any(|d| d.dir.is_rotational());
+    let tr_out = s.outputs.iter().any(|d| !d.dir.is_rotational());
+    let tr_in = s.inputs.iter().any(|d| !d.dir.is_rotational());
+    let mut v = Vec::new();
+    for (ro, ri) in [(false, false), (false, true), (true, false), (true, true)] {
+        let has_o = if ro { rot_out } else { tr_out };
+        let has_i = if ri { rot_in } else { tr_in };
+        if has_o && has_i {
+            let u = if s.signal.is_some() {
+                s.out_qty.si_unit(ro).to_string()
+            } else {
+                let paren = |u: &str| {
+                    if u.contains(['/', '*']) {
+                        format!("({u})")
+                    } else {
+                        u.to_string()
+                    }
+                };
+                format!(
+                    "{}/{}",
+                    paren(s.out_qty.si_unit(ro)),
+                    paren(s.in_qty.si_unit(ri))
+                )
+            };
+            if !v.contains(&u) {
+                v.push(u);
+            }
+        }
+    }
+    v.join(", ")
 }
 
 /// Summary of a loaded file.

@@ -88,7 +88,11 @@ fn general_help_lists_the_commands_and_says_how_to_get_more() {
     let r = mortise(&d, &["help", "recipe"]);
     assert_eq!(r.code, 0);
     for op in mortise::recipe::Op::NAMES {
-        assert!(r.stdout.contains(&format!("  {op}: ")), "{op}: {}", r.stdout);
+        assert!(
+            r.stdout.contains(&format!("  {op}: ")),
+            "{op}: {}",
+            r.stdout
+        );
     }
     assert!(r.stdout.contains("hysteretic"), "{}", r.stdout);
 }

@@ -67,15 +67,16 @@ fn inspect_supplier_file_text_and_json() {
     assert_eq!(file["ok"], true);
     assert_eq!(file["sha256"], sha.trim());
     let s = &file["sets"][0];
-    assert_eq!(s["frf_count"], 1);
+    // the one set summary (the page's cards and the run report show the same)
+    assert_eq!(s["frfs"], 1);
     assert_eq!(s["kind"], "accelerance");
-    assert_eq!(s["out_quantity"], "acceleration");
+    assert_eq!(s["out_qty"], "acceleration");
     assert_eq!(s["inputs"][0], "wall:A1+Z");
-    assert_eq!(s["lines"], 3);
-    assert_eq!(s["first_hz"], 20.0);
-    assert_eq!(s["last_hz"], 30.0);
-    assert_eq!(s["spacing"]["spacing"], "even");
-    assert_eq!(s["spacing"]["step"], 5.0);
+    assert_eq!(s["grid"]["lines"], 3);
+    assert_eq!(s["grid"]["f_min"], 20.0);
+    assert_eq!(s["grid"]["f_max"], 30.0);
+    assert_eq!(s["grid"]["spacing"], "uniform");
+    assert_eq!(s["grid"]["step"], 5.0);
 }
 
 #[test]

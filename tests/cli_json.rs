@@ -52,7 +52,7 @@ fn inspect_json_holds_the_good_file_and_the_bad_files_error_with_its_line() {
     assert_eq!(files.len(), 2);
     assert_eq!(files[0]["file"], good.as_str());
     assert_eq!(files[0]["ok"], true);
-    assert_eq!(files[0]["sets"][0]["lines"], 50);
+    assert_eq!(files[0]["sets"][0]["grid"]["lines"], 50);
     assert_eq!(files[0]["sets"][0]["kind"], "receptance");
     assert_eq!(files[1]["ok"], false);
     let e = &files[1]["error"];

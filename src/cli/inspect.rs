@@ -273,63 +273,10 @@ pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
         .collect()
 }
 
-fn unit_text(s: &FrfSet) -> String {
-    let rot_out = s.outputs.iter().any(|d| d.dir.is_rotational());
-    let rot_in = s.inputs.iter().any(|d| d.dir.is_rotational());
-    let tr_out = s.outputs.iter().any(|d| !d.dir.is_rotational());
-    let tr_in = s.inputs.iter().any(|d| !d.dir.is_rotational());
-    let mut v = Vec::new();
-    for (ro, ri) in [(false, false), (false, true), (true, false), (true, true)] {
-        let has_o = if ro { rot_out } else { tr_out };
-        let has_i = if ri { rot_in } else { tr_in };
-        if has_o && has_i {
-            let u = if s.signal.is_some() {
-                s.out_qty.si_unit(ro).to_string()
-            } else {
-                let paren = |u: &str| {
-                    if u.contains(['/', '*']) {
-                        format!("({u})")
-                    } else {
-                        u.to_string()
-                    }
-                };
-                format!(
-                    "{}/{}",
-                    paren(s.out_qty.si_unit(ro)),
-                    paren(s.in_qty.si_unit(ri))
-                )
-            };
-            if !v.contains(&u) {
-                v.push(u);
-            }
-        }
-    }
-    v.join(", ")
-}
-
-/// A JSON summary of one set.
+/// A JSON summary of one set: the one set summary ([`summary::SetSummary`]),
+/// as the page's cards and the run report show it.
 pub fn set_summary(s: &FrfSet) -> serde_json::Value {
-    let present = s.present.iter().filter(|&&p| p).count();
-    serde_json::json!({
-        "name": s.name,
-        "frf_count": present,
-        "n_outputs": s.n_out(),
-        "n_inputs": s.n_in(),
-        "outputs": s.outputs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
-        "inputs": s.inputs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
-        "missing": s.missing_entries(),
-        "out_quantity": s.out_qty.name(),
-        "in_quantity": s.in_qty.name(),
-        "kind": if s.signal.is_some() { "spectrum".to_string() } else { s.kind().name().to_string() },
-        "signal": s.signal.map(|k| k.name()),
-        "si_unit": unit_text(s),
-        "lines": s.n_lines(),
-        "first_hz": s.freqs.first(),
-        "last_hz": s.freqs.last(),
-        "spacing": spacing(&s.freqs),
-        "coherence": s.coherence.is_some(),
-        "warnings": s.warnings,
-    })
+    serde_json::to_value(crate::summary::set_summary(s)).unwrap_or_default()
 }
 
 fn set_text(n: usize, s: &FrfSet, out: &mut String) {
@@ -343,7 +290,7 @@ fn set_text(n: usize, s: &FrfSet, out: &mut String) {
         s.name,
         s.n_out(),
         s.n_in(),
-        unit_text(s)
+        crate::summary::unit_text(s)
     ));
     out.push_str(&format!("    outputs: {}\n", labels(&s.outputs)));
     out.push_str(&format!("    inputs:  {}\n", labels(&s.inputs)));
