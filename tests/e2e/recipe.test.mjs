@@ -182,6 +182,18 @@ test('a joint changed in the panel is what Run runs: the page equals `mortise ru
     }
     report('edited demo vs demo as shipped, largest relative change', changed);
     assert.ok(changed > 1e-3, `the edited joint changes the results (${changed})`);
+
+    // UFF export numbers the text node labels as `mortise run` does, and offers the table beside the file
+    const bed = await s.page.$eval('#curve-select optgroup[data-group=results] option[data-name=bedroom]', (o) => o.value);
+    await s.page.selectOption('#curve-select', bed);
+    const [uff] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=uff]')]);
+    assert.equal(uff.suggestedFilename(), 'mortise-results.uff');
+    await s.page.waitForSelector('#node-numbers-btn');
+    const [tbl] = await Promise.all([s.page.waitForEvent('download'), s.page.click('#node-numbers-btn')]);
+    const table = JSON.parse(readFileSync(await tbl.path(), 'utf8'));
+    const cliReport = JSON.parse(readFileSync(join(work, 'out', 'report.json'), 'utf8'));
+    assert.deepEqual(table, cliReport.uff_node_numbers.bedroom);
+    assert.match(await s.page.textContent('#export-info'), /numbers the text node labels/);
     assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
 });
