@@ -62,6 +62,155 @@ pub fn recipe_vocabulary() -> std::result::Result<String, JsValue> {
     }))
 }
 
+/// Read recipe text as the core reads it, for the page's assembly panel:
+/// `{ recipe, notes }`, `recipe` being the parsed recipe written back as
+/// JSON (every joint with its `"type"`, exactly the keys the recipe
+/// holds) and `notes` how the recipe was read (joint types inferred from
+/// their parameters, worded as the run report words them). A recipe the
+/// core refuses comes back as the core's error JSON, its `context` naming
+/// the entry (innermost first, as [`Error`] keeps it).
+#[wasm_bindgen]
+pub fn recipe_normalize(text: &str) -> std::result::Result<String, JsValue> {
+    let r = recipe::parse(text).map_err(js_err)?;
+    let mut notes = Vec::new();
+    for st in &r.steps {
+        let joints = match &st.op {
+            recipe::Op::Couple(c) => &c.joints,
+            recipe::Op::Decouple(d) => &d.joints,
+            _ => continue,
+        };
+        for (j, joint) in joints.iter().enumerate() {
+            if let Some(n) = joint.inference_note() {
+                notes.push(format!("step '{}': joints[{j}]: {n}", st.id));
+            }
+        }
+    }
+    if !notes.is_empty() {
+        notes.push(format!("rule: {}", recipe::INFERENCE_RULE));
+    }
+    let value = serde_json::to_value(&r)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode the recipe: {e}"))))?;
+    to_json(&serde_json::json!({ "recipe": value, "notes": notes }))
+}
+
+/// What the page's assembly panel needs to edit a recipe, all from the
+/// core: `empty_recipe` (the smallest recipe the core reads, with its
+/// format and version), `untyped_joint_type` (the type the core reads for a
+/// joint written with no parameters: a new joint's type), and the JSON
+/// shape of every operand and joint parameter, found by asking the recipe
+/// parser itself: for every operation (and joint type) the first
+/// combination of probe values that [`recipe::Step::from_value`] (and the
+/// joint reader) accepts gives each operand's shape: "text" (a string),
+/// "names" (a list of strings), "number", "joints" (a list of joints),
+/// "object", or "json" when no probe fits (the page then edits it as JSON).
+/// Shapes come as `operations: {OP: {OPERAND: SHAPE}}` and `joint_types:
+/// {TYPE: {PARAM: SHAPE}}`; the page draws its editors from them, so no list
+/// of operands, parameters or shapes is kept in JS.
+#[wasm_bindgen]
+pub fn recipe_editor_info() -> std::result::Result<String, JsValue> {
+    use serde_json::{json, Map, Value};
+    let operand_probes = [
+        ("text", json!("x")),
+        ("names", json!(["x"])),
+        ("number", json!(0.5)),
+        ("joints", json!([{"a": "A:1+X", "b": "B:1+X"}])),
+        ("object", json!({"x": ["x"]})),
+    ];
+    let param_probes = [("number", json!(1.0)), ("text", json!("x"))];
+
+    // The first assignment of probes (an optional slot may also be left out)
+    // that `accepts` takes, as slot name → shape.
+    fn search(
+        slots: &[(&str, bool)],
+        probes: &[(&'static str, Value)],
+        accepts: &dyn Fn(&Map<String, Value>) -> bool,
+    ) -> Map<String, Value> {
+        let choices: Vec<usize> = slots
+            .iter()
+            .map(|(_, optional)| probes.len() + usize::from(*optional))
+            .collect();
+        let mut pick = vec![0usize; slots.len()];
+        loop {
+            let mut obj = Map::new();
+            for ((name, _), &p) in slots.iter().zip(&pick) {
+                if let Some((_, v)) = probes.get(p) {
+                    obj.insert((*name).to_string(), v.clone());
+                }
+            }
+            if accepts(&obj) {
+                return slots
+                    .iter()
+                    .zip(&pick)
+                    .map(|((name, _), &p)| {
+                        let shape = probes.get(p).map_or("json", |(s, _)| *s);
+                        ((*name).to_string(), Value::from(shape))
+                    })
+                    .collect();
+            }
+            // next assignment (odometer order); none left → every slot "json"
+            let mut k = 0;
+            loop {
+                if k == pick.len() {
+                    return slots
+                        .iter()
+                        .map(|(name, _)| ((*name).to_string(), Value::from("json")))
+                        .collect();
+                }
+                pick[k] += 1;
+                if pick[k] < choices[k] {
+                    break;
+                }
+                pick[k] = 0;
+                k += 1;
+            }
+        }
+    }
+
+    let mut operations = Map::new();
+    for op in recipe::vocabulary() {
+        let slots: Vec<(&str, bool)> = op.operands.iter().map(|o| (o.name, !o.required)).collect();
+        let name = op.name;
+        let shapes = search(&slots, &operand_probes, &|obj| {
+            let mut step = obj.clone();
+            step.insert("id".into(), json!("probe"));
+            step.insert("op".into(), json!(name));
+            recipe::Step::from_value(Value::Object(step)).is_ok()
+        });
+        operations.insert(name.to_string(), Value::Object(shapes));
+    }
+    let mut joint_types = Map::new();
+    for t in recipe::JOINT_TYPES {
+        let slots: Vec<(&str, bool)> = t.params.iter().map(|p| (p.0, !p.1)).collect();
+        let name = t.name;
+        let shapes = search(&slots, &param_probes, &|obj| {
+            let mut joint = obj.clone();
+            joint.insert("a".into(), json!("A:1+X"));
+            joint.insert("b".into(), json!("B:1+X"));
+            joint.insert("type".into(), json!(name));
+            serde_json::from_value::<recipe::JointSpec>(Value::Object(joint)).is_ok()
+        });
+        joint_types.insert(name.to_string(), Value::Object(shapes));
+    }
+    let empty = recipe::parse(
+        &json!({"format": recipe::RECIPE_FORMAT, "version": recipe::RECIPE_VERSION}).to_string(),
+    )
+    .map_err(js_err)?;
+    let empty = serde_json::to_value(&empty)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode the recipe: {e}"))))?;
+    let untyped: recipe::JointSpec = serde_json::from_value(json!({"a": "A:1+X", "b": "B:1+X"}))
+        .map_err(|e| {
+            js_err(Error::internal(format!(
+                "the joint reader refuses a joint without parameters: {e}"
+            )))
+        })?;
+    to_json(&json!({
+        "empty_recipe": empty,
+        "untyped_joint_type": untyped.type_name(),
+        "operations": operations,
+        "joint_types": joint_types,
+    }))
+}
+
 /// The library version.
 #[wasm_bindgen]
 pub fn version() -> String {

@@ -31,7 +31,17 @@ if (css.toLowerCase().includes('</style')) {
 }
 const glue = safeJs('the wasm-bindgen glue', read(gluePath));
 const workerSrc = safeJs('worker.js', glue + '\n' + read(join(www, 'worker.js')));
-const pageJs = safeJs('bridge.js + app.js', read(join(www, 'bridge.js')) + '\n' + read(join(www, 'app.js')));
+// The page's scripts share one scope, joined in this order inside one function
+// (app.js last: it starts the page). Every other .js file of WWW_DIR must be
+// listed, so none is left out by mistake.
+const PAGE_SCRIPTS = ['ui.js', 'state.js', 'recipe.js', 'files.js', 'assembly.js', 'results.js', 'mapping.js', 'bundle.js', 'app.js'];
+const unlisted = readdirSync(www).filter((n) => n.endsWith('.js') && !['bridge.js', 'worker.js', ...PAGE_SCRIPTS].includes(n));
+if (unlisted.length) {
+  console.error(`tools/inline.mjs: ${unlisted.join(', ')} not in PAGE_SCRIPTS`);
+  process.exit(1);
+}
+const pageJs = safeJs('bridge.js + the page scripts', read(join(www, 'bridge.js')) + "\n(() => {\n'use strict';\n" +
+  PAGE_SCRIPTS.map((n) => `// ---- www/${n} ----\n` + read(join(www, n))).join('\n') + '\n})();\n');
 // The wasm and the demo files travel gzip-compressed (the page inflates them
 // with the browser's own DecompressionStream), which keeps the page small.
 const gz = (b) => gzipSync(b, { level: 9 });

@@ -1,0 +1,161 @@
+// files.js: reading files into the workspace, and their cards.
+// Import options the current recipe gives a file (its column map and DOF
+// namespace), so a supplier CSV named in a recipe reads without the dialog.
+function recipeOptionsFor(name) {
+  const r = R.json;
+  for (const [key, c] of Object.entries(r?.components || {})) {
+    if (!c || typeof c.file !== 'string' || c.file.replace(/^.*[\\/]/, '') !== name) continue;
+    const o = { ...(c.import || {}) };
+    o.component = c.component || o.component || key;
+    return o;
+  }
+  return null;
+}
+async function addFile(name, bytes, options) {
+  const fmtName = await Bridge.call('detect_format', [name, bytes]).catch(() => null);
+  if (/\.recipe\.json$/i.test(name) || fmtName === 'recipe') {
+    if (!(await replaceRecipe(new TextDecoder().decode(bytes), name))) return;
+    // files already loaded that the recipe reads with other options: read them again
+    for (const f of S.files) {
+      const o = recipeOptionsFor(f.name);
+      if (o && JSON.stringify(o) !== JSON.stringify(f.options)) { f.options = o; await loadEntry(f); }
+    }
+    renderAsm();
+    status(`recipe read from ${name}`);
+    autosave();
+    return;
+  }
+  if (!options) options = recipeOptionsFor(name) || undefined;
+  if (fmtName === 'bundle') {
+    // a bundle brings its own recipe and results: ask before the recipe on screen goes
+    if (!restoring && R.text.trim() && !(await ask(`Opening the bundle ${name} replaces the recipe text and the results on screen with the bundle's. Open it?`, 'Open the bundle', 'Keep my recipe'))) {
+      status(`bundle ${name} not opened; the recipe on screen is kept`);
+      return;
+    }
+    await openBundle(name, bytes);
+    adoptRecipeText('the bundle ' + name);
+    // the bundle's results belong to the bundle's recipe: not stale
+    if (S.bundle && S.bundle.bytes === bytes) clearStale();
+    return;
+  }
+  let entry = S.files.find((f) => f.name === name);
+  if (!entry) {
+    entry = { name, bytes, options: options || {}, summary: null, error: null };
+    S.files.push(entry);
+  } else {
+    entry.bytes = bytes;
+    if (options) entry.options = options;
+  }
+  await loadEntry(entry);
+  if (entry.error && /\.(csv|tsv|txt)$/i.test(name) && /column/i.test(entry.error.message || '') && !restoring) {
+    openMapping(entry);
+  }
+}
+async function loadEntry(entry) {
+  try {
+    entry.summary = await Bridge.callJson('load_file', [entry.name, entry.bytes, JSON.stringify(entry.options)], 'reading ' + entry.name);
+    entry.error = null;
+  } catch (e) {
+    entry.summary = null;
+    entry.error = e;
+  }
+  S.filesEpoch++;
+  markStale(`the file ${entry.name} was added or read again after this run`);
+  renderAll();
+  autosave();
+}
+async function removeFile(name) {
+  S.files = S.files.filter((f) => f.name !== name);
+  await Bridge.call('forget_file', [name]);
+  S.filesEpoch++;
+  markStale(`the file ${name} was removed after this run`);
+  renderAll();
+  autosave();
+}
+async function readFiles(list) {
+  for (const f of list) {
+    const bytes = new Uint8Array(await f.arrayBuffer());
+    await addFile(f.name, bytes);
+  }
+  // (a recipe alone, or a bundle, says what became of it itself)
+  const data = list.filter((f) => !/\.recipe\.json$/i.test(f.name));
+  if (data.length && !(S.bundle && list.some((f) => f.name === S.bundle.name))) status(`${S.files.length} file(s) in the workspace`);
+}
+
+// ---------- cards ----------
+function setBlock(s) {
+  const g = s.grid;
+  const grid = `${g.lines} lines, ${fmt(g.f_min)}–${fmt(g.f_max)} Hz, ${g.spacing}` +
+    (g.step ? (g.spacing === 'uniform' ? ` Δf = ${fmt(g.step)} Hz` : ` ratio ${fmt(g.step, 4)}`) : '');
+  const qty = s.signal ? `${s.out_qty} spectrum (${s.signal}), ${s.out_unit}`
+    : `${s.out_qty} / ${s.in_qty} (${s.out_unit} per ${s.in_unit})`;
+  const dl = el('dl', { class: 'kv' },
+    el('dt', {}, 'set'), el('dd', {}, s.name),
+    el('dt', {}, 'kind'), el('dd', {}, s.signal ? 'spectrum' : s.kind),
+    el('dt', {}, 'quantities'), el('dd', {}, qty),
+    el('dt', {}, 'FRFs'), el('dd', {}, `${s.frfs} present` + (s.missing ? `, ${s.missing} missing` : '') + (s.coherence ? ', with coherence' : '')),
+    el('dt', {}, 'outputs'), el('dd', { class: 'dofs' }, s.outputs.join('  ')),
+    el('dt', {}, 'inputs'), el('dd', { class: 'dofs' }, s.inputs.join('  ')),
+    el('dt', {}, 'grid'), el('dd', {}, grid),
+    ...s.warnings.map((w) => el('dd', { class: 'warn' }, '⚠ ' + w)));
+  return el('div', { class: 'set-block' }, dl, auditBlock(s.audit));
+}
+// The core's fitness audit of a set: a count line, then each flagged check
+// with its bands (pass / n/a checks are counted, not listed).
+function auditBlock(a) {
+  if (!a) return null;
+  const n = (st) => a.checks.filter((c) => c.status === st).length;
+  const head = el('div', { class: 'audit-sum' }, `audit: ${n('pass')} passed, ${n('flag')} flagged, ${n('not-applicable')} not applicable`);
+  const flags = a.checks.filter((c) => c.status === 'flag').map((c) => {
+    const bands = (c.flagged || []).map((r) => r.first_band === r.last_band ? `${r.first_band} Hz` : `${r.first_band}–${r.last_band} Hz`).join(', ');
+    return el('div', { class: 'audit-flag', 'data-check': c.check }, `⚑ ${c.check}: ${c.summary}` + (bands ? ` (bands ${bands})` : ''));
+  });
+  return el('div', { class: 'audit' }, head, ...flags);
+}
+function renderCards() {
+  const box = $('cards');
+  clear(box);
+  for (const f of S.files) {
+    const card = el('article', { class: 'card' + (f.error ? ' failed' : ''), 'data-file': f.name });
+    const head = el('div', { class: 'card-head' },
+      el('span', { class: 'card-name' }, f.name),
+      f.summary ? el('span', { class: 'tag' }, f.summary.format) : el('span', { class: 'tag' }, 'not read'));
+    if (/\.(csv|tsv|txt)$/i.test(f.name) && (!f.summary || f.summary.format === 'csv-mapped')) head.append(el('button', { class: 'btn small', onclick: () => openMapping(f) }, 'Map columns…'));
+    head.append(el('button', { class: 'btn small', title: 'remove this file', onclick: () => removeFile(f.name) }, 'Remove'));
+    card.append(head);
+    if (f.error) card.append(errorBox(f.error));
+    // refused because it is not the file an opened bundle was made from
+    if (f.error && (S.bundle?.info?.inputs || []).some((inp) => inp.name === f.name) && /SHA-256/.test(errorText(f.error))) {
+      card.append(el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ not the file bundle ${S.bundle.name} was made from: refused`));
+    }
+    if (f.summary) {
+      const s = f.summary;
+      card.append(el('dl', { class: 'kv' },
+        el('dt', {}, 'FRFs'), el('dd', {}, `${s.frfs} in ${s.sets.length} set(s), ${s.bytes} bytes`),
+        el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, s.sha256)));
+      // a file named in an opened bundle: is it the very file the bundle was made from?
+      const inBundle = (S.bundle?.info?.inputs || []).find((inp) => inp.name === f.name);
+      if (inBundle && inBundle.sha256) {
+        card.append(inBundle.sha256 === s.sha256
+          ? el('div', { class: 'audit-sum', 'data-bundle-match': 'yes' }, `SHA-256 matches the file bundle ${S.bundle.name} was made from`)
+          : el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ SHA-256 differs from the file bundle ${S.bundle.name} was made from (${inBundle.sha256.slice(0, 16)}…): its results do not describe this file`));
+      }
+      for (const w of s.warnings) card.append(el('div', { class: 'warn' }, '⚠ ' + w));
+      for (const set of s.sets) card.append(setBlock(set));
+    }
+    box.append(card);
+  }
+  if (S.bundle) {
+    const info = S.bundle.info;
+    for (const inp of info.inputs) {
+      if (S.files.some((f) => f.name === inp.name)) continue;
+      const card = el('article', { class: 'card withheld', 'data-file': inp.name },
+        el('div', { class: 'card-head' }, el('span', { class: 'card-name' }, inp.name),
+          el('span', { class: 'tag' }, inp.format), el('span', { class: 'tag' }, 'from bundle ' + S.bundle.name)),
+        el('dl', { class: 'kv' }, el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, inp.sha256)),
+        inp.withheld ? el('div', { class: 'warn' }, 'raw data withheld by the sender; drop the original file here to re-run (its SHA-256 must match)') : null,
+        ...inp.sets.map(setBlock));
+      box.append(card);
+    }
+  }
+}
