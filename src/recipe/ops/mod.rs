@@ -243,6 +243,15 @@ impl Step {
             ))
             .field("op"));
         }
+        // a joint's error names the joint (serde would name only the step)
+        if let Some(serde_json::Value::Array(js)) = map.get("joints") {
+            for (i, j) in js.iter().enumerate() {
+                serde_json::from_value::<crate::recipe::JointSpec>(j.clone()).map_err(|e| {
+                    Error::recipe(e.to_string().replace("unknown field", "unknown parameter"))
+                        .within(format!("joints[{i}]"))
+                })?;
+            }
+        }
         let op: Op = serde_json::from_value(serde_json::Value::Object(map)).map_err(|e| {
             Error::recipe(format!(
                 "operation '{op_name}': {}",
