@@ -3,11 +3,11 @@
 //!
 //! # The mortise FRF table (our own layout, version 1)
 //!
-//! A file holds one or more blocks, one per [`FrfSet`]. A block is a run of
-//! header comment lines, one column-header row, then one data row per
-//! frequency line. Values are always SI (see [`crate::units`]); numbers are
-//! written with the shortest text that reads back to the same f64, so
-//! reading a written file reproduces every value bit for bit.
+//! A file holds one or more blocks, one per [`FrfSet`](crate::frf::FrfSet).
+//! A block is a run of header comment lines, one column-header row, then one
+//! data row per frequency line. Values are always SI (see [`crate::units`]);
+//! numbers are written with the shortest text that reads back to the same
+//! f64, so reading a written file reproduces every value bit for bit.
 //!
 //! ```text
 //! # mortise-frf 1
@@ -28,7 +28,7 @@
 //! Header lines, in this order, each `# key: value`:
 //! * `mortise-frf 1`: the magic line and layout version (first line of a block);
 //! * `name`: the set name;
-//! * `out-quantity`, `in-quantity`: [`Quantity`] names (`displacement`,
+//! * `out-quantity`, `in-quantity`: [`Quantity`](crate::units::Quantity) names (`displacement`,
 //!   `velocity`, `acceleration`, `force`, `pressure`, `volume-velocity`,
 //!   `dimensionless`);
 //! * `units: SI`: values are in SI (m, m/s, m/s², N; rad and N·m on
