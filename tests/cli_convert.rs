@@ -390,7 +390,7 @@ fn two_uff_files_converted_into_one_keep_both_sets() {
         assert_eq!(s.n_out() * s.n_in(), 12);
         assert_eq!(s.outputs[3].node, "14");
         for (x, y) in s.data.iter().zip(&b.data) {
-            // ASCII keeps ≥ 13 significant digits (src/io/uff58.rs), 58b is exact
+            // ASCII keeps ≥ 13 significant digits (src/io/uff58/mod.rs), 58b is exact
             assert!((x - y).norm() <= 1e-12 * y.norm(), "{x} vs {y}");
         }
     }

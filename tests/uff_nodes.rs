@@ -106,7 +106,7 @@ fn export_numbers_text_labels_and_the_table_maps_back() {
             assert_eq!(ins, orig.inputs);
             assert_eq!(got.signal, orig.signal);
             for (a, b) in got.data.iter().zip(&orig.data) {
-                // ASCII columns keep ≥ 13 significant digits (src/io/uff58.rs); 58b exact
+                // ASCII columns keep ≥ 13 significant digits (src/io/uff58/mod.rs); 58b exact
                 assert!((a - b).norm() <= 1e-12 * b.norm(), "{a} vs {b}");
             }
         }

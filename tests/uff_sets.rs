@@ -99,7 +99,7 @@ fn assert_same(got: &FrfSet, want: &FrfSet, tol: f64) {
     }
 }
 
-// The documented exactness of the writer (src/io/uff58.rs module docs):
+// The documented exactness of the writer (src/io/uff58/mod.rs docs):
 // 58b bit-exact; ASCII in the standard columns at least 13 significant
 // digits (asked here: ≤ 1e-12 relative).
 const LAYOUTS: [(&str, bool, f64); 2] = [("ascii", false, 1e-12), ("58b", true, 0.0)];

@@ -1,5 +1,5 @@
 // Small FRF files for the page tests, written in mortise's own CSV layout
-// (see src/io/csv.rs, write_native). The numbers are a two-mass chain and a
+// (see src/io/csv/native.rs, write_native). The numbers are a two-mass chain and a
 // rigid mass, made up for these plumbing tests only.
 
 function inv2(a, b, c, d) {

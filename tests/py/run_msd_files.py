@@ -3,7 +3,7 @@
 Three lumped mass-spring-damper components with non-proportional viscous
 damping (dashpots on single elements, so C is no combination of M and K),
 each written as receptance FRFs in a format mortise reads:
-  * A.csv           mortise's own CSV layout (src/io/csv.rs), values as repr() (exact)
+  * A.csv           mortise's own CSV layout (src/io/csv/), values as repr() (exact)
   * B.csv           the same layout (for the one-line `mortise couple` route)
   * B-supplier.txt  a supplier-style table (semicolon, title rows, re/im in mm/N),
                     read through a column map in the recipe
@@ -96,7 +96,7 @@ def case_json(gmap, R):
 
 
 def write_native(path, name, labels, R):
-    """Our own CSV layout, version 1 (src/io/csv.rs): SI values, repr() round-trips every double."""
+    """Our own CSV layout, version 1 (src/io/csv/): SI values, repr() round-trips every double."""
     lines = ["# mortise-frf 1", f"# name: {name}", "# out-quantity: displacement",
              "# in-quantity: force", "# units: SI"]
     lines += [f"# output: {l}" for l in labels]

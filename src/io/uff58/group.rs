@@ -1,0 +1,537 @@
+//! Datasets into FRF sets: the readers [`read`], [`read_with`] and
+//! [`read_declared`]. Each dataset 58 gets its role (FRF, coherence or a
+//! spectrum kind), its DOFs and its values in SI, and joins a group by the
+//! rules of "How datasets are grouped into sets" in the `uff58` docs: our own
+//! set tag (several sets in one file), else function, quantity pair and grid
+//! (one matrix exported as many datasets); coherence joins its FRF.
+//!
+//! Not here: one set spread over several files (a roving-hammer delivery),
+//! joined by `io::merge`; unit factors (`convert.rs`); parsing (`scan.rs`).
+
+use super::convert::{axis_quantity, dir_of, frequencies, frf_factor, spectrum_factor};
+use super::provenance::provenance_from_lines;
+use super::records::{function_type_name, Dataset58};
+use super::scan::parse_datasets;
+use crate::error::{Error, Result};
+use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
+use crate::units::Quantity;
+use num_complex::Complex64;
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Role {
+    Frf,
+    Coherence,
+    Spectrum(SignalKind),
+}
+
+/// Groups warnings that repeat over many datasets into one line each.
+#[derive(Default)]
+pub(super) struct Remarks {
+    items: Vec<(String, Vec<usize>)>,
+}
+
+impl Remarks {
+    pub(super) fn add(&mut self, msg: String, line: usize) {
+        if let Some(it) = self.items.iter_mut().find(|(m, _)| *m == msg) {
+            it.1.push(line);
+        } else {
+            self.items.push((msg, vec![line]));
+        }
+    }
+    fn render(&self, file: &str) -> Vec<String> {
+        self.items
+            .iter()
+            .map(|(m, lines)| {
+                let shown: Vec<String> = lines.iter().take(5).map(|l| l.to_string()).collect();
+                let more = if lines.len() > 5 {
+                    format!(" and {} more", lines.len() - 5)
+                } else {
+                    String::new()
+                };
+                format!(
+                    "{file}: dataset{} at line{} {}{more}: {m}",
+                    if lines.len() > 1 { "s" } else { "" },
+                    if lines.len() > 1 { "s" } else { "" },
+                    shown.join(", ")
+                )
+            })
+            .collect()
+    }
+}
+
+struct Entry {
+    out: Dof,
+    inp: Dof,
+    values: Vec<Complex64>,
+    line: usize,
+    binary: bool,
+    name: String,
+    /// ID lines 3-5 (they may carry an earlier provenance chain).
+    ids: [String; 3],
+}
+
+/// Our writer's set number and the set name (ID line 1), when ID line 2
+/// carries `set=<n>`.
+type SetTag = (u32, String);
+
+struct Group {
+    role: Role,
+    out_qty: Quantity,
+    in_qty: Quantity,
+    freqs: Vec<f64>,
+    tag: Option<SetTag>,
+    entries: Vec<Entry>,
+    remarks: Remarks,
+}
+
+/// What our own writer puts in ID line 2 (see the module docs), when the
+/// line is exactly that text; other text gives nothing.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+struct OwnId2 {
+    /// `signal=<kind>`.
+    signal: Option<SignalKind>,
+    /// `set=<n>`, n ≥ 1.
+    set: Option<u32>,
+}
+
+fn own_id2(line: &str) -> OwnId2 {
+    let toks: Vec<&str> = line.split_whitespace().collect();
+    let (first, rest) = match toks.split_first() {
+        Some(x) => x,
+        None => return OwnId2::default(),
+    };
+    let mut id = OwnId2::default();
+    if let Some(text) = first.strip_prefix("signal=") {
+        match crate::io::parse_signal(text) {
+            Ok(k) if k.name() == text => id.signal = Some(k),
+            _ => return OwnId2::default(),
+        }
+    } else if *first != "coherence" && !is_kind_name(first) {
+        return OwnId2::default();
+    }
+    match rest {
+        [] => {}
+        [t] => match t.strip_prefix("set=").and_then(|n| n.parse::<u32>().ok()) {
+            Some(n) if n >= 1 => id.set = Some(n),
+            _ => return OwnId2::default(),
+        },
+        _ => return OwnId2::default(),
+    }
+    id
+}
+
+/// An FRF kind name as [`crate::frf::FrfKind::name`] writes it.
+fn is_kind_name(t: &str) -> bool {
+    Quantity::ALL.iter().any(|a| {
+        Quantity::ALL
+            .iter()
+            .any(|b| crate::frf::FrfKind::of(*a, *b).name() == t)
+    })
+}
+
+/// The spectrum kind of a dataset of function type `func` (2, 9 or 12),
+/// from the function type, our ID-line marker and the caller's declaration.
+fn spectrum_kind(
+    file: &str,
+    ds: &Dataset58,
+    marker: Option<SignalKind>,
+    declared: Option<SignalKind>,
+) -> Result<SignalKind> {
+    let refuse = |what: String, have: SignalKind, d: SignalKind| {
+        Error::usage(format!(
+            "{what} makes this dataset {} {} spectrum, but the import options declare {}; declare {} or leave \"signal\" out",
+            if have == SignalKind::Autopower { "an" } else { "a" },
+            have.name(),
+            d.name(),
+            have.name()
+        ))
+        .field("record 6, function type")
+        .at_line(ds.record_line(6))
+        .in_file(file)
+    };
+    let fixed = match ds.func_type {
+        2 => Some(SignalKind::Autopower),
+        9 => Some(SignalKind::Psd),
+        _ => None,
+    };
+    if let Some(have) = fixed {
+        return match declared {
+            Some(d) if d != have => Err(refuse(
+                format!(
+                    "function type {} ({})",
+                    ds.func_type,
+                    function_type_name(ds.func_type).unwrap_or("")
+                ),
+                have,
+                d,
+            )),
+            _ => Ok(have),
+        };
+    }
+    match (marker, declared) {
+        (Some(m), Some(d)) if m != d => Err(refuse(
+            format!("ID line 2 'signal={}' (written by mortise)", m.name()),
+            m,
+            d,
+        )),
+        (Some(m), _) => Ok(m),
+        (None, Some(d)) => Ok(d),
+        (None, None) => Ok(SignalKind::Peak),
+    }
+}
+
+/// Read every dataset 58/58b in a file and group them into FRF sets (one per
+/// function type, quantity pair and grid); returns the sets and warnings.
+/// DOFs get the component namespace `component`.
+pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_with(bytes, file, Some(component))
+}
+
+/// Like [`read`]; with `component` None each DOF takes its component from
+/// the entity name of record 6 (mortise writes the component there when it
+/// fits the 10 columns), else from the file stem.
+pub fn read_with(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_declared(bytes, file, component, None)
+}
+
+/// Like [`read_with`], with the spectrum kind the caller declares for the
+/// file's spectra (see "Spectrum kinds" in the module docs).
+pub fn read_declared(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    let stem = crate::io::file_stem(file);
+    let comp_of = |entity: &str| -> String {
+        match component {
+            Some(c) => c.to_string(),
+            None if !entity.is_empty() => entity.to_string(),
+            None => stem.clone(),
+        }
+    };
+    let (datasets, mut warnings) = parse_datasets(bytes, file)?;
+    if datasets.is_empty() {
+        return Err(Error::parse(
+            "the file holds no dataset 58 (functions at nodal DOFs); nothing to read",
+        )
+        .field("dataset number")
+        .in_file(file));
+    }
+    let mut groups: Vec<Group> = Vec::new();
+    // (response, reference, grid, values, line, set tag)
+    type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize, Option<SetTag>);
+    let mut coherences: Vec<Coh> = Vec::new();
+    let mut file_rm = Remarks::default();
+    for ds in &datasets {
+        let own = own_id2(&ds.id[1]);
+        let tag = own.set.map(|n| (n, ds.id[0].trim().to_string()));
+        let role = match ds.func_type {
+            4 | 5 => Role::Frf,
+            6 => Role::Coherence,
+            2 | 9 | 12 => Role::Spectrum(spectrum_kind(file, ds, own.signal, declared)?),
+            t => {
+                file_rm.add(
+                    format!(
+                        "function type {t} ({}) skipped: mortise reads 4 (FRF), 5 (transmissibility), 6 (coherence), 2 (auto spectrum), 9 (PSD) and 12 (spectrum)",
+                        function_type_name(t).unwrap_or("unknown")
+                    ),
+                    ds.line,
+                );
+                continue;
+            }
+        };
+        let mut rm = Remarks::default();
+        let freqs = frequencies(file, ds, &mut rm)?;
+        let (od, opos) = dir_of(ds.rsp_dir);
+        let mut out = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), od);
+        out.positive = opos;
+        let orot = od.is_rotational();
+        let (id_, ipos) = dir_of(ds.ref_dir);
+        let mut inp = Dof::new(&comp_of(&ds.ref_entity), &ds.ref_node.to_string(), id_);
+        inp.positive = ipos;
+        let irot = id_.is_rotational();
+        let name = ds.id[0].trim().to_string();
+        match role {
+            Role::Coherence => {
+                let v: Vec<f64> = ds.y.iter().map(|c| c.re).collect();
+                coherences.push((out, inp, freqs, v, ds.line, tag));
+                continue;
+            }
+            Role::Frf => {
+                let oq = axis_quantity(file, ds, 9, orot, ds.func_type == 5)?;
+                let iq = axis_quantity(file, ds, 10, irot, ds.func_type == 5)?;
+                let (oq, iq, factor) = match (oq, iq) {
+                    (Some(oq), Some(iq)) => {
+                        let f = frf_factor(file, ds, oq, orot, iq, irot, &mut rm)?;
+                        (oq, iq, f)
+                    }
+                    (Some(q), None) | (None, Some(q)) => {
+                        // transmissibility: same quantity on both sides
+                        let f = frf_factor(file, ds, q, orot, q, irot, &mut rm)?;
+                        (q, q, f)
+                    }
+                    (None, None) => (Quantity::Dimensionless, Quantity::Dimensionless, 1.0),
+                };
+                let values = ds.y.iter().map(|v| v * factor).collect();
+                push_entry(
+                    &mut groups,
+                    (role, oq, iq, freqs, tag),
+                    Entry {
+                        out,
+                        inp,
+                        values,
+                        line: ds.line,
+                        binary: ds.binary,
+                        name,
+                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
+                    },
+                    rm,
+                );
+            }
+            Role::Spectrum(kind) => {
+                let q = axis_quantity(file, ds, 9, orot, false)?.unwrap_or(Quantity::Force);
+                let factor = spectrum_factor(file, ds, q, orot, kind, &mut rm)?;
+                if ds.func_type == 12 && own.signal.is_none() && declared.is_none() {
+                    rm.add(
+                        "UFF does not say whether spectrum amplitudes are peak or RMS; read as peak"
+                            .to_string(),
+                        ds.line,
+                    );
+                }
+                let values = ds.y.iter().map(|v| v * factor).collect();
+                push_entry(
+                    &mut groups,
+                    (role, q, Quantity::Dimensionless, freqs, tag),
+                    Entry {
+                        out,
+                        inp: Dof::scalar("", "ref"),
+                        values,
+                        line: ds.line,
+                        binary: ds.binary,
+                        name,
+                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
+                    },
+                    rm,
+                );
+            }
+        }
+    }
+    let prov_base = Provenance {
+        file: crate::io::base_name(file),
+        sha256: crate::io::sha256_hex(bytes),
+        format: String::new(),
+        options: match component {
+            Some(c) => format!("component={c}"),
+            None => "component from entity names or file stem".to_string(),
+        },
+    };
+    let default_name = match component {
+        Some(c) if !c.is_empty() => c.to_string(),
+        _ => stem.clone(),
+    };
+    let mut sets: Vec<FrfSet> = Vec::new();
+    for g in groups.iter_mut() {
+        let mut s = build_set(file, g, &default_name);
+        let mut p = prov_base.clone();
+        p.format = if g.entries.iter().any(|e| e.binary) {
+            "uff58-binary"
+        } else {
+            "uff58-ascii"
+        }
+        .to_string();
+        let lines: Vec<&str> = g
+            .entries
+            .iter()
+            .flat_map(|e| e.ids.iter().map(|t| t.as_str()))
+            .collect();
+        for q in provenance_from_lines(&lines) {
+            if !s.provenance.contains(&q) {
+                s.provenance.push(q);
+            }
+        }
+        s.provenance.push(p);
+        if sets.iter().any(|o| o.name == s.name) {
+            let label = match g.role {
+                Role::Spectrum(_) => "spectrum".to_string(),
+                _ => s.kind().name().to_string(),
+            };
+            s.name = format!("{} ({label})", s.name);
+            let base = s.name.clone();
+            let mut n = 2;
+            while sets.iter().any(|o| o.name == s.name) {
+                s.name = format!("{base} {n}");
+                n += 1;
+            }
+        }
+        sets.push(s);
+    }
+    // coherence onto the matching FRF entries
+    for (out, inp, freqs, v, line, tag) in coherences {
+        let mut done = false;
+        for (g, s) in groups.iter().zip(sets.iter_mut()) {
+            if g.role != Role::Frf || s.freqs != freqs || g.tag != tag {
+                continue;
+            }
+            let i = s.out_place(&out);
+            let j = s.in_place(&inp);
+            if let (Some(i), Some(j)) = (i, j) {
+                let n = s.data.len();
+                let (n_out, n_in) = (s.n_out(), s.n_in());
+                let coh = s.coherence.get_or_insert_with(|| vec![f64::NAN; n]);
+                for (k, c) in v.iter().enumerate() {
+                    coh[(k * n_out + i) * n_in + j] = *c;
+                }
+                done = true;
+                break;
+            }
+        }
+        if !done {
+            file_rm.add(
+                format!("coherence {out} / {inp} has no FRF with the same DOFs and grid; skipped"),
+                line,
+            );
+        }
+    }
+    for s in &sets {
+        s.validate().map_err(|e| e.in_file(file))?;
+        warnings.extend(s.warnings.iter().cloned());
+    }
+    warnings.extend(file_rm.render(file));
+    if sets.is_empty() {
+        return Err(Error::unsupported(format!(
+            "the file holds {} dataset(s) 58 but none mortise reads (FRF, transmissibility, coherence with its FRF, spectra)",
+            datasets.len()
+        ))
+        .field("record 6, function type")
+        .in_file(file));
+    }
+    Ok((sets, warnings))
+}
+
+type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);
+
+fn push_entry(groups: &mut Vec<Group>, key: GroupKey, e: Entry, rm: Remarks) {
+    let (role, oq, iq, freqs, tag) = key;
+    let g = match groups.iter_mut().position(|g| {
+        g.role == role && g.out_qty == oq && g.in_qty == iq && g.freqs == freqs && g.tag == tag
+    }) {
+        Some(p) => &mut groups[p],
+        None => {
+            groups.push(Group {
+                role,
+                out_qty: oq,
+                in_qty: iq,
+                freqs,
+                tag,
+                entries: Vec::new(),
+                remarks: Remarks::default(),
+            });
+            let n = groups.len() - 1;
+            &mut groups[n]
+        }
+    };
+    for (m, lines) in rm.items {
+        for l in lines {
+            g.remarks.add(m.clone(), l);
+        }
+    }
+    g.entries.push(e);
+}
+
+fn build_set(file: &str, g: &mut Group, default_name: &str) -> FrfSet {
+    let mut outputs: Vec<Dof> = Vec::new();
+    let mut inputs: Vec<Dof> = Vec::new();
+    for e in &g.entries {
+        if !outputs.iter().any(|d| d.same_place(&e.out)) {
+            outputs.push(e.out.clone());
+        }
+        if !inputs.iter().any(|d| d.same_place(&e.inp)) {
+            inputs.push(e.inp.clone());
+        }
+    }
+    let n_lines = g.freqs.len();
+    let (n_out, n_in) = (outputs.len(), inputs.len());
+    let mut s = FrfSet::zeros(
+        default_name,
+        g.freqs.clone(),
+        outputs,
+        inputs,
+        g.out_qty,
+        g.in_qty,
+    );
+    s.data = vec![Complex64::new(f64::NAN, f64::NAN); n_lines * n_out * n_in];
+    s.present = vec![false; n_out * n_in];
+    if let Role::Spectrum(k) = g.role {
+        s.signal = Some(k);
+    }
+    let mut first_line = vec![0usize; n_out * n_in];
+    for e in &g.entries {
+        let i = s.out_place(&e.out).unwrap_or(0);
+        let j = s.in_place(&e.inp).unwrap_or(0);
+        let sign = e.out.sign() * s.outputs[i].sign() * e.inp.sign() * s.inputs[j].sign();
+        let m = i * n_in + j;
+        if s.present[m] {
+            g.remarks.add(
+                format!(
+                    "duplicates {} / {} of the dataset at line {}; kept the first",
+                    s.outputs[i], s.inputs[j], first_line[m]
+                ),
+                e.line,
+            );
+            continue;
+        }
+        s.present[m] = true;
+        first_line[m] = e.line;
+        for (k, v) in e.values.iter().enumerate() {
+            s.data[(k * n_out + i) * n_in + j] = v * sign;
+        }
+    }
+    // a name common to all datasets (ID line 1), else the component
+    let first = &g.entries[0].name;
+    if !first.is_empty()
+        && !first.eq_ignore_ascii_case("none")
+        && g.entries.iter().all(|e| &e.name == first)
+    {
+        s.name = first.clone();
+    }
+    s.warnings = g.remarks.render(file);
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_our_own_id_line_2_carries_a_set_tag() {
+        let id = |t: &str| {
+            let o = own_id2(t);
+            (o.signal, o.set)
+        };
+        assert_eq!(id("accelerance set=2"), (None, Some(2)));
+        assert_eq!(id("vibro-acoustic set=11"), (None, Some(11)));
+        assert_eq!(id("coherence set=1"), (None, Some(1)));
+        assert_eq!(id("signal=rms set=3"), (Some(SignalKind::Rms), Some(3)));
+        assert_eq!(id("signal=psd"), (Some(SignalKind::Psd), None));
+        assert_eq!(id("mobility"), (None, None));
+        // other writers' text: no tag, no marker
+        for t in [
+            "NONE",
+            "run 2",
+            "set=2",
+            "Accelerance set=2",
+            "accelerance set=0",
+            "accelerance set=2 x",
+            "accelerance set=two",
+            "signal=RMS",
+            "signal=loud set=1",
+        ] {
+            assert_eq!(id(t), (None, None), "{t}");
+        }
+    }
+}

@@ -1,0 +1,147 @@
+//! The dataset 58 record as it stands in a file, before any unit conversion:
+//! [`Dataset58`] with its axes ([`AxisInfo`]), the output layouts ([`Layout`],
+//! [`AsciiLayout`]) and the names of the layout's codes (function types,
+//! specific data types) for messages.
+//!
+//! Not here: reading records from text (`parse.rs`), what the codes mean as
+//! quantities and units (`convert.rs`), writing them (`write.rs`).
+
+use num_complex::Complex64;
+
+/// Data characteristics of one axis (records 8–11).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct AxisInfo {
+    /// Specific data type (8 displacement, 9 reaction force, 11 velocity,
+    /// 12 acceleration, 13 excitation force, 15 pressure, 17 time,
+    /// 18 frequency, 0 unknown, 1 general...).
+    pub code: i32,
+    pub len_exp: i32,
+    pub force_exp: i32,
+    pub temp_exp: i32,
+    /// Axis label ("" when the file says NONE or leaves it blank).
+    pub label: String,
+    /// Axis units label ("" when the file says NONE or leaves it blank).
+    pub units: String,
+}
+
+/// One dataset 58 / 58b as it stands in the file (no unit conversion).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Dataset58 {
+    /// True for 58b.
+    pub binary: bool,
+    /// ID lines 1–5 (records 1–5), trailing blanks removed.
+    pub id: [String; 5],
+    pub func_type: i32,
+    pub func_id: i64,
+    pub version: i64,
+    pub load_case: i64,
+    pub rsp_entity: String,
+    pub rsp_node: i64,
+    /// -6..=6: ±1..±3 translations X Y Z, ±4..±6 rotations, 0 scalar.
+    pub rsp_dir: i32,
+    pub ref_entity: String,
+    pub ref_node: i64,
+    pub ref_dir: i32,
+    /// 2 real single, 4 real double, 5 complex single, 6 complex double.
+    pub ord_type: i32,
+    pub even: bool,
+    pub x_min: f64,
+    pub x_inc: f64,
+    pub z_value: f64,
+    /// Abscissa, ordinate numerator, ordinate denominator, z axis.
+    pub axes: [AxisInfo; 4],
+    /// Abscissa values (computed from minimum and increment when even).
+    pub x: Vec<f64>,
+    /// Ordinate values; imaginary part 0 for real data.
+    pub y: Vec<Complex64>,
+    /// 1-based line of the start tag.
+    pub line: usize,
+}
+
+impl Dataset58 {
+    pub fn is_complex(&self) -> bool {
+        matches!(self.ord_type, 5 | 6)
+    }
+    pub fn is_double(&self) -> bool {
+        matches!(self.ord_type, 4 | 6)
+    }
+    /// 1-based line of record `r` (1..=11).
+    pub fn record_line(&self, r: usize) -> usize {
+        self.line + 1 + r
+    }
+}
+
+/// Column layout of ASCII output (see the module docs).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AsciiLayout {
+    /// The layout's fixed columns (4E20.12 / E13.5,2E20.12 ...).
+    Standard,
+    /// Shortest round-trip text in 26-character fields, three per line.
+    Exact,
+}
+
+/// Output format for [`write_with`](super::write_with).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Layout {
+    Ascii(AsciiLayout),
+    /// 58b, little-endian IEEE doubles.
+    Binary,
+}
+
+/// Names of the function types of record 6, field 1.
+pub fn function_type_name(t: i32) -> Option<&'static str> {
+    Some(match t {
+        0 => "general or unknown",
+        1 => "time response",
+        2 => "auto spectrum",
+        3 => "cross spectrum",
+        4 => "frequency response function",
+        5 => "transmissibility",
+        6 => "coherence",
+        7 => "auto correlation",
+        8 => "cross correlation",
+        9 => "power spectral density",
+        10 => "energy spectral density",
+        11 => "probability density function",
+        12 => "spectrum",
+        13 => "cumulative frequency distribution",
+        14 => "peaks valley",
+        15 => "stress/cycles",
+        16 => "strain/cycles",
+        17 => "orbit",
+        18 => "mode indicator function",
+        19 => "force pattern",
+        20 => "partial power",
+        21 => "partial coherence",
+        22 => "eigenvalue",
+        23 => "eigenvector",
+        24 => "shock response spectrum",
+        25 => "finite impulse response filter",
+        26 => "multiple coherence",
+        27 => "order function",
+        _ => return None,
+    })
+}
+
+pub(super) fn data_type_name(c: i32) -> &'static str {
+    match c {
+        0 => "unknown",
+        1 => "general",
+        2 => "stress",
+        3 => "strain",
+        5 => "temperature",
+        6 => "heat flux",
+        8 => "displacement",
+        9 => "reaction force",
+        11 => "velocity",
+        12 => "acceleration",
+        13 => "excitation force",
+        15 => "pressure",
+        16 => "mass",
+        17 => "time",
+        18 => "frequency",
+        19 => "rpm",
+        20 => "order",
+        _ => "not defined by the layout",
+    }
+}

@@ -1,0 +1,130 @@
+//! The text of a UFF file: a cursor over lines that counts line numbers and
+//! steps over 58b binary payloads, Fortran-style numbers, fixed columns,
+//! printable previews of bad bytes, and the parse error with its place.
+//!
+//! Knows nothing of records or datasets (`parse.rs`, `scan.rs`).
+
+use crate::error::Error;
+
+pub(super) struct Line<'a> {
+    pub(super) no: usize,
+    pub(super) bytes: &'a [u8],
+}
+
+impl Line<'_> {
+    pub(super) fn text(&self) -> String {
+        String::from_utf8_lossy(self.bytes).into_owned()
+    }
+    pub(super) fn trimmed(&self) -> String {
+        self.text().trim().to_string()
+    }
+}
+
+pub(super) struct Cursor<'a> {
+    pub(super) b: &'a [u8],
+    pub(super) pos: usize,
+    pub(super) line: usize,
+}
+
+impl<'a> Cursor<'a> {
+    pub(super) fn new(b: &'a [u8]) -> Self {
+        Cursor { b, pos: 0, line: 1 }
+    }
+    pub(super) fn next_line(&mut self) -> Option<Line<'a>> {
+        if self.pos >= self.b.len() {
+            return None;
+        }
+        let start = self.pos;
+        let end = self.b[start..]
+            .iter()
+            .position(|&c| c == b'\n')
+            .map(|p| start + p)
+            .unwrap_or(self.b.len());
+        let mut content = &self.b[start..end];
+        if let Some(stripped) = content.strip_suffix(b"\r") {
+            content = stripped;
+        }
+        self.pos = if end < self.b.len() {
+            end + 1
+        } else {
+            self.b.len()
+        };
+        let no = self.line;
+        self.line += 1;
+        Some(Line { no, bytes: content })
+    }
+    /// Skip `n` raw bytes, keeping the line count in step.
+    pub(super) fn skip_bytes(&mut self, n: usize) {
+        let end = (self.pos + n).min(self.b.len());
+        self.line += self.b[self.pos..end]
+            .iter()
+            .filter(|&&c| c == b'\n')
+            .count();
+        self.pos = end;
+    }
+}
+
+/// A printable preview of a line for messages.
+pub(super) fn preview(bytes: &[u8]) -> String {
+    let mut s = String::new();
+    for &c in bytes.iter().take(40) {
+        if (0x20..0x7f).contains(&c) {
+            s.push(c as char);
+        } else {
+            s.push_str(&format!("\\x{c:02x}"));
+        }
+    }
+    if bytes.len() > 40 {
+        s.push_str("...");
+    }
+    s
+}
+
+pub(super) fn perr(file: &str, line: usize, field: &str, msg: impl Into<String>) -> Error {
+    Error::parse(msg).field(field).at_line(line).in_file(file)
+}
+
+/// Parse a number as written by Fortran-style writers: accepts `D`
+/// exponents and the exponent-letter-less form `1.234-100`.
+pub(super) fn parse_num(tok: &str) -> Option<f64> {
+    let t = tok.trim();
+    if t.is_empty() {
+        return None;
+    }
+    if let Ok(v) = t.parse::<f64>() {
+        return Some(v);
+    }
+    let t2: String = t
+        .chars()
+        .map(|c| if c == 'D' || c == 'd' { 'e' } else { c })
+        .collect();
+    if let Ok(v) = t2.parse::<f64>() {
+        return Some(v);
+    }
+    // 1.234-100 → 1.234e-100
+    let bytes = t2.as_bytes();
+    for p in 1..bytes.len() {
+        if (bytes[p] == b'-' || bytes[p] == b'+')
+            && bytes[p - 1].is_ascii_digit()
+            && !t2[..p].contains(['e', 'E'])
+        {
+            let s = format!("{}e{}", &t2[..p], &t2[p..]);
+            return s.parse::<f64>().ok();
+        }
+    }
+    None
+}
+
+/// Codes out of the i32 range become i32::MIN (never a valid code).
+pub(super) fn clamp_i32(v: i64) -> i32 {
+    i32::try_from(v).unwrap_or(i32::MIN)
+}
+
+pub(super) fn parse_int(tok: &str) -> Option<i64> {
+    tok.trim().parse::<i64>().ok()
+}
+
+/// Fixed-column slice (padded with blanks past the end of the line).
+pub(super) fn col(text: &str, start: usize, width: usize) -> String {
+    text.chars().skip(start).take(width).collect::<String>()
+}

@@ -1,0 +1,552 @@
+//! Each kind of plot laid out and drawn: [`draw`] on any backend (FRF
+//! plots in one or two panels, numeric lines, grouped bars) and
+//! [`render_svg`] to SVG text.
+//!
+//! Not here: the primitives (`draw.rs`), ranges and ticks (`layout.rs`),
+//! the data (`data.rs`).
+
+use super::data::{bars_from_set, lines_with_x, resolve, wrap_phase, Curve};
+use super::draw::{axes, colour, derr, draw_curves, draw_curves_stems, legend, legend_with, text};
+use super::layout::{finite_range, in_x, pad, x_axis, y_axis, Axis, Panel};
+use super::spec::{Frame, PlotKind, PlotSpec};
+use crate::error::{Error, Result};
+use crate::frf::FrfSet;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+use std::collections::BTreeMap;
+
+/// Draw `spec` on a backend. Returns the panels' frames.
+pub fn draw<DB: DrawingBackend>(
+    b: &mut DB,
+    spec: &PlotSpec,
+    sets: &BTreeMap<String, FrfSet>,
+) -> Result<Vec<Frame>> {
+    let (w, h) = b.get_size();
+    let (w, h) = (w as i32, h as i32);
+    b.draw_rect((0, 0), (w, h), &WHITE, true).map_err(derr)?;
+    let resolved = match spec.kind {
+        PlotKind::Lines => lines_with_x(spec, sets)?,
+        PlotKind::Bars => bars_from_set(spec, sets)?,
+        _ => spec.clone(),
+    };
+    let spec = &resolved;
+    let top = if spec.title.is_empty() { 14 } else { 34 };
+    if !spec.title.is_empty() {
+        text(
+            b,
+            &spec.title,
+            (w / 2, 8),
+            15.0,
+            Pos::new(HPos::Center, VPos::Top),
+            false,
+        )?;
+    }
+    let (left, right, bottom) = (84, w - 18, h - 52);
+    let frames = match spec.kind {
+        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom))?,
+        PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom))?,
+        kind => {
+            let curves = resolve(spec, sets)?;
+            if curves.is_empty() {
+                return Err(Error::missing("nothing to plot: no curve chosen"));
+            }
+            draw_frf(b, spec, kind, &curves, (left, top, right, bottom))?
+        }
+    };
+    b.present().map_err(derr)?;
+    Ok(frames)
+}
+
+fn draw_frf<DB: DrawingBackend>(
+    b: &mut DB,
+    spec: &PlotSpec,
+    kind: PlotKind,
+    curves: &[Curve],
+    (left, top, right, bottom): (i32, i32, i32, i32),
+) -> Result<Vec<Frame>> {
+    // Curves of different quantities share one axis only with their own
+    // reference or unit named in the legend.
+    let mixed_db = curves.iter().any(|c| c.db_label != curves[0].db_label);
+    let mixed_unit = curves.iter().any(|c| c.unit != curves[0].unit);
+    let level_db_mixed = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
+    let labels: Vec<String> = curves
+        .iter()
+        .map(|c| {
+            if level_db_mixed && mixed_db {
+                format!("{} [{}]", c.label, c.db_label)
+            } else if !level_db_mixed && mixed_unit {
+                format!("{} [{}]", c.label, c.unit)
+            } else {
+                c.label.clone()
+            }
+        })
+        .collect();
+    let unit_text = if mixed_unit {
+        "units in the legend".to_string()
+    } else {
+        curves[0].unit.clone()
+    };
+    let db_text = if mixed_db {
+        "dB, reference in the legend".to_string()
+    } else {
+        curves[0].db_label.clone()
+    };
+    let fx =
+        |c: &Curve, ys: Vec<f64>| -> Vec<(f64, f64)> { c.freqs.iter().copied().zip(ys).collect() };
+    let freq_title = "frequency (Hz)";
+    match kind {
+        PlotKind::Nyquist => {
+            let pts: Vec<Vec<(f64, f64)>> = curves
+                .iter()
+                .map(|c| c.values.iter().map(|v| (v.re, v.im)).collect())
+                .collect();
+            let xr = finite_range(pts.iter().flatten().map(|p| p.0), false).unwrap_or((-1.0, 1.0));
+            let (xa, xb) = pad(xr.0, xr.1, false);
+            let mut x = Axis {
+                min: xa,
+                max: xb,
+                log: false,
+            };
+            if let Some([a, bb]) = spec.x_range {
+                if a < bb {
+                    x = Axis {
+                        min: a,
+                        max: bb,
+                        log: false,
+                    };
+                }
+            }
+            let y = y_axis(
+                spec.y_range,
+                pts.iter().flatten().map(|p| p.1).collect(),
+                false,
+                false,
+            );
+            let p = Panel {
+                x0: left,
+                y0: top,
+                x1: right,
+                y1: bottom,
+                x,
+                y,
+            };
+            let u = &unit_text;
+            axes(
+                b,
+                &p,
+                Some(&format!("real part ({u})")),
+                &format!("imaginary part ({u})"),
+                None,
+                true,
+            )?;
+            draw_curves(b, &p, &pts)?;
+            legend(b, &p, &labels)?;
+            Ok(vec![p.frame("real")])
+        }
+        PlotKind::Bode | PlotKind::Magnitude | PlotKind::ReIm => {
+            let x = x_axis(spec, curves)?;
+            let two = kind != PlotKind::Magnitude;
+            let split = if kind == PlotKind::Bode {
+                top + ((bottom - top) as f64 * 0.64) as i32
+            } else {
+                top + (bottom - top) / 2
+            };
+            let (y1a, y0b) = if two {
+                (split - 14, split + 14)
+            } else {
+                (bottom, bottom)
+            };
+            let visible_vals = |f: &dyn Fn(&Curve, usize) -> f64| -> Vec<f64> {
+                curves
+                    .iter()
+                    .flat_map(|c| {
+                        (0..c.freqs.len())
+                            .filter(|k| in_x(&x, c.freqs[*k]))
+                            .map(|k| f(c, k))
+                            .collect::<Vec<_>>()
+                    })
+                    .collect()
+            };
+            let (top_pts, top_axis, top_title): (Vec<Vec<(f64, f64)>>, Axis, String) =
+                if kind == PlotKind::ReIm {
+                    let v = visible_vals(&|c, k| c.values[k].re);
+                    (
+                        curves
+                            .iter()
+                            .map(|c| fx(c, c.values.iter().map(|v| v.re).collect()))
+                            .collect(),
+                        y_axis(spec.y_range, v, false, false),
+                        format!("real part ({unit_text})"),
+                    )
+                } else if spec.db {
+                    let v = visible_vals(&|c, k| c.level[k]);
+                    (
+                        curves.iter().map(|c| fx(c, c.level.clone())).collect(),
+                        y_axis(spec.y_range, v, false, true),
+                        format!("level ({db_text})"),
+                    )
+                } else {
+                    let v = visible_vals(&|c, k| c.values[k].norm());
+                    (
+                        curves
+                            .iter()
+                            .map(|c| fx(c, c.values.iter().map(|v| v.norm()).collect()))
+                            .collect(),
+                        y_axis(spec.y_range, v, false, false),
+                        format!("magnitude ({unit_text})"),
+                    )
+                };
+            let p1 = Panel {
+                x0: left,
+                y0: top,
+                x1: right,
+                y1: y1a,
+                x,
+                y: top_axis,
+            };
+            axes(
+                b,
+                &p1,
+                if two { None } else { Some(freq_title) },
+                &top_title,
+                None,
+                true,
+            )?;
+            let stems: Vec<bool> = curves.iter().map(|c| c.stems).collect();
+            draw_curves_stems(b, &p1, &top_pts, &stems, kind != PlotKind::ReIm)?;
+            let mut frames = vec![p1.frame("frequency")];
+            if two {
+                let (pts, axis, title, fixed): (_, Axis, String, Option<Vec<f64>>) =
+                    if kind == PlotKind::ReIm {
+                        let v = visible_vals(&|c, k| c.values[k].im);
+                        (
+                            curves
+                                .iter()
+                                .map(|c| fx(c, c.values.iter().map(|v| v.im).collect()))
+                                .collect::<Vec<_>>(),
+                            y_axis(None, v, false, false),
+                            format!("imaginary part ({unit_text})"),
+                            None,
+                        )
+                    } else {
+                        (
+                            curves
+                                .iter()
+                                .map(|c| {
+                                    // An empty line of a line spectrum has no phase.
+                                    let ph = c.values.iter().map(|v| {
+                                        if c.stems && v.norm() == 0.0 {
+                                            f64::NAN
+                                        } else {
+                                            wrap_phase(*v)
+                                        }
+                                    });
+                                    fx(c, ph.collect())
+                                })
+                                .collect::<Vec<_>>(),
+                            Axis {
+                                min: -180.0,
+                                max: 180.0,
+                                log: false,
+                            },
+                            "phase (°)".to_string(),
+                            Some(vec![-180.0, -90.0, 0.0, 90.0, 180.0]),
+                        )
+                    };
+                let p2 = Panel {
+                    x0: left,
+                    y0: y0b,
+                    x1: right,
+                    y1: bottom,
+                    x,
+                    y: axis,
+                };
+                axes(b, &p2, Some(freq_title), &title, fixed.as_deref(), true)?;
+                // Phase wraps at ±180°: break the line there instead of drawing a vertical jump.
+                let pts: Vec<Vec<(f64, f64)>> = if kind == PlotKind::Bode {
+                    pts.into_iter()
+                        .map(|c: Vec<(f64, f64)>| {
+                            let mut o = Vec::with_capacity(c.len());
+                            for (i, q) in c.iter().enumerate() {
+                                if i > 0 && (q.1 - c[i - 1].1).abs() > 180.0 {
+                                    o.push((f64::NAN, f64::NAN));
+                                }
+                                o.push(*q);
+                            }
+                            o
+                        })
+                        .collect()
+                } else {
+                    pts
+                };
+                draw_curves_stems(b, &p2, &pts, &stems, false)?;
+                frames.push(p2.frame("frequency"));
+            }
+            legend(b, &p1, &labels)?;
+            Ok(frames)
+        }
+        PlotKind::Lines | PlotKind::Bars => Err(Error::usage("not an FRF plot")),
+    }
+}
+
+fn draw_lines<DB: DrawingBackend>(
+    b: &mut DB,
+    spec: &PlotSpec,
+    (left, top, right, bottom): (i32, i32, i32, i32),
+) -> Result<Vec<Frame>> {
+    if spec.lines.is_empty() {
+        return Err(Error::missing("nothing to plot: no lines given"));
+    }
+    for l in &spec.lines {
+        if l.x.len() != l.y.len() {
+            return Err(Error::usage(format!(
+                "line '{}' has {} x values and {} y values",
+                l.label,
+                l.x.len(),
+                l.y.len()
+            ))
+            .field("lines"));
+        }
+    }
+    let (lo, hi) = match spec.x_range {
+        Some([a, c]) if a < c => (a, c),
+        _ => finite_range(
+            spec.lines.iter().flat_map(|l| l.x.iter().copied()),
+            spec.x_log,
+        )
+        .ok_or_else(|| Error::missing("nothing to plot: no x values"))?,
+    };
+    let x = Axis {
+        min: lo,
+        max: if hi > lo { hi } else { lo + 1.0 },
+        log: spec.x_log,
+    };
+    let vals: Vec<f64> = spec
+        .lines
+        .iter()
+        .flat_map(|l| {
+            l.x.iter()
+                .zip(&l.y)
+                .filter(|(xv, _)| in_x(&x, **xv))
+                .map(|(_, y)| *y)
+                .collect::<Vec<_>>()
+        })
+        .collect();
+    let y = y_axis(spec.y_range, vals, spec.y_log, false);
+    let p = Panel {
+        x0: left,
+        y0: top,
+        x1: right,
+        y1: bottom,
+        x,
+        y,
+    };
+    let xt = if spec.x_label.is_empty() {
+        "frequency (Hz)"
+    } else {
+        &spec.x_label
+    };
+    axes(b, &p, Some(xt), &spec.y_label, None, true)?;
+    let pts: Vec<Vec<(f64, f64)>> = spec
+        .lines
+        .iter()
+        .map(|l| l.x.iter().copied().zip(l.y.iter().copied()).collect())
+        .collect();
+    draw_curves(b, &p, &pts)?;
+    legend(
+        b,
+        &p,
+        &spec
+            .lines
+            .iter()
+            .map(|l| l.label.clone())
+            .collect::<Vec<_>>(),
+    )?;
+    Ok(vec![p.frame("x")])
+}
+
+fn draw_bars<DB: DrawingBackend>(
+    b: &mut DB,
+    spec: &PlotSpec,
+    (left, top, right, bottom): (i32, i32, i32, i32),
+) -> Result<Vec<Frame>> {
+    let n = spec.categories.len();
+    if n == 0 || spec.groups.is_empty() {
+        return Err(Error::missing("nothing to plot: no bars given"));
+    }
+    for g in &spec.groups {
+        if g.values.len() != n {
+            return Err(Error::usage(format!(
+                "bar group '{}' has {} values for {} categories",
+                g.label,
+                g.values.len(),
+                n
+            ))
+            .field("groups"));
+        }
+    }
+    let bottom = bottom - 16;
+    let vals: Vec<f64> = spec.groups.iter().flat_map(|g| g.values.clone()).collect();
+    let mut y = y_axis(spec.y_range, vals, false, true);
+    if spec.y_range.is_none() {
+        y.max += 10.0;
+    }
+    let p = Panel {
+        x0: left,
+        y0: top,
+        x1: right,
+        y1: bottom,
+        x: Axis {
+            min: 0.0,
+            max: n as f64,
+            log: false,
+        },
+        y,
+    };
+    axes(b, &p, None, &spec.y_label, None, false)?;
+    let ng = spec.groups.len() as f64;
+    for (gi, g) in spec.groups.iter().enumerate() {
+        for (ci, v) in g.values.iter().enumerate() {
+            if !v.is_finite() {
+                continue;
+            }
+            let xa = ci as f64 + 0.12 + 0.76 * gi as f64 / ng;
+            let xb = xa + 0.76 / ng * 0.92;
+            let (x0, y0) = p.px(xa, v.clamp(y.min, y.max));
+            let (x1, y1) = p.px(xb, y.min);
+            let c = colour(gi);
+            b.draw_rect(
+                (x0.round() as i32, y0.round() as i32),
+                (x1.round() as i32, y1.round() as i32),
+                &c,
+                true,
+            )
+            .map_err(derr)?;
+            // Hatching on alternate groups keeps them apart in grey-scale print.
+            if gi % 2 == 1 {
+                let mut yy = y0 + 4.0;
+                while yy < y1 {
+                    b.draw_line(
+                        (x0.round() as i32, yy.round() as i32),
+                        (x1.round() as i32, (yy - 4.0).round() as i32),
+                        &WHITE,
+                    )
+                    .map_err(derr)?;
+                    yy += 6.0;
+                }
+            }
+        }
+    }
+    for (ci, c) in spec.categories.iter().enumerate() {
+        let (x, _) = p.px(ci as f64 + 0.5, y.min);
+        text(
+            b,
+            c,
+            (x.round() as i32, bottom + 6),
+            12.0,
+            Pos::new(HPos::Center, VPos::Top),
+            false,
+        )?;
+    }
+    if !spec.x_label.is_empty() {
+        text(
+            b,
+            &spec.x_label,
+            ((left + right) / 2, bottom + 26),
+            13.0,
+            Pos::new(HPos::Center, VPos::Top),
+            false,
+        )?;
+    }
+    let labels: Vec<String> = spec.groups.iter().map(|g| g.label.clone()).collect();
+    legend_with(b, &p, &labels, true)?;
+    Ok(vec![p.frame("category")])
+}
+
+/// Render `spec` to SVG text.
+pub fn render_svg(
+    spec: &PlotSpec,
+    sets: &BTreeMap<String, FrfSet>,
+) -> Result<(String, Vec<Frame>)> {
+    if spec.width < 200 || spec.height < 150 || spec.width > 8000 || spec.height > 8000 {
+        return Err(Error::usage(format!(
+            "plot size {}×{} px is outside 200×150 to 8000×8000",
+            spec.width, spec.height
+        ))
+        .field("width/height"));
+    }
+    let mut s = String::new();
+    let frames = {
+        let mut b = SVGBackend::with_string(&mut s, (spec.width, spec.height));
+        draw(&mut b, spec, sets)?
+    };
+    Ok((s, frames))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::fixtures::{sdof, spec};
+    use super::*;
+
+    #[test]
+    fn bode_svg_has_two_panels_and_reference_label() {
+        let (svg, frames) = render_svg(&spec("bode"), &sdof()).unwrap();
+        assert_eq!(frames.len(), 2);
+        assert!(svg.starts_with("<svg"));
+        assert!(
+            svg.contains("dB re 1 (m)/(N)"),
+            "dB axis names its reference"
+        );
+        assert!(svg.contains("phase (°)"));
+        assert!(frames[0].x_log && frames[0].x_min == 0.5 && frames[0].x_max == 200.0);
+    }
+
+    #[test]
+    fn every_kind_draws() {
+        for k in ["bode", "magnitude", "re-im", "nyquist"] {
+            render_svg(&spec(k), &sdof()).unwrap();
+        }
+        let lines = PlotSpec::from_json(
+            r#"{"kind":"lines","lines":[{"label":"κ","x":[1,2,3],"y":[1,10,100]}],"y_log":true}"#,
+        )
+        .unwrap();
+        let (_, f) = render_svg(&lines, &BTreeMap::new()).unwrap();
+        assert!(f[0].y_log);
+        let bars = PlotSpec::from_json(
+            r#"{"kind":"bars","categories":["A1","A2"],"groups":[{"label":"now","values":[30,20]},{"label":"soft","values":[25,18]}]}"#,
+        )
+        .unwrap();
+        render_svg(&bars, &BTreeMap::new()).unwrap();
+        let cond = PlotSpec::from_json(
+            r#"{"kind":"lines","lines":[{"label":"c","y":[1,2],"x_from":"a"}]}"#,
+        )
+        .unwrap();
+        // 2 values against 400 lines: a clear error, not a wrong plot.
+        assert!(render_svg(&cond, &sdof()).is_err());
+    }
+
+    #[test]
+    fn mixed_quantities_name_their_reference_in_the_legend() {
+        let mut sets = sdof();
+        let mut v = sets["a"].to_kind("mobility").unwrap();
+        v.name = "v".into();
+        sets.insert("b".into(), v);
+        let spec = PlotSpec::from_json(r#"{"series":[{"set":"a"},{"set":"b"}]}"#).unwrap();
+        let (svg, _) = render_svg(&spec, &sets).unwrap();
+        assert!(svg.contains("dB, reference in the legend"));
+        assert!(svg.contains("[dB re 1 (m/s)/(N)]"));
+        assert!(svg.contains("[dB re 1 (m)/(N)]"));
+    }
+
+    #[test]
+    fn bad_series_is_an_error_not_a_panic() {
+        let mut s = spec("bode");
+        s.series[0].out = 3;
+        assert!(render_svg(&s, &sdof()).is_err());
+        s.series[0].set = "none".into();
+        assert!(render_svg(&s, &sdof()).is_err());
+        let mut s = spec("bode");
+        s.x_range = Some([10.0, 1.0]);
+        assert!(render_svg(&s, &sdof()).is_err());
+    }
+}

@@ -1,0 +1,143 @@
+//! The plot description: [`PlotSpec`] (JSON on the page) with its kind,
+//! series, lines and bar groups, and the [`Frame`] of each panel a drawing
+//! returns for the page's pointer mapping.
+//!
+//! Not here: resolving series against the sets (`data.rs`), drawing.
+
+use crate::error::{Error, Result};
+
+/// What to draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum PlotKind {
+    /// Magnitude (dB or linear) above phase, against frequency.
+    #[default]
+    Bode,
+    /// Magnitude only.
+    Magnitude,
+    /// Real part above imaginary part, against frequency.
+    ReIm,
+    /// Imaginary against real part.
+    Nyquist,
+    /// Plain numeric lines (e.g. condition number against frequency).
+    Lines,
+    /// Grouped bars (e.g. band levels per transfer path).
+    Bars,
+}
+
+/// One curve: entry (out, in) of a set held by the caller.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct SeriesRef {
+    /// Identifier of the set in the caller's store.
+    pub set: String,
+    #[serde(default)]
+    pub out: usize,
+    #[serde(default, rename = "in")]
+    pub inp: usize,
+    #[serde(default)]
+    pub label: Option<String>,
+}
+
+/// A numeric line for [`PlotKind::Lines`].
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct LineData {
+    pub label: String,
+    #[serde(default)]
+    pub x: Vec<f64>,
+    pub y: Vec<f64>,
+    /// Take x from this set's frequencies instead (e.g. a per-line report
+    /// value such as the interface condition number).
+    #[serde(default)]
+    pub x_from: Option<String>,
+}
+
+/// One group of bars for [`PlotKind::Bars`], one value per category.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct BarGroup {
+    pub label: String,
+    pub values: Vec<f64>,
+}
+
+fn yes() -> bool {
+    true
+}
+fn default_width() -> u32 {
+    960
+}
+fn default_height() -> u32 {
+    540
+}
+
+/// A plot description.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PlotSpec {
+    #[serde(default)]
+    pub kind: PlotKind,
+    #[serde(default)]
+    pub series: Vec<SeriesRef>,
+    /// Magnitude in dB (true) or linear.
+    #[serde(default = "yes")]
+    pub db: bool,
+    /// Logarithmic frequency axis.
+    #[serde(default = "yes")]
+    pub x_log: bool,
+    /// Logarithmic y axis (lines only).
+    #[serde(default)]
+    pub y_log: bool,
+    /// Visible x range (zoom); None = all data.
+    #[serde(default)]
+    pub x_range: Option<[f64; 2]>,
+    /// Visible y range of the first panel; None = automatic.
+    #[serde(default)]
+    pub y_range: Option<[f64; 2]>,
+    #[serde(default = "default_width")]
+    pub width: u32,
+    #[serde(default = "default_height")]
+    pub height: u32,
+    #[serde(default)]
+    pub title: String,
+    #[serde(default)]
+    pub lines: Vec<LineData>,
+    #[serde(default)]
+    pub categories: Vec<String>,
+    #[serde(default)]
+    pub groups: Vec<BarGroup>,
+    #[serde(default)]
+    pub x_label: String,
+    #[serde(default)]
+    pub y_label: String,
+    /// Bars from a set: one bar per input column of output `out`, each the
+    /// energetic sum of that entry's lines inside the x range (all lines when
+    /// no range is set), in dB. For a path-contribution set this ranks paths.
+    #[serde(default)]
+    pub ranking: Option<SeriesRef>,
+    /// Bars from a run report's path ranking at one target: one group per
+    /// path, one bar per band (bands with no path level are left out).
+    #[serde(default)]
+    /// Kept as JSON: a report writes NaN and −∞ levels as null.
+    pub path_ranking: Option<serde_json::Value>,
+}
+
+impl PlotSpec {
+    pub fn from_json(text: &str) -> Result<PlotSpec> {
+        serde_json::from_str(text)
+            .map_err(|e| Error::usage(format!("plot description: {e}")).field("plot"))
+    }
+}
+
+/// One panel's pixel rectangle and axes, for pointer mapping on the page.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Frame {
+    pub x0: i32,
+    pub y0: i32,
+    pub x1: i32,
+    pub y1: i32,
+    pub x_min: f64,
+    pub x_max: f64,
+    pub x_log: bool,
+    pub y_min: f64,
+    pub y_max: f64,
+    pub y_log: bool,
+    /// What the x axis is ("frequency" or "real part", "category").
+    pub x_is: String,
+}
