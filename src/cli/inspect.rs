@@ -273,7 +273,7 @@ pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
         .collect()
 }
 
-/// A JSON summary of one set: the one set summary ([`summary::SetSummary`]),
+/// A JSON summary of one set: the one set summary ([`crate::summary::SetSummary`]),
 /// as the page's cards and the run report show it.
 pub fn set_summary(s: &FrfSet) -> serde_json::Value {
     serde_json::to_value(crate::summary::set_summary(s)).unwrap_or_default()
