@@ -137,7 +137,7 @@ impl Svd {
                 self.rows
             )));
         }
-        if !(rel >= 0.0 && rel < 1.0) {
+        if !(0.0..1.0).contains(&rel) {
             return Err(Error::numeric(format!(
                 "truncated-SVD threshold {rel}: expected a fraction of the largest singular value in [0, 1)"
             )));
