@@ -641,19 +641,15 @@ pub fn check_conditioning(set: &FrfSet, opts: &AuditOptions) -> CheckResult {
     }
 }
 
-/// 2-norm condition number s_max / s_min of each line's matrix (∞ when singular).
+/// 2-norm condition number s_max / s_min of each line's matrix (∞ when
+/// singular), from the singular values of [`crate::linalg::svd`] (one-sided
+/// Jacobi); NaN, which the conditioning check flags, where a line has
+/// non-finite entries or its SVD did not converge.
 pub fn condition_numbers(set: &FrfSet) -> Vec<f64> {
     (0..set.n_lines())
         .map(|k| {
-            let m = nalgebra::DMatrix::from_row_slice(set.n_out(), set.n_in(), set.line(k));
-            let s = m.singular_values();
-            let mx = s.iter().copied().fold(0.0, f64::max);
-            let mn = s.iter().copied().fold(f64::INFINITY, f64::min);
-            if mn > 0.0 {
-                mx / mn
-            } else {
-                f64::INFINITY
-            }
+            crate::linalg::svd::condition_number(set.line(k), set.n_out(), set.n_in())
+                .unwrap_or(f64::NAN)
         })
         .collect()
 }

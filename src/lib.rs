@@ -46,6 +46,7 @@ pub mod frf;
 pub mod grid;
 pub mod io;
 pub mod levels;
+pub mod linalg;
 pub mod plot;
 pub mod predict;
 pub mod recipe;

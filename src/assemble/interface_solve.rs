@@ -5,20 +5,15 @@
 //!
 //! # Singular values: one-sided Jacobi
 //! Z is first scaled by a power of two (exact) so that its largest entry
-//! lies in [1, 2). The columns W of the scaled matrix are then rotated in
-//! pairs (Hestenes' one-sided Jacobi, cyclic by rows) until every pair is
-//! orthogonal to √m · ε of the product of their norms; the rotations,
-//! accumulated, give V with Z = W Vᴴ / scale, W = U Σ. The column norms are
-//! the singular values, each to high relative accuracy (J. Demmel and K.
-//! Veselić, "Jacobi's method is more accurate than QR", SIAM J. Matrix Anal.
-//! Appl. 13(4), 1992). The columns of W evolve the same whether V is
-//! accumulated or not, so the condition number does not depend on the
-//! threshold being set.
-//!
-//! nalgebra 0.35's complex SVD is not used here: on interface matrices of
-//! the demo scenario (8 × 8, complex symmetric with zero blocks) it returned
-//! singular values wrong in the fourth digit and a pseudo-inverse with
-//! ‖Z Z⁺ − I‖ ≈ 1e-2 at a condition number of 70.
+//! lies in [1, 2); the columns W of the scaled matrix are then rotated in
+//! pairs by [`crate::linalg::svd`]'s one-sided (Hestenes) Jacobi, the one
+//! SVD of mortise, until they are orthogonal; the rotations, accumulated,
+//! give V with Z = W Vᴴ / scale, W = U Σ. The column norms are the singular
+//! values, each to high relative accuracy (Demmel & Veselić 1992; see that
+//! module, also for why nalgebra's complex SVD is not used). The columns of
+//! W evolve the same whether V is accumulated or not, so the condition
+//! number does not depend on the threshold being set. The factors are used
+//! unsorted, as they come, so that the arithmetic is the same on every line.
 //!
 //! # The solve
 //! * No singular value dropped (always so without a threshold): LU with
@@ -37,11 +32,8 @@
 
 use super::kernel;
 use crate::error::{Error, Result};
+use crate::linalg::svd::{self, MAX_SWEEPS};
 use num_complex::Complex64;
-
-/// Sweeps of the Jacobi rotations before giving up (quadratic convergence
-/// needs far fewer; LAPACK's ZGESVJ uses the same cap).
-const MAX_SWEEPS: usize = 30;
 
 /// Above this condition number an untruncated inverse is refused.
 const SINGULAR: f64 = 1e16;
@@ -112,7 +104,7 @@ pub(crate) fn solve(
     buf: &mut [f64],
 ) -> Result<Inverted> {
     let m = work.m;
-    let scale = pow2_scale(
+    let scale = svd::pow2_scale(
         work.z
             .iter()
             .fold(0.0, |a: f64, v| a.max(v.re.abs()).max(v.im.abs())),
@@ -130,10 +122,11 @@ pub(crate) fn solve(
             *d = Complex64::new(if one { 1.0 } else { 0.0 }, 0.0);
         }
     }
-    let converged = jacobi(
+    let converged = svd::jacobi(
         &mut work.w,
-        if want_v { Some(&mut work.v) } else { None },
         m,
+        m,
+        if want_v { Some(&mut work.v[..]) } else { None },
         &mut work.norms,
     );
     if !converged {
@@ -173,19 +166,11 @@ pub(crate) fn solve(
     // Z⁺ = scale · Σ_kept v_j w_jᴴ / ‖w_j‖²
     let out = &mut work.zinv;
     out.fill(Complex64::new(0.0, 0.0));
-    let mut kept_min = f64::INFINITY;
-    for j in (0..m).filter(|&j| keep(j)) {
-        kept_min = kept_min.min(sigma(j));
-        let f = scale / work.norms[j];
-        let wj = &work.w[j * m..(j + 1) * m];
-        let vj = &work.v[j * m..(j + 1) * m];
-        for (r, vr) in vj.iter().enumerate() {
-            let a = *vr * f;
-            for (c, wc) in wj.iter().enumerate() {
-                out[r * m + c] += a * wc.conj();
-            }
-        }
-    }
+    svd::pinv_from_factors(&work.w, &work.v, &work.norms, m, m, scale, keep, out);
+    let kept_min = (0..m)
+        .filter(|&j| keep(j))
+        .map(sigma)
+        .fold(f64::INFINITY, f64::min);
     // X = Z⁺ (B_u Y)
     let Columns { br, bi, xr, xi, cp } = cols;
     kernel::product(path, m, m, out, br, bi, cp, buf, |i, re, im| {
@@ -406,121 +391,6 @@ fn lu_solve(
     Ok(())
 }
 
-/// The power of two that brings `amax` into [1, 2) (1 for 0 or non-finite).
-fn pow2_scale(amax: f64) -> f64 {
-    if !(amax.is_finite() && amax >= f64::MIN_POSITIVE) {
-        return 1.0;
-    }
-    let mut s = 1.0;
-    let mut a = amax;
-    // exact: multiplying by powers of two only changes the exponent
-    while a >= 2.0 {
-        a *= 0.5;
-        s *= 0.5;
-    }
-    while a < 1.0 {
-        a *= 2.0;
-        s *= 2.0;
-    }
-    s
-}
-
-/// Σ |x|² over a column.
-fn sumsq(col: &[Complex64]) -> f64 {
-    col.iter().fold(0.0, |a, x| a + (x.re * x.re + x.im * x.im))
-}
-
-/// One-sided Jacobi on the m columns of `w` (column-major, m × m). On
-/// return the columns are mutually orthogonal (|w_pᴴ w_q| ≤ √m ε ‖w_p‖ ‖w_q‖),
-/// `norms` holds their squared norms, and `v` (when given, starting as the
-/// identity) has been rotated alongside. False when MAX_SWEEPS did not suffice.
-fn jacobi(
-    w: &mut [Complex64],
-    mut v: Option<&mut Vec<Complex64>>,
-    m: usize,
-    norms: &mut [f64],
-) -> bool {
-    let tol = f64::EPSILON * (m as f64).sqrt();
-    let tol2 = tol * tol;
-    for (j, n) in norms.iter_mut().enumerate() {
-        *n = sumsq(&w[j * m..(j + 1) * m]);
-    }
-    for _ in 0..MAX_SWEEPS {
-        let mut rotated = false;
-        for p in 0..m.saturating_sub(1) {
-            for q in p + 1..m {
-                let (a, b) = (norms[p], norms[q]);
-                if a == 0.0 || b == 0.0 {
-                    continue;
-                }
-                // γ = w_pᴴ w_q
-                let (cp, cq) = (&w[p * m..(p + 1) * m], &w[q * m..(q + 1) * m]);
-                let mut g = Complex64::new(0.0, 0.0);
-                for (x, y) in cp.iter().zip(cq) {
-                    g.re += x.re * y.re + x.im * y.im;
-                    g.im += x.re * y.im - x.im * y.re;
-                }
-                let g2 = g.re * g.re + g.im * g.im;
-                if g2.is_nan() || g2 <= tol2 * a * b {
-                    continue;
-                }
-                rotated = true;
-                let gn = g2.sqrt();
-                // w_q e^{−iφ} makes the pair's inner product real (|γ|); then a
-                // real rotation with t = tan θ, the smaller root of
-                // t² + 2ζt − 1 = 0, ζ = (‖w_q‖² − ‖w_p‖²) / (2|γ|), zeroes it
-                let ph = Complex64::new(g.re / gn, -g.im / gn);
-                let zeta = (b - a) / (2.0 * gn);
-                let t = if zeta.abs() > 1e150 {
-                    0.5 / zeta
-                } else {
-                    let sg = if zeta >= 0.0 { 1.0 } else { -1.0 };
-                    sg / (zeta.abs() + (1.0 + zeta * zeta).sqrt())
-                };
-                let c = 1.0 / (1.0 + t * t).sqrt();
-                let s = c * t;
-                rotate(w, m, p, q, ph, c, s);
-                if let Some(v) = v.as_deref_mut() {
-                    rotate(v, m, p, q, ph, c, s);
-                }
-                // ‖w_p‖² − t|γ| and ‖w_q‖² + t|γ| (exact in exact arithmetic),
-                // summed afresh where that would cancel
-                let tg = t * gn;
-                norms[p] = a - tg;
-                norms[q] = b + tg;
-                if norms[p] < 0.5 * a {
-                    norms[p] = sumsq(&w[p * m..(p + 1) * m]);
-                }
-                if norms[q] < 0.5 * b {
-                    norms[q] = sumsq(&w[q * m..(q + 1) * m]);
-                }
-            }
-        }
-        // the squared norms afresh from the columns, for the next sweep's tests
-        // and for the singular values on return
-        for (j, n) in norms.iter_mut().enumerate() {
-            *n = sumsq(&w[j * m..(j + 1) * m]);
-        }
-        if !rotated {
-            return true;
-        }
-    }
-    false
-}
-
-/// Columns p < q of `a`: (x, y) ← (c·x − s·y e^{−iφ}, s·x + c·y e^{−iφ}).
-fn rotate(a: &mut [Complex64], m: usize, p: usize, q: usize, ph: Complex64, c: f64, s: f64) {
-    let (lo, hi) = a.split_at_mut(q * m);
-    let cp = &mut lo[p * m..(p + 1) * m];
-    let cq = &mut hi[..m];
-    for (x, y) in cp.iter_mut().zip(cq.iter_mut()) {
-        let yy = *y * ph;
-        let xx = *x;
-        *x = Complex64::new(xx.re * c - yy.re * s, xx.im * c - yy.im * s);
-        *y = Complex64::new(xx.re * s + yy.re * c, xx.im * s + yy.im * c);
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -687,14 +557,5 @@ mod tests {
         assert!(w[1].contains("worst 2.00e12 at 10 Hz"), "{}", w[1]);
         assert!(w[1].contains("raise the threshold"), "{}", w[1]);
         assert!(w[1].contains("this decouple step"), "{}", w[1]);
-    }
-
-    #[test]
-    fn power_of_two_scale() {
-        assert_eq!(pow2_scale(3.0), 0.5);
-        assert_eq!(pow2_scale(1.0), 1.0);
-        assert_eq!(pow2_scale(0.3), 4.0);
-        assert_eq!(pow2_scale(0.0), 1.0);
-        assert!(pow2_scale(1e-9) * 1e-9 >= 1.0);
     }
 }

@@ -5,18 +5,24 @@
 //! method of the transfer-path literature, e.g. Moorhouse, Elliott & Evans,
 //! J. Sound Vib. 325, 2009). Indicators left out of the inversion validate
 //! the result: their responses are predicted from the forces and compared.
+//!
+//! The SVD is mortise's own one-sided Jacobi ([`crate::linalg::svd`]):
+//! nalgebra 0.35's complex SVD, used here before, gave singular values and
+//! forces wrong in the fourth digit on bench matrices whose singular values
+//! form clusters (tests/predict_blocked_svd.rs).
 
 use super::{new_spectrum, require_same_grid, require_spectrum, CAUTION};
 use crate::error::{Error, Result};
 use crate::frf::{labels, Dof, FrfSet};
 use crate::levels::{self, Band};
-use nalgebra::DMatrix;
+use crate::linalg::svd::Svd;
 use num_complex::Complex64;
 
 /// Options of [`blocked_forces`].
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct BlockedForceOptions {
-    /// Singular values below this fraction of the largest are dropped (per line).
+    /// Singular values below this fraction of the largest are dropped (per
+    /// line; those equal to it are kept).
     pub rel_threshold: f64,
     /// Indicator DOFs left out of the inversion and used to validate it.
     #[serde(default)]
@@ -136,6 +142,12 @@ pub fn blocked_forces(
         }
     }
     let nf = bench.n_in();
+    if nf == 0 {
+        return Err(Error::missing(format!(
+            "the bench '{}' has no inputs: blocked forces need at least one force DOF",
+            bench.name
+        )));
+    }
     if used.len() < nf {
         return Err(Error::missing(format!(
             "{} forces need at least {} indicators in the inversion; only {} bench outputs have responses in '{}' (validation DOFs excluded)",
@@ -157,27 +169,47 @@ pub fn blocked_forces(
     let mut cond = Vec::with_capacity(bench.n_lines());
     let nu = used.len();
     for k in 0..bench.n_lines() {
-        let h = DMatrix::from_fn(nu, nf, |a, j| bench.get(k, used[a].0, j));
-        let y = DMatrix::from_fn(nu, 1, |a, _| operational.get(k, used[a].1, 0) * used[a].2);
-        let svd = h.svd(true, true);
-        let mut s: Vec<f64> = svd.singular_values.iter().copied().collect();
-        s.sort_by(|a, b| b.total_cmp(a));
-        let smax = s.first().copied().unwrap_or(0.0);
-        if smax.is_nan() || smax <= 0.0 {
+        let h: Vec<Complex64> = (0..nu * nf)
+            .map(|e| bench.get(k, used[e / nf].0, e % nf))
+            .collect();
+        let y: Vec<Complex64> = used
+            .iter()
+            .map(|&(_, r, sg)| operational.get(k, r, 0) * sg)
+            .collect();
+        if let Some(a) = y
+            .iter()
+            .position(|x| !(x.re.is_finite() && x.im.is_finite()))
+        {
+            return Err(Error::numeric(format!(
+                "the response of '{}' at {} is {} at {} Hz; blocked forces need finite responses",
+                operational.name, bench.outputs[used[a].0], y[a], bench.freqs[k]
+            )));
+        }
+        let at = |e: Error| {
+            Error::new(
+                e.kind,
+                format!(
+                    "the bench matrix of '{}' (used indicators × forces) at {} Hz: {}",
+                    bench.name, bench.freqs[k], e.message
+                ),
+            )
+        };
+        let svd = Svd::new(&h, nu, nf).map_err(at)?;
+        let s = svd.singular_values().to_vec();
+        let smax = s[0];
+        if smax <= 0.0 {
             return Err(Error::numeric(format!(
                 "the bench matrix of '{}' is zero at {} Hz",
                 bench.name, bench.freqs[k]
             )));
         }
-        let eps = opts.rel_threshold * smax;
-        let f = svd.solve(&y, eps).map_err(|e| {
-            Error::numeric(format!("SVD solve failed at {} Hz: {e}", bench.freqs[k]))
-        })?;
-        for j in 0..nf {
-            forces.set(k, j, 0, f[(j, 0)]);
+        // f = Σ_kept v_j (u_jᴴ y) / σ_j, σ_j ≥ rel_threshold · σ_max
+        let (f, n_kept) = svd.solve_truncated(&y, opts.rel_threshold).map_err(at)?;
+        for (j, fj) in f.iter().enumerate() {
+            forces.set(k, j, 0, *fj);
         }
-        kept.push(s.iter().filter(|&&v| v > eps).count());
-        cond.push(smax / s.last().copied().unwrap_or(0.0));
+        kept.push(n_kept);
+        cond.push(svd.condition());
         svs.push(s);
     }
     let mut warnings = operational.warnings.clone();
