@@ -16,6 +16,13 @@
 //! * **Layout.** Frequency-major: one small dense row-major matrix per
 //!   frequency line.
 //!
+//! ## Public API
+//! Start from the re-exports at the top: [`FrfSet`] and [`Dof`] (the data),
+//! [`load`], [`save`] and [`export`] (files), [`parse_recipe`] and
+//! [`run_recipe`] (recipes, with [`DirSource`] or [`MapSource`] for their
+//! files; the result's [`RunReport`] is typed), and [`Workspace`] (what the
+//! page holds, and bundles).
+//!
 //! ## Example
 //! ```
 //! use mortise::frf::{Dof, Direction, FrfSet};
@@ -57,9 +64,17 @@ pub mod units;
 pub mod wasm;
 pub mod workspace;
 
+// The surface a library user needs, at the top: data, files, recipes, the
+// workspace (bundles). The modules stay reachable for the tests and the
+// faces, but these are the names to start from.
 pub use error::{Error, ErrorKind, Result};
 pub use frf::{Direction, Dof, FrfKind, FrfSet};
+pub use io::{export, load, save, ExportFormat, ImportOptions};
+pub use recipe::{
+    parse as parse_recipe, run as run_recipe, DirSource, MapSource, Recipe, RunReport, RunResult,
+};
 pub use units::Quantity;
+pub use workspace::{BundleOptions, Workspace};
 
 /// The version written into bundles and reports.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
