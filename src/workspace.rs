@@ -379,7 +379,7 @@ impl Workspace {
             recipe: Some(recipe_value),
             inputs,
             results: kept.clone(),
-            report: self.report.clone(),
+            report: self.shared_report(&r, &withheld),
         };
         Ok(MadeBundle {
             bytes: bundle::write(&b)?,
@@ -388,6 +388,27 @@ impl Workspace {
             kept_results: kept.iter().map(|s| s.name.clone()).collect(),
             notice,
         })
+    }
+
+    /// The last report as a bundle may carry it: with inputs withheld, the
+    /// withheld components' summaries and audits (which describe their data)
+    /// are left out.
+    fn shared_report(&self, r: &recipe::Recipe, withheld: &[String]) -> Option<serde_json::Value> {
+        let mut report = self.report.clone()?;
+        for (name, c) in &r.components {
+            let Some(file) = &c.file else { continue };
+            if withheld
+                .iter()
+                .any(|w| w == file || *w == io::base_name(file))
+            {
+                for key in ["components", "audit"] {
+                    if let Some(m) = report.get_mut(key).and_then(|v| v.as_object_mut()) {
+                        m.remove(name);
+                    }
+                }
+            }
+        }
+        Some(report)
     }
 
     /// The DOF namespaces of the components read from withheld files.

@@ -177,6 +177,10 @@ fn a_withheld_supplier_stays_withheld_and_runs_after_the_original_is_dropped_in(
         "{}",
         made.notice
     );
+    // the report keeps no summary or audit of the withheld part
+    let report = bundle::read(&made.bytes, "b.json").unwrap().report.unwrap();
+    assert!(report["components"].get("B").is_none() && report["audit"].get("B").is_none());
+    assert!(report["components"].get("A").is_some());
     // the attack finds nothing to invert, on any set of the bundle
     for s in &sets {
         for l in 0..s.n_lines() {

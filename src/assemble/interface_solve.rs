@@ -396,19 +396,8 @@ mod tests {
     use super::*;
     use nalgebra::DMatrix;
 
-    fn splitmix(x: u64) -> u64 {
-        let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
     fn random(m: usize, seed: u64, size: f64) -> DMatrix<Complex64> {
-        let u = |k: u64| (splitmix(seed * 7919 + k) >> 11) as f64 * 2f64.powi(-53) - 0.5;
-        DMatrix::from_fn(m, m, |i, j| {
-            let k = (i * m + j) as u64 * 2;
-            Complex64::new(u(k), u(k + 1)) * size
-        })
+        crate::linalg::svd::tests::random(m, m, seed) * Complex64::new(size, 0.0)
     }
 
     fn max_abs(a: &DMatrix<Complex64>) -> f64 {

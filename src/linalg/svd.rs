@@ -472,19 +472,19 @@ pub(crate) fn pinv_from_factors(
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
     use nalgebra::DMatrix;
 
-    fn splitmix(x: u64) -> u64 {
-        let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// Entries uniform in [−½, ½)² from a seeded counter-based generator.
-    fn random(m: usize, n: usize, seed: u64) -> DMatrix<Complex64> {
+    /// Entries uniform in [−½, ½)² from a seeded counter-based generator
+    /// (splitmix64); also the interface solve's test matrices.
+    pub(crate) fn random(m: usize, n: usize, seed: u64) -> DMatrix<Complex64> {
+        fn splitmix(x: u64) -> u64 {
+            let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            z ^ (z >> 31)
+        }
         let u = |k: u64| (splitmix(seed * 7919 + k) >> 11) as f64 * 2f64.powi(-53) - 0.5;
         DMatrix::from_fn(m, n, |i, j| {
             let k = (i * n + j) as u64 * 2;
