@@ -32,6 +32,10 @@ pub enum ErrorKind {
     Usage,
     /// The user cancelled a long computation.
     Cancelled,
+    /// The input asks for more memory, time or file size than the budget
+    /// allows (`crate::limits`); the message names the size asked for, the
+    /// budget and how to raise it.
+    Budget,
     /// A defect of mortise itself, not of the input (exit code 3).
     Internal,
 }
@@ -198,6 +202,31 @@ impl fmt::Display for Error {
 
 impl std::error::Error for Error {}
 
+/// The longest piece of input an error message quotes, in characters.
+pub const QUOTE_CHARS: usize = 60;
+
+/// Input as an error message may quote it: at most [`QUOTE_CHARS`]
+/// characters, cut with "…" and the full length in characters, and control
+/// characters shown as escapes, so a 1 MB token or a label full of terminal
+/// escapes never floods or garbles a message.
+pub fn quote(text: &str) -> String {
+    let mut out = String::new();
+    let mut n = 0usize;
+    for c in text.chars() {
+        if n == QUOTE_CHARS {
+            let total = text.chars().count();
+            return format!("{out}… ({total} characters)");
+        }
+        if c.is_control() {
+            out.extend(c.escape_default());
+        } else {
+            out.push(c);
+        }
+        n += 1;
+    }
+    out
+}
+
 impl From<std::io::Error> for Error {
     fn from(e: std::io::Error) -> Self {
         Error::io(e.to_string())
@@ -246,5 +275,18 @@ mod tests {
             .at_byte(4)
             .at_line(9);
         assert_eq!(e.to_string(), "a: byte 4: x");
+    }
+
+    #[test]
+    fn quote_cuts_long_input_and_escapes_controls() {
+        assert_eq!(quote("casing:101+Z"), "casing:101+Z");
+        let long = "x".repeat(1_000_000);
+        let q = quote(&long);
+        assert!(q.len() < 100, "{q}");
+        assert!(q.ends_with("… (1000000 characters)"), "{q}");
+        assert_eq!(quote("a\u{1b}[2Jb"), "a\\u{1b}[2Jb");
+        // cut on characters, not bytes: no panic inside a multi-byte character
+        let wide = "é".repeat(100);
+        assert!(quote(&wide).starts_with(&"é".repeat(QUOTE_CHARS)));
     }
 }

@@ -53,6 +53,7 @@ pub mod frf;
 pub mod grid;
 pub mod io;
 pub mod levels;
+pub mod limits;
 pub mod linalg;
 pub mod plot;
 pub mod predict;

@@ -119,6 +119,7 @@ pub fn exit_code(kind: ErrorKind) -> i32 {
         | ErrorKind::Recipe
         | ErrorKind::Unsupported
         | ErrorKind::Io
+        | ErrorKind::Budget
         | ErrorKind::Cancelled => 1,
     }
 }
