@@ -211,8 +211,7 @@ pub const QUOTE_CHARS: usize = 60;
 /// escapes never floods or garbles a message.
 pub fn quote(text: &str) -> String {
     let mut out = String::new();
-    let mut n = 0usize;
-    for c in text.chars() {
+    for (n, c) in text.chars().enumerate() {
         if n == QUOTE_CHARS {
             let total = text.chars().count();
             return format!("{out}… ({total} characters)");
@@ -222,7 +221,6 @@ pub fn quote(text: &str) -> String {
         } else {
             out.push(c);
         }
-        n += 1;
     }
     out
 }
