@@ -210,9 +210,15 @@ pub const QUOTE_CHARS: usize = 60;
 /// characters shown as escapes, so a 1 MB token or a label full of terminal
 /// escapes never floods or garbles a message.
 pub fn quote(text: &str) -> String {
+    quote_upto(text, QUOTE_CHARS)
+}
+
+/// [`quote`] with another length: for messages of other libraries (a JSON
+/// parser's) that may carry input, cut at `max` characters.
+pub fn quote_upto(text: &str, max: usize) -> String {
     let mut out = String::new();
     for (n, c) in text.chars().enumerate() {
-        if n == QUOTE_CHARS {
+        if n == max {
             let total = text.chars().count();
             return format!("{out}… ({total} characters)");
         }

@@ -385,7 +385,11 @@ fn two_uff_files_converted_into_one_keep_both_sets() {
                 "outputs": ["b"]}}"#
         );
         let r = mortise::recipe::parse(&recipe).unwrap();
-        let res = mortise::recipe::run(&r, &mortise::recipe::DirSource(d.clone())).unwrap();
+        let res = mortise::recipe::run(
+            &r,
+            &mortise::recipe::DirSource::confined(d.clone(), Default::default()),
+        )
+        .unwrap();
         let s = &res.outputs[0];
         assert_eq!(s.n_out() * s.n_in(), 12);
         assert_eq!(s.outputs[3].node, "14");

@@ -142,6 +142,11 @@ fn printed_recipe_runs_from_any_directory_and_gives_couples_result() {
         serde_json::from_str(&std::fs::read_to_string(d.join("sub/r.json")).unwrap()).unwrap();
     assert_eq!(recipe["components"]["A"]["file"], "../data/A.csv");
     assert_eq!(recipe["components"]["B"]["file"], "../data/B.csv");
+    assert!(
+        r.stdout.contains("names files outside its own folder: run it with 'mortise run sub/r.json -o OUTDIR --read-outside'"),
+        "couple says how to run the printed recipe: {}",
+        r.stdout
+    );
 
     let coupled = values(&d.join("ab.csv"));
     // rigidly joined grounded oscillators sharing one coordinate add their
@@ -174,7 +179,11 @@ fn printed_recipe_runs_from_any_directory_and_gives_couples_result() {
             d.join("out3/coupled.csv"),
         ),
     ] {
+        // the printed recipe names ../data/A.csv: outside its folder, so allowed explicitly
         let r = mortise(&cwd, &["run", recipe, "-o", out]);
+        assert_eq!(r.code, 1, "from {}: {}", cwd.display(), r.stderr);
+        assert!(r.stderr.contains("--read-outside"), "{}", r.stderr);
+        let r = mortise(&cwd, &["run", recipe, "-o", out, "--read-outside"]);
         assert_eq!(r.code, 0, "from {}: {}", cwd.display(), r.stderr);
         assert_eq!(values(&written), coupled, "from {}", cwd.display());
     }

@@ -144,7 +144,9 @@ fn demo_runs_from_its_files_and_the_paths_add_up() {
     // the run, and equals Σ_j H_bed,j F_j computed here (superposition of a
     // linear system; common practice)
     let r = recipe::parse(&std::fs::read_to_string(&recipe_path).unwrap()).unwrap();
-    let comps = recipe::load_components(&r, &DirSource(input.clone())).unwrap();
+    let comps =
+        recipe::load_components(&r, &DirSource::confined(input.clone(), Default::default()))
+            .unwrap();
     let room = &comps["room"];
     let forces = load(&out.join("anchor_forces.csv"));
     let c = path_contributions(room, &forces, &[]).unwrap();

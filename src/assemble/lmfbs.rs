@@ -410,7 +410,7 @@ fn check_distinct_dofs(components: &[&FrfSet]) -> Result<()> {
             for d in ca.outputs.iter().chain(&ca.inputs) {
                 if cb.outputs.iter().chain(&cb.inputs).any(|e| e.same_place(d)) {
                     return Err(Error::dof(format!(
-                        "DOF {} appears in both '{}' and '{}'; give each component its own component name (FrfSet::set_component) so joints can tell them apart",
+                        "DOF {} appears in both '{}' and '{}'; give each file its own component name (the 'component' import option, or a distinct component name in the recipe) so joints can tell them apart",
                         d.unsigned(),
                         ca.name,
                         cb.name

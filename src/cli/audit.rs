@@ -14,6 +14,7 @@ use crate::audit::{audit, audit_pair, AuditOptions, AuditReport};
 use crate::error::{Error, ErrorKind, Result};
 use crate::frf::FrfSet;
 use crate::io::{self, ImportOptions, Loaded};
+use crate::limits::Limits;
 
 /// The audit of one file.
 #[derive(Debug, Clone, serde::Serialize)]
@@ -57,9 +58,8 @@ pub fn options(args: &Args) -> Result<AuditOptions> {
     Ok(o)
 }
 
-fn read(path: &str) -> Result<Loaded> {
-    let bytes = std::fs::read(path)
-        .map_err(|e| Error::io(format!("cannot read the file: {e}")).in_file(path))?;
+fn read(path: &str, limits: &Limits) -> Result<Loaded> {
+    let bytes = io::disk::read_file(std::path::Path::new(path), path, limits)?;
     io::load(&bytes, &io::base_name(path), &ImportOptions::default())
         .map_err(|e| as_data(e, ErrorKind::Parse).in_file(path))
 }
@@ -175,6 +175,7 @@ pub fn render(entries: &[Entry], json: bool) -> Done {
 
 pub fn run(args: &Args) -> Result<Done> {
     let opts = options(args)?;
+    let limits = super::limits(args)?;
     let mut files: Vec<String> = args.positional.clone();
     let mut pair: Option<(String, String)> = None;
     if let Some(p) = args.value("pair") {
@@ -197,12 +198,12 @@ pub fn run(args: &Args) -> Result<Done> {
         .iter()
         .map(|f| Entry {
             file: f.clone(),
-            result: read(f).map(|l| audit_loaded(f, &l, &opts)),
+            result: read(f, &limits).map(|l| audit_loaded(f, &l, &opts)),
         })
         .collect();
     if let Some((a, b)) = pair {
-        let result = read(&a).and_then(|la| {
-            let lb = read(&b)?;
+        let result = read(&a, &limits).and_then(|la| {
+            let lb = read(&b, &limits)?;
             audit_loaded_pair((&a, &la), (&b, &lb), &opts)
         });
         entries.push(Entry {
@@ -273,7 +274,11 @@ mod tests {
         let e = d.error.unwrap();
         assert_eq!(e.kind, crate::error::ErrorKind::Io);
         assert_eq!(e.file.as_deref(), Some("/nonexistent/dir/casing.uff"));
-        assert!(e.message.contains("cannot read the file"), "{}", e.message);
+        assert!(
+            e.message.contains("cannot read: no such file"),
+            "{}",
+            e.message
+        );
         let Body::Text(t) = d.body else {
             panic!("text expected")
         };

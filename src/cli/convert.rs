@@ -86,7 +86,7 @@ pub fn run(args: &Args) -> Result<Done> {
     }
     let json = args.flag("json");
     let opts = import_options(args)?;
-    let results = load_files(&args.positional, &opts);
+    let results = load_files(&args.positional, &opts, &super::limits(args)?);
     let mut report = String::new();
     let mut inputs = Vec::new();
     let mut sets = Vec::new();

@@ -274,14 +274,29 @@ pub fn run(args: &Args) -> Result<Done> {
         "recipe_file": args.value("print-recipe"),
         "output": null,
     });
+    // a printed recipe naming files outside its folder runs only with --read-outside
+    let mut note = None;
     let ran = (|| -> Result<(recipe::RunResult, serde_json::Value)> {
         if let Some(p) = args.value("print-recipe") {
             let printed = recipe_for_file(&r, p)?;
             std::fs::write(p, recipe::to_text(&printed))
                 .map_err(|e| Error::io(format!("cannot write '{p}': {e}")))?;
+            let outside = printed
+                .components
+                .values()
+                .filter_map(|c| c.file.as_deref())
+                .any(|f| {
+                    Path::new(f).is_absolute()
+                        || Path::new(f).components().next() == Some(std::path::Component::ParentDir)
+                });
+            if outside {
+                note = Some(format!(
+                    "the recipe {p} names files outside its own folder: run it with 'mortise run {p} -o OUTDIR --read-outside', or move the files beside it"
+                ));
+            }
         }
-        let res =
-            recipe::run(&r, &DirSource(".".into())).map_err(|e| as_data(e, ErrorKind::Recipe))?;
+        let res = recipe::run(&r, &DirSource::anywhere(".", super::limits(args)?))
+            .map_err(|e| as_data(e, ErrorKind::Recipe))?;
         let bytes = io::save(&res.outputs, fmt).map_err(|e| as_data(e, ErrorKind::Internal))?;
         std::fs::write(out, &bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
         let written = serde_json::json!({
@@ -295,14 +310,19 @@ pub fn run(args: &Args) -> Result<Done> {
     match ran {
         Ok((res, written)) if json => {
             result["output"] = written;
+            result["note"] = note.into();
             result["report"] = serde_json::to_value(&res.report)
                 .map_err(|e| Error::internal(format!("report as JSON: {e}")))?;
             result["caution"] = super::CAUTION.into();
             Ok(Done::json(result))
         }
         Ok((res, _)) => {
-            let s = super::run::summary(&r.title, &res, Path::new(out));
-            Ok(Done::text(s.replace("and report.json ", "")))
+            let mut s =
+                super::run::summary(&r.title, &res, Path::new(out)).replace("and report.json ", "");
+            if let Some(n) = note {
+                s.push_str(&format!("note: {n}\n"));
+            }
+            Ok(Done::text(s))
         }
         Err(e) if json => Ok(Done::json(result).failed(Some(e))),
         Err(e) => Err(e),

@@ -14,7 +14,9 @@ use crate::io::csv::{
     ColumnMap, ColumnRef, Delimiter, FreqUnit, MagScale, MapEntry, PhaseUnit, ValueColumns,
 };
 use crate::io::{self, ImportOptions, Loaded};
+use crate::limits::Limits;
 use crate::units::Quantity;
+use std::path::Path;
 
 fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
     match args.value(name) {
@@ -48,7 +50,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
                 "give either --map or the column options (--freq-col, --re, ...), not both",
             ));
         }
-        let bytes = std::fs::read(path).map_err(|e| Error::io(e.to_string()).in_file(path))?;
+        let bytes = io::disk::read_file(Path::new(path), path, &super::limits(args)?)?;
         let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
             Error::parse(format!("not a column map: {e}"))
                 .at_line(e.line().max(1))
@@ -254,15 +256,15 @@ pub struct FileResult {
 /// Read and load every file; failures are kept, with the file name. (A
 /// usage error from the reader is about the file, or a `--map` file: a data
 /// error.)
-pub fn load_files(paths: &[String], opts: &ImportOptions) -> Vec<FileResult> {
+pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Vec<FileResult> {
     let data = |e: Error| as_data(e, ErrorKind::Parse);
     paths
         .iter()
-        .map(|p| match std::fs::read(p) {
+        .map(|p| match io::disk::read_file(Path::new(p), p, limits) {
             Err(e) => FileResult {
                 path: p.clone(),
                 sha256: None,
-                result: Err(Error::io(format!("cannot read the file: {e}")).in_file(p.as_str())),
+                result: Err(e),
             },
             Ok(bytes) => FileResult {
                 path: p.clone(),
@@ -347,7 +349,7 @@ pub fn run(args: &Args) -> Result<Done> {
         return Err(Error::usage("inspect needs at least one FILE"));
     }
     let opts = import_options(args)?;
-    let results = load_files(&args.positional, &opts);
+    let results = load_files(&args.positional, &opts, &super::limits(args)?);
     let failed: Vec<&Error> = results
         .iter()
         .filter_map(|f| f.result.as_ref().err())

@@ -27,21 +27,30 @@ pub fn run(args: &Args) -> Result<Done> {
     let json = args.flag("json");
     let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
-        let bytes = std::fs::read(path)
-            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
+        let limits = super::limits(args)?;
+        let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
         let dir = Path::new(path)
             .parent()
             .map(Path::to_path_buf)
             .unwrap_or_default();
+        // names inside the recipe (or the bundle) are read from its folder
+        let folder = if args.flag("read-outside") {
+            DirSource::anywhere(dir, limits)
+        } else {
+            DirSource::confined(dir, limits)
+        };
         let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
-            run_bundle(path, &bytes, &dir)?
+            run_bundle(path, &bytes, &folder)?
         } else {
             let text = String::from_utf8(bytes).map_err(|e| {
-                Error::parse(format!("a recipe is UTF-8 text: {e}")).in_file(path.as_str())
+                let at = e.utf8_error().valid_up_to();
+                Error::parse("a recipe is UTF-8 text; this byte does not begin a UTF-8 character")
+                    .at_byte(at)
+                    .in_file(path.as_str())
             })?;
             let r = recipe::parse(&text)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
-            let res = recipe::run(&r, &DirSource(dir))
+            let res = recipe::run(&r, &folder)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
             (r, res)
         };
@@ -77,14 +86,16 @@ pub struct Written {
 /// Run the recipe a bundle holds, on the inputs it carries; withheld inputs
 /// are read from files of the same name beside the bundle (their SHA-256
 /// must match the bundle's record).
-fn run_bundle(path: &str, bytes: &[u8], dir: &Path) -> Result<(recipe::Recipe, RunResult)> {
+fn run_bundle(path: &str, bytes: &[u8], folder: &DirSource) -> Result<(recipe::Recipe, RunResult)> {
     let mut ws = crate::workspace::Workspace::new();
     let opened = ws.open_bundle(path, bytes)?;
     for name in &opened.missing {
-        let p = dir.join(name);
-        let Ok(b) = std::fs::read(&p) else {
+        // a name the bundle gives: confined like a recipe's
+        let p = folder.resolve(name)?;
+        if !p.is_file() {
             continue;
-        };
+        }
+        let b = folder.read(name)?;
         let opts = ws.bundle_input_options(name).cloned().unwrap_or_default();
         ws.load_file(name, &b, opts)?;
     }
@@ -117,18 +128,51 @@ pub fn safe_name(name: &str) -> String {
         .collect()
 }
 
+/// The file name stem of every output, refused before anything is written
+/// when two outputs would share a file ("a b" and "a_b" are both `a_b`) or
+/// a name would make a hidden or nameless file. Names that differ only in
+/// case collide too (they do on macOS's and Windows' file systems).
+fn file_names<'a>(names: impl Iterator<Item = &'a str>) -> Result<Vec<String>> {
+    let mut seen: std::collections::BTreeMap<String, &str> = Default::default();
+    let mut stems = Vec::new();
+    for name in names {
+        let stem = safe_name(name);
+        if stem.is_empty() || stem.starts_with('.') {
+            return Err(Error::recipe(format!(
+                "output '{}' cannot be a file name ('{}'): give it a name that starts with a letter or digit",
+                crate::error::quote(name),
+                crate::error::quote(&stem)
+            ))
+            .field("outputs"));
+        }
+        // case folded: "Bed" and "bed" are one file on some file systems
+        if let Some(first) = seen.insert(stem.to_lowercase(), name) {
+            return Err(Error::recipe(format!(
+                "outputs '{}' and '{}' would both be written as {}.uff and {}.csv; rename one (names keep letters, digits, '-', '_' and '.'; anything else becomes '_')",
+                crate::error::quote(first),
+                crate::error::quote(name),
+                crate::error::quote(&stem),
+                crate::error::quote(&stem)
+            ))
+            .field("outputs"));
+        }
+        stems.push(stem);
+    }
+    Ok(stems)
+}
+
 /// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
 /// numbers under `uff_node_numbers`.
 pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
+    let stems = file_names(res.outputs.iter().map(|s| s.name.as_str()))?;
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
     let mut report = res.report.clone();
     let mut numbers = std::collections::BTreeMap::new();
     let mut files = Vec::new();
-    for s in &res.outputs {
-        let base = safe_name(&s.name);
+    for (s, base) in res.outputs.iter().zip(&stems) {
         for (fmt, ext) in [(ExportFormat::Uff, "uff"), (ExportFormat::Csv, "csv")] {
             let ex = io::export(std::slice::from_ref(s), fmt)
                 .map_err(|e| as_data(e, ErrorKind::Internal))?;

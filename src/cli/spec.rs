@@ -213,6 +213,18 @@ pub const IMPORT_OPTS: &[Opt] = &[
     ),
 ];
 
+/// The file-size budget, for every command that reads files.
+const MAX_FILE_OPT: Opt = val(
+    "max-file-mb",
+    "N",
+    "largest file read, in MB (10^6 bytes), above 0; only regular files are read, never devices \
+     or pipes (default 256 MiB, 268.4 MB)",
+);
+const FILES_GROUP: Group = Group {
+    title: "files",
+    opts: &[MAX_FILE_OPT],
+};
+
 const IMPORT_GROUP: Group = Group {
     title: "column-map options (for CSV/TSV files not in mortise's own layout; C is a 1-based \
             column number or a header name)",
@@ -236,6 +248,7 @@ pub const INSPECT: Command = Command {
             title: "options",
             opts: &[JSON_OPT, HELP_OPT],
         },
+        FILES_GROUP,
         IMPORT_GROUP,
     ],
     example: "mortise inspect sample-frf/unit-casing.uff sample-frf/brackets.uffb --json",
@@ -295,6 +308,7 @@ pub const CONVERT: Command = Command {
                 HELP_OPT,
             ],
         },
+        FILES_GROUP,
         IMPORT_GROUP,
     ],
     example: "mortise convert sample-frf/isolator-stiffness.csv -o isolator.csv --delim semicolon \
@@ -306,11 +320,11 @@ pub const CONVERT: Command = Command {
 pub const RUN: Command = Command {
     name: "run",
     summary: "execute a recipe (or the recipe of a bundle); write its outputs as UFF 58 and CSV plus report.json",
-    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json]",
+    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json] [--read-outside] [--max-file-mb N]",
     about: "Executes RECIPE (mortise's JSON recipe: components, steps, variants, outputs; \
             'mortise help recipe') from files alone. File names inside the recipe are relative to \
             the recipe file's own directory, so a recipe runs the same from any current \
-            directory.\n\n\
+            directory, and must stay inside it unless --read-outside is given.\n\n\
             Given a BUNDLE instead (detected by content), runs the recipe it holds on the input \
             files it carries; an input the sender withheld is read from a file of the same name \
             beside the bundle, which must have the SHA-256 the bundle records.\n\n\
@@ -331,6 +345,18 @@ pub const RUN: Command = Command {
             JSON_OPT,
             HELP_OPT,
         ],
+    },
+    Group {
+        title: "files",
+        opts: &[
+            flag(
+                "read-outside",
+                "let the recipe (or the bundle) name files outside its own folder: absolute \
+                 paths, '..' that leave it, links out of it (default: refused, so a recipe \
+                 received from someone else reads nothing else on this machine)",
+            ),
+            MAX_FILE_OPT,
+        ],
     }],
     example: "mortise run sample-frf/heat-pump.recipe.json -o results",
 };
@@ -345,41 +371,44 @@ pub const COUPLE: Command = Command {
             OUT. Each FILE becomes a component named after its file stem, which is also the DOF \
             namespace of its DOFs: node 4 of casing.uff is casing:4. The result is in the first \
             FILE's kind. It runs the same code as a one-step recipe given to 'mortise run'.",
-    groups: &[Group {
-        title: "options",
-        opts: &[
-            many(
-                "join",
-                "'A = B ...'",
-                "one joint between DOF A of one component and DOF B of another (labels \
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                many(
+                    "join",
+                    "'A = B ...'",
+                    "one joint between DOF A of one component and DOF B of another (labels \
                  component:node+DIR, DIR one of X Y Z RX RY RZ). Alone it is rigid; followed by \
                  k=N/m it is a spring, c=N*s/m a damper, k= and eta= hysteretic, k= and c= (and \
                  eta=) a spring-damper, stiffness=FILE a measured dynamic stiffness (a 1x1 set \
                  in FILE). At least one",
-            ),
-            val(
-                "o",
-                "OUT",
-                "the file to write (required); its format follows the extension: .uff or .unv \
+                ),
+                val(
+                    "o",
+                    "OUT",
+                    "the file to write (required); its format follows the extension: .uff or .unv \
                  (UFF 58), .uffb (58b), .csv (mortise CSV), .json (bundle)",
-            ),
-            val(
-                "tsvd",
-                "X",
-                "regularise the interface inversion by truncated SVD: singular values below X \
+                ),
+                val(
+                    "tsvd",
+                    "X",
+                    "regularise the interface inversion by truncated SVD: singular values below X \
                  times the largest are dropped; X from 0 to below 1; default: no truncation",
-            ),
-            val(
-                "print-recipe",
-                "RECIPE",
-                "also write the recipe this command runs to the file RECIPE, with file names \
+                ),
+                val(
+                    "print-recipe",
+                    "RECIPE",
+                    "also write the recipe this command runs to the file RECIPE, with file names \
                  relative to RECIPE's directory, to grow it and run it with 'mortise run \
                  RECIPE'; default: none",
-            ),
-            JSON_OPT,
-            HELP_OPT,
-        ],
-    }],
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        FILES_GROUP,
+    ],
     example: "mortise couple sample-frf/unit-casing.uff sample-frf/brackets.uffb \
               --join 'unit-casing:101+Z = brackets:1+Z k=2e5 eta=0.1' \
               --join 'unit-casing:102+Z = brackets:2+Z k=2e5 eta=0.1' -o mounted.uff",
@@ -432,7 +461,8 @@ pub const AUDIT: Command = Command {
             JSON_OPT,
             HELP_OPT,
         ],
-    }],
+    },
+    FILES_GROUP],
     example: "mortise audit sample-frf/unit-casing.uff sample-frf/brackets.uffb --coherence-min 0.8",
 };
 

@@ -9,6 +9,7 @@
 
 pub mod bundle;
 pub mod csv;
+pub mod disk;
 pub mod merge;
 pub mod nodes;
 pub mod uff58;

@@ -56,7 +56,8 @@ fn execute(
     if let Some(v) = variant {
         for (name, f) in &v.scale {
             if let Some(s) = values.get_mut(name) {
-                scale_in_place(s, *f);
+                scale_in_place(s, *f)
+                    .map_err(|e| e.field(format!("scale.{}", crate::error::quote(name))))?;
             }
         }
     }
@@ -69,9 +70,13 @@ fn execute(
             id: &step.id,
             variant,
         };
-        let mut out = step.op.run(&cx).map_err(|e| e.within(label))?;
+        let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
-            scale_in_place(&mut out.set, *f);
+            // the variant's factor on this step's result: the error names both
+            scale_in_place(&mut out.set, *f).map_err(|mut e| {
+                e.field = Some(format!("scale.{}", crate::error::quote(&step.id)));
+                e.within(label)
+            })?;
         }
         out.set.name = step.id.clone();
         dedup(&mut out.set.warnings);

@@ -39,7 +39,7 @@ pub use report::{
     REPORT_FORMAT, REPORT_VERSION,
 };
 
-use crate::error::{Error, Result};
+use crate::error::{quote, quote_upto, Error, Result};
 use crate::io;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -80,15 +80,13 @@ impl FileSource for MapSource {
     }
 }
 
-/// Files on disk relative to a directory (the recipe's own).
-#[derive(Debug, Clone)]
-pub struct DirSource(pub std::path::PathBuf);
+/// Files on disk, relative to the recipe's folder and confined to it
+/// unless the user allowed more ([`crate::io::disk`]).
+pub use crate::io::disk::DirSource;
 
 impl FileSource for DirSource {
     fn read(&self, name: &str) -> Result<Vec<u8>> {
-        let p = self.0.join(name);
-        std::fs::read(&p)
-            .map_err(|e| Error::io(format!("cannot read '{}': {e}", p.display())).in_file(name))
+        DirSource::read(self, name)
     }
 }
 
@@ -157,9 +155,12 @@ struct RawRecipe {
 /// top level, the line.
 pub fn parse(text: &str) -> Result<Recipe> {
     let raw: RawRecipe = serde_json::from_str(text).map_err(|e| {
-        Error::recipe(format!("not a valid recipe: {e}"))
-            .at_line(e.line())
-            .field("recipe")
+        Error::recipe(format!(
+            "not a valid recipe: {}",
+            quote_upto(&e.to_string(), 240)
+        ))
+        .at_line(e.line())
+        .field("recipe")
     })?;
     from_raw(raw)
 }
@@ -182,8 +183,11 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
     let mut components = BTreeMap::new();
     for (name, v) in raw.components {
         let c: ComponentSpec = serde_json::from_value(v.clone()).map_err(|e| {
-            Error::recipe(e.to_string().replace("unknown field", "unknown key"))
-                .within(format!("components.{name}"))
+            Error::recipe(quote_upto(
+                &e.to_string().replace("unknown field", "unknown key"),
+                240,
+            ))
+            .within(format!("components.{}", quote(&name)))
         })?;
         // every key used: what serde's flattened models cannot refuse
         let back = serde_json::to_value(&c)
@@ -192,7 +196,7 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
             return Err(
                 Error::recipe(format!("unknown key `{k}`: nothing reads it"))
                     .field(k)
-                    .within(format!("components.{name}")),
+                    .within(format!("components.{}", quote(&name))),
             );
         }
         components.insert(name, c);
@@ -210,7 +214,8 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
             .unwrap_or("")
             .to_string();
         let var: Variant = serde_json::from_value(v).map_err(|e| {
-            Error::recipe(e.to_string()).within(format!("variants[{n}] ('{name}')"))
+            Error::recipe(quote_upto(&e.to_string(), 240))
+                .within(format!("variants[{n}] ('{}')", quote(&name)))
         })?;
         variants.push(var);
     }
@@ -233,8 +238,8 @@ fn step_label(n: usize, v: &serde_json::Value) -> String {
     let id = v.get("id").and_then(|x| x.as_str());
     let op = v.get("op").and_then(|x| x.as_str());
     match (id, op) {
-        (Some(i), Some(o)) => format!("steps[{n}] (id '{i}', op '{o}')"),
-        (Some(i), None) => format!("steps[{n}] (id '{i}')"),
+        (Some(i), Some(o)) => format!("steps[{n}] (id '{}', op '{}')", quote(i), quote(o)),
+        (Some(i), None) => format!("steps[{n}] (id '{}')", quote(i)),
         _ => format!("steps[{n}]"),
     }
 }
@@ -242,13 +247,17 @@ fn step_label(n: usize, v: &serde_json::Value) -> String {
 /// Every name a step, an output or a variant uses is defined before it, ids
 /// are unique, and every variant's scale and dropped joint exists.
 fn check_names(r: &Recipe) -> Result<()> {
+    for name in r.components.keys() {
+        check_name(name).map_err(|e| e.within(format!("components.{}", quote(name))))?;
+    }
     let mut known: Vec<&str> = r.components.keys().map(String::as_str).collect();
     for (n, st) in r.steps.iter().enumerate() {
-        let label = format!("steps[{n}] (id '{}', op '{}')", st.id, st.op.name());
+        let label = format!("steps[{n}] (id '{}', op '{}')", quote(&st.id), st.op.name());
+        check_name(&st.id).map_err(|e| e.field("id").within(label.clone()))?;
         if known.contains(&st.id.as_str()) {
             return Err(Error::recipe(format!(
                 "id '{}' is already used by a component or an earlier step",
-                st.id
+                quote(&st.id)
             ))
             .field("id")
             .within(label));
@@ -258,8 +267,9 @@ fn check_names(r: &Recipe) -> Result<()> {
             let base = name.split_once('/').map_or(name, |(id, _)| id);
             if !known.contains(&name) && !known.contains(&base) {
                 return Err(Error::recipe(format!(
-                    "'{name}' is not a component or an earlier step; known: {}",
-                    known.join(", ")
+                    "'{}' is not a component or an earlier step; known: {}",
+                    quote(name),
+                    known_list(&known)
                 ))
                 .within(label));
             }
@@ -269,18 +279,21 @@ fn check_names(r: &Recipe) -> Result<()> {
     for o in &r.outputs {
         if !known.contains(&o.as_str()) {
             return Err(Error::recipe(format!(
-                "output '{o}' is not a component or step id; known: {}",
-                known.join(", ")
+                "output '{}' is not a component or step id; known: {}",
+                quote(o),
+                known_list(&known)
             ))
             .field("outputs"));
         }
     }
     for (n, v) in r.variants.iter().enumerate() {
-        let label = format!("variants[{n}] ('{}')", v.name);
+        let label = format!("variants[{n}] ('{}')", quote(&v.name));
+        check_name(&v.name).map_err(|e| e.field("name").within(label.clone()))?;
         for name in v.scale.keys() {
             if !known.contains(&name.as_str()) {
                 return Err(Error::recipe(format!(
-                    "'scale' names '{name}', which is neither a component nor a step"
+                    "'scale' names '{}', which is neither a component nor a step",
+                    quote(name)
                 ))
                 .field("scale")
                 .within(label));
@@ -299,7 +312,8 @@ fn check_names(r: &Recipe) -> Result<()> {
             });
             if ok.is_none() {
                 return Err(Error::recipe(format!(
-                    "'drop_joints' entry '{d}' names no joint; expected STEP_ID#INDEX of a couple or decouple step's joints (0-based)"
+                    "'drop_joints' entry '{}' names no joint; expected STEP_ID#INDEX of a couple or decouple step's joints (0-based)",
+                    quote(d)
                 ))
                 .field("drop_joints")
                 .within(label));
@@ -307,6 +321,37 @@ fn check_names(r: &Recipe) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// A name (component, step id, variant) is not empty and holds no control
+/// characters: it becomes a file name and a label on the page.
+fn check_name(name: &str) -> Result<()> {
+    if name.trim().is_empty() {
+        return Err(Error::recipe(
+            "the name is empty; give it a name of one or more letters",
+        ));
+    }
+    if name.chars().any(char::is_control) {
+        return Err(Error::recipe(format!(
+            "the name '{}' holds control characters",
+            quote(name)
+        )));
+    }
+    Ok(())
+}
+
+/// The known names for a message: at most 12, then how many more.
+fn known_list(known: &[&str]) -> String {
+    let mut s = known
+        .iter()
+        .take(12)
+        .map(|k| quote(k))
+        .collect::<Vec<_>>()
+        .join(", ");
+    if known.len() > 12 {
+        s.push_str(&format!(" and {} more", known.len() - 12));
+    }
+    s
 }
 
 impl<'de> Deserialize<'de> for Recipe {

@@ -146,16 +146,25 @@ impl Operation for Scale {
             .field("factor"));
         }
         let mut s = s.clone();
-        scale_in_place(&mut s, self.factor);
+        scale_in_place(&mut s, self.factor)?;
         Ok(StepOutput::plain(cx, "scale", s))
     }
 }
 
-/// Multiply every value of a set by `f`.
-pub(crate) fn scale_in_place(s: &mut FrfSet, f: f64) {
+/// Multiply every value of a set by `f`; refused when a product is not
+/// finite (a factor that overflows the values), naming the first one.
+pub(crate) fn scale_in_place(s: &mut FrfSet, f: f64) -> Result<()> {
     for v in &mut s.data {
         *v *= f;
     }
+    s.validate().map_err(|e| {
+        Error::numeric(format!(
+            "multiplying '{}' by {f:e} overflows: {}",
+            crate::error::quote(&s.name),
+            e.message
+        ))
+        .field("factor")
+    })
 }
 
 /// The interpolation an `interp` operand names (default: linear in re/im).
