@@ -89,6 +89,9 @@ pub struct MadeBundle {
     pub kept_results: Vec<String>,
     /// One sentence: what a recipient could still infer from what is shared.
     pub notice: String,
+    /// The SHA-256 of the bundle's whole content (`io::bundle` docs), for the
+    /// sender to tell the recipient by another channel.
+    pub content_sha256: String,
 }
 
 /// An opened bundle, for the page.
@@ -102,6 +105,13 @@ pub struct OpenedBundle {
     pub report: Option<serde_json::Value>,
     /// Inputs to drop in again (withheld) before the recipe can run.
     pub missing: Vec<String>,
+    /// The bundle's version (`io::bundle` docs).
+    pub version: u32,
+    /// The whole-content SHA-256, recorded and checked (version 3); `None`
+    /// for earlier versions, which record none.
+    pub content_sha256: Option<String>,
+    /// What could not be checked (earlier versions), in words.
+    pub notes: Vec<String>,
 }
 
 /// One input of an opened bundle.
@@ -381,8 +391,12 @@ impl Workspace {
             results: kept.clone(),
             report: self.shared_report(&r, &withheld),
         };
+        let bytes = bundle::write(&b)?;
+        let content_sha256 = bundle::content_sha256(&bytes)
+            .ok_or_else(|| Error::internal("the bundle written has no content SHA-256"))?;
         Ok(MadeBundle {
-            bytes: bundle::write(&b)?,
+            bytes,
+            content_sha256,
             withheld,
             dropped_results: dropped,
             kept_results: kept.iter().map(|s| s.name.clone()).collect(),
@@ -443,42 +457,46 @@ impl Workspace {
         out
     }
 
-    /// Open a bundle: its inputs become available to recipes (raw data
-    /// carried, or files the user drops in again, checked by SHA-256), its
-    /// results become the workspace's results.
+    /// Open a bundle: every hash it records is checked first (`io::bundle`
+    /// docs; a bundle failing one is refused and the workspace is left as it
+    /// was); its inputs become available to recipes (raw data carried, or
+    /// files the user drops in again, checked by SHA-256), its results become
+    /// the workspace's results.
     pub fn open_bundle(&mut self, name: &str, bytes: &[u8]) -> Result<OpenedBundle> {
-        let b = bundle::read(bytes, name)?;
-        self.drop_prefix("bundle:");
-        self.bundle_inputs.clear();
+        let checked = bundle::read_checked(bytes, name)?;
+        let b = checked.bundle;
+        // everything is read before the workspace changes, so a bundle that
+        // fails here leaves the last one (and the loaded files) as they were
+        let mut new_sets = Vec::new();
+        let mut new_inputs = BTreeMap::new();
         let mut inputs = Vec::new();
         let mut missing = Vec::new();
         for inp in &b.inputs {
+            // checked against the recorded SHA-256 by bundle::read_checked
             let raw = inp.bytes().map_err(|e| e.in_file(name))?;
-            if let Some(r) = &raw {
-                let sha = io::sha256_hex(r);
-                if sha != inp.sha256 {
-                    return Err(Error::parse(format!(
-                        "input '{}': its bytes have SHA-256 {sha}, the bundle records {}: the bundle is damaged or was altered",
-                        inp.name, inp.sha256
-                    ))
-                    .in_file(name));
-                }
-            }
             let sets = match (&raw, &inp.sets) {
                 (Some(r), _) => {
-                    let opts = import_options(&inp.options).map_err(|e| e.in_file(name))?;
+                    let opts = import_options(&inp.options).map_err(|e| {
+                        e.in_file(name)
+                            .within(format!("input '{}'", crate::error::quote(&inp.name)))
+                    })?;
                     io::load(r, &inp.name, &opts)
-                        .map_err(|e| e.in_file(name).field(format!("inputs '{}'", inp.name)))?
+                        .map_err(|e| {
+                            e.in_file(name)
+                                .within(format!("input '{}'", crate::error::quote(&inp.name)))
+                        })?
                         .sets
                 }
                 (None, Some(s)) => s.clone(),
                 (None, None) => Vec::new(),
             };
-            let mut ids = Vec::new();
+            let mut summaries = Vec::new();
             for (k, s) in sets.into_iter().enumerate() {
                 let id = format!("{}{k}", prefix_of("bundle", &inp.name));
-                self.sets.insert(id.clone(), s);
-                ids.push(id);
+                let mut m = summary::set_summary(&s);
+                m.id = id.clone();
+                summaries.push(m);
+                new_sets.push((id, s));
             }
             let supplied = self
                 .files
@@ -494,18 +512,9 @@ impl Workspace {
                 options: inp.options.clone(),
                 withheld: inp.withheld(),
                 supplied,
-                sets: ids
-                    .iter()
-                    .filter_map(|id| {
-                        self.sets.get(id).map(|s| {
-                            let mut m = summary::set_summary(s);
-                            m.id = id.clone();
-                            m
-                        })
-                    })
-                    .collect(),
+                sets: summaries,
             });
-            self.bundle_inputs.insert(
+            new_inputs.insert(
                 inp.name.clone(),
                 BundleIn {
                     sha256: inp.sha256.clone(),
@@ -516,6 +525,9 @@ impl Workspace {
                 },
             );
         }
+        self.drop_prefix("bundle:");
+        self.sets.extend(new_sets);
+        self.bundle_inputs = new_inputs;
         self.bundle_name = Some(name.to_string());
         self.bundle_recipe = b.recipe.clone();
         let stored = self.store_results(b.results.clone(), b.report.clone());
@@ -527,6 +539,9 @@ impl Workspace {
             results: stored.results,
             report: b.report,
             missing,
+            version: b.version,
+            content_sha256: checked.content_sha256,
+            notes: checked.notes,
         })
     }
 

@@ -416,8 +416,10 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             )?]
         }
         Format::Bundle => {
-            let b = bundle::read(bytes, file)?;
-            let withheld = b.inputs.iter().filter(|i| i.sets.is_none()).count();
+            let checked = bundle::read_checked(bytes, file)?;
+            warnings.extend(checked.notes);
+            let b = checked.bundle;
+            let withheld = b.inputs.iter().filter(|i| i.withheld()).count();
             if withheld > 0 {
                 warnings.push(format!(
                     "{withheld} of {} inputs' raw FRFs were withheld by the sender; only their names and SHA-256 are in the bundle",
