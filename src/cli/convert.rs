@@ -196,14 +196,21 @@ pub fn run(args: &Args) -> Result<Done> {
         Err(e) => return Ok(done(json, report, result).failed(Some(e))),
     };
     let sha = io::sha256_hex(&bytes);
+    // a bundle also records the SHA-256 of its content (io::bundle docs)
+    let content = io::bundle::content_sha256(&bytes).filter(|_| fmt == ExportFormat::Bundle);
     report.push_str(&format!(
-        "wrote {out_path}: {}, {} set(s), {} bytes, sha256 {sha}\n",
+        "wrote {out_path}: {}, {} set(s), {} bytes, sha256 {sha}{}\n",
         fmt.name(),
         sets.len(),
         bytes.len(),
+        content
+            .as_ref()
+            .map(|c| format!(", bundle content sha256 {c}"))
+            .unwrap_or_default()
     ));
     result["output"] = serde_json::json!({
-        "file": out_path, "format": fmt.name(), "sets": sets.len(), "bytes": bytes.len(), "sha256": sha
+        "file": out_path, "format": fmt.name(), "sets": sets.len(), "bytes": bytes.len(), "sha256": sha,
+        "content_sha256": content
     });
     let error = problems("the sets that could be read were written");
     Ok(done(json, report, result).failed(error))

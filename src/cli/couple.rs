@@ -304,6 +304,7 @@ pub fn run(args: &Args) -> Result<Done> {
             "format": fmt.name(),
             "bytes": bytes.len(),
             "sha256": io::sha256_hex(&bytes),
+            "content_sha256": io::bundle::content_sha256(&bytes).filter(|_| fmt == io::ExportFormat::Bundle),
         });
         Ok((res, written))
     })();
@@ -316,11 +317,20 @@ pub fn run(args: &Args) -> Result<Done> {
             result["caution"] = super::CAUTION.into();
             Ok(Done::json(result))
         }
-        Ok((res, _)) => {
+        Ok((res, written)) => {
             let mut s =
                 super::run::summary(&r.title, &res, Path::new(out)).replace("and report.json ", "");
+            if let Some(c) = written["content_sha256"].as_str() {
+                s.push_str(&format!(
+                    "bundle content sha256: {c}
+"
+                ));
+            }
             if let Some(n) = note {
-                s.push_str(&format!("note: {n}\n"));
+                s.push_str(&format!(
+                    "note: {n}
+"
+                ));
             }
             Ok(Done::text(s))
         }

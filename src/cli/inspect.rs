@@ -250,6 +250,8 @@ pub struct FileResult {
     pub path: String,
     /// SHA-256 of the bytes, when the file could be read at all.
     pub sha256: Option<String>,
+    /// A bundle's content SHA-256 (`io::bundle` docs), checked when it loaded.
+    pub content_sha256: Option<String>,
     pub result: Result<Loaded>,
 }
 
@@ -264,13 +266,19 @@ pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Ve
             Err(e) => FileResult {
                 path: p.clone(),
                 sha256: None,
+                content_sha256: None,
                 result: Err(e),
             },
-            Ok(bytes) => FileResult {
-                path: p.clone(),
-                sha256: Some(io::sha256_hex(&bytes)),
-                result: io::load(&bytes, p, opts).map_err(data),
-            },
+            Ok(bytes) => {
+                let result = io::load(&bytes, p, opts).map_err(data);
+                let bundle = matches!(&result, Ok(l) if l.format == io::Format::Bundle);
+                FileResult {
+                    path: p.clone(),
+                    sha256: Some(io::sha256_hex(&bytes)),
+                    content_sha256: io::bundle::content_sha256(&bytes).filter(|_| bundle),
+                    result,
+                }
+            }
         })
         .collect()
 }
@@ -364,6 +372,7 @@ pub fn run(args: &Args) -> Result<Done> {
                     "ok": true,
                     "format": l.format.name(),
                     "sha256": f.sha256,
+                    "content_sha256": f.content_sha256,
                     "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
                     "warnings": l.warnings,
                 }),
@@ -387,6 +396,9 @@ pub fn run(args: &Args) -> Result<Done> {
         match &f.result {
             Ok(l) => {
                 out.push_str(&format!("  format: {}\n", l.format.name()));
+                if let Some(c) = &f.content_sha256 {
+                    out.push_str(&format!("  bundle content sha256: {c} (checked)\n"));
+                }
                 for (n, s) in l.sets.iter().enumerate() {
                     set_text(n + 1, s, &mut out);
                 }

@@ -111,7 +111,14 @@ fn run_bundle(path: &str, bytes: &[u8], folder: &DirSource) -> Result<(recipe::R
         .bundle_recipe_text()
         .ok_or_else(|| Error::missing("the bundle holds no recipe").in_file(path))?;
     let r = recipe::parse(&text).map_err(|e| e.in_file(path).field("recipe"))?;
-    let res = ws.run(&r).map_err(|e| e.in_file(path))?;
+    let mut res = ws.run(&r).map_err(|e| e.in_file(path))?;
+    // what the bundle's hashes proved (or, for an earlier version, could not)
+    if let Some(c) = &opened.content_sha256 {
+        res.report.notes.push(format!(
+            "bundle content sha256 {c} (checked, as was every hash it records)"
+        ));
+    }
+    res.report.notes.extend(opened.notes.iter().cloned());
     Ok((r, res))
 }
 

@@ -715,13 +715,14 @@ impl At<'_> {
             .iter()
             .enumerate()
             .map(|(n, v)| {
-                let field = || format!("data, value {}", n + 1);
+                let part = |p: &'static str| move || format!("data, value {}, {p}", n + 1);
                 match v.as_array().map(Vec::as_slice) {
-                    Some([re, im]) => {
-                        Ok(Complex64::new(self.num(field, re)?, self.num(field, im)?))
-                    }
+                    Some([re, im]) => Ok(Complex64::new(
+                        self.num(part("real part"), re)?,
+                        self.num(part("imaginary part"), im)?,
+                    )),
                     _ => Err(self.err(
-                        field(),
+                        format!("data, value {}", n + 1),
                         format!("found {}; expected [real, imaginary]", found(v)),
                     )),
                 }
