@@ -476,16 +476,19 @@ impl Workspace {
             let raw = inp.bytes().map_err(|e| e.in_file(name))?;
             let sets = match (&raw, &inp.sets) {
                 (Some(r), _) => {
-                    let opts = import_options(&inp.options).map_err(|e| {
-                        e.in_file(name)
-                            .within(format!("input '{}'", crate::error::quote(&inp.name)))
-                    })?;
-                    io::load(r, &inp.name, &opts)
-                        .map_err(|e| {
-                            e.in_file(name)
-                                .within(format!("input '{}'", crate::error::quote(&inp.name)))
-                        })?
-                        .sets
+                    // the input's own errors name the input as the file
+                    // (their lines are its lines) and say which bundle
+                    let carried = |mut e: Error| {
+                        e.message = format!(
+                            "{} (input '{}' carried in bundle '{}')",
+                            e.message,
+                            crate::error::quote(&inp.name),
+                            crate::error::quote(name)
+                        );
+                        e.in_file(inp.name.as_str())
+                    };
+                    let opts = import_options(&inp.options).map_err(carried)?;
+                    io::load(r, &inp.name, &opts).map_err(carried)?.sets
                 }
                 (None, Some(s)) => s.clone(),
                 (None, None) => Vec::new(),

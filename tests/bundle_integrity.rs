@@ -482,6 +482,10 @@ fn malformed_bundles_get_plain_messages_naming_the_entry() {
             "outputs, DOF 1.positive: found the text 'yes'; expected true or false",
         ),
         (
+            text.replacen("\"positive\": true", "\"positive\": true, \"colour\": \"red\"", 1),
+            "input 1 ('casing.uff'): set 1 ('gehäuse — casing'): outputs, DOF 1.colour: unknown field 'colour'; a version 3 bundle has here: component, node, dir, positive",
+        ),
+        (
             text.replacen("\"created\":", "\"kreated\": 1, \"created\":", 1),
             "b.json: kreated: unknown field 'kreated'; a version 3 bundle has here: format, version",
         ),

@@ -495,6 +495,19 @@ fn found(v: &Value) -> String {
     }
 }
 
+/// An error placed in a bundle's entry: the entry leads the field
+/// ("result 2 ('casing'): sha256"), so the CLI and the page's error box both
+/// show it where they show a field.
+fn in_entry(mut e: Error, entry: &str) -> Error {
+    if !entry.is_empty() {
+        e.field = Some(match e.field.take() {
+            Some(f) => format!("{entry}: {f}"),
+            None => entry.to_string(),
+        });
+    }
+    e
+}
+
 /// Where an entry sits, for errors: the file and the entry ("result 2 ('casing')").
 struct At<'a> {
     file: &'a str,
@@ -503,12 +516,10 @@ struct At<'a> {
 
 impl At<'_> {
     fn err(&self, field: impl Into<String>, message: impl Into<String>) -> Error {
-        let e = Error::parse(message).field(field).in_file(self.file);
-        if self.entry.is_empty() {
-            e
-        } else {
-            e.within(self.entry.clone())
-        }
+        in_entry(
+            Error::parse(message).field(field).in_file(self.file),
+            &self.entry,
+        )
     }
 
     fn object<'v>(&self, v: &'v Value, what: &str) -> Result<&'v Map<String, Value>> {
@@ -517,10 +528,21 @@ impl At<'_> {
     }
 
     /// Refuse keys a bundle of this version does not have.
-    fn known(&self, m: &Map<String, Value>, keys: &[&str], version: u32) -> Result<()> {
+    /// `inner`: where the object sits inside the entry ("outputs, DOF 2"), or "".
+    fn known(
+        &self,
+        m: &Map<String, Value>,
+        keys: &[&str],
+        version: u32,
+        inner: &str,
+    ) -> Result<()> {
         if let Some(k) = m.keys().find(|k| !keys.contains(&k.as_str())) {
             return Err(self.err(
-                quote(k),
+                if inner.is_empty() {
+                    quote(k)
+                } else {
+                    format!("{inner}.{}", quote(k))
+                },
                 format!(
                     "unknown field '{}'; a version {version} bundle has here: {}",
                     quote(k),
@@ -625,11 +647,7 @@ impl At<'_> {
     fn dof(&self, field: &str, v: &Value, version: u32) -> Result<Dof> {
         let m = self.object(v, field)?;
         let at = |k: &str| format!("{field}.{k}");
-        self.known(m, &["component", "node", "dir", "positive"], version)
-            .map_err(|e| Error {
-                field: e.field.map(|f| at(&f)),
-                ..e
-            })?;
+        self.known(m, &["component", "node", "dir", "positive"], version, field)?;
         let text = |k: &str| -> Result<String> {
             match m.get(k) {
                 Some(Value::String(s)) => Ok(s.clone()),
@@ -687,7 +705,7 @@ impl At<'_> {
         if version >= 3 {
             keys.push("sha256");
         }
-        self.known(m, &keys, version)?;
+        self.known(m, &keys, version, "")?;
         let sha = if version >= 3 {
             Some(self.sha256(m, "sha256")?)
         } else {
@@ -753,11 +771,7 @@ impl At<'_> {
                 .map(|(n, v)| {
                     let field = format!("provenance, entry {}", n + 1);
                     let p = self.object(v, &field)?;
-                    self.known(p, &["file", "sha256", "format", "options"], version)
-                        .map_err(|e| Error {
-                            field: Some(field.clone()),
-                            ..e
-                        })?;
+                    self.known(p, &["file", "sha256", "format", "options"], version, &field)?;
                     let t = |k: &str, required: bool| -> Result<String> {
                         match p.get(k) {
                             Some(Value::String(s)) => Ok(s.clone()),
@@ -925,7 +939,7 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
     if version >= 3 {
         keys.push(CONTENT_FIELD);
     }
-    top.known(obj, &keys, version)?;
+    top.known(obj, &keys, version, "")?;
     let optional_value = |k: &str| match obj.get(k) {
         None | Some(Value::Null) => None,
         Some(v) => Some(v.clone()),
@@ -962,6 +976,7 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
             m,
             &["name", "sha256", "format", "options", "sets", "data"],
             version,
+            "",
         )?;
         let name = at.required_text(m, "name")?;
         if !plain_file_name(&name) {
@@ -1024,7 +1039,7 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
         };
         if let Some(raw) = input
             .bytes()
-            .map_err(|e| e.in_file(file).within(at.entry.clone()))?
+            .map_err(|e| in_entry(e.in_file(file), &at.entry))?
         {
             let sha = crate::io::sha256_hex(&raw);
             if sha != input.sha256 {
@@ -1053,17 +1068,21 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
     // each set well formed, then its hash, then the whole content
     for (set, (label, recorded)) in bundle.all_sets().iter().zip(&stored) {
         set.validate()
-            .map_err(|e| e.in_file(file).within(label.clone()))?;
+            .map_err(|e| in_entry(e.in_file(file), label))?;
         if let Some(recorded) = recorded {
             let computed = set_sha256(set);
             if &computed != recorded {
-                return Err(Error::parse(format!(
-                    "set '{}' in the bundle does not match its recorded SHA-256: recorded {recorded}, computed {computed}; its data were altered after the bundle was made",
-                    quote(&set.name)
-                ))
-                .field("sha256")
-                .within(label.clone())
-                .in_file(file));
+                return Err(At {
+                    file,
+                    entry: label.clone(),
+                }
+                .err(
+                    "sha256",
+                    format!(
+                        "set '{}' in the bundle does not match its recorded SHA-256: recorded {recorded}, computed {computed}; its data were altered after the bundle was made",
+                        quote(&set.name)
+                    ),
+                ));
             }
         }
     }
