@@ -396,8 +396,8 @@ fn bytes_and_text(bytes: &[u8], key: &str, text: &str) -> std::result::Result<Js
 /// Make a bundle of the recipe, the loaded files (raw data per file included
 /// or withheld, or `results_only`) and the last results. Returns
 /// `{ bytes: Uint8Array, info: text }`, `info` being the JSON of
-/// `workspace::MadeBundle` (what was withheld or left out, and the notice of
-/// what a recipient could still infer).
+/// `workspace::MadeBundle` (what was withheld or left out, the notice of
+/// what a recipient could still infer, and the content SHA-256).
 #[wasm_bindgen]
 pub fn make_bundle(recipe_text: &str, options_json: &str) -> std::result::Result<JsValue, JsValue> {
     let opts: BundleOptions = if options_json.trim().is_empty() {
@@ -412,9 +412,12 @@ pub fn make_bundle(recipe_text: &str, options_json: &str) -> std::result::Result
     bytes_and_text(&made.bytes, "info", &to_json(&made)?)
 }
 
-/// Open a bundle: its inputs (raw data carried, or to be dropped in again)
-/// become available to recipes and its results become the workspace's;
-/// returns `workspace::OpenedBundle` as JSON.
+/// Open a bundle: every SHA-256 it records is checked (a bundle failing one
+/// is refused, naming the entry, and the workspace stays as it was); its
+/// inputs (raw data carried, or to be dropped in again) become available to
+/// recipes and its results become the workspace's; returns
+/// `workspace::OpenedBundle` as JSON (with the checked content SHA-256, or
+/// the note of what an earlier version could not have checked).
 #[wasm_bindgen]
 pub fn open_bundle(name: &str, bytes: &[u8]) -> std::result::Result<String, JsValue> {
     let b = WS

@@ -3,6 +3,7 @@
 // withheld, what results may travel and the notice of what a recipient could
 // still infer are decided by the core (src/workspace.rs); this only asks and shows.
 function renderBundleRaw() {
+  renderOpenedBundle();
   const box = $('bundle-raw');
   clear(box);
   for (const f of S.files) {
@@ -20,10 +21,30 @@ async function saveBundle() {
     const made = await Bridge.call('make_bundle', [$('recipe-text').value, JSON.stringify(opts)], 'writing the bundle');
     const info = JSON.parse(made.info);
     download(made.bytes, 'mortise-bundle.json', 'application/json');
-    $('bundle-info').textContent = `bundle written: ${made.bytes.length} bytes. ${info.notice}`;
+    const box = $('bundle-info');
+    clear(box);
+    box.append(el('div', {}, `bundle written: ${made.bytes.length} bytes. ${info.notice}`),
+      contentHashLine('content SHA-256 (tell the recipient by another channel): ', info.content_sha256));
   } catch (e) {
     $('bundle-info').textContent = 'bundle failed: ' + errorText(e);
   }
+}
+// The content SHA-256 the core computed or checked (JS does no hashing).
+function contentHashLine(label, sha) {
+  return el('div', { class: 'bundle-hash' }, label, el('span', { class: 'sha', 'data-bundle-content': sha }, sha));
+}
+// What the core's checks of an opened bundle found: its content SHA-256
+// (checked) or, for an earlier version, the note of what it could not check.
+function renderOpenedBundle() {
+  const box = $('bundle-opened');
+  if (!box) return;
+  clear(box);
+  const info = S.bundle?.info;
+  if (!info) return;
+  box.append(info.content_sha256
+    ? contentHashLine(`opened ${S.bundle.name}: every recorded SHA-256 checked; content SHA-256 `, info.content_sha256)
+    : el('div', { class: 'bundle-hash' }, `opened ${S.bundle.name}: a version ${info.version} bundle, no content SHA-256 recorded`),
+  ...(info.notes || []).map((n) => el('div', { class: 'warn', 'data-bundle-note': '' }, '⚠ ' + n)));
 }
 async function openBundle(name, bytes) {
   try {
@@ -36,6 +57,7 @@ async function openBundle(name, bytes) {
     renderAll();
     await drawPlot();
     status(`bundle ${name} opened: ${info.results.length} result(s), made with mortise ${info.mortise_version}` + (info.created ? ` on ${info.created}` : '')
+      + (info.content_sha256 ? `, content SHA-256 ${info.content_sha256.slice(0, 16)}… checked` : `, version ${info.version}: no content SHA-256`)
       + (info.missing.length ? `; to re-run, drop in again: ${info.missing.join(', ')}` : '; it runs as it is'));
     autosave();
   } catch (e) {
