@@ -47,8 +47,17 @@ ensure_bindgen() {
       "cargo install wasm-bindgen-cli --version $WANT_BINDGEN --no-default-features --force"
 }
 
+# Ready when every package the lock file names is installed at its locked
+# version (by content, not file times: a worktree's fresh checkout of
+# package-lock.json must not trigger a reinstall of shared node_modules).
 node_ready() {
-  [ -d node_modules/playwright-core ] && [ node_modules/.package-lock.json -nt package-lock.json ]
+  [ -d node_modules/playwright-core ] && [ -f node_modules/.package-lock.json ] && node -e '
+    const want = require("./package-lock.json").packages || {};
+    const have = require("./node_modules/.package-lock.json").packages || {};
+    for (const [k, v] of Object.entries(want)) {
+      if (k === "" || v.optional) continue;
+      if (!have[k] || have[k].version !== v.version) process.exit(1);
+    }' 2>/dev/null
 }
 
 ensure_node_deps() {
@@ -60,7 +69,6 @@ ensure_node_deps() {
     rm -rf node_modules
     fail_install "the npm packages" "npm ci"
   fi
-  touch node_modules/.package-lock.json
 }
 
 venv_ready() {
