@@ -268,6 +268,7 @@ pub fn run(args: &Args) -> Result<Done> {
     let fmt = format_from_name(out)?;
     let r = recipe_for(&args.positional, &joins, tsvd)?;
     let json = args.flag("json");
+    let limits = super::limits::from_args(args)?;
     let mut result = serde_json::json!({
         "files": args.positional,
         "title": r.title,
@@ -280,8 +281,8 @@ pub fn run(args: &Args) -> Result<Done> {
             std::fs::write(p, recipe::to_text(&printed))
                 .map_err(|e| Error::io(format!("cannot write '{p}': {e}")))?;
         }
-        let res =
-            recipe::run(&r, &DirSource(".".into())).map_err(|e| as_data(e, ErrorKind::Recipe))?;
+        let res = recipe::run_with(&r, &DirSource(".".into()), &limits)
+            .map_err(|e| as_data(e, ErrorKind::Recipe))?;
         let bytes = io::save(&res.outputs, fmt).map_err(|e| as_data(e, ErrorKind::Internal))?;
         std::fs::write(out, &bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
         let written = serde_json::json!({

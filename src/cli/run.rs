@@ -25,6 +25,7 @@ pub fn run(args: &Args) -> Result<Done> {
             .ok_or_else(|| Error::usage("run needs -o OUTDIR"))?,
     );
     let json = args.flag("json");
+    let limits = super::limits::from_args(args)?;
     let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
         let bytes = std::fs::read(path)
@@ -34,14 +35,14 @@ pub fn run(args: &Args) -> Result<Done> {
             .map(Path::to_path_buf)
             .unwrap_or_default();
         let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
-            run_bundle(path, &bytes, &dir)?
+            run_bundle(path, &bytes, &dir, &limits)?
         } else {
             let text = String::from_utf8(bytes).map_err(|e| {
                 Error::parse(format!("a recipe is UTF-8 text: {e}")).in_file(path.as_str())
             })?;
             let r = recipe::parse(&text)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
-            let res = recipe::run(&r, &DirSource(dir))
+            let res = recipe::run_with(&r, &DirSource(dir), &limits)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
             (r, res)
         };
@@ -77,8 +78,14 @@ pub struct Written {
 /// Run the recipe a bundle holds, on the inputs it carries; withheld inputs
 /// are read from files of the same name beside the bundle (their SHA-256
 /// must match the bundle's record).
-fn run_bundle(path: &str, bytes: &[u8], dir: &Path) -> Result<(recipe::Recipe, RunResult)> {
+fn run_bundle(
+    path: &str,
+    bytes: &[u8],
+    dir: &Path,
+    limits: &crate::limits::Limits,
+) -> Result<(recipe::Recipe, RunResult)> {
     let mut ws = crate::workspace::Workspace::new();
+    ws.set_limits(*limits)?;
     let opened = ws.open_bundle(path, bytes)?;
     for name in &opened.missing {
         let p = dir.join(name);

@@ -213,6 +213,26 @@ pub const IMPORT_OPTS: &[Opt] = &[
     ),
 ];
 
+/// The resource budget of the commands that compute (run, couple, convert).
+pub const LIMITS_GROUP: Group = Group {
+    title: "limits (checked before anything large is allocated or computed; over budget is an \
+            error naming what asked, its size and the budget, exit code 1)",
+    opts: &[
+        val(
+            "budget-gb",
+            "X",
+            "memory one run may ask for, in gigabytes (10^9 bytes): every set a component or \
+             step would create, every synthesized model's matrices; default 2.147 (2 GiB)",
+        ),
+        val(
+            "work-budget",
+            "OPS",
+            "estimated floating-point operations one model or step may take, e.g. 1e12; \
+             default 5e10 (about half a minute on one core of a 2020s laptop)",
+        ),
+    ],
+};
+
 const IMPORT_GROUP: Group = Group {
     title: "column-map options (for CSV/TSV files not in mortise's own layout; C is a 1-based \
             column number or a header name)",
@@ -246,7 +266,7 @@ pub const CONVERT: Command = Command {
     summary:
         "read files (any format, supplier CSV through a column map) and write them as one file",
     usage: "mortise convert IN... -o OUT [--to FORMAT] [--kind KIND] [--grid G [--interp I]] \
-            [--json] [column-map options]",
+            [--json] [limits] [column-map options]",
     about: "Reads every IN (formats as for 'mortise inspect', the column-map options applying to \
             each), optionally converts each FRF set to another kind and puts all sets on one \
             frequency grid, and writes them all to OUT in SI units.\n\n\
@@ -295,6 +315,7 @@ pub const CONVERT: Command = Command {
                 HELP_OPT,
             ],
         },
+        LIMITS_GROUP,
         IMPORT_GROUP,
     ],
     example: "mortise convert sample-frf/isolator-stiffness.csv -o isolator.csv --delim semicolon \
@@ -306,7 +327,7 @@ pub const CONVERT: Command = Command {
 pub const RUN: Command = Command {
     name: "run",
     summary: "execute a recipe (or the recipe of a bundle); write its outputs as UFF 58 and CSV plus report.json",
-    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json]",
+    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json] [limits]",
     about: "Executes RECIPE (mortise's JSON recipe: components, steps, variants, outputs; \
             'mortise help recipe') from files alone. File names inside the recipe are relative to \
             the recipe file's own directory, so a recipe runs the same from any current \
@@ -320,18 +341,21 @@ pub const RUN: Command = Command {
             node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
             lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
             of every component, the headline), and prints the headline.",
-    groups: &[Group {
-        title: "options",
-        opts: &[
-            val(
-                "o",
-                "OUTDIR",
-                "the directory to write the outputs and report.json into (required)",
-            ),
-            JSON_OPT,
-            HELP_OPT,
-        ],
-    }],
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val(
+                    "o",
+                    "OUTDIR",
+                    "the directory to write the outputs and report.json into (required)",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+    ],
     example: "mortise run sample-frf/heat-pump.recipe.json -o results",
 };
 
@@ -339,47 +363,50 @@ pub const COUPLE: Command = Command {
     name: "couple",
     summary: "couple two or more files at listed DOF pairs (LM-FBS) without writing a recipe",
     usage: "mortise couple FILE FILE... --join 'A = B [k=.. c=.. eta=.. | stiffness=FILE]'... \
-            -o OUT [--tsvd X] [--print-recipe RECIPE] [--json]",
+            -o OUT [--tsvd X] [--print-recipe RECIPE] [--json] [limits]",
     about: "Couples the FRF sets of the FILEs (formats as for 'mortise inspect', read without a \
             column map) at the joints given by --join, by LM-FBS, and writes the coupled set to \
             OUT. Each FILE becomes a component named after its file stem, which is also the DOF \
             namespace of its DOFs: node 4 of casing.uff is casing:4. The result is in the first \
             FILE's kind. It runs the same code as a one-step recipe given to 'mortise run'.",
-    groups: &[Group {
-        title: "options",
-        opts: &[
-            many(
-                "join",
-                "'A = B ...'",
-                "one joint between DOF A of one component and DOF B of another (labels \
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                many(
+                    "join",
+                    "'A = B ...'",
+                    "one joint between DOF A of one component and DOF B of another (labels \
                  component:node+DIR, DIR one of X Y Z RX RY RZ). Alone it is rigid; followed by \
                  k=N/m it is a spring, c=N*s/m a damper, k= and eta= hysteretic, k= and c= (and \
                  eta=) a spring-damper, stiffness=FILE a measured dynamic stiffness (a 1x1 set \
                  in FILE). At least one",
-            ),
-            val(
-                "o",
-                "OUT",
-                "the file to write (required); its format follows the extension: .uff or .unv \
+                ),
+                val(
+                    "o",
+                    "OUT",
+                    "the file to write (required); its format follows the extension: .uff or .unv \
                  (UFF 58), .uffb (58b), .csv (mortise CSV), .json (bundle)",
-            ),
-            val(
-                "tsvd",
-                "X",
-                "regularise the interface inversion by truncated SVD: singular values below X \
+                ),
+                val(
+                    "tsvd",
+                    "X",
+                    "regularise the interface inversion by truncated SVD: singular values below X \
                  times the largest are dropped; X from 0 to below 1; default: no truncation",
-            ),
-            val(
-                "print-recipe",
-                "RECIPE",
-                "also write the recipe this command runs to the file RECIPE, with file names \
+                ),
+                val(
+                    "print-recipe",
+                    "RECIPE",
+                    "also write the recipe this command runs to the file RECIPE, with file names \
                  relative to RECIPE's directory, to grow it and run it with 'mortise run \
                  RECIPE'; default: none",
-            ),
-            JSON_OPT,
-            HELP_OPT,
-        ],
-    }],
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+    ],
     example: "mortise couple sample-frf/unit-casing.uff sample-frf/brackets.uffb \
               --join 'unit-casing:101+Z = brackets:1+Z k=2e5 eta=0.1' \
               --join 'unit-casing:102+Z = brackets:2+Z k=2e5 eta=0.1' -o mounted.uff",
