@@ -44,7 +44,9 @@ pub fn even_lines(what: &str, from: f64, to: f64, step: f64, max_lines: usize) -
             "{what}: from {from} to {to} step {step}: expected finite numbers, from ≤ to and a step above 0"
         )));
     }
-    let n = ((to - from) / step + 1e-9).floor() + 1.0;
+    // slack for rounding: 1e-9 of a step, and 1e-12 relative on long grids
+    let q = (to - from) / step;
+    let n = (q * (1.0 + 1e-12) + 1e-9).floor() + 1.0;
     if !n.is_finite() {
         return Err(Error::grid(format!(
             "{what}: from {from} to {to} step {step} asks for more lines than can be counted; at most {max_lines} are allowed"

@@ -71,6 +71,15 @@ fn check_converted(sets: &[FrfSet], lines: usize, limits: &Limits) -> Result<()>
             values.map_or("uncountably many".to_string(), |v| v.to_string())
         ),
         values.and_then(|v| v.checked_mul(CONVERT_BYTES_PER_VALUE)),
+    )?;
+    limits.check_work(
+        &format!(
+            "resampling and writing {} values",
+            values.unwrap_or(u64::MAX)
+        ),
+        values.map_or(f64::INFINITY, |v| {
+            v as f64 * super::limits::WRITE_WORK_PER_VALUE
+        }),
     )
 }
 

@@ -283,6 +283,7 @@ pub fn run(args: &Args) -> Result<Done> {
         }
         let res = recipe::run_with(&r, &DirSource(".".into()), &limits)
             .map_err(|e| as_data(e, ErrorKind::Recipe))?;
+        super::limits::check_written(&res.outputs, &limits)?;
         let bytes = io::save(&res.outputs, fmt).map_err(|e| as_data(e, ErrorKind::Internal))?;
         std::fs::write(out, &bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
         let written = serde_json::json!({

@@ -46,6 +46,7 @@ pub fn run(args: &Args) -> Result<Done> {
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
             (r, res)
         };
+        super::limits::check_written(&res.outputs, &limits)?;
         let w = write_outputs(&res, &out)?;
         Ok((r, res, w))
     })();

@@ -68,6 +68,13 @@ pub(crate) fn values_of(s: &FrfSet) -> u64 {
     (s.data.len() as u64).saturating_add(c)
 }
 
+/// Estimated operations of a set's audit: dominated by the conditioning
+/// check's Jacobi SVD per line (about 30 · m · n · min(m, n) operations).
+pub(crate) fn audit_work(s: &FrfSet) -> f64 {
+    let (m, n) = (s.n_out() as f64, s.n_in() as f64);
+    30.0 * s.n_lines() as f64 * m * n * m.min(n)
+}
+
 /// Complex values held by a map of sets.
 fn values_held(values: &BTreeMap<String, FrfSet>) -> u64 {
     values
@@ -184,7 +191,21 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
     if !notes.is_empty() {
         notes.push(format!("rule: {}", super::INFERENCE_RULE));
     }
-    // the fitness audit of every FRF component, with common-practice limits
+    // the fitness audit of every FRF component, with common-practice limits;
+    // its conditioning check is one SVD per line
+    for (k, s) in comps.iter().filter(|(_, s)| s.signal.is_none()) {
+        limits
+            .check_work(
+                &format!(
+                    "the audit of component '{k}' (one SVD per line: {} lines of {} × {})",
+                    s.n_lines(),
+                    s.n_out(),
+                    s.n_in()
+                ),
+                audit_work(s),
+            )
+            .map_err(|e| e.within(format!("components.{k}")))?;
+    }
     let audit: BTreeMap<String, audit::AuditReport> = comps
         .iter()
         .filter(|(_, s)| s.signal.is_none())
