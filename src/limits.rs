@@ -174,7 +174,7 @@ impl Limits {
         let gb: f64 = text.trim().parse().map_err(|_| bad())?;
         let bytes = gb * 1e9;
         // at least one kilobyte; at most what a u64 counts
-        if !(bytes.is_finite() && bytes >= 1e3 && bytes < 1.8e19) {
+        if !(1e3..1.8e19).contains(&bytes) {
             return Err(bad());
         }
         self.memory_bytes = bytes as u64;

@@ -188,16 +188,13 @@ impl Synth {
             }
             Synth::Frame { frame, at } => {
                 // every member adds elements − 1 nodes; 3 DOFs per node
-                let nodes = frame
-                    .members
-                    .iter()
-                    .fold(Some(frame.nodes.len()), |acc, m| {
-                        acc?.checked_add(m.elements.saturating_sub(1))
-                    });
+                let nodes = frame.members.iter().try_fold(frame.nodes.len(), |acc, m| {
+                    acc.checked_add(m.elements.saturating_sub(1))
+                });
                 let elements = frame
                     .members
                     .iter()
-                    .fold(Some(0usize), |acc, m| acc?.checked_add(m.elements));
+                    .try_fold(0usize, |acc, m| acc.checked_add(m.elements));
                 let n = nodes.and_then(|x| x.checked_mul(3)).unwrap_or(usize::MAX);
                 let k = at.len();
                 let (bytes, work) = modal_fe_cost(n, k, k, lines);
