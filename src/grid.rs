@@ -31,6 +31,47 @@ pub fn check_grid(freqs: &[f64]) -> Result<()> {
     Ok(())
 }
 
+/// The lines of an even grid: `from`, `from + step`, ... up to `to`
+/// (included when within 1e-9 of a step), at most `max_lines` of them.
+/// `what` names the grid in the errors ("grid", "--grid '10:1000:1'").
+///
+/// The count is computed in f64 and compared with `max_lines` before
+/// anything is allocated, so a step of 1e-300 Hz is refused with the number
+/// of lines it asks for (about 10³⁰²), never wrapped to an "empty" grid.
+pub fn even_lines(what: &str, from: f64, to: f64, step: f64, max_lines: usize) -> Result<Vec<f64>> {
+    if !(from.is_finite() && to.is_finite() && step.is_finite() && step > 0.0 && to >= from) {
+        return Err(Error::grid(format!(
+            "{what}: from {from} to {to} step {step}: expected finite numbers, from ≤ to and a step above 0"
+        )));
+    }
+    // slack for rounding: 1e-9 of a step, and 1e-12 relative on long grids
+    let q = (to - from) / step;
+    let n = (q * (1.0 + 1e-12) + 1e-9).floor() + 1.0;
+    if !n.is_finite() {
+        return Err(Error::grid(format!(
+            "{what}: from {from} to {to} step {step} asks for more lines than can be counted; at most {max_lines} are allowed"
+        )));
+    }
+    if n > max_lines as f64 {
+        return Err(Error::grid(format!(
+            "{what}: from {from} to {to} step {step} asks for {} lines; at most {max_lines} are allowed",
+            count_text(n)
+        )));
+    }
+    // n is a whole number in [1, max_lines]: the conversion is exact
+    let n = n as usize;
+    Ok((0..n).map(|i| from + i as f64 * step).collect())
+}
+
+/// A count of lines in words: exact up to 10¹⁵, then as a power of ten.
+fn count_text(n: f64) -> String {
+    if n < 1e15 {
+        format!("{n:.0}")
+    } else {
+        format!("{n:.3e}")
+    }
+}
+
 /// How values between two lines are interpolated.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -509,6 +550,24 @@ mod tests {
         )
         .unwrap();
         assert_eq!(v[0], a);
+    }
+
+    #[test]
+    fn an_even_grid_counts_its_lines_before_allocating() {
+        let g = even_lines("grid", 10.0, 20.0, 2.5, 100).unwrap();
+        assert_eq!(g, vec![10.0, 12.5, 15.0, 17.5, 20.0]);
+        // (1000 − 10) / 1e-300 ≈ 9.9e302 lines: the count, never "empty"
+        let e = even_lines("grid", 10.0, 1000.0, 1e-300, 1_000_000).unwrap_err();
+        assert!(e.message.contains("asks for 9.900e302 lines"), "{e}");
+        assert!(e.message.contains("at most 1000000"), "{e}");
+        assert!(!e.message.contains("empty"), "{e}");
+        let e = even_lines("grid", -1e308, 1e308, 1.0, 10).unwrap_err();
+        assert!(e.message.contains("more lines than can be counted"), "{e}");
+        assert!(even_lines("grid", 10.0, 5.0, 1.0, 10).is_err());
+        assert!(even_lines("grid", 0.0, 5.0, 0.0, 10).is_err());
+        assert!(even_lines("grid", 0.0, 5.0, f64::NAN, 10).is_err());
+        let e = even_lines("grid", 0.0, 10.0, 0.001, 1000).unwrap_err();
+        assert!(e.message.contains("asks for 10001 lines"), "{e}");
     }
 
     #[test]

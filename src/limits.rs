@@ -124,6 +124,99 @@ impl Limits {
         ))
     }
 
+    /// Refuse `what` when it needs more memory than the budget (`bytes`,
+    /// `None` when its count overflowed) or more work (`operations`).
+    /// `size` says in words how big it is ("a beam of 10000 elements,
+    /// 20002 DOFs"), and is put in front of either message.
+    pub fn check_model(
+        &self,
+        what: &str,
+        size: &str,
+        bytes: Option<u64>,
+        operations: f64,
+    ) -> Result<()> {
+        let named = format!("{what} ({size})");
+        self.check_bytes(&named, bytes)?;
+        self.check_work(&named, operations)
+    }
+
+    /// Check that the limits themselves are usable: every budget finite and
+    /// above zero. `from` names where they were given (an option, a field).
+    pub fn validate(&self, from: &str) -> Result<()> {
+        if self.memory_bytes == 0 {
+            return Err(Error::usage(format!(
+                "{from}: the memory budget is 0; expected a positive size"
+            )));
+        }
+        if !(self.work.is_finite() && self.work >= 1.0) {
+            return Err(Error::usage(format!(
+                "{from}: the work budget is {}; expected a finite number of operations of 1 or more, e.g. 5e10",
+                self.work
+            )));
+        }
+        if self.file_bytes == 0 {
+            return Err(Error::usage(format!(
+                "{from}: the file-size budget is 0; expected a positive size"
+            )));
+        }
+        Ok(())
+    }
+
+    /// These limits with the memory budget set from `--budget-gb` text: a
+    /// positive, finite number of gigabytes (10⁹ bytes), e.g. `0.5` or `16`.
+    pub fn with_budget_gb(mut self, text: &str) -> Result<Limits> {
+        let bad = || {
+            Error::usage(format!(
+                "--budget-gb '{}': expected a positive number of gigabytes (10^9 bytes), e.g. 4 or 0.5",
+                crate::error::quote(text)
+            ))
+        };
+        let gb: f64 = text.trim().parse().map_err(|_| bad())?;
+        let bytes = gb * 1e9;
+        // at least one kilobyte; at most what a u64 counts
+        if !(1e3..1.8e19).contains(&bytes) {
+            return Err(bad());
+        }
+        self.memory_bytes = bytes as u64;
+        Ok(self)
+    }
+
+    /// These limits with the work budget set from `--work-budget` text: a
+    /// finite number of estimated floating-point operations of 1 or more,
+    /// e.g. `5e10`.
+    pub fn with_work_budget(mut self, text: &str) -> Result<Limits> {
+        let ops: f64 = text.trim().parse().map_err(|_| {
+            Error::usage(format!(
+                "--work-budget '{}': expected a number of operations, e.g. 5e10 (the default) or 1e12",
+                crate::error::quote(text)
+            ))
+        })?;
+        if !(ops.is_finite() && ops >= 1.0) {
+            return Err(Error::usage(format!(
+                "--work-budget '{}': expected a finite number of operations of 1 or more, e.g. 5e10",
+                crate::error::quote(text)
+            )));
+        }
+        self.work = ops;
+        Ok(self)
+    }
+
+    /// Limits from JSON text as the page sends them: any of
+    /// `memory_bytes`, `work`, `file_bytes` (the others keep their
+    /// defaults; an empty text or `{}` is the defaults); unknown keys and
+    /// unusable values (zero, negative, not finite) are refused.
+    pub fn from_json(text: &str) -> Result<Limits> {
+        let text = if text.trim().is_empty() { "{}" } else { text };
+        let l: Limits = serde_json::from_str(text).map_err(|e| {
+            Error::usage(format!(
+                "limits: {e}; expected {{\"memory_bytes\": N, \"work\": N, \"file_bytes\": N}}, each optional"
+            ))
+            .field("limits")
+        })?;
+        l.validate("limits")?;
+        Ok(l)
+    }
+
     /// Refuse a file of `len` bytes over the file-size budget.
     pub fn check_file(&self, what: &str, len: u64) -> Result<()> {
         if len <= self.file_bytes {
@@ -173,6 +266,49 @@ mod tests {
         assert!(l.check_work("x", f64::INFINITY).is_err());
         assert!(l.check_work("x", f64::NAN).is_err());
         assert!(l.check_work("x", 1e9).is_ok());
+    }
+
+    #[test]
+    fn budgets_from_options_and_json() {
+        let l = Limits::default().with_budget_gb("0.5").unwrap();
+        assert_eq!(l.memory_bytes, 500_000_000);
+        let l = l.with_work_budget("1e12").unwrap();
+        assert_eq!(l.work, 1e12);
+        for bad in ["0", "-1", "nan", "inf", "lots", "1e300"] {
+            let e = Limits::default().with_budget_gb(bad).unwrap_err();
+            assert_eq!(e.kind, ErrorKind::Usage, "{bad}");
+            assert!(e.message.contains("--budget-gb"), "{e}");
+        }
+        for bad in ["0", "-5", "nan", "inf", "x"] {
+            let e = Limits::default().with_work_budget(bad).unwrap_err();
+            assert!(e.message.contains("--work-budget"), "{e}");
+        }
+        assert_eq!(Limits::from_json("").unwrap(), Limits::default());
+        let l = Limits::from_json(r#"{"memory_bytes": 1000000, "work": 1e6}"#).unwrap();
+        assert_eq!((l.memory_bytes, l.work), (1_000_000, 1e6));
+        assert_eq!(l.file_bytes, Limits::default().file_bytes);
+        assert!(Limits::from_json(r#"{"memory": 1}"#).is_err());
+        assert!(Limits::from_json(r#"{"work": 0}"#).is_err());
+        assert!(Limits::from_json(r#"{"memory_bytes": 0}"#).is_err());
+        assert!(Limits::from_json(r#"{"memory_bytes": -3}"#).is_err());
+    }
+
+    #[test]
+    fn a_model_over_budget_names_its_size() {
+        let l = Limits::default();
+        let e = l
+            .check_model("the beam 'b'", "10000 elements", Some(1 << 40), 1.0)
+            .unwrap_err();
+        assert!(
+            e.message
+                .contains("the beam 'b' (10000 elements) needs 1099.5 GB"),
+            "{e}"
+        );
+        let e = l
+            .check_model("the beam 'b'", "2000 elements", Some(1), 1e13)
+            .unwrap_err();
+        assert!(e.message.contains("1.0e13 operations"), "{e}");
+        assert!(e.message.contains("--work-budget"), "{e}");
     }
 
     #[test]

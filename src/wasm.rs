@@ -247,6 +247,17 @@ pub fn forget_file(name: &str) {
     WS.with(|ws| ws.borrow_mut().forget_file(name));
 }
 
+/// Set the budget of later runs from JSON (`{"memory_bytes": N, "work": N,
+/// "file_bytes": N}`, each optional; `{}` restores the defaults) and return
+/// the limits now in force as JSON. The page's "Limits" settings call it.
+#[wasm_bindgen]
+pub fn set_limits(json: &str) -> std::result::Result<String, JsValue> {
+    let l = crate::limits::Limits::from_json(json).map_err(js_err)?;
+    WS.with(|ws| ws.borrow_mut().set_limits(l))
+        .map_err(js_err)?;
+    to_json(&l)
+}
+
 /// Empty the workspace.
 #[wasm_bindgen]
 pub fn clear_workspace() {

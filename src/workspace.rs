@@ -16,6 +16,7 @@
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::io::{self, bundle, ImportOptions};
+use crate::limits::Limits;
 use crate::recipe::{self, FileSource};
 use crate::summary::{self, FileSummary, SetSummary};
 use serde::{Deserialize, Serialize};
@@ -52,6 +53,8 @@ pub struct Workspace {
     sets: BTreeMap<String, FrfSet>,
     results: Vec<String>,
     report: Option<serde_json::Value>,
+    /// The budget of every run (kept when the workspace is cleared).
+    limits: Limits,
 }
 
 /// What a run left in the workspace.
@@ -209,9 +212,23 @@ impl Workspace {
         self.drop_prefix(&prefix_of("file", name));
     }
 
-    /// Empty the workspace.
+    /// Empty the workspace (its limits stay as set).
     pub fn clear(&mut self) {
+        let limits = self.limits;
         *self = Workspace::default();
+        self.limits = limits;
+    }
+
+    /// Set the budget of every later run (checked: each budget above zero).
+    pub fn set_limits(&mut self, limits: Limits) -> Result<()> {
+        limits.validate("limits")?;
+        self.limits = limits;
+        Ok(())
+    }
+
+    /// The budget of runs.
+    pub fn limits(&self) -> &Limits {
+        &self.limits
     }
 
     /// Run a recipe on the loaded files and the opened bundle's inputs; the
@@ -219,7 +236,7 @@ impl Workspace {
     /// they were (the page marks them stale).
     pub fn run_recipe(&mut self, recipe_text: &str) -> Result<RunSummary> {
         let r = recipe::parse(recipe_text)?;
-        let run = recipe::run(&r, &Source(self))?;
+        let run = recipe::run_with(&r, &Source(self), &self.limits)?;
         let report = serde_json::to_value(&run.report)
             .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
         Ok(self.store_results(run.outputs, Some(report)))
@@ -228,7 +245,7 @@ impl Workspace {
     /// Run a parsed recipe on the workspace's files without keeping the
     /// results (the CLI's `mortise run BUNDLE`).
     pub fn run(&self, r: &recipe::Recipe) -> Result<recipe::RunResult> {
-        recipe::run(r, &Source(self))
+        recipe::run_with(r, &Source(self), &self.limits)
     }
 
     /// The import options an opened bundle recorded for an input.

@@ -10,7 +10,25 @@ function renderAll() {
 }
 
 // ---------- workspace restore / replay ----------
+// ---------- limits (the core's budget; replayed into a new worker) ----------
+let limitsJson = '{}';
+async function applyLimits() {
+  const ask = JSON.stringify({
+    memory_bytes: Math.round(Number($('limit-memory-gb').value) * 1e9),
+    work: Number($('limit-work').value),
+  });
+  try {
+    const l = await Bridge.callJson('set_limits', [ask], 'setting the limits');
+    limitsJson = ask;
+    $('limits-state').textContent = `in force: ${(l.memory_bytes / 1e9).toPrecision(4)} GB, ${l.work.toExponential(2)} operations`;
+  } catch (e) {
+    $('limits-state').textContent = 'not applied: ' + errorText(e);
+  }
+}
 async function replay() {
+  if (limitsJson !== '{}') {
+    try { await Bridge.callJson('set_limits', [limitsJson]); } catch (_) { limitsJson = '{}'; }
+  }
   for (const f of S.files) {
     try {
       f.summary = await Bridge.callJson('load_file', [f.name, f.bytes, JSON.stringify(f.options)], 'reading ' + f.name);
@@ -96,6 +114,7 @@ function wire() {
   $('build-recipe-btn').addEventListener('click', writePanelRecipe);
   $('recipe-text').addEventListener('input', onRecipeInput);
   $('run-btn').addEventListener('click', run);
+  $('limits-btn').addEventListener('click', applyLimits);
   $('cancel-btn').addEventListener('click', async () => {
     $('cancel-btn').disabled = true;
     status('cancelling: restarting the core…', 'busy');

@@ -110,6 +110,11 @@ impl Args {
             );
         }
     }
+    /// The command's table has option `name` (options shared by some
+    /// commands, such as the budget's, are read only where they exist).
+    pub fn takes(&self, name: &str) -> bool {
+        self.command.map_or(true, |c| c.option(name).is_some())
+    }
     pub fn flag(&self, name: &str) -> bool {
         self.declared(name);
         self.options.iter().any(|(k, _)| k == name)

@@ -175,7 +175,7 @@ pub fn render(entries: &[Entry], json: bool) -> Done {
 
 pub fn run(args: &Args) -> Result<Done> {
     let opts = options(args)?;
-    let limits = super::limits(args)?;
+    let limits = super::limits::from_args(args)?;
     let mut files: Vec<String> = args.positional.clone();
     let mut pair: Option<(String, String)> = None;
     if let Some(p) = args.value("pair") {

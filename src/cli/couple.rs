@@ -268,6 +268,7 @@ pub fn run(args: &Args) -> Result<Done> {
     let fmt = format_from_name(out)?;
     let r = recipe_for(&args.positional, &joins, tsvd)?;
     let json = args.flag("json");
+    let limits = super::limits::from_args(args)?;
     let mut result = serde_json::json!({
         "files": args.positional,
         "title": r.title,
@@ -295,8 +296,9 @@ pub fn run(args: &Args) -> Result<Done> {
                 ));
             }
         }
-        let res = recipe::run(&r, &DirSource::anywhere(".", super::limits(args)?))
+        let res = recipe::run_with(&r, &DirSource::anywhere(".", limits), &limits)
             .map_err(|e| as_data(e, ErrorKind::Recipe))?;
+        super::limits::check_written(&res.outputs, &limits)?;
         let bytes = io::save(&res.outputs, fmt).map_err(|e| as_data(e, ErrorKind::Internal))?;
         std::fs::write(out, &bytes).map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
         let written = serde_json::json!({

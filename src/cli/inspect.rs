@@ -50,7 +50,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
                 "give either --map or the column options (--freq-col, --re, ...), not both",
             ));
         }
-        let bytes = io::disk::read_file(Path::new(path), path, &super::limits(args)?)?;
+        let bytes = io::disk::read_file(Path::new(path), path, &super::limits::from_args(args)?)?;
         let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
             Error::parse(format!("not a column map: {e}"))
                 .at_line(e.line().max(1))
@@ -357,7 +357,7 @@ pub fn run(args: &Args) -> Result<Done> {
         return Err(Error::usage("inspect needs at least one FILE"));
     }
     let opts = import_options(args)?;
-    let results = load_files(&args.positional, &opts, &super::limits(args)?);
+    let results = load_files(&args.positional, &opts, &super::limits::from_args(args)?);
     let failed: Vec<&Error> = results
         .iter()
         .filter_map(|f| f.result.as_ref().err())

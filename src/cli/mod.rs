@@ -32,6 +32,7 @@ pub mod convert;
 pub mod couple;
 pub mod demo;
 pub mod inspect;
+pub mod limits;
 pub mod run;
 pub mod spec;
 
@@ -122,28 +123,6 @@ pub fn exit_code(kind: ErrorKind) -> i32 {
         | ErrorKind::Budget
         | ErrorKind::Cancelled => 1,
     }
-}
-
-/// The budget the command's options set (`--max-file-mb`), defaults
-/// otherwise ([`crate::limits`]).
-pub fn limits(args: &Args) -> Result<crate::limits::Limits> {
-    let mut l = crate::limits::Limits::default();
-    if let Some(v) = args.value("max-file-mb") {
-        let mb = v
-            .trim()
-            .parse::<f64>()
-            .ok()
-            .filter(|x| x.is_finite() && *x > 0.0)
-            .ok_or_else(|| {
-                Error::usage(format!(
-                    "--max-file-mb '{}': expected a number of MB above 0",
-                    crate::error::quote(v)
-                ))
-            })?;
-        // saturating: a budget beyond u64 is no budget
-        l.file_bytes = (mb * 1e6) as u64;
-    }
-    Ok(l)
 }
 
 /// An error raised while processing data (a file, a recipe) is a data error:

@@ -25,9 +25,9 @@ pub fn run(args: &Args) -> Result<Done> {
             .ok_or_else(|| Error::usage("run needs -o OUTDIR"))?,
     );
     let json = args.flag("json");
+    let limits = super::limits::from_args(args)?;
     let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
-        let limits = super::limits(args)?;
         let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
         let dir = Path::new(path)
             .parent()
@@ -40,7 +40,7 @@ pub fn run(args: &Args) -> Result<Done> {
             DirSource::confined(dir, limits)
         };
         let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
-            run_bundle(path, &bytes, &folder)?
+            run_bundle(path, &bytes, &folder, &limits)?
         } else {
             let text = String::from_utf8(bytes).map_err(|e| {
                 let at = e.utf8_error().valid_up_to();
@@ -50,10 +50,11 @@ pub fn run(args: &Args) -> Result<Done> {
             })?;
             let r = recipe::parse(&text)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
-            let res = recipe::run(&r, &folder)
+            let res = recipe::run_with(&r, &folder, &limits)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
             (r, res)
         };
+        super::limits::check_written(&res.outputs, &limits)?;
         let w = write_outputs(&res, &out)?;
         Ok((r, res, w))
     })();
@@ -86,8 +87,14 @@ pub struct Written {
 /// Run the recipe a bundle holds, on the inputs it carries; withheld inputs
 /// are read from files of the same name beside the bundle (their SHA-256
 /// must match the bundle's record).
-fn run_bundle(path: &str, bytes: &[u8], folder: &DirSource) -> Result<(recipe::Recipe, RunResult)> {
+fn run_bundle(
+    path: &str,
+    bytes: &[u8],
+    folder: &DirSource,
+    limits: &crate::limits::Limits,
+) -> Result<(recipe::Recipe, RunResult)> {
     let mut ws = crate::workspace::Workspace::new();
+    ws.set_limits(*limits)?;
     let opened = ws.open_bundle(path, bytes)?;
     for name in &opened.missing {
         // a name the bundle gives: confined like a recipe's

@@ -225,6 +225,26 @@ const FILES_GROUP: Group = Group {
     opts: &[MAX_FILE_OPT],
 };
 
+/// The resource budget of the commands that compute (run, couple, convert).
+pub const LIMITS_GROUP: Group = Group {
+    title: "limits (checked before anything large is allocated or computed; over budget is an \
+            error naming what asked, its size and the budget, exit code 1)",
+    opts: &[
+        val(
+            "budget-gb",
+            "X",
+            "memory one run may ask for, in gigabytes (10^9 bytes): every set a component or \
+             step would create, every synthesized model's matrices; default 2.147 (2 GiB)",
+        ),
+        val(
+            "work-budget",
+            "OPS",
+            "estimated floating-point operations one model or step may take, e.g. 1e12; \
+             default 5e10 (about half a minute on one core of a 2020s laptop)",
+        ),
+    ],
+};
+
 const IMPORT_GROUP: Group = Group {
     title: "column-map options (for CSV/TSV files not in mortise's own layout; C is a 1-based \
             column number or a header name)",
@@ -259,7 +279,7 @@ pub const CONVERT: Command = Command {
     summary:
         "read files (any format, supplier CSV through a column map) and write them as one file",
     usage: "mortise convert IN... -o OUT [--to FORMAT] [--kind KIND] [--grid G [--interp I]] \
-            [--json] [column-map options]",
+            [--json] [limits] [column-map options]",
     about: "Reads every IN (formats as for 'mortise inspect', the column-map options applying to \
             each), optionally converts each FRF set to another kind and puts all sets on one \
             frequency grid, and writes them all to OUT in SI units.\n\n\
@@ -308,6 +328,7 @@ pub const CONVERT: Command = Command {
                 HELP_OPT,
             ],
         },
+        LIMITS_GROUP,
         FILES_GROUP,
         IMPORT_GROUP,
     ],
@@ -320,7 +341,7 @@ pub const CONVERT: Command = Command {
 pub const RUN: Command = Command {
     name: "run",
     summary: "execute a recipe (or the recipe of a bundle); write its outputs as UFF 58 and CSV plus report.json",
-    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json] [--read-outside] [--max-file-mb N]",
+    usage: "mortise run RECIPE|BUNDLE -o OUTDIR [--json] [--read-outside] [limits]",
     about: "Executes RECIPE (mortise's JSON recipe: components, steps, variants, outputs; \
             'mortise help recipe') from files alone. File names inside the recipe are relative to \
             the recipe file's own directory, so a recipe runs the same from any current \
@@ -334,30 +355,33 @@ pub const RUN: Command = Command {
             node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
             lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
             of every component, the headline), and prints the headline.",
-    groups: &[Group {
-        title: "options",
-        opts: &[
-            val(
-                "o",
-                "OUTDIR",
-                "the directory to write the outputs and report.json into (required)",
-            ),
-            JSON_OPT,
-            HELP_OPT,
-        ],
-    },
-    Group {
-        title: "files",
-        opts: &[
-            flag(
-                "read-outside",
-                "let the recipe (or the bundle) name files outside its own folder: absolute \
-                 paths, '..' that leave it, links out of it (default: refused, so a recipe \
-                 received from someone else reads nothing else on this machine)",
-            ),
-            MAX_FILE_OPT,
-        ],
-    }],
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val(
+                    "o",
+                    "OUTDIR",
+                    "the directory to write the outputs and report.json into (required)",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+        Group {
+            title: "files",
+            opts: &[
+                flag(
+                    "read-outside",
+                    "let the recipe (or the bundle) name files outside its own folder: absolute \
+                     paths, '..' that leave it, links out of it (default: refused, so a recipe \
+                     received from someone else reads nothing else on this machine)",
+                ),
+                MAX_FILE_OPT,
+            ],
+        },
+    ],
     example: "mortise run sample-frf/heat-pump.recipe.json -o results",
 };
 
@@ -365,7 +389,7 @@ pub const COUPLE: Command = Command {
     name: "couple",
     summary: "couple two or more files at listed DOF pairs (LM-FBS) without writing a recipe",
     usage: "mortise couple FILE FILE... --join 'A = B [k=.. c=.. eta=.. | stiffness=FILE]'... \
-            -o OUT [--tsvd X] [--print-recipe RECIPE] [--json]",
+            -o OUT [--tsvd X] [--print-recipe RECIPE] [--json] [limits]",
     about: "Couples the FRF sets of the FILEs (formats as for 'mortise inspect', read without a \
             column map) at the joints given by --join, by LM-FBS, and writes the coupled set to \
             OUT. Each FILE becomes a component named after its file stem, which is also the DOF \
@@ -407,6 +431,7 @@ pub const COUPLE: Command = Command {
                 HELP_OPT,
             ],
         },
+        LIMITS_GROUP,
         FILES_GROUP,
     ],
     example: "mortise couple sample-frf/unit-casing.uff sample-frf/brackets.uffb \
@@ -417,7 +442,7 @@ pub const COUPLE: Command = Command {
 pub const AUDIT: Command = Command {
     name: "audit",
     summary: "fitness of each file's FRFs: reciprocity, passivity, coherence, linearity, conditioning, grid",
-    usage: "mortise audit FILE... [--pair A,B] [--json] [limits]",
+    usage: "mortise audit FILE... [--pair A,B] [--json] [--coherence-min X ...]",
     about: "Audits every FRF set of each FILE (formats as for 'mortise inspect', read without a \
             column map): reciprocity, passivity, coherence, conditioning, grid (spacing and \
             resolution of the resonance peaks) and import remarks, each passed, flagged (with the 1/3-octave bands where it \

@@ -8,6 +8,7 @@ use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::grid;
 use crate::io::{self, ImportOptions};
+use crate::limits::Limits;
 use crate::synth::Synth;
 use serde::{Deserialize, Serialize};
 
@@ -96,24 +97,7 @@ impl GridSpec {
                 lines.clone()
             }
             GridSpec::Range { from, to, step } => {
-                if !(step.is_finite()
-                    && *step > 0.0
-                    && from.is_finite()
-                    && to.is_finite()
-                    && to >= from)
-                {
-                    return Err(Error::grid(format!(
-                        "grid from {from} to {to} step {step}: expected finite from ≤ to and step > 0"
-                    )));
-                }
-                // counted in f64 first: a tiny step must not wrap the count
-                let n = ((to - from) / step + 1e-9).floor() + 1.0;
-                if n.is_nan() || n > MAX_GRID_LINES as f64 {
-                    return Err(Error::grid(format!(
-                        "grid from {from} to {to} step {step} has {n:.3e} lines; at most {MAX_GRID_LINES} are allowed"
-                    )));
-                }
-                (0..n as usize).map(|i| from + i as f64 * step).collect()
+                grid::even_lines("grid", *from, *to, *step, MAX_GRID_LINES)?
             }
         };
         grid::check_grid(&v)?;
@@ -145,6 +129,7 @@ pub(crate) fn load_component(
     spec: &ComponentSpec,
     grid: Option<&GridSpec>,
     files: &dyn FileSource,
+    limits: &Limits,
 ) -> Result<FrfSet> {
     let n_sources = [
         spec.file.is_some(),
@@ -177,7 +162,9 @@ pub(crate) fn load_component(
             )
         })?;
         let freqs = g.lines().map_err(|e| e.field("grid"))?;
-        let mut s = synth.synthesize(&freqs).map_err(|e| e.field("synth"))?;
+        let mut s = synth
+            .synthesize_with(&freqs, limits)
+            .map_err(|e| e.field("synth"))?;
         if let Some(c) = &spec.component {
             s.set_component(c);
         }
@@ -197,6 +184,14 @@ pub(crate) fn load_component(
         match &spec.grid {
             Some(g) => {
                 let lines = g.lines().map_err(|e| e.field("grid"))?;
+                limits
+                    .check_set(
+                        &format!("resampling '{name}' onto its grid"),
+                        lines.len(),
+                        s.n_out(),
+                        s.n_in(),
+                    )
+                    .map_err(|e| e.field("grid"))?;
                 let how = super::ops::transform_interp(spec.interp.as_deref())?;
                 s = grid::resample(&s, &lines, how).map_err(|e| e.field("grid"))?;
             }
@@ -308,6 +303,7 @@ mod tests {
         .lines()
         .unwrap_err();
         assert!(e.message.contains("at most 1000000"), "{e}");
+        assert!(e.message.contains("asks for 9.900e302 lines"), "{e}");
     }
 }
 

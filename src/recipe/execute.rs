@@ -13,6 +13,7 @@ use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
 use crate::error::Result;
 use crate::frf::FrfSet;
+use crate::limits::Limits;
 use crate::predict;
 use std::collections::BTreeMap;
 
@@ -25,19 +26,60 @@ pub struct RunResult {
     pub report: RunReport,
 }
 
-/// Load every component of a recipe (once; variants reuse them).
+/// Load every component of a recipe (once; variants reuse them) within the
+/// default [`Limits`].
 pub fn load_components(
     recipe: &Recipe,
     files: &dyn FileSource,
 ) -> Result<BTreeMap<String, FrfSet>> {
+    load_components_with(recipe, files, &Limits::default())
+}
+
+/// Load every component of a recipe within `limits`: each synthesized or
+/// resampled component is checked before it is built, and all of them
+/// together must fit the memory budget.
+pub fn load_components_with(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<BTreeMap<String, FrfSet>> {
     let mut out = BTreeMap::new();
+    let mut held = 0u64;
     for (name, spec) in &recipe.components {
-        let mut set = load_component(name, spec, recipe.grid.as_ref(), files)
-            .map_err(|e| e.within(format!("components.{name}")))?;
+        let within = format!("components.{name}");
+        let mut set = load_component(name, spec, recipe.grid.as_ref(), files, limits)
+            .map_err(|e| e.within(within.clone()))?;
+        held = held.saturating_add(values_of(&set));
+        limits
+            .check_values(
+                &format!("the components up to '{name}' ({held} values together)"),
+                Some(held),
+            )
+            .map_err(|e| e.within(within))?;
         dedup(&mut set.warnings);
         out.insert(name.clone(), set);
     }
     Ok(out)
+}
+
+/// Complex values a set holds (its coherence, real, counted as half).
+pub(crate) fn values_of(s: &FrfSet) -> u64 {
+    let c = s.coherence.as_ref().map_or(0, |c| c.len() as u64 / 2);
+    (s.data.len() as u64).saturating_add(c)
+}
+
+/// Estimated operations of a set's audit: dominated by the conditioning
+/// check's Jacobi SVD per line (about 30 · m · n · min(m, n) operations).
+pub(crate) fn audit_work(s: &FrfSet) -> f64 {
+    let (m, n) = (s.n_out() as f64, s.n_in() as f64);
+    30.0 * s.n_lines() as f64 * m * n * m.min(n)
+}
+
+/// Complex values held by a map of sets.
+fn values_held(values: &BTreeMap<String, FrfSet>) -> u64 {
+    values
+        .values()
+        .fold(0u64, |a, s| a.saturating_add(values_of(s)))
 }
 
 struct Executed {
@@ -51,6 +93,7 @@ fn execute(
     recipe: &Recipe,
     comps: &BTreeMap<String, FrfSet>,
     variant: Option<&Variant>,
+    limits: &Limits,
 ) -> Result<Executed> {
     let mut values: BTreeMap<String, FrfSet> = comps.clone();
     if let Some(v) = variant {
@@ -69,6 +112,8 @@ fn execute(
             values: &values,
             id: &step.id,
             variant,
+            limits,
+            held: values_held(&values),
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
@@ -120,16 +165,25 @@ fn collect(recipe: &Recipe, ex: &Executed, suffix: &str) -> Vec<FrfSet> {
     out
 }
 
-/// Execute a recipe: the baseline and then every variant.
+/// Execute a recipe: the baseline and then every variant, within the
+/// default [`Limits`].
 pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
+    run_with(recipe, files, &Limits::default())
+}
+
+/// Execute a recipe within `limits`: every synthesized component, every set
+/// a step would create and every step's estimated work is checked against
+/// them before it is computed (an [`ErrorKind::Budget`](crate::error::ErrorKind::Budget)
+/// error names the entry, the size asked for and the budget).
+pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
-    let comps = load_components(recipe, files)?;
-    let base = execute(recipe, &comps, None)?;
+    let comps = load_components_with(recipe, files, limits)?;
+    let base = execute(recipe, &comps, None, limits)?;
     let mut outputs = collect(recipe, &base, "");
     let mut variants = Vec::new();
     for (n, v) in recipe.variants.iter().enumerate() {
-        let res = execute(recipe, &comps, Some(v))
+        let res = execute(recipe, &comps, Some(v), limits)
             .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
         outputs.extend(collect(recipe, &res, &format!(" [{}]", v.name)));
         variants.push(variant_report(recipe, &base, res, &v.name));
@@ -142,7 +196,21 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
     if !notes.is_empty() {
         notes.push(format!("rule: {}", super::INFERENCE_RULE));
     }
-    // the fitness audit of every FRF component, with common-practice limits
+    // the fitness audit of every FRF component, with common-practice limits;
+    // its conditioning check is one SVD per line
+    for (k, s) in comps.iter().filter(|(_, s)| s.signal.is_none()) {
+        limits
+            .check_work(
+                &format!(
+                    "the audit of component '{k}' (one SVD per line: {} lines of {} × {})",
+                    s.n_lines(),
+                    s.n_out(),
+                    s.n_in()
+                ),
+                audit_work(s),
+            )
+            .map_err(|e| e.within(format!("components.{k}")))?;
+    }
     let audit: BTreeMap<String, audit::AuditReport> = comps
         .iter()
         .filter(|(_, s)| s.signal.is_none())

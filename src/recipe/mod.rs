@@ -26,7 +26,7 @@ mod ops;
 mod report;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
-pub use execute::{load_components, run, RunResult};
+pub use execute::{load_components, load_components_with, run, run_with, RunResult};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
 pub use ops::{

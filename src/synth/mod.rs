@@ -24,6 +24,7 @@ pub use modal::{ModalModel, Mode, Residual};
 
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet};
+use crate::limits::Limits;
 use crate::units::Quantity;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -70,10 +71,182 @@ pub enum Synth {
     Isolator(Isolator),
 }
 
+/// What building a synthesized model costs, estimated from its description
+/// alone (before any matrix is allocated): its size in words, the memory
+/// it holds at its peak and the floating-point operations it performs.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Cost {
+    /// The model's size in words ("a beam of 10000 elements: 20002 DOFs, 4 receptances on 200 lines").
+    pub size: String,
+    /// Peak memory in bytes (`None` when the count overflows).
+    pub bytes: Option<u64>,
+    /// Estimated floating-point operations (infinite when the count overflows).
+    pub work: f64,
+}
+
+/// Dense n × n real matrices a finite-element model holds at the peak of
+/// its real-mode solution: M, K, C, K_h, their copies with the supports
+/// removed, and in [`real_modes`] the Cholesky factor, its inverse, the
+/// transformed stiffness and its temporaries, the eigenvectors and the
+/// mode shapes (counted from the code; measured peak in DEVELOPERS.md).
+pub const DENSE_MATRICES: u64 = 16;
+
+/// Floating-point operations of [`real_modes`] per n³: Cholesky (n³/3),
+/// inverse of the factor (n³/3), L⁻¹ K L⁻ᵀ (4n³), the symmetric
+/// eigen-solution with vectors (about 9n³), Φ = L⁻ᵀ V (2n³).
+pub const REAL_MODES_WORK_PER_N3: f64 = 16.0;
+
+/// Floating-point operations of one complex LU factorisation per n³
+/// (2n³/3 complex multiply-adds of 8 real operations each).
+pub const COMPLEX_LU_WORK_PER_N3: f64 = 16.0 / 3.0;
+
+/// a · b (· c ...) as f64, for operation counts.
+fn ops(dims: &[usize]) -> f64 {
+    dims.iter().map(|&d| d as f64).product()
+}
+
+/// a + b for byte counts that may have overflowed.
+fn add(a: Option<u64>, b: Option<u64>) -> Option<u64> {
+    a?.checked_add(b?)
+}
+
+/// Bytes of `dims` values of `each` bytes.
+fn bytes_of(each: u64, dims: &[usize]) -> Option<u64> {
+    crate::limits::product(dims)?.checked_mul(each)
+}
+
+/// The cost of a model solved by its real modes (beams, frames): `n` DOFs,
+/// `no` × `ni` receptances on `lines` lines.
+fn modal_fe_cost(n: usize, no: usize, ni: usize, lines: usize) -> (Option<u64>, f64) {
+    let dense = bytes_of(8, &[n, n]).and_then(|b| b.checked_mul(DENSE_MATRICES));
+    let products = bytes_of(8, &[n, no, ni]);
+    let set = bytes_of(crate::limits::COMPLEX_BYTES, &[lines, no, ni]);
+    let bytes = add(add(dense, products), set);
+    let work =
+        REAL_MODES_WORK_PER_N3 * ops(&[n, n, n]) + ops(&[lines, n]) * (8.0 * ops(&[no, ni]) + 12.0);
+    (bytes, work)
+}
+
 impl Synth {
+    /// What this model would cost on a grid of `lines` lines, from its
+    /// description alone (nothing is built). Counts use checked arithmetic:
+    /// an overflowing count is `None` bytes and infinite work.
+    pub fn cost(&self, lines: usize) -> Cost {
+        match self {
+            Synth::Network { network, at } => {
+                let n = network.masses.len();
+                let k = if at.is_empty() { n } else { at.len() };
+                // M, K, C, K_h; per line Z, its LU and the solution
+                let bytes = add(
+                    add(bytes_of(8, &[4, n, n]), bytes_of(16, &[3, n, n])),
+                    add(
+                        bytes_of(16, &[2, n, k]),
+                        bytes_of(crate::limits::COMPLEX_BYTES, &[lines, k, k]),
+                    ),
+                );
+                let work = lines as f64
+                    * (COMPLEX_LU_WORK_PER_N3 * ops(&[n, n, n])
+                        + 8.0 * ops(&[n, n, k])
+                        + 8.0 * ops(&[n, n]));
+                Cost {
+                    size: format!("{n} masses, {k} × {k} receptances on {lines} lines"),
+                    bytes,
+                    work,
+                }
+            }
+            Synth::Modal(m) => {
+                let n = m.dofs.len();
+                let r = m.modes.len().saturating_add(m.complex_modes.len());
+                let bytes = add(
+                    bytes_of(crate::limits::COMPLEX_BYTES, &[lines, n, n]),
+                    bytes_of(16, &[n, n]),
+                );
+                let work = ops(&[lines, n, n]) * (10.0 * r as f64 + 6.0);
+                Cost {
+                    size: format!("{n} DOFs, {r} modes, {n} × {n} receptances on {lines} lines"),
+                    bytes,
+                    work,
+                }
+            }
+            Synth::Beam { beam, at } => {
+                let nodes = beam.elements.saturating_add(1);
+                let n = nodes.saturating_mul(2);
+                let k = if at.is_empty() {
+                    4
+                } else {
+                    at.len().saturating_mul(2)
+                };
+                let (bytes, work) = modal_fe_cost(n, k, k, lines);
+                Cost {
+                    size: format!(
+                        "{} elements, {n} DOFs, {k} × {k} receptances on {lines} lines",
+                        beam.elements
+                    ),
+                    bytes,
+                    work,
+                }
+            }
+            Synth::Frame { frame, at } => {
+                // every member adds elements − 1 nodes; 3 DOFs per node
+                let nodes = frame.members.iter().try_fold(frame.nodes.len(), |acc, m| {
+                    acc.checked_add(m.elements.saturating_sub(1))
+                });
+                let elements = frame
+                    .members
+                    .iter()
+                    .try_fold(0usize, |acc, m| acc.checked_add(m.elements));
+                let n = nodes.and_then(|x| x.checked_mul(3)).unwrap_or(usize::MAX);
+                let k = at.len();
+                let (bytes, work) = modal_fe_cost(n, k, k, lines);
+                let count =
+                    |x: Option<usize>| x.map_or("uncountably many".to_string(), |v| v.to_string());
+                Cost {
+                    size: format!(
+                        "{} members, {} elements, {} DOFs, {k} × {k} receptances on {lines} lines",
+                        frame.members.len(),
+                        count(elements),
+                        count(nodes.and_then(|x| x.checked_mul(3)))
+                    ),
+                    bytes,
+                    work,
+                }
+            }
+            Synth::Isolator(i) => Cost {
+                size: format!("{} table points on {lines} lines", i.table.len()),
+                bytes: bytes_of(crate::limits::COMPLEX_BYTES, &[lines]),
+                work: lines as f64 * (ops(&[i.table.len()]).log2().max(1.0) + 20.0),
+            },
+        }
+    }
+
+    /// The model's kind and name, for messages: "beam 'joist'".
+    pub fn label(&self) -> String {
+        match self {
+            Synth::Network { network, .. } => format!("network '{}'", network.component),
+            Synth::Modal(m) => format!("modal model '{}'", m.name),
+            Synth::Beam { beam, .. } => format!("beam '{}'", beam.component),
+            Synth::Frame { frame, .. } => format!("frame '{}'", frame.component),
+            Synth::Isolator(i) => format!("isolator '{}'", i.name),
+        }
+    }
+
+    /// Refuse the model when it would cost more on `lines` lines than
+    /// `limits` allow (memory or work), naming it, its size and the budget.
+    pub fn check_budget(&self, lines: usize, limits: &Limits) -> Result<()> {
+        let c = self.cost(lines);
+        limits.check_model(&format!("the {}", self.label()), &c.size, c.bytes, c.work)
+    }
+
     /// Build the component's FRF set on `freqs` (receptance, or dynamic
-    /// stiffness for an isolator).
+    /// stiffness for an isolator) within the default [`Limits`].
     pub fn synthesize(&self, freqs: &[f64]) -> Result<FrfSet> {
+        self.synthesize_with(freqs, &Limits::default())
+    }
+
+    /// Build the component's FRF set on `freqs`, first checking its
+    /// estimated memory and work against `limits` ([`Synth::cost`]).
+    pub fn synthesize_with(&self, freqs: &[f64], limits: &Limits) -> Result<FrfSet> {
+        self.check_budget(freqs.len(), limits)?;
         match self {
             Synth::Network { network, at } => {
                 let at: Vec<&str> = at.iter().map(|s| s.as_str()).collect();

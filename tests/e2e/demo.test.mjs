@@ -110,3 +110,30 @@ test('the demo button loads the same scenario the files hold', async () => {
     assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
 });
+
+test('a lowered budget makes the demo run fail with the budget message, and the page stays usable', async () => {
+  const s = await open();
+  try {
+    await s.page.click('#demo-btn');
+    await s.page.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    // 1 kB of data: the demo's first component already needs more
+    await s.page.click('#limits-box summary');
+    await s.page.fill('#limit-memory-gb', '0.000001');
+    await s.page.click('#limits-btn');
+    await s.page.waitForFunction(() => /in force: 1\.000e-6 GB|in force: 0\.000001000 GB/.test(document.getElementById('limits-state').textContent), null, { timeout: 30000 });
+    const t0 = Date.now();
+    await s.page.click('#run-btn');
+    await s.page.waitForSelector('#run-error:not([hidden])', { timeout: 30000 });
+    const msg = await s.page.$eval('#run-error', (e) => e.textContent);
+    assert.match(msg, /the budget is 1 kB/);
+    assert.match(msg, /components\./);
+    assert.ok(Date.now() - t0 < 30000);
+    // the page still answers: raising the budget back lets the run finish
+    await s.page.fill('#limit-memory-gb', '2.147');
+    await s.page.click('#limits-btn');
+    await s.page.waitForFunction(() => /in force: 2\.147 GB/.test(document.getElementById('limits-state').textContent), null, { timeout: 30000 });
+    await s.page.click('#run-btn');
+    await s.page.waitForFunction(() => document.body.dataset.plotted || document.querySelector('#run-error:not([hidden])'), null, { timeout: 120000 });
+    assert.equal(await s.page.$eval('#run-error', (e) => (e.hidden ? '' : e.textContent)), '');
+  } finally { await s.close(); }
+});

@@ -50,6 +50,20 @@ impl Operation for Couple {
         let opts = CouplingOptions {
             tsvd_rel_threshold: check_tsvd(self.tsvd)?,
         };
+        let lines = parts.first().map_or(0, |p| p.n_lines());
+        let outs = parts
+            .iter()
+            .fold(0usize, |a, p| a.saturating_add(p.n_out()));
+        let ins = parts.iter().fold(0usize, |a, p| a.saturating_add(p.n_in()));
+        cx.check_set("the coupled set", lines, outs, ins)?;
+        cx.check_work(
+            &format!(
+                "coupling {} parts ({lines} lines, {outs} × {ins} DOFs, {} joints)",
+                parts.len(),
+                joints.len()
+            ),
+            coupling_work(lines, outs, ins, joints.len()),
+        )?;
         let a = assemble::couple(&parts, &joints, &opts)?;
         Ok(output(cx, "couple", a, notes))
     }
@@ -76,9 +90,31 @@ impl Operation for Decouple {
         let opts = CouplingOptions {
             tsvd_rel_threshold: check_tsvd(self.tsvd)?,
         };
+        let (lines, outs, ins) = (asm.n_lines(), asm.n_out(), asm.n_in());
+        cx.check_set("the decoupled set", lines, outs, ins)?;
+        cx.check_work(
+            &format!(
+                "decoupling ({lines} lines, {outs} × {ins} DOFs, {} joints)",
+                joints.len()
+            ),
+            coupling_work(
+                lines,
+                outs.saturating_add(rem.n_out()),
+                ins.saturating_add(rem.n_in()),
+                joints.len(),
+            ),
+        )?;
         let a = assemble::decouple(asm, rem, &joints, &opts)?;
         Ok(output(cx, "decouple", a, notes))
     }
+}
+
+/// Estimated operations of an LM-FBS coupling: per line, the interface
+/// matrix (m × m from the m joints), its solve (m³) and the update of the
+/// outs × ins result through the m interface columns.
+fn coupling_work(lines: usize, outs: usize, ins: usize, joints: usize) -> f64 {
+    let (l, o, i, m) = (lines as f64, outs as f64, ins as f64, joints as f64);
+    l * 8.0 * (o * m * i + m * m * (o + i) + m * m * m)
 }
 
 /// The engine's joints, without those the variant drops; notes on joints

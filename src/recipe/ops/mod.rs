@@ -23,6 +23,7 @@ use super::report::StepReport;
 use super::Variant;
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet};
+use crate::limits::{product, Limits};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -67,9 +68,33 @@ pub(crate) struct Ctx<'a> {
     pub id: &'a str,
     /// The variant being computed, if any.
     pub variant: Option<&'a Variant>,
+    /// The run's budget.
+    pub limits: &'a Limits,
+    /// Complex values the run holds already (components and earlier results).
+    pub held: u64,
 }
 
 impl Ctx<'_> {
+    /// Refuse a set of `lines × outputs × inputs` values that the step
+    /// would create when it is over the memory budget on its own, or
+    /// together with what the run holds already. `what` names it.
+    pub fn check_set(&self, what: &str, lines: usize, outputs: usize, inputs: usize) -> Result<()> {
+        self.limits.check_set(what, lines, outputs, inputs)?;
+        let total = product(&[lines, outputs, inputs]).and_then(|n| n.checked_add(self.held));
+        self.limits.check_values(
+            &format!(
+                "{what} ({lines} lines × {outputs} outputs × {inputs} inputs), with the {} values the run holds already,",
+                self.held
+            ),
+            total,
+        )
+    }
+
+    /// Refuse a step whose estimated operation count is over the work budget.
+    pub fn check_work(&self, what: &str, operations: f64) -> Result<()> {
+        self.limits.check_work(what, operations)
+    }
+
     /// The set an operand names.
     pub fn get(&self, operand: &str, name: &str) -> Result<&FrfSet> {
         self.values.get(name).ok_or_else(|| {

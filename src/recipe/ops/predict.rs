@@ -52,6 +52,11 @@ impl Operation for Respond {
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let h = cx.get("frf", &self.frf)?;
         let f = cx.get("excitation", &self.excitation)?;
+        cx.check_set("the response", h.n_lines(), h.n_out(), 1)?;
+        cx.check_work(
+            "the response",
+            8.0 * h.n_lines() as f64 * h.n_out() as f64 * h.n_in() as f64,
+        )?;
         let y = predict::operational_response(h, f)?;
         let mut report = StepReport::new(cx.id, "respond", y.warnings.clone());
         report.levels = Some(level_rows(&y));
@@ -84,6 +89,14 @@ impl Operation for Paths {
                 inputs: parse_dofs(dofs, &format!("groups.{name}"))?,
             });
         }
+        // the total and one set per path, each lines × targets
+        let paths = h.n_in().saturating_add(1);
+        cx.check_set(
+            "the path contributions (one set per excitation DOF and the total)",
+            h.n_lines(),
+            h.n_out(),
+            paths,
+        )?;
         let c = predict::paths::path_contributions(h, f, &groups)?;
         let ranking = predict::paths::rank_paths(
             &c,
@@ -136,6 +149,16 @@ impl Operation for BlockedForces {
         if let Some(v) = &self.validate {
             o.validation = parse_dofs(v, "validate")?;
         }
+        // per line a truncated SVD of the m × n indicator matrix (Jacobi
+        // sweeps: about 30 · m · n · min(m, n) operations)
+        let (m, n) = (bench.n_out(), bench.n_in());
+        cx.check_work(
+            &format!(
+                "the blocked forces ({} lines of {m} × {n} indicator matrices)",
+                bench.n_lines()
+            ),
+            30.0 * bench.n_lines() as f64 * m as f64 * n as f64 * m.min(n) as f64,
+        )?;
         let b = predict::blocked::blocked_forces(bench, op, &o)?;
         let mut extras: Vec<(String, FrfSet)> = Vec::new();
         if let Some(v) = &b.validation {

@@ -53,6 +53,12 @@ impl Operation for Cascade {
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let a = cx.get("first", &self.first)?;
         let b = cx.get("second", &self.second)?;
+        let (l, o, m, i) = (a.n_lines(), b.n_out(), a.n_out(), a.n_in());
+        cx.check_set("the cascaded set", l, o, i)?;
+        cx.check_work(
+            &format!("cascading {l} lines of {o} × {m} by {m} × {i}"),
+            8.0 * l as f64 * o as f64 * m as f64 * i as f64,
+        )?;
         Ok(StepOutput::plain(cx, "cascade", assemble::cascade(a, b)?))
     }
 }
@@ -67,6 +73,19 @@ macro_rules! parts_op {
             }
             fn run(&self, cx: &Ctx) -> Result<StepOutput> {
                 let parts = cx.get_all("parts", &self.parts)?;
+                // the result has the first part's size; series and parallel
+                // may invert every part line by line
+                let p = &parts[0];
+                cx.check_set(
+                    concat!("the ", $name, " result"),
+                    p.n_lines(),
+                    p.n_out(),
+                    p.n_in(),
+                )?;
+                let work = parts.iter().fold(0.0, |a, s| {
+                    a + super::transform::inversion_work(s.n_lines(), s.n_out().max(s.n_in()))
+                });
+                cx.check_work(concat!("the ", $name, " of the parts"), work)?;
                 Ok(StepOutput::plain(cx, $name, $f(&parts)?))
             }
         }

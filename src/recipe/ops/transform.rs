@@ -108,6 +108,12 @@ impl Operation for Convert {
     }
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let s = cx.get("from", &self.from)?;
+        cx.check_set("the converted set", s.n_lines(), s.n_out(), s.n_in())?;
+        // a change between motion/force and force/motion inverts every line
+        cx.check_work(
+            "the conversion (possibly a line-by-line inversion)",
+            inversion_work(s.n_lines(), s.n_out().max(s.n_in())),
+        )?;
         Ok(StepOutput::plain(
             cx,
             "convert",
@@ -125,6 +131,16 @@ impl Operation for Invert {
     }
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let s = cx.get("from", &self.from)?;
+        cx.check_set("the inverted set", s.n_lines(), s.n_in(), s.n_out())?;
+        cx.check_work(
+            &format!(
+                "inverting {} lines of {} × {} matrices",
+                s.n_lines(),
+                s.n_out(),
+                s.n_in()
+            ),
+            inversion_work(s.n_lines(), s.n_out().max(s.n_in())),
+        )?;
         Ok(StepOutput::plain(cx, "invert", s.invert()?))
     }
 }
@@ -145,10 +161,19 @@ impl Operation for Scale {
             ))
             .field("factor"));
         }
+        cx.check_set("the scaled set", s.n_lines(), s.n_out(), s.n_in())?;
         let mut s = s.clone();
         scale_in_place(&mut s, self.factor)?;
         Ok(StepOutput::plain(cx, "scale", s))
     }
+}
+
+/// Estimated operations of inverting `lines` complex n × n matrices (LU
+/// and n right-hand sides: about 8/3 n³ complex multiply-adds, 8 real
+/// operations each).
+pub(crate) fn inversion_work(lines: usize, n: usize) -> f64 {
+    let n = n as f64;
+    lines as f64 * (64.0 / 3.0) * n * n * n
 }
 
 /// Multiply every value of a set by `f`; refused when a product is not
@@ -212,6 +237,7 @@ impl Operation for Resample {
             }
         };
         let how = interp(self.interp.as_deref())?;
+        cx.check_set("the resampled set", lines.len(), s.n_out(), s.n_in())?;
         Ok(StepOutput::plain(
             cx,
             "resample",
