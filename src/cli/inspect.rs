@@ -40,6 +40,14 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         .value("signal")
         .map(|s| io::parse_signal(s).map_err(|e| Error::usage(format!("--signal: {}", e.message))))
         .transpose()?;
+    if let Some(mat) = super::mat_opts::mat_map(args, signal)? {
+        return Ok(ImportOptions {
+            component,
+            signal,
+            column_map: None,
+            mat: Some(mat),
+        });
+    }
     let any_col = super::spec::IMPORT_OPTS
         .iter()
         .filter(|o| o.name != "component" && o.name != "map" && o.name != "signal")
@@ -61,6 +69,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             component,
             signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
+            mat: None,
         });
     }
     if !any_col {
@@ -68,6 +77,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             component,
             signal,
             column_map: None,
+            mat: None,
         });
     }
     for name in [
@@ -242,6 +252,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         component,
         signal,
         column_map: Some(m),
+        mat: None,
     })
 }
 

@@ -32,6 +32,7 @@ pub mod convert;
 pub mod couple;
 pub mod demo;
 pub mod inspect;
+pub mod mat_opts;
 pub mod run;
 pub mod spec;
 
