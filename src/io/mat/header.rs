@@ -130,12 +130,14 @@ pub fn parse(bytes: &[u8]) -> Result<Header> {
     let endian = match indicator {
         b"IM" => Endian::Little,
         b"MI" => Endian::Big,
-        _ => return Err(Error::parse(format!(
+        _ => {
+            return Err(Error::parse(format!(
             "endian indicator {:02x} {:02x}; expected 'IM' (little-endian) or 'MI' (big-endian)",
             indicator[0], indicator[1]
         ))
-        .at_byte(126)
-        .field("MAT-file header")),
+            .at_byte(126)
+            .field("MAT-file header"))
+        }
     };
     let version = endian.u16([bytes[124], bytes[125]]);
     if version == 0x0200 {
