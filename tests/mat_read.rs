@@ -79,7 +79,9 @@ fn scipy_mat_files_read_with_the_values_numpy_wrote() {
         }
         // the provenance records the mapping
         assert!(
-            s.provenance[0].options.contains("\"layout\":\"out-in-freq\""),
+            s.provenance[0]
+                .options
+                .contains("\"layout\":\"out-in-freq\""),
             "{}",
             s.provenance[0].options
         );
@@ -140,8 +142,7 @@ fn scipy_mat_files_read_with_the_values_numpy_wrote() {
         let f: Vec<f64> = serde_json::from_value(refs["real.mat"]["freqs"].clone()).unwrap();
         assert_eq!(s.freqs, f, "single-precision frequencies widen exactly");
         for k in 0..2 {
-            let r: Vec<f64> =
-                serde_json::from_value(refs["real.mat"][key][k].clone()).unwrap();
+            let r: Vec<f64> = serde_json::from_value(refs["real.mat"][key][k].clone()).unwrap();
             let got: Vec<f64> = (0..s.n_lines()).map(|l| s.get(l, k, 0).re).collect();
             if key == "single" {
                 assert_eq!(got, r, "float32 values widened exactly");
@@ -219,7 +220,10 @@ fn the_cli_lists_variables_without_a_mapping_and_reads_with_one() {
         .unwrap();
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(out.status.success(), "{text}");
-    assert!(text.contains("H (double, 3×2×40, complex), compressed"), "{text}");
+    assert!(
+        text.contains("H (double, 3×2×40, complex), compressed"),
+        "{text}"
+    );
     assert!(text.contains("outs (cell, 1×3)"), "{text}");
     let out = std::process::Command::new(bin)
         .args([
@@ -247,8 +251,15 @@ fn the_cli_lists_variables_without_a_mapping_and_reads_with_one() {
         .output()
         .unwrap();
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(out.status.success(), "{text}{}", String::from_utf8_lossy(&out.stderr));
-    assert!(text.contains("6 FRF(s) in 3 output(s) × 2 input(s), accelerance"), "{text}");
+    assert!(
+        out.status.success(),
+        "{text}{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        text.contains("6 FRF(s) in 3 output(s) × 2 input(s), accelerance"),
+        "{text}"
+    );
     // a CSV-only option beside the MAT options is refused by name
     let out = std::process::Command::new(bin)
         .args(["inspect", p, "--mat-freq", "f", "--skip", "2"])
@@ -264,5 +275,8 @@ fn the_cli_lists_variables_without_a_mapping_and_reads_with_one() {
         .unwrap();
     assert_eq!(out.status.code(), Some(1));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("needs a MAT mapping") && err.contains("--mat-freq"), "{err}");
+    assert!(
+        err.contains("needs a MAT mapping") && err.contains("--mat-freq"),
+        "{err}"
+    );
 }

@@ -500,8 +500,7 @@ pub fn strings(c: &mut Cursor<'_>, h: &Head, limits: &Limits, what: &str) -> Res
                 "variable '{}' is a {} array; expected DOF labels as a cell array of strings or a char matrix",
                 quote(&h.name),
                 other.name()
-            ))
-            .field(what.to_string()),
+            )),
             c.pos,
         )),
     }

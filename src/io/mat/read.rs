@@ -259,7 +259,16 @@ impl<'a> File<'a> {
         let mut c = o.cursor(self.endian);
         let what = format!("variable '{}'", quote(name));
         let h = array::head(&mut c, &what)?;
-        array::strings(&mut c, &h, limits, &what).map_err(|x| x.field(format!("mat.{key}")))
+        array::strings(&mut c, &h, limits, &what).map_err(|x| {
+            let inner = x.field.clone();
+            Error {
+                field: Some(match inner {
+                    Some(f) => format!("mat.{key}: {f}"),
+                    None => format!("mat.{key}"),
+                }),
+                ..x
+            }
+        })
     }
 }
 
