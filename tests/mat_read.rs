@@ -19,7 +19,7 @@ fn fixtures() -> (PathBuf, Value) {
     (d, serde_json::from_str(&out).unwrap())
 }
 
-fn load(d: &PathBuf, name: &str, mat: Value) -> FrfSet {
+fn load(d: &std::path::Path, name: &str, mat: Value) -> FrfSet {
     let bytes = std::fs::read(d.join(name)).unwrap();
     let opts: ImportOptions = serde_json::from_value(json!({ "mat": mat })).unwrap();
     let l = io::load(&bytes, name, &opts).unwrap_or_else(|e| panic!("{name}: {e}"));

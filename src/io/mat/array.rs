@@ -389,7 +389,7 @@ pub fn char_rows(c: &mut Cursor<'_>, h: &Head, what: &str) -> Result<Vec<String>
         ));
     }
     let (rows, cols) = (h.dims[0], h.dims[1]);
-    let n = rows.checked_mul(cols).unwrap_or(usize::MAX);
+    let n = rows.saturating_mul(cols);
     if n == 0 {
         // MATLAB writes an empty string with no data element
         if !c.at_end() {

@@ -170,7 +170,7 @@ impl<'a> Cursor<'a> {
         self.pos = if ty == MI_COMPRESSED {
             end
         } else {
-            (end + 7) / 8 * 8
+            end.div_ceil(8) * 8
         }
         .min(self.bytes.len().max(end));
         Ok(Element {
