@@ -12,8 +12,8 @@ use mortise::io::{self, ImportOptions};
 use serde_json::{json, Value};
 use std::path::PathBuf;
 
-fn seeds() -> PathBuf {
-    let d = common::scratch("mat_bad_input");
+fn seeds(test: &str) -> PathBuf {
+    let d = common::scratch(&format!("mat_bad_input_{test}"));
     common::run_py("mat_savemat.py", &[d.to_str().unwrap()]);
     d
 }
@@ -111,7 +111,7 @@ fn var_at(b: &[u8], n: usize) -> usize {
 
 #[test]
 fn malformed_and_unusable_mat_files_are_refused_with_place_and_expectation() {
-    let d = seeds();
+    let d = seeds("cases");
     let read = |n: &str| std::fs::read(d.join(n)).unwrap();
     let oif = read("oif.mat");
     let oif_z = read("oif_z.mat");
@@ -391,7 +391,7 @@ impl XorShift {
 
 #[test]
 fn mutated_mat_files_never_panic() {
-    let d = seeds();
+    let d = seeds("smoke");
     let cases: [(&str, Value); 4] = [
         ("oif.mat", oif_map()),
         ("oif_z.mat", oif_map()),

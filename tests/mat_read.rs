@@ -13,8 +13,8 @@ use mortise::io::{self, Format, ImportOptions};
 use serde_json::{json, Value};
 use std::path::PathBuf;
 
-fn fixtures() -> (PathBuf, Value) {
-    let d = common::scratch("mat_read");
+fn fixtures(test: &str) -> (PathBuf, Value) {
+    let d = common::scratch(&format!("mat_read_{test}"));
     let out = common::run_py("mat_savemat.py", &[d.to_str().unwrap()]);
     (d, serde_json::from_str(&out).unwrap())
 }
@@ -54,7 +54,7 @@ fn check_freqs(s: &FrfSet, reference: &Value, what: &str) {
 
 #[test]
 fn scipy_mat_files_read_with_the_values_numpy_wrote() {
-    let (d, refs) = fixtures();
+    let (d, refs) = fixtures("values");
 
     // 3-D outputs × inputs × lines, labels from cell arrays, plain and compressed
     for name in ["oif.mat", "oif_z.mat"] {
@@ -210,7 +210,7 @@ fn scipy_mat_files_read_with_the_values_numpy_wrote() {
 
 #[test]
 fn the_cli_lists_variables_without_a_mapping_and_reads_with_one() {
-    let (d, _) = fixtures();
+    let (d, _) = fixtures("cli");
     let p = d.join("oif_z.mat");
     let p = p.to_str().unwrap();
     let bin = env!("CARGO_BIN_EXE_mortise");
@@ -279,4 +279,31 @@ fn the_cli_lists_variables_without_a_mapping_and_reads_with_one() {
         err.contains("needs a MAT mapping") && err.contains("--mat-freq"),
         "{err}"
     );
+}
+
+#[test]
+fn a_recipe_reads_a_mat_file_through_its_import_mapping() {
+    use mortise::recipe::{self, MapSource};
+    let (d, refs) = fixtures("recipe");
+    let mut files = MapSource::default();
+    files
+        .0
+        .insert("unit.mat".into(), std::fs::read(d.join("oif_z.mat")).unwrap());
+    let text = json!({
+        "format": "mortise-recipe", "version": 1,
+        "components": {
+            "unit": { "file": "unit.mat", "import": { "mat": {
+                "freq": "f", "frf": "H", "layout": "out-in-freq",
+                "out_dofs_var": "outs", "in_dofs_var": "ins",
+                "out_qty": "acceleration", "in_qty": "force" } } }
+        },
+        "steps": [{ "id": "c", "op": "select", "from": "unit",
+                    "outputs": ["unit:2+Z"], "inputs": ["unit:3+Z"] }],
+        "outputs": ["c"]
+    })
+    .to_string();
+    let r = recipe::run(&recipe::parse(&text).unwrap(), &files).unwrap();
+    let s = &r.outputs[0];
+    assert_eq!((s.n_out(), s.n_in()), (1, 1));
+    check_column(s, 0, 0, &refs["oif_z.mat"]["values"]["2,1"], 1.0, "recipe select");
 }
