@@ -206,6 +206,31 @@ fn scipy_mat_files_read_with_the_values_numpy_wrote() {
     );
     let r = &refs["big.mat"]["values"]["0,0"][0];
     assert_eq!(s.get(0, 0, 0).im, -r[1].as_f64().unwrap());
+
+    // spectra (declared with "signal"): one output per column, the input is the reference
+    let bytes = std::fs::read(d.join("cols.mat")).unwrap();
+    let o: ImportOptions = serde_json::from_value(json!({"signal": "peak", "mat": {
+        "freq": "w", "freq_unit": "rad-per-s", "frf": "Y", "layout": "freq-frf",
+        "out_dofs": ["1+Z", "2+Z", "3+Z"], "out_qty": "force", "unit": "kN"}}))
+    .unwrap();
+    let s = io::load(&bytes, "cols.mat", &o).unwrap().sets.remove(0);
+    assert_eq!(s.signal, Some(mortise::frf::SignalKind::Peak));
+    assert_eq!((s.n_out(), s.n_in()), (3, 1));
+    check_column(
+        &s,
+        2,
+        0,
+        &refs["cols.mat"]["values"][2],
+        1000.0,
+        "spectrum in kN",
+    );
+    // an input side for spectra is refused by name
+    let o: ImportOptions = serde_json::from_value(json!({"signal": "peak", "mat": {
+        "freq": "w", "frf": "Y", "layout": "freq-frf", "out_dofs": ["1+Z", "2+Z", "3+Z"],
+        "in_dofs": ["1+Z", "1+Z", "1+Z"], "out_qty": "force"}}))
+    .unwrap();
+    let e = io::load(&bytes, "cols.mat", &o).unwrap_err();
+    assert!(e.to_string().contains("mat.in_dofs"), "{e}");
 }
 
 #[test]
@@ -286,9 +311,10 @@ fn a_recipe_reads_a_mat_file_through_its_import_mapping() {
     use mortise::recipe::{self, MapSource};
     let (d, refs) = fixtures("recipe");
     let mut files = MapSource::default();
-    files
-        .0
-        .insert("unit.mat".into(), std::fs::read(d.join("oif_z.mat")).unwrap());
+    files.0.insert(
+        "unit.mat".into(),
+        std::fs::read(d.join("oif_z.mat")).unwrap(),
+    );
     let text = json!({
         "format": "mortise-recipe", "version": 1,
         "components": {
@@ -305,5 +331,12 @@ fn a_recipe_reads_a_mat_file_through_its_import_mapping() {
     let r = recipe::run(&recipe::parse(&text).unwrap(), &files).unwrap();
     let s = &r.outputs[0];
     assert_eq!((s.n_out(), s.n_in()), (1, 1));
-    check_column(s, 0, 0, &refs["oif_z.mat"]["values"]["2,1"], 1.0, "recipe select");
+    check_column(
+        s,
+        0,
+        0,
+        &refs["oif_z.mat"]["values"]["2,1"],
+        1.0,
+        "recipe select",
+    );
 }
