@@ -357,6 +357,7 @@ fn damaged_files_never_panic() {
         component: None,
         signal: None,
         column_map: Some(map),
+        mat: None,
     };
     let mut x: u32 = 12345;
     for f in &files {

@@ -40,6 +40,14 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         .value("signal")
         .map(|s| io::parse_signal(s).map_err(|e| Error::usage(format!("--signal: {}", e.message))))
         .transpose()?;
+    if let Some(mat) = super::mat_opts::mat_map(args, signal)? {
+        return Ok(ImportOptions {
+            component,
+            signal,
+            column_map: None,
+            mat: Some(mat),
+        });
+    }
     let any_col = super::spec::IMPORT_OPTS
         .iter()
         .filter(|o| o.name != "component" && o.name != "map" && o.name != "signal")
@@ -61,6 +69,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             component,
             signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
+            mat: None,
         });
     }
     if !any_col {
@@ -68,6 +77,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             component,
             signal,
             column_map: None,
+            mat: None,
         });
     }
     for name in [
@@ -242,6 +252,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         component,
         signal,
         column_map: Some(m),
+        mat: None,
     })
 }
 
@@ -253,6 +264,10 @@ pub struct FileResult {
     /// A bundle's content SHA-256 (`io::bundle` docs), checked when it loaded.
     pub content_sha256: Option<String>,
     pub result: Result<Loaded>,
+    /// A MAT-file read without a MAT mapping: its variables (what `inspect`
+    /// lists so the user knows what to map); `result` holds the error that
+    /// says a mapping is needed.
+    pub mat_variables: Option<Vec<io::mat::VarInfo>>,
 }
 
 /// Read and load every file; failures are kept, with the file name. (A
@@ -268,15 +283,21 @@ pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Ve
                 sha256: None,
                 content_sha256: None,
                 result: Err(e),
+                mat_variables: None,
             },
             Ok(bytes) => {
                 let result = io::load(&bytes, p, opts).map_err(data);
                 let bundle = matches!(&result, Ok(l) if l.format == io::Format::Bundle);
+                let mat_variables = match (&result, &opts.mat) {
+                    (Err(_), None) if io::mat::sniff(&bytes) => io::mat::variables(&bytes, p).ok(),
+                    _ => None,
+                };
                 FileResult {
                     path: p.clone(),
                     sha256: Some(io::sha256_hex(&bytes)),
                     content_sha256: io::bundle::content_sha256(&bytes).filter(|_| bundle),
                     result,
+                    mat_variables,
                 }
             }
         })
@@ -360,14 +381,24 @@ pub fn run(args: &Args) -> Result<Done> {
     let results = load_files(&args.positional, &opts, &super::limits::from_args(args)?);
     let failed: Vec<&Error> = results
         .iter()
+        .filter(|f| f.mat_variables.is_none())
         .filter_map(|f| f.result.as_ref().err())
         .collect();
     let error = super::files_failed(&failed, results.len(), "on standard output");
     if args.flag("json") {
         let files: Vec<serde_json::Value> = results
             .iter()
-            .map(|f| match &f.result {
-                Ok(l) => serde_json::json!({
+            .map(|f| match (&f.result, &f.mat_variables) {
+                (Err(e), Some(vars)) => serde_json::json!({
+                    "file": f.path,
+                    "ok": true,
+                    "format": io::Format::Mat.name(),
+                    "sha256": f.sha256,
+                    "sets": [],
+                    "mat_variables": vars,
+                    "warnings": [e.message],
+                }),
+                (Ok(l), _) => serde_json::json!({
                     "file": f.path,
                     "ok": true,
                     "format": l.format.name(),
@@ -376,7 +407,7 @@ pub fn run(args: &Args) -> Result<Done> {
                     "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
                     "warnings": l.warnings,
                 }),
-                Err(e) => serde_json::json!({
+                (Err(e), None) => serde_json::json!({
                     "file": f.path,
                     "ok": false,
                     "sha256": f.sha256,
@@ -392,6 +423,21 @@ pub fn run(args: &Args) -> Result<Done> {
         out.push_str(&format!("{}\n", f.path));
         if let Some(h) = &f.sha256 {
             out.push_str(&format!("  sha256: {h}\n"));
+        }
+        if let Some(vars) = &f.mat_variables {
+            out.push_str(&format!(
+                "  format: {} (no FRFs read: give a MAT mapping, see 'mortise help inspect')\n",
+                io::Format::Mat.name()
+            ));
+            out.push_str(&format!("  variables: {}\n", vars.len()));
+            for v in vars {
+                out.push_str(&format!(
+                    "    {}{}\n",
+                    v.describe(),
+                    if v.compressed { ", compressed" } else { "" }
+                ));
+            }
+            continue;
         }
         match &f.result {
             Ok(l) => {

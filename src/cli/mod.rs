@@ -33,6 +33,7 @@ pub mod couple;
 pub mod demo;
 pub mod inspect;
 pub mod limits;
+pub mod mat_opts;
 pub mod run;
 pub mod spec;
 

@@ -213,6 +213,54 @@ pub const IMPORT_OPTS: &[Opt] = &[
     ),
 ];
 
+/// MAT-file mapping options (inspect and convert). The DOFs, quantities,
+/// unit, frequency unit, time convention and set name are the column-map
+/// options of the same name (`--out-dof`, `--in-dof`, `--out-qty`,
+/// `--in-qty`, `--unit`, `--freq-unit`, `--time-convention`, `--set-name`).
+pub const MAT_OPTS: &[Opt] = &[
+    val(
+        "mat-map",
+        "MAP.json",
+        "a saved MAT mapping (JSON, as in a recipe's \"mat\"), instead of the options below",
+    ),
+    val(
+        "mat-freq",
+        "VAR",
+        "the variable holding the frequency vector",
+    ),
+    val(
+        "mat-frf",
+        "VAR",
+        "the variable holding the FRFs (complex or real; 2-D or 3-D)",
+    ),
+    val(
+        "mat-layout",
+        "L",
+        "how the FRF variable is laid out: out-in-freq (outputs × inputs × lines), freq-out-in \
+         (lines × outputs × inputs), freq-frf (one FRF per column) or frf-freq (one FRF per row)",
+    ),
+    val(
+        "mat-out-dofs-var",
+        "VAR",
+        "a cell array of strings (or char matrix) in the file with the output DOF labels, \
+         instead of --out-dof",
+    ),
+    val(
+        "mat-in-dofs-var",
+        "VAR",
+        "a cell array of strings (or char matrix) in the file with the input DOF labels, instead \
+         of --in-dof",
+    ),
+];
+
+const MAT_GROUP: Group = Group {
+    title: "MAT-file options (level-5 MAT-files; with these, --out-dof/--in-dof give the outputs \
+            and inputs of a 3-D layout or one pair per FRF of a 2-D one, and --unit, --out-qty, \
+            --in-qty, --freq-unit, --time-convention, --set-name apply; without them 'inspect' \
+            lists the file's variables)",
+    opts: MAT_OPTS,
+};
+
 /// The file-size budget, for every command that reads files.
 const MAX_FILE_OPT: Opt = val(
     "max-file-mb",
@@ -270,6 +318,7 @@ pub const INSPECT: Command = Command {
         },
         FILES_GROUP,
         IMPORT_GROUP,
+        MAT_GROUP,
     ],
     example: "mortise inspect sample-frf/unit-casing.uff sample-frf/brackets.uffb --json",
 };
@@ -331,6 +380,7 @@ pub const CONVERT: Command = Command {
         LIMITS_GROUP,
         FILES_GROUP,
         IMPORT_GROUP,
+        MAT_GROUP,
     ],
     example: "mortise convert sample-frf/isolator-stiffness.csv -o isolator.csv --delim semicolon \
               --skip 3 --freq-col 'f [Hz]' --stiffness \"K' axial [N/mm]\" --loss 'eta axial [-]' \

@@ -10,6 +10,7 @@
 pub mod bundle;
 pub mod csv;
 pub mod disk;
+pub mod mat;
 pub mod merge;
 pub mod nodes;
 pub mod uff58;
@@ -28,6 +29,8 @@ pub enum Format {
     /// A supplier's CSV/TSV read through a [`csv::ColumnMap`].
     CsvMapped,
     Bundle,
+    /// A level-5 MAT-file, read through a [`mat::MatMap`].
+    Mat,
 }
 
 impl Format {
@@ -38,6 +41,7 @@ impl Format {
             Format::CsvNative => "csv-mortise",
             Format::CsvMapped => "csv-mapped",
             Format::Bundle => "bundle",
+            Format::Mat => "mat",
         }
     }
 }
@@ -65,6 +69,9 @@ pub struct ImportOptions {
     /// Column map for supplier CSVs; required when the CSV is not our own layout.
     #[serde(default)]
     pub column_map: Option<csv::ColumnMap>,
+    /// MAT-file mapping; required for MAT-files, refused for other files.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mat: Option<mat::MatMap>,
 }
 
 /// The JSON form of [`ImportOptions`] as read (the column map is taken
@@ -78,6 +85,8 @@ struct ImportOptionsJson {
     signal: Option<SignalKind>,
     #[serde(default)]
     column_map: Option<serde_json::Value>,
+    #[serde(default)]
+    mat: Option<serde_json::Value>,
 }
 
 fn signal_from_json<'de, D: serde::Deserializer<'de>>(
@@ -109,6 +118,10 @@ impl TryFrom<ImportOptionsJson> for ImportOptions {
             component: j.component,
             signal: declared_signal(j.signal, in_map).map_err(|e| e.message)?,
             column_map,
+            mat: match j.mat {
+                None | Some(serde_json::Value::Null) => None,
+                Some(v) => Some(mat::map_from_json(v).map_err(|e| e.message)?),
+            },
         })
     }
 }
@@ -202,7 +215,7 @@ fn looks_like(bytes: &[u8]) -> Option<&'static str> {
 
 const ACCEPTED: &str = "accepted: UFF dataset 58 or 58b (first line '-1', then '58' or '58b'), \
 mortise's own CSV (first line '# mortise-frf 1'), a mortise bundle (JSON with \"format\": \"mortise-bundle\"), \
-or delimited text of numbers (CSV/TSV) with a column map";
+delimited text of numbers (CSV/TSV) with a column map, or a level-5 MAT-file with a MAT mapping";
 
 /// Dataset numbers of a UFF file, scanning the "-1" delimiter lines.
 fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
@@ -266,6 +279,9 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     }
     if let Some(what) = looks_like(bytes) {
         return fail(format!("this looks like {what}, not FRF data; {ACCEPTED}"));
+    }
+    if mat::sniff(bytes) {
+        return Ok(Format::Mat);
     }
     if let Some(r) = uff_kind(bytes) {
         return r.map_err(|e| e.in_file(file));
@@ -365,11 +381,35 @@ fn check_declared(sets: &[FrfSet], k: SignalKind) -> Result<()> {
     Ok(())
 }
 
+/// A MAT mapping given for another file, a MAT-file without one, or a
+/// column map given for a MAT-file.
+fn mat_options_misplaced(format: Format, opts: &ImportOptions) -> Error {
+    if format != Format::Mat {
+        return Error::usage(format!(
+            "the import options carry a MAT-file mapping (\"mat\"), but this file is {}, not a MAT-file; leave \"mat\" out",
+            format.name()
+        ))
+        .field("mat");
+    }
+    if opts.column_map.is_some() {
+        return Error::usage(
+            "this is a MAT-file, but the import options carry a CSV column map (\"column_map\"); give a MAT mapping (\"mat\") instead",
+        )
+        .field("column_map");
+    }
+    Error::internal("MAT options checked for a MAT-file with a mapping")
+}
+
 /// Load one file. Errors name the file and the place in it.
 pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
+    if (opts.mat.is_some() && format != Format::Mat)
+        || (format == Format::Mat && opts.column_map.is_some())
+    {
+        return Err(mat_options_misplaced(format, opts).in_file(file));
+    }
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
@@ -414,6 +454,15 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
                 &component,
                 opts.signal,
             )?]
+        }
+        Format::Mat => {
+            let Some(map) = &opts.mat else {
+                return Err(mat::mapping_needed(bytes, file));
+            };
+            let limits = crate::limits::Limits::default();
+            let (set, w) = mat::read(bytes, file, map, &component, opts.signal, &limits)?;
+            warnings.extend(w);
+            vec![set]
         }
         Format::Bundle => {
             let checked = bundle::read_checked(bytes, file)?;

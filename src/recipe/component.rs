@@ -60,7 +60,7 @@ pub struct ComponentSpec {
 pub const COMPONENT_FIELDS: &[(&str, &str)] = &[
     ("file", "a file, by name relative to the recipe (format detected from its content)"),
     ("component", "namespace of the DOFs (default: the component's name)"),
-    ("import", "import options of the file: column_map (supplier CSVs), signal (peak, rms, autopower, psd: what its spectra are), component, set_name, time_convention"),
+    ("import", "import options of the file: column_map (supplier CSVs), mat (MAT-files: freq, frf, layout, DOFs, quantities, unit), signal (peak, rms, autopower, psd: what its spectra are), component, set_name, time_convention"),
     ("set", "which set of the file, 0-based, when it holds several (required then)"),
     ("select", "{outputs: [DOF labels], inputs: [DOF labels]}: keep these, in this order"),
     ("kind", "convert to this FRF kind after loading (receptance, mobility, accelerance, ...)"),
