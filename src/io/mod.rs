@@ -122,7 +122,8 @@ pub fn parse_signal(text: &str) -> Result<SignalKind> {
         "psd" => SignalKind::Psd,
         _ => {
             return Err(Error::usage(format!(
-                "unknown signal kind '{text}'; expected peak, rms, autopower or psd"
+                "unknown signal kind '{}'; expected peak, rms, autopower or psd",
+                crate::error::quote(text)
             ))
             .field("signal"))
         }
@@ -203,12 +204,46 @@ const ACCEPTED: &str = "accepted: UFF dataset 58 or 58b (first line '-1', then '
 mortise's own CSV (first line '# mortise-frf 1'), a mortise bundle (JSON with \"format\": \"mortise-bundle\"), \
 or delimited text of numbers (CSV/TSV) with a column map";
 
+/// A JSON reader's message for an error message: kept whole while short
+/// (it names the field and what was expected), cut by
+/// [`crate::error::quote`] when it is long, which happens when it echoes a
+/// long string from the input.
+pub(crate) fn json_message(e: &serde_json::Error) -> String {
+    let m = e.to_string();
+    if m.chars().count() <= 300 {
+        m.chars()
+            .map(|c| if c.is_control() { ' ' } else { c })
+            .collect()
+    } else {
+        crate::error::quote(&m)
+    }
+}
+
+/// The lines of bytes without their endings: LF, CR LF or a lone CR, in any
+/// mix (the UFF reader's cursor splits the same way).
+fn byte_lines(bytes: &[u8]) -> impl Iterator<Item = &[u8]> {
+    let mut rest = Some(bytes);
+    std::iter::from_fn(move || {
+        let t = rest?;
+        match t.iter().position(|&c| c == b'\n' || c == b'\r') {
+            Some(p) => {
+                let skip = if t[p..].starts_with(b"\r\n") { 2 } else { 1 };
+                rest = Some(&t[p + skip..]);
+                Some(&t[..p])
+            }
+            None => {
+                rest = None;
+                Some(t)
+            }
+        }
+    })
+}
+
 /// Dataset numbers of a UFF file, scanning the "-1" delimiter lines.
 fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
-    // first non-blank line must be "-1"
-    let mut lines = bytes
-        .split(|&b| b == b'\n')
-        .map(|l| l.strip_suffix(b"\r").unwrap_or(l));
+    // first non-blank line must be "-1" (after a byte-order mark, if any)
+    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
+    let mut lines = byte_lines(bytes);
     let first = lines.find(|l| !l.iter().all(|b| b.is_ascii_whitespace()))?;
     if first.trim_ascii() != b"-1" {
         return None;
@@ -232,7 +267,7 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
     }
     // another dataset first: look for a later 58/58b header
     let mut prev_delim = false;
-    for l in bytes.split(|&b| b == b'\n') {
+    for l in byte_lines(bytes) {
         let t = l.trim_ascii();
         if prev_delim {
             let tok = t.split(|b| b.is_ascii_whitespace()).next().unwrap_or(b"");
@@ -282,7 +317,8 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
             Ok(v) => match v.get("format").and_then(|f| f.as_str()) {
                 Some(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
                 Some(other) => fail(format!(
-                    "this is JSON with \"format\": \"{other}\", not a data file; expected \"{}\"; {ACCEPTED}",
+                    "this is JSON with \"format\": \"{}\", not a data file; expected \"{}\"; {ACCEPTED}",
+                    crate::error::quote(other),
                     bundle::BUNDLE_FORMAT
                 )),
                 None => fail(format!(
@@ -298,7 +334,8 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
                 Ok(Format::Bundle)
             }
             Err(e) => fail(format!(
-                "this looks like JSON but does not parse ({e}); {ACCEPTED}"
+                "this looks like JSON but does not parse ({}); {ACCEPTED}",
+                json_message(&e)
             )),
         };
     }
@@ -308,14 +345,13 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     if csv::looks_delimited(&text) {
         return Ok(Format::CsvMapped);
     }
-    let first = text
-        .lines()
+    let first = csv::text_lines(&text)
         .find(|l| !l.trim().is_empty())
         .unwrap_or("")
         .trim();
-    let shown: String = first.chars().take(60).collect();
     fail(format!(
-        "this looks like plain text without columns of numbers (it starts '{shown}'); {ACCEPTED}"
+        "this looks like plain text without columns of numbers (it starts '{}'); {ACCEPTED}",
+        crate::error::quote(first)
     ))
 }
 
@@ -345,7 +381,7 @@ fn check_declared(sets: &[FrfSet], k: SignalKind) -> Result<()> {
                 return Err(Error::usage(format!(
                     "set {} ('{}') of the file is a {} spectrum, but the import options declare {}; declare {} or leave \"signal\" out",
                     n + 1,
-                    s.name,
+                    crate::error::quote(&s.name),
                     have.name(),
                     k.name(),
                     have.name()
@@ -364,8 +400,21 @@ fn check_declared(sets: &[FrfSet], k: SignalKind) -> Result<()> {
     Ok(())
 }
 
-/// Load one file. Errors name the file and the place in it.
+/// Load one file within the default [`Limits`](crate::limits::Limits).
+/// Errors name the file and the place in it.
 pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
+    load_with_limits(bytes, file, opts, &crate::limits::Limits::default())
+}
+
+/// [`load`] with every set a reader builds (UFF, our CSV, a supplier CSV)
+/// checked against `limits` before it is allocated. (A bundle's sets are
+/// read by [`bundle::read`].)
+pub fn load_with_limits(
+    bytes: &[u8],
+    file: &str,
+    opts: &ImportOptions,
+    limits: &crate::limits::Limits,
+) -> Result<Loaded> {
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
@@ -373,13 +422,18 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
             // the record-6 entity name, else the file stem
-            let (sets, w) =
-                uff58::read_declared(bytes, file, opts.component.as_deref(), opts.signal)?;
+            let (sets, w) = uff58::read_declared_with_limits(
+                bytes,
+                file,
+                opts.component.as_deref(),
+                opts.signal,
+                limits,
+            )?;
             warnings.extend(w);
             sets
         }
         Format::CsvNative => {
-            let mut sets = csv::read_native(bytes, file)?;
+            let mut sets = csv::read_native_with_limits(bytes, file, limits)?;
             if let Some(c) = &opts.component {
                 for s in &mut sets {
                     rename_component(s, c);
@@ -390,11 +444,10 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::CsvMapped => {
             let Some(map) = &opts.column_map else {
                 let text = csv::decode_text(bytes);
-                let head: Vec<String> = text
-                    .lines()
+                let head: Vec<String> = csv::text_lines(&text)
                     .filter(|l| !l.trim().is_empty())
                     .take(3)
-                    .map(|l| format!("'{}'", l.trim().chars().take(80).collect::<String>()))
+                    .map(|l| format!("'{}'", crate::error::quote(l.trim())))
                     .collect();
                 return Err(Error::usage(format!(
                     "this is delimited text but not mortise's own CSV layout, so it needs a column map: \
@@ -406,12 +459,13 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
                 ))
                 .in_file(file));
             };
-            vec![csv::read_mapped_as(
+            vec![csv::read_mapped_with_limits(
                 bytes,
                 file,
                 map,
                 &component,
                 opts.signal,
+                limits,
             )?]
         }
         Format::Bundle => {
@@ -443,8 +497,12 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
     };
     for (n, s) in sets.iter_mut().enumerate() {
         s.validate().map_err(|e| {
-            e.field(format!("set {} ('{}')", n + 1, s.name))
-                .in_file(file)
+            e.field(format!(
+                "set {} ('{}')",
+                n + 1,
+                crate::error::quote(&s.name)
+            ))
+            .in_file(file)
         })?;
         // a reader may already have recorded this file (the UFF reader does,
         // with the format of each set); then only the options are completed
