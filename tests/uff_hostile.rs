@@ -148,3 +148,68 @@ fn many_distinct_dofs_in_one_set_are_placed_in_linear_time() {
     eprintln!("UFF one set of many DOFs: 1,000 in {t_small:.3} s, 10,000 in {t_big:.3} s, ratio {ratio:.1}");
     assert!(ratio < 30.0, "ratio {ratio:.1}; expected about 10");
 }
+
+/// `n` one-entry sets of one component, set k from node k (or node 1 when
+/// `one_ref`) to node k, each with its own provenance record, on 4 lines.
+fn deliveries(n: usize, one_ref: bool) -> Vec<mortise::frf::FrfSet> {
+    use mortise::frf::{Direction, Dof, FrfSet, Provenance};
+    use mortise::units::Quantity;
+    (0..n)
+        .map(|k| {
+            let inp = if one_ref { 1 } else { k };
+            let mut s = FrfSet::zeros(
+                "hammer",
+                vec![1.0, 2.0, 3.0, 4.0],
+                vec![Dof::new("w", &k.to_string(), Direction::Z)],
+                vec![Dof::new("w", &inp.to_string(), Direction::Z)],
+                Quantity::Acceleration,
+                Quantity::Force,
+            );
+            s.provenance.push(Provenance {
+                file: format!("run{k}.uff"),
+                ..Provenance::default()
+            });
+            s
+        })
+        .collect()
+}
+
+#[test]
+fn merging_many_deliveries_is_linear() {
+    // a roving-hammer delivery of n files merged into one n × 1 matrix: the
+    // union of DOFs, their places and the provenance list used to scan
+    // everything gathered so far (square in n). 10,000 against 1,000
+    // (fastest of three runs each): linear work gives about 10.
+    let small = deliveries(1_000, true);
+    let big = deliveries(10_000, true);
+    let run = |sets: &Vec<mortise::frf::FrfSet>| {
+        let (m, _) = io::merge::merge(sets.clone()).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((m.n_out(), m.n_in()), (sets.len(), 1));
+        assert_eq!(m.provenance.len(), sets.len());
+    };
+    let t_small = fastest(3, || run(&small));
+    let t_big = fastest(3, || run(&big));
+    let ratio = t_big / t_small;
+    eprintln!("merge: 1,000 sets in {t_small:.3} s, 10,000 in {t_big:.3} s, ratio {ratio:.1}");
+    assert!(ratio < 30.0, "ratio {ratio:.1}; expected about 10");
+}
+
+#[test]
+fn a_merge_whose_matrix_exceeds_the_budget_is_refused() {
+    // 4,000 one-entry sets on distinct DOF pairs merge into a 4,000 × 4,000
+    // matrix: 4000² × 4 lines × 16 bytes = 1.02 GB fits the default budget
+    // of 2 GiB but not one of 1 GB; 3 sets need 3 × 3 × 4 × 16 = 576 bytes
+    let at = |m: u64| Limits {
+        memory_bytes: m,
+        ..Limits::default()
+    };
+    let e = io::merge::merge_with_limits(deliveries(4_000, false), &at(1_000_000_000)).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+    assert!(
+        e.message.contains("4 lines × 4000 outputs × 4000 inputs"),
+        "{e}"
+    );
+    assert!(io::merge::merge_with_limits(deliveries(3, false), &at(576)).is_ok());
+    let e = io::merge::merge_with_limits(deliveries(3, false), &at(575)).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+}

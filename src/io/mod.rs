@@ -287,28 +287,39 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
 
 /// Detect the format from the bytes (not the extension).
 pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
+    // every refusal names its place: the byte or line that decided it
     let fail = |m: String| Err(Error::unsupported(m).in_file(file));
+    let fail_at = |m: String, byte: usize| Err(Error::unsupported(m).at_byte(byte).in_file(file));
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
-        return fail(format!(
-            "the file is empty{}; {ACCEPTED}",
-            if bytes.is_empty() {
-                ""
-            } else {
-                " (only white space)"
-            }
-        ));
+        return fail_at(
+            format!(
+                "the file is empty{}; {ACCEPTED}",
+                if bytes.is_empty() {
+                    ""
+                } else {
+                    " (only white space)"
+                }
+            ),
+            0,
+        );
     }
     if let Some(what) = looks_like(bytes) {
-        return fail(format!("this looks like {what}, not FRF data; {ACCEPTED}"));
+        return fail_at(
+            format!("this looks like {what}, not FRF data; {ACCEPTED}"),
+            0,
+        );
     }
     if let Some(r) = uff_kind(bytes) {
-        return r.map_err(|e| e.in_file(file));
+        return r.map_err(|e| e.field("dataset number").in_file(file));
     }
     let head = &bytes[..bytes.len().min(4096)];
-    if head.contains(&0) {
-        return fail(format!(
-            "this looks like a binary file of unknown kind (it holds NUL bytes); {ACCEPTED}"
-        ));
+    if let Some(nul) = head.iter().position(|&b| b == 0) {
+        return fail_at(
+            format!(
+                "this looks like a binary file of unknown kind (it holds NUL bytes); {ACCEPTED}"
+            ),
+            nul,
+        );
     }
     let text = csv::decode_text(bytes);
     let t = text.trim_start();
@@ -320,10 +331,12 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
                     "this is JSON with \"format\": \"{}\", not a data file; expected \"{}\"; {ACCEPTED}",
                     crate::error::quote(other),
                     bundle::BUNDLE_FORMAT
-                )),
+                ))
+                .map_err(|e: Error| e.field("format")),
                 None => fail(format!(
                     "this is JSON without a \"format\" field; {ACCEPTED}"
-                )),
+                ))
+                .map_err(|e: Error| e.field("format")),
             },
             // a damaged bundle: let the bundle reader say where it breaks
             Err(_)
@@ -336,7 +349,12 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
             Err(e) => fail(format!(
                 "this looks like JSON but does not parse ({}); {ACCEPTED}",
                 json_message(&e)
-            )),
+            ))
+            // serde_json counts lines after the leading white space
+            .map_err(|x: Error| {
+                let skipped = csv::text_lines(&text[..text.len() - t.len()]).count() - 1;
+                x.at_line(e.line() + skipped)
+            }),
         };
     }
     if csv::is_native(&text) {
@@ -345,14 +363,15 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     if csv::looks_delimited(&text) {
         return Ok(Format::CsvMapped);
     }
-    let first = csv::text_lines(&text)
-        .find(|l| !l.trim().is_empty())
-        .unwrap_or("")
-        .trim();
+    let (line, first) = csv::text_lines(&text)
+        .enumerate()
+        .find(|(_, l)| !l.trim().is_empty())
+        .unwrap_or((0, ""));
     fail(format!(
         "this looks like plain text without columns of numbers (it starts '{}'); {ACCEPTED}",
-        crate::error::quote(first)
+        crate::error::quote(first.trim())
     ))
+    .map_err(|e: Error| e.at_line(line + 1))
 }
 
 /// Give every DOF the component `c`, except the reference input of a spectrum.
@@ -457,6 +476,7 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
 --unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json. The file starts: {}",
                     head.join(" | ")
                 ))
+                .field("column_map")
                 .in_file(file));
             };
             vec![csv::read_mapped_with_limits(

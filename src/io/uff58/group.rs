@@ -374,8 +374,16 @@ pub fn read_declared_with_limits(
             .iter()
             .flat_map(|e| e.ids.iter().map(|t| t.as_str()))
             .collect();
+        // each record once, found by hash (a group may carry thousands)
+        let mut seen = HashSet::new();
         for q in provenance_from_lines(&lines) {
-            if !s.provenance.contains(&q) {
+            let key = (
+                q.file.clone(),
+                q.sha256.clone(),
+                q.format.clone(),
+                q.options.clone(),
+            );
+            if seen.insert(key) {
                 s.provenance.push(q);
             }
         }
@@ -421,7 +429,11 @@ pub fn read_declared_with_limits(
         }
         if !done {
             file_rm.add(
-                format!("coherence {out} / {inp} has no FRF with the same DOFs and grid; skipped"),
+                format!(
+                    "coherence {} / {} has no FRF with the same DOFs and grid; skipped",
+                    crate::error::quote(&out.to_string()),
+                    crate::error::quote(&inp.to_string())
+                ),
                 line,
             );
         }
@@ -601,7 +613,9 @@ fn build_set(
             g.remarks.add(
                 format!(
                     "duplicates {} / {} of the dataset at line {}; kept the first",
-                    s.outputs[i], s.inputs[j], first_line[m]
+                    crate::error::quote(&s.outputs[i].to_string()),
+                    crate::error::quote(&s.inputs[j].to_string()),
+                    first_line[m]
                 ),
                 e.line,
             );

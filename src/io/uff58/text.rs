@@ -68,18 +68,20 @@ impl<'a> Cursor<'a> {
 /// The UTF-8 byte-order mark some editors put at the start of a text file.
 pub(super) const BOM: &[u8] = b"\xEF\xBB\xBF";
 
-/// A printable preview of a line for messages.
+/// A printable preview of a line for messages, the byte counterpart of
+/// [`crate::error::quote`]: at most [`crate::error::QUOTE_CHARS`] bytes,
+/// those outside printable ASCII as `\xNN`, then "… (N bytes)" when cut.
 pub(super) fn preview(bytes: &[u8]) -> String {
     let mut s = String::new();
-    for &c in bytes.iter().take(40) {
+    for &c in bytes.iter().take(crate::error::QUOTE_CHARS) {
         if (0x20..0x7f).contains(&c) {
             s.push(c as char);
         } else {
             s.push_str(&format!("\\x{c:02x}"));
         }
     }
-    if bytes.len() > 40 {
-        s.push_str("...");
+    if bytes.len() > crate::error::QUOTE_CHARS {
+        s.push_str(&format!("… ({} bytes)", bytes.len()));
     }
     s
 }
