@@ -480,7 +480,7 @@ pub fn read_mapped_with_limits(
     let go = || -> Result<FrfSet> {
         let text = decode_text(bytes);
         if text.trim().is_empty() {
-            return Err(Error::parse("the file is empty; expected rows of numbers"));
+            return Err(Error::parse("the file is empty; expected rows of numbers").at_line(1));
         }
         let lines = numbered_lines(&text);
         let lay = layout(&lines, map)?;
@@ -489,7 +489,8 @@ pub fn read_mapped_with_limits(
             return Err(Error::parse(format!(
                 "no data rows after skipping {} lines",
                 map.skip_rows
-            )));
+            ))
+            .field("skip_rows"));
         }
         let name = map.name.clone().unwrap_or_else(|| component.to_string());
         // every data row counts (an upper bound of the lines read)

@@ -169,6 +169,7 @@ pub fn read_native_with_limits(bytes: &[u8], file: &str, limits: &Limits) -> Res
         return Err(Error::parse(format!(
             "no '{NATIVE_MAGIC} {NATIVE_VERSION}' line; this is not mortise's own CSV layout"
         ))
+        .field("mortise-frf line")
         .in_file(file));
     }
     if lines[..starts[0]].iter().any(|(_, l)| !l.trim().is_empty()) {

@@ -467,18 +467,18 @@ fn grid_key(freqs: &[f64]) -> Vec<u64> {
 #[derive(Default)]
 struct Groups {
     list: Vec<Group>,
-    index: HashMap<
-        (
-            u8,
-            &'static str,
-            Quantity,
-            Quantity,
-            Vec<u64>,
-            Option<SetTag>,
-        ),
-        usize,
-    >,
+    index: HashMap<HashKey, usize>,
 }
+
+/// A [`GroupKey`] as hashable values: role, quantities, grid bits, tag.
+type HashKey = (
+    u8,
+    &'static str,
+    Quantity,
+    Quantity,
+    Vec<u64>,
+    Option<SetTag>,
+);
 
 fn role_key(r: Role) -> (u8, &'static str) {
     match r {
