@@ -12,7 +12,7 @@
 
 mod parse_support;
 
-use mortise::error::Error;
+use mortise::error::{Error, ErrorKind};
 use mortise::frf::FrfSet;
 use mortise::io::{self, csv, uff58, ImportOptions};
 use parse_support::{dataset, pressure_map, sample, Counting};
@@ -210,9 +210,12 @@ pub fn every_parser(bytes: &[u8], file: &str) -> Vec<Error> {
     errors
 }
 
-/// An error names the file and a place in it.
+/// An error names the file and a place in it; a verdict on the whole
+/// file (empty, or another kind of file by its signature: kind
+/// `Unsupported`) has the file as its place.
 pub fn placed(e: &Error, file: &str) -> bool {
-    e.file.as_deref() == Some(file) && (e.location.is_some() || e.field.is_some())
+    e.file.as_deref() == Some(file)
+        && (e.location.is_some() || e.field.is_some() || e.kind == ErrorKind::Unsupported)
 }
 
 #[test]

@@ -290,24 +290,20 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     // every refusal names its place: the byte or line that decided it
     let fail = |m: String| Err(Error::unsupported(m).in_file(file));
     let fail_at = |m: String, byte: usize| Err(Error::unsupported(m).at_byte(byte).in_file(file));
+    // verdicts on the whole file (empty, another kind of file by its
+    // signature) have the file as their place
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
-        return fail_at(
-            format!(
-                "the file is empty{}; {ACCEPTED}",
-                if bytes.is_empty() {
-                    ""
-                } else {
-                    " (only white space)"
-                }
-            ),
-            0,
-        );
+        return fail(format!(
+            "the file is empty{}; {ACCEPTED}",
+            if bytes.is_empty() {
+                ""
+            } else {
+                " (only white space)"
+            }
+        ));
     }
     if let Some(what) = looks_like(bytes) {
-        return fail_at(
-            format!("this looks like {what}, not FRF data; {ACCEPTED}"),
-            0,
-        );
+        return fail(format!("this looks like {what}, not FRF data; {ACCEPTED}"));
     }
     if let Some(r) = uff_kind(bytes) {
         return r.map_err(|e| e.field("dataset number").in_file(file));
@@ -363,15 +359,15 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     if csv::looks_delimited(&text) {
         return Ok(Format::CsvMapped);
     }
-    let (line, first) = csv::text_lines(&text)
-        .enumerate()
-        .find(|(_, l)| !l.trim().is_empty())
-        .unwrap_or((0, ""));
+    // a verdict on the whole file: its place is the file
+    let first = csv::text_lines(&text)
+        .find(|l| !l.trim().is_empty())
+        .unwrap_or("")
+        .trim();
     fail(format!(
         "this looks like plain text without columns of numbers (it starts '{}'); {ACCEPTED}",
-        crate::error::quote(first.trim())
+        crate::error::quote(first)
     ))
-    .map_err(|e: Error| e.at_line(line + 1))
 }
 
 /// Give every DOF the component `c`, except the reference input of a spectrum.

@@ -480,7 +480,10 @@ pub fn read_mapped_with_limits(
     let go = || -> Result<FrfSet> {
         let text = decode_text(bytes);
         if text.trim().is_empty() {
-            return Err(Error::parse("the file is empty; expected rows of numbers").at_line(1));
+            // a verdict on the whole file, like detection's (its place is the file)
+            return Err(Error::unsupported(
+                "the file is empty; expected rows of numbers",
+            ));
         }
         let lines = numbered_lines(&text);
         let lay = layout(&lines, map)?;
