@@ -7,8 +7,8 @@
 //! the file and a place in it (line, byte or field).
 //!
 //! Longer, coverage-guided runs: the `fuzz/` crate (cargo-fuzz, nightly),
-//! see DEVELOPERS.md "Fuzzing". Crashes it found are kept in
-//! `tests/parse_fuzz_found.rs`.
+//! see DEVELOPERS.md "Fuzzing"; a crash it finds is kept as a regression
+//! test in `tests/`.
 
 mod parse_support;
 
