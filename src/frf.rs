@@ -120,7 +120,8 @@ impl Dof {
         };
         if rest.is_empty() {
             return Err(Error::dof(format!(
-                "DOF '{text}': missing node; expected component:node+X (directions X Y Z RX RY RZ, or none for a scalar point)"
+                "DOF '{}': missing node; expected component:node+X (directions X Y Z RX RY RZ, or none for a scalar point)",
+                crate::error::quote(text)
             )));
         }
         // split at the last '+' or '-' followed by a direction
@@ -142,7 +143,8 @@ impl Dof {
                 && dir_s.len() <= 2
             {
                 return Err(Error::dof(format!(
-                    "DOF '{text}': unknown direction '{dir_s}'; expected X, Y, Z, RX, RY or RZ"
+                    "DOF '{}': unknown direction '{dir_s}'; expected X, Y, Z, RX, RY or RZ",
+                    crate::error::quote(text)
                 )));
             }
         }
@@ -463,11 +465,14 @@ impl FrfSet {
         crate::grid::check_grid(&self.freqs)
             .map_err(|e| e.field(format!("frequency grid of '{}'", self.name)))?;
         for (what, dofs) in [("output", &self.outputs), ("input", &self.inputs)] {
-            for (a, d) in dofs.iter().enumerate() {
-                if dofs[..a].iter().any(|e| e.same_place(d)) {
+            // one pass with a set of places: linear in the DOF count
+            let mut seen = std::collections::HashSet::with_capacity(dofs.len());
+            for d in dofs {
+                if !seen.insert((d.component.as_str(), d.node.as_str(), d.dir)) {
                     return Err(Error::dof(format!(
-                        "'{}': {what} DOF {d} appears twice",
-                        self.name
+                        "'{}': {what} DOF {} appears twice",
+                        crate::error::quote(&self.name),
+                        crate::error::quote(&d.to_string())
                     )));
                 }
             }

@@ -158,7 +158,7 @@ impl UnitParser<'_> {
     fn err(&self, what: &str) -> Error {
         Error::unit(format!(
             "unit '{}': {what} at character {}; expected a unit such as m/s, mm, g, N, lbf, Pa, m/s^2, N/mm, rad, deg",
-            self.text,
+            crate::error::quote(self.text),
             self.pos + 1
         ))
     }
@@ -234,8 +234,9 @@ impl UnitParser<'_> {
             let name: String = self.chars[start..self.pos].iter().collect();
             atom(&name).ok_or_else(|| {
                 Error::unit(format!(
-                    "unit '{}': unknown unit name '{name}'; known: m s N Pa rad (with prefixes p n u m c d k M G), kg g in ft lbf deg Hz bar psi",
-                    self.text
+                    "unit '{}': unknown unit name '{}'; known: m s N Pa rad (with prefixes p n u m c d k M G), kg g in ft lbf deg Hz bar psi",
+                    crate::error::quote(self.text),
+                    crate::error::quote(&name)
                 ))
             })?
         };
@@ -416,7 +417,8 @@ impl Quantity {
             "dimensionless" | "1" | "ratio" => Quantity::Dimensionless,
             _ => {
                 return Err(Error::quantity(format!(
-                    "unknown quantity '{s}'; expected displacement, velocity, acceleration, force, pressure, volume-velocity or dimensionless"
+                    "unknown quantity '{}'; expected displacement, velocity, acceleration, force, pressure, volume-velocity or dimensionless",
+                    crate::error::quote(s)
                 )))
             }
         })
@@ -450,7 +452,7 @@ pub fn factor_for(text: &str, q: Quantity, rotational: bool) -> Result<f64> {
     }
     Err(Error::unit(format!(
         "unit '{}' does not measure {}{}; expected a unit of dimension {} such as {}",
-        text,
+        crate::error::quote(text),
         if rotational { "rotational " } else { "" },
         q,
         dim_text(want),
@@ -474,7 +476,7 @@ pub fn ratio_factor(
     }
     Err(Error::unit(format!(
         "unit '{}' does not fit {} per {}; expected dimension {} (SI: {}/{})",
-        text,
+        crate::error::quote(text),
         out,
         inp,
         dim_text(want),

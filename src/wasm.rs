@@ -288,7 +288,8 @@ pub fn csv_preview(
     if opts.column_map.is_none() {
         return to_json(&out);
     }
-    match io::load(bytes, name, &opts) {
+    let limits = WS.with(|ws| *ws.borrow().limits());
+    match io::load_with_limits(bytes, name, &opts, &limits) {
         Ok(loaded) => {
             let sum = summary::file_summary(name, bytes, &loaded);
             out["summary"] = serde_json::to_value(&sum).unwrap_or_default();

@@ -186,7 +186,8 @@ impl Workspace {
                 .in_file(name));
             }
         }
-        let loaded = io::load(bytes, name, &opts).map_err(|e| e.in_file(name))?;
+        let loaded =
+            io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
         let prefix = prefix_of("file", name);
         self.drop_prefix(&prefix);
@@ -505,7 +506,9 @@ impl Workspace {
                         e.in_file(inp.name.as_str())
                     };
                     let opts = import_options(&inp.options).map_err(carried)?;
-                    io::load(r, &inp.name, &opts).map_err(carried)?.sets
+                    io::load_with_limits(r, &inp.name, &opts, &self.limits)
+                        .map_err(carried)?
+                        .sets
                 }
                 (None, Some(s)) => s.clone(),
                 (None, None) => Vec::new(),

@@ -60,8 +60,13 @@ pub fn options(args: &Args) -> Result<AuditOptions> {
 
 fn read(path: &str, limits: &Limits) -> Result<Loaded> {
     let bytes = io::disk::read_file(std::path::Path::new(path), path, limits)?;
-    io::load(&bytes, &io::base_name(path), &ImportOptions::default())
-        .map_err(|e| as_data(e, ErrorKind::Parse).in_file(path))
+    io::load_with_limits(
+        &bytes,
+        &io::base_name(path),
+        &ImportOptions::default(),
+        limits,
+    )
+    .map_err(|e| as_data(e, ErrorKind::Parse).in_file(path))
 }
 
 fn with_file_warnings(set: &FrfSet, l: &Loaded) -> FrfSet {

@@ -286,7 +286,7 @@ pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Ve
                 mat_variables: None,
             },
             Ok(bytes) => {
-                let result = io::load(&bytes, p, opts).map_err(data);
+                let result = io::load_with_limits(&bytes, p, opts, limits).map_err(data);
                 let bundle = matches!(&result, Ok(l) if l.format == io::Format::Bundle);
                 let mat_variables = match (&result, &opts.mat) {
                     (Err(_), None) if io::mat::sniff(&bytes) => io::mat::variables(&bytes, p).ok(),

@@ -70,7 +70,8 @@ pub fn mat_map(args: &Args, signal: Option<SignalKind>) -> Result<Option<MatMap>
                 "give either --mat-map or the MAT-file options (--{o}, ...), not both"
             )));
         }
-        let bytes = crate::io::disk::read_file(Path::new(path), path, &super::limits::from_args(args)?)?;
+        let bytes =
+            crate::io::disk::read_file(Path::new(path), path, &super::limits::from_args(args)?)?;
         let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
             Error::parse(format!("not a MAT mapping: {e}"))
                 .at_line(e.line().max(1))

@@ -9,17 +9,19 @@
 //! reported. A DOF given once as `+Z` and once as `-Z` is one DOF: values
 //! from the second are negated onto the first's sign.
 
-use crate::error::{Error, Result};
+use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, FrfSet};
+use crate::limits::Limits;
 use num_complex::Complex64;
+use std::collections::HashMap;
 
 /// How a set is named in remarks: its name and the files it came from.
 fn who(s: &FrfSet) -> String {
-    let files: Vec<&str> = s.provenance.iter().map(|p| p.file.as_str()).collect();
+    let files: Vec<String> = s.provenance.iter().map(|p| quote(&p.file)).collect();
     if files.is_empty() {
-        format!("'{}'", s.name)
+        format!("'{}'", quote(&s.name))
     } else {
-        format!("'{}' ({})", s.name, files.join(", "))
+        format!("'{}' ({})", quote(&s.name), files.join(", "))
     }
 }
 
@@ -36,18 +38,40 @@ fn components(s: &FrfSet) -> Vec<String> {
     c
 }
 
-fn union(dofs: &mut Vec<Dof>, add: &[Dof]) {
-    for d in add {
-        if !dofs.iter().any(|e| e.same_place(d)) {
-            dofs.push(d.clone());
+/// Where a DOF is, whatever its sign (what [`Dof::same_place`] compares).
+type Place<'a> = (&'a str, &'a str, crate::frf::Direction);
+
+fn place(d: &Dof) -> Place<'_> {
+    (&d.component, &d.node, d.dir)
+}
+
+/// The union of the sets' DOFs in order of first appearance, and each
+/// place's index: one hash look-up per DOF, linear in their number.
+fn union<'a>(lists: impl Iterator<Item = &'a [Dof]>) -> (Vec<Dof>, HashMap<Place<'a>, usize>) {
+    let mut dofs = Vec::new();
+    let mut at = HashMap::new();
+    for list in lists {
+        for d in list {
+            at.entry(place(d)).or_insert_with(|| {
+                dofs.push(d.clone());
+                dofs.len() - 1
+            });
         }
     }
+    (dofs, at)
 }
 
 /// Merge sets with the same grid and quantities into one matrix over the union
 /// of their DOFs; entries no set provides stay missing. Returns the merged set
 /// and remarks naming duplicates (kept: the first) and gaps.
 pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
+    merge_with_limits(sets, &Limits::default())
+}
+
+/// [`merge`] with the merged matrix checked against `limits` before it is
+/// built: sets of distinct DOFs make a union whose matrix grows with the
+/// square of their number.
+pub fn merge_with_limits(sets: Vec<FrfSet>, limits: &Limits) -> Result<(FrfSet, Vec<String>)> {
     let Some(first) = sets.first() else {
         return Err(Error::usage("nothing to merge: no FRF sets given"));
     };
@@ -59,13 +83,15 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
     for s in &sets[1..] {
         let c = components(s);
         if c != comp0 {
+            let list = |c: &[String]| c.iter().map(|x| quote(x)).collect::<Vec<_>>().join(", ");
             return Err(Error::dof(format!(
                 "cannot merge {} with {}: they hold different components ({} vs {}); merge sets of one component only",
                 who(first),
                 who(s),
-                comp0.join(", "),
-                c.join(", ")
-            )));
+                list(&comp0),
+                list(&c)
+            ))
+            .field("components"));
         }
         if s.freqs.len() != first.freqs.len() {
             return Err(Error::grid(format!(
@@ -74,7 +100,8 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
                 first.freqs.len(),
                 who(s),
                 s.freqs.len()
-            )));
+            ))
+            .field("frequency grid"));
         }
         if let Some(k) = (0..s.freqs.len()).find(|&k| s.freqs[k] != first.freqs[k]) {
             return Err(Error::grid(format!(
@@ -84,7 +111,8 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
                 k + 1,
                 first.freqs[k],
                 s.freqs[k]
-            )));
+            ))
+            .field("frequency grid"));
         }
         if s.out_qty != first.out_qty || s.in_qty != first.in_qty {
             return Err(Error::quantity(format!(
@@ -95,7 +123,8 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
                 who(s),
                 s.out_qty,
                 s.in_qty
-            )));
+            ))
+            .field("quantities"));
         }
         if s.signal != first.signal {
             let name = |k: Option<crate::frf::SignalKind>| k.map(|k| k.name()).unwrap_or("FRF");
@@ -105,16 +134,24 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
                 name(first.signal),
                 who(s),
                 name(s.signal)
-            )));
+            ))
+            .field("signal"));
         }
     }
-    let mut outputs = Vec::new();
-    let mut inputs = Vec::new();
-    for s in &sets {
-        union(&mut outputs, &s.outputs);
-        union(&mut inputs, &s.inputs);
-    }
+    let (outputs, out_at) = union(sets.iter().map(|s| s.outputs.as_slice()));
+    let (inputs, in_at) = union(sets.iter().map(|s| s.inputs.as_slice()));
     let (n_out, n_in, n_lines) = (outputs.len(), inputs.len(), first.n_lines());
+    let any_coh = sets.iter().any(|s| s.coherence.is_some());
+    // the values, and the coherence (half a complex value per entry) if any
+    let values = crate::limits::product(&[n_lines, n_out, n_in])
+        .and_then(|v| v.checked_add(if any_coh { v / 2 + 1 } else { 0 }));
+    limits.check_values(
+        &format!(
+            "merging {} sets into one of {n_lines} lines × {n_out} outputs × {n_in} inputs",
+            sets.len()
+        ),
+        values,
+    )?;
     let mut m = FrfSet::zeros(
         &first.name,
         first.freqs.clone(),
@@ -126,7 +163,6 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
     m.signal = first.signal;
     m.data = vec![Complex64::new(f64::NAN, f64::NAN); n_lines * n_out * n_in];
     m.present = vec![false; n_out * n_in];
-    let any_coh = sets.iter().any(|s| s.coherence.is_some());
     let mut coh = if any_coh {
         Some(vec![f64::NAN; n_lines * n_out * n_in])
     } else {
@@ -136,18 +172,18 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
     let mut remarks = Vec::new();
     for (sn, s) in sets.iter().enumerate() {
         for (a, o) in s.outputs.iter().enumerate() {
-            let i = m.out_place(o).unwrap_or(0);
+            let i = out_at.get(&place(o)).copied().unwrap_or(0);
             for (b, inp) in s.inputs.iter().enumerate() {
                 if !s.is_present(a, b) {
                     continue;
                 }
-                let j = m.in_place(inp).unwrap_or(0);
+                let j = in_at.get(&place(inp)).copied().unwrap_or(0);
                 let cell = i * n_in + j;
                 if let Some(prev) = source[cell] {
                     remarks.push(format!(
                         "entry {} / {} is given by {} and by {}; kept the first",
-                        m.outputs[i],
-                        m.inputs[j],
+                        quote(&m.outputs[i].to_string()),
+                        quote(&m.inputs[j].to_string()),
                         who(&sets[prev]),
                         who(s)
                     ));
@@ -165,22 +201,34 @@ pub fn merge(sets: Vec<FrfSet>) -> Result<(FrfSet, Vec<String>)> {
             }
         }
     }
-    let missing = m.missing_entries();
-    if !missing.is_empty() {
-        let shown: Vec<_> = missing.iter().take(12).cloned().collect();
+    // counted, and only the first few named (not a label per missing entry)
+    let missing = m.present.iter().filter(|p| !**p).count();
+    if missing > 0 {
+        let shown: Vec<String> = (0..n_out * n_in)
+            .filter(|&c| !m.present[c])
+            .take(12)
+            .map(|c| {
+                format!(
+                    "{} / {}",
+                    quote(&m.outputs[c / n_in].to_string()),
+                    quote(&m.inputs[c % n_in].to_string())
+                )
+            })
+            .collect();
         remarks.push(format!(
-            "{} of {} entries of the merged '{}' remain missing: {}{}",
-            missing.len(),
+            "{missing} of {} entries of the merged '{}' remain missing: {}{}",
             n_out * n_in,
-            m.name,
+            quote(&m.name),
             shown.join(", "),
-            if missing.len() > 12 { ", ..." } else { "" }
+            if missing > 12 { ", ..." } else { "" }
         ));
     }
     m.coherence = coh;
+    // each record once, found by hash (thousands of sets may be merged)
+    let mut seen = std::collections::HashSet::new();
     for s in &sets {
         for p in &s.provenance {
-            if !m.provenance.contains(p) {
+            if seen.insert((&p.file, &p.sha256, &p.format, &p.options)) {
                 m.provenance.push(p.clone());
             }
         }

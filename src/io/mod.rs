@@ -136,7 +136,8 @@ pub fn parse_signal(text: &str) -> Result<SignalKind> {
         "psd" => SignalKind::Psd,
         _ => {
             return Err(Error::usage(format!(
-                "unknown signal kind '{text}'; expected peak, rms, autopower or psd"
+                "unknown signal kind '{}'; expected peak, rms, autopower or psd",
+                crate::error::quote(text)
             ))
             .field("signal"))
         }
@@ -217,12 +218,46 @@ const ACCEPTED: &str = "accepted: UFF dataset 58 or 58b (first line '-1', then '
 mortise's own CSV (first line '# mortise-frf 1'), a mortise bundle (JSON with \"format\": \"mortise-bundle\"), \
 delimited text of numbers (CSV/TSV) with a column map, or a level-5 MAT-file with a MAT mapping";
 
+/// A JSON reader's message for an error message: kept whole while short
+/// (it names the field and what was expected), cut by
+/// [`crate::error::quote`] when it is long, which happens when it echoes a
+/// long string from the input.
+pub(crate) fn json_message(e: &serde_json::Error) -> String {
+    let m = e.to_string();
+    if m.chars().count() <= 300 {
+        m.chars()
+            .map(|c| if c.is_control() { ' ' } else { c })
+            .collect()
+    } else {
+        crate::error::quote(&m)
+    }
+}
+
+/// The lines of bytes without their endings: LF, CR LF or a lone CR, in any
+/// mix (the UFF reader's cursor splits the same way).
+fn byte_lines(bytes: &[u8]) -> impl Iterator<Item = &[u8]> {
+    let mut rest = Some(bytes);
+    std::iter::from_fn(move || {
+        let t = rest?;
+        match t.iter().position(|&c| c == b'\n' || c == b'\r') {
+            Some(p) => {
+                let skip = if t[p..].starts_with(b"\r\n") { 2 } else { 1 };
+                rest = Some(&t[p + skip..]);
+                Some(&t[..p])
+            }
+            None => {
+                rest = None;
+                Some(t)
+            }
+        }
+    })
+}
+
 /// Dataset numbers of a UFF file, scanning the "-1" delimiter lines.
 fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
-    // first non-blank line must be "-1"
-    let mut lines = bytes
-        .split(|&b| b == b'\n')
-        .map(|l| l.strip_suffix(b"\r").unwrap_or(l));
+    // first non-blank line must be "-1" (after a byte-order mark, if any)
+    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
+    let mut lines = byte_lines(bytes);
     let first = lines.find(|l| !l.iter().all(|b| b.is_ascii_whitespace()))?;
     if first.trim_ascii() != b"-1" {
         return None;
@@ -246,7 +281,7 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
     }
     // another dataset first: look for a later 58/58b header
     let mut prev_delim = false;
-    for l in bytes.split(|&b| b == b'\n') {
+    for l in byte_lines(bytes) {
         let t = l.trim_ascii();
         if prev_delim {
             let tok = t.split(|b| b.is_ascii_whitespace()).next().unwrap_or(b"");
@@ -266,7 +301,11 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
 
 /// Detect the format from the bytes (not the extension).
 pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
+    // every refusal names its place: the byte or line that decided it
     let fail = |m: String| Err(Error::unsupported(m).in_file(file));
+    let fail_at = |m: String, byte: usize| Err(Error::unsupported(m).at_byte(byte).in_file(file));
+    // verdicts on the whole file (empty, another kind of file by its
+    // signature) have the file as their place
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return fail(format!(
             "the file is empty{}; {ACCEPTED}",
@@ -284,13 +323,16 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
         return Ok(Format::Mat);
     }
     if let Some(r) = uff_kind(bytes) {
-        return r.map_err(|e| e.in_file(file));
+        return r.map_err(|e| e.field("dataset number").in_file(file));
     }
     let head = &bytes[..bytes.len().min(4096)];
-    if head.contains(&0) {
-        return fail(format!(
-            "this looks like a binary file of unknown kind (it holds NUL bytes); {ACCEPTED}"
-        ));
+    if let Some(nul) = head.iter().position(|&b| b == 0) {
+        return fail_at(
+            format!(
+                "this looks like a binary file of unknown kind (it holds NUL bytes); {ACCEPTED}"
+            ),
+            nul,
+        );
     }
     let text = csv::decode_text(bytes);
     let t = text.trim_start();
@@ -299,12 +341,15 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
             Ok(v) => match v.get("format").and_then(|f| f.as_str()) {
                 Some(bundle::BUNDLE_FORMAT) => Ok(Format::Bundle),
                 Some(other) => fail(format!(
-                    "this is JSON with \"format\": \"{other}\", not a data file; expected \"{}\"; {ACCEPTED}",
+                    "this is JSON with \"format\": \"{}\", not a data file; expected \"{}\"; {ACCEPTED}",
+                    crate::error::quote(other),
                     bundle::BUNDLE_FORMAT
-                )),
+                ))
+                .map_err(|e: Error| e.field("format")),
                 None => fail(format!(
                     "this is JSON without a \"format\" field; {ACCEPTED}"
-                )),
+                ))
+                .map_err(|e: Error| e.field("format")),
             },
             // a damaged bundle: let the bundle reader say where it breaks
             Err(_)
@@ -315,8 +360,14 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
                 Ok(Format::Bundle)
             }
             Err(e) => fail(format!(
-                "this looks like JSON but does not parse ({e}); {ACCEPTED}"
-            )),
+                "this looks like JSON but does not parse ({}); {ACCEPTED}",
+                json_message(&e)
+            ))
+            // serde_json counts lines after the leading white space
+            .map_err(|x: Error| {
+                let skipped = csv::text_lines(&text[..text.len() - t.len()]).count() - 1;
+                x.at_line(e.line() + skipped)
+            }),
         };
     }
     if csv::is_native(&text) {
@@ -325,14 +376,14 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     if csv::looks_delimited(&text) {
         return Ok(Format::CsvMapped);
     }
-    let first = text
-        .lines()
-        .find(|l| !l.trim().is_empty())
-        .unwrap_or("")
-        .trim();
-    let shown: String = first.chars().take(60).collect();
+    // a verdict on the whole file: its place is the file. Its content is
+    // not quoted: it is not data, and it may be anything (a recipe may have
+    // named a file it should not have).
+    let lines = csv::text_lines(&text)
+        .filter(|l| !l.trim().is_empty())
+        .count();
     fail(format!(
-        "this looks like plain text without columns of numbers (it starts '{shown}'); {ACCEPTED}"
+        "this looks like plain text without columns of numbers ({lines} non-blank lines, none of them delimited numbers); {ACCEPTED}"
     ))
 }
 
@@ -362,7 +413,7 @@ fn check_declared(sets: &[FrfSet], k: SignalKind) -> Result<()> {
                 return Err(Error::usage(format!(
                     "set {} ('{}') of the file is a {} spectrum, but the import options declare {}; declare {} or leave \"signal\" out",
                     n + 1,
-                    s.name,
+                    crate::error::quote(&s.name),
                     have.name(),
                     k.name(),
                     have.name()
@@ -400,8 +451,21 @@ fn mat_options_misplaced(format: Format, opts: &ImportOptions) -> Error {
     Error::internal("MAT options checked for a MAT-file with a mapping")
 }
 
-/// Load one file. Errors name the file and the place in it.
+/// Load one file within the default [`Limits`](crate::limits::Limits).
+/// Errors name the file and the place in it.
 pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
+    load_with_limits(bytes, file, opts, &crate::limits::Limits::default())
+}
+
+/// [`load`] with every set a reader builds (UFF, our CSV, a supplier CSV)
+/// checked against `limits` before it is allocated. (A bundle's sets are
+/// read by [`bundle::read`].)
+pub fn load_with_limits(
+    bytes: &[u8],
+    file: &str,
+    opts: &ImportOptions,
+    limits: &crate::limits::Limits,
+) -> Result<Loaded> {
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
@@ -414,13 +478,18 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
             // the record-6 entity name, else the file stem
-            let (sets, w) =
-                uff58::read_declared(bytes, file, opts.component.as_deref(), opts.signal)?;
+            let (sets, w) = uff58::read_declared_with_limits(
+                bytes,
+                file,
+                opts.component.as_deref(),
+                opts.signal,
+                limits,
+            )?;
             warnings.extend(w);
             sets
         }
         Format::CsvNative => {
-            let mut sets = csv::read_native(bytes, file)?;
+            let mut sets = csv::read_native_with_limits(bytes, file, limits)?;
             if let Some(c) = &opts.component {
                 for s in &mut sets {
                     rename_component(s, c);
@@ -431,11 +500,10 @@ pub fn load(bytes: &[u8], file: &str, opts: &ImportOptions) -> Result<Loaded> {
         Format::CsvMapped => {
             let Some(map) = &opts.column_map else {
                 let text = csv::decode_text(bytes);
-                let head: Vec<String> = text
-                    .lines()
+                let head: Vec<String> = csv::text_lines(&text)
                     .filter(|l| !l.trim().is_empty())
                     .take(3)
-                    .map(|l| format!("'{}'", l.trim().chars().take(80).collect::<String>()))
+                    .map(|l| format!("'{}'", crate::error::quote(l.trim())))
                     .collect();
                 return Err(Error::usage(format!(
                     "this is delimited text but not mortise's own CSV layout, so it needs a column map: \
@@ -445,14 +513,16 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
 --unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json. The file starts: {}",
                     head.join(" | ")
                 ))
+                .field("column_map")
                 .in_file(file));
             };
-            vec![csv::read_mapped_as(
+            vec![csv::read_mapped_with_limits(
                 bytes,
                 file,
                 map,
                 &component,
                 opts.signal,
+                limits,
             )?]
         }
         Format::Mat => {
@@ -495,8 +565,12 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
     };
     for (n, s) in sets.iter_mut().enumerate() {
         s.validate().map_err(|e| {
-            e.field(format!("set {} ('{}')", n + 1, s.name))
-                .in_file(file)
+            e.field(format!(
+                "set {} ('{}')",
+                n + 1,
+                crate::error::quote(&s.name)
+            ))
+            .in_file(file)
         })?;
         // a reader may already have recorded this file (the UFF reader does,
         // with the format of each set); then only the options are completed

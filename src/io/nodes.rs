@@ -44,7 +44,16 @@ pub fn numbered(sets: &[FrfSet]) -> (Vec<FrfSet>, Vec<NodeNumber>) {
     }
     let mut map: BTreeMap<(String, String), u64> = BTreeMap::new();
     let mut order = Vec::new();
-    let mut next = max + 1;
+    // numbers above the largest; when that is u64::MAX (a node label of
+    // twenty digits), the free numbers from 1 up
+    let mut next = max.checked_add(1).unwrap_or(1);
+    let mut fresh = || loop {
+        let n = next;
+        next = next.checked_add(1).unwrap_or(1);
+        if !owner.contains_key(&n) {
+            return n;
+        }
+    };
     let mut out = sets.to_vec();
     for s in &mut out {
         for d in s.outputs.iter_mut().chain(s.inputs.iter_mut()) {
@@ -59,8 +68,7 @@ pub fn numbered(sets: &[FrfSet]) -> (Vec<FrfSet>, Vec<NodeNumber>) {
             }
             let key = (d.component.clone(), d.node.clone());
             let n = *map.entry(key.clone()).or_insert_with(|| {
-                let n = next;
-                next += 1;
+                let n = fresh();
                 order.push(NodeNumber {
                     component: key.0.clone(),
                     node: key.1.clone(),
@@ -140,5 +148,29 @@ mod tests {
             }]
         );
         crate::io::uff58::write(&o, false).unwrap();
+    }
+
+    #[test]
+    fn a_largest_node_of_u64_max_does_not_overflow() {
+        // robustness: a node label "18446744073709551615" (u64::MAX) used to
+        // make `max + 1` overflow (a panic with overflow checks); the text
+        // node then takes the lowest free number
+        let s = FrfSet::zeros(
+            "x",
+            vec![1.0],
+            vec![
+                Dof::new("w", &u64::MAX.to_string(), Direction::X),
+                Dof::new("w", "1", Direction::X),
+                Dof::new("w", "a", Direction::X),
+                Dof::new("w", "b", Direction::X),
+            ],
+            vec![Dof::new("w", "1", Direction::X)],
+            Quantity::Velocity,
+            Quantity::Force,
+        );
+        let (o, map) = numbered(&[s]);
+        let nodes: Vec<&str> = o[0].outputs.iter().map(|d| d.node.as_str()).collect();
+        assert_eq!(nodes, [u64::MAX.to_string().as_str(), "1", "2", "3"]);
+        assert_eq!(map.len(), 2);
     }
 }

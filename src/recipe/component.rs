@@ -171,7 +171,7 @@ pub(crate) fn load_component(
         s
     } else {
         let mut s = if let Some(file) = &spec.file {
-            load_file(name, file, spec, files)?
+            load_file(name, file, spec, files, limits)?
         } else if let Some(inline) = &spec.inline {
             let mut s = (**inline).clone();
             if let Some(c) = &spec.component {
@@ -220,6 +220,7 @@ fn load_file(
     file: &str,
     spec: &ComponentSpec,
     files: &dyn FileSource,
+    limits: &Limits,
 ) -> Result<FrfSet> {
     let bytes = files.read(file)?;
     let mut opts = spec.import.clone().unwrap_or_default();
@@ -235,7 +236,7 @@ fn load_file(
         }
         _ => {}
     }
-    let loaded = io::load(&bytes, file, &opts)?;
+    let loaded = io::load_with_limits(&bytes, file, &opts, limits)?;
     let n = loaded.sets.len();
     if n == 0 {
         return Err(Error::recipe(format!("file '{file}' holds no FRF set")));

@@ -35,7 +35,8 @@ impl Delimiter {
             "whitespace" | "space" | " " => Delimiter::Whitespace,
             _ => {
                 return Err(Error::usage(format!(
-                    "unknown delimiter '{s}'; expected auto, comma, semicolon, tab or space"
+                    "unknown delimiter '{}'; expected auto, comma, semicolon, tab or space",
+                    crate::error::quote(s)
                 )))
             }
         })
@@ -121,7 +122,8 @@ impl FreqUnit {
             "rad/s" | "rad-per-s" | "radps" => FreqUnit::RadPerS,
             _ => {
                 return Err(Error::usage(format!(
-                    "unknown frequency unit '{s}'; expected Hz, kHz or rad/s"
+                    "unknown frequency unit '{}'; expected Hz, kHz or rad/s",
+                    crate::error::quote(s)
                 )))
             }
         })
@@ -163,7 +165,8 @@ impl PhaseUnit {
             "rad" | "radian" | "radians" => PhaseUnit::Rad,
             _ => {
                 return Err(Error::usage(format!(
-                    "unknown phase unit '{s}'; expected deg or rad"
+                    "unknown phase unit '{}'; expected deg or rad",
+                    crate::error::quote(s)
                 )))
             }
         })
@@ -280,12 +283,13 @@ pub fn map_from_json(mut v: serde_json::Value) -> Result<(ColumnMap, Option<Sign
         }
         Some(other) => {
             return Err(Error::usage(format!(
-                "column_map.signal is {other}; expected peak, rms, autopower or psd"
+                "column_map.signal is {}; expected peak, rms, autopower or psd",
+                crate::error::quote(&other.to_string())
             ))
             .field("column_map.signal"))
         }
     };
     let map = serde_json::from_value::<ColumnMap>(v)
-        .map_err(|e| Error::usage(e.to_string()).field("column_map"))?;
+        .map_err(|e| Error::usage(crate::io::json_message(&e)).field("column_map"))?;
     Ok((map, legacy))
 }

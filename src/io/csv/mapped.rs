@@ -8,11 +8,13 @@
 //! dialog.
 
 use super::column_map::{ColumnMap, ColumnRef, Delimiter, MagScale, PhaseUnit, ValueColumns};
-use super::text::{decode_text, numbered_lines, parse_num};
-use crate::error::{Error, Result};
+use super::text::{decode_text, numbered_lines, parse_num, text_lines};
+use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, FrfSet, SignalKind};
+use crate::limits::Limits;
 use crate::units::{factor_for, ratio_factor, Quantity};
 use num_complex::Complex64;
+use std::collections::{HashMap, HashSet};
 
 pub(super) struct Layout<'a> {
     pub(super) delim: Delimiter,
@@ -72,7 +74,37 @@ pub(super) fn layout<'a>(lines: &[(usize, &'a str)], map: &ColumnMap) -> Result<
     })
 }
 
-fn resolve(c: &ColumnRef, header: &[String], role: &str) -> Result<usize> {
+/// The header's column names (ASCII case folded) to the first column of
+/// each name: resolving every map entry is one hash look-up, not a scan.
+struct HeaderIndex<'h> {
+    header: &'h [String],
+    first: HashMap<String, usize>,
+}
+
+impl<'h> HeaderIndex<'h> {
+    fn new(header: &'h [String]) -> Self {
+        let mut first = HashMap::with_capacity(header.len());
+        for (n, h) in header.iter().enumerate() {
+            first.entry(h.to_ascii_lowercase()).or_insert(n);
+        }
+        HeaderIndex { header, first }
+    }
+}
+
+/// The header's names as a message shows them: at most 8, each quoted.
+fn header_names(header: &[String]) -> String {
+    let mut shown: Vec<String> = header
+        .iter()
+        .take(8)
+        .map(|h| format!("'{}'", quote(h)))
+        .collect();
+    if header.len() > 8 {
+        shown.push(format!("... ({} columns in all)", header.len()));
+    }
+    shown.join(", ")
+}
+
+fn resolve(c: &ColumnRef, header: &HeaderIndex, role: &str) -> Result<usize> {
     match c {
         ColumnRef::Index(0) => Err(Error::usage(format!(
             "column 0 for {role}; columns count from 1"
@@ -80,19 +112,17 @@ fn resolve(c: &ColumnRef, header: &[String], role: &str) -> Result<usize> {
         .field(role.to_string())),
         ColumnRef::Index(n) => Ok(n - 1),
         ColumnRef::Name(s) => header
-            .iter()
-            .position(|h| h.eq_ignore_ascii_case(s))
+            .first
+            .get(&s.to_ascii_lowercase())
+            .copied()
             .ok_or_else(|| {
-                Error::parse(if header.is_empty() {
-                    format!("column '{s}' named, but there is no header line (give skip_rows or header_line, or use a column number)")
+                Error::parse(if header.header.is_empty() {
+                    format!("column '{}' named, but there is no header line (give skip_rows or header_line, or use a column number)", quote(s))
                 } else {
                     format!(
-                        "no column named '{s}'; the header has {}",
-                        header
-                            .iter()
-                            .map(|h| format!("'{h}'"))
-                            .collect::<Vec<_>>()
-                            .join(", ")
+                        "no column named '{}'; the header has {}",
+                        quote(s),
+                        header_names(header.header)
                     )
                 })
                 .field(role.to_string())
@@ -128,6 +158,7 @@ pub(super) fn plan(
         )
         .field("entries"));
     }
+    let header = &HeaderIndex::new(header);
     let freq = resolve(&map.freq, header, "frequency column")?;
     if let MagScale::Db { reference } = map.mag_scale {
         if !(reference.is_finite() && reference > 0.0) {
@@ -145,6 +176,11 @@ pub(super) fn plan(
     };
     let mut outputs: Vec<Dof> = Vec::new();
     let mut inputs: Vec<Dof> = Vec::new();
+    // DOF places (component, node, direction) to their index, and the
+    // slots taken: one hash look-up per entry, linear in the map's size
+    let mut out_at: HashMap<(String, String, crate::frf::Direction), usize> = HashMap::new();
+    let mut in_at: HashMap<(String, String, crate::frf::Direction), usize> = HashMap::new();
+    let mut taken: HashSet<(usize, usize)> = HashSet::new();
     let mut slots = Vec::new();
     let mut cols = Vec::new();
     for (n, e) in map.entries.iter().enumerate() {
@@ -155,35 +191,47 @@ pub(super) fn plan(
         } else {
             Dof::parse(&e.in_dof, component).map_err(|x| x.field(role("input DOF")))?
         };
-        let i = match outputs.iter().position(|d| d == &od) {
-            Some(i) => i,
+        let i = match out_at.get(&(od.component.clone(), od.node.clone(), od.dir)) {
+            Some(&i) if outputs[i] == od => i,
+            Some(_) => {
+                return Err(Error::dof(format!(
+                    "output {} appears with both signs; give each DOF one sign",
+                    quote(&od.to_string())
+                ))
+                .field(role("output DOF")))
+            }
             None => {
-                if outputs.iter().any(|d| d.same_place(&od)) {
-                    return Err(Error::dof(format!(
-                        "output {od} appears with both signs; give each DOF one sign"
-                    ))
-                    .field(role("output DOF")));
-                }
+                out_at.insert(
+                    (od.component.clone(), od.node.clone(), od.dir),
+                    outputs.len(),
+                );
                 outputs.push(od.clone());
                 outputs.len() - 1
             }
         };
-        let j = match inputs.iter().position(|d| d == &id) {
-            Some(j) => j,
+        let j = match in_at.get(&(id.component.clone(), id.node.clone(), id.dir)) {
+            Some(&j) if inputs[j] == id => j,
+            Some(_) => {
+                return Err(Error::dof(format!(
+                    "input {} appears with both signs; give each DOF one sign",
+                    quote(&id.to_string())
+                ))
+                .field(role("input DOF")))
+            }
             None => {
-                if inputs.iter().any(|d| d.same_place(&id)) {
-                    return Err(Error::dof(format!(
-                        "input {id} appears with both signs; give each DOF one sign"
-                    ))
-                    .field(role("input DOF")));
-                }
+                in_at.insert(
+                    (id.component.clone(), id.node.clone(), id.dir),
+                    inputs.len(),
+                );
                 inputs.push(id.clone());
                 inputs.len() - 1
             }
         };
-        if slots.contains(&(i, j)) {
+        if !taken.insert((i, j)) {
             return Err(Error::dof(format!(
-                "{od} / {id} is given twice; expected each FRF once"
+                "{} / {} is given twice; expected each FRF once",
+                quote(&od.to_string()),
+                quote(&id.to_string())
             ))
             .field(role("DOFs")));
         }
@@ -228,7 +276,13 @@ pub(super) fn plan(
             Some(c) => Some(resolve(c, header, &role("coherence"))?),
             None => None,
         };
-        cols.push((c, coh, factor, format!("{od} / {id}")));
+        // the label names the entry in messages: each DOF cut to a quote's length
+        cols.push((
+            c,
+            coh,
+            factor,
+            format!("{} / {}", quote(&od.to_string()), quote(&id.to_string())),
+        ));
     }
     Ok(Plan {
         freq,
@@ -364,7 +418,8 @@ pub(super) fn parse_rows(
                 return Err(Error::numeric(format!(
                     "{label} becomes {v} in SI; expected a finite value"
                 ))
-                .at_line(ln));
+                .at_line(ln)
+                .field("value columns"));
             }
             vals.push(v);
             let c = match coh {
@@ -407,10 +462,28 @@ pub fn read_mapped_as(
     component: &str,
     signal: Option<SignalKind>,
 ) -> Result<FrfSet> {
+    read_mapped_with_limits(bytes, file, map, component, signal, &Limits::default())
+}
+
+/// [`read_mapped_as`] with the set's lines × outputs × inputs checked
+/// against `limits` before it is allocated: a map of n entries on distinct
+/// DOFs makes an n × n matrix, so the set can grow with the square of the
+/// map's size.
+pub fn read_mapped_with_limits(
+    bytes: &[u8],
+    file: &str,
+    map: &ColumnMap,
+    component: &str,
+    signal: Option<SignalKind>,
+    limits: &Limits,
+) -> Result<FrfSet> {
     let go = || -> Result<FrfSet> {
         let text = decode_text(bytes);
         if text.trim().is_empty() {
-            return Err(Error::parse("the file is empty; expected rows of numbers"));
+            // a verdict on the whole file, like detection's (its place is the file)
+            return Err(Error::unsupported(
+                "the file is empty; expected rows of numbers",
+            ));
         }
         let lines = numbered_lines(&text);
         let lay = layout(&lines, map)?;
@@ -419,10 +492,20 @@ pub fn read_mapped_as(
             return Err(Error::parse(format!(
                 "no data rows after skipping {} lines",
                 map.skip_rows
-            )));
+            ))
+            .field("skip_rows"));
         }
-        let parsed = parse_rows(&lay.data, lay.delim, map, &p)?;
         let name = map.name.clone().unwrap_or_else(|| component.to_string());
+        // every data row counts (an upper bound of the lines read)
+        limits
+            .check_set(
+                &format!("the set '{}' the column map asks for", quote(&name)),
+                lay.data.len(),
+                p.outputs.len(),
+                p.inputs.len(),
+            )
+            .map_err(|e| e.field("entries"))?;
+        let parsed = parse_rows(&lay.data, lay.delim, map, &p)?;
         let mut s = FrfSet::zeros(
             &name,
             parsed.freqs,
@@ -451,7 +534,8 @@ pub fn read_mapped_as(
         }
         s.signal = signal;
         s.warnings = parsed.warnings;
-        let missing = s.missing_entries().len();
+        // counted, not listed: a label per missing entry would be square in the map's size
+        let missing = s.present.iter().filter(|p| !**p).count();
         if missing > 0 {
             s.warnings.push(format!(
                 "{missing} of {} matrix entries are not in the file and stay missing",
@@ -468,7 +552,7 @@ pub fn read_mapped_as(
 /// with the auto delimiter: a candidate for [`read_mapped`].
 pub fn looks_delimited(text: &str) -> bool {
     let mut numeric_rows = 0;
-    for l in text.lines().take(400) {
+    for l in text_lines(text).take(400) {
         let t = l.trim();
         if t.is_empty() || t.starts_with('#') {
             continue;

@@ -76,7 +76,9 @@ pub use column_map::{
     map_from_json, ColumnMap, ColumnRef, Delimiter, FreqUnit, MagScale, MapEntry, PhaseUnit,
     ValueColumns,
 };
-pub use mapped::{looks_delimited, read_mapped, read_mapped_as};
-pub use native::{is_native, read_native, write_native, NATIVE_MAGIC, NATIVE_VERSION};
+pub use mapped::{looks_delimited, read_mapped, read_mapped_as, read_mapped_with_limits};
+pub use native::{
+    is_native, read_native, read_native_with_limits, write_native, NATIVE_MAGIC, NATIVE_VERSION,
+};
 pub use preview::{preview, preview_as, Preview, PreviewRow, PreviewValues};
-pub use text::{decode_text, fmt_f64};
+pub use text::{decode_text, fmt_f64, text_lines};

@@ -5,10 +5,12 @@
 //! Not here: suppliers' files (`mapped.rs`).
 
 use super::text::{
-    decode_text, esc, fmt_f64, numbered_lines, parse_num, quote_cell, split_quoted, unesc,
+    decode_text, esc, fmt_f64, numbered_lines, parse_num, quote_cell, split_quoted, text_lines,
+    unesc,
 };
-use crate::error::{Error, Result};
+use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
+use crate::limits::Limits;
 use crate::units::Quantity;
 use num_complex::Complex64;
 
@@ -19,14 +21,14 @@ pub const NATIVE_VERSION: u32 = 1;
 
 /// True when the text starts (after blank lines) with our magic line.
 pub fn is_native(text: &str) -> bool {
-    text.lines()
+    text_lines(text)
         .map(str::trim)
         .find(|l| !l.is_empty())
         .is_some_and(|l| l.starts_with(NATIVE_MAGIC))
 }
 
-fn entry_label(s: &FrfSet, i: usize, j: usize) -> String {
-    format!("{}/{}", s.outputs[i], s.inputs[j])
+fn entry_label(out: &Dof, inp: &Dof) -> String {
+    format!("{out}/{inp}")
 }
 
 fn dof_line(out: &mut String, side: &str, d: &Dof) -> Result<()> {
@@ -94,7 +96,7 @@ pub fn write_native(sets: &[FrfSet]) -> Result<Vec<u8>> {
         for i in 0..s.n_out() {
             for j in 0..s.n_in() {
                 if s.is_present(i, j) {
-                    let l = entry_label(s, i, j);
+                    let l = entry_label(&s.outputs[i], &s.inputs[j]);
                     head.push(quote_cell(&format!("re {l}"), ','));
                     head.push(quote_cell(&format!("im {l}"), ','));
                     if coh.is_some() {
@@ -145,8 +147,16 @@ struct Header {
     warnings: Vec<String>,
 }
 
-/// Read every block of our own layout.
+/// Read every block of our own layout, within the default [`Limits`].
 pub fn read_native(bytes: &[u8], file: &str) -> Result<Vec<FrfSet>> {
+    read_native_with_limits(bytes, file, &Limits::default())
+}
+
+/// Read every block of our own layout; each block's lines × outputs ×
+/// inputs is checked against `limits` before its set is allocated (an
+/// over-budget block is an [`ErrorKind::Budget`](crate::error::ErrorKind::Budget)
+/// error at its magic line).
+pub fn read_native_with_limits(bytes: &[u8], file: &str, limits: &Limits) -> Result<Vec<FrfSet>> {
     let text = decode_text(bytes);
     let lines = numbered_lines(&text);
     let starts: Vec<usize> = lines
@@ -159,6 +169,7 @@ pub fn read_native(bytes: &[u8], file: &str) -> Result<Vec<FrfSet>> {
         return Err(Error::parse(format!(
             "no '{NATIVE_MAGIC} {NATIVE_VERSION}' line; this is not mortise's own CSV layout"
         ))
+        .field("mortise-frf line")
         .in_file(file));
     }
     if lines[..starts[0]].iter().any(|(_, l)| !l.trim().is_empty()) {
@@ -176,18 +187,19 @@ pub fn read_native(bytes: &[u8], file: &str) -> Result<Vec<FrfSet>> {
     let mut sets = Vec::new();
     for (b, &st) in starts.iter().enumerate() {
         let end = starts.get(b + 1).copied().unwrap_or(lines.len());
-        let s = read_block(&lines[st..end]).map_err(|e| e.in_file(file))?;
+        let s = read_block(&lines[st..end], limits).map_err(|e| e.in_file(file))?;
         sets.push(s);
     }
     Ok(sets)
 }
 
-fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
+fn read_block(lines: &[(usize, &str)], limits: &Limits) -> Result<FrfSet> {
     let (magic_line, magic) = lines[0];
     let ver = magic.trim()[NATIVE_MAGIC.len()..].trim();
     if ver != NATIVE_VERSION.to_string() {
         return Err(Error::unsupported(format!(
-            "layout version '{ver}'; this mortise reads version {NATIVE_VERSION}"
+            "layout version '{}'; this mortise reads version {NATIVE_VERSION}",
+            quote(ver)
         ))
         .at_line(magic_line)
         .field("mortise-frf version"));
@@ -219,13 +231,14 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
         let body = body.trim_start();
         let Some((key, value)) = body.split_once(':') else {
             return Err(Error::parse(format!(
-                "header line '{t}' has no ':'; expected '# key: value'"
+                "header line '{}' has no ':'; expected '# key: value'",
+                quote(t)
             ))
             .at_line(ln));
         };
         let key = key.trim();
         let value = value.strip_prefix(' ').unwrap_or(value);
-        let err = |m: String| Error::parse(m).at_line(ln).field(key.to_string());
+        let err = |m: String| Error::parse(m).at_line(ln).field(quote(key));
         match key {
             "name" => h.name = Some(unesc(value)),
             "out-quantity" => h.out_qty = Some(Quantity::parse(value).map_err(|e| e.at_line(ln).field(key))?),
@@ -234,7 +247,7 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             "signal" => {
                 h.signal = Some(
                     crate::io::parse_signal(value)
-                        .map_err(|e| err(format!("'{}': {}", value.trim(), e.message)))?,
+                        .map_err(|e| err(format!("'{}': {}", quote(value.trim()), e.message)))?,
                 )
             }
             "output" | "input" => {
@@ -247,7 +260,7 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             }
             "output-json" | "input-json" => {
                 let d: Dof = serde_json::from_str(value)
-                    .map_err(|e| err(format!("not a DOF in JSON: {e}")))?;
+                    .map_err(|e| err(format!("not a DOF in JSON: {}", crate::io::json_message(&e))))?;
                 if key == "output-json" {
                     h.outputs.push(d)
                 } else {
@@ -263,7 +276,7 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
                     _ => {
                         return Err(err(format!(
                             "'{}'; expected two 1-based indices, output then input",
-                            value.trim()
+                            quote(value.trim())
                         )))
                     }
                 }
@@ -271,16 +284,22 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             "coherence" => match value.trim() {
                 "yes" => h.coherence = true,
                 "no" => h.coherence = false,
-                o => return Err(err(format!("'{o}'; expected yes or no"))),
+                o => return Err(err(format!("'{}'; expected yes or no", quote(o)))),
             },
             "provenance" => h.provenance.push(
                 serde_json::from_str(value)
-                    .map_err(|e| err(format!("not a provenance record in JSON: {e}")))?,
+                    .map_err(|e| {
+                        err(format!(
+                            "not a provenance record in JSON: {}",
+                            crate::io::json_message(&e)
+                        ))
+                    })?,
             ),
             "warning" => h.warnings.push(unesc(value)),
             other => {
                 return Err(err(format!(
-                    "unknown header key '{other}'; expected name, out-quantity, in-quantity, units, signal, output, input, missing, coherence, provenance or warning"
+                    "unknown header key '{}'; expected name, out-quantity, in-quantity, units, signal, output, input, missing, coherence, provenance or warning",
+                    quote(other)
                 )))
             }
         }
@@ -299,7 +318,8 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
         Some("SI") => {}
         Some(u) => {
             return Err(Error::unit(format!(
-                "units '{u}'; this layout always holds SI values ('# units: SI')"
+                "units '{}'; this layout always holds SI values ('# units: SI')",
+                quote(u)
             ))
             .at_line(magic_line)
             .field("units"))
@@ -319,7 +339,10 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
         .at_line(magic_line));
     }
     let (n_out, n_in) = (h.outputs.len(), h.inputs.len());
-    let mut present = vec![true; n_out * n_in];
+    // Counts first, labels later: a header of a few thousand DOF lines
+    // claims millions of entries, so nothing of size outputs × inputs is
+    // built before the claim is checked against the columns and the budget.
+    let mut missing = std::collections::HashSet::with_capacity(h.missing.len());
     for &(i, j, ln) in &h.missing {
         if i >= n_out || j >= n_in {
             return Err(Error::parse(format!(
@@ -330,34 +353,49 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             .at_line(ln)
             .field("missing"));
         }
-        present[i * n_in + j] = false;
+        missing.insert((i, j));
     }
     // column header row
     let Some(&(head_ln, head)) = lines.get(p) else {
         return Err(Error::parse("no column-header row after the header lines")
             .at_line(lines.last().map_or(magic_line, |l| l.0)));
     };
+    let data_rows = lines[p + 1..]
+        .iter()
+        .filter(|(_, l)| !l.trim().is_empty())
+        .count();
+    let name = h.name.clone().unwrap_or_default();
+    limits
+        .check_set(&format!("set '{}'", quote(&name)), data_rows, n_out, n_in)
+        .map_err(|e| e.at_line(magic_line))?;
+    let per = if h.coherence { 3 } else { 2 };
+    // both fit in memory (the budget above), so their product is counted
+    let n_entries = n_out.saturating_mul(n_in).saturating_sub(missing.len());
+    let n_cols = n_entries.saturating_mul(per).saturating_add(1);
     let cells: Vec<String> = split_quoted(head, ',')
         .into_iter()
         .map(|c| c.trim().to_string())
         .collect();
-    let per = if h.coherence { 3 } else { 2 };
-    let mut expect = vec!["freq_Hz".to_string()];
-    let name = h.name.clone().unwrap_or_default();
-    let mut tmp = FrfSet::zeros(
-        &name,
-        Vec::new(),
-        h.outputs.clone(),
-        h.inputs.clone(),
-        out_qty,
-        in_qty,
-    );
-    tmp.present = present.clone();
-    let mut entries = Vec::new();
+    if cells.len() != n_cols {
+        return Err(Error::parse(format!(
+            "{} columns; the header lines call for {n_cols} (freq_Hz, then {per} per present entry for {n_entries} entries)",
+            cells.len(),
+        ))
+        .at_line(head_ln)
+        .field("column-header row"));
+    }
+    // the columns are real now: everything below is linear in the file's size
+    let mut present = vec![true; n_out * n_in];
+    for &(i, j) in &missing {
+        present[i * n_in + j] = false;
+    }
+    let mut expect = Vec::with_capacity(n_cols);
+    expect.push("freq_Hz".to_string());
+    let mut entries = Vec::with_capacity(n_entries);
     for i in 0..n_out {
         for j in 0..n_in {
             if present[i * n_in + j] {
-                let l = entry_label(&tmp, i, j);
+                let l = entry_label(&h.outputs[i], &h.inputs[j]);
                 expect.push(format!("re {l}"));
                 expect.push(format!("im {l}"));
                 if h.coherence {
@@ -367,22 +405,15 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
             }
         }
     }
-    if cells.len() != expect.len() {
-        return Err(Error::parse(format!(
-            "{} columns; the header lines call for {} (freq_Hz, then {} per present entry for {} entries)",
-            cells.len(),
-            expect.len(),
-            per,
-            entries.len()
-        ))
-        .at_line(head_ln)
-        .field("column-header row"));
-    }
     for (c, (got, want)) in cells.iter().zip(&expect).enumerate() {
         if got != want {
-            return Err(Error::parse(format!("found '{got}', expected '{want}'"))
-                .at_line(head_ln)
-                .field(format!("column {}", c + 1)));
+            return Err(Error::parse(format!(
+                "found '{}', expected '{}'",
+                quote(got),
+                quote(want)
+            ))
+            .at_line(head_ln)
+            .field(format!("column {}", c + 1)));
         }
     }
     // data rows
@@ -433,9 +464,11 @@ fn read_block(lines: &[(usize, &str)]) -> Result<FrfSet> {
                 continue;
             }
             let v = parse_num(cell, "value").map_err(|m| {
-                Error::numeric(m)
-                    .at_line(ln)
-                    .field(format!("column {} ({})", c + 1, expect[c]))
+                Error::numeric(m).at_line(ln).field(format!(
+                    "column {} ({})",
+                    c + 1,
+                    quote(&expect[c])
+                ))
             })?;
             vals.push(v);
         }

@@ -91,21 +91,48 @@ pub(super) fn split_quoted(line: &str, delim: char) -> Vec<String> {
     cells
 }
 
-/// Lines without their ending, numbered from 1.
+/// Lines without their ending, numbered from 1. A line ends at CR LF, LF
+/// or a lone CR (old Mac exports), in any mix; like `str::split`, text
+/// that ends with a line ending gives a last, empty line.
 pub(super) fn numbered_lines(text: &str) -> Vec<(usize, &str)> {
-    text.split('\n')
+    text_lines(text)
         .enumerate()
-        .map(|(n, l)| (n + 1, l.strip_suffix('\r').unwrap_or(l)))
+        .map(|(n, l)| (n + 1, l))
         .collect()
+}
+
+/// The lines of `text` without their endings (CR LF, LF or a lone CR).
+pub fn text_lines(text: &str) -> impl Iterator<Item = &str> {
+    let mut rest = Some(text);
+    std::iter::from_fn(move || {
+        let t = rest?;
+        match t.find(['\r', '\n']) {
+            Some(p) => {
+                let skip = if t[p..].starts_with("\r\n") { 2 } else { 1 };
+                rest = Some(&t[p + skip..]);
+                Some(&t[..p])
+            }
+            None => {
+                rest = None;
+                Some(t)
+            }
+        }
+    })
 }
 
 pub(super) fn parse_num(cell: &str, what: &str) -> std::result::Result<f64, String> {
     let t = cell.trim();
     match t.parse::<f64>() {
         Ok(v) if v.is_finite() => Ok(v),
-        Ok(v) => Err(format!("{what} is {v} ('{t}'); expected a finite number")),
+        Ok(v) => Err(format!(
+            "{what} is {v} ('{}'); expected a finite number",
+            crate::error::quote(t)
+        )),
         Err(_) if t.is_empty() => Err(format!("{what} is empty; expected a number")),
-        Err(_) => Err(format!("{what} is '{t}'; expected a number")),
+        Err(_) => Err(format!(
+            "{what} is '{}'; expected a number",
+            crate::error::quote(t)
+        )),
     }
 }
 
@@ -129,6 +156,16 @@ mod tests {
         assert_eq!(decode_text("µm".as_bytes()), "µm");
         assert_eq!(decode_text(&"aµ".as_bytes()[..2]), "a");
         assert_eq!(decode_text(b"\xEF\xBB\xBFfreq"), "freq");
+    }
+
+    #[test]
+    fn every_line_ending_and_their_mix() {
+        let got: Vec<&str> = text_lines("a\r\nb\rc\nd\r\re").collect();
+        assert_eq!(got, ["a", "b", "c", "d", "", "e"]);
+        let got: Vec<&str> = text_lines("a\n").collect();
+        assert_eq!(got, ["a", ""]);
+        assert_eq!(text_lines("").count(), 1);
+        assert_eq!(numbered_lines("x\ry")[1], (2, "y"));
     }
 
     #[test]

@@ -87,7 +87,7 @@ pub(super) fn axis_quantity(
             "specific data type {} ({}) with units label '{}' does not tell the quantity; expected 8 (displacement), 9 (reaction force), 11 (velocity), 12 (acceleration), 13 (excitation force) or 15 (pressure), or a units label such as m/s",
             ax.code,
             data_type_name(ax.code),
-            ax.units
+            crate::error::quote(&ax.units)
         ))
         .field(format!("record {rec}, specific data type"))
         .at_line(ds.record_line(rec))
@@ -151,7 +151,8 @@ pub(super) fn frf_factor(
         return Ok(u.factor);
     }
     Err(Error::unit(format!(
-        "units label '{l9}' does not fit record 9's data type {} ({}); expected a unit of {} such as {} (or of the ratio, such as {}/{})",
+        "units label '{}' does not fit record 9's data type {} ({}); expected a unit of {} such as {} (or of the ratio, such as {}/{})",
+        crate::error::quote(l9),
         ds.axes[1].code,
         data_type_name(ds.axes[1].code),
         oq,
@@ -195,7 +196,8 @@ pub(super) fn spectrum_factor(
         return Ok(u.factor);
     }
     Err(Error::unit(format!(
-        "units label '{l9}' does not fit record 9's data type {} ({}) for a {}; expected dimension {} such as {si}",
+        "units label '{}' does not fit record 9's data type {} ({}) for a {}; expected dimension {} such as {si}",
+        crate::error::quote(l9),
         ds.axes[1].code,
         data_type_name(ds.axes[1].code),
         function_type_name(ds.func_type).unwrap_or("function"),
@@ -238,7 +240,7 @@ pub(super) fn frequencies(file: &str, ds: &Dataset58, rm: &mut Remarks) -> Resul
         if u.dim != Dim::new(0, 0, -1, 0) {
             return Err(Error::unit(format!(
                 "abscissa units label '{}' is not a frequency unit; expected Hz",
-                ax.units
+                crate::error::quote(&ax.units)
             ))
             .field("record 8, axis units label")
             .at_line(ds.record_line(8))

@@ -14,8 +14,10 @@ use super::records::{function_type_name, Dataset58};
 use super::scan::parse_datasets;
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
+use crate::limits::Limits;
 use crate::units::Quantity;
 use num_complex::Complex64;
+use std::collections::{HashMap, HashSet};
 
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Role {
@@ -25,17 +27,22 @@ enum Role {
 }
 
 /// Groups warnings that repeat over many datasets into one line each.
+/// Kept in the order first seen; the index makes adding linear in the
+/// number of remarks, however many distinct ones a file provokes.
 #[derive(Default)]
 pub(super) struct Remarks {
     items: Vec<(String, Vec<usize>)>,
+    index: HashMap<String, usize>,
 }
 
 impl Remarks {
     pub(super) fn add(&mut self, msg: String, line: usize) {
-        if let Some(it) = self.items.iter_mut().find(|(m, _)| *m == msg) {
-            it.1.push(line);
-        } else {
-            self.items.push((msg, vec![line]));
+        match self.index.get(&msg) {
+            Some(&n) => self.items[n].1.push(line),
+            None => {
+                self.index.insert(msg.clone(), self.items.len());
+                self.items.push((msg, vec![line]));
+            }
         }
     }
     fn render(&self, file: &str) -> Vec<String> {
@@ -206,6 +213,20 @@ pub fn read_declared(
     component: Option<&str>,
     declared: Option<SignalKind>,
 ) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    read_declared_with_limits(bytes, file, component, declared, &Limits::default())
+}
+
+/// Like [`read_declared`], with each set's lines × outputs × inputs checked
+/// against `limits` before it is allocated: datasets of distinct DOF pairs
+/// on one grid make a matrix whose size grows with the square of their
+/// number, so a small file can ask for gigabytes.
+pub fn read_declared_with_limits(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+    limits: &Limits,
+) -> Result<(Vec<FrfSet>, Vec<String>)> {
     let stem = crate::io::file_stem(file);
     let comp_of = |entity: &str| -> String {
         match component {
@@ -222,7 +243,7 @@ pub fn read_declared(
         .field("dataset number")
         .in_file(file));
     }
-    let mut groups: Vec<Group> = Vec::new();
+    let mut groups = Groups::default();
     // (response, reference, grid, values, line, set tag)
     type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize, Option<SetTag>);
     let mut coherences: Vec<Coh> = Vec::new();
@@ -335,8 +356,12 @@ pub fn read_declared(
         _ => stem.clone(),
     };
     let mut sets: Vec<FrfSet> = Vec::new();
-    for g in groups.iter_mut() {
-        let mut s = build_set(file, g, &default_name);
+    // places of each set's DOFs, for the coherence below
+    let mut places: Vec<(DofIndex, DofIndex)> = Vec::new();
+    let mut names = UniqueNames::default();
+    for g in groups.list.iter_mut() {
+        let (mut s, outs, ins) = build_set(file, g, &default_name, limits)?;
+        places.push((outs, ins));
         let mut p = prov_base.clone();
         p.format = if g.entries.iter().any(|e| e.binary) {
             "uff58-binary"
@@ -349,36 +374,48 @@ pub fn read_declared(
             .iter()
             .flat_map(|e| e.ids.iter().map(|t| t.as_str()))
             .collect();
+        // each record once, found by hash (a group may carry thousands)
+        let mut seen = HashSet::new();
         for q in provenance_from_lines(&lines) {
-            if !s.provenance.contains(&q) {
+            let key = (
+                q.file.clone(),
+                q.sha256.clone(),
+                q.format.clone(),
+                q.options.clone(),
+            );
+            if seen.insert(key) {
                 s.provenance.push(q);
             }
         }
         s.provenance.push(p);
-        if sets.iter().any(|o| o.name == s.name) {
-            let label = match g.role {
-                Role::Spectrum(_) => "spectrum".to_string(),
-                _ => s.kind().name().to_string(),
-            };
-            s.name = format!("{} ({label})", s.name);
-            let base = s.name.clone();
-            let mut n = 2;
-            while sets.iter().any(|o| o.name == s.name) {
-                s.name = format!("{base} {n}");
-                n += 1;
-            }
-        }
+        let label = match g.role {
+            Role::Spectrum(_) => "spectrum",
+            _ => s.kind().name(),
+        };
+        s.name = names.unique(std::mem::take(&mut s.name), label);
         sets.push(s);
     }
-    // coherence onto the matching FRF entries
+    // coherence onto the matching FRF entries: only the groups of the same
+    // grid and tag are candidates (found by hash), DOFs by their places
+    let mut by_grid: HashMap<(Vec<u64>, Option<SetTag>), Vec<usize>> = HashMap::new();
+    for (n, g) in groups.list.iter().enumerate() {
+        if g.role == Role::Frf {
+            by_grid
+                .entry((grid_key(&g.freqs), g.tag.clone()))
+                .or_default()
+                .push(n);
+        }
+    }
     for (out, inp, freqs, v, line, tag) in coherences {
         let mut done = false;
-        for (g, s) in groups.iter().zip(sets.iter_mut()) {
-            if g.role != Role::Frf || s.freqs != freqs || g.tag != tag {
-                continue;
-            }
-            let i = s.out_place(&out);
-            let j = s.in_place(&inp);
+        let candidates = by_grid
+            .get(&(grid_key(&freqs), tag))
+            .map(Vec::as_slice)
+            .unwrap_or(&[]);
+        for &n in candidates {
+            let s = &mut sets[n];
+            let i = places[n].0.get(&place(&out)).copied();
+            let j = places[n].1.get(&place(&inp)).copied();
             if let (Some(i), Some(j)) = (i, j) {
                 let n = s.data.len();
                 let (n_out, n_in) = (s.n_out(), s.n_in());
@@ -392,7 +429,11 @@ pub fn read_declared(
         }
         if !done {
             file_rm.add(
-                format!("coherence {out} / {inp} has no FRF with the same DOFs and grid; skipped"),
+                format!(
+                    "coherence {} / {} has no FRF with the same DOFs and grid; skipped",
+                    crate::error::quote(&out.to_string()),
+                    crate::error::quote(&inp.to_string())
+                ),
                 line,
             );
         }
@@ -415,14 +456,46 @@ pub fn read_declared(
 
 type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);
 
-fn push_entry(groups: &mut Vec<Group>, key: GroupKey, e: Entry, rm: Remarks) {
+/// A grid as hashable bits (values are finite, checked by the parser;
+/// -0 is 0 as `==` says).
+fn grid_key(freqs: &[f64]) -> Vec<u64> {
+    freqs.iter().map(|f| (f + 0.0).to_bits()).collect()
+}
+
+/// The groups in order of first appearance, found by hash: grouping is
+/// linear in the number of datasets however many groups they form.
+#[derive(Default)]
+struct Groups {
+    list: Vec<Group>,
+    index: HashMap<HashKey, usize>,
+}
+
+/// A [`GroupKey`] as hashable values: role, quantities, grid bits, tag.
+type HashKey = (
+    u8,
+    &'static str,
+    Quantity,
+    Quantity,
+    Vec<u64>,
+    Option<SetTag>,
+);
+
+fn role_key(r: Role) -> (u8, &'static str) {
+    match r {
+        Role::Frf => (0, ""),
+        Role::Coherence => (1, ""),
+        Role::Spectrum(k) => (2, k.name()),
+    }
+}
+
+fn push_entry(groups: &mut Groups, key: GroupKey, e: Entry, rm: Remarks) {
     let (role, oq, iq, freqs, tag) = key;
-    let g = match groups.iter_mut().position(|g| {
-        g.role == role && g.out_qty == oq && g.in_qty == iq && g.freqs == freqs && g.tag == tag
-    }) {
-        Some(p) => &mut groups[p],
+    let (rk, rs) = role_key(role);
+    let hk = (rk, rs, oq, iq, grid_key(&freqs), tag.clone());
+    let n = match groups.index.get(&hk) {
+        Some(&n) => n,
         None => {
-            groups.push(Group {
+            groups.list.push(Group {
                 role,
                 out_qty: oq,
                 in_qty: iq,
@@ -431,10 +504,11 @@ fn push_entry(groups: &mut Vec<Group>, key: GroupKey, e: Entry, rm: Remarks) {
                 entries: Vec::new(),
                 remarks: Remarks::default(),
             });
-            let n = groups.len() - 1;
-            &mut groups[n]
+            groups.index.insert(hk, groups.list.len() - 1);
+            groups.list.len() - 1
         }
     };
+    let g = &mut groups.list[n];
     for (m, lines) in rm.items {
         for l in lines {
             g.remarks.add(m.clone(), l);
@@ -443,27 +517,87 @@ fn push_entry(groups: &mut Vec<Group>, key: GroupKey, e: Entry, rm: Remarks) {
     g.entries.push(e);
 }
 
-fn build_set(file: &str, g: &mut Group, default_name: &str) -> FrfSet {
+/// Where a DOF is, whatever its sign: what [`Dof::same_place`] compares.
+type Place = (String, String, crate::frf::Direction);
+type DofIndex = HashMap<Place, usize>;
+
+fn place(d: &Dof) -> Place {
+    (d.component.clone(), d.node.clone(), d.dir)
+}
+
+/// Set names made unique in order: a name already taken gets the set's kind
+/// (`casing (accelerance)`), then a number (`casing (accelerance) 2`, 3,
+/// ...). A counter per base name keeps this linear in the number of sets.
+#[derive(Default)]
+struct UniqueNames {
+    used: HashSet<String>,
+    next: HashMap<String, usize>,
+}
+
+impl UniqueNames {
+    fn unique(&mut self, name: String, label: &str) -> String {
+        if self.used.insert(name.clone()) {
+            return name;
+        }
+        let base = format!("{name} ({label})");
+        if self.used.insert(base.clone()) {
+            return base;
+        }
+        let n = self.next.entry(base.clone()).or_insert(2);
+        loop {
+            let cand = format!("{base} {n}");
+            *n += 1;
+            if self.used.insert(cand.clone()) {
+                return cand;
+            }
+        }
+    }
+}
+
+/// The set of a group, with the places of its outputs and inputs.
+fn build_set(
+    file: &str,
+    g: &mut Group,
+    default_name: &str,
+    limits: &Limits,
+) -> Result<(FrfSet, DofIndex, DofIndex)> {
     let mut outputs: Vec<Dof> = Vec::new();
     let mut inputs: Vec<Dof> = Vec::new();
+    let mut out_at = DofIndex::new();
+    let mut in_at = DofIndex::new();
     for e in &g.entries {
-        if !outputs.iter().any(|d| d.same_place(&e.out)) {
+        out_at.entry(place(&e.out)).or_insert_with(|| {
             outputs.push(e.out.clone());
-        }
-        if !inputs.iter().any(|d| d.same_place(&e.inp)) {
+            outputs.len() - 1
+        });
+        in_at.entry(place(&e.inp)).or_insert_with(|| {
             inputs.push(e.inp.clone());
-        }
+            inputs.len() - 1
+        });
     }
     let n_lines = g.freqs.len();
     let (n_out, n_in) = (outputs.len(), inputs.len());
+    limits
+        .check_set(
+            &format!(
+                "the set of {} datasets starting with the dataset at line {}",
+                g.entries.len(),
+                g.entries[0].line
+            ),
+            n_lines,
+            n_out,
+            n_in,
+        )
+        .map_err(|e| e.at_line(g.entries[0].line).in_file(file))?;
     let mut s = FrfSet::zeros(
         default_name,
-        g.freqs.clone(),
+        Vec::new(),
         outputs,
         inputs,
         g.out_qty,
         g.in_qty,
     );
+    s.freqs = g.freqs.clone();
     s.data = vec![Complex64::new(f64::NAN, f64::NAN); n_lines * n_out * n_in];
     s.present = vec![false; n_out * n_in];
     if let Role::Spectrum(k) = g.role {
@@ -471,15 +605,17 @@ fn build_set(file: &str, g: &mut Group, default_name: &str) -> FrfSet {
     }
     let mut first_line = vec![0usize; n_out * n_in];
     for e in &g.entries {
-        let i = s.out_place(&e.out).unwrap_or(0);
-        let j = s.in_place(&e.inp).unwrap_or(0);
+        let i = out_at.get(&place(&e.out)).copied().unwrap_or(0);
+        let j = in_at.get(&place(&e.inp)).copied().unwrap_or(0);
         let sign = e.out.sign() * s.outputs[i].sign() * e.inp.sign() * s.inputs[j].sign();
         let m = i * n_in + j;
         if s.present[m] {
             g.remarks.add(
                 format!(
                     "duplicates {} / {} of the dataset at line {}; kept the first",
-                    s.outputs[i], s.inputs[j], first_line[m]
+                    crate::error::quote(&s.outputs[i].to_string()),
+                    crate::error::quote(&s.inputs[j].to_string()),
+                    first_line[m]
                 ),
                 e.line,
             );
@@ -500,7 +636,7 @@ fn build_set(file: &str, g: &mut Group, default_name: &str) -> FrfSet {
         s.name = first.clone();
     }
     s.warnings = g.remarks.render(file);
-    s
+    Ok((s, out_at, in_at))
 }
 
 #[cfg(test)]

@@ -27,9 +27,13 @@ pub(super) struct Cursor<'a> {
 }
 
 impl<'a> Cursor<'a> {
+    /// A cursor at the start of the file, after a UTF-8 byte-order mark
+    /// if there is one (byte offsets stay those of the file).
     pub(super) fn new(b: &'a [u8]) -> Self {
-        Cursor { b, pos: 0, line: 1 }
+        let pos = if b.starts_with(BOM) { BOM.len() } else { 0 };
+        Cursor { b, pos, line: 1 }
     }
+    /// The next line; a line ends at LF, CR LF or a lone CR, in any mix.
     pub(super) fn next_line(&mut self) -> Option<Line<'a>> {
         if self.pos >= self.b.len() {
             return None;
@@ -37,17 +41,14 @@ impl<'a> Cursor<'a> {
         let start = self.pos;
         let end = self.b[start..]
             .iter()
-            .position(|&c| c == b'\n')
+            .position(|&c| c == b'\n' || c == b'\r')
             .map(|p| start + p)
             .unwrap_or(self.b.len());
-        let mut content = &self.b[start..end];
-        if let Some(stripped) = content.strip_suffix(b"\r") {
-            content = stripped;
-        }
-        self.pos = if end < self.b.len() {
-            end + 1
-        } else {
-            self.b.len()
+        let content = &self.b[start..end];
+        self.pos = match self.b.get(end) {
+            None => self.b.len(),
+            Some(b'\r') if self.b.get(end + 1) == Some(&b'\n') => end + 2,
+            Some(_) => end + 1,
         };
         let no = self.line;
         self.line += 1;
@@ -64,18 +65,23 @@ impl<'a> Cursor<'a> {
     }
 }
 
-/// A printable preview of a line for messages.
+/// The UTF-8 byte-order mark some editors put at the start of a text file.
+pub(super) const BOM: &[u8] = b"\xEF\xBB\xBF";
+
+/// A printable preview of a line for messages, the byte counterpart of
+/// [`crate::error::quote`]: at most [`crate::error::QUOTE_CHARS`] bytes,
+/// those outside printable ASCII as `\xNN`, then "… (N bytes)" when cut.
 pub(super) fn preview(bytes: &[u8]) -> String {
     let mut s = String::new();
-    for &c in bytes.iter().take(40) {
+    for &c in bytes.iter().take(crate::error::QUOTE_CHARS) {
         if (0x20..0x7f).contains(&c) {
             s.push(c as char);
         } else {
             s.push_str(&format!("\\x{c:02x}"));
         }
     }
-    if bytes.len() > 40 {
-        s.push_str("...");
+    if bytes.len() > crate::error::QUOTE_CHARS {
+        s.push_str(&format!("… ({} bytes)", bytes.len()));
     }
     s
 }
