@@ -47,7 +47,8 @@ async function addFile(name, bytes, options) {
     if (options) entry.options = options;
   }
   await loadEntry(entry);
-  if (entry.error && /\.(csv|tsv|txt)$/i.test(name) && /column/i.test(entry.error.message || '') && !restoring) {
+  // the core says when a file needs a column map (its error's field); any other error stays on the card
+  if (entry.error && entry.error.field === 'column_map' && !restoring) {
     openMapping(entry);
   }
 }
