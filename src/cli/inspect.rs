@@ -46,12 +46,27 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: Some(mat),
+            auto_map: false,
         });
     }
     let any_col = super::spec::IMPORT_OPTS
         .iter()
         .filter(|o| o.name != "component" && o.name != "map" && o.name != "signal")
         .any(|o| args.flag(o.name));
+    if args.value("map") == Some("auto") {
+        if any_col {
+            return Err(Error::usage(
+                "give either --map auto or the column options (--freq-col, --re, ...), not both",
+            ));
+        }
+        return Ok(ImportOptions {
+            component,
+            signal,
+            column_map: None,
+            mat: None,
+            auto_map: true,
+        });
+    }
     if let Some(path) = args.value("map") {
         if any_col {
             return Err(Error::usage(
@@ -70,6 +85,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
             mat: None,
+            auto_map: false,
         });
     }
     if !any_col {
@@ -78,6 +94,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: None,
+            auto_map: false,
         });
     }
     for name in [
@@ -253,6 +270,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         signal,
         column_map: Some(m),
         mat: None,
+        auto_map: false,
     })
 }
 

@@ -97,8 +97,11 @@ pub const IMPORT_OPTS: &[Opt] = &[
     ),
     val(
         "map",
-        "MAP.json",
-        "a saved column map (JSON, as in a recipe's \"column_map\"), instead of the options below",
+        "MAP.json|auto",
+        "a saved column map (JSON, as in a recipe's \"column_map\"), instead of the options below; \
+         'auto' detects it from the file's column names and units (H_<out>_<in>_re/_im, \
+         <name> Re/Im, _mag/_phase, K'/eta pairs; a unit in brackets or on a title line) and \
+         reports how in the file's warnings",
     ),
     val(
         "delim",

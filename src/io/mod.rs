@@ -72,6 +72,11 @@ pub struct ImportOptions {
     /// MAT-file mapping; required for MAT-files, refused for other files.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mat: Option<mat::MatMap>,
+    /// Read a supplier CSV through the map [`csv::detect_map`] proposes
+    /// from its column names and units (JSON `"column_map": "auto"`, CLI
+    /// `--map auto`); refused with a column map and for other formats.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub auto_map: bool,
 }
 
 /// The JSON form of [`ImportOptions`] as read (the column map is taken
@@ -87,6 +92,8 @@ struct ImportOptionsJson {
     column_map: Option<serde_json::Value>,
     #[serde(default)]
     mat: Option<serde_json::Value>,
+    #[serde(default)]
+    auto_map: bool,
 }
 
 fn signal_from_json<'de, D: serde::Deserializer<'de>>(
@@ -104,8 +111,13 @@ fn signal_from_json<'de, D: serde::Deserializer<'de>>(
 impl TryFrom<ImportOptionsJson> for ImportOptions {
     type Error = String;
     fn try_from(j: ImportOptionsJson) -> std::result::Result<Self, String> {
+        let mut auto_map = j.auto_map;
         let (column_map, in_map) = match j.column_map {
             None | Some(serde_json::Value::Null) => (None, None),
+            Some(serde_json::Value::String(s)) if s == "auto" => {
+                auto_map = true;
+                (None, None)
+            }
             Some(v) => {
                 let (m, s) = csv::map_from_json(v).map_err(|e| match e.field {
                     Some(f) => format!("{f}: {}", e.message),
@@ -122,6 +134,7 @@ impl TryFrom<ImportOptionsJson> for ImportOptions {
                 None | Some(serde_json::Value::Null) => None,
                 Some(v) => Some(mat::map_from_json(v).map_err(|e| e.message)?),
             },
+            auto_map,
         })
     }
 }
@@ -474,6 +487,14 @@ pub fn load_with_limits(
     {
         return Err(mat_options_misplaced(format, opts).in_file(file));
     }
+    if opts.auto_map && format != Format::CsvMapped {
+        return Err(Error::usage(format!(
+            "a detected column map (\"auto\") is for delimited text that is not mortise's own CSV; this file is {}, which needs none",
+            format.name()
+        ))
+        .field("column_map")
+        .in_file(file));
+    }
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
@@ -498,7 +519,25 @@ pub fn load_with_limits(
             sets
         }
         Format::CsvMapped => {
-            let Some(map) = &opts.column_map else {
+            let detected;
+            let map = if opts.auto_map {
+                if opts.column_map.is_some() {
+                    return Err(Error::usage(
+                        "the import options ask for a detected column map (\"auto\") and give one; give one of them",
+                    )
+                    .field("column_map")
+                    .in_file(file));
+                }
+                detected = csv::detect_map(bytes, file)?;
+                warnings.push(format!(
+                    "column map detected from the file: {}",
+                    detected.reasons.join("; ")
+                ));
+                Some(&detected.map)
+            } else {
+                opts.column_map.as_ref()
+            };
+            let Some(map) = map else {
                 let text = csv::decode_text(bytes);
                 let head: Vec<String> = csv::text_lines(&text)
                     .filter(|l| !l.trim().is_empty())

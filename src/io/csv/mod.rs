@@ -66,12 +66,14 @@
 //! supplier file through a map (and [`looks_delimited`]); `preview.rs` the
 //! import dialog's preview; `text.rs` the text helpers both layouts share.
 
+mod auto;
 mod column_map;
 mod mapped;
 mod native;
 mod preview;
 mod text;
 
+pub use auto::{detect_map, Detected};
 pub use column_map::{
     map_from_json, ColumnMap, ColumnRef, Delimiter, FreqUnit, MagScale, MapEntry, PhaseUnit,
     ValueColumns,
