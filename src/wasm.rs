@@ -268,7 +268,9 @@ pub fn clear_workspace() {
 /// preview (first rows split into cells, the values the column map gives
 /// them, or why it gives none), the default column map as a template, and,
 /// when the options read the whole file, its summary and a plot of its first
-/// curve; otherwise the error.
+/// curve; otherwise the error. Without a column map in the options, also
+/// the map the core detects from the file (`detected`: `{map, reasons}`) or
+/// why it cannot (`detect_error`), for the dialog to start from.
 #[wasm_bindgen]
 pub fn csv_preview(
     name: &str,
@@ -281,6 +283,12 @@ pub fn csv_preview(
     let template = serde_json::to_value(io::csv::ColumnMap::default())
         .map_err(|e| js_err(Error::io(e.to_string())))?;
     let mut out = serde_json::json!({ "template": template });
+    if opts.column_map.is_none() {
+        match io::csv::detect_map(bytes, name) {
+            Ok(d) => out["detected"] = serde_json::to_value(&d).unwrap_or_default(),
+            Err(e) => out["detect_error"] = serde_json::to_value(&e).unwrap_or_default(),
+        }
+    }
     match io::csv::preview_as(bytes, name, &map, opts.signal, rows.clamp(1, 200)) {
         Ok(p) => out["preview"] = serde_json::to_value(&p).unwrap_or_default(),
         Err(e) => out["error"] = serde_json::to_value(&e).unwrap_or_default(),

@@ -142,7 +142,10 @@ fn a_file_of_h_out_in_re_im_columns_maps_like_its_hand_map() {
 #[test]
 fn what_cannot_be_told_from_the_file_is_refused_plainly() {
     for (text, says) in [
-        ("1,2,3\n4,5,6\n7,8,9\n", "no line of column names above the data"),
+        (
+            "1,2,3\n4,5,6\n7,8,9\n",
+            "no line of column names above the data",
+        ),
         (
             "f,H_1_1_re,H_1_1_im\n1,2,3\n4,5,6\n7,8,9\n",
             "no unit of the values found",
@@ -151,7 +154,10 @@ fn what_cannot_be_told_from_the_file_is_refused_plainly() {
             "f [Hz],alpha,beta\n1,2,3\n4,5,6\n7,8,9\n",
             "no pair of value columns recognised",
         ),
-        ("just words\nmore words\n", "plain text without columns of numbers"),
+        (
+            "just words\nmore words\n",
+            "plain text without columns of numbers",
+        ),
     ] {
         let e = io::load(text.as_bytes(), "s.csv", &auto()).unwrap_err();
         assert!(e.to_string().contains(says), "{text:?}: {e}");

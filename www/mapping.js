@@ -81,7 +81,16 @@ function mapOptions() {
 function schedulePreview() { clearTimeout(mapTimer); mapTimer = setTimeout(() => preview(false), 200); }
 async function preview(first) {
   const r = await Bridge.callJson('csv_preview', [mapEntry.name, mapEntry.bytes, JSON.stringify(mapOptions()), 20], 'previewing').catch((e) => ({ error: e }));
+  // the dialog starts from the map the core detects from the file, with its reasons
+  if (first && !mapState && r.detected) { mapState = r.detected.map; schedulePreview(); }
   if (first && !mapState && r.template) mapState = r.template;
+  if (first) {
+    const why = $('map-detected');
+    clear(why);
+    if (r.detected) why.append(el('strong', {}, 'Filled in from the file; check each line: '), el('ul', {}, ...r.detected.reasons.map((t) => el('li', {}, t))));
+    else if (r.detect_error) why.append(el('strong', {}, 'Not detected from the file: '), r.detect_error.message);
+    why.hidden = !(r.detected || r.detect_error);
+  }
   const tbl = $('map-table');
   clear(tbl);
   const p = r.preview;

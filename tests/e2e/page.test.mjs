@@ -294,6 +294,27 @@ test('a supplier CSV opens the column-mapping dialog with a live preview', async
   } finally { await s.close(); }
 });
 
+test('a supplier CSV is mapped by detection alone: the dialog opens filled in from the file, with its reasons', async () => {
+  const s = await open();
+  try {
+    const data = readFileSync(join(ROOT, 'sample-frf/wall-accelerance.csv'));
+    await addFiles(s.page, [{ name: 'wall-accelerance.csv', data }]);
+    await s.page.waitForSelector('#map-dialog[open]');
+    await s.page.waitForSelector('#map-detected:not([hidden])');
+    const why = await s.page.textContent('#map-detected');
+    assert.match(why, /Filled in from the file/);
+    assert.match(why, /values in g\/N/);
+    assert.match(why, /16 FRF/);
+    await s.page.waitForFunction(() => !document.getElementById('map-ok').disabled, null, { timeout: 10000 });
+    await shot(s.page, '08-mapping-detected');
+    await s.page.click('#map-ok');
+    await s.page.waitForFunction(() => { const c = document.querySelector('.card[data-file="wall-accelerance.csv"]'); return c && !c.classList.contains('failed') && /accelerance/.test(c.textContent); }, null, { timeout: 20000 });
+    const card = await s.page.textContent('.card[data-file="wall-accelerance.csv"]');
+    assert.match(card, /16/);
+    assert.match(card, /991 lines/);
+  } finally { await s.close(); }
+});
+
 test('the assembly panel suggests joints by node label and writes a recipe that runs', async () => {
   const s = await open();
   try {

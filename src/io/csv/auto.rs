@@ -103,6 +103,10 @@ fn take_apart(name: &str) -> Option<(String, Role)> {
             }
         }
     }
+    // a file of one FRF: the name is the role alone ("Re", "Im")
+    if let Some(r) = role_word(n) {
+        return Some((String::new(), r));
+    }
     if n.len() > 2 && n.starts_with('|') && n.ends_with('|') {
         return Some((n[1..n.len() - 1].trim().to_string(), Role::Mag));
     }
@@ -159,6 +163,13 @@ fn dof_text(part: &str) -> String {
 /// driving point, as a stiffness column of one direction).
 fn dofs_of(base: &str) -> (String, String, &'static str) {
     let parts: Vec<&str> = base.split(SEPARATORS).filter(|s| !s.is_empty()).collect();
+    if parts.is_empty() {
+        return (
+            "1".into(),
+            "1".into(),
+            "one FRF whose columns name no DOF: point '1' at both ends, give the real DOFs",
+        );
+    }
     match parts.len() {
         0 | 1 => {
             let d = dof_text(base);
