@@ -184,7 +184,7 @@ function renderJoints(r, cur) {
   const head = $('joints-head');
   clear(head);
   head.append(el('tr', {}, el('th', {}, 'DOF a'), el('th', {}, 'DOF b'), el('th', {}, 'joint'),
-    ...params.map((p) => el('th', { title: paramDocs(p) }, p)), el('th', {})));
+    ...params.map((p) => el('th', { title: paramDocs(p) }, p)), el('th', {}, el('span', { class: 'visually-hidden' }, 'delete'))));
   const body = $('joints-body');
   clear(body);
   if (!cur) return;
@@ -201,17 +201,17 @@ function renderJoints(r, cur) {
     const written = typeof j.type === 'string';
     const type = written ? j.type : inferredType(si, jk, ji, j);
     const info = jointInfo(type);
-    const dofSel = (key) => el('select', { 'data-key': key, onchange: (e) => editJoint(si, ji, type, (x) => { x[key] = e.target.value; }, true) },
+    const dofSel = (key) => el('select', { 'data-key': key, 'aria-label': `joint ${ji + 1}, DOF ${key}`, onchange: (e) => editJoint(si, ji, type, (x) => { x[key] = e.target.value; }, true) },
       ...(typeof j[key] === 'string' && j[key] ? [] : [el('option', { value: '' }, '—')]),
       ...[...new Set([j[key], ...dofs])].filter((d) => typeof d === 'string' && d).map((d) => el('option', { value: d, selected: d === j[key] || null }, d)));
-    const typeSel = el('select', { 'data-key': 'type', title: info?.summary || '', onchange: (e) => setJointType(si, ji, type, e.target.value, st.id) },
+    const typeSel = el('select', { 'data-key': 'type', 'aria-label': `joint ${ji + 1}, type`, title: info?.summary || '', onchange: (e) => setJointType(si, ji, type, e.target.value, st.id) },
       ...(info ? [] : [el('option', { value: '' }, type ? `${type} (unknown)` : '(no type written)')]),
       ...VOCAB.joint_types.map((t) => el('option', { value: t.name, selected: t.name === type || null, title: t.summary }, t.name)));
     body.append(el('tr', { 'data-joint': ji },
       el('td', {}, dofSel('a')), el('td', {}, dofSel('b')),
       el('td', {}, typeSel, written || !type ? null : el('div', { class: 'muted small' }, 'type read from its parameters')),
       ...params.map((p) => el('td', {}, paramInput(si, ji, j, type, info, p))),
-      el('td', {}, el('button', { class: 'btn small', title: 'delete this joint', onclick: () => editRecipe((rr) => { rr.steps[si][jk].splice(ji, 1); }) }, '✕'))));
+      el('td', {}, el('button', { class: 'btn small', title: 'delete this joint', 'aria-label': `delete joint ${ji + 1} (${j.a || '?'} to ${j.b || '?'})`, onclick: () => editRecipe((rr) => { rr.steps[si][jk].splice(ji, 1); }) }, '✕'))));
   });
 }
 function paramInput(si, ji, j, type, info, p) {
@@ -221,6 +221,7 @@ function paramInput(si, ji, j, type, info, p) {
   const set = (val) => editJoint(si, ji, type, (x) => { if (val === undefined) delete x[p]; else x[p] = val; }, false);
   const attrs = {
     'data-param': p,
+    'aria-label': `joint ${ji + 1}, ${p}`,
     // a parameter the type does not take stays editable while it holds a value, so it can be cleared
     disabled: (!takes && v === undefined) || null,
     class: !takes && v !== undefined ? 'invalid' : null,
@@ -284,10 +285,10 @@ function renderSteps(r) {
     }
     const info = opInfo(st.op);
     const shapes = opShapes(st.op);
-    const opSel = el('select', { class: 'step-op', title: info?.summary || 'not an operation the core knows', onchange: (e) => changeOp(si, e.target.value) },
+    const opSel = el('select', { class: 'step-op', 'aria-label': `step ${si + 1}, operation`, title: info?.summary || 'not an operation the core knows', onchange: (e) => changeOp(si, e.target.value) },
       ...(info ? [] : [el('option', { value: '' }, `${st.op ?? '(no op)'} (unknown)`)]),
       ...VOCAB.operations.map((o) => el('option', { value: o.name, selected: o.name === st.op || null, title: o.summary }, o.name)));
-    const idIn = el('input', { class: 'step-id', value: typeof st.id === 'string' ? st.id : '', size: 12, title: 'step id',
+    const idIn = el('input', { class: 'step-id', 'aria-label': `step ${si + 1}, id`, value: typeof st.id === 'string' ? st.id : '', size: 12, title: 'step id',
       onchange: (e) => editRecipe((rr) => { if (S.asmStep === rr.steps[si].id) S.asmStep = e.target.value; rr.steps[si].id = e.target.value; }) });
     box.append(el('div', { class: 'stage asm-step', 'data-step': typeof st.id === 'string' ? st.id : '' },
       el('div', { class: 'step-head' }, el('span', { class: 'step-no' }, `${si + 1}.`), idIn, opSel,

@@ -22,8 +22,9 @@ function openMapping(entry) {
   $('map-dialog').showModal();
 }
 function field(label, input) { return el('label', {}, label, ' ', input); }
-function select(value, options, on) {
-  return el('select', { onchange: (e) => on(e.target.value) },
+function select(value, options, label, on) {
+  if (typeof label === 'function') { on = label; label = null; }
+  return el('select', { 'aria-label': label, onchange: (e) => on(e.target.value) },
     ...options.map(([v, t]) => el('option', { value: v, selected: v === value || null }, t)));
 }
 function renderMapForm() {
@@ -57,11 +58,11 @@ function renderMapForm() {
     const v = en.values;
     const cols = v.form === 're-im' ? ['re', 'im'] : v.form === 'mag-phase' ? ['mag', 'phase'] : ['value'];
     ebox.append(el('div', { class: 'stage' },
-      el('input', { value: en.out_dof, size: 10, placeholder: 'output DOF', title: 'output DOF, e.g. A1+Z', oninput: (e) => upd((x) => { en.out_dof = x; })(e.target.value) }),
-      el('input', { value: en.in_dof, size: 10, placeholder: 'input DOF', title: 'input DOF (ignored for spectra)', oninput: (e) => upd((x) => { en.in_dof = x; })(e.target.value) }),
-      select(v.form, forms, upd((x) => { en.values = x === 're-im' ? { form: x, re: 2, im: 3 } : x === 'mag-phase' ? { form: x, mag: 2, phase: 3 } : { form: x, value: 2 }; renderMapForm(); })),
-      ...cols.map((c) => el('input', { value: colText(v[c]), size: 4, title: c + ' column', placeholder: c, oninput: (e) => upd((x) => { v[c] = colRef(x); })(e.target.value) })),
-      el('button', { class: 'btn small', type: 'button', onclick: () => { m.entries.splice(i, 1); renderMapForm(); syncJson(); schedulePreview(); } }, '✕')));
+      el('input', { value: en.out_dof, size: 10, 'aria-label': `FRF ${i + 1}, output DOF`, placeholder: 'output DOF', title: 'output DOF, e.g. A1+Z', oninput: (e) => upd((x) => { en.out_dof = x; })(e.target.value) }),
+      el('input', { value: en.in_dof, size: 10, 'aria-label': `FRF ${i + 1}, input DOF`, placeholder: 'input DOF', title: 'input DOF (ignored for spectra)', oninput: (e) => upd((x) => { en.in_dof = x; })(e.target.value) }),
+      select(v.form, forms, `FRF ${i + 1}, value columns`, upd((x) => { en.values = x === 're-im' ? { form: x, re: 2, im: 3 } : x === 'mag-phase' ? { form: x, mag: 2, phase: 3 } : { form: x, value: 2 }; renderMapForm(); })),
+      ...cols.map((c) => el('input', { value: colText(v[c]), size: 4, 'aria-label': `FRF ${i + 1}, ${c} column`, title: c + ' column', placeholder: c, oninput: (e) => upd((x) => { v[c] = colRef(x); })(e.target.value) })),
+      el('button', { class: 'btn small', type: 'button', 'aria-label': `remove FRF ${i + 1} (${en.out_dof} / ${en.in_dof})`, onclick: () => { m.entries.splice(i, 1); renderMapForm(); syncJson(); schedulePreview(); } }, '✕')));
   });
   ebox.append(el('button', { class: 'btn small', type: 'button', onclick: () => {
     const n = m.entries.length;
