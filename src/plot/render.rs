@@ -57,6 +57,14 @@ pub fn draw<DB: DrawingBackend>(
     Ok(frames)
 }
 
+/// The most stacked groups one plot draws: curves of more quantities than
+/// this are refused (each group needs a readable height).
+pub const MAX_AXIS_GROUPS: usize = 4;
+
+/// Curves of different quantities or references never share a y axis: each
+/// group of one unit (one dB reference when levels are drawn) gets its own
+/// panels, stacked, on the same frequency axis. A Nyquist view shows one
+/// quantity or is refused.
 fn draw_frf<DB: DrawingBackend>(
     b: &mut DB,
     spec: &PlotSpec,
@@ -64,8 +72,56 @@ fn draw_frf<DB: DrawingBackend>(
     curves: &[Curve],
     (left, top, right, bottom): (i32, i32, i32, i32),
 ) -> Result<Vec<Frame>> {
-    // Curves of different quantities share one axis only with their own
-    // reference or unit named in the legend.
+    let levels = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
+    let key = |c: &Curve| {
+        if levels {
+            c.db_label.clone()
+        } else {
+            c.unit.clone()
+        }
+    };
+    let mut groups: Vec<(String, Vec<Curve>)> = Vec::new();
+    for c in curves {
+        let k = key(c);
+        match groups.iter_mut().find(|(g, _)| *g == k) {
+            Some((_, v)) => v.push(c.clone()),
+            None => groups.push((k, vec![c.clone()])),
+        }
+    }
+    if groups.len() > 1 {
+        let names: Vec<String> = groups.iter().map(|(g, _)| g.clone()).collect();
+        if kind == PlotKind::Nyquist {
+            return Err(Error::usage(format!(
+                "a Nyquist view shows curves of one quantity; the chosen curves are in {}: choose curves of one of them, or the level view, which stacks one panel per quantity",
+                names.join(" and ")
+            ))
+            .field("plot"));
+        }
+        if groups.len() > MAX_AXIS_GROUPS {
+            return Err(Error::usage(format!(
+                "the chosen curves are in {} different units or references ({}); one plot stacks at most {MAX_AXIS_GROUPS} axes: choose fewer kinds of curve",
+                groups.len(),
+                names.join(", ")
+            ))
+            .field("plot"));
+        }
+        let n = groups.len() as i32;
+        let gap = 22;
+        let h = (bottom - top - gap * (n - 1)) / n;
+        let mut frames = Vec::new();
+        for (i, (_, g)) in groups.iter().enumerate() {
+            let t = top + i as i32 * (h + gap);
+            let mut s = spec.clone();
+            if i > 0 {
+                // a zoom of the y axis belongs to the first panel's unit
+                s.y_range = None;
+            }
+            frames.extend(draw_frf(b, &s, kind, g, (left, t, right, t + h))?);
+        }
+        return Ok(frames);
+    }
+    // One unit and reference from here on; labels name them where they
+    // still differ (they cannot: the groups above split them).
     let mixed_db = curves.iter().any(|c| c.db_label != curves[0].db_label);
     let mixed_unit = curves.iter().any(|c| c.unit != curves[0].unit);
     let level_db_mixed = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
@@ -526,16 +582,41 @@ mod tests {
     }
 
     #[test]
-    fn mixed_quantities_name_their_reference_in_the_legend() {
+    fn mixed_quantities_never_share_an_axis() {
+        // a mobility and a vibro-acoustic FRF: two stacked groups, each with its own axis
         let mut sets = sdof();
         let mut v = sets["a"].to_kind("mobility").unwrap();
         v.name = "v".into();
         sets.insert("b".into(), v);
-        let spec = PlotSpec::from_json(r#"{"series":[{"set":"a"},{"set":"b"}]}"#).unwrap();
-        let (svg, _) = render_svg(&spec, &sets).unwrap();
-        assert!(svg.contains("dB, reference in the legend"));
-        assert!(svg.contains("[dB re 1 (m/s)/(N)]"));
-        assert!(svg.contains("[dB re 1 (m)/(N)]"));
+        let mut p = sets["a"].clone();
+        p.out_qty = crate::units::Quantity::Pressure;
+        p.name = "p".into();
+        sets.insert("c".into(), p);
+        let spec = PlotSpec::from_json(r#"{"series":[{"set":"b"},{"set":"c"}]}"#).unwrap();
+        let (svg, frames) = render_svg(&spec, &sets).unwrap();
+        assert_eq!(frames.len(), 4, "level and phase panels for each quantity");
+        assert!(svg.contains("level (dB re 1 (m/s)/(N))"), "mobility axis");
+        assert!(svg.contains("level (dB re 1 (Pa)/(N))"), "pressure axis");
+        assert!(!svg.contains("reference in the legend"));
+        assert!(frames[0].y1 < frames[2].y0, "stacked, not overlaid");
+        // linear magnitude and re/im split by unit too
+        for k in ["magnitude", "re-im"] {
+            let mut s = spec.clone();
+            s.kind = PlotSpec::from_json(&format!(r#"{{"kind":"{k}"}}"#))
+                .unwrap()
+                .kind;
+            s.db = false;
+            let (_, f) = render_svg(&s, &sets).unwrap();
+            assert_eq!(f.len(), if k == "magnitude" { 2 } else { 4 }, "{k}");
+        }
+        // a Nyquist view of two quantities is refused with the reason
+        let mut s = spec.clone();
+        s.kind = PlotKind::Nyquist;
+        let e = render_svg(&s, &sets).unwrap_err();
+        assert!(e.message.contains("one quantity"), "{}", e.message);
+        // one quantity: one axis as before
+        let same = PlotSpec::from_json(r#"{"series":[{"set":"a"},{"set":"a"}]}"#).unwrap();
+        assert_eq!(render_svg(&same, &sets).unwrap().1.len(), 2);
     }
 
     #[test]
