@@ -55,6 +55,7 @@ pub mod io;
 pub mod levels;
 pub mod limits;
 pub mod linalg;
+pub mod listen;
 pub mod plot;
 pub mod predict;
 pub mod recipe;

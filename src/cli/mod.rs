@@ -33,6 +33,7 @@ pub mod couple;
 pub mod demo;
 pub mod inspect;
 pub mod limits;
+pub mod listen;
 pub mod mat_opts;
 pub mod run;
 pub mod spec;
@@ -256,6 +257,7 @@ pub fn execute(argv: &[String]) -> Outcome {
                 "couple" => couple::run(&args),
                 "audit" => audit::run(&args),
                 "demo" => demo::run(&args),
+                "listen" => listen::run(&args),
                 "help" => help(&args.positional),
                 "version" => version(&args),
                 other => Err(internal(format!("command '{other}' has no handler"))),

@@ -544,6 +544,45 @@ pub const AUDIT: Command = Command {
     example: "mortise audit sample-frf/unit-casing.uff sample-frf/brackets.uffb --coherence-min 0.8",
 };
 
+pub const LISTEN: Command = Command {
+    name: "listen",
+    summary: "write the sound of a predicted sound-pressure spectrum as a calibrated WAV file",
+    usage: "mortise listen FILE -o OUT.wav [--output NAME] [--seconds S] [--rate R] [--full-scale-pa P] [--json]",
+    about: "Reads FILE (a result of 'mortise run', e.g. OUTDIR/bedroom.csv) and makes the sound of its \
+            sound-pressure spectrum: each line a sinusoid at its frequency with its amplitude and, for \
+            peak and RMS spectra, its phase (autopower and PSD lines get seeded random phases), so the \
+            sound's 1/3-octave band levels are the predicted ones. Writes a mono 32-bit float WAV whose \
+            sample value 1.0 stands for the full-scale pressure it prints, with the level a full-scale \
+            sine must play at to hear the predicted level. Listen at a low volume first.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT.wav", "the WAV file to write (required)"),
+                val(
+                    "output",
+                    "NAME",
+                    "which spectrum: a set name or an output DOF label (default: the file's first \
+                     sound-pressure spectrum)",
+                ),
+                val("seconds", "S", "duration, above 0 and at most 600 (default 10)"),
+                val("rate", "R", "samples per second, 8000 to 192000 (default 48000)"),
+                val(
+                    "full-scale-pa",
+                    "P",
+                    "pressure in Pa of sample value 1.0; give the same value for a baseline and its \
+                     variants to compare them at one gain (default: the peak pressure + 1 dB)",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise listen results/bedroom.csv -o bedroom.wav --seconds 5",
+};
+
 pub const DEMO: Command = Command {
     name: "demo",
     summary: "write (or check) the demo scenario's supplier files and recipe",
@@ -599,7 +638,9 @@ pub const VERSION: Command = Command {
 };
 
 /// Every command, in the order the general help lists them.
-pub const COMMANDS: &[Command] = &[INSPECT, CONVERT, RUN, COUPLE, AUDIT, DEMO, HELP, VERSION];
+pub const COMMANDS: &[Command] = &[
+    INSPECT, CONVERT, RUN, COUPLE, AUDIT, LISTEN, DEMO, HELP, VERSION,
+];
 
 pub fn command(name: &str) -> Option<&'static Command> {
     COMMANDS.iter().find(|c| c.name == name)
