@@ -125,7 +125,10 @@ fn coordinates_through_2420_and_18_systems_end_global() {
     let js = serde_json::to_value(&sum).unwrap();
     assert_eq!(js["uff"]["geometry"]["nodes"], 6);
     assert_eq!(
-        js["uff"]["geometry_table"]["nodes"].as_array().unwrap().len(),
+        js["uff"]["geometry_table"]["nodes"]
+            .as_array()
+            .unwrap()
+            .len(),
         6
     );
 }
@@ -192,7 +195,10 @@ fn a_recipe_file_component_of_modes_synthesizes_on_its_grid() {
     let err = recipe::load_components(&recipe::parse(&bad).unwrap(), &files).unwrap_err();
     assert!(err.to_string().contains("give a 'grid'"), "{err}");
     // 'interp' and 'set' are refused for a modal file
-    for (k, v) in [("interp", serde_json::json!("re-im")), ("set", serde_json::json!(0))] {
+    for (k, v) in [
+        ("interp", serde_json::json!("re-im")),
+        ("set", serde_json::json!(0)),
+    ] {
         let mut c = serde_json::json!({"file": "modes.unv", "grid": {"from": 10.0, "to": 20.0, "step": 1.0}});
         c[k] = v;
         let t = serde_json::json!({"format": "mortise-recipe", "version": 1,
@@ -240,9 +246,11 @@ fn geometry_and_modes_written_by_mortise_read_back_by_pyuff() {
         uff58::write_55(&cm).unwrap()
     );
     std::fs::write(&out, &all).unwrap();
-    let back: Value =
-        serde_json::from_str(&common::run_py("uff_geo_modal.py", &["read", out.to_str().unwrap()]))
-            .unwrap();
+    let back: Value = serde_json::from_str(&common::run_py(
+        "uff_geo_modal.py",
+        &["read", out.to_str().unwrap()],
+    ))
+    .unwrap();
     let b = back.as_array().unwrap();
     assert_eq!(b.len(), 1 + 3 + 2);
     // 2411: bit-exact (shortest round-trip text in 25 columns)
@@ -265,7 +273,11 @@ fn geometry_and_modes_written_by_mortise_read_back_by_pyuff() {
         assert_eq!(d["analysis"], 3);
         let re = floats(&d["shape_re"]);
         let im = floats(&d["shape_im"]);
-        let got: Vec<Complex64> = re.iter().zip(&im).map(|(a, b)| Complex64::new(*a, *b)).collect();
+        let got: Vec<Complex64> = re
+            .iter()
+            .zip(&im)
+            .map(|(a, b)| Complex64::new(*a, *b))
+            .collect();
         assert!(max_rel(&got, &m.shape) <= 1e-6);
         assert_eq!(floats(&d["modal_a"]), vec![1.0, 0.0]);
     }

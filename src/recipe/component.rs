@@ -248,7 +248,11 @@ pub(crate) fn load_component(
 /// (dataset 55 without any FRF set) with the file's notes and provenance.
 enum FileLoad {
     Set(Box<FrfSet>),
-    Modal(Box<crate::synth::modal::ModalModel>, Vec<String>, crate::frf::Provenance),
+    Modal(
+        Box<crate::synth::modal::ModalModel>,
+        Vec<String>,
+        crate::frf::Provenance,
+    ),
 }
 
 fn load_file(

@@ -186,7 +186,9 @@ pub fn write_55(m: &ModalModel) -> Result<String> {
         Direction::RZ,
     ];
     let ndv = if m.dofs.len() % 6 == 0
-        && m.dofs.chunks(6).all(|c| c.iter().zip(six).all(|(d, w)| d.dir == w))
+        && m.dofs
+            .chunks(6)
+            .all(|c| c.iter().zip(six).all(|(d, w)| d.dir == w))
     {
         6
     } else {
@@ -246,10 +248,7 @@ pub fn write_55(m: &ModalModel) -> Result<String> {
         n_mode += 1;
         head(&mut s, 3, 5);
         let wr = 2.0 * std::f64::consts::PI * cm.freq;
-        let lam = num_complex::Complex64::new(
-            -cm.zeta * wr,
-            wr * (1.0 - cm.zeta * cm.zeta).sqrt(),
-        );
+        let lam = num_complex::Complex64::new(-cm.zeta * wr, wr * (1.0 - cm.zeta * cm.zeta).sqrt());
         s.push_str(&format!("{:10}{:10}{:10}{:10}\n", 2, 6, 1, n_mode));
         for v in [lam.re, lam.im, 1.0, 0.0, -lam.re, -lam.im] {
             s.push_str(&field(v, 13));

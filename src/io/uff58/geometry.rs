@@ -150,7 +150,10 @@ enum RawDef {
     /// 18: reference system, three points (file units).
     Points { reference: i64, pts: [[f64; 3]; 3] },
     /// 2420: axes rows and origin (file units).
-    Matrix { axes: [[f64; 3]; 3], origin: [f64; 3] },
+    Matrix {
+        axes: [[f64; 3]; 3],
+        origin: [f64; 3],
+    },
 }
 
 pub(super) struct RawSystem {
@@ -192,9 +195,20 @@ impl GeometryBuilder {
             let toks: Vec<&str> = t.split_whitespace().collect();
             let (ints, reals) = if toks.len() == 7 {
                 (b.ints(i, 4, 10, f)?, {
-                    let v: Option<Vec<f64>> =
-                        toks[4..].iter().map(|s| super::text::parse_num(s)).collect();
-                    v.ok_or_else(|| b.err(i, f, format!("expected x, y, z as numbers, found '{}'", crate::error::quote(t))))?
+                    let v: Option<Vec<f64>> = toks[4..]
+                        .iter()
+                        .map(|s| super::text::parse_num(s))
+                        .collect();
+                    v.ok_or_else(|| {
+                        b.err(
+                            i,
+                            f,
+                            format!(
+                                "expected x, y, z as numbers, found '{}'",
+                                crate::error::quote(t)
+                            ),
+                        )
+                    })?
                 })
             } else {
                 let ints = b.ints(i, 4, 10, f)?;
@@ -413,7 +427,10 @@ impl GeometryBuilder {
         while nodes.len() < n {
             let (no, t) = b.line(
                 i,
-                &format!("record 3 (node numbers: {n} announced, {} read)", nodes.len()),
+                &format!(
+                    "record 3 (node numbers: {n} announced, {} read)",
+                    nodes.len()
+                ),
             )?;
             for tok in t.split_whitespace() {
                 match super::text::parse_int(tok) {
@@ -423,7 +440,10 @@ impl GeometryBuilder {
                             b.file,
                             no,
                             "record 3 (node numbers)",
-                            format!("expected node numbers (8I10), found '{}'", crate::error::quote(t)),
+                            format!(
+                                "expected node numbers (8I10), found '{}'",
+                                crate::error::quote(t)
+                            ),
                         ))
                     }
                 }
@@ -469,7 +489,12 @@ impl GeometryBuilder {
         let mut by_id: HashMap<i64, usize> = HashMap::new();
         for (k, s) in self.systems.iter().enumerate() {
             if s.id == 0 {
-                return Err(perr(file, s.line, "coordinate system number", "coordinate system number 0 is the global system; expected 1 or more"));
+                return Err(perr(
+                    file,
+                    s.line,
+                    "coordinate system number",
+                    "coordinate system number 0 is the global system; expected 1 or more",
+                ));
             }
             if let Some(&o) = by_id.get(&s.id) {
                 return Err(perr(
@@ -483,7 +508,14 @@ impl GeometryBuilder {
         }
         let mut frames: HashMap<i64, Frame> = HashMap::new();
         for s in &self.systems {
-            resolve(file, s.id, &self.systems, &by_id, &mut frames, &mut Vec::new())?;
+            resolve(
+                file,
+                s.id,
+                &self.systems,
+                &by_id,
+                &mut frames,
+                &mut Vec::new(),
+            )?;
         }
         let mut nodes = Vec::with_capacity(self.nodes.len());
         let mut seen: HashMap<i64, (usize, usize)> = HashMap::new();
@@ -619,12 +651,10 @@ impl Frame {
                 let t = p[1].to_radians();
                 [p[0] * to_m * t.cos(), p[0] * to_m * t.sin(), p[2] * to_m]
             }
-            k => {
-                return Err(format!(
-                    "coordinate system type {k} ({}); mortise reads 0 (cartesian) and 1 (cylindrical)",
-                    if k == 2 { "spherical" } else { "unknown" }
-                ))
-            }
+            k => return Err(format!(
+                "coordinate system type {k} ({}); mortise reads 0 (cartesian) and 1 (cylindrical)",
+                if k == 2 { "spherical" } else { "unknown" }
+            )),
         };
         let mut g = self.origin;
         for (a, ax) in self.axes.iter().enumerate() {
@@ -660,7 +690,11 @@ fn resolve(
                 "coordinate system {} has type {} ({}); expected 0 (cartesian) or 1 (cylindrical)",
                 s.id,
                 s.kind,
-                if s.kind == 2 { "spherical, not read: its angle conventions differ between programs" } else { "unknown" }
+                if s.kind == 2 {
+                    "spherical, not read: its angle conventions differ between programs"
+                } else {
+                    "unknown"
+                }
             ),
         ));
     }
@@ -699,10 +733,7 @@ fn resolve(
                     ));
                 }
                 resolve(file, *reference, systems, by_id, frames, stack)?;
-                frames
-                    .get(reference)
-                    .cloned()
-                    .unwrap_or_else(Frame::global)
+                frames.get(reference).cloned().unwrap_or_else(Frame::global)
             };
             let g: Vec<[f64; 3]> = pts
                 .iter()
@@ -712,7 +743,11 @@ fn resolve(
             let x = sub(g[1], g[0]);
             let lx = dot(x, x).sqrt();
             let v = sub(g[2], g[0]);
-            let ex = if lx > 0.0 { scale(x, 1.0 / lx) } else { [0.0; 3] };
+            let ex = if lx > 0.0 {
+                scale(x, 1.0 / lx)
+            } else {
+                [0.0; 3]
+            };
             let zp = sub(v, scale(ex, dot(v, ex)));
             let lz = dot(zp, zp).sqrt();
             let scale_ref = lx.max(dot(v, v).sqrt());

@@ -31,10 +31,7 @@ pub struct Header151 {
 impl Header151 {
     /// One line for `inspect`.
     pub fn describe(&self) -> String {
-        let mut parts = vec![format!(
-            "model '{}'",
-            crate::error::quote(&self.model)
-        )];
+        let mut parts = vec![format!("model '{}'", crate::error::quote(&self.model))];
         for (k, v) in [
             ("description", &self.description),
             ("application", &self.application),
@@ -47,7 +44,11 @@ impl Header151 {
                 parts.push(format!("{k} '{}'", crate::error::quote(v)));
             }
         }
-        format!("header (dataset 151, line {}): {}", self.line, parts.join(", "))
+        format!(
+            "header (dataset 151, line {}): {}",
+            self.line,
+            parts.join(", ")
+        )
     }
 }
 
@@ -70,7 +71,11 @@ pub(super) fn parse_151(b: &Block) -> Result<Header151> {
         application: b.text(2, "record 3 (application that created the model)")?,
         created: date_time(b, 3),
         saved: date_time(b, 4),
-        program: b.lines.get(5).map(|l| l.1.trim().to_string()).unwrap_or_default(),
+        program: b
+            .lines
+            .get(5)
+            .map(|l| l.1.trim().to_string())
+            .unwrap_or_default(),
         written: date_time(b, 6),
         line: b.start,
     })

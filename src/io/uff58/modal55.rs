@@ -101,7 +101,9 @@ pub(super) fn parse_55(
         return Err(b.err(
             5,
             "record 6, values per node",
-            format!("{ndv} values per node with data characteristic {data_ch}; expected {want_ndv}"),
+            format!(
+                "{ndv} values per node with data characteristic {data_ch}; expected {want_ndv}"
+            ),
         ));
     }
     if spec != 8 {
@@ -129,7 +131,12 @@ pub(super) fn parse_55(
             "a complex mode (analysis type 3) with real shape data (data type 2); expected 5 (complex)",
         ));
     }
-    let r7 = b.ints(6, 4, 10, "record 7 (integer and real counts, load case, mode number)")?;
+    let r7 = b.ints(
+        6,
+        4,
+        10,
+        "record 7 (integer and real counts, load case, mode number)",
+    )?;
     let n_real = if analysis == 2 { 4 } else { 6 };
     if r7[1] != n_real as i64 {
         return Err(b.err(
@@ -158,7 +165,11 @@ pub(super) fn parse_55(
     }
     let n_nodes = rest / (1 + lines_per_node);
     if n_nodes == 0 {
-        return Err(b.err(8, "record 9 (node number)", "a mode without nodes; expected at least one node"));
+        return Err(b.err(
+            8,
+            "record 9 (node number)",
+            "a mode without nodes; expected at least one node",
+        ));
     }
     let mut nodes = Vec::with_capacity(n_nodes);
     let mut values = Vec::with_capacity(n_nodes * ndv);
@@ -288,7 +299,10 @@ pub(super) fn build_model(
                     file,
                     m.line + 9,
                     "record 8, modal mass",
-                    format!("mode {} has modal mass {mass}; expected a value above 0", m.mode_n),
+                    format!(
+                        "mode {} has modal mass {mass}; expected a value above 0",
+                        m.mode_n
+                    ),
                 ));
             }
             if eta != 0.0 {

@@ -10,9 +10,9 @@ use super::geometry::GeometryBuilder;
 use super::header151::{parse_151, Header151};
 use super::modal55::{parse_55, Mode55};
 use super::parse::parse_58;
-use super::units164::{apply_to_58, parse_164, units_code_name, UnitSystem};
 use super::records::Dataset58;
 use super::text::{col, parse_int, perr, preview, Cursor};
+use super::units164::{apply_to_58, parse_164, units_code_name, UnitSystem};
 use crate::error::{Error, Result};
 
 /// Quick check by content: `Some(binary)` when the bytes start like a UFF
@@ -218,7 +218,10 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
                     msg
                 }
                 15 => format!("{} node(s) read into the geometry", geometry.add_15(&b, u)?),
-                2411 => format!("{} node(s) read into the geometry", geometry.add_2411(&b, u)?),
+                2411 => format!(
+                    "{} node(s) read into the geometry",
+                    geometry.add_2411(&b, u)?
+                ),
                 18 => format!("{} coordinate system(s) read", geometry.add_18(&b, u)?),
                 2420 => format!("{} coordinate system(s) read", geometry.add_2420(&b, u)?),
                 82 => {
