@@ -99,9 +99,9 @@ impl Geometry {
         let bbox = (!self.nodes.is_empty()).then(|| {
             let mut b = [[f64::INFINITY; 3], [f64::NEG_INFINITY; 3]];
             for n in &self.nodes {
-                for k in 0..3 {
-                    b[0][k] = b[0][k].min(n.xyz[k]);
-                    b[1][k] = b[1][k].max(n.xyz[k]);
+                for (k, v) in n.xyz.iter().enumerate() {
+                    b[0][k] = b[0][k].min(*v);
+                    b[1][k] = b[1][k].max(*v);
                 }
             }
             b
@@ -467,7 +467,9 @@ impl GeometryBuilder {
                     polylines.push(Vec::new());
                 }
             } else {
-                polylines.last_mut().map(|p| p.push(v));
+                if let Some(p) = polylines.last_mut() {
+                    p.push(v);
+                }
             }
         }
         polylines.retain(|p| !p.is_empty());
@@ -651,10 +653,12 @@ impl Frame {
                 let t = p[1].to_radians();
                 [p[0] * to_m * t.cos(), p[0] * to_m * t.sin(), p[2] * to_m]
             }
-            k => return Err(format!(
+            k => {
+                return Err(format!(
                 "coordinate system type {k} ({}); mortise reads 0 (cartesian) and 1 (cylindrical)",
                 if k == 2 { "spherical" } else { "unknown" }
-            )),
+            ))
+            }
         };
         let mut g = self.origin;
         for (a, ax) in self.axes.iter().enumerate() {
@@ -774,4 +778,36 @@ fn resolve(
     stack.pop();
     frames.insert(id, frame);
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::scan::parse_file;
+
+    fn build(text: &str) -> super::Geometry {
+        let p = parse_file(text.as_bytes(), "g.unv").unwrap();
+        p.geometry.build("g.unv", &mut Vec::new()).unwrap()
+    }
+
+    #[test]
+    fn cylindrical_system_defined_in_a_local_one_and_mm() {
+        // system 2 (cartesian): origin (0, 0, 1) m, local x = global y,
+        // local z = global z; system 3 (cylindrical) defined in system 2 at
+        // its origin with the same axes; a node at r = 2000 mm, θ = 90°,
+        // z = 500 mm in system 3 is at local (0, 2, 0.5) of system 2, i.e.
+        // global (−2, 0, 1.5) m (hand computation)
+        let text = "    -1\n   164\n         5     mm (milli newton)         1\n   1.0D+03   1.0D+03   1.0D+00\n   0.0D+00\n    -1\n\
+    -1\n    18\n         2         0         0         1         1\nframe\n  0.00000e+00  0.00000e+00  1.00000e+03  0.00000e+00  1.00000e+03  1.00000e+03\n  0.00000e+00  0.00000e+00  2.00000e+03\n\
+         3         1         2         1         1\ncylinder\n  0.00000e+00  0.00000e+00  0.00000e+00  1.00000e+00  0.00000e+00  0.00000e+00\n  0.00000e+00  0.00000e+00  1.00000e+00\n    -1\n\
+    -1\n  2411\n         7         3         0         1\n   2.0000000000000000D+03   9.0000000000000000D+01   5.0000000000000000D+02\n    -1\n";
+        let g = build(text);
+        let n = &g.nodes[0];
+        let want = [-2.0, 0.0, 1.5];
+        for k in 0..3 {
+            assert!((n.xyz[k] - want[k]).abs() < 1e-12, "{:?}", n.xyz);
+        }
+        assert_eq!(g.systems.len(), 2);
+        let s = g.summary();
+        assert_eq!(s.bbox, Some([n.xyz, n.xyz]));
+    }
 }

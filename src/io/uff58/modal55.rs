@@ -294,7 +294,7 @@ pub(super) fn build_model(
                     format!("normal mode {} has complex shape values; expected real ones (or analysis type 3)", m.mode_n),
                 ));
             }
-            if !(mass > 0.0) {
+            if mass.is_nan() || mass <= 0.0 {
                 return Err(err(
                     file,
                     m.line + 9,

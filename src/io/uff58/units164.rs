@@ -109,30 +109,33 @@ impl UnitSystem {
 pub(super) fn parse_164(b: &Block) -> Result<UnitSystem> {
     let f1 = "record 1 (units code, description, temperature mode)";
     let (no, t) = b.line(0, f1)?;
+    // by columns (I10, 20A1, I10); writers also put the temperature mode
+    // right after a short description ("         1SI - mks (Newton)  2"):
+    // then the code is the first 10 columns and the mode the last token
+    let bad = || {
+        perr(
+            b.file,
+            no,
+            f1,
+            format!(
+                "expected the units code (I10), a description (20 characters) and the temperature mode (I10), found '{}'",
+                crate::error::quote(t)
+            ),
+        )
+    };
     let (code, description, temp_mode) = {
         let c = parse_int(col(t, 0, 10).trim());
         let m = parse_int(col(t, 30, 10).trim());
         match (c, m) {
             (Some(c), Some(m)) => (c, col(t, 10, 20).trim().to_string(), m),
-            _ => {
-                let toks: Vec<&str> = t.split_whitespace().collect();
-                let c = toks.first().and_then(|s| parse_int(s));
-                let m = toks.last().and_then(|s| parse_int(s));
-                match (c, m, toks.len() >= 2) {
-                    (Some(c), Some(m), true) => (c, toks[1..toks.len() - 1].join(" "), m),
-                    _ => {
-                        return Err(perr(
-                            b.file,
-                            no,
-                            f1,
-                            format!(
-                                "expected the units code (I10), a description (20 characters) and the temperature mode (I10), found '{}'",
-                                crate::error::quote(t)
-                            ),
-                        ))
-                    }
-                }
+            (Some(c), None) => {
+                let rest = col(t, 10, usize::MAX);
+                let rest = rest.trim_end();
+                let (desc, last) = rest.rsplit_once(char::is_whitespace).ok_or_else(bad)?;
+                let m = parse_int(last).ok_or_else(bad)?;
+                (c, desc.trim().to_string(), m)
             }
+            _ => return Err(bad()),
         }
     };
     let f2 = "record 2 (length, force, temperature factors)";
