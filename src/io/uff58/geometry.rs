@@ -803,8 +803,8 @@ mod tests {
         let g = build(text);
         let n = &g.nodes[0];
         let want = [-2.0, 0.0, 1.5];
-        for k in 0..3 {
-            assert!((n.xyz[k] - want[k]).abs() < 1e-12, "{:?}", n.xyz);
+        for (a, b) in n.xyz.iter().zip(want) {
+            assert!((a - b).abs() < 1e-12, "{:?}", n.xyz);
         }
         assert_eq!(g.systems.len(), 2);
         let s = g.summary();
