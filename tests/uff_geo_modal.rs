@@ -297,3 +297,36 @@ fn geometry_and_modes_written_by_mortise_read_back_by_pyuff() {
     println!("mortise 55 round trip: {err:.2e}");
     assert!(err <= 1e-4, "{err}");
 }
+
+#[test]
+fn convert_with_a_grid_synthesizes_a_file_of_modes() {
+    let (dir, exp) = fixture();
+    let e = &exp["real"];
+    let out = dir.join("synth_real.csv");
+    let argv: Vec<String> = [
+        "convert",
+        dir.join("modes_real.unv").to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--grid",
+        "5:199.5:0.5",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
+    let o = mortise::cli::execute(&argv);
+    assert!(o.error.is_none(), "{}{}", o.stdout, o.stderr);
+    let l = load(dir, "synth_real.csv");
+    assert_eq!(l.sets[0].freqs, floats(&e["freqs"]));
+    let err = max_rel(&l.sets[0].data, &cplx(&e["H"]));
+    assert!(err <= 1e-12, "{err}");
+    // without --grid: nothing to write, and the message says what to give
+    let argv: Vec<String> = argv[..4].to_vec();
+    let o = mortise::cli::execute(&argv);
+    assert!(o.error.is_some());
+    assert!(
+        o.stdout.contains("give --grid START:STOP:STEP"),
+        "{}",
+        o.stdout
+    );
+}

@@ -611,7 +611,11 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
         }
     }
     if sets.is_empty() {
-        warnings.push("the file holds no FRF sets".to_string());
+        warnings.push(match uff.as_ref().map(|x| x.modal.is_some()) {
+            Some(true) => "the file holds no FRF sets; its modal model (dataset 55) gives FRFs on a grid (a recipe component's \"grid\", convert --grid START:STOP:STEP)".to_string(),
+            Some(false) => "the file holds no FRF sets (only the datasets listed above)".to_string(),
+            None => "the file holds no FRF sets".to_string(),
+        });
     }
     Ok(Loaded {
         format,

@@ -220,7 +220,8 @@ def write_all(out):
     res["geometry"] = dict(file="geometry.unv", xyz=np.array(glob).ravel().tolist())
 
     # 4. modes: real normal modes and complex modes at three nodes
-    w = 2 * np.pi * np.arange(5.0, 200.0, 0.5)
+    fr = np.arange(5.0, 200.0, 0.5)
+    w = 2 * np.pi * fr
     ids = [101, 102, 103]
     f = np.array([23.0, 61.5, 140.25])
     m = np.array([1.5, 0.8, 2.2])
@@ -240,7 +241,7 @@ def write_all(out):
     zb = np.array([b["modal_damp_vis"] for b in back])
     hb = np.array([b["modal_damp_his"] for b in back])
     pb = np.column_stack([np.column_stack([b["r1"], b["r2"], b["r3"]]).ravel() for b in back])
-    res["real"] = dict(file="modes_real.unv", freqs=(w / 2 / np.pi).tolist(), n=9,
+    res["real"] = dict(file="modes_real.unv", freqs=fr.tolist(), n=9,
                        H=cplx(modal_real(fb, mb, zb, hb, pb, w)))
 
     lam = -np.array([0.03, 0.05]) * 2 * np.pi * np.array([40.0, 95.0]) + 1j * 2 * np.pi * np.array([40.0, 95.0])
@@ -257,7 +258,7 @@ def write_all(out):
     lb = np.array([b["eig"] for b in back])
     ab = np.array([b["modal_a"] for b in back])
     sb = np.column_stack([np.column_stack([b["r1"], b["r2"], b["r3"]]).ravel() for b in back])
-    res["complex"] = dict(file="modes_complex.unv", freqs=(w / 2 / np.pi).tolist(), n=9,
+    res["complex"] = dict(file="modes_complex.unv", freqs=fr.tolist(), n=9,
                           H=cplx(modal_complex(lb, ab, sb, w)))
 
     # 5. a model from M and K: two nodes, X Y Z each (6 DOFs), all modes kept,
@@ -290,13 +291,14 @@ def write_all(out):
             for r in range(6)
         ],
     )
-    wmk = 2 * np.pi * np.linspace(5.0, 150.0, 300)
+    fmk = np.linspace(5.0, 150.0, 300)
+    wmk = 2 * np.pi * fmk
     Hd = np.array([np.linalg.inv(K - ww**2 * M + 1j * ww * C) for ww in wmk])
     # DOF order of the file: node 1 X Y Z, node 2 X Y Z = the order of M and K
     fb = np.array([b["freq"] for b in back])
     zb = np.array([b["modal_damp_vis"] for b in back])
     pb = np.column_stack([np.column_stack([b["r1"], b["r2"], b["r3"]]).ravel() for b in back])
-    res["mk"] = dict(file="modes_mk.unv", freqs=(wmk / 2 / np.pi).tolist(), n=6,
+    res["mk"] = dict(file="modes_mk.unv", freqs=fmk.tolist(), n=6,
                      direct=cplx(Hd), modal=cplx(modal_real(fb, np.ones(6), zb, np.zeros(6), pb, wmk)))
 
     # 6. one file of 151, 164, 2411, 58 and 55

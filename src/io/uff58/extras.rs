@@ -60,7 +60,7 @@ impl UffExtras {
         }
         if let Some(m) = &self.modal {
             out.push(format!(
-                "modal model '{}' (dataset 55): {} mode(s) at {} DOF(s); synthesized on a grid by a recipe component {{\"file\": ..., \"grid\": ...}}",
+                "modal model '{}' (dataset 55): {} mode(s) at {} DOF(s); synthesized on a grid by a recipe component {{\"file\": ..., \"grid\": ...}} or convert --grid START:STOP:STEP",
                 crate::error::quote(&m.name),
                 self.modes.len(),
                 m.dofs.len()

@@ -95,6 +95,7 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
     let mut modes = Vec::new();
     // per dataset 164: start lines of the datasets 58 it converted
     let mut converted: Vec<Vec<usize>> = Vec::new();
+    let mut mode_lines: Vec<usize> = Vec::new();
     let mut last_end: Option<usize> = None;
     let mut any_text = false;
     while let Some(l) = c.next_line() {
@@ -228,13 +229,14 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
                     geometry.add_82(&b)?;
                     "trace line read into the geometry".to_string()
                 }
-                _ => match parse_55(&b, u, &mut remarks)? {
-                    Some(m) => {
+                _ => {
+                    // one remark for all modes, after the loop
+                    if let Some(m) = parse_55(&b, u, &mut remarks)? {
                         modes.push(m);
-                        "mode read into the modal model".to_string()
+                        mode_lines.push(start);
                     }
-                    None => continue,
-                },
+                    continue;
+                }
             };
             remarks.push(format!("{file}: line {start}: dataset {num}: {what}"));
             continue;
@@ -249,6 +251,15 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
             }
         }
         out.push(ds);
+    }
+    if !mode_lines.is_empty() {
+        let shown: Vec<String> = mode_lines.iter().take(5).map(|l| l.to_string()).collect();
+        remarks.push(format!(
+            "{file}: {} dataset(s) 55 (at line(s) {}{}): modes read into the modal model",
+            mode_lines.len(),
+            shown.join(", "),
+            if mode_lines.len() > 5 { ", ..." } else { "" }
+        ));
     }
     for (sys, lines) in units.iter().zip(&converted) {
         if !lines.is_empty() {
