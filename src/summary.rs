@@ -66,6 +66,10 @@ pub struct FileSummary {
     pub frfs: usize,
     pub sets: Vec<SetSummary>,
     pub warnings: Vec<String>,
+    /// A UFF file's header (151), units (164), geometry (counts, bounding
+    /// box and the node table) and modes (55), when it holds any.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub uff: Option<crate::io::uff58::UffExtrasSummary>,
 }
 
 /// Describe the spacing of a frequency grid.
@@ -193,6 +197,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
         frfs: sets.iter().map(|s| s.frfs).sum(),
         sets,
         warnings: loaded.warnings.clone(),
+        uff: loaded.uff.as_ref().map(|x| x.summary()),
     }
 }
 

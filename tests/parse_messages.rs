@@ -160,7 +160,10 @@ fn detection_and_merge_quote_long_input() {
     let token = "z".repeat(1_000_000);
     // plain text that is not data is not quoted at all
     let e = io::detect(format!("{token}\nmore\n").as_bytes(), "t.txt").unwrap_err();
-    assert!(e.to_string().len() < 1_000 && !e.to_string().contains("zzz"), "{e}");
+    assert!(
+        e.to_string().len() < 1_000 && !e.to_string().contains("zzz"),
+        "{e}"
+    );
     assert_eq!(e.file.as_deref(), Some("t.txt"));
     let e = io::detect(format!("{{\"format\": \"{token}\"}}").as_bytes(), "t.json").unwrap_err();
     short_and_placed(&e, "t.json", "JSON format field");

@@ -314,7 +314,7 @@ fn other_datasets_and_function_types_are_skipped_with_remarks() {
     assert!(
         warns
             .iter()
-            .any(|w| w.contains("line 1: dataset 164 skipped")),
+            .any(|w| w.contains("line 1: dataset 164: units 1 (SI: metre (newton))")),
         "{warns:?}"
     );
     assert!(

@@ -11,6 +11,7 @@ use crate::frf::{FrfKind, FrfSet};
 use crate::grid::{common_grid, even_lines, to_common_grid, GridChoice, Interp};
 use crate::io::{self, ExportFormat};
 use crate::limits::{product, Limits};
+use crate::synth::Synth;
 
 /// Parse `--grid`.
 fn grid_choice(text: &str) -> Result<GridChoice> {
@@ -133,7 +134,29 @@ pub fn run(args: &Args) -> Result<Done> {
     for f in results {
         let mut entry = serde_json::json!({ "file": f.path, "sha256": f.sha256 });
         match f.result {
-            Ok(l) => {
+            Ok(mut l) => {
+                // a file of modes (UFF dataset 55) and no FRFs: synthesized
+                // on the --grid START:STOP:STEP lines
+                if let (true, Some(m)) = (
+                    l.sets.is_empty(),
+                    l.uff.as_ref().and_then(|x| x.modal.clone()),
+                ) {
+                    match &grid {
+                        Some(GridChoice::Given { freqs }) => {
+                            match Synth::Modal(m).synthesize_with(freqs, &limits) {
+                                Ok(s) => {
+                                    l.sets.push(s);
+                                    l.warnings
+                                        .retain(|w| !w.starts_with("the file holds no FRF sets"));
+                                }
+                                Err(e) => l.warnings.push(format!("modal model not synthesized: {e}")),
+                            }
+                        }
+                        _ => l.warnings.push(
+                            "the file holds a modal model (dataset 55) and no FRFs; give --grid START:STOP:STEP to synthesize its receptances".to_string(),
+                        ),
+                    }
+                }
                 report.push_str(&format!(
                     "read {}: {}, {} set(s)\n",
                     f.path,

@@ -423,6 +423,7 @@ pub fn run(args: &Args) -> Result<Done> {
                     "sha256": f.sha256,
                     "content_sha256": f.content_sha256,
                     "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
+                    "uff": l.uff.as_ref().map(|x| x.summary()),
                     "warnings": l.warnings,
                 }),
                 (Err(e), None) => serde_json::json!({
@@ -462,6 +463,11 @@ pub fn run(args: &Args) -> Result<Done> {
                 out.push_str(&format!("  format: {}\n", l.format.name()));
                 if let Some(c) = &f.content_sha256 {
                     out.push_str(&format!("  bundle content sha256: {c} (checked)\n"));
+                }
+                if let Some(x) = &l.uff {
+                    for line in x.describe() {
+                        out.push_str(&format!("  {line}\n"));
+                    }
                 }
                 for (n, s) in l.sets.iter().enumerate() {
                     set_text(n + 1, s, &mut out);

@@ -367,7 +367,8 @@ pub const CONVERT: Command = Command {
                     "put every set on one grid: finest or coarsest (the finest or coarsest of \
                      the inputs' lines inside the range all of them cover) or START:STOP:STEP \
                      (an even grid in Hz); never extrapolated: a grid beyond any input's range is \
-                     an error; default: keep each set's lines",
+                     an error; default: keep each set's lines; a UFF file of modes (dataset 55) \
+                     without FRFs is synthesized on START:STOP:STEP",
                 ),
                 val(
                     "interp",

@@ -180,6 +180,9 @@ pub struct Loaded {
     pub format: Format,
     pub sets: Vec<FrfSet>,
     pub warnings: Vec<String>,
+    /// A UFF file's datasets besides 58 (header, units, geometry, modal
+    /// model), when it holds any.
+    pub uff: Option<uff58::UffExtras>,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -294,6 +297,9 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
     }
     // another dataset first: look for a later 58/58b header
     let mut prev_delim = false;
+    // geometry (15, 2411, 18, 2420, 82) or modes (55) without a 58: read
+    // as a UFF file all the same (`uff58::read_extras`)
+    let mut other = false;
     for l in byte_lines(bytes) {
         let t = l.trim_ascii();
         if prev_delim {
@@ -304,8 +310,12 @@ fn uff_kind(bytes: &[u8]) -> Option<Result<Format>> {
             if tok.eq_ignore_ascii_case(b"58b") {
                 return Some(Ok(Format::Uff58Binary));
             }
+            other |= [&b"15"[..], b"2411", b"18", b"2420", b"82", b"55"].contains(&tok);
         }
         prev_delim = t == b"-1";
+    }
+    if other {
+        return Some(Ok(Format::Uff58Ascii));
     }
     Some(Err(Error::unsupported(format!(
         "a Universal File (first dataset {tok}) without any dataset 58 or 58b; mortise reads FRFs from datasets 58 and 58b only"
@@ -495,19 +505,30 @@ pub fn load_with_limits(
         .field("column_map")
         .in_file(file));
     }
+    let mut uff = None;
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
-            // without a given component, each DOF takes the one written in
-            // the record-6 entity name, else the file stem
-            let (sets, w) = uff58::read_declared_with_limits(
-                bytes,
-                file,
-                opts.component.as_deref(),
-                opts.signal,
-                limits,
-            )?;
-            warnings.extend(w);
-            sets
+            let (extras, notes, has58) = uff58::read_extras(bytes, file, &component)?;
+            uff = extras;
+            if has58 || uff.is_none() {
+                // without a given component, each DOF takes the one written in
+                // the record-6 entity name, else the file stem
+                let (sets, w) = uff58::read_declared_with_limits(
+                    bytes,
+                    file,
+                    opts.component.as_deref(),
+                    opts.signal,
+                    limits,
+                )?;
+                warnings.extend(w);
+                // the geometry's and modal model's own notes
+                let seen: std::collections::HashSet<String> = warnings.iter().cloned().collect();
+                warnings.extend(notes.into_iter().filter(|n| !seen.contains(n)));
+                sets
+            } else {
+                warnings.extend(notes);
+                Vec::new()
+            }
         }
         Format::CsvNative => {
             let mut sets = csv::read_native_with_limits(bytes, file, limits)?;
@@ -629,12 +650,17 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
         }
     }
     if sets.is_empty() {
-        warnings.push("the file holds no FRF sets".to_string());
+        warnings.push(match uff.as_ref().map(|x| x.modal.is_some()) {
+            Some(true) => "the file holds no FRF sets; its modal model (dataset 55) gives FRFs on a grid (a recipe component's \"grid\", convert --grid START:STOP:STEP)".to_string(),
+            Some(false) => "the file holds no FRF sets (only the datasets listed above)".to_string(),
+            None => "the file holds no FRF sets".to_string(),
+        });
     }
     Ok(Loaded {
         format,
         sets,
         warnings,
+        uff,
     })
 }
 

@@ -66,7 +66,7 @@ pub const COMPONENT_FIELDS: &[(&str, &str)] = &[
     ("kind", "convert to this FRF kind after loading (receptance, mobility, accelerance, ...)"),
     ("inline", "an FRF set written inline (as bundles store results)"),
     ("synth", "a synthesized part, tagged by \"model\": network (masses, springs, dampers), modal (modal superposition with residuals), beam, frame or isolator; computed on 'grid'"),
-    ("grid", "{from, to, step} or {lines: [...]}, Hz: where a synthesized part is computed; a file's or inline set's lines are resampled onto it (never extrapolated)"),
+    ("grid", "{from, to, step} or {lines: [...]}, Hz: where a synthesized part, or the modal model (UFF dataset 55) of a file without FRFs, is computed; a file's or inline set's lines are resampled onto it (never extrapolated)"),
     ("interp", "interpolation for 'grid' on a file or inline set: re-im (default) or log-mag-phase"),
     ("note", "free text"),
 ];
@@ -150,6 +150,10 @@ pub(crate) fn load_component(
         unused(spec.import.is_some(), "import", "applies to a 'file' only")?;
         unused(spec.set.is_some(), "set", "applies to a 'file' only")?;
     }
+    let file_load = match &spec.file {
+        Some(file) => Some(load_file(name, file, spec, files, limits)?),
+        None => None,
+    };
     let mut set = if let Some(synth) = &spec.synth {
         unused(
             spec.interp.is_some(),
@@ -169,9 +173,34 @@ pub(crate) fn load_component(
             s.set_component(c);
         }
         s
+    } else if let Some(FileLoad::Modal(model, notes, prov)) = file_load {
+        // a file of modes (dataset 55): synthesized on the grid
+        unused(
+            spec.set.is_some(),
+            "set",
+            "chooses one of a file's FRF sets; this file holds a modal model (dataset 55), synthesized on 'grid'",
+        )?;
+        unused(
+            spec.interp.is_some(),
+            "interp",
+            "applies to a file's FRF set resampled by 'grid'; a file's modal model (dataset 55) is synthesized on the grid",
+        )?;
+        let g = spec.grid.as_ref().or(grid).ok_or_else(|| {
+            Error::recipe(
+                "the file holds a modal model (dataset 55) and no FRFs; give a 'grid' (here or at the top of the recipe) to synthesize its FRFs on",
+            )
+            .field("grid")
+        })?;
+        let freqs = g.lines().map_err(|e| e.field("grid"))?;
+        let mut s = Synth::Modal(*model)
+            .synthesize_with(&freqs, limits)
+            .map_err(|e| e.field("file"))?;
+        s.warnings.extend(notes);
+        s.provenance.push(prov);
+        s
     } else {
-        let mut s = if let Some(file) = &spec.file {
-            load_file(name, file, spec, files, limits)?
+        let mut s = if let Some(FileLoad::Set(s)) = file_load {
+            *s
         } else if let Some(inline) = &spec.inline {
             let mut s = (**inline).clone();
             if let Some(c) = &spec.component {
@@ -215,13 +244,24 @@ pub(crate) fn load_component(
     Ok(set)
 }
 
+/// What a file component's file gives: one FRF set, or a modal model
+/// (dataset 55 without any FRF set) with the file's notes and provenance.
+enum FileLoad {
+    Set(Box<FrfSet>),
+    Modal(
+        Box<crate::synth::modal::ModalModel>,
+        Vec<String>,
+        crate::frf::Provenance,
+    ),
+}
+
 fn load_file(
     name: &str,
     file: &str,
     spec: &ComponentSpec,
     files: &dyn FileSource,
     limits: &Limits,
-) -> Result<FrfSet> {
+) -> Result<FileLoad> {
     let bytes = files.read(file)?;
     let mut opts = spec.import.clone().unwrap_or_default();
     match (&opts.component, &spec.component) {
@@ -237,6 +277,16 @@ fn load_file(
         _ => {}
     }
     let loaded = io::load_with_limits(&bytes, file, &opts, limits)?;
+    let modal = loaded.uff.as_ref().and_then(|x| x.modal.clone());
+    if let (Some(m), true) = (&modal, loaded.sets.is_empty()) {
+        let prov = crate::frf::Provenance {
+            file: io::base_name(file),
+            sha256: io::sha256_hex(&bytes),
+            format: format!("{} dataset 55, modal superposition", loaded.format.name()),
+            options: format!("component={}", opts.component.clone().unwrap_or_default()),
+        };
+        return Ok(FileLoad::Modal(Box::new(m.clone()), loaded.warnings, prov));
+    }
     let n = loaded.sets.len();
     if n == 0 {
         return Err(Error::recipe(format!("file '{file}' holds no FRF set")));
@@ -268,7 +318,13 @@ fn load_file(
             s.warnings.push(w);
         }
     }
-    Ok(s)
+    if let Some(m) = modal {
+        s.warnings.push(format!(
+            "file '{file}' also holds a modal model (dataset 55, {} mode(s)); the component uses its FRF set, not the modes",
+            m.modes.len() + m.complex_modes.len()
+        ));
+    }
+    Ok(FileLoad::Set(Box::new(s)))
 }
 
 #[cfg(test)]

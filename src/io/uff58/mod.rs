@@ -97,18 +97,37 @@
 //! layout's codes and units labels to and from mortise's quantities and SI;
 //! `group.rs` datasets into FRF sets (the readers); `provenance.rs` the
 //! provenance chain in ID lines 3-5; `write.rs` the writers.
+//!
+//! ## Datasets besides 58
+//! `scan.rs` also reads 151 (header, `header151.rs`), 164 (units,
+//! `units164.rs`: applied to the datasets after it, including unlabelled
+//! dataset 58 axes through `units164::apply_to_58`), 15 / 2411 / 18 / 2420 /
+//! 82 (geometry in global metres, `geometry.rs`) and 55 (modes into a
+//! modal model, `modal55.rs`); `block.rs` holds their record readers and
+//! `extras.rs` gathers them ([`read_extras`]) and writes 2411 and 55.
 
+mod block;
 mod convert;
+mod extras;
+mod geometry;
 mod group;
+mod header151;
+mod modal55;
 mod parse;
 mod provenance;
 mod records;
 mod scan;
 mod text;
+mod units164;
 mod write;
 
+pub use extras::{read_extras, write_2411, write_55, UffExtras, UffExtrasSummary};
+pub use geometry::{CoordSystem, Geometry, GeometrySummary, Node, TraceLine};
 pub use group::{read, read_declared, read_declared_with_limits, read_with};
+pub use header151::Header151;
+pub use modal55::ModeSummary;
 pub use provenance::{provenance_from_lines, provenance_lines};
 pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout};
 pub use scan::{looks_like_uff, parse_datasets};
+pub use units164::{units_code_name, UnitSystem};
 pub use write::{datasets_of, shortest, write, write_dataset, write_with};

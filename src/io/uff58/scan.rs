@@ -5,9 +5,14 @@
 //! No unit conversion and no grouping into sets here (`convert.rs`,
 //! `group.rs`).
 
+use super::block::Block;
+use super::geometry::GeometryBuilder;
+use super::header151::{parse_151, Header151};
+use super::modal55::{parse_55, Mode55};
 use super::parse::parse_58;
 use super::records::Dataset58;
 use super::text::{col, parse_int, perr, preview, Cursor};
+use super::units164::{apply_to_58, parse_164, units_code_name, UnitSystem};
 use crate::error::{Error, Result};
 
 /// Quick check by content: `Some(binary)` when the bytes start like a UFF
@@ -57,12 +62,40 @@ pub fn looks_like_uff(bytes: &[u8]) -> Option<bool> {
     Some(false)
 }
 
-/// Parse every dataset 58/58b of a file. Other datasets are skipped with a
-/// remark. Values are checked (finite, abscissa strictly increasing).
+/// Parse every dataset 58/58b of a file. Datasets 151, 164, 15, 2411, 18,
+/// 2420, 82 and 55 are read too (see [`parse_file`]); a dataset 164 is
+/// applied to the datasets 58 that follow it (`units164::apply_to_58`);
+/// other datasets are skipped with a remark. Values are checked (finite,
+/// abscissa strictly increasing).
 pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<String>)> {
+    let p = parse_file(bytes, file)?;
+    Ok((p.datasets, p.remarks))
+}
+
+/// Everything mortise reads from a UFF file, dataset by dataset.
+pub(super) struct Parsed {
+    pub(super) datasets: Vec<Dataset58>,
+    pub(super) remarks: Vec<String>,
+    pub(super) headers: Vec<Header151>,
+    pub(super) units: Vec<UnitSystem>,
+    pub(super) geometry: GeometryBuilder,
+    pub(super) modes: Vec<Mode55>,
+}
+
+/// Parse a whole file: datasets 58/58b, and 151 (header), 164 (units, in
+/// force for the datasets after it), 15 / 2411 (nodes), 18 / 2420
+/// (coordinate systems), 82 (trace lines), 55 (modes).
+pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
     let mut c = Cursor::new(bytes);
     let mut out = Vec::new();
     let mut remarks = Vec::new();
+    let mut headers = Vec::new();
+    let mut units: Vec<UnitSystem> = Vec::new();
+    let mut geometry = GeometryBuilder::default();
+    let mut modes = Vec::new();
+    // per dataset 164: start lines of the datasets 58 it converted
+    let mut converted: Vec<Vec<usize>> = Vec::new();
+    let mut mode_lines: Vec<usize> = Vec::new();
     let mut last_end: Option<usize> = None;
     let mut any_text = false;
     while let Some(l) = c.next_line() {
@@ -129,14 +162,20 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
             }
         };
         if num != 58 {
-            // skip to the end tag
+            // collect the lines up to the end tag
+            let read = READ_OTHER.contains(&num);
+            let mut lines = Vec::new();
             loop {
                 match c.next_line() {
                     Some(e) if e.trimmed() == "-1" => {
                         last_end = Some(e.no);
                         break;
                     }
-                    Some(_) => {}
+                    Some(l) => {
+                        if read {
+                            lines.push((l.no, l.text().trim_end().to_string()));
+                        }
+                    }
                     None => {
                         return Err(perr(
                             file,
@@ -147,14 +186,94 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
                     }
                 }
             }
-            remarks.push(format!(
-                "{file}: line {start}: dataset {num} skipped (mortise reads dataset 58 only)"
-            ));
+            if !read {
+                remarks.push(format!(
+                    "{file}: line {start}: dataset {num} skipped (mortise reads datasets 58, 151, 164, 15, 2411, 18, 2420, 82 and 55)"
+                ));
+                continue;
+            }
+            let b = Block {
+                file,
+                num,
+                start,
+                lines,
+                end: last_end.unwrap_or(start),
+            };
+            let u = units.last();
+            let what = match num {
+                151 => {
+                    headers.push(parse_151(&b)?);
+                    "header read (model, program, dates)".to_string()
+                }
+                164 => {
+                    let sys = parse_164(&b)?;
+                    let msg = format!(
+                        "units {} ({}): length factor {}, force factor {} (SI = file value / factor), applied to the datasets after it",
+                        sys.code,
+                        units_code_name(sys.code),
+                        sys.length,
+                        sys.force
+                    );
+                    units.push(sys);
+                    converted.push(Vec::new());
+                    msg
+                }
+                15 => format!("{} node(s) read into the geometry", geometry.add_15(&b, u)?),
+                2411 => format!(
+                    "{} node(s) read into the geometry",
+                    geometry.add_2411(&b, u)?
+                ),
+                18 => format!("{} coordinate system(s) read", geometry.add_18(&b, u)?),
+                2420 => format!("{} coordinate system(s) read", geometry.add_2420(&b, u)?),
+                82 => {
+                    geometry.add_82(&b)?;
+                    "trace line read into the geometry".to_string()
+                }
+                _ => {
+                    // one remark for all modes, after the loop
+                    if let Some(m) = parse_55(&b, u, &mut remarks)? {
+                        modes.push(m);
+                        mode_lines.push(start);
+                    }
+                    continue;
+                }
+            };
+            remarks.push(format!("{file}: line {start}: dataset {num}: {what}"));
             continue;
         }
-        let ds = parse_58(&mut c, file, start, &h, binary, &mut remarks)?;
+        let mut ds = parse_58(&mut c, file, start, &h, binary, &mut remarks)?;
         last_end = Some(c.line.saturating_sub(1));
+        if let Some(sys) = units.last() {
+            if apply_to_58(file, &mut ds, sys)? {
+                if let Some(v) = converted.last_mut() {
+                    v.push(ds.line);
+                }
+            }
+        }
         out.push(ds);
+    }
+    if !mode_lines.is_empty() {
+        let shown: Vec<String> = mode_lines.iter().take(5).map(|l| l.to_string()).collect();
+        remarks.push(format!(
+            "{file}: {} dataset(s) 55 (at line(s) {}{}): modes read into the modal model",
+            mode_lines.len(),
+            shown.join(", "),
+            if mode_lines.len() > 5 { ", ..." } else { "" }
+        ));
+    }
+    for (sys, lines) in units.iter().zip(&converted) {
+        if !lines.is_empty() {
+            let shown: Vec<String> = lines.iter().take(5).map(|l| l.to_string()).collect();
+            remarks.push(format!(
+                "{file}: {} dataset(s) 58 without units labels (at line(s) {}{}) converted to SI by the units of dataset 164 at line {} (length factor {}, force factor {})",
+                lines.len(),
+                shown.join(", "),
+                if lines.len() > 5 { ", ..." } else { "" },
+                sys.line,
+                sys.length,
+                sys.force
+            ));
+        }
     }
     if !any_text {
         return Err(Error::parse(
@@ -164,5 +283,15 @@ pub fn parse_datasets(bytes: &[u8], file: &str) -> Result<(Vec<Dataset58>, Vec<S
         .at_line(1)
         .in_file(file));
     }
-    Ok((out, remarks))
+    Ok(Parsed {
+        datasets: out,
+        remarks,
+        headers,
+        units,
+        geometry,
+        modes,
+    })
 }
+
+/// The datasets besides 58 that mortise reads.
+const READ_OTHER: [i64; 8] = [151, 164, 15, 2411, 18, 2420, 82, 55];
