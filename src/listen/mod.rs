@@ -76,6 +76,61 @@ pub fn synthesize(
     opts: &ListenOptions,
     limits: &Limits,
 ) -> Result<Sound> {
+    let mut v = synthesize_together(&[(set, out)], opts, limits)?;
+    v.pop().ok_or_else(|| Error::internal("no sound made"))
+}
+
+/// The sounds of several spectra (a baseline and its variants) at one
+/// gain: one full-scale pressure for all (the loudest one's peak + 1 dB
+/// unless given), so switching between them compares their levels.
+pub fn synthesize_together(
+    curves: &[(&FrfSet, usize)],
+    opts: &ListenOptions,
+    limits: &Limits,
+) -> Result<Vec<Sound>> {
+    let mut pressures = Vec::new();
+    for (i, (set, out)) in curves.iter().enumerate() {
+        // all sounds are held at once
+        let mut o = *opts;
+        o.seconds = opts.seconds * (i + 1) as f64;
+        check_size(&o, limits)?;
+        pressures.push(pressure(set, *out, opts, limits)?);
+    }
+    let peak = pressures
+        .iter()
+        .flat_map(|(p, _)| p.iter())
+        .fold(0.0f64, |m, v| m.max(v.abs()));
+    let full = opts.full_scale_pa.unwrap_or(peak * 10f64.powf(1.0 / 20.0));
+    if peak > full {
+        return Err(Error::usage(format!(
+            "the sound's peak pressure {peak:.4e} Pa exceeds the full scale {full:.4e} Pa: raise --full-scale-pa to at least the peak, or leave it out"
+        ))
+        .field("full_scale_pa"));
+    }
+    Ok(pressures
+        .into_iter()
+        .map(|(p, notes)| Sound {
+            rate: opts.rate,
+            samples: p.iter().map(|v| (v / full) as f32).collect(),
+            full_scale_pa: full,
+            full_scale_spl_db: crate::levels::db_rms(full / std::f64::consts::SQRT_2, 20e-6),
+            notes,
+        })
+        .collect())
+}
+
+fn check_size(opts: &ListenOptions, limits: &Limits) -> Result<()> {
+    let n = (opts.seconds * f64::from(opts.rate)).round() as u64;
+    limits.check_values("the sounds' samples", Some(n / 2 + 1))
+}
+
+/// The pressure samples (Pa) of one spectrum row, and notes.
+fn pressure(
+    set: &FrfSet,
+    out: usize,
+    opts: &ListenOptions,
+    limits: &Limits,
+) -> Result<(Vec<f64>, Vec<String>)> {
     if set.signal.is_none() || set.out_qty != Quantity::Pressure {
         return Err(Error::quantity(format!(
             "'{}' is not a sound-pressure spectrum (it is {}); a sound is made from a predicted pressure spectrum, such as a 'respond' step's result at a microphone",
@@ -137,7 +192,7 @@ pub fn synthesize(
             crate::error::quote(&set.name)
         )));
     }
-    limits.check_values("the sound's samples", Some(n as u64 / 4 + 1))?;
+    check_size(opts, limits)?;
     limits.check_work(
         "synthesizing the sound",
         8.0 * lines.len() as f64 * n as f64,
@@ -157,26 +212,11 @@ pub fn synthesize(
             }
         }
     }
-    let peak = p.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let full = opts.full_scale_pa.unwrap_or(peak * 10f64.powf(1.0 / 20.0));
-    if peak > full {
-        return Err(Error::usage(format!(
-            "the sound's peak pressure {peak:.4e} Pa exceeds the full scale {full:.4e} Pa: raise --full-scale-pa to at least the peak, or leave it out"
-        ))
-        .field("full_scale_pa"));
-    }
-    let samples = p.iter().map(|v| (v / full) as f32).collect();
     let mut notes = Vec::new();
     if above > 0 {
         notes.push(format!(
             "{above} line(s) at or above {nyquist} Hz (half the sample rate) left out"
         ));
     }
-    Ok(Sound {
-        rate: opts.rate,
-        samples,
-        full_scale_pa: full,
-        full_scale_spl_db: crate::levels::db_rms(full / std::f64::consts::SQRT_2, 20e-6),
-        notes,
-    })
+    Ok((p, notes))
 }
