@@ -333,7 +333,10 @@ impl UnitParser<'_> {
                 None => return Err(self.err("expected a unit name after the square root")),
             }
         };
-        if [d.length, d.mass, d.time, d.angle].iter().any(|e| e % 2 != 0) {
+        if [d.length, d.mass, d.time, d.angle]
+            .iter()
+            .any(|e| e % 2 != 0)
+        {
             return Err(self.err("a square root of a square root"));
         }
         Ok((
@@ -367,7 +370,10 @@ fn parse_doubled(text: &str) -> Result<(String, Dim, f64)> {
 /// ```
 pub fn parse_unit(text: &str) -> Result<Unit> {
     let (t, d, factor) = parse_doubled(text)?;
-    if [d.length, d.mass, d.time, d.angle].iter().any(|e| e % 2 != 0) {
+    if [d.length, d.mass, d.time, d.angle]
+        .iter()
+        .any(|e| e % 2 != 0)
+    {
         return Err(Error::unit(format!(
             "unit '{}' has a half power (a square root such as √Hz); such a unit measures no quantity by itself; expected a unit such as m/s, or an amplitude spectral density label where a spectral density is read",
             crate::error::quote(&t)

@@ -328,6 +328,7 @@ pub(super) fn parse_58(
         }
     }
     let id: [String; 5] = std::array::from_fn(|k| recs[k].text().trim_end().to_string());
+    let latin1 = recs.iter().any(|l| l.not_utf8());
     // record 6
     let r6 = read_record(
         file,
@@ -699,5 +700,6 @@ pub(super) fn parse_58(
         x,
         y,
         line: start,
+        latin1,
     })
 }

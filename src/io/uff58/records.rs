@@ -56,6 +56,9 @@ pub struct Dataset58 {
     pub y: Vec<Complex64>,
     /// 1-based line of the start tag.
     pub line: usize,
+    /// True when header text (records 1-11) was not UTF-8 and was read as
+    /// Latin-1 (Windows-1252).
+    pub latin1: bool,
 }
 
 impl Dataset58 {
