@@ -35,6 +35,12 @@ fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
 /// can hold is refused here, as a usage error; what the reader refuses later
 /// is about the file (or a `--map` file).
 pub fn import_options(args: &Args) -> Result<ImportOptions> {
+    let mut o = import_options_base(args)?;
+    super::spec::uff_options(args, &mut o)?;
+    Ok(o)
+}
+
+fn import_options_base(args: &Args) -> Result<ImportOptions> {
     let component = args.value("component").map(str::to_string);
     let signal = args
         .value("signal")
@@ -46,6 +52,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: Some(mat),
+            ..Default::default()
         });
     }
     let any_col = super::spec::IMPORT_OPTS
@@ -70,6 +77,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
             mat: None,
+            ..Default::default()
         });
     }
     if !any_col {
@@ -78,6 +86,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: None,
+            ..Default::default()
         });
     }
     for name in [
@@ -253,6 +262,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         signal,
         column_map: Some(m),
         mat: None,
+        ..Default::default()
     })
 }
 

@@ -72,6 +72,73 @@ pub struct ImportOptions {
     /// MAT-file mapping; required for MAT-files, refused for other files.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mat: Option<mat::MatMap>,
+    /// UFF only: the response quantity of datasets that do not tell it
+    /// (function type 0, or blank codes and labels); refused when no dataset
+    /// needs it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub out_qty: Option<crate::units::Quantity>,
+    /// UFF only: the reference quantity, as `out_qty`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub in_qty: Option<crate::units::Quantity>,
+    /// UFF only: DOFs for datasets written without DOF numbers (node 0,
+    /// direction 0); each must be used.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub dofs: Vec<UffDofs>,
+}
+
+/// DOFs for one UFF dataset written without DOF numbers: `dataset` is the
+/// 1-based number of the dataset 58 in the file (left out: the file's only
+/// dataset without DOF numbers); `out` and `in` are DOF labels
+/// (`component:node+X`).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct UffDofs {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dataset: Option<usize>,
+    pub out: String,
+    #[serde(rename = "in")]
+    pub inp: String,
+}
+
+impl UffDofs {
+    /// Parse `DATASET:OUT,IN` or `OUT,IN` (the CLI's `--uff-dofs`).
+    pub fn parse(text: &str) -> Result<UffDofs> {
+        let bad = || {
+            Error::usage(format!(
+                "'{}': expected OUT,IN or DATASET:OUT,IN (DATASET the 1-based number of the dataset 58 in the file), such as 3:wall:1+Z,wall:2+Z",
+                crate::error::quote(text)
+            ))
+            .field("dofs")
+        };
+        let (dataset, rest) = match text.split_once(':') {
+            Some((n, rest)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+                (Some(n.parse::<usize>().map_err(|_| bad())?), rest)
+            }
+            _ => (None, text),
+        };
+        let (out, inp) = rest.split_once(',').ok_or_else(bad)?;
+        let d = UffDofs {
+            dataset,
+            out: out.trim().to_string(),
+            inp: inp.trim().to_string(),
+        };
+        d.dofs()?;
+        Ok(d)
+    }
+    /// The DOFs, parsed (errors name the field `dofs`).
+    pub fn dofs(&self) -> Result<(crate::frf::Dof, crate::frf::Dof)> {
+        let p = |t: &str, side: &str| {
+            crate::frf::Dof::parse(t, "")
+                .map_err(|e| Error::usage(format!("{side} DOF: {}", e.message)).field("dofs"))
+        };
+        if self.dataset == Some(0) {
+            return Err(Error::usage(
+                "dataset 0: datasets are numbered from 1 in the order of the file",
+            )
+            .field("dofs"));
+        }
+        Ok((p(&self.out, "out")?, p(&self.inp, "in")?))
+    }
 }
 
 /// The JSON form of [`ImportOptions`] as read (the column map is taken
@@ -87,6 +154,12 @@ struct ImportOptionsJson {
     column_map: Option<serde_json::Value>,
     #[serde(default)]
     mat: Option<serde_json::Value>,
+    #[serde(default)]
+    out_qty: Option<crate::units::Quantity>,
+    #[serde(default)]
+    in_qty: Option<crate::units::Quantity>,
+    #[serde(default)]
+    dofs: Vec<UffDofs>,
 }
 
 fn signal_from_json<'de, D: serde::Deserializer<'de>>(
@@ -121,6 +194,14 @@ impl TryFrom<ImportOptionsJson> for ImportOptions {
             mat: match j.mat {
                 None | Some(serde_json::Value::Null) => None,
                 Some(v) => Some(mat::map_from_json(v).map_err(|e| e.message)?),
+            },
+            out_qty: j.out_qty,
+            in_qty: j.in_qty,
+            dofs: {
+                for d in &j.dofs {
+                    d.dofs().map_err(|e| format!("dofs: {}", e.message))?;
+                }
+                j.dofs
             },
         })
     }
@@ -469,6 +550,21 @@ pub fn load_with_limits(
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
+    let uff = matches!(format, Format::Uff58Ascii | Format::Uff58Binary);
+    for (given, key) in [
+        (opts.out_qty.is_some(), "out_qty"),
+        (opts.in_qty.is_some(), "in_qty"),
+        (!opts.dofs.is_empty(), "dofs"),
+    ] {
+        if given && !uff {
+            return Err(Error::usage(format!(
+                "the import option \"{key}\" applies to UFF files, but this file is {}; leave it out (a CSV's quantities and DOFs go in its column map, a MAT-file's in \"mat\")",
+                format.name()
+            ))
+            .field(key)
+            .in_file(file));
+        }
+    }
     if (opts.mat.is_some() && format != Format::Mat)
         || (format == Format::Mat && opts.column_map.is_some())
     {
@@ -478,11 +574,25 @@ pub fn load_with_limits(
         Format::Uff58Ascii | Format::Uff58Binary => {
             // without a given component, each DOF takes the one written in
             // the record-6 entity name, else the file stem
-            let (sets, w) = uff58::read_declared_with_limits(
+            let mut ov = uff58::Overrides {
+                out_qty: opts.out_qty,
+                in_qty: opts.in_qty,
+                dofs: Vec::new(),
+            };
+            for d in &opts.dofs {
+                let (out, inp) = d.dofs().map_err(|e| e.in_file(file))?;
+                ov.dofs.push(uff58::DofAssignment {
+                    dataset: d.dataset,
+                    out,
+                    inp,
+                });
+            }
+            let (sets, w) = uff58::read_overridden(
                 bytes,
                 file,
                 opts.component.as_deref(),
                 opts.signal,
+                &ov,
                 limits,
             )?;
             warnings.extend(w);

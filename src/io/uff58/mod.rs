@@ -107,7 +107,10 @@ mod scan;
 mod text;
 mod write;
 
-pub use group::{read, read_declared, read_declared_with_limits, read_with};
+pub use group::{
+    read, read_declared, read_declared_with_limits, read_overridden, read_with, unnumbered_dofs,
+    DofAssignment, Overrides,
+};
 pub use provenance::{provenance_from_lines, provenance_lines};
 pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout};
 pub use scan::{looks_like_uff, parse_datasets};

@@ -1,0 +1,146 @@
+//! Function types beyond the FRF, unit labels as measurement and FE programs
+//! write them, Latin-1 header text, datasets without DOF numbers and repeated
+//! runs, read against files written by pyuff.
+//! reference: pyuff 2.5.8 (PyPI), tests/py/uff_pyuff_signals.py; unit
+//! factors g_n = 9.80665 m/s² (ISO 80000-3), 1 lbf = 4.4482216152605 N and
+//! 1 in = 0.0254 m (1959 international yard and pound).
+
+mod common;
+
+use mortise::frf::SignalKind;
+use mortise::io::{self, ImportOptions};
+use mortise::units::Quantity;
+use num_complex::Complex64;
+use serde_json::Value;
+
+fn floats(v: &Value) -> Vec<f64> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_f64().unwrap())
+        .collect()
+}
+
+fn kind_of(k: &str) -> Option<SignalKind> {
+    match k {
+        "frf" => None,
+        "peak" => Some(SignalKind::Peak),
+        "autopower" => Some(SignalKind::Autopower),
+        "psd" => Some(SignalKind::Psd),
+        "cross" => Some(SignalKind::Cross),
+        "esd" => Some(SignalKind::Esd),
+        o => panic!("kind {o}"),
+    }
+}
+
+#[test]
+fn every_function_type_and_label_form_reads_in_si() {
+    let dir = common::scratch("uff_signals");
+    let out = common::run_py("uff_pyuff_signals.py", &[dir.to_str().unwrap()]);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let cases = v["cases"].as_array().unwrap();
+    assert!(cases.len() >= 24);
+    let mut worst = 0.0f64;
+    let mut types = std::collections::BTreeSet::new();
+    let mut forms = std::collections::BTreeSet::new();
+    for c in cases {
+        let name = c["name"].as_str().unwrap();
+        let path = c["file"].as_str().unwrap();
+        let bytes = std::fs::read(path).unwrap();
+        let loaded = io::load(&bytes, &format!("{name}.uff"), &ImportOptions::default())
+            .unwrap_or_else(|e| panic!("{name}: {e}"));
+        assert_eq!(loaded.sets.len(), 1, "{name}");
+        let s = &loaded.sets[0];
+        assert_eq!(s.signal, kind_of(c["kind"].as_str().unwrap()), "{name}");
+        let q = |k: &str| Quantity::parse(c[k].as_str().unwrap()).unwrap();
+        assert_eq!(s.out_qty, q("out_qty"), "{name}");
+        assert_eq!(s.in_qty, q("in_qty"), "{name}");
+        assert_eq!(s.freqs, floats(&c["freqs"]), "{name}");
+        let re = floats(&c["re"]);
+        let im = floats(&c["im"]);
+        for (k, (r, i)) in re.iter().zip(&im).enumerate() {
+            let want = Complex64::new(*r, *i);
+            let got = s.get(k, 0, 0);
+            let e = (got - want).norm() / want.norm();
+            worst = worst.max(e);
+            assert!(e <= 1e-12, "{name} line {k}: {got} vs {want} ({e:.2e})");
+        }
+        types.insert(c["func_type"].as_i64().unwrap());
+        forms.insert((
+            c["ord_data_type"].as_i64().unwrap(),
+            c["binary"].as_bool().unwrap(),
+        ));
+        // the cross spectrum keeps its reference DOF
+        if s.signal == Some(SignalKind::Cross) {
+            assert_eq!(s.inputs[0].to_string(), format!("{name}:2+Z"), "{name}");
+        }
+    }
+    assert_eq!(
+        types.into_iter().collect::<Vec<_>>(),
+        vec![0, 2, 3, 4, 5, 9, 10, 12]
+    );
+    // real and complex, single and double (ASCII), double in ASCII and 58b
+    // (pyuff 2.5.8 writes 58b payloads in double whatever the declared type;
+    // single-precision 58b is read in tests/uff_read.rs)
+    for f in [
+        (2, false),
+        (5, false),
+        (4, false),
+        (6, false),
+        (4, true),
+        (6, true),
+    ] {
+        assert!(forms.contains(&f), "ordinate type and binary {f:?}");
+    }
+    println!(
+        "worst relative error {worst:.2e} over {} cases",
+        cases.len()
+    );
+}
+
+#[test]
+fn latin1_header_bytes_read_with_the_right_unit() {
+    // a pyuff-written FRF whose record-9 label is rewritten byte by byte in
+    // Latin-1: 'mm/s\xB2/N' (0xB2 superscript two) and '\xB5m/s/N' (0xB5 micro)
+    let dir = common::scratch("uff_signals_latin1");
+    let out = common::run_py("uff_pyuff_signals.py", &[dir.to_str().unwrap()]);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let case = v["cases"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "frf_caret")
+        .unwrap();
+    let bytes = std::fs::read(case["file"].as_str().unwrap()).unwrap();
+    let from = b"(m/s^2)/N ";
+    let at = bytes.windows(from.len()).position(|w| w == from).unwrap();
+    for (label, factor, q) in [
+        (&b"mm/s\xB2/N   "[..], 1e-3, Quantity::Acceleration),
+        (&b"\xB5m/s/N    "[..], 1e-6, Quantity::Velocity),
+    ] {
+        assert_eq!(label.len(), from.len());
+        let mut b = bytes.clone();
+        b[at..at + from.len()].copy_from_slice(label);
+        assert!(std::str::from_utf8(&b[..at + 20]).is_err());
+        let l = io::load(&b, "latin1.uff", &ImportOptions::default()).unwrap();
+        let s = &l.sets[0];
+        assert_eq!(s.out_qty, q);
+        let re = floats(&case["re"]);
+        let im = floats(&case["im"]);
+        for k in 0..re.len() {
+            let want = Complex64::new(re[k], im[k]) * factor;
+            assert!((s.get(k, 0, 0) - want).norm() <= 1e-12 * want.norm());
+        }
+        let w: Vec<&String> = l
+            .warnings
+            .iter()
+            .filter(|w| w.contains("Latin-1"))
+            .collect();
+        assert_eq!(w.len(), 1, "{:?}", l.warnings);
+        assert!(
+            w[0].starts_with("latin1.uff: dataset at line 1: header text"),
+            "{}",
+            w[0]
+        );
+    }
+}
