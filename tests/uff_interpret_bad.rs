@@ -353,3 +353,85 @@ fn unnumbered_dofs_are_no_driving_point_until_assigned() {
     // g_n = 9.80665 m/s^2 (ISO 80000-3)
     assert_eq!(s.get(0, 0, 0).re, 9.80665);
 }
+
+/// What real programs do to the text: tolerated where no number can change.
+#[test]
+fn tolerated_text_variants_read_the_same_values() {
+    let good = ds(4, (1, 3), (2, 3), (12, "g"), (13, "N"));
+    let want = uff58::read(good.as_bytes(), "wall.uff", "wall").unwrap().0;
+    let variants: Vec<(&str, String)> = vec![
+        ("CRLF", good.replace('\n', "\r\n")),
+        ("trailing spaces", good.replace('\n', "   \n")),
+        (
+            "no newline after the end tag",
+            good.trim_end_matches('\n').to_string(),
+        ),
+        (
+            "end tag on the last data line",
+            good.replace("6.000000000000e-01\n    -1\n", "6.000000000000e-01    -1\n"),
+        ),
+        (
+            "short last data line padded differently",
+            good.replace(
+                "  5.000000000000e+00  6.000000000000e-01",
+                "5.0e+00 6.0e-01",
+            ),
+        ),
+        (
+            "blank ID records",
+            good.replace("bench run\nNONE\nNONE", "bench run\n\n"),
+        ),
+        (
+            "blank lines between datasets",
+            format!("{good}\n\n{}", good.replace("    1   3", "    4   3")),
+        ),
+    ];
+    for (what, text) in variants {
+        let got = uff58::read(text.as_bytes(), "wall.uff", "wall")
+            .unwrap_or_else(|e| panic!("{what}: {e}"))
+            .0;
+        assert_eq!(got[0].get(0, 0, 0), want[0].get(0, 0, 0), "{what}");
+        assert_eq!(got[0].get(2, 0, 0), want[0].get(2, 0, 0), "{what}");
+    }
+}
+
+/// Strict where a number could change: a missing value, a value cut short.
+#[test]
+fn strict_where_a_number_could_change() {
+    let good = ds(4, (1, 3), (2, 3), (12, "g"), (13, "N"));
+    let short = good.replace(
+        "  5.000000000000e+00  6.000000000000e-01\n",
+        "  5.000000000000e+00\n",
+    );
+    let e = err_of(&short);
+    check(
+        &e,
+        Some(16),
+        "record 7, number of data points",
+        &[
+            "record 7 says 3 points (6 values for even complex data)",
+            "holds 5 values",
+        ],
+    );
+    // a seventh value '-1' then the end tag: never read as six values and
+    // a tag without saying so; the lone tag after it is refused
+    let extra = good.replace(
+        "6.000000000000e-01\n    -1\n",
+        "6.000000000000e-01 -1\n    -1\n",
+    );
+    let e = err_of(&extra);
+    check(
+        &e,
+        Some(17),
+        "dataset number",
+        &["the file ends after the start tag at line 16"],
+    );
+    let bad = good.replace("6.000000000000e-01", "6.000000000000e-0x");
+    let e = err_of(&bad);
+    check(
+        &e,
+        Some(15),
+        "record 12 (data values)",
+        &["expected a number, found '6.000000000000e-0x'"],
+    );
+}
