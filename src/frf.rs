@@ -289,6 +289,25 @@ impl SignalKind {
     pub fn has_phase(self) -> bool {
         matches!(self, SignalKind::Peak | SignalKind::Rms | SignalKind::Cross)
     }
+    /// The SI unit of a spectrum of this kind whose output unit is `out`
+    /// (and, for a cross spectrum, whose reference unit is `reference`).
+    pub fn unit(self, out: &str, reference: &str) -> String {
+        let p = |u: &str| {
+            if u.contains(['/', '*', '^']) {
+                format!("({u})")
+            } else {
+                u.to_string()
+            }
+        };
+        match self {
+            SignalKind::Peak | SignalKind::Rms => out.to_string(),
+            SignalKind::Autopower => format!("{}^2", p(out)),
+            SignalKind::Psd => format!("{}^2/Hz", p(out)),
+            SignalKind::Esd => format!("{}^2*s/Hz", p(out)),
+            SignalKind::Cross if out == reference => format!("{}^2", p(out)),
+            SignalKind::Cross => format!("{}*{}", p(out), p(reference)),
+        }
+    }
     /// What the kind is, in words, for messages.
     pub fn describe(self) -> &'static str {
         match self {

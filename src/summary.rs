@@ -147,8 +147,8 @@ pub fn unit_text(s: &FrfSet) -> String {
         let has_o = if ro { rot_out } else { tr_out };
         let has_i = if ri { rot_in } else { tr_in };
         if has_o && has_i {
-            let u = if s.signal.is_some() {
-                s.out_qty.si_unit(ro).to_string()
+            let u = if let Some(k) = s.signal {
+                k.unit(s.out_qty.si_unit(ro), s.in_qty.si_unit(ri))
             } else {
                 let paren = |u: &str| {
                     if u.contains(['/', '*']) {

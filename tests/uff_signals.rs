@@ -144,3 +144,67 @@ fn latin1_header_bytes_read_with_the_right_unit() {
         );
     }
 }
+
+#[test]
+fn cross_spectra_and_esd_write_back_and_pyuff_reads_them() {
+    use mortise::io::uff58;
+    let dir = common::scratch("uff_signals_write");
+    let out = common::run_py("uff_pyuff_signals.py", &[dir.to_str().unwrap()]);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    for name in ["cross_g_lbf", "cross_g2", "esd_full", "psd_pa", "trans_g_g"] {
+        let c = v["cases"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["name"] == name)
+            .unwrap();
+        let bytes = std::fs::read(c["file"].as_str().unwrap()).unwrap();
+        let set = io::load(&bytes, &format!("{name}.uff"), &ImportOptions::default())
+            .unwrap()
+            .sets
+            .remove(0);
+        for binary in [false, true] {
+            let w = uff58::write(std::slice::from_ref(&set), binary).unwrap();
+            let (back, _) = uff58::read_with(&w, "back.uff", None).unwrap();
+            let b = &back[0];
+            assert_eq!(b.signal, set.signal, "{name}");
+            assert_eq!((b.out_qty, b.in_qty), (set.out_qty, set.in_qty), "{name}");
+            assert_eq!(b.inputs[0].node, set.inputs[0].node, "{name}");
+            for k in 0..set.n_lines() {
+                let (x, y) = (b.get(k, 0, 0), set.get(k, 0, 0));
+                let e = (x - y).norm() / y.norm();
+                // 58b is bit-exact; ASCII keeps ≥ 13 significant digits
+                assert!(
+                    if binary { e == 0.0 } else { e <= 5e-13 },
+                    "{name} {binary}: {e:.2e}"
+                );
+            }
+            if binary {
+                continue;
+            }
+            // pyuff reads mortise's file: function type, nodes, labels, values
+            let (dsets, _) = uff58::parse_datasets(&w, "back.uff").unwrap();
+            let d = &dsets[0];
+            let want = serde_json::json!({
+                "x_rel_tol": 1e-12,
+                "y_rel_tol": 5e-13,
+                "datasets": [{
+                    "func_type": d.func_type, "rsp_node": d.rsp_node, "rsp_dir": d.rsp_dir,
+                    "ref_node": d.ref_node, "ref_dir": d.ref_dir,
+                    "num_units": d.axes[1].units, "den_units": if d.axes[2].units.is_empty() { "NONE".to_string() } else { d.axes[2].units.clone() },
+                    "x": d.x, "re": d.y.iter().map(|z| z.re).collect::<Vec<_>>(),
+                    "im": d.y.iter().map(|z| z.im).collect::<Vec<_>>(),
+                }]
+            });
+            let f = dir.join(format!("{name}-mortise.uff"));
+            let j = dir.join(format!("{name}-mortise.json"));
+            std::fs::write(&f, &w).unwrap();
+            std::fs::write(&j, want.to_string()).unwrap();
+            let r = common::run_py(
+                "uff_pyuff_read.py",
+                &[f.to_str().unwrap(), j.to_str().unwrap()],
+            );
+            assert!(r.starts_with("ok 1 datasets"), "{name}: {r}");
+        }
+    }
+}
