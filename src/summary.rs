@@ -65,7 +65,61 @@ pub struct FileSummary {
     /// FRFs in all sets together.
     pub frfs: usize,
     pub sets: Vec<SetSummary>,
+    /// Time histories (UFF function type 1), listed apart from the sets.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub time_histories: Vec<TimeSummary>,
     pub warnings: Vec<String>,
+}
+
+/// One time history of a file, for `inspect` and the page's card: it is
+/// not an FRF or spectrum and no operation takes it yet.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct TimeSummary {
+    pub name: String,
+    /// The channel DOF ("" when the file gives none).
+    pub channel: String,
+    /// What it measures ("" when the file does not tell).
+    pub quantity: String,
+    /// SI unit of the values ("" when the quantity is not told).
+    pub unit: String,
+    pub samples: usize,
+    /// Samples per second; `None` for uneven time steps.
+    pub sample_rate_hz: Option<f64>,
+    pub duration_s: f64,
+    /// 1-based line of the dataset.
+    pub line: usize,
+}
+
+/// The summary of one time history.
+pub fn time_summary(t: &crate::io::uff58::TimeHistory) -> TimeSummary {
+    TimeSummary {
+        name: t.name.clone(),
+        channel: t.channel.as_ref().map_or(String::new(), |d| d.to_string()),
+        quantity: t.quantity.map_or(String::new(), |q| q.name().to_string()),
+        unit: t.unit.clone(),
+        samples: t.values.len(),
+        sample_rate_hz: t.sample_rate_hz,
+        duration_s: t.duration_s,
+        line: t.line,
+    }
+}
+
+impl TimeSummary {
+    /// One line of text, as `inspect` prints it.
+    pub fn text(&self) -> String {
+        format!(
+            "time history '{}' at line {}: channel {}, {}{}, {} samples{}, {:.6} s; not an FRF or spectrum (time data import is a later feature)",
+            self.name,
+            self.line,
+            if self.channel.is_empty() { "without DOF number" } else { &self.channel },
+            if self.quantity.is_empty() { "quantity not told" } else { &self.quantity },
+            if self.unit.is_empty() { String::new() } else { format!(" in {}", self.unit) },
+            self.samples,
+            self.sample_rate_hz
+                .map_or(", uneven time steps".to_string(), |r| format!(" at {r:.4} Hz")),
+            self.duration_s
+        )
+    }
 }
 
 /// Describe the spacing of a frequency grid.
@@ -192,6 +246,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
         format: loaded.format.name().to_string(),
         frfs: sets.iter().map(|s| s.frfs).sum(),
         sets,
+        time_histories: loaded.time_histories.iter().map(time_summary).collect(),
         warnings: loaded.warnings.clone(),
     }
 }

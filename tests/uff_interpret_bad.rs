@@ -233,7 +233,21 @@ fn declared_kind_against_a_cross_spectrum() {
 
 #[test]
 fn only_time_responses() {
-    let e = err_of(&ds(1, (1, 3), (0, 0), (12, "m/s^2"), (0, "")));
+    // a time response whose abscissa says frequency: refused, not read
+    let bad = ds(1, (1, 3), (0, 0), (12, "m/s^2"), (0, ""));
+    let e = err_of(&bad);
+    check(
+        &e,
+        Some(10),
+        "record 8, specific data type",
+        &["abscissa specific data type 18 (frequency) for a time response; expected 17 (time)"],
+    );
+    let good = bad.replace(
+        "        18    0    0    0 NONE                 Hz  ",
+        "        17    0    0    0 NONE                 s   ",
+    );
+    assert_ne!(good, bad);
+    let e = err_of(&good);
     assert_eq!(e.kind, ErrorKind::Unsupported);
     check(
         &e,

@@ -330,17 +330,16 @@ fn other_datasets_and_function_types_are_skipped_with_remarks() {
         "{warns:?}"
     );
     assert!(
-        warns.iter().any(
-            |w| w.contains("function type 1 (time response) at line(s) 7")
-                && w.contains("time data import is a later feature")
-        ),
+        warns.iter().any(|w| w
+            .contains("line 7: time response skipped: abscissa specific data type 18 (frequency)")),
         "{warns:?}"
     );
     assert_eq!(uff58::looks_like_uff(&bytes), Some(false));
-    // only a time response: nothing mortise reads
+    // only a time response (whose abscissa says frequency): its error
     let e = uff58::read(&file(&[ds(1, (1, 3), (1, 3), &GA, &y)]), "t.uff", "w").unwrap_err();
     assert!(
-        e.to_string().starts_with("t.uff: line 8: record 6, function type: 1 dataset(s) of function type 1 (time response)"),
+        e.to_string()
+            .starts_with("t.uff: line 10: record 8, specific data type: abscissa specific data type 18 (frequency) for a time response"),
         "{e}"
     );
 }

@@ -208,3 +208,49 @@ fn cross_spectra_and_esd_write_back_and_pyuff_reads_them() {
         }
     }
 }
+
+#[test]
+fn time_responses_are_a_separate_typed_list() {
+    let dir = common::scratch("uff_signals_time");
+    let out = common::run_py("uff_pyuff_signals.py", &[dir.to_str().unwrap()]);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    for c in v["time"].as_array().unwrap() {
+        let name = c["name"].as_str().unwrap();
+        let bytes = std::fs::read(c["file"].as_str().unwrap()).unwrap();
+        let l = io::load(&bytes, &format!("{name}.uff"), &ImportOptions::default())
+            .unwrap_or_else(|e| panic!("{name}: {e}"));
+        // never a set on a frequency grid
+        assert!(l.sets.is_empty(), "{name}");
+        assert_eq!(l.time_histories.len(), 1, "{name}");
+        let t = &l.time_histories[0];
+        assert_eq!(t.quantity, Some(Quantity::Acceleration), "{name}");
+        assert_eq!(t.unit, "m/s^2");
+        assert_eq!(
+            t.channel.as_ref().unwrap().to_string(),
+            format!("{name}:5+Y")
+        );
+        assert_eq!(t.times, floats(&c["times"]), "{name}");
+        let want = floats(&c["values"]);
+        assert_eq!(t.values.len(), 64);
+        for (a, b) in t.values.iter().zip(&want) {
+            assert!((a - b).abs() <= 1e-12 * b.abs(), "{name}: {a} vs {b}");
+        }
+        let dt = c["dt"].as_f64().unwrap();
+        assert_eq!(t.sample_rate_hz, Some(1.0 / dt));
+        // the increment as record 7 holds it (13 columns: 9.76563e-04 s)
+        assert!((t.duration_s - 63.0 * dt).abs() < 1e-15);
+        // inspect's line and the card's summary say what it is
+        let s = mortise::summary::time_summary(t).text();
+        assert!(
+            s.contains("64 samples at 1024.0005 Hz, 0.061523 s")
+                && s.contains("time data import is a later feature"),
+            "{s}"
+        );
+        // the plain FRF reader refuses a file of time data, naming it
+        let e = mortise::io::uff58::read(&bytes, "t.uff", "t").unwrap_err();
+        assert!(
+            e.to_string().contains("function type 1 (time response)"),
+            "{e}"
+        );
+    }
+}

@@ -415,6 +415,7 @@ pub fn run(args: &Args) -> Result<Done> {
                     "sha256": f.sha256,
                     "content_sha256": f.content_sha256,
                     "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
+                    "time_histories": l.time_histories.iter().map(crate::summary::time_summary).collect::<Vec<_>>(),
                     "warnings": l.warnings,
                 }),
                 (Err(e), None) => serde_json::json!({
@@ -457,6 +458,9 @@ pub fn run(args: &Args) -> Result<Done> {
                 }
                 for (n, s) in l.sets.iter().enumerate() {
                     set_text(n + 1, s, &mut out);
+                }
+                for t in &l.time_histories {
+                    out.push_str(&format!("  {}\n", crate::summary::time_summary(t).text()));
                 }
                 for w in &l.warnings {
                     out.push_str(&format!("  warning: {w}\n"));

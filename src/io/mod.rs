@@ -248,6 +248,9 @@ pub struct Loaded {
     pub format: Format,
     pub sets: Vec<FrfSet>,
     pub warnings: Vec<String>,
+    /// Time histories (UFF function type 1), apart from the sets: no FRF or
+    /// spectrum operation takes them.
+    pub time_histories: Vec<uff58::TimeHistory>,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -550,6 +553,7 @@ pub fn load_with_limits(
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
+    let mut time_histories = Vec::new();
     let uff = matches!(format, Format::Uff58Ascii | Format::Uff58Binary);
     for (given, key) in [
         (opts.out_qty.is_some(), "out_qty"),
@@ -587,7 +591,7 @@ pub fn load_with_limits(
                     inp,
                 });
             }
-            let (sets, w) = uff58::read_overridden(
+            let r = uff58::read_overridden(
                 bytes,
                 file,
                 opts.component.as_deref(),
@@ -595,8 +599,9 @@ pub fn load_with_limits(
                 &ov,
                 limits,
             )?;
-            warnings.extend(w);
-            sets
+            warnings.extend(r.warnings);
+            time_histories = r.time;
+            r.sets
         }
         Format::CsvNative => {
             let mut sets = csv::read_native_with_limits(bytes, file, limits)?;
@@ -699,13 +704,14 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             }
         }
     }
-    if sets.is_empty() {
+    if sets.is_empty() && time_histories.is_empty() {
         warnings.push("the file holds no FRF sets".to_string());
     }
     Ok(Loaded {
         format,
         sets,
         warnings,
+        time_histories,
     })
 }
 

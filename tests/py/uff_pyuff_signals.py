@@ -126,4 +126,47 @@ for (name, ft, (c9, l9), (c10, l10), cplx, double, binary, factor, kind, oq, iq,
             "im": [float(v) for v in np.imag(si)],
         }
     )
-print(json.dumps({"cases": out}))
+# time responses (function type 1): abscissa in s (code 17), ordinate in g
+times = []
+for (name, label, factor, binary, double) in [
+    ("time_g", "g", G, False, True),
+    ("time_mm", "mm/s²", 1e-3, True, True),
+    ("time_single", "m/s2", 1.0, False, False),
+]:
+    n_t = 64
+    dt = 1.0 / 1024.0
+    y = rng.normal(size=n_t)
+    d = pyuff.prepare_58(
+        binary=1 if binary else 0,
+        id1=name,
+        func_type=1,
+        rsp_node=5,
+        rsp_dir=2,
+        ref_node=0,
+        ref_dir=0,
+        ord_data_type=4 if double else 2,
+        abscissa_spacing=1,
+        abscissa_spec_data_type=17,
+        abscissa_axis_units_lab="s",
+        ordinate_spec_data_type=12,
+        ordinate_axis_units_lab=label,
+        orddenom_spec_data_type=0,
+        orddenom_axis_units_lab="NONE",
+        data=y,
+        x=np.arange(n_t) * dt,
+    )
+    path = os.path.join(out_dir, f"{name}.uff")
+    if os.path.exists(path):
+        os.remove(path)
+    pyuff.UFF(path).write_sets([d], mode="add", force_double=False)
+    back = pyuff.UFF(path).read_sets(0)
+    times.append(
+        {
+            "name": name,
+            "file": path,
+            "dt": float(back["abscissa_inc"]),
+            "times": [float(t) for t in np.asarray(back["x"], dtype=float)],
+            "values": [float(v) for v in np.real(np.asarray(back["data"])) * factor],
+        }
+    )
+print(json.dumps({"cases": out, "time": times}))

@@ -10,7 +10,7 @@
 
 use super::convert::{dir_of, frequencies, frf_meaning, spectrum_meaning, untold, SpectrumMeaning};
 use super::provenance::provenance_from_lines;
-use super::records::{function_type_name, Dataset58};
+use super::records::{data_type_name, function_type_name, Dataset58, TimeHistory};
 use super::scan::parse_datasets;
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
@@ -260,14 +260,119 @@ pub fn read_declared_with_limits(
     declared: Option<SignalKind>,
     limits: &Limits,
 ) -> Result<(Vec<FrfSet>, Vec<String>)> {
-    read_overridden(
+    let r = read_overridden(
         bytes,
         file,
         component,
         declared,
         &Overrides::default(),
         limits,
+    )?;
+    if r.sets.is_empty() {
+        return Err(time_only(file, &r.time));
+    }
+    let mut warnings = r.warnings;
+    if !r.time.is_empty() {
+        warnings.push(format!(
+            "{file}: {}; skipped by this reader",
+            time_text(&r.time)
+        ));
+    }
+    Ok((r.sets, warnings))
+}
+
+/// What [`read_overridden`] gives: FRF and spectrum sets, time histories
+/// (function type 1) apart, and warnings.
+#[derive(Debug, Clone, Default)]
+pub struct UffRead {
+    pub sets: Vec<FrfSet>,
+    pub time: Vec<TimeHistory>,
+    pub warnings: Vec<String>,
+}
+
+fn time_text(time: &[TimeHistory]) -> String {
+    let lines: Vec<String> = time.iter().take(5).map(|t| t.line.to_string()).collect();
+    format!(
+        "{} dataset(s) of function type 1 (time response) at line(s) {}{}: time histories are not FRFs or spectra (their abscissa is time, not frequency); time data import is a later feature (it will feed spectra for excitation and operational data for blocked forces)",
+        time.len(),
+        lines.join(", "),
+        if time.len() > 5 { " ..." } else { "" }
     )
+}
+
+fn time_only(file: &str, time: &[TimeHistory]) -> Error {
+    Error::unsupported(time_text(time))
+        .field("record 6, function type")
+        .at_line(time.first().map_or(1, |t| t.line + 7))
+        .in_file(file)
+}
+
+/// A dataset of function type 1 as a [`TimeHistory`] in SI.
+fn time_history(
+    file: &str,
+    ds: &Dataset58,
+    channel: Option<Dof>,
+    rm: &mut Remarks,
+) -> Result<TimeHistory> {
+    let ax = &ds.axes[0];
+    if !matches!(ax.code, 17 | 0 | 1) {
+        return Err(Error::unsupported(format!(
+            "abscissa specific data type {} ({}) for a time response; expected 17 (time)",
+            ax.code,
+            data_type_name(ax.code)
+        ))
+        .field("record 8, specific data type")
+        .at_line(ds.record_line(8))
+        .in_file(file));
+    }
+    let tf = if ax.units.is_empty() {
+        1.0
+    } else {
+        let u = crate::units::parse_unit(&ax.units).map_err(|e| {
+            e.field("record 8, axis units label")
+                .at_line(ds.record_line(8))
+                .in_file(file)
+        })?;
+        if u.dim != crate::units::Dim::new(0, 0, 1, 0) {
+            return Err(Error::unit(format!(
+                "abscissa units label '{}' of a time response is not a time unit; expected s",
+                crate::error::quote(&ax.units)
+            ))
+            .field("record 8, axis units label")
+            .at_line(ds.record_line(8))
+            .in_file(file));
+        }
+        u.factor
+    };
+    let rot = channel.as_ref().is_some_and(|d| d.dir.is_rotational());
+    let (quantity, factor) = match spectrum_meaning(file, ds, Some(SignalKind::Peak), rot, rm)? {
+        Some(m) => (Some(m.qty), m.factor),
+        None => {
+            rm.add(
+                "time response without a quantity in record 9: values kept as in the file"
+                    .to_string(),
+                ds.line,
+            );
+            (None, 1.0)
+        }
+    };
+    let times: Vec<f64> = ds.x.iter().map(|t| t * tf).collect();
+    let duration_s = match (times.first(), times.last()) {
+        (Some(a), Some(b)) => b - a,
+        _ => 0.0,
+    };
+    Ok(TimeHistory {
+        name: ds.id[0].trim().to_string(),
+        channel,
+        quantity,
+        unit: quantity.map_or(String::new(), |q| q.si_unit(rot).to_string()),
+        start_s: times.first().copied().unwrap_or(0.0),
+        sample_rate_hz: (ds.even && ds.x_inc > 0.0).then(|| 1.0 / (ds.x_inc * tf)),
+        duration_s,
+        values: ds.y.iter().map(|v| v.re * factor).collect(),
+        times,
+        line: ds.line,
+    })
 }
 
 /// The DOFs a dataset without DOF numbers gets until the user assigns them:
@@ -288,7 +393,7 @@ pub fn read_overridden(
     declared: Option<SignalKind>,
     ov: &Overrides,
     limits: &Limits,
-) -> Result<(Vec<FrfSet>, Vec<String>)> {
+) -> Result<UffRead> {
     let stem = crate::io::file_stem(file);
     let comp_of = |entity: &str| -> String {
         match component {
@@ -314,7 +419,8 @@ pub fn read_overridden(
     let mut used_out_qty = false;
     let mut used_in_qty = false;
     let mut used_dofs = vec![false; ov.dofs.len()];
-    let mut time_data: Vec<usize> = Vec::new();
+    let mut time: Vec<TimeHistory> = Vec::new();
+    let mut time_errors: Vec<Error> = Vec::new();
     let n_unnumbered = datasets.iter().filter(|d| unnumbered(d)).count();
     for (ds_index, ds) in datasets.iter().enumerate() {
         let ds_no = ds_index + 1;
@@ -352,7 +458,28 @@ pub fn read_overridden(
             }
             0 => Role::General,
             1 => {
-                time_data.push(ds.line);
+                let channel = (!(ds.rsp_node == 0 && ds.rsp_dir == 0)).then(|| {
+                    let (d, pos) = dir_of(ds.rsp_dir);
+                    let mut c = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), d);
+                    c.positive = pos;
+                    c
+                });
+                let mut rm = Remarks::default();
+                match time_history(file, ds, channel, &mut rm) {
+                    Ok(t) => time.push(t),
+                    // a contradictory time dataset does not block the
+                    // file's other data; alone, it is the file's error
+                    Err(e) => {
+                        file_rm.add(format!("time response skipped: {}", e.message), ds.line);
+                        time_errors.push(e);
+                        continue;
+                    }
+                }
+                for (m, lines) in rm.items {
+                    for l in lines {
+                        file_rm.add(m.clone(), l);
+                    }
+                }
                 continue;
             }
             t => {
@@ -632,22 +759,6 @@ pub fn read_overridden(
         .field("dofs")
         .in_file(file));
     }
-    if !time_data.is_empty() {
-        let lines: Vec<String> = time_data.iter().take(5).map(|l| l.to_string()).collect();
-        let msg = format!(
-            "{} dataset(s) of function type 1 (time response) at line(s) {}{}: time histories are not read yet (their abscissa is time, not frequency; reading them as spectra would give wrong numbers); time data import is a later feature (it will feed spectra for excitation and operational data for blocked forces)",
-            time_data.len(),
-            lines.join(", "),
-            if time_data.len() > 5 { " ..." } else { "" }
-        );
-        if groups.list.is_empty() && coherences.is_empty() {
-            return Err(Error::unsupported(msg)
-                .field("record 6, function type")
-                .at_line(time_data[0] + 7)
-                .in_file(file));
-        }
-        warnings.push(format!("{file}: {msg}; skipped"));
-    }
     split_runs(&mut groups);
     let prov_base = Provenance {
         file: crate::io::base_name(file),
@@ -758,6 +869,18 @@ pub fn read_overridden(
         warnings.extend(s.warnings.iter().cloned());
     }
     warnings.extend(file_rm.render(file));
+    if sets.is_empty() && time.is_empty() {
+        if let Some(e) = time_errors.into_iter().next() {
+            return Err(e);
+        }
+    }
+    if sets.is_empty() && !time.is_empty() {
+        return Ok(UffRead {
+            sets,
+            time,
+            warnings,
+        });
+    }
     if sets.is_empty() {
         return Err(Error::unsupported(format!(
             "the file holds {} dataset(s) 58 but none mortise reads (FRF, transmissibility, coherence with its FRF, spectra)",
@@ -766,7 +889,11 @@ pub fn read_overridden(
         .field("record 6, function type")
         .in_file(file));
     }
-    Ok((sets, warnings))
+    Ok(UffRead {
+        sets,
+        time,
+        warnings,
+    })
 }
 
 type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);

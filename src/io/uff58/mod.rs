@@ -138,9 +138,9 @@ mod write;
 
 pub use group::{
     read, read_declared, read_declared_with_limits, read_overridden, read_with, unnumbered_dofs,
-    DofAssignment, Overrides,
+    DofAssignment, Overrides, UffRead,
 };
 pub use provenance::{provenance_from_lines, provenance_lines};
-pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout};
+pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout, TimeHistory};
 pub use scan::{looks_like_uff, parse_datasets};
 pub use write::{datasets_of, shortest, write, write_dataset, write_with};
