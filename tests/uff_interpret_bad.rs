@@ -449,3 +449,50 @@ fn strict_where_a_number_could_change() {
         &["expected a number, found '6.000000000000e-0x'"],
     );
 }
+
+/// The CLI's UFF options reach the reader (`mortise inspect`, the same
+/// function the binary calls).
+#[test]
+fn cli_uff_options_reach_the_reader() {
+    use mortise::cli::execute;
+    let dir = std::env::temp_dir().join(format!("mortise-uffsig-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let f = dir.join("wall.uff");
+    let two = format!(
+        "{}{}",
+        ds(4, (0, 0), (0, 0), (12, "g"), (13, "N")),
+        ds(0, (3, 1), (4, 1), (0, ""), (0, ""))
+    );
+    std::fs::write(&f, two).unwrap();
+    let path = f.to_str().unwrap().to_string();
+    let run = |extra: &[&str]| {
+        let mut a = vec!["inspect".to_string(), path.clone()];
+        a.extend(extra.iter().map(|s| s.to_string()));
+        execute(&a)
+    };
+    // without the options: the general dataset is refused, naming the options
+    let o = run(&[]);
+    assert!(o.stdout.contains("--uff-out-qty"), "{}", o.stdout);
+    // with them: both read; dataset 1 at the assigned DOFs
+    let o = run(&[
+        "--uff-out-qty",
+        "velocity",
+        "--uff-in-qty",
+        "force",
+        "--uff-dofs",
+        "1:wall:7+Z,wall:8+Z",
+    ]);
+    assert!(o.error.is_none(), "{}{}", o.stdout, o.stderr);
+    assert!(o.stdout.contains("outputs: wall:7+Z"), "{}", o.stdout);
+    assert!(o.stdout.contains("(velocity per force)"), "{}", o.stdout);
+    // a malformed --uff-dofs is a usage error naming the option
+    let o = run(&["--uff-dofs", "wall:7+Z"]);
+    let e = o.error.unwrap();
+    assert_eq!(e.kind, ErrorKind::Usage);
+    assert!(
+        e.message.contains("--uff-dofs") && e.message.contains("OUT,IN"),
+        "{}",
+        e.message
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
