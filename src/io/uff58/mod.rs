@@ -88,9 +88,11 @@
 //! is the set's one input, values in output unit × reference unit),
 //! 9 (PSD), 10 (ESD), 12 (spectrum) and 0 (general) when records 9 and 10
 //! tell the quantities (a ratio label: an FRF; a unit, its square or its
-//! square per Hz: a spectrum). Time responses (1) are named and skipped:
-//! their abscissa is time and must never become a frequency grid. Other
-//! types are skipped with a remark.
+//! square per Hz: a spectrum). Time responses (1) are read by
+//! [`read_overridden`] into a separate list of [`TimeHistory`] (abscissa
+//! code 17, a time unit), never into a set: their abscissa is time and must
+//! never become a frequency grid; the plain readers skip them (and refuse a
+//! file of time data alone, by name). Other types are skipped with a remark.
 //!
 //! Quantities come from the specific data types and the units labels of
 //! records 9 and 10 together: a ratio label in record 9 (`(1/N)*(m/s²)`,
