@@ -614,6 +614,13 @@ impl FrfSet {
     /// of higher order divides, e.g. dynamic stiffness → impedance is ÷iω.
     /// Force ↔ motion swaps need [`FrfSet::invert`].
     pub fn to_quantities(&self, out_q: Quantity, in_q: Quantity) -> Result<FrfSet> {
+        if let Some(k @ (SignalKind::Cross | SignalKind::Esd)) = self.signal {
+            return Err(Error::quantity(format!(
+                "'{}' is {}; its quantities are not changed by (iω)^n here",
+                self.name,
+                k.describe()
+            )));
+        }
         let p_out = order_change(self.out_qty, out_q, "output", &self.name)?;
         let p_in = order_change(self.in_qty, in_q, "input", &self.name)?;
         let p = p_out - p_in;

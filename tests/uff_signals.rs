@@ -254,3 +254,54 @@ fn time_responses_are_a_separate_typed_list() {
         );
     }
 }
+
+#[test]
+fn transmissibility_converts_as_a_ratio_of_like_quantities() {
+    let dir = common::scratch("uff_signals_trans");
+    let out = common::run_py("uff_pyuff_signals.py", &[dir.to_str().unwrap()]);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let c = v["cases"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "trans_g_g")
+        .unwrap();
+    let bytes = std::fs::read(c["file"].as_str().unwrap()).unwrap();
+    let s = io::load(&bytes, "t.uff", &ImportOptions::default())
+        .unwrap()
+        .sets
+        .remove(0);
+    // a_out/a_in -> v_out/a_in divides by iω (e^{+iωt}); v_out/v_in equals a_out/a_in
+    let va = s
+        .to_quantities(Quantity::Velocity, Quantity::Acceleration)
+        .unwrap();
+    let vv = s
+        .to_quantities(Quantity::Velocity, Quantity::Velocity)
+        .unwrap();
+    for k in 0..s.n_lines() {
+        let iw = Complex64::new(0.0, 2.0 * std::f64::consts::PI * s.freqs[k]);
+        let want = s.get(k, 0, 0) / iw;
+        assert!((va.get(k, 0, 0) - want).norm() <= 1e-14 * want.norm());
+        assert_eq!(vv.get(k, 0, 0), s.get(k, 0, 0));
+    }
+    // a force side is not a transmissibility's: refused
+    assert!(s
+        .to_quantities(Quantity::Force, Quantity::Acceleration)
+        .is_err());
+    // cross spectra and ESD are not converted by (iω)^n
+    let c = v["cases"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "cross_g2")
+        .unwrap();
+    let bytes = std::fs::read(c["file"].as_str().unwrap()).unwrap();
+    let x = io::load(&bytes, "x.uff", &ImportOptions::default())
+        .unwrap()
+        .sets
+        .remove(0);
+    let e = x
+        .to_quantities(Quantity::Velocity, Quantity::Velocity)
+        .unwrap_err();
+    assert!(e.message.contains("is a cross spectrum"), "{}", e.message);
+}
