@@ -253,6 +253,9 @@ impl fmt::Display for FrfKind {
 /// A spectrum is stored as an [`FrfSet`] with one input column: the outputs
 /// are the DOFs the spectrum acts at, the single input is a dimensionless
 /// reference (`Dof::scalar("", "ref")`). The kind says how to read the values.
+/// A cross spectrum is the exception: its single input is the reference DOF
+/// (the channel the phase is measured against), `in_qty` its quantity, and
+/// the values are in (output unit)·(reference unit).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum SignalKind {
@@ -264,6 +267,11 @@ pub enum SignalKind {
     Autopower,
     /// Power spectral density (unit²/Hz), phase unknown.
     Psd,
+    /// Cross spectrum per line (output unit · reference unit, complex; the
+    /// phase is that of the output relative to the reference DOF).
+    Cross,
+    /// Energy spectral density (unit²·s/Hz) of a transient, phase unknown.
+    Esd,
 }
 
 impl SignalKind {
@@ -273,11 +281,43 @@ impl SignalKind {
             SignalKind::Rms => "rms",
             SignalKind::Autopower => "autopower",
             SignalKind::Psd => "psd",
+            SignalKind::Cross => "cross",
+            SignalKind::Esd => "esd",
         }
     }
     /// True when the values carry phase.
     pub fn has_phase(self) -> bool {
-        matches!(self, SignalKind::Peak | SignalKind::Rms)
+        matches!(self, SignalKind::Peak | SignalKind::Rms | SignalKind::Cross)
+    }
+    /// The SI unit of a spectrum of this kind whose output unit is `out`
+    /// (and, for a cross spectrum, whose reference unit is `reference`).
+    pub fn unit(self, out: &str, reference: &str) -> String {
+        let p = |u: &str| {
+            if u.contains(['/', '*', '^']) {
+                format!("({u})")
+            } else {
+                u.to_string()
+            }
+        };
+        match self {
+            SignalKind::Peak | SignalKind::Rms => out.to_string(),
+            SignalKind::Autopower => format!("{}^2", p(out)),
+            SignalKind::Psd => format!("{}^2/Hz", p(out)),
+            SignalKind::Esd => format!("{}^2*s/Hz", p(out)),
+            SignalKind::Cross if out == reference => format!("{}^2", p(out)),
+            SignalKind::Cross => format!("{}*{}", p(out), p(reference)),
+        }
+    }
+    /// What the kind is, in words, for messages.
+    pub fn describe(self) -> &'static str {
+        match self {
+            SignalKind::Peak => "a peak line spectrum",
+            SignalKind::Rms => "an RMS line spectrum",
+            SignalKind::Autopower => "an auto spectrum (autopower)",
+            SignalKind::Psd => "a power spectral density",
+            SignalKind::Cross => "a cross spectrum",
+            SignalKind::Esd => "an energy spectral density",
+        }
     }
 }
 
@@ -574,6 +614,13 @@ impl FrfSet {
     /// of higher order divides, e.g. dynamic stiffness → impedance is ÷iω.
     /// Force ↔ motion swaps need [`FrfSet::invert`].
     pub fn to_quantities(&self, out_q: Quantity, in_q: Quantity) -> Result<FrfSet> {
+        if let Some(k @ (SignalKind::Cross | SignalKind::Esd)) = self.signal {
+            return Err(Error::quantity(format!(
+                "'{}' is {}; its quantities are not changed by (iω)^n here",
+                self.name,
+                k.describe()
+            )));
+        }
         let p_out = order_change(self.out_qty, out_q, "output", &self.name)?;
         let p_in = order_change(self.in_qty, in_q, "input", &self.name)?;
         let p = p_out - p_in;

@@ -378,6 +378,12 @@ pub fn mean_squares_df(
             };
             values.iter().zip(w).map(|(v, d)| v.re * d).collect()
         }
+        SignalKind::Cross | SignalKind::Esd => {
+            return Err(Error::quantity(format!(
+                "{} has no mean square per line; levels are taken of peak, RMS, autopower or PSD spectra",
+                kind.describe()
+            )))
+        }
     })
 }
 

@@ -65,11 +65,65 @@ pub struct FileSummary {
     /// FRFs in all sets together.
     pub frfs: usize,
     pub sets: Vec<SetSummary>,
+    /// Time histories (UFF function type 1), listed apart from the sets.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub time_histories: Vec<TimeSummary>,
     pub warnings: Vec<String>,
     /// A UFF file's header (151), units (164), geometry (counts, bounding
     /// box and the node table) and modes (55), when it holds any.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub uff: Option<crate::io::uff58::UffExtrasSummary>,
+}
+
+/// One time history of a file, for `inspect` and the page's card: it is
+/// not an FRF or spectrum and no operation takes it yet.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct TimeSummary {
+    pub name: String,
+    /// The channel DOF ("" when the file gives none).
+    pub channel: String,
+    /// What it measures ("" when the file does not tell).
+    pub quantity: String,
+    /// SI unit of the values ("" when the quantity is not told).
+    pub unit: String,
+    pub samples: usize,
+    /// Samples per second; `None` for uneven time steps.
+    pub sample_rate_hz: Option<f64>,
+    pub duration_s: f64,
+    /// 1-based line of the dataset.
+    pub line: usize,
+}
+
+/// The summary of one time history.
+pub fn time_summary(t: &crate::io::uff58::TimeHistory) -> TimeSummary {
+    TimeSummary {
+        name: t.name.clone(),
+        channel: t.channel.as_ref().map_or(String::new(), |d| d.to_string()),
+        quantity: t.quantity.map_or(String::new(), |q| q.name().to_string()),
+        unit: t.unit.clone(),
+        samples: t.values.len(),
+        sample_rate_hz: t.sample_rate_hz,
+        duration_s: t.duration_s,
+        line: t.line,
+    }
+}
+
+impl TimeSummary {
+    /// One line of text, as `inspect` prints it.
+    pub fn text(&self) -> String {
+        format!(
+            "time history '{}' at line {}: channel {}, {}{}, {} samples{}, {:.6} s; not an FRF or spectrum (time data import is a later feature)",
+            self.name,
+            self.line,
+            if self.channel.is_empty() { "without DOF number" } else { &self.channel },
+            if self.quantity.is_empty() { "quantity not told" } else { &self.quantity },
+            if self.unit.is_empty() { String::new() } else { format!(" in {}", self.unit) },
+            self.samples,
+            self.sample_rate_hz
+                .map_or(", uneven time steps".to_string(), |r| format!(" at {r:.4} Hz")),
+            self.duration_s
+        )
+    }
 }
 
 /// Describe the spacing of a frequency grid.
@@ -151,8 +205,8 @@ pub fn unit_text(s: &FrfSet) -> String {
         let has_o = if ro { rot_out } else { tr_out };
         let has_i = if ri { rot_in } else { tr_in };
         if has_o && has_i {
-            let u = if s.signal.is_some() {
-                s.out_qty.si_unit(ro).to_string()
+            let u = if let Some(k) = s.signal {
+                k.unit(s.out_qty.si_unit(ro), s.in_qty.si_unit(ri))
             } else {
                 let paren = |u: &str| {
                     if u.contains(['/', '*']) {
@@ -196,6 +250,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
         format: loaded.format.name().to_string(),
         frfs: sets.iter().map(|s| s.frfs).sum(),
         sets,
+        time_histories: loaded.time_histories.iter().map(time_summary).collect(),
         warnings: loaded.warnings.clone(),
         uff: loaded.uff.as_ref().map(|x| x.summary()),
     }

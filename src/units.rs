@@ -3,8 +3,13 @@
 //! A unit string is parsed into a [`Unit`]: a dimension (exponents of length,
 //! mass, time and plane angle) and a factor to SI. Products use `*`, `.` or a
 //! space, quotients `/`, powers `^n` or a trailing digit (`m/s2`), and
-//! parentheses group (`(m/s)/N`). Prefixes p n u µ μ m c d k M G apply to
-//! m, s, N, Pa, g (gram only inside `kg`), rad.
+//! parentheses group (`(m/s)/N`), `²` and `³` are powers (`m/s²`). Prefixes
+//! p n u µ μ m c d k M G apply to m, s, N, Pa, g (gram only inside `kg`), rad.
+//! A square root (`√Hz`, `sqrt(Hz)`) is parsed too: [`parse_unit`] refuses a
+//! unit left with a half power (an amplitude spectral density such as
+//! `m/s/√Hz` is not a unit of any quantity), [`parse_unit_squared`] gives the
+//! square of such a unit (`(m/s)²/Hz`), which is how spectral densities are
+//! read.
 //!
 //! Conventions fixed here (sources beside each):
 //! * `g` is the standard acceleration of gravity, 9.80665 m/s² (ISO 80000-3);
@@ -170,6 +175,8 @@ impl UnitParser<'_> {
     fn peek(&self) -> Option<char> {
         self.chars.get(self.pos).copied()
     }
+    // Dimensions inside the parser are doubled exponents, so a square
+    // root halves them without leaving the integers.
     // expr := term (('*'|'.'|' '|'/') term)*
     fn expr(&mut self) -> Result<(Dim, f64)> {
         let (mut dim, mut f) = self.term()?;
@@ -202,9 +209,18 @@ impl UnitParser<'_> {
             }
         }
     }
-    // term := (atom | '(' expr ')') power?
+    // term := ('√' | 'sqrt')? (atom | '(' expr ')') power?
     fn term(&mut self) -> Result<(Dim, f64)> {
         self.skip_ws();
+        let sqrt_name: Vec<char> = "sqrt(".chars().collect();
+        if self.peek() == Some('√') {
+            self.pos += 1;
+            return self.root();
+        }
+        if self.chars[self.pos..].starts_with(&sqrt_name) {
+            self.pos += 4;
+            return self.root();
+        }
         let (dim, f) = if self.peek() == Some('(') {
             self.pos += 1;
             let v = self.expr()?;
@@ -232,13 +248,14 @@ impl UnitParser<'_> {
                 return Err(self.err("expected a unit name"));
             }
             let name: String = self.chars[start..self.pos].iter().collect();
-            atom(&name).ok_or_else(|| {
+            let (d, f) = atom(&name).ok_or_else(|| {
                 Error::unit(format!(
                     "unit '{}': unknown unit name '{}'; known: m s N Pa rad (with prefixes p n u m c d k M G), kg g in ft lbf deg Hz bar psi",
                     crate::error::quote(self.text),
                     crate::error::quote(&name)
                 ))
-            })?
+            })?;
+            (d.pow(2), f)
         };
         // power
         let mut n: i8 = 1;
@@ -281,18 +298,56 @@ impl UnitParser<'_> {
         if neg {
             n = -n;
         }
+        let big = [dim.length, dim.mass, dim.time, dim.angle]
+            .iter()
+            .any(|e| (*e as i32 * n as i32).abs() > 100);
+        if big {
+            return Err(self.err("power too large"));
+        }
         Ok((dim.pow(n), f.powi(n as i32)))
+    }
+    // after '√' or 'sqrt': a unit name or a parenthesised unit, no power
+    fn root(&mut self) -> Result<(Dim, f64)> {
+        self.skip_ws();
+        let (d, f) = if self.peek() == Some('(') {
+            self.pos += 1;
+            let v = self.expr()?;
+            self.skip_ws();
+            if self.peek() != Some(')') {
+                return Err(self.err("missing ')'"));
+            }
+            self.pos += 1;
+            v
+        } else {
+            let start = self.pos;
+            while let Some(c) = self.peek() {
+                if c.is_alphabetic() {
+                    self.pos += 1;
+                } else {
+                    break;
+                }
+            }
+            let name: String = self.chars[start..self.pos].iter().collect();
+            match atom(&name).filter(|_| !name.is_empty()) {
+                Some((d, f)) => (d.pow(2), f),
+                None => return Err(self.err("expected a unit name after the square root")),
+            }
+        };
+        if [d.length, d.mass, d.time, d.angle]
+            .iter()
+            .any(|e| e % 2 != 0)
+        {
+            return Err(self.err("a square root of a square root"));
+        }
+        Ok((
+            Dim::new(d.length / 2, d.mass / 2, d.time / 2, d.angle / 2),
+            f.sqrt(),
+        ))
     }
 }
 
-/// Parse a unit string.
-///
-/// ```
-/// let u = mortise::units::parse_unit("mm/s").unwrap();
-/// assert!((u.factor - 1e-3).abs() < 1e-18);
-/// assert!(mortise::units::parse_unit("furlong").is_err());
-/// ```
-pub fn parse_unit(text: &str) -> Result<Unit> {
+/// Run the parser: doubled exponents and the factor.
+fn parse_doubled(text: &str) -> Result<(String, Dim, f64)> {
     let t = text.trim();
     let mut p = UnitParser {
         chars: t.chars().collect(),
@@ -303,10 +358,47 @@ pub fn parse_unit(text: &str) -> Result<Unit> {
     if p.pos != p.chars.len() {
         return Err(p.err("unexpected ')'"));
     }
+    Ok((t.to_string(), dim, factor))
+}
+
+/// Parse a unit string.
+///
+/// ```
+/// let u = mortise::units::parse_unit("mm/s").unwrap();
+/// assert!((u.factor - 1e-3).abs() < 1e-18);
+/// assert!(mortise::units::parse_unit("furlong").is_err());
+/// ```
+pub fn parse_unit(text: &str) -> Result<Unit> {
+    let (t, d, factor) = parse_doubled(text)?;
+    if [d.length, d.mass, d.time, d.angle]
+        .iter()
+        .any(|e| e % 2 != 0)
+    {
+        return Err(Error::unit(format!(
+            "unit '{}' has a half power (a square root such as √Hz); such a unit measures no quantity by itself; expected a unit such as m/s, or an amplitude spectral density label where a spectral density is read",
+            crate::error::quote(&t)
+        )));
+    }
     Ok(Unit {
-        text: t.to_string(),
-        dim,
+        text: t,
+        dim: Dim::new(d.length / 2, d.mass / 2, d.time / 2, d.angle / 2),
         factor,
+    })
+}
+
+/// The square of a unit: `m/s/√Hz` gives dimension (m/s)²/Hz and the
+/// squared factor. Values in the unit, squared, times `factor` are SI.
+///
+/// ```
+/// let u = mortise::units::parse_unit_squared("mm/s/√Hz").unwrap();
+/// assert!((u.factor - 1e-6).abs() < 1e-21);
+/// ```
+pub fn parse_unit_squared(text: &str) -> Result<Unit> {
+    let (t, dim, f) = parse_doubled(text)?;
+    Ok(Unit {
+        text: t,
+        dim,
+        factor: f * f,
     })
 }
 
@@ -543,6 +635,69 @@ mod tests {
         assert!((f("g/lbf") - 9.80665 / 4.4482216152605).abs() < 1e-15);
         assert!((f("mPa") - 1e-3).abs() < 1e-18);
         assert!((f("Pa/N") - 1.0).abs() < 1e-18);
+    }
+
+    #[test]
+    fn labels_as_measurement_programs_write_them() {
+        // g_n = 9.80665 m/s² (ISO 80000-3); lbf = 4.4482216152605 N (1959)
+        let acc_per_n = Dim::new(0, -1, 0, 0);
+        for (label, want) in [
+            ("(1/N)*(m/s²)", 1.0),
+            ("(m/s^2)/N", 1.0),
+            ("m/s2/N", 1.0),
+            ("m/s²/N", 1.0),
+            ("g/lbf", 9.80665 / 4.4482216152605),
+            ("g/N", 9.80665),
+            ("(1/N)*(g)", 9.80665),
+        ] {
+            let u = parse_unit(label).unwrap();
+            assert_eq!(u.dim, acc_per_n, "{label}");
+            assert!((u.factor - want).abs() <= 1e-15 * want, "{label}");
+        }
+        let u = parse_unit("mm/s/N").unwrap();
+        assert_eq!(u.dim, Dim::new(0, -1, 1, 0));
+        assert!((u.factor - 1e-3).abs() < 1e-18);
+        // squares and densities
+        let psd = Dim::new(2, 0, -3, 0);
+        for (label, want) in [
+            ("g²/Hz", 9.80665f64.powi(2)),
+            ("g^2/Hz", 9.80665f64.powi(2)),
+            ("(m/s^2)^2/Hz", 1.0),
+            ("(m/s²)²/Hz", 1.0),
+        ] {
+            let u = parse_unit(label).unwrap();
+            assert_eq!(u.dim, psd, "{label}");
+            assert!((u.factor - want).abs() <= 1e-14 * want, "{label}");
+        }
+        assert_eq!(parse_unit("Pa^2/Hz").unwrap().dim, Dim::new(-2, 2, -3, 0));
+        let esd = parse_unit("g^2 s").unwrap();
+        assert_eq!(esd.dim, Dim::new(2, 0, -3, 0));
+        assert!((esd.factor - 9.80665f64.powi(2)).abs() < 1e-12);
+        // micro: the micro sign, the Greek mu and u
+        for l in ["µm/s", "μm/s", "um/s"] {
+            assert!((f(l) - 1e-6).abs() < 1e-21, "{l}");
+        }
+        assert_eq!(parse_unit("m³/s").unwrap().dim, Dim::new(3, 0, -1, 0));
+    }
+
+    #[test]
+    fn square_roots_only_in_squared_units() {
+        let e = parse_unit("m/s/√Hz").unwrap_err();
+        assert!(e.message.contains("half power"), "{}", e.message);
+        for l in ["m/s/√Hz", "m/s/sqrt(Hz)", "(m/s)/√(Hz)"] {
+            // (m/s)²/Hz = m² s⁻¹
+            let u = parse_unit_squared(l).unwrap();
+            assert_eq!(u.dim, Dim::new(2, 0, -1, 0), "{l}");
+            assert_eq!(u.factor, 1.0, "{l}");
+        }
+        let u = parse_unit_squared("g/√Hz").unwrap();
+        assert_eq!(u.dim, Dim::new(2, 0, -3, 0));
+        assert!((u.factor - 9.80665f64.powi(2)).abs() < 1e-12);
+        // √(Hz²) is Hz; a root of a half power is refused
+        assert_eq!(parse_unit("√(Hz^2)").unwrap().dim, Dim::new(0, 0, -1, 0));
+        assert!(parse_unit_squared("√(√Hz)").is_err());
+        assert!(parse_unit_squared("√").is_err());
+        assert!(parse_unit("m^100").is_err());
     }
 
     #[test]

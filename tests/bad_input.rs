@@ -360,7 +360,7 @@ fn damaged_files_never_panic() {
         signal: None,
         column_map: Some(map),
         mat: None,
-        auto_map: false,
+        ..Default::default()
     };
     let mut x: u32 = 12345;
     for f in &files {

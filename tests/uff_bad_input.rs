@@ -299,27 +299,38 @@ fn unknown_units_label() {
 
 #[test]
 fn units_label_contradicts_data_type() {
+    // code and label disagree: the label (which carries the unit) is read,
+    // and the warning names both
     let mut l = base(None);
     l[10] = axis(12, "m/s");
+    let (sets, w) = uff58::read(&join(&l), "bad.uff", "c").unwrap();
+    assert_eq!(sets[0].out_qty, mortise::units::Quantity::Velocity);
+    assert!(
+        w.iter().any(|w| w.contains("bad.uff: dataset at line 1: record 9: specific data type 12 (acceleration) disagrees with the units label 'm/s' (velocity)")),
+        "{w:?}"
+    );
+    // a label that names no quantity is refused
+    let mut l = base(None);
+    l[10] = axis(12, "m^5");
     let e = err(&join(&l));
     assert_eq!(e.kind, ErrorKind::Unit);
     check(
         &e,
         11,
         "record 9, axis units label",
-        &[
-            "'m/s' does not fit record 9's data type 12 (acceleration)",
-            "m/s^2",
-        ],
+        &["'m^5' (dimension m^5) names no quantity mortise reads, nor a ratio of two"],
     );
     let mut l = base(None);
-    l[11] = axis(13, "mm");
+    l[11] = axis(13, "kg");
     let e = err(&join(&l));
     check(
         &e,
         12,
         "record 10, axis units label",
-        &["'mm' does not measure force"],
+        &[
+            "'kg' (dimension kg) names no quantity",
+            "13 (excitation force)",
+        ],
     );
 }
 

@@ -172,18 +172,30 @@ fn entries_not_given_are_missing() {
 }
 
 #[test]
-fn duplicates_keep_the_first_and_are_reported() {
+fn repeated_dof_pairs_are_kept_as_numbered_runs() {
     let y1 = [c(1.0, 0.0); 3];
     let y2 = [c(7.0, 0.0); 3];
+    let y3 = [c(3.0, 0.0); 3];
     let bytes = file(&[
         ds(4, (1, 3), (1, 3), &GA, &y1),
+        ds(4, (1, 3), (2, 3), &GA, &y3),
         ds(4, (1, 3), (1, 3), &GA, &y2),
     ]);
     let (sets, warns) = uff58::read(&bytes, "d.uff", "w").unwrap();
+    // nothing dropped: run 1 holds both pairs, run 2 the repeat
+    assert_eq!(sets.len(), 2);
     assert_eq!(sets[0].get(0, 0, 0), c(1.0, 0.0));
-    let w = warns.iter().find(|w| w.contains("duplicates")).unwrap();
-    // second dataset starts at line 18; the first at line 1
-    assert!(w.contains("line 18") && w.contains("at line 1;"), "{w}");
+    assert_eq!(sets[0].get(0, 0, 1), c(3.0, 0.0));
+    assert_eq!(sets[1].get(0, 0, 0), c(7.0, 0.0));
+    assert_eq!((sets[1].n_out(), sets[1].n_in()), (1, 1));
+    assert!(sets[0].name.ends_with(" run 1"), "{}", sets[0].name);
+    assert!(sets[1].name.ends_with(" run 2"), "{}", sets[1].name);
+    let w = warns
+        .iter()
+        .find(|w| w.contains("this is run 2"))
+        .unwrap_or_else(|| panic!("{warns:?}"));
+    // the third dataset starts at line 35
+    assert!(w.contains("lines 35") && w.contains("\"set\" index"), "{w}");
 }
 
 #[test]
@@ -318,16 +330,16 @@ fn other_datasets_and_function_types_are_skipped_with_remarks() {
         "{warns:?}"
     );
     assert!(
-        warns
-            .iter()
-            .any(|w| w.contains("function type 1 (time response) skipped")),
+        warns.iter().any(|w| w
+            .contains("line 7: time response skipped: abscissa specific data type 18 (frequency)")),
         "{warns:?}"
     );
     assert_eq!(uff58::looks_like_uff(&bytes), Some(false));
-    // only a time response: nothing mortise reads
+    // only a time response (whose abscissa says frequency): its error
     let e = uff58::read(&file(&[ds(1, (1, 3), (1, 3), &GA, &y)]), "t.uff", "w").unwrap_err();
     assert!(
-        e.to_string().starts_with("t.uff: record 6, function type:"),
+        e.to_string()
+            .starts_with("t.uff: line 10: record 8, specific data type: abscissa specific data type 18 (frequency) for a time response"),
         "{e}"
     );
 }

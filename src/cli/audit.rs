@@ -300,12 +300,14 @@ mod tests {
             sets: vec![sdof(1e3)],
             warnings: vec!["column 2: unit 'mm' taken from the header".into()],
             uff: None,
+            time_histories: vec![],
         };
         let h = Loaded {
             format: io::Format::CsvNative,
             sets: vec![sdof(8e2)],
             warnings: vec![],
             uff: None,
+            time_histories: vec![],
         };
         let opts = AuditOptions::default();
         let one = audit_loaded("seat.csv", &l, &opts);

@@ -35,6 +35,12 @@ fn num<T: std::str::FromStr>(args: &Args, name: &str) -> Result<Option<T>> {
 /// can hold is refused here, as a usage error; what the reader refuses later
 /// is about the file (or a `--map` file).
 pub fn import_options(args: &Args) -> Result<ImportOptions> {
+    let mut o = import_options_base(args)?;
+    super::spec::uff_options(args, &mut o)?;
+    Ok(o)
+}
+
+fn import_options_base(args: &Args) -> Result<ImportOptions> {
     let component = args.value("component").map(str::to_string);
     let signal = args
         .value("signal")
@@ -46,7 +52,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: Some(mat),
-            auto_map: false,
+            ..Default::default()
         });
     }
     let any_col = super::spec::IMPORT_OPTS
@@ -62,9 +68,8 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         return Ok(ImportOptions {
             component,
             signal,
-            column_map: None,
-            mat: None,
             auto_map: true,
+            ..Default::default()
         });
     }
     if let Some(path) = args.value("map") {
@@ -85,7 +90,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal: io::declared_signal(signal, in_map).map_err(|e| e.in_file(path))?,
             column_map: Some(map),
             mat: None,
-            auto_map: false,
+            ..Default::default()
         });
     }
     if !any_col {
@@ -94,7 +99,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
             signal,
             column_map: None,
             mat: None,
-            auto_map: false,
+            ..Default::default()
         });
     }
     for name in [
@@ -270,7 +275,7 @@ pub fn import_options(args: &Args) -> Result<ImportOptions> {
         signal,
         column_map: Some(m),
         mat: None,
-        auto_map: false,
+        ..Default::default()
     })
 }
 
@@ -424,6 +429,7 @@ pub fn run(args: &Args) -> Result<Done> {
                     "content_sha256": f.content_sha256,
                     "sets": l.sets.iter().map(set_summary).collect::<Vec<_>>(),
                     "uff": l.uff.as_ref().map(|x| x.summary()),
+                    "time_histories": l.time_histories.iter().map(crate::summary::time_summary).collect::<Vec<_>>(),
                     "warnings": l.warnings,
                 }),
                 (Err(e), None) => serde_json::json!({
@@ -471,6 +477,9 @@ pub fn run(args: &Args) -> Result<Done> {
                 }
                 for (n, s) in l.sets.iter().enumerate() {
                     set_text(n + 1, s, &mut out);
+                }
+                for t in &l.time_histories {
+                    out.push_str(&format!("  {}\n", crate::summary::time_summary(t).text()));
                 }
                 for w in &l.warnings {
                     out.push_str(&format!("  warning: {w}\n"));

@@ -256,6 +256,57 @@ pub const MAT_OPTS: &[Opt] = &[
     ),
 ];
 
+/// UFF options: what a file does not tell (quantities, DOF numbers).
+pub const UFF_OPTS: &[Opt] = &[
+    val(
+        "uff-out-qty",
+        "Q",
+        "response quantity of UFF datasets that do not tell it (function type 0, blank data          types and labels): displacement, velocity, acceleration, force, pressure; refused when          every dataset tells it",
+    ),
+    val(
+        "uff-in-qty",
+        "Q",
+        "reference quantity of UFF datasets that do not tell it, as --uff-out-qty",
+    ),
+    val(
+        "uff-dofs",
+        "[N:]OUT,IN",
+        "DOFs of UFF dataset N (1-based, in file order) written without DOF numbers (node 0,          direction 0), e.g. 3:wall:1+Z,wall:2+Z; N left out: the file's only such dataset;          separate several with ';'",
+    ),
+];
+
+const UFF_GROUP: Group = Group {
+    title: "UFF options (what a Universal File does not tell)",
+    opts: UFF_OPTS,
+};
+
+/// The UFF options of the command line into `o` (see [`UFF_OPTS`]).
+pub fn uff_options(
+    args: &super::args::Args,
+    o: &mut crate::io::ImportOptions,
+) -> crate::error::Result<()> {
+    use crate::error::Error;
+    let qty = |name: &str| -> crate::error::Result<Option<crate::units::Quantity>> {
+        args.value(name)
+            .map(|t| {
+                crate::units::Quantity::parse(t)
+                    .map_err(|e| Error::usage(format!("--{name}: {}", e.message)))
+            })
+            .transpose()
+    };
+    o.out_qty = qty("uff-out-qty")?;
+    o.in_qty = qty("uff-in-qty")?;
+    if let Some(t) = args.value("uff-dofs") {
+        for part in t.split(';').filter(|p| !p.trim().is_empty()) {
+            o.dofs.push(
+                crate::io::UffDofs::parse(part.trim())
+                    .map_err(|e| Error::usage(format!("--uff-dofs: {}", e.message)))?,
+            );
+        }
+    }
+    Ok(())
+}
+
 const MAT_GROUP: Group = Group {
     title: "MAT-file options (level-5 MAT-files; with these, --out-dof/--in-dof give the outputs \
             and inputs of a 3-D layout or one pair per FRF of a 2-D one, and --unit, --out-qty, \
@@ -322,6 +373,7 @@ pub const INSPECT: Command = Command {
         FILES_GROUP,
         IMPORT_GROUP,
         MAT_GROUP,
+        UFF_GROUP,
     ],
     example: "mortise inspect sample-frf/unit-casing.uff sample-frf/brackets.uffb --json",
 };
@@ -385,6 +437,7 @@ pub const CONVERT: Command = Command {
         FILES_GROUP,
         IMPORT_GROUP,
         MAT_GROUP,
+        UFF_GROUP,
     ],
     example: "mortise convert sample-frf/isolator-stiffness.csv -o isolator.csv --delim semicolon \
               --skip 3 --freq-col 'f [Hz]' --stiffness \"K' axial [N/mm]\" --loss 'eta axial [-]' \

@@ -77,6 +77,73 @@ pub struct ImportOptions {
     /// `--map auto`); refused with a column map and for other formats.
     #[serde(default, skip_serializing_if = "std::ops::Not::not")]
     pub auto_map: bool,
+    /// UFF only: the response quantity of datasets that do not tell it
+    /// (function type 0, or blank codes and labels); refused when no dataset
+    /// needs it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub out_qty: Option<crate::units::Quantity>,
+    /// UFF only: the reference quantity, as `out_qty`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub in_qty: Option<crate::units::Quantity>,
+    /// UFF only: DOFs for datasets written without DOF numbers (node 0,
+    /// direction 0); each must be used.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub dofs: Vec<UffDofs>,
+}
+
+/// DOFs for one UFF dataset written without DOF numbers: `dataset` is the
+/// 1-based number of the dataset 58 in the file (left out: the file's only
+/// dataset without DOF numbers); `out` and `in` are DOF labels
+/// (`component:node+X`).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct UffDofs {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dataset: Option<usize>,
+    pub out: String,
+    #[serde(rename = "in")]
+    pub inp: String,
+}
+
+impl UffDofs {
+    /// Parse `DATASET:OUT,IN` or `OUT,IN` (the CLI's `--uff-dofs`).
+    pub fn parse(text: &str) -> Result<UffDofs> {
+        let bad = || {
+            Error::usage(format!(
+                "'{}': expected OUT,IN or DATASET:OUT,IN (DATASET the 1-based number of the dataset 58 in the file), such as 3:wall:1+Z,wall:2+Z",
+                crate::error::quote(text)
+            ))
+            .field("dofs")
+        };
+        let (dataset, rest) = match text.split_once(':') {
+            Some((n, rest)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+                (Some(n.parse::<usize>().map_err(|_| bad())?), rest)
+            }
+            _ => (None, text),
+        };
+        let (out, inp) = rest.split_once(',').ok_or_else(bad)?;
+        let d = UffDofs {
+            dataset,
+            out: out.trim().to_string(),
+            inp: inp.trim().to_string(),
+        };
+        d.dofs()?;
+        Ok(d)
+    }
+    /// The DOFs, parsed (errors name the field `dofs`).
+    pub fn dofs(&self) -> Result<(crate::frf::Dof, crate::frf::Dof)> {
+        let p = |t: &str, side: &str| {
+            crate::frf::Dof::parse(t, "")
+                .map_err(|e| Error::usage(format!("{side} DOF: {}", e.message)).field("dofs"))
+        };
+        if self.dataset == Some(0) {
+            return Err(Error::usage(
+                "dataset 0: datasets are numbered from 1 in the order of the file",
+            )
+            .field("dofs"));
+        }
+        Ok((p(&self.out, "out")?, p(&self.inp, "in")?))
+    }
 }
 
 /// The JSON form of [`ImportOptions`] as read (the column map is taken
@@ -94,6 +161,12 @@ struct ImportOptionsJson {
     mat: Option<serde_json::Value>,
     #[serde(default)]
     auto_map: bool,
+    #[serde(default)]
+    out_qty: Option<crate::units::Quantity>,
+    #[serde(default)]
+    in_qty: Option<crate::units::Quantity>,
+    #[serde(default)]
+    dofs: Vec<UffDofs>,
 }
 
 fn signal_from_json<'de, D: serde::Deserializer<'de>>(
@@ -135,6 +208,14 @@ impl TryFrom<ImportOptionsJson> for ImportOptions {
                 Some(v) => Some(mat::map_from_json(v).map_err(|e| e.message)?),
             },
             auto_map,
+            out_qty: j.out_qty,
+            in_qty: j.in_qty,
+            dofs: {
+                for d in &j.dofs {
+                    d.dofs().map_err(|e| format!("dofs: {}", e.message))?;
+                }
+                j.dofs
+            },
         })
     }
 }
@@ -183,6 +264,9 @@ pub struct Loaded {
     /// A UFF file's datasets besides 58 (header, units, geometry, modal
     /// model), when it holds any.
     pub uff: Option<uff58::UffExtras>,
+    /// Time histories (UFF function type 1), apart from the sets: no FRF or
+    /// spectrum operation takes them.
+    pub time_histories: Vec<uff58::TimeHistory>,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -492,6 +576,22 @@ pub fn load_with_limits(
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
+    let mut time_histories = Vec::new();
+    let uff = matches!(format, Format::Uff58Ascii | Format::Uff58Binary);
+    for (given, key) in [
+        (opts.out_qty.is_some(), "out_qty"),
+        (opts.in_qty.is_some(), "in_qty"),
+        (!opts.dofs.is_empty(), "dofs"),
+    ] {
+        if given && !uff {
+            return Err(Error::usage(format!(
+                "the import option \"{key}\" applies to UFF files, but this file is {}; leave it out (a CSV's quantities and DOFs go in its column map, a MAT-file's in \"mat\")",
+                format.name()
+            ))
+            .field(key)
+            .in_file(file));
+        }
+    }
     if (opts.mat.is_some() && format != Format::Mat)
         || (format == Format::Mat && opts.column_map.is_some())
     {
@@ -513,18 +613,33 @@ pub fn load_with_limits(
             if has58 || uff.is_none() {
                 // without a given component, each DOF takes the one written in
                 // the record-6 entity name, else the file stem
-                let (sets, w) = uff58::read_declared_with_limits(
+                let mut ov = uff58::Overrides {
+                    out_qty: opts.out_qty,
+                    in_qty: opts.in_qty,
+                    dofs: Vec::new(),
+                };
+                for d in &opts.dofs {
+                    let (out, inp) = d.dofs().map_err(|e| e.in_file(file))?;
+                    ov.dofs.push(uff58::DofAssignment {
+                        dataset: d.dataset,
+                        out,
+                        inp,
+                    });
+                }
+                let r = uff58::read_overridden(
                     bytes,
                     file,
                     opts.component.as_deref(),
                     opts.signal,
+                    &ov,
                     limits,
                 )?;
-                warnings.extend(w);
+                warnings.extend(r.warnings);
+                time_histories = r.time;
                 // the geometry's and modal model's own notes
                 let seen: std::collections::HashSet<String> = warnings.iter().cloned().collect();
                 warnings.extend(notes.into_iter().filter(|n| !seen.contains(n)));
-                sets
+                r.sets
             } else {
                 warnings.extend(notes);
                 Vec::new()
@@ -649,7 +764,7 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
             }
         }
     }
-    if sets.is_empty() {
+    if sets.is_empty() && time_histories.is_empty() {
         warnings.push(match uff.as_ref().map(|x| x.modal.is_some()) {
             Some(true) => "the file holds no FRF sets; its modal model (dataset 55) gives FRFs on a grid (a recipe component's \"grid\", convert --grid START:STOP:STEP)".to_string(),
             Some(false) => "the file holds no FRF sets (only the datasets listed above)".to_string(),
@@ -661,6 +776,7 @@ On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag 
         sets,
         warnings,
         uff,
+        time_histories,
     })
 }
 

@@ -80,12 +80,18 @@ pub(super) fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Resul
                         SignalKind::Peak => 20.0 * (v.norm() / 2f64.sqrt() / r).log10(),
                         SignalKind::Rms => 20.0 * (v.norm() / r).log10(),
                         // Mean-square quantities: 10 log10(P / ref²).
-                        SignalKind::Autopower | SignalKind::Psd => {
+                        SignalKind::Autopower | SignalKind::Psd | SignalKind::Esd => {
                             10.0 * (v.re.abs() / (r * r)).log10()
                         }
+                        // |cross spectrum| in (output unit)·(reference unit)
+                        SignalKind::Cross => 10.0 * (v.norm() / (r * r)).log10(),
                     })
                     .collect();
-                let per_hz = if kind == SignalKind::Psd { "²/Hz" } else { "" };
+                let per_hz = match kind {
+                    SignalKind::Psd => "²/Hz",
+                    SignalKind::Esd => "²·s/Hz",
+                    _ => "",
+                };
                 (lv, format!("dB re ({name}){per_hz}"))
             }
             None => {

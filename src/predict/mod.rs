@@ -43,6 +43,13 @@ pub fn require_spectrum(s: &FrfSet) -> Result<SignalKind> {
             s.name
         ))
     })?;
+    if matches!(kind, SignalKind::Cross | SignalKind::Esd) {
+        return Err(Error::quantity(format!(
+            "'{}' is {}; predictions and spectrum conversions take peak, RMS, autopower or PSD spectra",
+            s.name,
+            kind.describe()
+        )));
+    }
     if s.n_in() != 1 || s.in_qty != Quantity::Dimensionless {
         return Err(Error::quantity(format!(
             "'{}': a spectrum has one dimensionless reference column; this set has {} inputs of {}",
@@ -244,6 +251,8 @@ pub fn convert_signal(s: &FrfSet, to: SignalKind) -> Result<FrfSet> {
                 SignalKind::Rms => v.norm_sqr(),
                 SignalKind::Autopower => v.re,
                 SignalKind::Psd => v.re * dfk,
+                // refused by require_spectrum above
+                SignalKind::Cross | SignalKind::Esd => f64::NAN,
             };
             let w = match to {
                 SignalKind::Peak if from == SignalKind::Rms => v * std::f64::consts::SQRT_2,

@@ -60,7 +60,7 @@ pub struct ComponentSpec {
 pub const COMPONENT_FIELDS: &[(&str, &str)] = &[
     ("file", "a file, by name relative to the recipe (format detected from its content)"),
     ("component", "namespace of the DOFs (default: the component's name)"),
-    ("import", "import options of the file: column_map (supplier CSVs), mat (MAT-files: freq, frf, layout, DOFs, quantities, unit), signal (peak, rms, autopower, psd: what its spectra are), component, set_name, time_convention"),
+    ("import", "import options of the file: column_map (supplier CSVs), mat (MAT-files: freq, frf, layout, DOFs, quantities, unit), signal (peak, rms, autopower, psd: what its spectra are), component, set_name, time_convention, out_qty / in_qty (UFF datasets that do not tell their quantities), dofs (UFF datasets without DOF numbers: [{\"dataset\": N, \"out\": DOF, \"in\": DOF}])"),
     ("set", "which set of the file, 0-based, when it holds several (required then)"),
     ("select", "{outputs: [DOF labels], inputs: [DOF labels]}: keep these, in this order"),
     ("kind", "convert to this FRF kind after loading (receptance, mobility, accelerance, ...)"),
@@ -289,7 +289,15 @@ fn load_file(
     }
     let n = loaded.sets.len();
     if n == 0 {
-        return Err(Error::recipe(format!("file '{file}' holds no FRF set")));
+        return Err(Error::recipe(if loaded.time_histories.is_empty() {
+            format!("file '{file}' holds no FRF set")
+        } else {
+            format!(
+                "file '{file}' holds no FRF set, only {} time histor{} (UFF function type 1), which no operation takes yet (time data import is a later feature)",
+                loaded.time_histories.len(),
+                if loaded.time_histories.len() == 1 { "y" } else { "ies" }
+            )
+        }));
     }
     let idx = match spec.set {
         Some(i) if i >= n => {

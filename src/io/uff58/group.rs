@@ -8,9 +8,9 @@
 //! Not here: one set spread over several files (a roving-hammer delivery),
 //! joined by `io::merge`; unit factors (`convert.rs`); parsing (`scan.rs`).
 
-use super::convert::{axis_quantity, dir_of, frequencies, frf_factor, spectrum_factor};
+use super::convert::{dir_of, frequencies, frf_meaning, spectrum_meaning, untold, SpectrumMeaning};
 use super::provenance::provenance_from_lines;
-use super::records::{function_type_name, Dataset58};
+use super::records::{data_type_name, function_type_name, Dataset58, TimeHistory};
 use super::scan::parse_datasets;
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
@@ -24,12 +24,14 @@ enum Role {
     Frf,
     Coherence,
     Spectrum(SignalKind),
+    /// Function type 0 until its labels decide.
+    General,
 }
 
 /// Groups warnings that repeat over many datasets into one line each.
 /// Kept in the order first seen; the index makes adding linear in the
 /// number of remarks, however many distinct ones a file provokes.
-#[derive(Default)]
+#[derive(Default, Clone)]
 pub(super) struct Remarks {
     items: Vec<(String, Vec<usize>)>,
     index: HashMap<String, usize>,
@@ -89,6 +91,8 @@ struct Group {
     tag: Option<SetTag>,
     entries: Vec<Entry>,
     remarks: Remarks,
+    /// Run number when the file repeats DOF pairs (see [`split_runs`]).
+    run: Option<usize>,
 }
 
 /// What our own writer puts in ID line 2 (see the module docs), when the
@@ -109,9 +113,14 @@ fn own_id2(line: &str) -> OwnId2 {
     };
     let mut id = OwnId2::default();
     if let Some(text) = first.strip_prefix("signal=") {
-        match crate::io::parse_signal(text) {
-            Ok(k) if k.name() == text => id.signal = Some(k),
-            _ => return OwnId2::default(),
+        match text {
+            // kinds fixed by their function types (3, 10), written by mortise
+            "cross" => id.signal = Some(SignalKind::Cross),
+            "esd" => id.signal = Some(SignalKind::Esd),
+            _ => match crate::io::parse_signal(text) {
+                Ok(k) if k.name() == text => id.signal = Some(k),
+                _ => return OwnId2::default(),
+            },
         }
     } else if *first != "coherence" && !is_kind_name(first) {
         return OwnId2::default();
@@ -187,6 +196,30 @@ fn spectrum_kind(
     }
 }
 
+/// What a user tells the reader that the file does not: quantities of
+/// datasets that name none (function type 0, or codes and labels left
+/// blank) and DOFs of datasets written without node and direction numbers.
+/// Each given value must be used by some dataset, else it is refused.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Overrides {
+    /// Output (response) quantity of datasets whose records 9 do not tell it.
+    pub out_qty: Option<Quantity>,
+    /// Input (reference) quantity of datasets whose records 10 do not tell it.
+    pub in_qty: Option<Quantity>,
+    /// DOFs for datasets without DOF numbers (node 0, direction 0).
+    pub dofs: Vec<DofAssignment>,
+}
+
+/// DOFs for one dataset written without DOF numbers: `dataset` is the
+/// 1-based number of the dataset 58 in the file (None: the file's only
+/// dataset without DOF numbers).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DofAssignment {
+    pub dataset: Option<usize>,
+    pub out: Dof,
+    pub inp: Dof,
+}
+
 /// Read every dataset 58/58b in a file and group them into FRF sets (one per
 /// function type, quantity pair and grid); returns the sets and warnings.
 /// DOFs get the component namespace `component`.
@@ -227,6 +260,140 @@ pub fn read_declared_with_limits(
     declared: Option<SignalKind>,
     limits: &Limits,
 ) -> Result<(Vec<FrfSet>, Vec<String>)> {
+    let r = read_overridden(
+        bytes,
+        file,
+        component,
+        declared,
+        &Overrides::default(),
+        limits,
+    )?;
+    if r.sets.is_empty() {
+        return Err(time_only(file, &r.time));
+    }
+    let mut warnings = r.warnings;
+    if !r.time.is_empty() {
+        warnings.push(format!(
+            "{file}: {}; skipped by this reader",
+            time_text(&r.time)
+        ));
+    }
+    Ok((r.sets, warnings))
+}
+
+/// What [`read_overridden`] gives: FRF and spectrum sets, time histories
+/// (function type 1) apart, and warnings.
+#[derive(Debug, Clone, Default)]
+pub struct UffRead {
+    pub sets: Vec<FrfSet>,
+    pub time: Vec<TimeHistory>,
+    pub warnings: Vec<String>,
+}
+
+fn time_text(time: &[TimeHistory]) -> String {
+    let lines: Vec<String> = time.iter().take(5).map(|t| t.line.to_string()).collect();
+    format!(
+        "{} dataset(s) of function type 1 (time response) at line(s) {}{}: time histories are not FRFs or spectra (their abscissa is time, not frequency); time data import is a later feature (it will feed spectra for excitation and operational data for blocked forces)",
+        time.len(),
+        lines.join(", "),
+        if time.len() > 5 { " ..." } else { "" }
+    )
+}
+
+fn time_only(file: &str, time: &[TimeHistory]) -> Error {
+    Error::unsupported(time_text(time))
+        .field("record 6, function type")
+        .at_line(time.first().map_or(1, |t| t.line + 7))
+        .in_file(file)
+}
+
+/// A dataset of function type 1 as a [`TimeHistory`] in SI.
+fn time_history(
+    file: &str,
+    ds: &Dataset58,
+    channel: Option<Dof>,
+    rm: &mut Remarks,
+) -> Result<TimeHistory> {
+    let ax = &ds.axes[0];
+    if !matches!(ax.code, 17 | 0 | 1) {
+        return Err(Error::unsupported(format!(
+            "abscissa specific data type {} ({}) for a time response; expected 17 (time)",
+            ax.code,
+            data_type_name(ax.code)
+        ))
+        .field("record 8, specific data type")
+        .at_line(ds.record_line(8))
+        .in_file(file));
+    }
+    let tf = if ax.units.is_empty() {
+        1.0
+    } else {
+        let u = crate::units::parse_unit(&ax.units).map_err(|e| {
+            e.field("record 8, axis units label")
+                .at_line(ds.record_line(8))
+                .in_file(file)
+        })?;
+        if u.dim != crate::units::Dim::new(0, 0, 1, 0) {
+            return Err(Error::unit(format!(
+                "abscissa units label '{}' of a time response is not a time unit; expected s",
+                crate::error::quote(&ax.units)
+            ))
+            .field("record 8, axis units label")
+            .at_line(ds.record_line(8))
+            .in_file(file));
+        }
+        u.factor
+    };
+    let rot = channel.as_ref().is_some_and(|d| d.dir.is_rotational());
+    let (quantity, factor) = match spectrum_meaning(file, ds, Some(SignalKind::Peak), rot, rm)? {
+        Some(m) => (Some(m.qty), m.factor),
+        None => {
+            rm.add(
+                "time response without a quantity in record 9: values kept as in the file"
+                    .to_string(),
+                ds.line,
+            );
+            (None, 1.0)
+        }
+    };
+    let times: Vec<f64> = ds.x.iter().map(|t| t * tf).collect();
+    let duration_s = match (times.first(), times.last()) {
+        (Some(a), Some(b)) => b - a,
+        _ => 0.0,
+    };
+    Ok(TimeHistory {
+        name: ds.id[0].trim().to_string(),
+        channel,
+        quantity,
+        unit: quantity.map_or(String::new(), |q| q.si_unit(rot).to_string()),
+        start_s: times.first().copied().unwrap_or(0.0),
+        sample_rate_hz: (ds.even && ds.x_inc > 0.0).then(|| 1.0 / (ds.x_inc * tf)),
+        duration_s,
+        values: ds.y.iter().map(|v| v.re * factor).collect(),
+        times,
+        line: ds.line,
+    })
+}
+
+/// The DOFs a dataset without DOF numbers gets until the user assigns them:
+/// distinct places (never a driving point), named by the dataset's number.
+pub fn unnumbered_dofs(component: &str, n: usize) -> (Dof, Dof) {
+    (
+        Dof::scalar(component, &format!("nodof_out_{n}")),
+        Dof::scalar(component, &format!("nodof_in_{n}")),
+    )
+}
+
+/// Like [`read_declared_with_limits`], with what the user tells the reader
+/// that the file does not ([`Overrides`]).
+pub fn read_overridden(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+    ov: &Overrides,
+    limits: &Limits,
+) -> Result<UffRead> {
     let stem = crate::io::file_stem(file);
     let comp_of = |entity: &str| -> String {
         match component {
@@ -237,9 +404,10 @@ pub fn read_declared_with_limits(
     };
     let (datasets, mut warnings) = parse_datasets(bytes, file)?;
     if datasets.is_empty() {
-        return Err(Error::parse(
-            "the file holds no dataset 58 (functions at nodal DOFs); nothing to read",
-        )
+        return Err(Error::parse(format!(
+            "the file holds no dataset 58 (functions at nodal DOFs), so no FRF or spectrum to read; it holds {}",
+            census_text(bytes)
+        ))
         .field("dataset number")
         .in_file(file));
     }
@@ -248,18 +416,77 @@ pub fn read_declared_with_limits(
     type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize, Option<SetTag>);
     let mut coherences: Vec<Coh> = Vec::new();
     let mut file_rm = Remarks::default();
-    for ds in &datasets {
+    let mut used_out_qty = false;
+    let mut used_in_qty = false;
+    let mut used_dofs = vec![false; ov.dofs.len()];
+    let mut time: Vec<TimeHistory> = Vec::new();
+    let mut time_errors: Vec<Error> = Vec::new();
+    let n_unnumbered = datasets.iter().filter(|d| unnumbered(d)).count();
+    for (ds_index, ds) in datasets.iter().enumerate() {
+        let ds_no = ds_index + 1;
+        if header_not_utf8(ds) {
+            file_rm.add(
+                "header text (ID lines, labels, units) is not UTF-8; read as Latin-1 (Windows-1252), so a byte 0xB2 is '²' and 0xB5 'µ'".to_string(),
+                ds.line,
+            );
+        }
         let own = own_id2(&ds.id[1]);
         let tag = own.set.map(|n| (n, ds.id[0].trim().to_string()));
         let role = match ds.func_type {
             4 | 5 => Role::Frf,
             6 => Role::Coherence,
             2 | 9 | 12 => Role::Spectrum(spectrum_kind(file, ds, own.signal, declared)?),
+            3 | 10 => {
+                let k = if ds.func_type == 3 {
+                    SignalKind::Cross
+                } else {
+                    SignalKind::Esd
+                };
+                if let Some(d) = declared.filter(|d| *d != k) {
+                    return Err(Error::usage(format!(
+                        "function type {} ({}) makes this dataset {}, but the import options declare {}; leave \"signal\" out",
+                        ds.func_type,
+                        function_type_name(ds.func_type).unwrap_or(""),
+                        k.describe(),
+                        d.name()
+                    ))
+                    .field("record 6, function type")
+                    .at_line(ds.record_line(6))
+                    .in_file(file));
+                }
+                Role::Spectrum(k)
+            }
+            0 => Role::General,
+            1 => {
+                let channel = (!(ds.rsp_node == 0 && ds.rsp_dir == 0)).then(|| {
+                    let (d, pos) = dir_of(ds.rsp_dir);
+                    let mut c = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), d);
+                    c.positive = pos;
+                    c
+                });
+                let mut rm = Remarks::default();
+                match time_history(file, ds, channel, &mut rm) {
+                    Ok(t) => time.push(t),
+                    // a contradictory time dataset does not block the
+                    // file's other data; alone, it is the file's error
+                    Err(e) => {
+                        file_rm.add(format!("time response skipped: {}", e.message), ds.line);
+                        time_errors.push(e);
+                        continue;
+                    }
+                }
+                for (m, lines) in rm.items {
+                    for l in lines {
+                        file_rm.add(m.clone(), l);
+                    }
+                }
+                continue;
+            }
             t => {
                 file_rm.add(
                     format!(
-                        "function type {t} ({}) skipped: mortise reads 4 (FRF), 5 (transmissibility), 6 (coherence), 2 (auto spectrum), 9 (PSD) and 12 (spectrum)",
-                        function_type_name(t).unwrap_or("unknown")
+                        "function type {t} ({}) skipped: mortise reads 4 (FRF), 5 (transmissibility), 6 (coherence), 2 (auto spectrum), 3 (cross spectrum), 9 (PSD), 10 (ESD), 12 (spectrum) and 0 (general, when its labels tell the quantities)",
+                        function_type_name(t).unwrap_or("not defined by the layout")
                     ),
                     ds.line,
                 );
@@ -271,77 +498,268 @@ pub fn read_declared_with_limits(
         let (od, opos) = dir_of(ds.rsp_dir);
         let mut out = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), od);
         out.positive = opos;
-        let orot = od.is_rotational();
         let (id_, ipos) = dir_of(ds.ref_dir);
         let mut inp = Dof::new(&comp_of(&ds.ref_entity), &ds.ref_node.to_string(), id_);
         inp.positive = ipos;
-        let irot = id_.is_rotational();
+        if unnumbered(ds) {
+            let given = ov.dofs.iter().enumerate().find(|(_, a)| match a.dataset {
+                Some(n) => n == ds_no,
+                None => n_unnumbered == 1,
+            });
+            match given {
+                Some((k, a)) => {
+                    used_dofs[k] = true;
+                    out = a.out.clone();
+                    inp = a.inp.clone();
+                    rm.add(
+                        format!(
+                            "the file carries no DOF numbers (node 0, direction 0); DOFs {} / {} assigned by the import options",
+                            crate::error::quote(&out.to_string()),
+                            crate::error::quote(&inp.to_string())
+                        ),
+                        ds.line,
+                    );
+                }
+                None => {
+                    let (o, i) = unnumbered_dofs(&comp_of(&ds.rsp_entity), ds_no);
+                    rm.add(
+                        format!(
+                            "the file carries no DOF numbers (node 0, direction 0 for response and reference): dataset {ds_no} is read at the placeholders {} / {}, which are not a driving point (the audit runs no reciprocity or passivity on them); assign DOFs with the import option \"dofs\" (CLI --uff-dofs DATASET:OUT,IN)",
+                            crate::error::quote(&o.to_string()),
+                            crate::error::quote(&i.to_string())
+                        ),
+                        ds.line,
+                    );
+                    out = o;
+                    inp = i;
+                }
+            }
+        }
+        let orot = out.dir.is_rotational();
+        let irot = inp.dir.is_rotational();
         let name = ds.id[0].trim().to_string();
+        let ids = [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()];
+        let entry = |out: Dof, inp: Dof, values: Vec<Complex64>| Entry {
+            out,
+            inp,
+            values,
+            line: ds.line,
+            binary: ds.binary,
+            name: name.clone(),
+            ids: ids.clone(),
+        };
+        // a general function is an FRF when record 10 or a ratio label
+        // says so, else a spectrum when record 9 says what it is
+        let role = if role == Role::General {
+            let m = frf_meaning(file, ds, orot, irot, &mut Remarks::default());
+            let ratio = matches!(&m, Ok(m) if m.inp.is_some());
+            if ratio {
+                Role::Frf
+            } else {
+                match spectrum_meaning(file, ds, None, orot, &mut Remarks::default()) {
+                    Ok(Some(sm)) => Role::Spectrum(sm.kind),
+                    _ if ov.out_qty.is_some() && ov.in_qty.is_some() => Role::Frf,
+                    _ if ov.out_qty.is_some() => Role::Spectrum(declared.unwrap_or(SignalKind::Peak)),
+                    _ => {
+                        return Err(untold(
+                            file,
+                            ds,
+                            "neither the specific data types nor the units labels say what the values are (an FRF: a ratio such as (m/s^2)/N; a spectrum: a unit such as Pa, Pa^2 or Pa^2/Hz)",
+                        ))
+                    }
+                }
+            }
+        } else {
+            role
+        };
+        if ds.func_type == 0 {
+            rm.add(
+                format!(
+                    "function type 0 (general or unknown) read as {}, as the specific data types and units labels say",
+                    match role {
+                        Role::Spectrum(k) => k.describe(),
+                        _ => "an FRF",
+                    }
+                ),
+                ds.line,
+            );
+        }
         match role {
+            Role::General => unreachable_general(file, ds)?,
             Role::Coherence => {
                 let v: Vec<f64> = ds.y.iter().map(|c| c.re).collect();
                 coherences.push((out, inp, freqs, v, ds.line, tag));
                 continue;
             }
             Role::Frf => {
-                let oq = axis_quantity(file, ds, 9, orot, ds.func_type == 5)?;
-                let iq = axis_quantity(file, ds, 10, irot, ds.func_type == 5)?;
-                let (oq, iq, factor) = match (oq, iq) {
-                    (Some(oq), Some(iq)) => {
-                        let f = frf_factor(file, ds, oq, orot, iq, irot, &mut rm)?;
-                        (oq, iq, f)
+                let m = frf_meaning(file, ds, orot, irot, &mut rm)?;
+                let transmissibility = ds.func_type == 5;
+                let (mut oq, mut iq) = (m.out, m.inp);
+                if transmissibility {
+                    // output and input of the same quantity
+                    oq = oq.or(iq);
+                    iq = iq.or(oq);
+                }
+                if oq.is_none() {
+                    if let Some(q) = ov.out_qty {
+                        used_out_qty = true;
+                        oq = Some(q);
                     }
-                    (Some(q), None) | (None, Some(q)) => {
-                        // transmissibility: same quantity on both sides
-                        let f = frf_factor(file, ds, q, orot, q, irot, &mut rm)?;
-                        (q, q, f)
+                }
+                if iq.is_none() {
+                    if let Some(q) = ov.in_qty {
+                        used_in_qty = true;
+                        iq = Some(q);
                     }
-                    (None, None) => (Quantity::Dimensionless, Quantity::Dimensionless, 1.0),
+                }
+                let (oq, iq) = match (oq, iq) {
+                    (Some(o), Some(i)) => (o, i),
+                    (None, None) if transmissibility => {
+                        rm.add(
+                            "transmissibility without quantities in records 9 and 10: read as a dimensionless ratio (kind conversions are refused on it)".to_string(),
+                            ds.line,
+                        );
+                        (Quantity::Dimensionless, Quantity::Dimensionless)
+                    }
+                    (o, _) => {
+                        return Err(untold(
+                            file,
+                            ds,
+                            if o.is_none() {
+                                "the response quantity (record 9) is not told"
+                            } else {
+                                "the reference quantity (record 10) is not told"
+                            },
+                        ))
+                    }
                 };
-                let values = ds.y.iter().map(|v| v * factor).collect();
+                if transmissibility && oq != iq {
+                    return Err(Error::quantity(format!(
+                        "function type 5 (transmissibility) relates like quantities, but record 9 says {oq} and record 10 says {iq}; expected the same quantity on both sides (or function type 4 for an FRF)"
+                    ))
+                    .field("records 9 and 10, specific data type")
+                    .at_line(ds.record_line(9))
+                    .in_file(file));
+                }
+                let values = ds.y.iter().map(|v| v * m.factor).collect();
                 push_entry(
                     &mut groups,
                     (role, oq, iq, freqs, tag),
-                    Entry {
-                        out,
-                        inp,
-                        values,
-                        line: ds.line,
-                        binary: ds.binary,
-                        name,
-                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
-                    },
+                    entry(out, inp, values),
                     rm,
                 );
             }
             Role::Spectrum(kind) => {
-                let q = axis_quantity(file, ds, 9, orot, false)?.unwrap_or(Quantity::Force);
-                let factor = spectrum_factor(file, ds, q, orot, kind, &mut rm)?;
-                if ds.func_type == 12 && own.signal.is_none() && declared.is_none() {
+                let general = ds.func_type == 0;
+                let sm = spectrum_meaning(file, ds, (!general).then_some(kind), orot, &mut rm)?;
+                let sm = match sm {
+                    Some(sm) => sm,
+                    None => match ov.out_qty {
+                        Some(q) => {
+                            used_out_qty = true;
+                            let f = if ds.axes[1].units.is_empty() {
+                                1.0
+                            } else {
+                                spectrum_meaning(
+                                    file,
+                                    ds,
+                                    Some(kind),
+                                    orot,
+                                    &mut Remarks::default(),
+                                )?
+                                .map(|m| m.factor)
+                                .unwrap_or(1.0)
+                            };
+                            SpectrumMeaning {
+                                kind,
+                                qty: q,
+                                ref_qty: (kind == SignalKind::Cross).then_some(q),
+                                factor: f,
+                                square: false,
+                            }
+                        }
+                        None => {
+                            return Err(untold(
+                                file,
+                                ds,
+                                "the quantity of the spectrum (record 9) is not told",
+                            ))
+                        }
+                    },
+                };
+                if sm.kind == SignalKind::Peak
+                    && matches!(ds.func_type, 12 | 0)
+                    && own.signal.is_none()
+                    && declared.is_none()
+                {
                     rm.add(
                         "UFF does not say whether spectrum amplitudes are peak or RMS; read as peak"
                             .to_string(),
                         ds.line,
                     );
                 }
-                let values = ds.y.iter().map(|v| v * factor).collect();
+                let values: Vec<Complex64> = if sm.square {
+                    ds.y.iter()
+                        .map(|v| Complex64::new(v.norm_sqr() * sm.factor, 0.0))
+                        .collect()
+                } else {
+                    ds.y.iter().map(|v| v * sm.factor).collect()
+                };
+                let (reference, in_qty) = match sm.kind {
+                    SignalKind::Cross => (inp, sm.ref_qty.unwrap_or(sm.qty)),
+                    _ => (Dof::scalar("", "ref"), Quantity::Dimensionless),
+                };
                 push_entry(
                     &mut groups,
-                    (role, q, Quantity::Dimensionless, freqs, tag),
-                    Entry {
-                        out,
-                        inp: Dof::scalar("", "ref"),
-                        values,
-                        line: ds.line,
-                        binary: ds.binary,
-                        name,
-                        ids: [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()],
-                    },
+                    (Role::Spectrum(sm.kind), sm.qty, in_qty, freqs, tag),
+                    entry(out, reference, values),
                     rm,
                 );
             }
         }
     }
+    let refuse_unused = |given: bool, used: bool, key: &str, what: &str| -> Result<()> {
+        if given && !used {
+            return Err(Error::usage(format!(
+                "the import option \"{key}\" was given, but every dataset of the file tells its {what}; leave \"{key}\" out"
+            ))
+            .field(key.to_string())
+            .in_file(file));
+        }
+        Ok(())
+    };
+    refuse_unused(
+        ov.out_qty.is_some(),
+        used_out_qty,
+        "out_qty",
+        "response quantity",
+    )?;
+    refuse_unused(
+        ov.in_qty.is_some(),
+        used_in_qty,
+        "in_qty",
+        "reference quantity",
+    )?;
+    if let Some(k) = used_dofs.iter().position(|u| !u) {
+        let a = &ov.dofs[k];
+        return Err(Error::usage(match a.dataset {
+            Some(n) => format!(
+                "the import option \"dofs\" assigns DOFs to dataset {n}, but {}; assign DOFs only to datasets written without DOF numbers (node 0, direction 0)",
+                if n == 0 || n > datasets.len() {
+                    format!("the file holds {} dataset(s) 58", datasets.len())
+                } else {
+                    format!("dataset {n} (line {}) carries DOF numbers", datasets[n - 1].line)
+                }
+            ),
+            None => format!(
+                "the import option \"dofs\" gives one DOF pair without a dataset number, but the file holds {n_unnumbered} dataset(s) without DOF numbers; {}",
+                if n_unnumbered == 0 { "leave \"dofs\" out".to_string() } else { "give \"dataset\" for each".to_string() }
+            ),
+        })
+        .field("dofs")
+        .in_file(file));
+    }
+    split_runs(&mut groups);
     let prov_base = Provenance {
         file: crate::io::base_name(file),
         sha256: crate::io::sha256_hex(bytes),
@@ -389,7 +807,7 @@ pub fn read_declared_with_limits(
         }
         s.provenance.push(p);
         let label = match g.role {
-            Role::Spectrum(_) => "spectrum",
+            Role::Spectrum(_) | Role::General => "spectrum",
             _ => s.kind().name(),
         };
         s.name = names.unique(std::mem::take(&mut s.name), label);
@@ -417,6 +835,14 @@ pub fn read_declared_with_limits(
             let i = places[n].0.get(&place(&out)).copied();
             let j = places[n].1.get(&place(&inp)).copied();
             if let (Some(i), Some(j)) = (i, j) {
+                // a later run's coherence goes to the later run's set
+                let filled = s
+                    .coherence
+                    .as_ref()
+                    .is_some_and(|c| c[i * s.n_in() + j].is_finite());
+                if filled {
+                    continue;
+                }
                 let n = s.data.len();
                 let (n_out, n_in) = (s.n_out(), s.n_in());
                 let coh = s.coherence.get_or_insert_with(|| vec![f64::NAN; n]);
@@ -443,6 +869,18 @@ pub fn read_declared_with_limits(
         warnings.extend(s.warnings.iter().cloned());
     }
     warnings.extend(file_rm.render(file));
+    if sets.is_empty() && time.is_empty() {
+        if let Some(e) = time_errors.into_iter().next() {
+            return Err(e);
+        }
+    }
+    if sets.is_empty() && !time.is_empty() {
+        return Ok(UffRead {
+            sets,
+            time,
+            warnings,
+        });
+    }
     if sets.is_empty() {
         return Err(Error::unsupported(format!(
             "the file holds {} dataset(s) 58 but none mortise reads (FRF, transmissibility, coherence with its FRF, spectra)",
@@ -451,10 +889,141 @@ pub fn read_declared_with_limits(
         .field("record 6, function type")
         .in_file(file));
     }
-    Ok((sets, warnings))
+    Ok(UffRead {
+        sets,
+        time,
+        warnings,
+    })
 }
 
 type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);
+
+/// True when a dataset carries no DOF numbers: node 0 and direction 0 for
+/// both response and reference.
+fn unnumbered(ds: &Dataset58) -> bool {
+    ds.rsp_node == 0 && ds.rsp_dir == 0 && ds.ref_node == 0 && ds.ref_dir == 0
+}
+
+fn header_not_utf8(ds: &Dataset58) -> bool {
+    ds.latin1
+}
+
+fn unreachable_general(file: &str, ds: &Dataset58) -> Result<()> {
+    Err(Error::internal("a general function left undecided")
+        .at_line(ds.line)
+        .in_file(file))
+}
+
+/// Datasets that repeat a DOF pair of their group (several runs of one
+/// channel) are kept: the k-th dataset of a pair goes to run k, each run
+/// its own set named `<name> run <k>`, in the file's order. Nothing is
+/// dropped; the recipe's `set` index picks a run.
+fn split_runs(groups: &mut Groups) {
+    let mut out = Vec::with_capacity(groups.list.len());
+    for mut g in std::mem::take(&mut groups.list) {
+        let mut count: HashMap<(Place, Place), usize> = HashMap::new();
+        let mut runs: Vec<Vec<Entry>> = Vec::new();
+        for e in g.entries.drain(..) {
+            let c = count.entry((place(&e.out), place(&e.inp))).or_insert(0);
+            if runs.len() <= *c {
+                runs.push(Vec::new());
+            }
+            runs[*c].push(e);
+            *c += 1;
+        }
+        let n = runs.len();
+        if n == 1 {
+            g.entries = runs.pop().unwrap_or_default();
+            out.push(g);
+            continue;
+        }
+        for (r, entries) in runs.into_iter().enumerate() {
+            let mut remarks = g.remarks.clone();
+            let lines: Vec<String> = entries.iter().take(5).map(|e| e.line.to_string()).collect();
+            remarks.add(
+                format!(
+                    "the file repeats DOF pairs (several runs of one channel): kept as {n} sets, one per run in file order; this is run {} (datasets at lines {}{}); pick a run with the recipe component's \"set\" index",
+                    r + 1,
+                    lines.join(", "),
+                    if entries.len() > 5 { " ..." } else { "" }
+                ),
+                entries[0].line,
+            );
+            out.push(Group {
+                role: g.role,
+                out_qty: g.out_qty,
+                in_qty: g.in_qty,
+                freqs: g.freqs.clone(),
+                tag: g.tag.clone(),
+                entries,
+                remarks,
+                run: Some(r + 1),
+            });
+        }
+    }
+    groups.list = out;
+    groups.index.clear();
+}
+
+/// What a UFF file holds, dataset numbers with counts in order of first
+/// appearance, for the message of a file without dataset 58.
+fn census_text(bytes: &[u8]) -> String {
+    use super::text::Cursor;
+    let mut c = Cursor::new(bytes);
+    let mut counts: Vec<(String, usize)> = Vec::new();
+    let mut inside = false;
+    let mut expect_number = false;
+    while let Some(l) = c.next_line() {
+        let t = l.trimmed();
+        if expect_number {
+            expect_number = false;
+            let num = t.split_whitespace().next().unwrap_or("").to_string();
+            if num == "-1" {
+                expect_number = true;
+                continue;
+            }
+            match counts.iter_mut().find(|(n, _)| *n == num) {
+                Some(x) => x.1 += 1,
+                None => counts.push((num, 1)),
+            }
+            inside = true;
+            continue;
+        }
+        if t == "-1" {
+            if inside {
+                inside = false;
+            } else {
+                expect_number = true;
+            }
+        }
+    }
+    if counts.is_empty() {
+        return "no dataset".to_string();
+    }
+    let list: Vec<String> = counts
+        .iter()
+        .take(20)
+        .map(|(n, k)| {
+            let what = match n.trim_end_matches(['b', 'B']) {
+                "15" | "781" | "2411" => " (nodes)",
+                "18" | "2420" => " (coordinate systems)",
+                "55" => " (data at nodes: modes)",
+                "82" => " (trace lines)",
+                "151" => " (header)",
+                "164" => " (units)",
+                "2412" => " (elements)",
+                "2414" => " (analysis data)",
+                _ => "",
+            };
+            format!("dataset {}{what} ×{k}", crate::error::quote(n))
+        })
+        .collect();
+    format!(
+        "{}{}; the FRF reader reads dataset 58 and 58b only and skips the others",
+        list.join(", "),
+        if counts.len() > 20 { ", ..." } else { "" }
+    )
+}
 
 /// A grid as hashable bits (values are finite, checked by the parser;
 /// -0 is 0 as `==` says).
@@ -485,6 +1054,7 @@ fn role_key(r: Role) -> (u8, &'static str) {
         Role::Frf => (0, ""),
         Role::Coherence => (1, ""),
         Role::Spectrum(k) => (2, k.name()),
+        Role::General => (3, ""),
     }
 }
 
@@ -503,6 +1073,7 @@ fn push_entry(groups: &mut Groups, key: GroupKey, e: Entry, rm: Remarks) {
                 tag,
                 entries: Vec::new(),
                 remarks: Remarks::default(),
+                run: None,
             });
             groups.index.insert(hk, groups.list.len() - 1);
             groups.list.len() - 1
@@ -634,6 +1205,9 @@ fn build_set(
         && g.entries.iter().all(|e| &e.name == first)
     {
         s.name = first.clone();
+    }
+    if let Some(r) = g.run {
+        s.name = format!("{} run {r}", s.name);
     }
     s.warnings = g.remarks.render(file);
     Ok((s, out_at, in_at))

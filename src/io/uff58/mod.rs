@@ -50,7 +50,8 @@
 //!
 //! ## What mortise writes
 //! One dataset per present entry: function type 4 for FRFs; 12 for peak or
-//! RMS spectra, 2 for autopower, 9 for PSD; 6 for coherence after its FRF.
+//! RMS spectra, 2 for autopower, 9 for PSD, 10 for ESD, 3 for cross spectra
+//! (the reference DOF in record 6); 6 for coherence after its FRF.
 //! Double precision, SI units labels (records 9 and 10), specific data types
 //! 8/11/12 (motion), 9 (force response) / 13 (excitation force), 15
 //! (pressure), 18 (frequency). ID line 1 holds the set name, ID line 2 the
@@ -80,6 +81,36 @@
 //!
 //! One set spread over several files (a roving-hammer delivery) is read file
 //! by file and joined by [`super::merge`].
+//!
+//! ## Function types and what the file does not say
+//! Read: 4 (FRF), 5 (transmissibility: output and input of one quantity),
+//! 6 (coherence), 2 (auto spectrum), 3 (cross spectrum: the reference DOF
+//! is the set's one input, values in output unit × reference unit),
+//! 9 (PSD), 10 (ESD), 12 (spectrum) and 0 (general) when records 9 and 10
+//! tell the quantities (a ratio label: an FRF; a unit, its square or its
+//! square per Hz: a spectrum). Time responses (1) are read by
+//! [`read_overridden`] into a separate list of [`TimeHistory`] (abscissa
+//! code 17, a time unit), never into a set: their abscissa is time and must
+//! never become a frequency grid; the plain readers skip them (and refuse a
+//! file of time data alone, by name). Other types are skipped with a remark.
+//!
+//! Quantities come from the specific data types and the units labels of
+//! records 9 and 10 together: a ratio label in record 9 (`(1/N)*(m/s²)`,
+//! `g/lbf`) gives both sides; a code and a label that disagree are read as
+//! the label says, with a warning naming both. When neither tells, the read
+//! is refused naming the import options `out_qty` / `in_qty` ([`Overrides`]),
+//! which are refused in turn when no dataset needs them. An amplitude
+//! spectral density label (`m/s/√Hz`) is read as a PSD of the squared values.
+//!
+//! Datasets with node 0 and direction 0 on both sides carry no DOFs: they
+//! get the placeholders of [`unnumbered_dofs`] (distinct, so never a driving
+//! point) until the `dofs` import option assigns them. Datasets repeating a
+//! DOF pair of their group (several runs of one channel) are all kept: run k
+//! is the k-th dataset of each pair, a set named `<name> run <k>`.
+//!
+//! Header text (records 1-11) that is not UTF-8 is read as Latin-1
+//! (Windows-1252 for the characters units use) by the CSV readers' decoder,
+//! reported once per file.
 //!
 //! ## Spectrum kinds
 //! Function type 2 is an autopower and 9 a PSD; type 12 does not say peak or
@@ -123,11 +154,14 @@ mod write;
 
 pub use extras::{read_extras, write_2411, write_55, UffExtras, UffExtrasSummary};
 pub use geometry::{CoordSystem, Geometry, GeometrySummary, Node, TraceLine};
-pub use group::{read, read_declared, read_declared_with_limits, read_with};
+pub use group::{
+    read, read_declared, read_declared_with_limits, read_overridden, read_with, unnumbered_dofs,
+    DofAssignment, Overrides, UffRead,
+};
 pub use header151::Header151;
 pub use modal55::ModeSummary;
 pub use provenance::{provenance_from_lines, provenance_lines};
-pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout};
+pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout, TimeHistory};
 pub use scan::{looks_like_uff, parse_datasets};
 pub use units164::{units_code_name, UnitSystem};
 pub use write::{datasets_of, shortest, write, write_dataset, write_with};

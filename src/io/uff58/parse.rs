@@ -328,6 +328,7 @@ pub(super) fn parse_58(
         }
     }
     let id: [String; 5] = std::array::from_fn(|k| recs[k].text().trim_end().to_string());
+    let latin1 = recs.iter().any(|l| l.not_utf8());
     // record 6
     let r6 = read_record(
         file,
@@ -537,8 +538,29 @@ pub(super) fn parse_58(
             if tt.is_empty() {
                 continue;
             }
-            let toks: Vec<&str> = tt.split_whitespace().collect();
+            let mut toks: Vec<&str> = tt.split_whitespace().collect();
+            // the end tag on the last data line (no newline before it):
+            // taken only when the values are then exactly those record 7
+            // announces, so no number changes
+            let tag_here = toks.len() > 1
+                && toks.last() == Some(&"-1")
+                && vals.len() + toks.len() == n_vals + 1;
+            if tag_here {
+                toks.pop();
+            }
             let parsed: Vec<Option<f64>> = toks.iter().map(|s| parse_num(s)).collect();
+            if tag_here && parsed.iter().all(|p| p.is_some()) {
+                for v in parsed.into_iter().flatten() {
+                    vals.push(v);
+                    pos.push((false, l.no));
+                }
+                remarks.push(format!(
+                    "{file}: line {}: the end tag '-1' of dataset 58 that started at line {start} stands on the last data line; read as the end tag",
+                    l.no
+                ));
+                ended = true;
+                break;
+            }
             if parsed.iter().all(|p| p.is_some()) {
                 for v in parsed.into_iter().flatten() {
                     vals.push(v);
@@ -699,5 +721,6 @@ pub(super) fn parse_58(
         x,
         y,
         line: start,
+        latin1,
     })
 }

@@ -56,6 +56,9 @@ pub struct Dataset58 {
     pub y: Vec<Complex64>,
     /// 1-based line of the start tag.
     pub line: usize,
+    /// True when header text (records 1-11) was not UTF-8 and was read as
+    /// Latin-1 (Windows-1252).
+    pub latin1: bool,
 }
 
 impl Dataset58 {
@@ -69,6 +72,37 @@ impl Dataset58 {
     pub fn record_line(&self, r: usize) -> usize {
         self.line + 1 + r
     }
+}
+
+/// A time history (function type 1) as read, in SI: kept apart from FRF
+/// sets (it has no frequency grid), so no FRF or spectrum operation can take
+/// it. Listed by `inspect` and on the page's card; later it is the input of
+/// time-data processing (spectra for the excitation of `respond`,
+/// operational data for blocked forces).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TimeHistory {
+    /// ID line 1.
+    pub name: String,
+    /// The channel: the response DOF of record 6 (`None` when the file
+    /// gives node 0 and direction 0).
+    pub channel: Option<crate::frf::Dof>,
+    /// What the values measure, from record 9 (`None`: not told; the values
+    /// are then as in the file).
+    pub quantity: Option<crate::units::Quantity>,
+    /// The SI unit of `values` ("" when the quantity is not told).
+    pub unit: String,
+    /// Time of the first sample, s.
+    pub start_s: f64,
+    /// Samples per second (even spacing), `None` for uneven time steps.
+    pub sample_rate_hz: Option<f64>,
+    /// Last time minus first time, s.
+    pub duration_s: f64,
+    /// Sample times, s.
+    pub times: Vec<f64>,
+    /// Values in SI (the real part; a time history is real).
+    pub values: Vec<f64>,
+    /// 1-based line of the dataset's start tag.
+    pub line: usize,
 }
 
 /// Column layout of ASCII output (see the module docs).

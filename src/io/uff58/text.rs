@@ -12,8 +12,14 @@ pub(super) struct Line<'a> {
 }
 
 impl Line<'_> {
+    /// The line as text: UTF-8, else Latin-1 (Windows-1252 for the
+    /// characters units use), by the one decoder the CSV readers use.
     pub(super) fn text(&self) -> String {
-        String::from_utf8_lossy(self.bytes).into_owned()
+        crate::io::csv::decode_text(self.bytes)
+    }
+    /// True when the line is not UTF-8 (and [`Line::text`] read it as Latin-1).
+    pub(super) fn not_utf8(&self) -> bool {
+        std::str::from_utf8(self.bytes).is_err()
     }
     pub(super) fn trimmed(&self) -> String {
         self.text().trim().to_string()

@@ -266,7 +266,8 @@ pub fn write_dataset(out: &mut Vec<u8>, ds: &Dataset58, layout: Layout) {
 /// datasets where the set carries coherence).
 pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
     set.validate()?;
-    let spectrum = set.signal.is_some();
+    // a cross spectrum's input is its reference DOF, written as one
+    let spectrum = set.signal.is_some() && set.signal != Some(SignalKind::Cross);
     // UFF has no component namespace: DOFs that differ only by component
     // would become one
     let sides: &[&Vec<Dof>] = if spectrum {
@@ -293,8 +294,13 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
         Some(SignalKind::Rms) => (12, "signal=rms".into()),
         Some(SignalKind::Autopower) => (2, "signal=autopower".into()),
         Some(SignalKind::Psd) => (9, "signal=psd".into()),
+        Some(SignalKind::Cross) => (3, "signal=cross".into()),
+        Some(SignalKind::Esd) => (10, "signal=esd".into()),
     };
-    let real = matches!(set.signal, Some(SignalKind::Autopower | SignalKind::Psd));
+    let real = matches!(
+        set.signal,
+        Some(SignalKind::Autopower | SignalKind::Psd | SignalKind::Esd)
+    );
     let even = match layout {
         Layout::Binary | Layout::Ascii(_) => even_grid(&set.freqs),
     };
@@ -324,6 +330,15 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 }
                 Some(SignalKind::Autopower) => format!("({})^2", set.out_qty.si_unit(orot)),
                 Some(SignalKind::Psd) => format!("({})^2/Hz", set.out_qty.si_unit(orot)),
+                Some(SignalKind::Esd) => format!("({})^2*s/Hz", set.out_qty.si_unit(orot)),
+                Some(SignalKind::Cross) if set.in_qty == set.out_qty => {
+                    format!("({})^2", set.out_qty.si_unit(orot))
+                }
+                Some(SignalKind::Cross) => format!(
+                    "({})*({})",
+                    set.out_qty.si_unit(orot),
+                    set.in_qty.si_unit(irot)
+                ),
             };
             let ax_x = AxisInfo {
                 code: 18,
@@ -339,6 +354,12 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
             };
             let ax_den = if spectrum {
                 AxisInfo::default()
+            } else if set.signal == Some(SignalKind::Cross) {
+                AxisInfo {
+                    code: out_code(set.in_qty),
+                    label: set.in_qty.name().into(),
+                    ..Default::default()
+                }
             } else {
                 AxisInfo {
                     code: in_code(set.in_qty),
@@ -388,6 +409,7 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 x: set.freqs.clone(),
                 y: set.column(i, j),
                 line: 0,
+                latin1: false,
             };
             if let Some(coh) = &set.coherence {
                 let c: Vec<f64> = (0..set.n_lines()).map(|k| coh[set.idx(k, i, j)]).collect();
