@@ -413,6 +413,52 @@ fn bytes_and_text(bytes: &[u8], key: &str, text: &str) -> std::result::Result<Js
     Ok(o.into())
 }
 
+/// The sounds of the chosen curves (JSON `[[set_id, out], ...]`: sound-
+/// pressure spectra, e.g. a baseline and its variants) at one gain
+/// (`crate::listen::synthesize_together`), with `options_json` a
+/// `ListenOptions` (empty: defaults). Returns `{ wavs: [Uint8Array...],
+/// info: text }`, `info` the JSON `{sounds: [Sound...], caution}`.
+#[wasm_bindgen]
+pub fn listen_sounds(
+    curves_json: &str,
+    options_json: &str,
+) -> std::result::Result<JsValue, JsValue> {
+    let curves: Vec<(String, usize)> = serde_json::from_str(curves_json)
+        .map_err(|e| js_err(Error::usage(format!("curve list: {e}")).field("curves")))?;
+    let opts: crate::listen::ListenOptions = if options_json.trim().is_empty() {
+        Default::default()
+    } else {
+        serde_json::from_str(options_json)
+            .map_err(|e| js_err(Error::usage(format!("sound options: {e}")).field("listen")))?
+    };
+    let ids: Vec<String> = curves.iter().map(|c| c.0.clone()).collect();
+    let (sets, limits) = WS
+        .with(|ws| {
+            let ws = ws.borrow();
+            ws.sets_by_id(&ids).map(|s| (s, *ws.limits()))
+        })
+        .map_err(js_err)?;
+    let pairs: Vec<(&crate::frf::FrfSet, usize)> =
+        sets.iter().zip(&curves).map(|(s, c)| (s, c.1)).collect();
+    let sounds = crate::listen::synthesize_together(&pairs, &opts, &limits).map_err(js_err)?;
+    let wavs = js_sys::Array::new();
+    for s in &sounds {
+        let b: JsValue =
+            js_sys::Uint8Array::from(crate::listen::float_wav(s.rate, &s.samples).as_slice())
+                .into();
+        wavs.push(&b);
+    }
+    let info = serde_json::json!({ "sounds": sounds, "caution": crate::listen::HEARING_CAUTION });
+    let o = js_sys::Object::new();
+    js_sys::Reflect::set(&o, &JsValue::from_str("wavs"), &wavs)?;
+    js_sys::Reflect::set(
+        &o,
+        &JsValue::from_str("info"),
+        &JsValue::from_str(&info.to_string()),
+    )?;
+    Ok(o.into())
+}
+
 /// Make a bundle of the recipe, the loaded files (raw data per file included
 /// or withheld, or `results_only`) and the last results. Returns
 /// `{ bytes: Uint8Array, info: text }`, `info` being the JSON of

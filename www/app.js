@@ -131,6 +131,7 @@ function wire() {
   $('opt-log').addEventListener('change', (e) => { S.plot.xlog = e.target.checked; S.plot.xrange = null; drawPlot(); autosave(); });
   $('zoom-reset').addEventListener('click', () => { S.plot.xrange = null; drawPlot(); autosave(); });
   for (const b of document.querySelectorAll('[data-export]')) b.addEventListener('click', () => exportAs(b.dataset.export));
+  $('listen-btn').addEventListener('click', listen);
   // a bundle of stale results would present them as the recipe's: refused like the other exports
   $('bundle-btn').addEventListener('click', () => {
     if (S.stale && S.results) {

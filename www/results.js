@@ -349,3 +349,50 @@ function nodeNumbersNote(table, file) {
       el('table', {}, el('tr', {}, el('th', {}, 'component'), el('th', {}, 'node label'), el('th', {}, 'UFF node')),
         ...table.map((t) => el('tr', {}, el('td', {}, t.component), el('td', {}, t.node), el('td', {}, t.number)))))));
 }
+// ---------- listen ----------
+// The core makes the sounds (one gain for all chosen curves); the page only
+// plays them, starting quietly, and switches A/B at the same instant.
+let listenUrls = [];
+async function listen() {
+  const box = $('listen-box');
+  clear(box);
+  box.hidden = false;
+  for (const u of listenUrls) URL.revokeObjectURL(u);
+  listenUrls = [];
+  const refused = staleRefusal('wav');
+  if (refused) { box.append(el('div', { class: 'error-box', role: 'alert' }, refused.replace('Export', 'Listening'))); return; }
+  const curves = S.plot.sel.map((x) => [x.set, x.out]);
+  if (!curves.length) { box.append(el('div', { class: 'error-box', role: 'alert' }, 'choose one or more sound-pressure spectra (e.g. the bedroom and its variants) to hear them')); return; }
+  try {
+    const r = await Bridge.call('listen_sounds', [JSON.stringify(curves), JSON.stringify({ seconds: 10 })], 'making the sound');
+    const info = JSON.parse(r.info);
+    const names = [...$('curve-select').selectedOptions].map((o) => o.textContent);
+    box.append(el('p', { class: 'caution', role: 'note' }, info.caution));
+    const s0 = info.sounds[0];
+    box.dataset.fullScalePa = String(s0.full_scale_pa);
+    box.append(el('p', { class: 'help' }, `Sample value 1.0 = ${s0.full_scale_pa.toExponential(3)} Pa for every sound here: to hear the predicted level, set the playback gain so that a full-scale sine plays at ${s0.full_scale_spl_db.toFixed(1)} dB SPL.`));
+    const players = [];
+    [...r.wavs].forEach((bytes, i) => {
+      const url = URL.createObjectURL(new Blob([bytes], { type: 'audio/wav' }));
+      listenUrls.push(url);
+      const a = el('audio', { controls: true, src: url, 'aria-label': `sound of ${names[i] || 'curve ' + (i + 1)}` });
+      a.volume = 0.2; // start quiet
+      players.push(a);
+      box.append(el('div', { class: 'listen-row', 'data-sound': i }, el('span', {}, names[i] || `curve ${i + 1}`), a,
+        el('a', { href: url, download: `mortise-sound-${i + 1}.wav`, class: 'btn small' }, 'WAV')));
+    });
+    if (players.length > 1) {
+      let on = 0;
+      box.append(el('button', { class: 'btn', id: 'ab-btn', type: 'button', onclick: () => {
+        const t = players[on].currentTime, playing = !players[on].paused;
+        players[on].pause();
+        on = (on + 1) % players.length;
+        players[on].currentTime = t;
+        if (playing) players[on].play();
+        $('ab-btn').textContent = `switch (now: ${names[on] || on + 1})`;
+      } }, `switch (now: ${names[0] || 1})`));
+    }
+  } catch (e) {
+    box.append(errorBox(e));
+  }
+}
