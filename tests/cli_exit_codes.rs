@@ -64,6 +64,12 @@ fn one_for_data_problems_that_used_to_exit_as_usage_errors() {
     // a supplier table read without a column map: the file does not fit
     let r = mortise(&d, &["inspect", "supplier.csv"]);
     expect(&r, 1, "needs a column map");
+    // the command line says how it takes one (the page says so in its own words)
+    assert!(
+        r.stderr.contains("On the command line: --map auto"),
+        "{}",
+        r.stderr
+    );
     assert!(
         r.stdout.contains("supplier.csv\n  sha256: "),
         "the report goes to stdout: {}",

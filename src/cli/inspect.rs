@@ -296,6 +296,17 @@ pub struct FileResult {
 /// Read and load every file; failures are kept, with the file name. (A
 /// usage error from the reader is about the file, or a `--map` file: a data
 /// error.)
+/// A file that needs a column map: how to give one on the command line
+/// (the core's message says what a map holds, not how each face takes it).
+fn command_line_hint(mut e: Error) -> Error {
+    if e.field.as_deref() == Some("column_map") && e.message.contains("needs a column map") {
+        e.message.push_str(
+            " On the command line: --map auto, or --freq-col N --out-dof D --in-dof D (--re N --im N | --mag N --phase N | --value N) --unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json.",
+        );
+    }
+    e
+}
+
 pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Vec<FileResult> {
     let data = |e: Error| as_data(e, ErrorKind::Parse);
     paths
@@ -309,7 +320,9 @@ pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Ve
                 mat_variables: None,
             },
             Ok(bytes) => {
-                let result = io::load_with_limits(&bytes, p, opts, limits).map_err(data);
+                let result = io::load_with_limits(&bytes, p, opts, limits)
+                    .map_err(data)
+                    .map_err(command_line_hint);
                 let bundle = matches!(&result, Ok(l) if l.format == io::Format::Bundle);
                 let mat_variables = match (&result, &opts.mat) {
                     (Err(_), None) if io::mat::sniff(&bytes) => io::mat::variables(&bytes, p).ok(),

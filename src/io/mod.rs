@@ -683,9 +683,8 @@ pub fn load_with_limits(
                 return Err(Error::usage(format!(
                     "this is delimited text but not mortise's own CSV layout, so it needs a column map: \
 the frequency column, and for each FRF its output DOF, input DOF and value columns (real/imaginary, \
-magnitude/phase or one value), the value unit and the output and input quantities. \
-On the command line: --freq-col N --out-dof D --in-dof D (--re N --im N | --mag N --phase N | --value N) \
---unit U --out-qty Q --in-qty Q (after --skip N for title rows), or --map MAP.json. The file starts: {}",
+magnitude/phase or one value), the value unit and the output and input quantities; \
+mortise can propose one from the column names and units (column map \"auto\"). The file starts: {}",
                     head.join(" | ")
                 ))
                 .field("column_map")

@@ -305,6 +305,8 @@ test('a supplier CSV is mapped by detection alone: the dialog opens filled in fr
     assert.match(why, /Filled in from the file/);
     assert.match(why, /values in g\/N/);
     assert.match(why, /16 FRF/);
+    // the card speaks of the page's controls, never of command-line flags
+    assert.doesNotMatch(await s.page.textContent('.card[data-file="wall-accelerance.csv"]'), /--[a-z]/);
     await s.page.waitForFunction(() => !document.getElementById('map-ok').disabled, null, { timeout: 10000 });
     await shot(s.page, '08-mapping-detected');
     await s.page.click('#map-ok');
