@@ -29,6 +29,15 @@ pub enum Direction {
 }
 
 impl Direction {
+    /// The six directions of a node in space, translations first.
+    pub const SPATIAL: [Direction; 6] = [
+        Direction::X,
+        Direction::Y,
+        Direction::Z,
+        Direction::RX,
+        Direction::RY,
+        Direction::RZ,
+    ];
     pub fn is_rotational(self) -> bool {
         matches!(self, Direction::RX | Direction::RY | Direction::RZ)
     }

@@ -73,6 +73,10 @@ pub struct FileSummary {
     /// box and the node table) and modes (55), when it holds any.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub uff: Option<crate::io::uff58::UffExtrasSummary>,
+    /// A three-view sketch of the file's geometry with an arrow for each
+    /// translational DOF its sets use (`plot::geometry_svg`), when it has nodes.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub geometry_svg: Option<String>,
 }
 
 /// One time history of a file, for `inspect` and the page's card: it is
@@ -253,6 +257,18 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
         time_histories: loaded.time_histories.iter().map(time_summary).collect(),
         warnings: loaded.warnings.clone(),
         uff: loaded.uff.as_ref().map(|x| x.summary()),
+        geometry_svg: loaded
+            .uff
+            .as_ref()
+            .and_then(|x| x.geometry.as_ref())
+            .and_then(|g| {
+                let dofs: Vec<_> = loaded
+                    .sets
+                    .iter()
+                    .flat_map(|s| s.outputs.iter().chain(s.inputs.iter()).cloned())
+                    .collect();
+                crate::plot::geometry_svg(g, &dofs)
+            }),
     }
 }
 

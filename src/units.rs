@@ -222,14 +222,7 @@ impl UnitParser<'_> {
             return self.root();
         }
         let (dim, f) = if self.peek() == Some('(') {
-            self.pos += 1;
-            let v = self.expr()?;
-            self.skip_ws();
-            if self.peek() != Some(')') {
-                return Err(self.err("missing ')'"));
-            }
-            self.pos += 1;
-            v
+            self.parenthesised()?
         } else {
             let start = self.pos;
             while let Some(c) = self.peek() {
@@ -306,18 +299,23 @@ impl UnitParser<'_> {
         }
         Ok((dim.pow(n), f.powi(n as i32)))
     }
+    // at '(': the unit inside the parentheses
+    fn parenthesised(&mut self) -> Result<(Dim, f64)> {
+        self.pos += 1;
+        let v = self.expr()?;
+        self.skip_ws();
+        if self.peek() != Some(')') {
+            return Err(self.err("missing ')'"));
+        }
+        self.pos += 1;
+        Ok(v)
+    }
+
     // after '√' or 'sqrt': a unit name or a parenthesised unit, no power
     fn root(&mut self) -> Result<(Dim, f64)> {
         self.skip_ws();
         let (d, f) = if self.peek() == Some('(') {
-            self.pos += 1;
-            let v = self.expr()?;
-            self.skip_ws();
-            if self.peek() != Some(')') {
-                return Err(self.err("missing ')'"));
-            }
-            self.pos += 1;
-            v
+            self.parenthesised()?
         } else {
             let start = self.pos;
             while let Some(c) = self.peek() {

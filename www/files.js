@@ -142,6 +142,12 @@ function renderCards() {
           : el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ SHA-256 differs from the file bundle ${S.bundle.name} was made from (${inBundle.sha256.slice(0, 16)}…): its results do not describe this file`));
       }
       for (const w of s.warnings) card.append(el('div', { class: 'warn' }, '⚠ ' + w));
+      // the core's sketch of the file's geometry (an image: nothing in it runs)
+      if (s.geometry_svg) {
+        const g = s.uff?.geometry;
+        card.append(el('img', { class: 'geometry', src: 'data:image/svg+xml;charset=utf-8,' + encodeURIComponent(s.geometry_svg),
+          alt: `geometry of ${f.name}: ${g ? g.nodes : ''} nodes in three views, arrows at the DOFs of its FRFs` }));
+      }
       for (const set of s.sets) card.append(setBlock(set));
     }
     box.append(card);

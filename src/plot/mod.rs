@@ -23,6 +23,7 @@
 
 mod data;
 mod draw;
+mod geometry;
 mod layout;
 mod probe;
 mod render;
@@ -33,6 +34,7 @@ mod fixtures;
 
 pub use data::db_reference;
 pub use draw::{DASHES, PALETTE};
+pub use geometry::geometry_svg;
 pub use layout::tick_text;
 pub use probe::{probe, Probe};
 pub use render::{draw, render_svg};

@@ -9,7 +9,7 @@ import { existsSync, readFileSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
-import { open, shot, ROOT } from './helpers.mjs';
+import { open, shot, ROOT, pageResults } from './helpers.mjs';
 import { complexRows } from './data.mjs';
 
 const RECIPE = join(ROOT, 'sample-frf/heat-pump.recipe.json');
@@ -62,16 +62,10 @@ test('demo assembly on the page equals the CLI', async () => {
     assert.doesNotMatch(await s.page.textContent('#readout'), /cannot draw/);
     await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/12-demo-path-ranking.png') });
     await s.page.selectOption('#plot-kind', 'bode');
-    const results = await s.page.$$eval('#curve-select optgroup[label=results] option', (os) => {
-      const seen = new Map();
-      for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
-      return [...seen.entries()];
-    });
-    assert.ok(results.length > 0, 'the demo produces results');
-    for (const [name, value] of results) {
-      await s.page.selectOption('#curve-select', value);
-      const [dl] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=csv]')]);
-      const pageRows = complexRows(readFileSync(await dl.path(), 'utf8'));
+    const got = await pageResults(s.page);
+    assert.ok(got.size > 0, 'the demo produces results');
+    for (const [name, csv] of got) {
+      const pageRows = complexRows(csv);
       const cliRows = complexRows(readFileSync(join(out, safe(name) + '.csv'), 'utf8'));
       assert.equal(pageRows.length, cliRows.length, name);
       assert.ok(cliRows.length > 0, name);

@@ -1,7 +1,7 @@
 // Shared browser helpers for the page's end-to-end tests (playwright-core with
 // the system chromium; no browser download).
 import { chromium } from 'playwright-core';
-import { mkdtempSync, mkdirSync, rmSync, existsSync } from 'node:fs';
+import { mkdtempSync, mkdirSync, rmSync, existsSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, dirname, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -48,4 +48,29 @@ export async function addFiles(page, files) {
 export async function shot(page, name) {
   await page.evaluate(() => window.scrollTo(0, 0));
   await page.screenshot({ path: join(ARTIFACTS, name + '.png'), fullPage: true });
+}
+
+// Every result's CSV as the page exports it: name → text.
+export async function pageResults(page) {
+  const results = await page.$$eval('#curve-select optgroup[data-group=results] option', (os) => {
+    const seen = new Map();
+    for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
+    return [...seen.entries()];
+  });
+  const out = new Map();
+  // Chromium drops a page's downloads after about ten in a row (its limit on
+  // automatic downloads), so the button is pressed for two results and the
+  // rest are asked of the same core call the button makes.
+  let k = 0;
+  for (const [name, value] of results) {
+    await page.selectOption('#curve-select', value);
+    if (k++ < 2) {
+      const [dl] = await Promise.all([page.waitForEvent('download'), page.click('[data-export=csv]')]);
+      out.set(name, readFileSync(await dl.path(), 'utf8'));
+    } else {
+      const set = JSON.parse(value)[0];
+      out.set(name, await page.evaluate(async (id) => new TextDecoder().decode((await Bridge.call('export_file', [JSON.stringify([id]), 'csv'])).bytes), set));
+    }
+  }
+  return out;
 }

@@ -10,7 +10,7 @@ import { existsSync, readFileSync, writeFileSync, mkdtempSync, copyFileSync } fr
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
-import { open, addFiles, shot, ROOT } from './helpers.mjs';
+import { open, addFiles, shot, ROOT, pageResults } from './helpers.mjs';
 import { frameCsv, massCsv, RECIPE, complexRows } from './data.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
@@ -47,30 +47,6 @@ async function run(page) {
   await page.waitForFunction((b) => ((document.body.dataset.plotted || '') !== b && !document.body.dataset.state.startsWith('busy'))
     || document.querySelector('#run-error:not([hidden])'), before, { timeout: 120000 });
   return page.$eval('#run-error', (e) => (e.hidden ? '' : e.textContent));
-}
-// Every result's CSV as the page exports it: name → text.
-async function pageResults(page) {
-  const results = await page.$$eval('#curve-select optgroup[data-group=results] option', (os) => {
-    const seen = new Map();
-    for (const o of os) if (!seen.has(o.dataset.name)) seen.set(o.dataset.name, o.value);
-    return [...seen.entries()];
-  });
-  const out = new Map();
-  // Chromium drops a page's downloads after about ten in a row (its limit on
-  // automatic downloads), so the button is pressed for two results and the
-  // rest are asked of the same core call the button makes.
-  let k = 0;
-  for (const [name, value] of results) {
-    await page.selectOption('#curve-select', value);
-    if (k++ < 2) {
-      const [dl] = await Promise.all([page.waitForEvent('download'), page.click('[data-export=csv]')]);
-      out.set(name, readFileSync(await dl.path(), 'utf8'));
-    } else {
-      const set = JSON.parse(value)[0];
-      out.set(name, await page.evaluate(async (id) => new TextDecoder().decode((await Bridge.call('export_file', [JSON.stringify([id]), 'csv'])).bytes), set));
-    }
-  }
-  return out;
 }
 // Worst relative difference |a − b| / max(|a|, |b|) over every complex value of two CSVs (same lines).
 function worstDiff(name, pageCsv, cliCsv) {

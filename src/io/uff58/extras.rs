@@ -177,14 +177,7 @@ pub fn write_55(m: &ModalModel) -> Result<String> {
         )
         .field("residuals"));
     }
-    let six = [
-        Direction::X,
-        Direction::Y,
-        Direction::Z,
-        Direction::RX,
-        Direction::RY,
-        Direction::RZ,
-    ];
+    let six = Direction::SPATIAL;
     let ndv = if m.dofs.len() % 6 == 0
         && m.dofs
             .chunks(6)

@@ -215,16 +215,9 @@ pub(super) fn build_model(
 ) -> Result<(ModalModel, Vec<ModeSummary>)> {
     let first = &modes[0];
     let dirs: &[Direction] = if first.ndv == 6 {
-        &[
-            Direction::X,
-            Direction::Y,
-            Direction::Z,
-            Direction::RX,
-            Direction::RY,
-            Direction::RZ,
-        ]
+        &Direction::SPATIAL
     } else {
-        &[Direction::X, Direction::Y, Direction::Z]
+        &Direction::SPATIAL[..3]
     };
     let mut dofs = Vec::new();
     for n in &first.nodes {
