@@ -492,6 +492,14 @@ pub fn open_bundle(name: &str, bytes: &[u8]) -> std::result::Result<String, JsVa
     to_json(&b)
 }
 
+/// Which switches a plot of this spec's kind reads (`plot::Controls`
+/// JSON), for the page to disable the others.
+#[wasm_bindgen]
+pub fn plot_controls(spec_json: &str) -> std::result::Result<String, JsValue> {
+    let spec = PlotSpec::from_json(spec_json).map_err(js_err)?;
+    to_json(&spec.kind.controls())
+}
+
 /// Draw a plot (`plot::PlotSpec` JSON) as SVG; returns `{ svg, frames }`.
 #[wasm_bindgen]
 pub fn plot_svg(spec_json: &str) -> std::result::Result<String, JsValue> {

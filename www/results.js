@@ -200,6 +200,13 @@ async function drawPlot() {
   if (!S.plot.sel.length && S.plot.kind !== 'condition') { $('plot-img').removeAttribute('src'); lastFrames = []; return; }
   const spec = plotSpec(wrap.clientWidth || 960);
   if (lastSpec && lastSpec.kind !== spec.kind) $('readout').textContent = '';
+  // the core says which switches this view reads; the others are disabled, not silently ignored
+  Bridge.callJson('plot_controls', [JSON.stringify({ kind: spec.kind })]).then((c) => {
+    for (const [id, on] of [['opt-db', c.db], ['opt-log', c.x_log]]) {
+      $(id).disabled = !on;
+      $(id).closest('label').title = on ? '' : 'this view does not use it';
+    }
+  }, () => {});
   const t0 = performance.now();
   const job = Bridge.callJson('plot_svg', [JSON.stringify(spec)], 'drawing');
   drawing = job;

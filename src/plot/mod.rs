@@ -38,4 +38,4 @@ pub use geometry::geometry_svg;
 pub use layout::tick_text;
 pub use probe::{probe, Probe};
 pub use render::{draw, render_svg};
-pub use spec::{BarGroup, Frame, LineData, PlotKind, PlotSpec, SeriesRef};
+pub use spec::{BarGroup, Controls, Frame, LineData, PlotKind, PlotSpec, SeriesRef};

@@ -25,6 +25,42 @@ pub enum PlotKind {
     Bars,
 }
 
+/// Which of a plot's switches change a drawing of this kind (the page
+/// disables the others rather than offer a switch that does nothing).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub struct Controls {
+    /// `db`: levels in dB or linear magnitudes.
+    pub db: bool,
+    /// `x_log`: a logarithmic frequency axis.
+    pub x_log: bool,
+}
+
+impl PlotKind {
+    /// The switches a drawing of this kind reads.
+    pub fn controls(self) -> Controls {
+        match self {
+            PlotKind::Bode | PlotKind::Magnitude => Controls {
+                db: true,
+                x_log: true,
+            },
+            // real and imaginary parts are linear; Nyquist has no frequency axis
+            PlotKind::ReIm | PlotKind::Lines => Controls {
+                db: false,
+                x_log: true,
+            },
+            PlotKind::Nyquist => Controls {
+                db: false,
+                x_log: false,
+            },
+            // path bars are levels in dB over categories
+            PlotKind::Bars => Controls {
+                db: false,
+                x_log: false,
+            },
+        }
+    }
+}
+
 /// One curve: entry (out, in) of a set held by the caller.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct SeriesRef {
@@ -140,4 +176,34 @@ pub struct Frame {
     pub y_log: bool,
     /// What the x axis is ("frequency" or "real part", "category").
     pub x_is: String,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn each_kind_names_the_switches_it_reads() {
+        assert_eq!(
+            PlotKind::Bode.controls(),
+            Controls {
+                db: true,
+                x_log: true
+            }
+        );
+        assert_eq!(
+            PlotKind::ReIm.controls(),
+            Controls {
+                db: false,
+                x_log: true
+            }
+        );
+        assert_eq!(
+            PlotKind::Nyquist.controls(),
+            Controls {
+                db: false,
+                x_log: false
+            }
+        );
+    }
 }

@@ -38,6 +38,11 @@ test('axe-core finds no serious or critical violation in the main states', async
     await s.page.click('#run-btn');
     await s.page.waitForFunction(() => !!document.body.dataset.plotted && !document.body.dataset.state.startsWith('busy'), null, { timeout: 60000 });
     found.results = await violations(s.page);
+    // switches a view does not read are disabled, as the core says
+    await s.page.selectOption('#plot-kind', 'nyquist');
+    await s.page.waitForFunction(() => document.getElementById('opt-db').disabled && document.getElementById('opt-log').disabled);
+    await s.page.selectOption('#plot-kind', 'bode');
+    await s.page.waitForFunction(() => !document.getElementById('opt-db').disabled && !document.getElementById('opt-log').disabled);
     await addFiles(s.page, [{ name: 'supplier-wall.csv', data: readFileSync(join(ROOT, 'sample-frf/wall-accelerance.csv')) }]);
     await s.page.waitForSelector('#map-dialog[open]');
     await s.page.waitForSelector('#map-detected:not([hidden])');
