@@ -172,16 +172,8 @@ pub(super) fn parse_164(b: &Block) -> Result<UnitSystem> {
     })
 }
 
-fn quantity_of_code(code: i32) -> Option<Quantity> {
-    Some(match code {
-        8 => Quantity::Displacement,
-        9 | 13 => Quantity::Force,
-        11 => Quantity::Velocity,
-        12 => Quantity::Acceleration,
-        15 => Quantity::Pressure,
-        _ => return None,
-    })
-}
+// the one table of data-type codes
+use super::convert::quantity_of_code;
 
 /// Length and force exponents of a quantity's SI dimension (mass counts as
 /// force · time² / length).
