@@ -51,6 +51,7 @@ pub mod demo_files;
 pub mod error;
 pub mod frf;
 pub mod grid;
+pub mod history;
 pub mod io;
 pub mod levels;
 pub mod limits;

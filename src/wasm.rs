@@ -338,6 +338,25 @@ pub fn run_recipe(recipe_text: &str) -> std::result::Result<String, JsValue> {
     to_json(&run)
 }
 
+/// The runs of the workspace, oldest first, as JSON (`[RunRecord]`, see
+/// [`crate::history`]): recipe text, start, duration, headline, result
+/// summaries (or the error), and whether their curves are still kept.
+#[wasm_bindgen]
+pub fn run_history() -> std::result::Result<String, JsValue> {
+    WS.with(|ws| to_json(&ws.borrow().history()))
+}
+
+/// Put back a history saved by the page (before [`put_results`]); the
+/// records come back without their curves.
+#[wasm_bindgen]
+pub fn put_history(json: &str) -> std::result::Result<String, JsValue> {
+    let records: Vec<crate::history::RunRecord> = serde_json::from_str(json)
+        .map_err(|e| js_err(Error::parse(format!("saved run history: {e}")).field("history")))?;
+    WS.with(|ws| ws.borrow_mut().put_history(records))
+        .map_err(js_err)?;
+    run_history()
+}
+
 /// The last results as JSON (`{ results: [FrfSet], report }`), for the page's
 /// autosave.
 #[wasm_bindgen]

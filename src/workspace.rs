@@ -6,7 +6,8 @@
 //! The page's worker holds one `Workspace` (the wasm layer only translates);
 //! the CLI uses it for `mortise run BUNDLE`. Sets are addressed by string ids:
 //! `file:<name>#<k>` (a loaded file's k-th set), `bundle:<name>#<k>` (a
-//! bundle input's), `result:<k>` (the last run's), `preview`.
+//! bundle input's), `run<N>:<k>` (run N's, the last run's among them; see
+//! [`crate::history`]), `preview`.
 //!
 //! Withholding: when any input's raw data is withheld (or "results only"),
 //! the bundle keeps only the recipe's requested outputs (with their extra
@@ -15,6 +16,7 @@
 
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
+use crate::history::{self, RunRecord};
 use crate::io::{self, bundle, ImportOptions};
 use crate::limits::Limits;
 use crate::recipe::{self, FileSource};
@@ -53,6 +55,8 @@ pub struct Workspace {
     sets: BTreeMap<String, FrfSet>,
     results: Vec<String>,
     report: Option<serde_json::Value>,
+    /// Every run, oldest first (at most [`history::KEEP_RUNS`]).
+    history: Vec<RunRecord>,
     /// The budget of every run (kept when the workspace is cleared).
     limits: Limits,
 }
@@ -234,13 +238,135 @@ impl Workspace {
 
     /// Run a recipe on the loaded files and the opened bundle's inputs; the
     /// results replace the last ones. On failure the last results stay as
-    /// they were (the page marks them stale).
+    /// they were (the page marks them stale). Either way the run joins the
+    /// history, timed by the system clock (the page's in the browser).
     pub fn run_recipe(&mut self, recipe_text: &str) -> Result<RunSummary> {
-        let r = recipe::parse(recipe_text)?;
-        let run = recipe::run_with(&r, &Source(self), &self.limits)?;
-        let report = serde_json::to_value(&run.report)
-            .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
-        Ok(self.store_results(run.outputs, Some(report)))
+        self.run_recipe_clocked(recipe_text, &history::now_ms)
+    }
+
+    /// [`Workspace::run_recipe`] with the caller's clock (milliseconds since
+    /// 1970-01-01 UTC).
+    pub fn run_recipe_clocked(
+        &mut self,
+        recipe_text: &str,
+        clock: &dyn Fn() -> f64,
+    ) -> Result<RunSummary> {
+        let started = clock();
+        let outcome = recipe::parse(recipe_text).and_then(|r| {
+            let run = recipe::run_with(&r, &Source(self), &self.limits)?;
+            let report = serde_json::to_value(&run.report)
+                .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
+            Ok((r.title.clone(), run, report))
+        });
+        let duration_ms = clock() - started;
+        let number = self.history.last().map_or(1, |h| h.number + 1);
+        let mut record = RunRecord {
+            number,
+            recipe_text: recipe_text.to_string(),
+            title: String::new(),
+            started_ms: started,
+            duration_ms,
+            headline: Vec::new(),
+            results: Vec::new(),
+            curves_kept: false,
+            error: None,
+        };
+        match outcome {
+            Err(e) => {
+                record.error = Some(e.to_string());
+                self.remember(record);
+                Err(e)
+            }
+            Ok((title, run, report)) => {
+                record.title = title;
+                record.headline = run.report.headline.clone();
+                let summary = self.store_results(number, run.outputs, Some(report));
+                record.results = summary.results.clone();
+                record.curves_kept = true;
+                self.remember(record);
+                Ok(summary)
+            }
+        }
+    }
+
+    /// Add a run to the history; forget the oldest beyond
+    /// [`history::KEEP_RUNS`] and drop old curves beyond a quarter of the
+    /// memory budget. The last results always stay.
+    fn remember(&mut self, record: RunRecord) {
+        self.history.push(record);
+        while self.history.len() > history::KEEP_RUNS {
+            let old = self.history.remove(0);
+            self.drop_run_sets(old.number);
+        }
+        let sizes: Vec<(u32, u64, bool)> = self
+            .history
+            .iter()
+            .map(|h| {
+                let bytes = self
+                    .sets
+                    .range(history::prefix(h.number)..)
+                    .take_while(|(k, _)| k.starts_with(&history::prefix(h.number)))
+                    .map(|(_, s)| (s.data.len() * 16 + s.freqs.len() * 8) as u64)
+                    .sum();
+                (h.number, bytes, h.curves_kept)
+            })
+            .collect();
+        let current = self.results.first().cloned().unwrap_or_default();
+        for n in history::to_drop(&sizes, self.limits.memory_bytes / 4) {
+            if current.starts_with(&history::prefix(n)) {
+                continue;
+            }
+            self.drop_run_sets(n);
+        }
+    }
+
+    fn drop_run_sets(&mut self, number: u32) {
+        let p = history::prefix(number);
+        if self.results.first().is_some_and(|id| id.starts_with(&p)) {
+            return; // the last results stay
+        }
+        self.drop_prefix(&p);
+        if let Some(h) = self.history.iter_mut().find(|h| h.number == number) {
+            h.curves_kept = false;
+        }
+    }
+
+    /// The runs of this workspace, oldest first.
+    pub fn history(&self) -> &[RunRecord] {
+        &self.history
+    }
+
+    /// Put back a history saved by the page: the records keep their text,
+    /// times and headlines; their curves are gone (`curves_kept: false`)
+    /// except those of the last results, put back by
+    /// [`Workspace::put_results`] afterwards. Refused: numbers not
+    /// increasing, or more than [`history::KEEP_RUNS`] records.
+    pub fn put_history(&mut self, mut records: Vec<RunRecord>) -> Result<()> {
+        if records.len() > history::KEEP_RUNS {
+            return Err(Error::usage(format!(
+                "{} runs in the saved history; at most {} are kept",
+                records.len(),
+                history::KEEP_RUNS
+            ))
+            .field("history"));
+        }
+        if records.windows(2).any(|w| w[0].number >= w[1].number)
+            || records.first().is_some_and(|r| r.number == 0)
+        {
+            return Err(
+                Error::usage("run numbers of the saved history must increase from 1")
+                    .field("history"),
+            );
+        }
+        for r in &mut records {
+            r.curves_kept = false;
+        }
+        // no curve of an earlier history stays behind under a reused number
+        self.sets.retain(|k, _| !history::is_run_id(k));
+        self.results.clear();
+        self.report = None;
+        self.history = records;
+        Ok(())
     }
 
     /// Run a parsed recipe on the workspace's files without keeping the
@@ -256,20 +382,23 @@ impl Workspace {
 
     fn store_results(
         &mut self,
+        number: u32,
         outputs: Vec<FrfSet>,
         report: Option<serde_json::Value>,
     ) -> RunSummary {
-        self.drop_prefix("result:");
-        self.results.clear();
         let mut sums = Vec::new();
+        let mut ids = Vec::new();
+        let p = history::prefix(number);
+        self.drop_prefix(&p);
         for (k, s) in outputs.into_iter().enumerate() {
-            let id = format!("result:{k}");
+            let id = format!("{p}{k}");
             let mut m = summary::set_summary(&s);
             m.id = id.clone();
             sums.push(m);
             self.sets.insert(id.clone(), s);
-            self.results.push(id);
+            ids.push(id);
         }
+        self.results = ids;
         self.report = report.clone();
         RunSummary {
             results: sums,
@@ -288,7 +417,9 @@ impl Workspace {
         )
     }
 
-    /// Put saved results back.
+    /// Put saved results back: they become the curves of the newest
+    /// successful run of the history (after [`Workspace::put_history`]), or
+    /// of a run numbered after the history when it has none.
     pub fn put_results(
         &mut self,
         results: Vec<FrfSet>,
@@ -297,7 +428,22 @@ impl Workspace {
         for s in &results {
             s.validate()?;
         }
-        Ok(self.store_results(results, report))
+        let newest_ok = self
+            .history
+            .iter()
+            .rev()
+            .find(|h| h.error.is_none())
+            .map(|h| h.number);
+        let number = match newest_ok {
+            Some(n) => n,
+            None => self.history.last().map_or(1, |h| h.number + 1),
+        };
+        let summary = self.store_results(number, results, report);
+        if let Some(h) = self.history.iter_mut().find(|h| h.number == number) {
+            h.results = summary.results.clone();
+            h.curves_kept = true;
+        }
+        Ok(summary)
     }
 
     /// The sets with the given ids.
@@ -553,7 +699,30 @@ impl Workspace {
         self.bundle_inputs = new_inputs;
         self.bundle_name = Some(name.to_string());
         self.bundle_recipe = b.recipe.clone();
-        let stored = self.store_results(b.results.clone(), b.report.clone());
+        // the bundle's results join the history as a run of their own
+        let number = self.history.last().map_or(1, |h| h.number + 1);
+        let stored = self.store_results(number, b.results.clone(), b.report.clone());
+        let headline = b
+            .report
+            .as_ref()
+            .and_then(|r| r.get("headline"))
+            .and_then(|h| serde_json::from_value::<Vec<String>>(h.clone()).ok())
+            .unwrap_or_default();
+        self.remember(RunRecord {
+            number,
+            recipe_text: b
+                .recipe
+                .as_ref()
+                .and_then(|r| serde_json::to_string_pretty(r).ok())
+                .unwrap_or_default(),
+            title: format!("results carried in bundle '{}'", crate::error::quote(name)),
+            started_ms: history::now_ms(),
+            duration_ms: 0.0,
+            headline,
+            results: stored.results.clone(),
+            curves_kept: true,
+            error: None,
+        });
         Ok(OpenedBundle {
             recipe: b.recipe,
             created: b.created,

@@ -7,6 +7,7 @@ function renderAll() {
   renderCards();
   renderAsm();
   renderResults();
+  renderHistory();
 }
 
 // ---------- workspace restore / replay ----------
@@ -38,6 +39,9 @@ async function replay() {
   if (S.bundle) {
     try { S.bundle.info = await Bridge.callJson('open_bundle', [S.bundle.name, S.bundle.bytes]); } catch (_) { S.bundle = null; }
   }
+  if ((S.history || []).length) {
+    try { S.history = await Bridge.callJson('put_history', [JSON.stringify(S.history)]); } catch (_) { S.history = []; }
+  }
   if (S.resultsJson) {
     try { S.results = await Bridge.callJson('put_results', [S.resultsJson]); } catch (_) { S.results = null; S.resultsJson = null; }
   }
@@ -55,9 +59,12 @@ async function restore() {
     S.asmStep = snap.asmStep || null;
     S.plot = snap.plot || S.plot;
     S.includeRaw = snap.includeRaw || {};
+    S.history = snap.history || [];
     await replay();
     await setRecipeText(snap.recipeText || '', 'the saved workspace');
     renderAll();
+    await refreshHistory();
+    renderCompare();
     await drawPlot();
   } finally {
     restoring = false;
@@ -67,8 +74,11 @@ async function restore() {
 async function clearWorkspace() {
   await Bridge.call('clear_workspace', []);
   S.files = []; S.bundle = null; S.results = null; S.resultsJson = null; S.stale = null; S.asmStep = null;
-  S.plot = { kind: 'bode', db: true, xlog: true, xrange: null, sel: [] };
+  S.plot = { kind: 'bode', db: true, xlog: true, xrange: null, sel: [], compare: null };
   S.includeRaw = {};
+  S.history = []; S.compareChoice = [];
+  renderCompare();
+  renderHistory();
   await setRecipeText('', 'clearing the workspace');
   lastSvg = null; lastFrames = []; lastSpec = null;
   $('plot-img').removeAttribute('src');

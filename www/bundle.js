@@ -55,6 +55,7 @@ async function openBundle(name, bytes) {
     S.resultsJson = await Bridge.call('results_json', []);
     if (!restoring) { S.plot.sel = defaultSelection(info.results); S.plot.xrange = null; }
     renderAll();
+    if (!restoring) await refreshHistory();
     await drawPlot();
     status(`bundle ${name} opened: ${info.results.length} result(s), made with mortise ${info.mortise_version}` + (info.created ? ` on ${info.created}` : '')
       + (info.content_sha256 ? `, content SHA-256 ${info.content_sha256.slice(0, 16)}… checked` : `, version ${info.version}: no content SHA-256`)

@@ -23,6 +23,9 @@ async function run() {
     S.plot.xrange = null;
     if (text === R.text && epoch === S.filesEpoch) S.stale = null;
     else S.stale = { reason: 'the recipe or the files changed while this run was computing' };
+    S.plot.compare = null;
+    if (S.plot.kind === 'difference') S.plot.kind = 'bode';
+    renderCompare();
     renderResults();
     await drawPlot();
     status(`done in ${(timings.last_run_ms / 1000).toFixed(2)} s: ${r.results.length} result(s)` + (S.stale ? ' (already stale: the recipe changed meanwhile)' : ''));
@@ -40,6 +43,7 @@ async function run() {
       status('cancelled; the workspace is as it was');
     }
   } finally {
+    if (!restoring) refreshHistory();
     $('run-btn').disabled = false;
     $('cancel-btn').disabled = true;
     $('run-progress').hidden = true;
@@ -99,6 +103,11 @@ function curveChoices() {
     }
   };
   for (const r of S.results?.results || []) add('results', r);
+  const shown = new Set((S.results?.results || []).map((r) => r.id));
+  for (const h of [...(S.history || [])].reverse()) {
+    if (!h.curves_kept) continue;
+    for (const r of h.results) if (!shown.has(r.id)) add(`run ${h.number} (${clock(h.started_ms)})`, r);
+  }
   for (const p of loadedSets()) add('supplier data', p.s);
   for (const inp of S.bundle?.info.inputs || []) for (const s of inp.sets) add('bundle inputs', s);
   return out;
@@ -191,14 +200,20 @@ function plotSpec(width) {
     const first = S.plot.sel[0];
     return { ...base, kind: 'bars', ranking: first || null, y_label: '' };
   }
+  if (S.plot.kind === 'difference') {
+    const c = S.plot.compare;
+    if (!c) throw new Error('choose two runs in the run history and press Compare: this view draws the level difference between them');
+    return { ...base, kind: 'difference', series: c.pairs.map((p) => p.b), baseline: c.pairs.map((p) => p.a) };
+  }
   return { ...base, kind: S.plot.kind, series: S.plot.sel };
 }
 let drawing = null;
 async function drawPlot() {
   const wrap = $('plot-wrap');
   renderStale();
-  if (!S.plot.sel.length && S.plot.kind !== 'condition') { $('plot-img').removeAttribute('src'); lastFrames = []; return; }
-  const spec = plotSpec(wrap.clientWidth || 960);
+  if (!S.plot.sel.length && S.plot.kind !== 'condition' && S.plot.kind !== 'difference') { $('plot-img').removeAttribute('src'); lastFrames = []; return; }
+  let spec;
+  try { spec = plotSpec(wrap.clientWidth || 960); } catch (e) { $('plot-img').removeAttribute('src'); lastFrames = []; $('readout').textContent = 'cannot draw: ' + errorText(e); return; }
   if (lastSpec && lastSpec.kind !== spec.kind) $('readout').textContent = '';
   // the core says which switches this view reads; the others are disabled, not silently ignored
   Bridge.callJson('plot_controls', [JSON.stringify({ kind: spec.kind })]).then((c) => {
@@ -214,6 +229,7 @@ async function drawPlot() {
     const r = await job;
     if (drawing !== job) return;
     lastSvg = r.svg; lastFrames = r.frames; lastSpec = spec;
+    wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
     const img = $('plot-img');
     const old = img.src;
     img.src = URL.createObjectURL(new Blob([r.svg], { type: 'image/svg+xml' }));

@@ -9,8 +9,10 @@ const S = {
   stale: null,      // null, or { reason } when the shown results no longer match the recipe and files
   filesEpoch: 0,    // counts changes of the loaded files (a run compares it before and after)
   asmStep: null,    // id of the step whose parts and joints the assembly panel edits
-  plot: { kind: 'bode', db: true, xlog: true, xrange: null, sel: [] },
+  plot: { kind: 'bode', db: true, xlog: true, xrange: null, sel: [], compare: null },
   includeRaw: {},
+  history: [],      // the core's run records (src/history.rs), newest last
+  compareChoice: [], // run numbers ticked for a comparison
 };
 let restoring = false;
 let lastSvg = null, lastFrames = [], lastSpec = null;
@@ -46,6 +48,7 @@ function autosave() {
       stale: S.stale,
       asmStep: S.asmStep,
       plot: S.plot,
+      history: S.history,
       includeRaw: S.includeRaw,
     };
     try {

@@ -51,6 +51,72 @@ fn ratio_unit(set: &FrfSet, i: usize, j: usize) -> String {
     format!("({o})/({})", set.in_qty.si_unit(ri))
 }
 
+/// The curves a spec of any frequency kind shows: its series, or for the
+/// difference view each series' level minus its baseline's.
+pub(super) fn curves(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve>> {
+    if spec.kind == super::spec::PlotKind::Difference {
+        difference(spec, sets)
+    } else {
+        resolve(spec, sets)
+    }
+}
+
+/// Each series' level minus its baseline's, line by line, in dB: both on
+/// one grid and in one dB reference (so the difference is a ratio of the
+/// same quantity), else refused naming both. The values kept are the
+/// complex ratio (series / baseline) so the read-out can give it too.
+fn difference(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve>> {
+    if spec.baseline.len() != spec.series.len() {
+        return Err(Error::usage(format!(
+            "the difference view compares each curve with one baseline curve: {} curve(s), {} baseline(s)",
+            spec.series.len(),
+            spec.baseline.len()
+        ))
+        .field("baseline"));
+    }
+    let plain = |series: &[super::spec::SeriesRef]| {
+        let mut s = spec.clone();
+        s.kind = super::spec::PlotKind::Magnitude;
+        s.series = series.to_vec();
+        s.baseline.clear();
+        resolve(&s, sets)
+    };
+    let after = plain(&spec.series)?;
+    let before = plain(&spec.baseline)?;
+    let mut out = Vec::new();
+    for (a, b) in after.into_iter().zip(before) {
+        if a.freqs != b.freqs {
+            return Err(Error::usage(format!(
+                "'{}' and its baseline '{}' are on different frequency grids ({} and {} lines); a level difference needs one grid",
+                a.label,
+                b.label,
+                a.freqs.len(),
+                b.freqs.len()
+            ))
+            .field("baseline"));
+        }
+        if a.db_label != b.db_label {
+            return Err(Error::usage(format!(
+                "'{}' is in {} and its baseline '{}' in {}: a level difference needs one quantity and reference",
+                a.label, a.db_label, b.label, b.db_label
+            ))
+            .field("baseline"));
+        }
+        let level = a.level.iter().zip(&b.level).map(|(x, y)| x - y).collect();
+        let values = a.values.iter().zip(&b.values).map(|(x, y)| x / y).collect();
+        out.push(Curve {
+            label: format!("{} − {}", a.label, b.label),
+            freqs: a.freqs,
+            values,
+            level,
+            db_label: "dB, change against the baseline".to_string(),
+            unit: "ratio".to_string(),
+            stems: a.stems || b.stems,
+        });
+    }
+    Ok(out)
+}
+
 pub(super) fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve>> {
     let mut out = Vec::new();
     for s in &spec.series {

@@ -5,7 +5,7 @@
 //! Not here: the primitives (`draw.rs`), ranges and ticks (`layout.rs`),
 //! the data (`data.rs`).
 
-use super::data::{bars_from_set, lines_with_x, resolve, wrap_phase, Curve};
+use super::data::{bars_from_set, curves, lines_with_x, wrap_phase, Curve};
 use super::draw::{axes, colour, derr, draw_curves, draw_curves_stems, legend, legend_with, text};
 use super::layout::{finite_range, in_x, pad, x_axis, y_axis, Axis, Panel};
 use super::spec::{Frame, PlotKind, PlotSpec};
@@ -45,8 +45,24 @@ pub fn draw<DB: DrawingBackend>(
     let frames = match spec.kind {
         PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom))?,
         PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom))?,
+        PlotKind::Difference => {
+            let curves = curves(spec, sets)?;
+            if curves.is_empty() {
+                return Err(Error::missing("nothing to plot: no curve chosen"));
+            }
+            // a level difference is drawn as levels, on one axis
+            let mut s = spec.clone();
+            s.db = true;
+            draw_frf(
+                b,
+                &s,
+                PlotKind::Magnitude,
+                &curves,
+                (left, top, right, bottom),
+            )?
+        }
         kind => {
-            let curves = resolve(spec, sets)?;
+            let curves = curves(spec, sets)?;
             if curves.is_empty() {
                 return Err(Error::missing("nothing to plot: no curve chosen"));
             }
@@ -341,7 +357,9 @@ fn draw_frf<DB: DrawingBackend>(
             legend(b, &p1, &labels)?;
             Ok(frames)
         }
-        PlotKind::Lines | PlotKind::Bars => Err(Error::usage("not an FRF plot")),
+        PlotKind::Lines | PlotKind::Bars | PlotKind::Difference => {
+            Err(Error::usage("not an FRF plot"))
+        }
     }
 }
 

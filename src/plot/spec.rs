@@ -23,6 +23,9 @@ pub enum PlotKind {
     Lines,
     /// Grouped bars (e.g. band levels per transfer path).
     Bars,
+    /// The level difference in dB of each series against the baseline
+    /// series at the same place (`baseline`): the change between two runs.
+    Difference,
 }
 
 /// Which of a plot's switches change a drawing of this kind (the page
@@ -51,6 +54,11 @@ impl PlotKind {
             PlotKind::Nyquist => Controls {
                 db: false,
                 x_log: false,
+            },
+            // a level difference is in dB by its nature
+            PlotKind::Difference => Controls {
+                db: false,
+                x_log: true,
             },
             // path bars are levels in dB over categories
             PlotKind::Bars => Controls {
@@ -111,6 +119,10 @@ pub struct PlotSpec {
     pub kind: PlotKind,
     #[serde(default)]
     pub series: Vec<SeriesRef>,
+    /// For [`PlotKind::Difference`]: the curve each series is compared
+    /// with, one per series (refused with other kinds).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub baseline: Vec<SeriesRef>,
     /// Magnitude in dB (true) or linear.
     #[serde(default = "yes")]
     pub db: bool,
@@ -156,8 +168,15 @@ pub struct PlotSpec {
 
 impl PlotSpec {
     pub fn from_json(text: &str) -> Result<PlotSpec> {
-        serde_json::from_str(text)
-            .map_err(|e| Error::usage(format!("plot description: {e}")).field("plot"))
+        let spec: PlotSpec = serde_json::from_str(text)
+            .map_err(|e| Error::usage(format!("plot description: {e}")).field("plot"))?;
+        if spec.kind != PlotKind::Difference && !spec.baseline.is_empty() {
+            return Err(Error::usage(
+                "a baseline is read by the difference view only; leave it out or choose that view",
+            )
+            .field("baseline"));
+        }
+        Ok(spec)
     }
 }
 
