@@ -326,6 +326,26 @@ pub fn csv_preview(
     to_json(&out)
 }
 
+/// Whether the column map in `options_json` (made for the loaded file
+/// `mapped`) reads file `name` the same way ([`io::csv::same_layout`]):
+/// `{ "same": true }` or `{ "same": false, "why": text }`.
+#[wasm_bindgen]
+pub fn csv_same_layout(
+    mapped: &[u8],
+    name: &str,
+    bytes: &[u8],
+    options_json: &str,
+) -> std::result::Result<String, JsValue> {
+    let (opts, _) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
+    let map = opts.column_map.ok_or_else(|| {
+        js_err(Error::usage("no column map to compare layouts with").field("column_map"))
+    })?;
+    match io::csv::same_layout(mapped, bytes, name, &map).map_err(js_err)? {
+        None => to_json(&serde_json::json!({ "same": true })),
+        Some(why) => to_json(&serde_json::json!({ "same": false, "why": why })),
+    }
+}
+
 /// Run a recipe on the workspace's files and the opened bundle's inputs.
 /// Returns `{ results: [SetSummary], report }` and keeps the results for
 /// plots, exports and bundles; on failure the last results stay (the page

@@ -49,8 +49,46 @@ async function addFile(name, bytes, options) {
   await loadEntry(entry);
   // the core says when a file needs a column map (its error's field); any other error stays on the card
   if (entry.error && entry.error.field === 'column_map' && !restoring) {
-    openMapping(entry);
+    if (await mapLikeLoaded(entry)) return;
+    // one dialog at a time: a file waiting behind it is read when a map of its layout is confirmed
+    if (!$('map-dialog').open) openMapping(entry);
   }
+}
+// A map made for one file reads every file of the same layout (the core
+// compares delimiter, column names and cells); each file keeps its own
+// component name (its stem), and its card says whose map it took.
+async function sameLayoutAs(entry, mapped) {
+  if (!mapped.summary || !mapped.options?.column_map || mapped === entry) return false;
+  const r = await Bridge.callJson('csv_same_layout', [mapped.bytes, entry.name, entry.bytes, JSON.stringify(mapped.options)]).catch(() => null);
+  return !!r?.same;
+}
+async function takeMapOf(entry, mapped) {
+  const before = entry.options;
+  entry.options = { ...mapped.options, component: stem(entry.name) };
+  await loadEntry(entry);
+  if (entry.error) { entry.options = before; await loadEntry(entry); return false; }
+  entry.mappedLike = mapped.name;
+  renderCards();
+  return true;
+}
+async function mapLikeLoaded(entry) {
+  for (const f of S.files) {
+    if (await sameLayoutAs(entry, f) && await takeMapOf(entry, f)) {
+      status(`${entry.name}: the columns are laid out as in ${f.name}; read with its column map (check the card, or Map columns… to change it)`);
+      return true;
+    }
+  }
+  return false;
+}
+// After a map is confirmed for `mapped`: the other files still waiting for a
+// map that have its layout read with it too. Returns their names.
+async function mapOthersLike(mapped) {
+  const done = [];
+  for (const f of S.files) {
+    if (f === mapped || !(f.error && f.error.field === 'column_map')) continue;
+    if (await sameLayoutAs(f, mapped) && await takeMapOf(f, mapped)) done.push(f.name);
+  }
+  return done;
 }
 async function loadEntry(entry) {
   try {
@@ -121,10 +159,11 @@ function renderCards() {
     const head = el('div', { class: 'card-head' },
       el('span', { class: 'card-name' }, f.name),
       f.summary ? el('span', { class: 'tag' }, f.summary.format) : el('span', { class: 'tag' }, 'not read'));
-    if (/\.(csv|tsv|txt)$/i.test(f.name) && (!f.summary || f.summary.format === 'csv-mapped')) head.append(el('button', { class: 'btn small', onclick: () => openMapping(f) }, 'Map columns…'));
+    if (/\.(csv|tsv|txt)$/i.test(f.name) && f.bytes.length && (!f.summary || f.summary.format === 'csv-mapped')) head.append(el('button', { class: 'btn small', onclick: () => openMapping(f) }, 'Map columns…'));
     head.append(el('button', { class: 'btn small', title: 'remove this file', onclick: () => removeFile(f.name) }, 'Remove'));
     card.append(head);
     if (f.error) card.append(errorBox(f.error));
+    if (f.mappedLike && f.summary) card.append(el('div', { class: 'help', 'data-mapped-like': f.mappedLike }, `columns read with the map of ${f.mappedLike} (same layout)`));
     // refused because it is not the file an opened bundle was made from
     if (f.error && (S.bundle?.info?.inputs || []).some((inp) => inp.name === f.name) && /SHA-256/.test(errorText(f.error))) {
       card.append(el('div', { class: 'audit-flag', 'data-bundle-match': 'no' }, `⚑ not the file bundle ${S.bundle.name} was made from: refused`));

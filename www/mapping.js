@@ -65,8 +65,13 @@ function renderMapForm() {
       el('button', { class: 'btn small', type: 'button', 'aria-label': `remove FRF ${i + 1} (${en.out_dof} / ${en.in_dof})`, onclick: () => { m.entries.splice(i, 1); renderMapForm(); syncJson(); schedulePreview(); } }, '✕')));
   });
   ebox.append(el('button', { class: 'btn small', type: 'button', onclick: () => {
-    const n = m.entries.length;
-    m.entries.push({ out_dof: `${n + 1}+Z`, in_dof: '1+Z', values: { form: 're-im', re: 2 + 2 * n, im: 3 + 2 * n }, coherence: null });
+    // a new row carries over the last row's input DOF and value form, in the next free columns
+    const n = m.entries.length, last = m.entries[n - 1];
+    const used = m.entries.flatMap((x) => Object.values(x.values || {})).filter((c) => typeof c === 'number');
+    const next = Math.max(1, ...used) + 1;
+    const form = last?.values?.form || 're-im';
+    const values = form === 're-im' ? { form, re: next, im: next + 1 } : form === 'mag-phase' ? { form, mag: next, phase: next + 1 } : { form, value: next };
+    m.entries.push({ out_dof: `${n + 1}+Z`, in_dof: last?.in_dof || '1+Z', values, coherence: null });
     renderMapForm(); syncJson(); schedulePreview();
   } }, 'Add an FRF'));
   syncJson();
@@ -121,5 +126,9 @@ async function preview(first) {
 $('map-dialog').addEventListener('close', async () => {
   if ($('map-dialog').returnValue !== 'ok' || !mapEntry) return;
   mapEntry.options = mapOptions();
+  mapEntry.mappedLike = null;
   await loadEntry(mapEntry);
+  if (mapEntry.error) return;
+  const others = await mapOthersLike(mapEntry);
+  if (others.length) status(`${mapEntry.name} mapped; the same map read ${others.join(', ')} (same layout)`);
 });

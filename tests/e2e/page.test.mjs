@@ -317,6 +317,42 @@ test('a supplier CSV is mapped by detection alone: the dialog opens filled in fr
   } finally { await s.close(); }
 });
 
+test('one map reads every file of the same layout; another layout asks again; an empty file is an error', async () => {
+  const s = await open();
+  try {
+    const data = readFileSync(join(ROOT, 'sample-frf/wall-accelerance.csv'));
+    // two files of one layout at once: one dialog, and its map reads both
+    await addFiles(s.page, [{ name: 'wall-a.csv', data }, { name: 'wall-b.csv', data }]);
+    await s.page.waitForSelector('#map-dialog[open]');
+    assert.equal(await s.page.textContent('#map-file'), 'wall-a.csv');
+    await s.page.waitForFunction(() => !document.getElementById('map-ok').disabled, null, { timeout: 10000 });
+    await s.page.click('#map-ok');
+    await s.page.waitForFunction(() => document.querySelectorAll('.card:not(.failed)').length === 2, null, { timeout: 20000 });
+    assert.equal(await s.page.$eval('.card[data-file="wall-b.csv"] [data-mapped-like]', (e) => e.dataset.mappedLike), 'wall-a.csv');
+    // a file of that layout added later is read at once, without the dialog
+    await addFiles(s.page, [{ name: 'wall-c.csv', data }]);
+    await s.page.waitForFunction(() => { const c = document.querySelector('.card[data-file="wall-c.csv"]'); return c && !c.classList.contains('failed'); }, null, { timeout: 20000 });
+    assert.equal(await s.page.$('#map-dialog[open]'), null);
+    const fr = (n) => s.page.$eval(`.card[data-file="${n}"]`, (c) => c.textContent.match(/(\d+) in \d+ set/)[1]);
+    assert.equal(await fr('wall-c.csv'), await fr('wall-a.csv'));
+    // each keeps its own component name
+    assert.match(await s.page.textContent('.card[data-file="wall-c.csv"]'), /wall-c/);
+    // the same columns in another order are another layout: the dialog asks
+    const text = data.toString('latin1').split('\n');
+    const swap = (l) => { const c = l.split(','); if (c.length > 3) [c[1], c[2]] = [c[2], c[1]]; return c.join(','); };
+    await addFiles(s.page, [{ name: 'wall-d.csv', data: Buffer.from(text.map(swap).join('\n'), 'latin1') }]);
+    await s.page.waitForSelector('#map-dialog[open]');
+    assert.equal(await s.page.textContent('#map-file'), 'wall-d.csv');
+    await s.page.click('#map-cancel');
+    // an empty file: an error on its card, never the dialog
+    await addFiles(s.page, [{ name: 'empty.csv', data: '' }]);
+    await s.page.waitForSelector('.card[data-file="empty.csv"].failed');
+    assert.match(await s.page.textContent('.card[data-file="empty.csv"]'), /empty/);
+    assert.equal(await s.page.$('#map-dialog[open]'), null);
+    await shot(s.page, '09-one-map-many-files');
+  } finally { await s.close(); }
+});
+
 test('the assembly panel suggests joints by node label and writes a recipe that runs', async () => {
   const s = await open();
   try {

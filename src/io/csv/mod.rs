@@ -82,5 +82,5 @@ pub use mapped::{looks_delimited, read_mapped, read_mapped_as, read_mapped_with_
 pub use native::{
     is_native, read_native, read_native_with_limits, write_native, NATIVE_MAGIC, NATIVE_VERSION,
 };
-pub use preview::{preview, preview_as, Preview, PreviewRow, PreviewValues};
+pub use preview::{preview, preview_as, same_layout, Preview, PreviewRow, PreviewValues};
 pub use text::{decode_text, fmt_f64, text_lines};
