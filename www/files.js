@@ -160,7 +160,7 @@ function renderCards() {
       el('span', { class: 'card-name' }, f.name),
       f.summary ? el('span', { class: 'tag' }, f.summary.format) : el('span', { class: 'tag' }, 'not read'));
     if (/\.(csv|tsv|txt)$/i.test(f.name) && f.bytes.length && (!f.summary || f.summary.format === 'csv-mapped')) head.append(el('button', { class: 'btn small', onclick: () => openMapping(f) }, 'Map columns…'));
-    head.append(el('button', { class: 'btn small', title: 'remove this file', onclick: () => removeFile(f.name) }, 'Remove'));
+    head.append(el('button', { class: 'btn small', title: 'remove this file', 'aria-label': `remove ${f.name}`, onclick: () => removeFile(f.name) }, 'Remove'));
     card.append(head);
     if (f.error) card.append(errorBox(f.error));
     if (f.mappedLike && f.summary) card.append(el('div', { class: 'help', 'data-mapped-like': f.mappedLike }, `columns read with the map of ${f.mappedLike} (same layout)`));
