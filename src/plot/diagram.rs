@@ -739,7 +739,7 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         };
         let nm = fit(name, (bw - 30.0 - right) * 0.45, FS, true);
         cv.text(x0 + 12.0, y + 17.0, FS, INK, true, "start", false, &nm);
-        let sx = x0 + 12.0 + text_w(&nm, FS, true) + 12.0;
+        let sx = x0 + 12.0 + text_w(&nm, FS, true) + 8.0;
         let s = fit(&source, x0 + bw - 10.0 - right - sx, FS, false);
         cv.text(sx, y + 17.0, FS, MUTED, false, "start", false, &s);
         if !second.is_empty() {
