@@ -346,6 +346,23 @@ fn joints_of(op: &Op) -> Option<(Vec<String>, &[JointSpec])> {
 
 // ---------------------------------------------------------------- drawing
 
+/// A text's size, colour, weight and face.
+#[derive(Clone, Copy)]
+struct Font {
+    size: f64,
+    fill: &'static str,
+    bold: bool,
+    mono: bool,
+}
+
+/// A shape's fill and outline.
+#[derive(Clone, Copy)]
+struct Paint {
+    fill: &'static str,
+    stroke: &'static str,
+    width: f64,
+}
+
 /// SVG text being written, with the items.
 struct Canvas {
     body: String,
@@ -353,36 +370,28 @@ struct Canvas {
 }
 
 impl Canvas {
-    fn rect(&mut self, x: f64, y: f64, w: f64, h: f64, rx: f64, fill: &str, stroke: &str, sw: f64) {
+    fn rect(&mut self, x: f64, y: f64, w: f64, h: f64, rx: f64, p: Paint) {
         let _ = write!(
             self.body,
-            r#"<rect x="{x:.1}" y="{y:.1}" width="{w:.1}" height="{h:.1}" rx="{rx}" fill="{fill}" stroke="{stroke}" stroke-width="{sw}"/>"#
+            r#"<rect x="{x:.1}" y="{y:.1}" width="{w:.1}" height="{h:.1}" rx="{rx}" fill="{}" stroke="{}" stroke-width="{}"/>"#,
+            p.fill, p.stroke, p.width
         );
     }
 
     /// Text already cut to size; `anchor` start, middle or end.
-    #[allow(clippy::too_many_arguments)]
-    fn text(
-        &mut self,
-        x: f64,
-        y: f64,
-        size: f64,
-        fill: &str,
-        bold: bool,
-        anchor: &str,
-        mono: bool,
-        t: &str,
-    ) {
+    fn text(&mut self, x: f64, y: f64, f: Font, anchor: &str, t: &str) {
         let _ = write!(
             self.body,
-            r#"<text x="{x:.1}" y="{y:.1}" font-size="{size}" fill="{fill}"{}{}{}>{}</text>"#,
-            if bold { r#" font-weight="700""# } else { "" },
+            r#"<text x="{x:.1}" y="{y:.1}" font-size="{}" fill="{}"{}{}{}>{}</text>"#,
+            f.size,
+            f.fill,
+            if f.bold { r#" font-weight="700""# } else { "" },
             if anchor == "start" {
                 String::new()
             } else {
                 format!(r#" text-anchor="{anchor}""#)
             },
-            if mono {
+            if f.mono {
                 format!(r#" font-family="{MONO}""#)
             } else {
                 String::new()
@@ -392,34 +401,39 @@ impl Canvas {
     }
 
     /// A pill with a word in it, its left end at `x`; returns its width.
-    fn pill(&mut self, x: f64, top: f64, word: &str, fill: &str, ink: &str) -> f64 {
+    fn pill(&mut self, x: f64, top: f64, word: &str, fill: &'static str, ink: &'static str) -> f64 {
         let w = text_w(word, FS_SMALL, false) + 12.0;
-        self.rect(x, top + 5.0, w, 16.0, 8.0, fill, "none", 0.0);
+        self.rect(
+            x,
+            top + 5.0,
+            w,
+            16.0,
+            8.0,
+            Paint {
+                fill,
+                stroke: "none",
+                width: 0.0,
+            },
+        );
         self.text(
             x + w / 2.0,
             top + 17.0,
-            FS_SMALL,
-            ink,
-            false,
+            Font {
+                size: FS_SMALL,
+                fill: ink,
+                bold: false,
+                mono: false,
+            },
             "middle",
-            false,
             word,
         );
         w
     }
 
     /// Open an item's group: the group with its data attributes, its
-    /// tooltip, and its box as the first rect (drawn with `fill`/`stroke`).
-    #[allow(clippy::too_many_arguments)]
-    fn open_item(
-        &mut self,
-        item: DiagramItem,
-        rx: f64,
-        fill: &str,
-        fill_opacity: Option<f64>,
-        stroke: &str,
-        sw: f64,
-    ) {
+    /// tooltip, and its box as the first rect (painted with `p`, its fill
+    /// at `fill_opacity` when given).
+    fn open_item(&mut self, item: DiagramItem, rx: f64, p: Paint, fill_opacity: Option<f64>) {
         let _ = write!(
             self.body,
             r#"<g data-kind="{}" data-id="{}""#,
@@ -435,12 +449,15 @@ impl Canvas {
         let _ = write!(self.body, "><title>{}</title>", esc(&item.label));
         let _ = write!(
             self.body,
-            r#"<rect x="{:.1}" y="{:.1}" width="{:.1}" height="{:.1}" rx="{rx}" fill="{fill}"{} stroke="{stroke}" stroke-width="{sw}"/>"#,
+            r#"<rect x="{:.1}" y="{:.1}" width="{:.1}" height="{:.1}" rx="{rx}" fill="{}"{} stroke="{}" stroke-width="{}"/>"#,
             item.x,
             item.y,
             item.w,
             item.h,
+            p.fill,
             fill_opacity.map_or(String::new(), |o| format!(r#" fill-opacity="{o}""#)),
+            p.stroke,
+            p.width,
         );
         self.items.push(item);
     }
@@ -608,7 +625,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         recipe.title.clone()
     };
     let t = fit(&title, width - 2.0 * PAD, 14.0, true);
-    cv.text(PAD, y + 14.0, 14.0, HEAD, true, "start", false, &t);
+    cv.text(
+        PAD,
+        y + 14.0,
+        Font {
+            size: 14.0,
+            fill: HEAD,
+            bold: true,
+            mono: false,
+        },
+        "start",
+        &t,
+    );
     y += 22.0;
     let counts = format!(
         "{} component(s) · {} step(s) · {} joint(s) · outputs: {}",
@@ -622,7 +650,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         }
     );
     let t = fit(&counts, width - 2.0 * PAD, FS_SMALL, false);
-    cv.text(PAD, y + 11.0, FS_SMALL, MUTED, false, "start", false, &t);
+    cv.text(
+        PAD,
+        y + 11.0,
+        Font {
+            size: FS_SMALL,
+            fill: MUTED,
+            bold: false,
+            mono: false,
+        },
+        "start",
+        &t,
+    );
     y += 17.0;
     for v in recipe.variants.iter().take(MAX_VARIANT_LINES) {
         let mut what: Vec<String> = v
@@ -635,7 +674,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         }
         let line = format!("what-if '{}': {}", v.name, what.join(", "));
         let t = fit(&line, width - 2.0 * PAD, FS_SMALL, false);
-        cv.text(PAD, y + 11.0, FS_SMALL, MUTED, false, "start", false, &t);
+        cv.text(
+            PAD,
+            y + 11.0,
+            Font {
+                size: FS_SMALL,
+                fill: MUTED,
+                bold: false,
+                mono: false,
+            },
+            "start",
+            &t,
+        );
         y += 16.0;
     }
     if recipe.variants.len() > MAX_VARIANT_LINES {
@@ -643,7 +693,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
             "… {} more variants",
             recipe.variants.len() - MAX_VARIANT_LINES
         );
-        cv.text(PAD, y + 11.0, FS_SMALL, MUTED, false, "start", false, &t);
+        cv.text(
+            PAD,
+            y + 11.0,
+            Font {
+                size: FS_SMALL,
+                fill: MUTED,
+                bold: false,
+                mono: false,
+            },
+            "start",
+            &t,
+        );
         y += 16.0;
     }
     y += 6.0;
@@ -656,11 +717,13 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         cv.text(
             PAD,
             y + 14.0,
-            FS,
-            MUTED,
-            false,
+            Font {
+                size: FS,
+                fill: MUTED,
+                bold: false,
+                mono: false,
+            },
             "start",
-            false,
             "no components and no steps yet",
         );
         y += 24.0;
@@ -671,11 +734,13 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         cv.text(
             x0,
             y + 11.0,
-            FS_SMALL,
-            MUTED,
-            true,
+            Font {
+                size: FS_SMALL,
+                fill: MUTED,
+                bold: true,
+                mono: false,
+            },
             "start",
-            false,
             "components",
         );
         y += 16.0;
@@ -724,12 +789,25 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
                 h,
             },
             4.0,
-            CARD,
+            Paint {
+                fill: CARD,
+                stroke: if out { ACCENT } else { LINE },
+                width: if out { 2.0 } else { 1.0 },
+            },
             None,
-            if out { ACCENT } else { LINE },
-            if out { 2.0 } else { 1.0 },
         );
-        cv.rect(x0, y, 4.0, h, 0.0, OK, "none", 0.0);
+        cv.rect(
+            x0,
+            y,
+            4.0,
+            h,
+            0.0,
+            Paint {
+                fill: OK,
+                stroke: "none",
+                width: 0.0,
+            },
+        );
         let right = if out {
             let w = text_w("output", FS_SMALL, false) + 12.0;
             cv.pill(x0 + bw - 8.0 - w, y, "output", ACCENT, "#ffffff");
@@ -738,20 +816,44 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
             0.0
         };
         let nm = fit(name, (bw - 30.0 - right) * 0.45, FS, true);
-        cv.text(x0 + 12.0, y + 17.0, FS, INK, true, "start", false, &nm);
+        cv.text(
+            x0 + 12.0,
+            y + 17.0,
+            Font {
+                size: FS,
+                fill: INK,
+                bold: true,
+                mono: false,
+            },
+            "start",
+            &nm,
+        );
         let sx = x0 + 12.0 + text_w(&nm, FS, true) + 8.0;
         let s = fit(&source, x0 + bw - 10.0 - right - sx, FS, false);
-        cv.text(sx, y + 17.0, FS, MUTED, false, "start", false, &s);
+        cv.text(
+            sx,
+            y + 17.0,
+            Font {
+                size: FS,
+                fill: MUTED,
+                bold: false,
+                mono: false,
+            },
+            "start",
+            &s,
+        );
         if !second.is_empty() {
             let s = fit(&second.join(" · "), bw - 24.0, FS_SMALL, false);
             cv.text(
                 x0 + 12.0,
                 y + 33.0,
-                FS_SMALL,
-                MUTED,
-                false,
+                Font {
+                    size: FS_SMALL,
+                    fill: MUTED,
+                    bold: false,
+                    mono: false,
+                },
                 "start",
-                false,
                 &s,
             );
         }
@@ -762,7 +864,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
     }
     if comps_more > 0 {
         let t = format!("… {comps_more} more components, not drawn");
-        cv.text(x0, y + 12.0, FS, BAD, false, "start", false, &t);
+        cv.text(
+            x0,
+            y + 12.0,
+            Font {
+                size: FS,
+                fill: BAD,
+                bold: false,
+                mono: false,
+            },
+            "start",
+            &t,
+        );
         y += 20.0;
     }
 
@@ -772,11 +885,13 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         cv.text(
             x0,
             y + 11.0,
-            FS_SMALL,
-            MUTED,
-            true,
+            Font {
+                size: FS_SMALL,
+                fill: MUTED,
+                bold: true,
+                mono: false,
+            },
             "start",
-            false,
             "steps, in recipe order",
         );
         y += 16.0;
@@ -809,9 +924,11 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
                 bw,
                 total,
                 4.0,
-                "#ffffff",
-                if out { ACCENT } else { STEP_LINE },
-                if out { 2.0 } else { 1.0 },
+                Paint {
+                    fill: "#ffffff",
+                    stroke: if out { ACCENT } else { STEP_LINE },
+                    width: if out { 2.0 } else { 1.0 },
+                },
             );
         }
         let mut label = format!("step {} {} ({op})", si + 1, st.id);
@@ -837,10 +954,12 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
                 h: hh,
             },
             4.0,
-            STEP_BG,
+            Paint {
+                fill: STEP_BG,
+                stroke: if out { ACCENT } else { STEP_LINE },
+                width: if out { 2.0 } else { 1.0 },
+            },
             None,
-            if out { ACCENT } else { STEP_LINE },
-            if out { 2.0 } else { 1.0 },
         );
         let right = if out {
             let w = text_w("output", FS_SMALL, false) + 12.0;
@@ -856,7 +975,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
             FS,
             true,
         );
-        cv.text(x0 + 10.0, y + 17.0, FS, HEAD, true, "start", false, &id);
+        cv.text(
+            x0 + 10.0,
+            y + 17.0,
+            Font {
+                size: FS,
+                fill: HEAD,
+                bold: true,
+                mono: false,
+            },
+            "start",
+            &id,
+        );
         cv.pill(
             x0 + 10.0 + text_w(&id, FS, true) + 10.0,
             y,
@@ -867,12 +997,34 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
         let mut ly = y + 33.0;
         if !operands.is_empty() {
             let t = fit(&operands.join(" · "), bw - 20.0, FS_SMALL, false);
-            cv.text(x0 + 10.0, ly, FS_SMALL, INK, false, "start", false, &t);
+            cv.text(
+                x0 + 10.0,
+                ly,
+                Font {
+                    size: FS_SMALL,
+                    fill: INK,
+                    bold: false,
+                    mono: false,
+                },
+                "start",
+                &t,
+            );
             ly += 15.0;
         }
         if let Some(n) = &st.note {
             let t = fit(n, bw - 20.0, FS_SMALL, false);
-            cv.text(x0 + 10.0, ly, FS_SMALL, MUTED, false, "start", false, &t);
+            cv.text(
+                x0 + 10.0,
+                ly,
+                Font {
+                    size: FS_SMALL,
+                    fill: MUTED,
+                    bold: false,
+                    mono: false,
+                },
+                "start",
+                &t,
+            );
         }
         cv.close_item();
         port[ni] = y + 13.0;
@@ -884,7 +1036,18 @@ pub fn assembly_svg(recipe: &Recipe) -> Result<Diagram> {
     }
     if steps_more > 0 {
         let t = format!("… {steps_more} more steps, not drawn");
-        cv.text(x0, y + 12.0, FS, BAD, false, "start", false, &t);
+        cv.text(
+            x0,
+            y + 12.0,
+            Font {
+                size: FS,
+                fill: BAD,
+                bold: false,
+                mono: false,
+            },
+            "start",
+            &t,
+        );
         y += 20.0;
     }
     let height = (y + PAD).ceil();
@@ -1006,14 +1169,38 @@ fn draw_ladder(
             14.0,
             rows * JOINT_ROW + 4.0,
             3.0,
-            PAPER,
-            "none",
-            0.0,
+            Paint {
+                fill: PAPER,
+                stroke: "none",
+                width: 0.0,
+            },
         );
         let t = fit(p, gap.min(2.0 * m) - 16.0, FS_SMALL, false);
         let w = text_w(&t, FS_SMALL, false) + 12.0;
-        cv.rect(x - w / 2.0, top, w, 16.0, 8.0, TAG_BG, "none", 0.0);
-        cv.text(x, top + 12.0, FS_SMALL, TAG_INK, false, "middle", false, &t);
+        cv.rect(
+            x - w / 2.0,
+            top,
+            w,
+            16.0,
+            8.0,
+            Paint {
+                fill: TAG_BG,
+                stroke: "none",
+                width: 0.0,
+            },
+        );
+        cv.text(
+            x,
+            top + 12.0,
+            Font {
+                size: FS_SMALL,
+                fill: TAG_INK,
+                bold: false,
+                mono: false,
+            },
+            "middle",
+            &t,
+        );
     }
     for (r, (ji, j, la, lb)) in c.joints.iter().enumerate() {
         let ry = top + 22.0 + r as f64 * JOINT_ROW;
@@ -1057,10 +1244,12 @@ fn draw_ladder(
                 h: JOINT_ROW - 2.0,
             },
             3.0,
-            "#ffffff",
+            Paint {
+                fill: "#ffffff",
+                stroke: "none",
+                width: 0.0,
+            },
             Some(0.0),
-            "none",
-            0.0,
         );
         let ink = if dropped.is_empty() { HEAD } else { BAD };
         let ly = ry + 21.0;
@@ -1093,22 +1282,26 @@ fn draw_ladder(
         cv.text(
             left.0 - 8.0,
             ly + 4.0,
-            FS_SMALL,
-            INK,
-            false,
+            Font {
+                size: FS_SMALL,
+                fill: INK,
+                bold: false,
+                mono: true,
+            },
             "end",
-            true,
             &t,
         );
         let t = fit(right.1, m - 16.0, FS_SMALL, false);
         cv.text(
             right.0 + 8.0,
             ly + 4.0,
-            FS_SMALL,
-            INK,
-            false,
+            Font {
+                size: FS_SMALL,
+                fill: INK,
+                bold: false,
+                mono: true,
+            },
             "start",
-            true,
             &t,
         );
         let t = fit(&what, bw - 24.0, FS_SMALL, false);
@@ -1116,7 +1309,18 @@ fn draw_ladder(
         let mid = ((xa + xb) / 2.0)
             .max(x0 + 12.0 + tw / 2.0)
             .min(x0 + bw - 12.0 - tw / 2.0);
-        cv.text(mid, ry + 11.0, FS_SMALL, ink, false, "middle", false, &t);
+        cv.text(
+            mid,
+            ry + 11.0,
+            Font {
+                size: FS_SMALL,
+                fill: ink,
+                bold: false,
+                mono: false,
+            },
+            "middle",
+            &t,
+        );
         cv.close_item();
     }
     if c.joints_more > 0 || c.parts_more > 0 {
@@ -1131,11 +1335,13 @@ fn draw_ladder(
         cv.text(
             x0 + 10.0,
             top + 22.0 + rows * JOINT_ROW + 14.0,
-            FS_SMALL,
-            BAD,
-            false,
+            Font {
+                size: FS_SMALL,
+                fill: BAD,
+                bold: false,
+                mono: false,
+            },
             "start",
-            false,
             &t,
         );
     }
@@ -1520,7 +1726,7 @@ mod tests {
             assert!(t.iter().any(|x| *x == format!("{}. {}", n + 1, st.id)));
             if let Some((_, js)) = joints_of(&st.op) {
                 for j in js {
-                    assert!(t.iter().any(|x| *x == j.a) && t.iter().any(|x| *x == j.b));
+                    assert!(t.contains(&j.a) && t.contains(&j.b));
                     joints += 1;
                 }
             }
