@@ -1798,6 +1798,49 @@ mod tests {
         assert!(d.svg.len() < 2_000_000);
     }
 
+    /// WCAG 2.1 contrast ratio of two "#rrggbb" colours (relative
+    /// luminance and ratio as defined in WCAG 2.1, success criterion 1.4.3).
+    fn contrast(a: &str, b: &str) -> f64 {
+        let lum = |h: &str| {
+            let c = |i: usize| {
+                let v = f64::from(u8::from_str_radix(&h[i..i + 2], 16).unwrap()) / 255.0;
+                if v <= 0.03928 {
+                    v / 12.92
+                } else {
+                    ((v + 0.055) / 1.055).powf(2.4)
+                }
+            };
+            0.2126 * c(1) + 0.7152 * c(3) + 0.0722 * c(5)
+        };
+        let (x, y) = (lum(a), lum(b));
+        (x.max(y) + 0.05) / (x.min(y) + 0.05)
+    }
+
+    #[test]
+    fn text_colours_keep_4_5_to_1_on_their_fills() {
+        // WCAG 2.1 SC 1.4.3: at least 4.5:1 for text under 18 pt
+        assert!((contrast("#000000", "#ffffff") - 21.0).abs() < 1e-9);
+        let white = "#ffffff";
+        for (text, fill) in [
+            (INK, CARD),
+            (MUTED, CARD),
+            (HEAD, STEP_BG),
+            (INK, STEP_BG),
+            (MUTED, STEP_BG),
+            (white, ACCENT),
+            (TAG_INK, TAG_BG),
+            (INK, white),
+            (HEAD, white),
+            (MUTED, white),
+            (BAD, white),
+            (HEAD, PAPER),
+            (BAD, PAPER),
+        ] {
+            let r = contrast(text, fill);
+            assert!(r >= 4.5, "{text} on {fill}: {r:.2}");
+        }
+    }
+
     #[test]
     fn an_empty_recipe_draws_a_note() {
         let d =

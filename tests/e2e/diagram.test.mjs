@@ -11,6 +11,14 @@ import { join } from 'node:path';
 import { open, shot, ROOT, ARTIFACTS } from './helpers.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
+const AXE = readFileSync(join(ROOT, 'node_modules/axe-core/axe.min.js'), 'utf8');
+// axe-core (the open-source rule engine) in the page: WCAG 2.1 A/AA and best practice.
+async function axeSerious(page) {
+  await page.evaluate(AXE);
+  const vs = await page.evaluate(async () => (await axe.run(document, { runOnly: { type: 'tag', values: ['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'best-practice'] }, resultTypes: ['violations'] }))
+    .violations.map((v) => ({ id: v.id, impact: v.impact, nodes: v.nodes.slice(0, 3).map((n) => n.target.join(' ')) })));
+  return vs.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+}
 const DEMO_RECIPE = JSON.parse(readFileSync(join(ROOT, 'sample-frf/heat-pump.recipe.json'), 'utf8'));
 
 // Wait until the diagram shows the text on screen (drawn or refused).
@@ -84,6 +92,7 @@ test('the diagram draws the demo, follows the recipe and selects in the panel', 
     const refused = await p.textContent('#asm-diagram-note');
     assert.match(refused, /needs 'k'/);
     report('diagram message for a spring without k', refused);
+    assert.deepEqual(await axeSerious(p), [], 'refused diagram');
     await p.fill(`${row} input[data-param=k]`, '2e8');
     await drawn(p);
     texts = await diagramTexts(p);
@@ -100,6 +109,7 @@ test('the diagram draws the demo, follows the recipe and selects in the panel', 
     await p.click('#asm-diagram .diagram-hit[data-kind=step][data-id=bedroom]');
     assert.equal(await p.evaluate(() => document.activeElement.closest('.asm-step')?.dataset.step), 'bedroom');
 
+    assert.deepEqual(await axeSerious(p), [], 'diagram with a picked item');
     // the keyboard: one stop in the tab order, arrows between items, Enter picks
     await p.focus('#asm-diagram .diagram-hit[tabindex="0"]');
     await p.keyboard.press('Home');
