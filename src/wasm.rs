@@ -531,6 +531,17 @@ pub fn open_bundle(name: &str, bytes: &[u8]) -> std::result::Result<String, JsVa
     to_json(&b)
 }
 
+/// The assembly a recipe describes, drawn by the core
+/// ([`plot::assembly_svg`]): `{ svg, items, width, height, summary }`, each
+/// item a component, step or joint with its box in SVG pixels. A recipe
+/// the core refuses comes back as the core's error JSON, as from
+/// [`recipe_normalize`].
+#[wasm_bindgen]
+pub fn assembly_diagram(recipe_text: &str) -> std::result::Result<String, JsValue> {
+    let r = recipe::parse(recipe_text).map_err(js_err)?;
+    to_json(&plot::assembly_svg(&r).map_err(js_err)?)
+}
+
 /// Which switches a plot of this spec's kind reads (`plot::Controls`
 /// JSON), for the page to disable the others.
 #[wasm_bindgen]

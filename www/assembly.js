@@ -384,3 +384,119 @@ function suggestJoints() {
     st[jk].push(...add);
   });
 }
+
+// ---------- the diagram (drawn by the core from the recipe text) ----------
+// The core draws the recipe as SVG (assembly_diagram) and gives the box of
+// every component, step and joint; the page puts the SVG in as markup (the
+// core escapes every text of the recipe) and lays one button over each box,
+// so a click or the keyboard picks the same thing in the panel. A recipe the
+// core refuses shows the core's message instead of a picture.
+const DG = { text: null, timer: null, job: 0, items: [], picked: null, current: 0 };
+const itemKey = (it) => `${it.kind}|${it.id}`;
+function scheduleDiagram() {
+  if (!VOCAB) return;
+  if (R.text === DG.text) return;
+  $('asm-diagram').dataset.state = 'drawing';
+  clearTimeout(DG.timer);
+  DG.timer = setTimeout(drawDiagram, 150);
+}
+async function drawDiagram() {
+  DG.timer = null;
+  const text = R.text;
+  const job = ++DG.job;
+  let d = null, err = null;
+  if (text.trim()) {
+    try { d = await Bridge.callJson('assembly_diagram', [text], 'drawing the assembly'); } catch (e) { err = e; }
+  }
+  if (job !== DG.job || text !== R.text) return; // a newer text has its own drawing coming
+  if (err && err.kind === 'cancelled') { DG.text = null; scheduleDiagram(); return; }
+  DG.text = text;
+  showDiagram(text.trim() ? d : null, err);
+}
+function showDiagram(d, err) {
+  const box = $('asm-diagram'), frame = $('asm-diagram-frame'), note = $('asm-diagram-note');
+  const hadFocus = frame.contains(document.activeElement) ? DG.items[DG.current] : null;
+  clear(frame);
+  clear(note);
+  DG.items = [];
+  if (err || !d) {
+    box.dataset.state = err ? 'refused' : 'empty';
+    note.append(err
+      ? el('div', { class: 'error-box diagram-error' }, 'No diagram: the core cannot read this recipe as it stands. ' + errorText(err))
+      : el('span', { class: 'muted' }, 'No recipe yet: its diagram appears here.'));
+    return;
+  }
+  const doc = new DOMParser().parseFromString(d.svg, 'image/svg+xml');
+  if (doc.documentElement.nodeName !== 'svg' || doc.querySelector('parsererror')) {
+    box.dataset.state = 'refused';
+    note.append(el('div', { class: 'error-box diagram-error' }, 'No diagram: the core’s drawing could not be read as SVG.'));
+    return;
+  }
+  DG.items = d.items;
+  const keys = d.items.map(itemKey);
+  DG.current = Math.max(0, keys.indexOf(hadFocus ? itemKey(hadFocus) : DG.picked));
+  const hits = el('div', { class: 'diagram-hits', role: 'toolbar', 'aria-orientation': 'vertical',
+    'aria-label': 'parts, steps and joints of the diagram: the arrow keys move between them, Enter selects one in the panel' });
+  d.items.forEach((it, k) => {
+    const b = el('button', { type: 'button', class: 'diagram-hit' + (itemKey(it) === DG.picked ? ' picked' : ''),
+      'data-kind': it.kind, 'data-id': it.id, 'data-step': it.step ?? null, 'data-index': it.index ?? null,
+      tabindex: k === DG.current ? '0' : '-1', 'aria-label': it.label, title: it.label,
+      onclick: () => { DG.current = k; pickDiagramItem(it); },
+      onkeydown: (e) => diagramKey(e, k) });
+    b.style.left = `${(100 * it.x) / d.width}%`;
+    b.style.top = `${(100 * it.y) / d.height}%`;
+    b.style.width = `${(100 * it.w) / d.width}%`;
+    b.style.height = `${(100 * it.h) / d.height}%`;
+    hits.append(b);
+  });
+  const pic = el('div', { class: 'diagram-pic', role: 'img', 'aria-label': d.summary });
+  pic.append(document.importNode(doc.documentElement, true));
+  const wrap = el('div', { class: 'diagram-wrap' }, pic, hits);
+  wrap.style.width = `min(100%, ${d.width}px)`;
+  frame.append(wrap);
+  note.append(el('span', { class: 'muted' }, d.items.length
+    ? 'Click a part, a step or a joint to select it in the panel below (in the diagram, the arrow keys move between them).'
+    : 'Nothing to select yet.'));
+  box.dataset.state = 'drawn';
+  if (hadFocus) hits.children[DG.current]?.focus({ preventScroll: true });
+}
+function diagramKey(e, k) {
+  const n = DG.items.length;
+  const to = { ArrowDown: k + 1, ArrowRight: k + 1, ArrowUp: k - 1, ArrowLeft: k - 1, Home: 0, End: n - 1 }[e.key];
+  if (to === undefined || !n) return;
+  e.preventDefault();
+  const buttons = document.querySelectorAll('#asm-diagram .diagram-hit');
+  DG.current = Math.min(n - 1, Math.max(0, to));
+  buttons.forEach((b, i) => b.setAttribute('tabindex', i === DG.current ? '0' : '-1'));
+  buttons[DG.current].focus();
+}
+// Select a diagram item in the panel: a component's row in the parts, a
+// step's row in the steps, a joint's row in the joints table (its step
+// becoming the panel's coupling step, as choosing it above the table does).
+function pickDiagramItem(it) {
+  DG.picked = itemKey(it);
+  document.querySelectorAll('#asm-diagram .diagram-hit').forEach((b) => b.classList.toggle('picked', b.dataset.kind === it.kind && b.dataset.id === it.id));
+  if (it.kind === 'component') {
+    const row = [...document.querySelectorAll('#asm-parts label[data-part]')].find((l) => l.dataset.part === it.id);
+    focusPicked(row, row && row.querySelector('input:not([disabled])'), it);
+    return;
+  }
+  const st = (Array.isArray(R.json?.steps) ? R.json.steps : []).find((s) => s && s.id === it.step);
+  if (st && jointsOperand(st.op) && S.asmStep !== st.id) { S.asmStep = st.id; renderAsm(); autosave(); }
+  if (it.kind === 'joint') {
+    const row = document.querySelector(`#joints-body tr[data-joint="${it.index}"]`);
+    focusPicked(row, row && row.querySelector('select, input:not([disabled]), button'), it);
+  } else {
+    const row = [...document.querySelectorAll('#stages .asm-step')].find((s) => s.dataset.step === it.id);
+    focusPicked(row, row && row.querySelector('.step-id'), it);
+  }
+}
+function focusPicked(row, control, it) {
+  document.querySelectorAll('#asm-body .diagram-picked').forEach((x) => x.classList.remove('diagram-picked'));
+  if (!row) { status(`${it.kind} ${it.id} has no row in the panel right now`); return; }
+  row.classList.add('diagram-picked');
+  row.scrollIntoView({ block: 'center' });
+  const target = control || row;
+  if (!control) target.setAttribute('tabindex', '-1');
+  target.focus({ preventScroll: true });
+}

@@ -159,6 +159,7 @@ async function writePanelRecipe() {
 // Under the recipe text: how the core reads it. In the panel: which of the
 // two is newer.
 function renderRecipeState() {
+  scheduleDiagram();
   const box = $('recipe-state');
   const sync = $('asm-sync');
   clear(box);

@@ -31,6 +31,7 @@ pub mod audit;
 pub mod convert;
 pub mod couple;
 pub mod demo;
+pub mod diagram;
 pub mod inspect;
 pub mod limits;
 pub mod listen;
@@ -257,6 +258,7 @@ pub fn execute(argv: &[String]) -> Outcome {
                 "couple" => couple::run(&args),
                 "audit" => audit::run(&args),
                 "demo" => demo::run(&args),
+                "diagram" => diagram::run(&args),
                 "listen" => listen::run(&args),
                 "help" => help(&args.positional),
                 "version" => version(&args),

@@ -492,6 +492,34 @@ pub const RUN: Command = Command {
     example: "mortise run sample-frf/heat-pump.recipe.json -o results",
 };
 
+pub const DIAGRAM: Command = Command {
+    name: "diagram",
+    summary: "draw the assembly a recipe describes as SVG: components, joints, steps, outputs",
+    usage: "mortise diagram RECIPE [-o FILE.svg]",
+    about: "Reads RECIPE (as 'mortise run' does, without reading the files it names) and draws \
+            it: each component with its source and interface DOFs, each coupling step's joints \
+            as connectors between the parts' DOFs with the joint type and its parameters in SI \
+            units, and every step in recipe order as a flow from the components to the results, \
+            requested outputs marked and joints a variant leaves out dashed. The page's assembly \
+            panel shows the same drawing. Beyond 200 components, 200 steps or 200 joints the \
+            rest are counted in a note rather than drawn.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val(
+                    "o",
+                    "FILE.svg",
+                    "the SVG file to write; default: the SVG on standard output",
+                ),
+                HELP_OPT,
+            ],
+        },
+        FILES_GROUP,
+    ],
+    example: "mortise diagram sample-frf/heat-pump.recipe.json -o assembly.svg",
+};
+
 pub const COUPLE: Command = Command {
     name: "couple",
     summary: "couple two or more files at listed DOF pairs (LM-FBS) without writing a recipe",
@@ -693,7 +721,7 @@ pub const VERSION: Command = Command {
 
 /// Every command, in the order the general help lists them.
 pub const COMMANDS: &[Command] = &[
-    INSPECT, CONVERT, RUN, COUPLE, AUDIT, LISTEN, DEMO, HELP, VERSION,
+    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, DEMO, HELP, VERSION,
 ];
 
 pub fn command(name: &str) -> Option<&'static Command> {

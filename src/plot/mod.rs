@@ -19,9 +19,13 @@
 //! panels in pixels, and clipping (no backend calls); `draw.rs` the drawing
 //! primitives over a backend (colours, text, dashed strokes, axes, legends,
 //! curves); `render.rs` each kind of plot laid out and drawn ([`draw`],
-//! [`render_svg`]); `probe.rs` the cursor readout ([`probe`]).
+//! [`render_svg`]); `probe.rs` the cursor readout ([`probe`]);
+//! `geometry.rs` a file's nodes in three views ([`geometry_svg`]);
+//! `diagram.rs` the assembly a recipe describes, components, joints and
+//! steps, with the box of every clickable part ([`assembly_svg`]).
 
 mod data;
+mod diagram;
 mod draw;
 mod geometry;
 mod layout;
@@ -33,6 +37,7 @@ mod spec;
 mod fixtures;
 
 pub use data::db_reference;
+pub use diagram::{assembly_svg, Diagram, DiagramItem, MAX_DRAWN};
 pub use draw::{DASHES, PALETTE};
 pub use geometry::geometry_svg;
 pub use layout::tick_text;
