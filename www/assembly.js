@@ -293,7 +293,7 @@ function renderSteps(r) {
     box.append(el('div', { class: 'stage asm-step', 'data-step': typeof st.id === 'string' ? st.id : '' },
       el('div', { class: 'step-head' }, el('span', { class: 'step-no' }, `${si + 1}.`), idIn, opSel,
         el('span', { class: 'muted step-summary' }, info?.summary || 'not an operation the core knows'),
-        el('button', { class: 'btn small', title: 'delete this step', onclick: () => deleteStep(si) }, '✕')),
+        el('button', { class: 'btn small', title: 'delete this step', 'aria-label': `delete step ${si + 1} (${st.id || st.op || 'no id'})`, onclick: () => deleteStep(si) }, '✕')),
       el('div', { class: 'step-operands' }, ...(info?.operands || []).map((o) => operandField(si, st, o, shapes[o.name] || 'json'))),
       typeof st.note === 'string' ? el('div', { class: 'muted step-note' }, st.note) : null));
   });
