@@ -359,7 +359,6 @@ impl Geometry {
                 self.rows[rows[1]].place,
                 quote(&self.rows[rows[1]].label)
             ))
-            .field("geometry")
         };
         let rotational = d.dir.is_rotational();
         let own = label_direction(d).unwrap_or([0.0, 0.0, 0.0]);
@@ -403,8 +402,7 @@ impl Geometry {
             quote(&d.node),
             quote(&d.component),
             quote(&d.node)
-        ))
-        .field("geometry"))
+        )))
     }
 }
 

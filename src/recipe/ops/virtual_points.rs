@@ -52,9 +52,6 @@ pub struct PointSpec {
 #[serde(transparent)]
 pub struct Points(pub Vec<PointSpec>);
 
-/// The point keys, for the docs and the messages.
-const POINT_KEYS: &str = "name, origin, sensors, impacts, sensor_weights, impact_weights";
-
 fn key_message(m: &str) -> String {
     m.replace("unknown field", "unknown key")
         .replace("missing field", "missing key")
@@ -73,7 +70,7 @@ impl<'de> Deserialize<'de> for Points {
                 .unwrap_or_default();
             let spec = serde_json::from_value::<PointSpec>(p).map_err(|e| {
                 D::Error::custom(format!(
-                    "points[{i}]{name}: {} (a point has the keys {POINT_KEYS})",
+                    "points[{i}]{name}: {}",
                     key_message(&e.to_string())
                 ))
             })?;
