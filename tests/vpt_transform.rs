@@ -378,9 +378,9 @@ fn run_mem(geometry: &str, step: Value) -> mortise::Error {
     let text = recipe(vec![step], &["vp"], &[("unit", "unit.csv")]);
     match mortise::parse_recipe(&text) {
         Err(e) => e,
-        Ok(r) => mortise::run_recipe(&r, &MapSource(files))
-            .err()
-            .expect("the recipe must be refused"),
+        Ok(r) => {
+            mortise::run_recipe(&r, &MapSource(files)).expect_err("the recipe must be refused")
+        }
     }
 }
 

@@ -145,11 +145,11 @@ pub fn inverse(
     }
     // T = S V Σ⁻¹ Uᵀ √W
     let mut t = vec![0.0; 6 * m];
-    for j in 0..6 {
+    for (j, &sj) in sv.iter().enumerate().take(6) {
         let (u, v) = (svd.u(j), svd.v(j));
         for a in 0..6 {
             let s = if a < 3 { 1.0 } else { scale };
-            let va = s * v[a].re / sv[j];
+            let va = s * v[a].re / sj;
             if va == 0.0 {
                 continue;
             }
