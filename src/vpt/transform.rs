@@ -227,7 +227,7 @@ fn check_rank(
         (
             "impacts",
             "loads (forces and moments)",
-            "add an impact that does work on that motion",
+            "add impacts that do work on these motions",
         )
     };
     if located.len() < 6 {
@@ -245,8 +245,13 @@ fn check_rank(
                 .iter()
                 .map(|u: &Unseen| modes::describe(u, origin, geom, scale))
                 .collect();
+            let lead = if side == "sensors" {
+                "not determined"
+            } else {
+                "not determined: the loads on motions no impact does work on"
+            };
             Err(Error::numeric(format!(
-                "the {} {what} determine {rank} of the 6 {loads} of the virtual point; not determined: {}; {remedy}",
+                "the {} {what} determine {rank} of the 6 {loads} of the virtual point; {lead}: {}; {remedy}",
                 located.len(),
                 words.join("; ")
             ))
@@ -672,6 +677,28 @@ mod tests {
         vp.sensors.push("s7".into());
         let e = plan(&set, &g, std::slice::from_ref(&vp)).unwrap_err();
         assert_eq!(e.field.as_deref(), Some("sensors[3]"), "{e}");
+        // impacts all along Z: no force along X or Y, no moment about Z
+        let (set2, g2, mut vp2, _) = rigid_case();
+        let mut rows: Vec<RawRow> = Vec::new();
+        for r in &g2.rows {
+            rows.push(RawRow {
+                label: r.label.clone(),
+                at: r.at.map(|x| x * 1000.0),
+                dir: r.dir.map(|_| [0.0, 0.0, 1.0]),
+            });
+        }
+        let places: Vec<String> = (0..rows.len()).map(|i| format!("rows[{i}]")).collect();
+        let g3 = Geometry::from_rows("mm", &rows, &places).unwrap();
+        vp2.origin = [0.0, 0.0, 0.0];
+        let e = plan(&set2, &g3, std::slice::from_ref(&vp2)).unwrap_err();
+        eprintln!("{e}");
+        assert!(
+            e.message
+                .contains("the 9 impacts determine 3 of the 6 loads"),
+            "{e}"
+        );
+        assert!(e.message.contains("no impact does work on"), "{e}");
+        assert_eq!(e.field.as_deref(), Some("impacts"), "{e}");
         vp.sensors.truncate(1);
         let e = plan(&set, &g, std::slice::from_ref(&vp)).unwrap_err();
         assert!(
