@@ -516,3 +516,37 @@ fn bad_inputs_are_refused_with_their_place() {
     assert!(e.message.contains("already an output DOF"), "{e}");
     assert_eq!(e.kind, ErrorKind::Dof, "{e}");
 }
+
+#[test]
+fn the_result_is_checked_against_the_budget_before_it_is_made() {
+    let s = setup();
+    let text = recipe(
+        vec![vp_step(
+            "vp",
+            "unit",
+            json!("unit.geom.csv"),
+            json!([point(&s.doc, "unit")]),
+        )],
+        &["vp"],
+        &[("unit", "unit.csv")],
+    );
+    let r = mortise::parse_recipe(&text).unwrap();
+    // the component (11 × 11 on 38 lines: 4,598 values) fits; with the
+    // 8 × 8 result (2,432 more) it does not
+    let limits = Limits {
+        memory_bytes: 5_000 * 16,
+        ..Limits::default()
+    };
+    let src = DirSource::confined(s.dir.clone(), Limits::default());
+    let e = mortise::recipe::run_with(&r, &src, &limits).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+    assert!(e.message.contains("the virtual-point set"), "{e}");
+    // and the work budget
+    let limits = Limits {
+        work: 1e3,
+        ..Limits::default()
+    };
+    let e = mortise::recipe::run_with(&r, &src, &limits).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+    assert!(e.message.contains("transforming 38 lines"), "{e}");
+}
