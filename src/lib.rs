@@ -63,6 +63,7 @@ pub mod recipe;
 pub mod summary;
 pub mod synth;
 pub mod units;
+pub mod vpt;
 #[cfg(target_arch = "wasm32")]
 pub mod wasm;
 pub mod workspace;

@@ -94,6 +94,7 @@ fn execute(
     comps: &BTreeMap<String, FrfSet>,
     variant: Option<&Variant>,
     limits: &Limits,
+    files: &dyn FileSource,
 ) -> Result<Executed> {
     let mut values: BTreeMap<String, FrfSet> = comps.clone();
     if let Some(v) = variant {
@@ -114,6 +115,7 @@ fn execute(
             variant,
             limits,
             held: values_held(&values),
+            files,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
@@ -179,11 +181,11 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
-    let base = execute(recipe, &comps, None, limits)?;
+    let base = execute(recipe, &comps, None, limits, files)?;
     let mut outputs = collect(recipe, &base, "");
     let mut variants = Vec::new();
     for (n, v) in recipe.variants.iter().enumerate() {
-        let res = execute(recipe, &comps, Some(v), limits)
+        let res = execute(recipe, &comps, Some(v), limits, files)
             .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
         outputs.extend(collect(recipe, &res, &format!(" [{}]", v.name)));
         variants.push(variant_report(recipe, &base, res, &v.name));

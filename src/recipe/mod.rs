@@ -31,7 +31,7 @@ pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
 pub use ops::{
     vocabulary, BlockedForces, Cascade, Convert, Couple, Decouple, Invert, Op, OpInfo, Operand,
-    Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum,
+    Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum, ToVirtualPoints,
 };
 pub use report::{
     db_unit, level_rows, weighting_for, BandChange, BlockedReport, ComponentReport,

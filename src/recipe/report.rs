@@ -94,6 +94,9 @@ pub struct StepReport {
     /// Extra results written beside the step's own (`ID/NAME`).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub extras: Vec<String>,
+    /// Virtual points: each point's consistencies and their flag.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub virtual_points: Option<Vec<crate::vpt::VirtualPointReport>>,
 }
 
 impl StepReport {
@@ -110,6 +113,7 @@ impl StepReport {
             levels: None,
             ranking: None,
             extras: Vec::new(),
+            virtual_points: None,
         }
     }
 }

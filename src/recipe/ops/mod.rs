@@ -10,6 +10,7 @@ mod couple;
 mod predict;
 mod reshape;
 mod transform;
+mod virtual_points;
 
 pub use couple::{Couple, Decouple};
 pub use predict::{BlockedForces, Paths, Respond};
@@ -18,6 +19,7 @@ pub(crate) use transform::{
     interp as transform_interp, scale_in_place, select as transform_select,
 };
 pub use transform::{Convert, Invert, Resample, Scale, Select};
+pub use virtual_points::ToVirtualPoints;
 
 use super::report::StepReport;
 use super::Variant;
@@ -72,6 +74,8 @@ pub(crate) struct Ctx<'a> {
     pub limits: &'a Limits,
     /// Complex values the run holds already (components and earlier results).
     pub held: u64,
+    /// The recipe's files (for operands naming a file, e.g. a geometry).
+    pub files: &'a dyn super::FileSource,
 }
 
 impl Ctx<'_> {
@@ -204,6 +208,7 @@ operations! {
     "respond" => Respond,
     "paths" => Paths,
     "blocked-forces" => BlockedForces,
+    "to-virtual-points" => ToVirtualPoints,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.

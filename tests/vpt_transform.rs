@@ -1,0 +1,552 @@
+//! The virtual point transformation (`to-virtual-points`) against outside
+//! references.
+//!
+//! tests/py/vpt_block.py models two rigid blocks (mass, centre of gravity,
+//! inertia tensor: the 6 × 6 rigid-body mass matrix, rigid-body kinematics,
+//! textbook) on springs to flexible lumped frames in numpy, solves the full
+//! models per line, and makes the measured FRFs of three tri-axial sensors
+//! (one rotated) and nine impacts (several oblique) on each block by exact
+//! kinematics. References: numpy's direct 6 × 6 accelerance at the block's
+//! reference point; numpy's direct assembly of both models for the coupled
+//! case; a numpy implementation of the published formulas (van der Seijs,
+//! van den Bosch, Rixen, de Klerk, COMPDYN 2013) for T_u and T_f; numpy's
+//! consistencies of noisy data with the definitions of src/vpt/consistency.rs.
+
+mod common;
+mod couple_support;
+
+use couple_support::{freqs_of, set_from_json};
+use mortise::io::ExportFormat;
+use mortise::limits::Limits;
+use mortise::vpt::{self, Geometry, VirtualPointDef};
+use mortise::{DirSource, ErrorKind, FrfSet, MapSource};
+use serde_json::{json, Value};
+use std::path::PathBuf;
+use std::sync::OnceLock;
+
+struct Setup {
+    dir: PathBuf,
+    doc: Value,
+    freqs: Vec<f64>,
+}
+
+fn setup() -> &'static Setup {
+    static S: OnceLock<Setup> = OnceLock::new();
+    S.get_or_init(|| {
+        let dir = common::scratch("vpt_transform");
+        let said = common::run_py("vpt_block.py", &[dir.to_str().unwrap()]);
+        assert!(said.contains("vpt: min rho_u"), "{said}");
+        let doc: Value =
+            serde_json::from_str(&std::fs::read_to_string(dir.join("vpt.json")).unwrap()).unwrap();
+        let freqs = freqs_of(&doc);
+        for comp in ["unit", "bracket"] {
+            let s = set_from_json(&doc[comp]["set"], &freqs);
+            let bytes = mortise::save(&[s], ExportFormat::Csv).unwrap();
+            std::fs::write(dir.join(format!("{comp}.csv")), bytes).unwrap();
+            std::fs::write(
+                dir.join(format!("{comp}.geom.csv")),
+                doc[format!("geometry_{comp}")].as_str().unwrap(),
+            )
+            .unwrap();
+        }
+        let noisy = set_from_json(&doc["noisy"], &freqs);
+        std::fs::write(
+            dir.join("noisy.csv"),
+            mortise::save(&[noisy], ExportFormat::Csv).unwrap(),
+        )
+        .unwrap();
+        Setup { dir, doc, freqs }
+    })
+}
+
+fn point(doc: &Value, comp: &str) -> Value {
+    json!({
+        "name": "bolt",
+        "origin": [0.0, 0.0, 0.0],
+        "sensors": doc[format!("sensors_{comp}")],
+        "impacts": doc[format!("impacts_{comp}")],
+    })
+}
+
+fn vp_step(id: &str, from: &str, geometry: Value, points: Value) -> Value {
+    json!({"id": id, "op": "to-virtual-points", "from": from, "geometry": geometry, "points": points})
+}
+
+fn recipe(steps: Vec<Value>, outputs: &[&str], comps: &[(&str, &str)]) -> String {
+    let mut c = serde_json::Map::new();
+    for (name, file) in comps {
+        c.insert(name.to_string(), json!({"file": file}));
+    }
+    json!({
+        "format": "mortise-recipe", "version": 1,
+        "components": c, "steps": steps, "outputs": outputs
+    })
+    .to_string()
+}
+
+fn run(text: &str) -> mortise::Result<mortise::RunResult> {
+    let r = mortise::parse_recipe(text)?;
+    let src = DirSource::confined(setup().dir.clone(), Limits::default());
+    mortise::run_recipe(&r, &src)
+}
+
+/// Largest difference relative to each entry's own largest magnitude over
+/// the lines (translations and rotations have different units, so a per-line
+/// maximum would hide the small blocks), DOFs matched by label.
+fn entrywise_rel_diff(a: &FrfSet, b: &FrfSet) -> f64 {
+    assert_eq!(a.n_lines(), b.n_lines());
+    let mut worst: f64 = 0.0;
+    for (j, din) in b.inputs.iter().enumerate() {
+        let ja = a.in_index(din).unwrap_or_else(|| panic!("no input {din}"));
+        for (i, dout) in b.outputs.iter().enumerate() {
+            let ia = a
+                .out_index(dout)
+                .unwrap_or_else(|| panic!("no output {dout}"));
+            let scale = (0..b.n_lines())
+                .map(|k| b.get(k, i, j).norm())
+                .fold(0.0, f64::max);
+            for k in 0..b.n_lines() {
+                worst = worst.max((a.get(k, ia, ja) - b.get(k, i, j)).norm() / scale);
+            }
+        }
+    }
+    worst
+}
+
+fn vp_report(r: &mortise::RunResult, step: &str) -> Vec<vpt::VirtualPointReport> {
+    r.report
+        .steps
+        .iter()
+        .find(|s| s.id == step)
+        .and_then(|s| s.virtual_points.clone())
+        .expect("the step reports its virtual points")
+}
+
+#[test]
+fn rigid_block_gives_the_reference_point_frfs() {
+    let s = setup();
+    let text = recipe(
+        vec![vp_step(
+            "vp",
+            "unit",
+            json!("unit.geom.csv"),
+            json!([point(&s.doc, "unit")]),
+        )],
+        &["vp"],
+        &[("unit", "unit.csv")],
+    );
+    let r = run(&text).unwrap();
+    let got = &r.outputs[0];
+    let want = set_from_json(&s.doc["unit"]["reference"], &s.freqs);
+    // kept frame DOFs first, then the point's six, as numpy's reference
+    assert_eq!(got.outputs, want.outputs);
+    assert_eq!(got.inputs, want.inputs);
+    let d = entrywise_rel_diff(got, &want);
+    eprintln!("rigid block: virtual-point FRFs against numpy's direct 6 × 6 at o: {d:e}");
+    // reference: numpy full model solve (rigid-body kinematics, textbook)
+    assert!(d <= 1e-10, "relative difference {d:e}");
+    let p = &vp_report(&r, "vp")[0];
+    assert_eq!(p.name, "unit:bolt");
+    let worst_u = p.worst_sensor_consistency.unwrap();
+    let worst_f = p.worst_impact_consistency.unwrap();
+    eprintln!(
+        "rigid block: consistencies 1 − {:e} (sensors), 1 − {:e} (impacts)",
+        1.0 - worst_u,
+        1.0 - worst_f
+    );
+    for v in p
+        .sensor_consistency
+        .iter()
+        .chain(&p.impact_consistency)
+        .map(|v| v.unwrap())
+    {
+        assert!((v - 1.0).abs() <= 1e-12, "consistency {v}");
+    }
+    assert_eq!(p.status, mortise::audit::Status::Pass);
+    assert!(
+        r.report.steps[0].warnings.is_empty(),
+        "{:?}",
+        r.report.steps[0].warnings
+    );
+}
+
+#[test]
+fn coupled_virtual_points_equal_the_direct_assembly() {
+    let s = setup();
+    let joints: Vec<Value> = ["X", "Y", "Z", "RX", "RY", "RZ"]
+        .iter()
+        .map(|d| json!({"a": format!("unit:bolt+{d}"), "b": format!("bracket:bolt+{d}"), "type": "rigid"}))
+        .collect();
+    let text = recipe(
+        vec![
+            vp_step(
+                "unit_vp",
+                "unit",
+                json!("unit.geom.csv"),
+                json!([point(&s.doc, "unit")]),
+            ),
+            vp_step(
+                "bracket_vp",
+                "bracket",
+                json!("bracket.geom.csv"),
+                json!([point(&s.doc, "bracket")]),
+            ),
+            json!({"id": "mounted", "op": "couple", "parts": ["unit_vp", "bracket_vp"], "joints": joints}),
+        ],
+        &["mounted"],
+        &[("unit", "unit.csv"), ("bracket", "bracket.csv")],
+    );
+    let r = run(&text).unwrap();
+    let got = &r.outputs[0];
+    let want = set_from_json(&s.doc["coupled"], &s.freqs);
+    let d = entrywise_rel_diff(got, &want);
+    eprintln!(
+        "two components coupled at their virtual points against numpy's direct assembly: {d:e}"
+    );
+    // reference: numpy direct assembly of M, K, C with the block DOFs merged
+    assert!(d <= 1e-8, "relative difference {d:e}");
+}
+
+#[test]
+fn matrices_match_the_published_formulas() {
+    let s = setup();
+    let set = set_from_json(&s.doc["unit"]["set"], &s.freqs);
+    let g = Geometry::from_csv(s.doc["geometry_unit"].as_str().unwrap().as_bytes(), "g").unwrap();
+    let w = &s.doc["weighted"];
+    let pairs = |v: &Value| -> Vec<(String, f64)> {
+        v.as_object()
+            .unwrap()
+            .iter()
+            .map(|(k, x)| (k.clone(), x.as_f64().unwrap()))
+            .collect()
+    };
+    let o = w["origin"].as_array().unwrap();
+    let vp = VirtualPointDef {
+        name: "bolt".into(),
+        origin: [0, 1, 2].map(|i| o[i].as_f64().unwrap()),
+        sensors: strings(&s.doc["sensors_unit"]),
+        impacts: strings(&s.doc["impacts_unit"]),
+        sensor_weights: pairs(&w["sensor_weights"]),
+        impact_weights: pairs(&w["impact_weights"]),
+    };
+    let m = vpt::matrices(&set, &g, &vp).unwrap();
+    let cmp = |name: &str, got: &[f64], cols: usize| -> f64 {
+        let want = &s.doc[name];
+        let rows = want.as_array().unwrap();
+        assert_eq!(rows.len() * cols, got.len(), "{name}");
+        let mut worst: f64 = 0.0;
+        let scale = rows
+            .iter()
+            .flat_map(|r| r.as_array().unwrap())
+            .map(|x| x.as_f64().unwrap().abs())
+            .fold(0.0, f64::max);
+        for (i, r) in rows.iter().enumerate() {
+            for (j, x) in r.as_array().unwrap().iter().enumerate() {
+                worst = worst.max((got[i * cols + j] - x.as_f64().unwrap()).abs() / scale);
+            }
+        }
+        worst
+    };
+    let (du, df) = (cmp("T_u", &m.t_u, 9), cmp("T_f", &m.t_f, 9));
+    let (ru, rf) = (cmp("R_u", &m.r_u, 6), cmp("R_f", &m.r_f, 6));
+    eprintln!(
+        "weighted T_u {du:e}, T_f {df:e}, R_u {ru:e}, R_f {rf:e} (relative to the largest entry)"
+    );
+    // reference: numpy implementation of the published formulas
+    assert!(du <= 1e-12 && df <= 1e-12, "T_u {du:e}, T_f {df:e}");
+    assert!(ru <= 1e-14 && rf <= 1e-14, "R_u {ru:e}, R_f {rf:e}");
+    // the weights change T (an operand that is accepted changes the result)
+    let mut plain = vp.clone();
+    plain.sensor_weights.clear();
+    plain.impact_weights.clear();
+    let m1 = vpt::matrices(&set, &g, &plain).unwrap();
+    assert!(m1.t_u.iter().zip(&m.t_u).any(|(a, b)| (a - b).abs() > 1e-6));
+    assert!(m1.t_f.iter().zip(&m.t_f).any(|(a, b)| (a - b).abs() > 1e-6));
+}
+
+fn strings(v: &Value) -> Vec<String> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_str().unwrap().to_string())
+        .collect()
+}
+
+#[test]
+fn noise_lowers_the_consistency_as_numpy_computes() {
+    let s = setup();
+    let floats = |k: &str| -> Vec<f64> {
+        s.doc[k]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_f64().unwrap())
+            .collect()
+    };
+    let (ru, rf) = (floats("rho_u"), floats("rho_f"));
+    let lowest = ru.iter().chain(&rf).cloned().fold(1.0, f64::min);
+    // a threshold between the lowest value and 1: the flag must fire
+    let threshold = 0.5 * (1.0 + lowest);
+    let mut step = vp_step(
+        "vp",
+        "unit",
+        json!("unit.geom.csv"),
+        json!([point(&s.doc, "unit")]),
+    );
+    step["consistency_min"] = json!(threshold);
+    let r = run(&recipe(vec![step], &["vp"], &[("unit", "noisy.csv")])).unwrap();
+    let p = &vp_report(&r, "vp")[0];
+    let mut worst: f64 = 0.0;
+    for (got, want) in p.sensor_consistency.iter().zip(&ru) {
+        worst = worst.max((got.unwrap() - want).abs());
+    }
+    for (got, want) in p.impact_consistency.iter().zip(&rf) {
+        worst = worst.max((got.unwrap() - want).abs());
+    }
+    eprintln!(
+        "1 % noise: lowest consistency {lowest:.9} (numpy), largest difference to numpy {worst:e}"
+    );
+    // reference: numpy, same definition (tests/py/vpt_block.py `consistency`)
+    assert!(worst <= 1e-9, "{worst:e}");
+    assert!(
+        lowest < 1.0 - 1e-6,
+        "noise must lower the consistency: {lowest}"
+    );
+    assert_eq!(p.status, mortise::audit::Status::Flag);
+    let w = &r.report.steps[0].warnings;
+    assert!(
+        w.iter()
+            .any(|w| w.contains("virtual point 'unit:bolt'") && w.contains("consistency falls to")),
+        "{w:?}"
+    );
+    // at the default threshold (0.9, common practice) 1 % noise is not flagged
+    let step = vp_step(
+        "vp",
+        "unit",
+        json!("unit.geom.csv"),
+        json!([point(&s.doc, "unit")]),
+    );
+    let r = run(&recipe(vec![step], &["vp"], &[("unit", "noisy.csv")])).unwrap();
+    assert_eq!(vp_report(&r, "vp")[0].status, mortise::audit::Status::Pass);
+}
+
+#[test]
+fn the_cli_runs_the_operation_and_reports_it() {
+    let s = setup();
+    let text = recipe(
+        vec![vp_step(
+            "vp",
+            "unit",
+            json!("unit.geom.csv"),
+            json!([point(&s.doc, "unit")]),
+        )],
+        &["vp"],
+        &[("unit", "unit.csv")],
+    );
+    let path = s.dir.join("vp.recipe.json");
+    std::fs::write(&path, text).unwrap();
+    let out = s.dir.join("cli_out");
+    let printed = mortise::cli::run_cli(&[
+        "run".to_string(),
+        path.to_str().unwrap().to_string(),
+        "-o".to_string(),
+        out.to_str().unwrap().to_string(),
+    ])
+    .unwrap();
+    assert!(printed.contains("wrote 1 output(s)"), "{printed}");
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let p = &report["steps"][0]["virtual_points"][0];
+    assert_eq!(p["name"], "unit:bolt");
+    assert_eq!(
+        p["sensor_consistency"].as_array().unwrap().len(),
+        s.freqs.len()
+    );
+    assert_eq!(p["status"], "pass");
+    let help = mortise::cli::run_cli(&["help".to_string(), "recipe".to_string()]).unwrap();
+    assert!(help.contains("  to-virtual-points: "), "{help}");
+    assert!(help.contains("consistency_min"));
+}
+
+/// A recipe over small in-memory files: the unit's set and a geometry text.
+fn run_mem(geometry: &str, step: Value) -> mortise::Error {
+    let s = setup();
+    let set = std::fs::read(s.dir.join("unit.csv")).unwrap();
+    let mut files = std::collections::BTreeMap::new();
+    files.insert("unit.csv".to_string(), set);
+    files.insert("g.csv".to_string(), geometry.as_bytes().to_vec());
+    let text = recipe(vec![step], &["vp"], &[("unit", "unit.csv")]);
+    match mortise::parse_recipe(&text) {
+        Err(e) => e,
+        Ok(r) => {
+            mortise::run_recipe(&r, &MapSource(files)).expect_err("the recipe must be refused")
+        }
+    }
+}
+
+#[test]
+fn bad_inputs_are_refused_with_their_place() {
+    let s = setup();
+    let geom = s.doc["geometry_unit"].as_str().unwrap().to_string();
+    let good = point(&s.doc, "unit");
+    let step = |p: Value| vp_step("vp", "unit", json!("g.csv"), json!([p]));
+
+    // collinear sensors: three tri-axial sensors on the line x = y = 0
+    let collinear = geom
+        .replace("unit:s1, 30, 0, 20", "unit:s1, 0, 0, 20")
+        .replace("unit:s2, -15, 26, 20", "unit:s2, 0, 0, 35")
+        .replace("-15, -26, 20, ", "0, 0, -10, ");
+    let e = run_mem(&collinear, step(good.clone()));
+    eprintln!("collinear: {e}");
+    assert!(e.to_string().contains("points[0] ('bolt')"), "{e}");
+    assert!(e.message.contains("determine 5 of the 6 motions"), "{e}");
+    assert!(
+        e.message.contains(
+            "a rotation about the axis through (0, 0, 0) mm, direction (0.00, 0.00, 1.00)"
+        ),
+        "{e}"
+    );
+
+    // a channel without geometry
+    let e = run_mem(
+        &geom.replace("unit:s2, -15, 26, 20\n", ""),
+        step(good.clone()),
+    );
+    eprintln!("missing: {e}");
+    assert!(
+        e.message
+            .contains("sensor channel unit:s2+X has no geometry"),
+        "{e}"
+    );
+    assert_eq!(e.field.as_deref(), Some("sensors[1]"), "{e}");
+
+    // a zero-length direction vector
+    let e = run_mem(
+        &geom.replace("0.3, -1.0, 0.2", "0, 0, 0"),
+        step(good.clone()),
+    );
+    eprintln!("zero vector: {e}");
+    assert!(e.message.contains("has no length"), "{e}");
+    assert_eq!(e.file.as_deref(), Some("g.csv"));
+    assert!(
+        matches!(e.location, Some(mortise::error::Location::Line(_))),
+        "{e:?}"
+    );
+
+    // a missing unit, in a file and inline
+    let e = run_mem(&geom.replace("unit, mm\n", ""), step(good.clone()));
+    eprintln!("no unit: {e}");
+    assert!(e.message.contains("no length unit"), "{e}");
+    let inline = json!({"rows": [{"label": "unit:s1", "at": [0, 0, 0]}]});
+    let e = run_mem(&geom, vp_step("vp", "unit", inline, json!([good.clone()])));
+    assert!(e.message.contains("no length unit"), "{e}");
+
+    // too few channels
+    let mut few = good.clone();
+    few["sensors"] = json!(["unit:s1"]);
+    let e = run_mem(&geom, step(few));
+    eprintln!("few: {e}");
+    assert!(
+        e.message
+            .contains("3 sensor channels; a virtual point needs at least 6"),
+        "{e}"
+    );
+
+    // a channel listed twice
+    let mut twice = good.clone();
+    twice["sensors"]
+        .as_array_mut()
+        .unwrap()
+        .push(json!("unit:s1+Z"));
+    let e = run_mem(&geom, step(twice));
+    eprintln!("twice: {e}");
+    assert!(e.message.contains("unit:s1+Z is listed twice"), "{e}");
+    assert!(e.to_string().contains("points[0] ('bolt')"), "{e}");
+
+    // unknown keys: of the step, of a point, of the inline geometry
+    let mut st = step(good.clone());
+    st["threshold"] = json!(0.8);
+    let e = run_mem(&geom, st);
+    assert!(e.message.contains("unknown operand `threshold`"), "{e}");
+    let mut p = good.clone();
+    p["sensor"] = json!(["unit:s1"]);
+    let e = run_mem(&geom, step(p));
+    eprintln!("unknown key: {e}");
+    assert!(
+        e.message
+            .contains("points[0] ('bolt'): unknown key `sensor`"),
+        "{e}"
+    );
+    let inline = json!({"unit": "mm", "rows": [], "units": "m"});
+    let e = run_mem(&geom, vp_step("vp", "unit", inline, json!([good.clone()])));
+    assert!(e.message.contains("geometry: unknown key `units`"), "{e}");
+
+    // a row no point uses is refused, naming its line
+    let e = run_mem(&format!("{geom}unit:s9, 1, 2, 3\n"), step(good.clone()));
+    eprintln!("unused: {e}");
+    assert!(
+        e.message.contains("locates no sensor channel or impact"),
+        "{e}"
+    );
+    assert_eq!(e.location, Some(mortise::error::Location::Line(18)), "{e}");
+
+    // a weight that names no channel, a weight that is not positive
+    let mut p = good.clone();
+    p["sensor_weights"] = json!({"unit:h1+Z": 2.0});
+    let e = run_mem(&geom, step(p));
+    assert!(e.message.contains("names no channel DOF"), "{e}");
+    let mut p = good.clone();
+    p["impact_weights"] = json!({"unit:h1+Z": 0.0});
+    let e = run_mem(&geom, step(p));
+    assert!(
+        e.message.contains("expected a positive finite number"),
+        "{e}"
+    );
+
+    // a threshold outside (0, 1]
+    let mut st = step(good.clone());
+    st["consistency_min"] = json!(1.5);
+    let e = run_mem(&geom, st);
+    assert_eq!(e.field.as_deref(), Some("consistency_min"), "{e}");
+
+    // the point's name collides with a DOF kept from the set
+    let mut p = good.clone();
+    p["name"] = json!("f0");
+    let e = run_mem(&geom, step(p));
+    assert!(e.message.contains("already an output DOF"), "{e}");
+    assert_eq!(e.kind, ErrorKind::Dof, "{e}");
+}
+
+#[test]
+fn the_result_is_checked_against_the_budget_before_it_is_made() {
+    let s = setup();
+    let text = recipe(
+        vec![vp_step(
+            "vp",
+            "unit",
+            json!("unit.geom.csv"),
+            json!([point(&s.doc, "unit")]),
+        )],
+        &["vp"],
+        &[("unit", "unit.csv")],
+    );
+    let r = mortise::parse_recipe(&text).unwrap();
+    // the component (11 × 11 on 38 lines: 4,598 values) fits; with the
+    // 8 × 8 result (2,432 more) it does not
+    let limits = Limits {
+        memory_bytes: 5_000 * 16,
+        ..Limits::default()
+    };
+    let src = DirSource::confined(s.dir.clone(), Limits::default());
+    let e = mortise::recipe::run_with(&r, &src, &limits).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+    assert!(e.message.contains("the virtual-point set"), "{e}");
+    // and the work budget
+    let limits = Limits {
+        work: 1e3,
+        ..Limits::default()
+    };
+    let e = mortise::recipe::run_with(&r, &src, &limits).unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget, "{e}");
+    assert!(e.message.contains("transforming 38 lines"), "{e}");
+}
