@@ -114,6 +114,7 @@ fn execute(
             variant,
             limits,
             held: values_held(&values),
+            steps: &steps,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {

@@ -94,6 +94,9 @@ pub struct StepReport {
     /// Extra results written beside the step's own (`ID/NAME`).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub extras: Vec<String>,
+    /// Modal identification: the model, the stabilization table, the fit's quality.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub identification: Option<Box<crate::identify::Identification>>,
 }
 
 impl StepReport {
@@ -110,6 +113,7 @@ impl StepReport {
             levels: None,
             ranking: None,
             extras: Vec::new(),
+            identification: None,
         }
     }
 }

@@ -7,11 +7,13 @@
 //! table.
 
 mod couple;
+mod identify;
 mod predict;
 mod reshape;
 mod transform;
 
 pub use couple::{Couple, Decouple};
+pub use identify::{IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
 pub(crate) use transform::{
@@ -72,6 +74,8 @@ pub(crate) struct Ctx<'a> {
     pub limits: &'a Limits,
     /// Complex values the run holds already (components and earlier results).
     pub held: u64,
+    /// The reports of the earlier steps (a step may read what one found).
+    pub steps: &'a [StepReport],
 }
 
 impl Ctx<'_> {
@@ -204,6 +208,8 @@ operations! {
     "respond" => Respond,
     "paths" => Paths,
     "blocked-forces" => BlockedForces,
+    "identify-modes" => IdentifyModes,
+    "regenerate" => Regenerate,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.
