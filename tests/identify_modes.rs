@@ -418,3 +418,73 @@ fn eigenvalues_match_numpy() {
         assert!(worst < 1e-9);
     }
 }
+
+#[test]
+fn run_writes_the_model_as_json_and_uff55() {
+    // noisy measurement → `mortise run` → ID.modes.json (our ModalModel
+    // form) and ID.modes.unv (dataset 55), read back with pyuff
+    let d = py(&["modal", "0.01", "3"]);
+    let freqs = nums(&d["freqs"]);
+    let (o, i) = xyz();
+    let s = set(
+        "meas",
+        &freqs,
+        o,
+        i,
+        cxs(&d["noisy"]),
+        Quantity::Acceleration,
+    );
+    let dir = common::scratch("identify_run");
+    let recipe = serde_json::json!({
+        "format": "mortise-recipe", "version": 1, "title": "identified model files",
+        "components": {"meas": inline(&s)},
+        "steps": [
+            {"id": "modes", "op": "identify-modes", "from": "meas", "band": [30.0, 250.0], "max_order": 24,
+             "tolerances": {"freq": 0.01, "damping": 0.05, "mac": 0.98, "orders": 5}},
+            {"id": "clean", "op": "regenerate", "from": "modes", "grid": {"from": 40, "to": 240, "step": 0.5}}
+        ],
+        "outputs": ["clean"]
+    });
+    let rp = dir.join("r.recipe.json");
+    std::fs::write(&rp, recipe.to_string()).unwrap();
+    let out = dir.join("out");
+    let argv: Vec<String> = ["run", rp.to_str().unwrap(), "-o", out.to_str().unwrap()]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let o = mortise::cli::execute(&argv);
+    assert!(o.error.is_none(), "{}{}", o.stdout, o.stderr);
+    let model: mortise::synth::ModalModel =
+        serde_json::from_str(&std::fs::read_to_string(out.join("modes.modes.json")).unwrap())
+            .unwrap();
+    assert_eq!(model.complex_modes.len(), 6);
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let notes = report["notes"].to_string();
+    assert!(
+        notes.contains("dataset 55 has no place for residual terms"),
+        "{notes}"
+    );
+    let back = common::run_py(
+        "uff_geo_modal.py",
+        &["read", out.join("modes.modes.unv").to_str().unwrap()],
+    );
+    let back: Value = serde_json::from_str(&back).unwrap();
+    let back = back.as_array().unwrap();
+    assert_eq!(back.len(), 6);
+    let mut worst: f64 = 0.0;
+    for (m, b) in model.complex_modes.iter().zip(back) {
+        let s = mortise::identify::lscf::pole_of(m.freq, m.zeta);
+        let eig = nums(&b["eig"]);
+        worst = worst.max((Complex64::new(eig[0], eig[1]) - s).norm() / s.norm());
+        let (re, im) = (nums(&b["shape_re"]), nums(&b["shape_im"]));
+        let big = m.shape.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        for (k, v) in m.shape.iter().enumerate() {
+            worst = worst.max((Complex64::new(re[k], im[k]) - v).norm() / big);
+        }
+    }
+    eprintln!(
+        "# measure UFF 55 read by pyuff: largest relative difference to the model {worst:.2e}"
+    );
+    assert!(worst < 1e-5);
+}
