@@ -364,17 +364,18 @@ pub fn identify(set: &FrfSet, opts: &IdentifyOptions, limits: &Limits) -> Result
     let rows: Vec<Vec<Complex64>> = pole_outs
         .iter()
         .map(|&o| {
-            let mut r = Vec::with_capacity(freqs.len() * m);
-            for k in 0..freqs.len() {
-                for &j in &refs {
-                    let e = present_pairs
-                        .iter()
-                        .position(|&p| p == (o, j))
-                        .map_or(Complex64::new(f64::NAN, 0.0), |e| entries[e][k]);
-                    r.push(e);
-                }
-            }
-            r
+            // every reference of a pole output is present (filtered above)
+            let cols: Vec<Option<usize>> = refs
+                .iter()
+                .map(|&j| present_pairs.iter().position(|&p| p == (o, j)))
+                .collect();
+            let entries = &entries;
+            (0..freqs.len())
+                .flat_map(|k| {
+                    cols.iter()
+                        .map(move |c| c.map_or(Complex64::new(f64::NAN, 0.0), |e| entries[e][k]))
+                })
+                .collect()
         })
         .collect();
     let inp = lscf::LscfInput {
@@ -777,8 +778,8 @@ pub fn regenerate(id: &Identification, freqs: &[f64], fill_missing: bool) -> Res
     }
     // receptance → the measured quantity
     if p_out != 0 {
-        for k in 0..freqs.len() {
-            let g = Complex64::new(0.0, 2.0 * PI * freqs[k]).powi(p_out);
+        for (k, f) in freqs.iter().enumerate() {
+            let g = Complex64::new(0.0, 2.0 * PI * f).powi(p_out);
             for v in set.line_mut(k) {
                 *v *= g;
             }

@@ -105,7 +105,7 @@ fn factor(omegas: &[f64], poles: &[Complex64]) -> Result<Fit> {
     // a regular R: distinct poles, a band with room for them
     let d: Vec<f64> = (0..np).map(|c| r[(c, c)].abs()).collect();
     let big = d.iter().cloned().fold(0.0, f64::max);
-    if d.iter().any(|&x| !(x > 1e-13 * big)) {
+    if d.iter().any(|&x| x.is_nan() || x <= 1e-13 * big) {
         return Err(Error::numeric(
             "the poles' basis functions are linearly dependent on these lines (two poles too close, or a pole far outside the band)",
         ));
@@ -176,6 +176,9 @@ pub fn fit_fixed(
         .collect()
 }
 
+/// Gauss–Newton normal equations: JᵀJ and Jᵀr.
+type Normal = (DMatrix<f64>, DVector<f64>);
+
 /// The weighted cost and, with `jac`, the Gauss–Newton normal equations.
 fn evaluate(
     omegas: &[f64],
@@ -183,7 +186,7 @@ fn evaluate(
     weights: &[f64],
     poles: &[Complex64],
     jac: bool,
-) -> Result<(f64, Option<(DMatrix<f64>, DVector<f64>)>)> {
+) -> Result<(f64, Option<Normal>)> {
     let fit = factor(omegas, poles)?;
     let n = poles.len();
     let np = 2 * n;
