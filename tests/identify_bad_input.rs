@@ -225,3 +225,49 @@ fn a_large_order_is_refused_by_the_work_budget() {
         "{e}"
     );
 }
+
+#[test]
+fn a_poor_fit_is_flagged() {
+    // only the 60 Hz pole listed: the 140 Hz resonance is left unfitted, and
+    // every FRF's fit is flagged (correlation below 0.95 or error above 20 %,
+    // common practice) in the report and the step's warnings
+    let set = two_modes(2, false);
+    let r = parse_recipe(&recipe(
+        &set,
+        json!([id_step(json!({"pick": [{"freq": 60, "tol": 2}]}))]),
+    ))
+    .unwrap();
+    let res = run_recipe(&r, &MapSource::default()).unwrap();
+    let step = &res.report.steps[0];
+    let id = step.identification.as_ref().unwrap();
+    assert_eq!(id.modes.len(), 1);
+    let worst = id.fits.iter().map(|f| f.error).fold(0.0, f64::max);
+    eprintln!("# measure one of two modes fitted: worst relative error over the band {worst:.3}");
+    assert!(id.fits.iter().any(|f| f.poor));
+    assert!(
+        step.warnings.iter().any(|w| w.starts_with("poor fit of")),
+        "{:?}",
+        step.warnings
+    );
+}
+
+#[test]
+fn a_variant_scaling_the_identification_step_is_refused() {
+    // the model a regenerate step reads is not the scaled fit: refused,
+    // naming the variant, the step and the field
+    let set = two_modes(2, false);
+    let mut v: Value = serde_json::from_str(&recipe(
+        &set,
+        json!([id_step(json!({})), {"id": "r", "op": "regenerate", "from": "id"}]),
+    ))
+    .unwrap();
+    v["variants"] = json!([{"name": "louder", "scale": {"id": 2.0}}]);
+    let r = parse_recipe(&v.to_string()).unwrap();
+    let t = run_recipe(&r, &MapSource::default())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        t.contains("variants[0] ('louder'): steps[1] (id 'r', op 'regenerate'): from: variant 'louder' scales step 'id'"),
+        "{t}"
+    );
+}

@@ -215,6 +215,13 @@ impl Operation for Regenerate {
             ))
             .field("from"));
         };
+        if let Some(v) = cx.variant.filter(|v| v.scale.contains_key(&self.from)) {
+            return Err(Error::recipe(format!(
+                "variant '{}' scales step '{}', whose model this step reads unscaled; scale this step instead",
+                v.name, self.from
+            ))
+            .field("from"));
+        }
         let lines = match &self.grid {
             Some(g) => g.lines().map_err(|e| e.field("grid"))?,
             None => cx.get("from", &self.from)?.freqs.clone(),
