@@ -52,6 +52,7 @@ pub mod error;
 pub mod frf;
 pub mod grid;
 pub mod history;
+pub mod identify;
 pub mod io;
 pub mod levels;
 pub mod limits;

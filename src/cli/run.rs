@@ -175,6 +175,48 @@ fn file_names<'a>(names: impl Iterator<Item = &'a str>) -> Result<Vec<String>> {
     Ok(stems)
 }
 
+/// Each identify-modes step's scaled modal model as `ID.modes.json` (the
+/// `ModalModel` serde form) and `ID.modes.unv` (UFF dataset 55, when its
+/// DOFs allow it; the report's notes say what was left out or why not).
+fn write_models(
+    report: &mut crate::recipe::RunReport,
+    out: &Path,
+    files: &mut Vec<String>,
+) -> Result<()> {
+    let models: Vec<(String, crate::synth::ModalModel)> = report
+        .steps
+        .iter()
+        .filter_map(|s| Some((s.id.clone(), s.identification.as_ref()?.model.clone()?)))
+        .collect();
+    let stems = file_names(models.iter().map(|(id, _)| id.as_str()))?;
+    for ((id, model), stem) in models.iter().zip(stems) {
+        let json = serde_json::to_string_pretty(model)
+            .map_err(|e| internal(format!("modal model as JSON: {e}")))?;
+        let p = out.join(format!("{stem}.modes.json"));
+        std::fs::write(&p, json)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+        files.push(p.display().to_string());
+        match crate::identify::model_uff55(model) {
+            Ok((text, note)) => {
+                let p = out.join(format!("{stem}.modes.unv"));
+                std::fs::write(&p, text)
+                    .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+                files.push(p.display().to_string());
+                if let Some(n) = note {
+                    report
+                        .notes
+                        .push(format!("step '{id}': {stem}.modes.unv: {n}"));
+                }
+            }
+            Err(e) => report.notes.push(format!(
+                "step '{id}': the modal model is not written as UFF dataset 55: {}",
+                e.message
+            )),
+        }
+    }
+    Ok(())
+}
+
 /// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
@@ -204,6 +246,7 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
         }
     }
     report.uff_node_numbers = numbers;
+    write_models(&mut report, out, &mut files)?;
     let p = out.join("report.json");
     let text = serde_json::to_string_pretty(&report)
         .map_err(|e| internal(format!("report as JSON: {e}")))?;

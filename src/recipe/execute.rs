@@ -116,6 +116,7 @@ fn execute(
             limits,
             held: values_held(&values),
             files,
+            steps: &steps,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {

@@ -97,6 +97,9 @@ pub struct StepReport {
     /// Virtual points: each point's consistencies and their flag.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub virtual_points: Option<Vec<crate::vpt::VirtualPointReport>>,
+    /// Modal identification: the model, the stabilization table, the fit's quality.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub identification: Option<Box<crate::identify::Identification>>,
 }
 
 impl StepReport {
@@ -114,6 +117,7 @@ impl StepReport {
             ranking: None,
             extras: Vec::new(),
             virtual_points: None,
+            identification: None,
         }
     }
 }

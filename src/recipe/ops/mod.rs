@@ -7,12 +7,14 @@
 //! table.
 
 mod couple;
+mod identify;
 mod predict;
 mod reshape;
 mod transform;
 mod virtual_points;
 
 pub use couple::{Couple, Decouple};
+pub use identify::{IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
 pub(crate) use transform::{
@@ -76,6 +78,8 @@ pub(crate) struct Ctx<'a> {
     pub held: u64,
     /// The recipe's files (for operands naming a file, e.g. a geometry).
     pub files: &'a dyn super::FileSource,
+    /// The reports of the earlier steps (a step may read what one found).
+    pub steps: &'a [StepReport],
 }
 
 impl Ctx<'_> {
@@ -209,6 +213,8 @@ operations! {
     "paths" => Paths,
     "blocked-forces" => BlockedForces,
     "to-virtual-points" => ToVirtualPoints,
+    "identify-modes" => IdentifyModes,
+    "regenerate" => Regenerate,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.
