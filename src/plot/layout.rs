@@ -254,7 +254,7 @@ pub(super) fn pad(lo: f64, hi: f64, log: bool) -> (f64, f64) {
     (lo - d, hi + d)
 }
 
-pub(super) fn x_axis(spec: &PlotSpec, curves: &[Curve]) -> Result<Axis> {
+pub(super) fn x_axis(spec: &PlotSpec, curves: &[&Curve]) -> Result<Axis> {
     let log = spec.x_log;
     let (lo, hi) = match spec.x_range {
         Some([a, b]) if a < b && (!log || a > 0.0) => (a, b),
