@@ -267,6 +267,9 @@ async function drawPlot() {
       plotCore().plot_put(parts);
       timings.last_put_ms = performance.now() - t1;
       kept = mark;
+      // the drawing in a task of its own: no main-thread task holds both
+      await new Promise((res) => setTimeout(res, 0));
+      if (drawing !== job) return;
     } catch (e) {
       if (drawing !== job) return;
       kept = null;
@@ -299,6 +302,7 @@ function redraw() {
   renderLegend(r.legend);
   wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
   if (r.frames[0]) wrap.dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
+  wrap.dataset.frames = JSON.stringify(r.frames); // panels in plot pixels, for tests
   if (!spec.x_range && r.frames[0]) wrap.dataset.fullrange = wrap.dataset.xrange;
   document.body.dataset.plotted = String(++plotCount);
   refreshReadout();

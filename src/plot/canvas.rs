@@ -7,8 +7,10 @@
 //!   SVG's units) and stays sharp;
 //! - lines and paths are stroked where the SVG strokes them (integer
 //!   coordinates, no half-pixel shift), and consecutive strokes of one
-//!   colour and width go into one canvas path, stroked once (a dashed curve
-//!   is hundreds of short strokes; opaque colours give the same pixels);
+//!   colour and width go into one path, written as SVG path data and handed
+//!   to the canvas as one `Path2D`, stroked once (a dashed curve is hundreds
+//!   of short strokes; one call instead of one per point, and opaque colours
+//!   give the same pixels);
 //! - text is placed as the SVG backend places it (font size / 1.24, the
 //!   baseline moved by 0.76 em, ±0.5 ex), not by the canvas's own baselines.
 //!
@@ -21,7 +23,7 @@ use plotters_backend::{
 };
 use plotters_canvas::CanvasBackend;
 use wasm_bindgen::JsCast;
-use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
+use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, Path2d};
 
 /// A drawing failure on the canvas, in words.
 #[derive(Debug)]
@@ -46,6 +48,27 @@ fn css_colour(c: BackendColor) -> String {
     format!("rgba({r},{g},{b},{})", c.alpha)
 }
 
+/// Append an integer in decimal (a redraw writes hundreds of thousands).
+fn push_int(s: &mut String, v: i32) {
+    if v < 0 {
+        s.push('-');
+    }
+    let mut n = v.unsigned_abs();
+    let mut buf = [0u8; 10];
+    let mut i = buf.len();
+    loop {
+        i -= 1;
+        buf[i] = b'0' + (n % 10) as u8;
+        n /= 10;
+        if n == 0 {
+            break;
+        }
+    }
+    for &d in &buf[i..] {
+        s.push(d as char);
+    }
+}
+
 /// The page's plot canvas, sized in CSS pixels.
 pub struct Canvas {
     inner: CanvasBackend,
@@ -54,6 +77,8 @@ pub struct Canvas {
     /// Colour, alpha and width of the path being built, stroked on the next
     /// change of style or any other drawing.
     open: Option<((u8, u8, u8), u64, u32)>,
+    /// That path as SVG path data.
+    path: String,
     /// The x-height (ex) measured for each font size used.
     ex: Vec<(u64, f64)>,
 }
@@ -89,14 +114,19 @@ impl Canvas {
             ctx,
             size: (width, height),
             open: None,
+            path: String::new(),
             ex: Vec::new(),
         })
     }
 
     fn flush(&mut self) {
-        if self.open.take().is_some() {
-            self.ctx.stroke();
+        if self.open.take().is_some() && !self.path.is_empty() {
+            // a path the canvas cannot read is left undrawn, never half drawn
+            if let Ok(p) = Path2d::new_with_path_string(&self.path) {
+                self.ctx.stroke_with_path(&p);
+            }
         }
+        self.path.clear();
     }
 
     fn stroke_path<S: BackendStyle>(
@@ -111,16 +141,21 @@ impl Canvas {
         let key = (c.rgb, c.alpha.to_bits(), style.stroke_width());
         if self.open != Some(key) {
             self.flush();
-            self.ctx.begin_path();
             self.ctx.set_stroke_style_str(&css_colour(c));
             self.ctx.set_line_width(style.stroke_width() as f64);
             self.open = Some(key);
         }
         let mut it = pts.into_iter();
         if let Some((x, y)) = it.next() {
-            self.ctx.move_to(x as f64, y as f64);
+            self.path.push('M');
+            push_int(&mut self.path, x);
+            self.path.push(' ');
+            push_int(&mut self.path, y);
             for (x, y) in it {
-                self.ctx.line_to(x as f64, y as f64);
+                self.path.push('L');
+                push_int(&mut self.path, x);
+                self.path.push(' ');
+                push_int(&mut self.path, y);
             }
         }
     }

@@ -6,7 +6,7 @@
 //! Not here: where things go (`layout.rs`), which plot (`render.rs`).
 
 use super::envelope::pixel_polylines;
-use super::layout::{tick_text, Panel};
+use super::layout::{tick_text, x_pixels, Panel};
 use super::spec::LegendEntry;
 use crate::error::{Error, Result};
 use plotters::prelude::*;
@@ -95,7 +95,8 @@ fn stroke<DB: DrawingBackend>(
                     .map_err(derr)?;
                 seg.clear();
             } else {
-                seg = vec![m];
+                seg.clear();
+                seg.push(m);
             }
             drawing = !drawing;
             len -= left;
@@ -340,6 +341,8 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
     stems: &[bool],
     stem_lines: bool,
 ) -> Result<()> {
+    // pixel x of the last grid seen: curves on one grid map it once
+    let mut grid: (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
     for (i, pts) in curves.iter().enumerate() {
         if stems.get(i).copied().unwrap_or(false) {
             let c = colour(i);
@@ -357,7 +360,16 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
             }
             continue;
         }
-        for line in pixel_polylines(p, pts) {
+        let same = grid.0.len() == pts.len()
+            && grid
+                .0
+                .iter()
+                .zip(pts.iter())
+                .all(|(a, b)| a.to_bits() == b.0.to_bits());
+        if !same {
+            grid = (pts.iter().map(|q| q.0).collect(), x_pixels(p, pts));
+        }
+        for line in pixel_polylines(p, pts, Some(&grid.1)) {
             stroke(b, &line, colour(i), dash(i))?;
         }
     }

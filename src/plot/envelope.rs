@@ -12,12 +12,19 @@
 //!
 //! Not here: clipping and the mapping to pixels (`layout.rs`).
 
-use super::layout::{visible, Panel};
+#[cfg(test)]
+use super::layout::visible;
+use super::layout::{visible_with, Panel};
 
 /// The visible part of a curve (points in axis values) as pixel
-/// polylines, each reduced per pixel column.
-pub(super) fn pixel_polylines(panel: &Panel, pts: &[(f64, f64)]) -> Vec<Vec<(f64, f64)>> {
-    visible(panel, pts)
+/// polylines, each reduced per pixel column; `xpx` the points' pixel x when
+/// known (`layout::x_pixels`).
+pub(super) fn pixel_polylines(
+    panel: &Panel,
+    pts: &[(f64, f64)],
+    xpx: Option<&[f64]>,
+) -> Vec<Vec<(f64, f64)>> {
+    visible_with(panel, pts, xpx)
         .into_iter()
         .map(|l| reduce(&l))
         .collect()
@@ -157,7 +164,9 @@ mod tests {
             ((fp - 0.5, fp + 0.5), false),
         ] {
             let p = panel(range, log, (-10.0, 50.0));
-            let drawn = pixel_polylines(&p, &pts);
+            let drawn = pixel_polylines(&p, &pts, None);
+            let xs = super::super::layout::x_pixels(&p, &pts);
+            assert_eq!(drawn, pixel_polylines(&p, &pts, Some(&xs)));
             let full = visible(&p, &pts);
             assert_eq!(columns(&drawn), columns(&full), "{range:?} log {log}");
             // the peak's own column reaches the peak's pixel height

@@ -5,7 +5,7 @@
 //! Not here: the primitives (`draw.rs`), ranges and ticks (`layout.rs`),
 //! the data (`data.rs`).
 
-use super::data::{wrap_phase, Curve};
+use super::data::Curve;
 use super::draw::{axes, colour, derr, draw_curves, draw_curves_stems, legend, legend_with, text};
 use super::layout::{finite_range, in_x, pad, x_axis, y_axis, Axis, Panel};
 use super::resolved::{PlotData, View};
@@ -336,19 +336,10 @@ fn draw_frf<DB: DrawingBackend>(
                         )
                     } else {
                         (
+                            // (an empty line of a line spectrum has no phase: NaN)
                             curves
                                 .iter()
-                                .map(|c| {
-                                    // An empty line of a line spectrum has no phase.
-                                    let ph = c.values.iter().map(|v| {
-                                        if c.stems && v.norm() == 0.0 {
-                                            f64::NAN
-                                        } else {
-                                            wrap_phase(*v)
-                                        }
-                                    });
-                                    fx(c, ph.collect())
-                                })
+                                .map(|c| fx(c, c.phase.clone()))
                                 .collect::<Vec<_>>(),
                             Axis {
                                 min: -180.0,

@@ -8,7 +8,7 @@
 //!
 //! Not here: taking curves from sets (`data.rs`), drawing (`render.rs`).
 
-use super::data::{bars_from_set, curves, lines_with_x, Curve};
+use super::data::{bars_from_set, curves, drawn_phase, lines_with_x, Curve};
 use super::spec::{PlotKind, PlotSpec};
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
@@ -203,14 +203,16 @@ impl PlotData {
                 ))
                 .field("arrays"));
             }
+            let values: Vec<Complex64> = re
+                .iter()
+                .zip(&im)
+                .map(|(r, i)| Complex64::new(*r, *i))
+                .collect();
             curves.push(Curve {
                 label: m.label,
                 freqs: freqs.clone(),
-                values: re
-                    .iter()
-                    .zip(&im)
-                    .map(|(r, i)| Complex64::new(*r, *i))
-                    .collect(),
+                phase: drawn_phase(&values, m.stems),
+                values,
                 level,
                 db_label: m.db_label,
                 unit: m.unit,
@@ -295,5 +297,117 @@ mod tests {
         assert_eq!(svg_of(&data, &View::of(&zoomed)), want);
         let v: std::result::Result<View, _> = serde_json::from_str(r#"{"zoom": 2}"#);
         assert!(v.is_err(), "an unknown switch is refused");
+    }
+}
+#[cfg(test)]
+mod prof {
+    use super::*;
+    use crate::frf::{Direction, Dof, FrfSet};
+    use crate::units::Quantity;
+    #[test]
+    #[ignore]
+    fn prof_150() {
+        let d = Dof::new("b", "0", Direction::Z);
+        let ins: Vec<Dof> = (0..150)
+            .map(|j| Dof::new("b", &format!("{}", j + 1), Direction::Z))
+            .collect();
+        let freqs: Vec<f64> = (0..1000).map(|l| 1.0 + l as f64).collect();
+        let mut h = FrfSet::zeros(
+            "bench",
+            freqs,
+            vec![d],
+            ins,
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        for l in 0..1000 {
+            let w = h.omega(l);
+            for j in 0..150 {
+                let wn = 2.0 * std::f64::consts::PI * (5.0 + 990.0 * (j as f64 + 0.5) / 150.0);
+                h.set(
+                    l,
+                    0,
+                    j,
+                    1.0 / Complex64::new(wn * wn - w * w, 0.04 * wn * w),
+                );
+            }
+        }
+        let mut sets = BTreeMap::new();
+        sets.insert("a".to_string(), h);
+        let series: Vec<String> = (0..150)
+            .map(|j| format!(r#"{{"set":"a","out":0,"in":{j}}}"#))
+            .collect();
+        let spec = PlotSpec::from_json(&format!(
+            r#"{{"series":[{}],"width":1400,"height":560}}"#,
+            series.join(",")
+        ))
+        .unwrap();
+        let data = PlotData::resolve(&spec, &sets).unwrap();
+        let t = std::time::Instant::now();
+        let mut n = 0;
+        for _ in 0..0 {
+            n = super::super::render_data_svg(&data, &View::of(&spec), 1400, 560)
+                .unwrap()
+                .0
+                .len();
+        }
+        eprintln!("svg {} ms, {} bytes", t.elapsed().as_secs_f64() * 200.0, n);
+        struct Null(usize, usize);
+        impl plotters::prelude::DrawingBackend for Null {
+            type ErrorType = std::fmt::Error;
+            fn get_size(&self) -> (u32, u32) {
+                (1400, 560)
+            }
+            fn ensure_prepared(
+                &mut self,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn present(
+                &mut self,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn draw_pixel(
+                &mut self,
+                _: (i32, i32),
+                _: plotters_backend::BackendColor,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn draw_path<S: plotters_backend::BackendStyle, I: IntoIterator<Item = (i32, i32)>>(
+                &mut self,
+                p: I,
+                _: &S,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                self.0 += 1;
+                self.1 += p.into_iter().count();
+                Ok(())
+            }
+            fn draw_text<S: plotters_backend::BackendTextStyle>(
+                &mut self,
+                _: &str,
+                _: &S,
+                _: (i32, i32),
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+        }
+        let mut nb = Null(0, 0);
+        let t = std::time::Instant::now();
+        for _ in 0..50 {
+            super::super::draw_data(&mut nb, &data, &View::of(&spec)).unwrap();
+        }
+        eprintln!(
+            "null {} ms, {} paths {} points",
+            t.elapsed().as_secs_f64() * 200.0,
+            nb.0 / 5,
+            nb.1 / 5
+        );
     }
 }
