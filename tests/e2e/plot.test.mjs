@@ -94,3 +94,93 @@ test('150 curves of 1,000 lines: drawn, zoomed 20 times and read 50 times with n
     assert.deepEqual(s.foreign(), []);
   } finally { await s.close(); }
 });
+
+test('plot data cross from the worker as typed arrays: measured against the same parts as JSON text', async () => {
+  const s = await open();
+  try {
+    const p = s.page;
+    await addFiles(p, [{ name: 'bench.csv', data: manyCurvesCsv(150, 1000) }]);
+    await p.waitForFunction(() => document.querySelectorAll('#curve-select option').length >= 150, null, { timeout: 60000 });
+    const values = await p.$$eval('#curve-select option', (os) => os.filter((o) => o.dataset.name === 'bench').slice(0, 150).map((o) => o.value));
+    await choose(p, values);
+    const m = await p.evaluate(async () => {
+      const spec = JSON.parse(document.getElementById('plot-wrap').dataset.spec);
+      const med = (v) => [...v].sort((a, b) => a - b)[Math.floor((v.length - 1) / 2)];
+      const json = [], typed = [];
+      let chars = 0, bytes = 0, same = true;
+      for (let k = 0; k < 5; k++) {
+        // JSON text: the worker writes it, the page parses it and makes the arrays the drawing takes
+        let t = performance.now();
+        const text = await Bridge.call('plot_data_json', [spec]);
+        const o = JSON.parse(text);
+        const f64 = (l) => l.map((a) => Float64Array.from(a, (v) => (v === null ? NaN : v)));
+        const fromJson = { meta: o.meta, grids: f64(o.grids), arrays: f64(o.arrays) };
+        Bridge.draw().plot_put(fromJson);
+        json.push(performance.now() - t);
+        chars = text.length;
+        // typed arrays: transferred by the worker, taken as they are
+        t = performance.now();
+        const parts = await Bridge.call('plot_data', [spec]);
+        Bridge.draw().plot_put(parts);
+        typed.push(performance.now() - t);
+        bytes = [...parts.grids, ...parts.arrays].reduce((n, a) => n + a.byteLength, 0);
+        // both carry the same numbers
+        same = same && parts.arrays.length === fromJson.arrays.length && parts.arrays.every((a, i) => a.every((v, j) => Object.is(v, fromJson.arrays[i][j])));
+      }
+      return { json: med(json), typed: med(typed), chars, bytes, same };
+    });
+    report('transfer of 150 curves × 1,000 lines worker → drawing, JSON text (median of 5, ms)', m.json.toFixed(1));
+    report('transfer of 150 curves × 1,000 lines worker → drawing, typed arrays (median of 5, ms)', m.typed.toFixed(1));
+    report('size: JSON text (characters) / typed arrays (bytes)', `${m.chars} / ${m.bytes}`);
+    assert.ok(m.same, 'the typed arrays and the JSON text carry the same numbers');
+    assert.equal(m.bytes, (1 + 3 * 150) * 1000 * 8, 'one shared grid and three arrays a curve');
+  } finally { await s.close(); }
+});
+
+test('a one-line peak of a 100,000-line curve stays visible at every zoom level', async () => {
+  const s = await open();
+  try {
+    const p = s.page;
+    const needle = peakCsv(100000, 61803);
+    await addFiles(p, [{ name: 'needle.csv', data: needle.text }]);
+    await p.waitForFunction(() => [...document.querySelectorAll('#curve-select option')].some((o) => o.dataset.name === 'needle'), null, { timeout: 60000 });
+    await p.selectOption('#plot-kind', 'magnitude');
+    const v = await p.$$eval('#curve-select option', (os) => os.filter((o) => o.dataset.name === 'needle').map((o) => o.value));
+    await choose(p, v);
+    // −80 dB re 1 m/N at the peak line, −120 dB elsewhere
+    const look = () => p.evaluate(([freq]) => {
+      const c = document.getElementById('plot-canvas');
+      const f = JSON.parse(document.getElementById('plot-wrap').dataset.frames)[0];
+      const t = f.x_log ? (Math.log10(freq) - Math.log10(f.x_min)) / (Math.log10(f.x_max) - Math.log10(f.x_min)) : (freq - f.x_min) / (f.x_max - f.x_min);
+      const dpr = c.width / f.x1 > 1 ? Math.round(c.width / (f.x1 + 18)) : 1;
+      const x = f.x0 + t * (f.x1 - f.x0);
+      const y = (l) => f.y1 - (l - f.y_min) / (f.y_max - f.y_min) * (f.y1 - f.y0);
+      const g = c.getContext('2d');
+      const col = g.getImageData(Math.floor(x * dpr), 0, 1, c.height).data;
+      let top = null;
+      for (let r = Math.ceil(f.y0 * dpr); r < f.y1 * dpr; r++) {
+        const [R, G, B] = [col[4 * r], col[4 * r + 1], col[4 * r + 2]];
+        if (B > 120 && B - R > 80) { top = r / dpr; break; } // the first curve's blue (#0072b2)
+      }
+      return { span: f.x_max - f.x_min, x, top, peak: y(-80), floor: y(-120) };
+    }, [needle.freq]);
+    const seen = [];
+    for (let zoom = 0; zoom < 6; zoom++) {
+      const r = await look();
+      seen.push(r);
+      assert.ok(r.top !== null && Math.abs(r.top - r.peak) <= 2, `zoom ${zoom}: the peak's column reaches ${r.top}, the peak is at ${r.peak} px (${JSON.stringify(r)})`);
+      assert.ok(r.floor - r.top > 20, `zoom ${zoom}: a peak, not the floor`);
+      if (zoom === 5) break;
+      // drag ±60 px around the peak: about 11 times narrower each step
+      const b = await canvasBox(p);
+      const before = await p.evaluate(() => document.body.dataset.plotted);
+      await p.mouse.move(b.x + (r.x - 60) / b.scale, b.y + 60);
+      await p.mouse.down();
+      await p.mouse.move(b.x + (r.x + 60) / b.scale, b.y + 60, { steps: 3 });
+      await p.mouse.up();
+      await p.waitForFunction((x) => document.body.dataset.plotted !== x, before);
+    }
+    report('needle of 100,000 lines: frequency spans shown (Hz)', seen.map((r) => r.span.toPrecision(3)).join(', '));
+    assert.ok(seen[5].span < seen[0].span / 1000, `zoomed in over three decades: ${seen.map((r) => r.span)}`);
+  } finally { await s.close(); }
+});
