@@ -184,3 +184,85 @@ test('a one-line peak of a 100,000-line curve stays visible at every zoom level'
     assert.ok(seen[5].span < seen[0].span / 1000, `zoomed in over three decades: ${seen.map((r) => r.span)}`);
   } finally { await s.close(); }
 });
+
+// Canvas pixels against the exported SVG rasterised by the page at the same
+// size. A pixel differs when its largest channel difference is over
+// `tol` and no pixel within one pixel of it in the other picture comes
+// within `tol` (antialiasing and half-pixel text placement); both ways.
+async function compareWithSvg(page, svg, tol) {
+  return page.evaluate(async ([text, T]) => {
+    const c = document.getElementById('plot-canvas');
+    const W = c.width, H = c.height;
+    const a = c.getContext('2d').getImageData(0, 0, W, H).data;
+    const img = new Image();
+    img.src = URL.createObjectURL(new Blob([text], { type: 'image/svg+xml' }));
+    await img.decode();
+    const o = document.createElement('canvas');
+    o.width = W; o.height = H;
+    const g = o.getContext('2d');
+    g.drawImage(img, 0, 0, W, H);
+    const b = g.getImageData(0, 0, W, H).data;
+    const d = (p, i, q, j) => Math.max(Math.abs(p[i] - q[j]), Math.abs(p[i + 1] - q[j + 1]), Math.abs(p[i + 2] - q[j + 2]));
+    const near = (p, q, x, y) => {
+      const i = 4 * (y * W + x);
+      for (let dy = -1; dy <= 1; dy++) for (let dx = -1; dx <= 1; dx++) {
+        const xx = x + dx, yy = y + dy;
+        if (xx < 0 || yy < 0 || xx >= W || yy >= H) continue;
+        if (d(p, i, q, 4 * (yy * W + xx)) <= T) return true;
+      }
+      return false;
+    };
+    let exact = 0, over = 0, differ = 0;
+    for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) {
+      const i = 4 * (y * W + x);
+      const e = d(a, i, b, i);
+      if (e === 0) exact++;
+      if (e <= T) continue;
+      over++;
+      if (!near(a, b, x, y) || !near(b, a, x, y)) differ++;
+    }
+    return { W, H, total: W * H, exact, over, differ };
+  }, [svg, tol]);
+}
+
+test('the canvas and the SVG export agree pixel by pixel (same data, view and size)', async () => {
+  const s = await open();
+  try {
+    const p = s.page;
+    await addFiles(p, [{ name: 'bench.csv', data: manyCurvesCsv(6, 1000) }]);
+    await p.waitForFunction(() => document.querySelectorAll('#curve-select option').length >= 6, null, { timeout: 60000 });
+    const values = await p.$$eval('#curve-select option', (os) => os.filter((o) => o.dataset.name === 'bench').map((o) => o.value));
+    await choose(p, values);
+    const results = [];
+    let last = null;
+    for (const [kind, zoom] of [['bode', false], ['bode', true], ['nyquist', false]]) {
+      if (kind !== await p.$eval('#plot-kind', (e) => e.value)) {
+        const before = await p.evaluate(() => document.body.dataset.plotted);
+        await p.selectOption('#plot-kind', kind);
+        await p.waitForFunction((x) => document.body.dataset.plotted !== x, before);
+      }
+      if (zoom) {
+        await p.focus('#plot-canvas');
+        await press(p, '+');
+        await press(p, 'Shift+ArrowRight');
+      }
+      const [dl] = await Promise.all([p.waitForEvent('download'), p.click('[data-export=svg]')]);
+      const svg = readFileSync(await dl.path(), 'utf8');
+      // the export names the range the canvas shows
+      const xr = JSON.parse(await p.$eval('#plot-wrap', (w) => w.dataset.xrange));
+      const r = await compareWithSvg(p, svg, 64);
+      results.push(r);
+      report(`canvas vs SVG export, ${kind}${zoom ? ' zoomed and panned' : ''} (${r.W}×${r.H} px, x ${xr.map((v) => v.toPrecision(4)).join('–')})`,
+        `identical ${(100 * r.exact / r.total).toFixed(2)} %, channel difference over 64: ${(100 * r.over / r.total).toFixed(3)} %, different after the 1-px neighbourhood: ${(100 * r.differ / r.total).toFixed(4)} % (${r.differ} px)`);
+      assert.ok(r.differ / r.total <= 0.001, `${kind}: ${r.differ} pixels differ`);
+      // the comparison can fail: the previous view's SVG against this canvas
+      if (last) {
+        const wrong = await compareWithSvg(p, last, 64);
+        report(`control: the previous view's SVG against the ${kind}${zoom ? ' zoomed' : ''} canvas`, `${(100 * wrong.differ / wrong.total).toFixed(2)} % different`);
+        assert.ok(wrong.differ / wrong.total > 0.01, 'another view differs');
+      }
+      last = svg;
+    }
+    await shot(p, '71-plot-nyquist');
+  } finally { await s.close(); }
+});
