@@ -21,6 +21,7 @@ use crate::workspace::{BundleOptions, Workspace};
 use std::cell::RefCell;
 use std::collections::BTreeMap;
 use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
 
 thread_local! {
     static WS: RefCell<Workspace> = RefCell::new(Workspace::new());
@@ -550,16 +551,6 @@ pub fn plot_controls(spec_json: &str) -> std::result::Result<String, JsValue> {
     to_json(&spec.kind.controls())
 }
 
-/// Draw a plot (`plot::PlotSpec` JSON) as SVG; returns `{ svg, frames }`.
-#[wasm_bindgen]
-pub fn plot_svg(spec_json: &str) -> std::result::Result<String, JsValue> {
-    let spec = PlotSpec::from_json(spec_json).map_err(js_err)?;
-    let (svg, frames) = WS
-        .with(|ws| plot::render_svg(&spec, ws.borrow().sets()))
-        .map_err(js_err)?;
-    to_json(&serde_json::json!({ "svg": svg, "frames": frames }))
-}
-
 /// Cursor readout: each curve's values at the line nearest `freq` (Hz).
 #[wasm_bindgen]
 pub fn probe(spec_json: &str, freq: f64) -> std::result::Result<String, JsValue> {
@@ -568,4 +559,192 @@ pub fn probe(spec_json: &str, freq: f64) -> std::result::Result<String, JsValue>
         .with(|ws| plot::probe(&spec, ws.borrow().sets(), freq))
         .map_err(js_err)?;
     to_json(&p)
+}
+
+// ---------- plots: the worker resolves, the page's main thread draws ----------
+//
+// The worker holds the sets and resolves a plot (`plot_data`): curve data
+// as Float64Arrays (transferred, not copied, to the page) and a small
+// structured description (serde-wasm-bindgen). The page's main thread runs a
+// second instance of this module for drawing only: `plot_put` keeps the
+// data, `plot_draw` draws it on the canvas with a view (switches, zoom),
+// `plot_export_svg` writes the same drawing as SVG, and the read-outs
+// (`plot_read`, `plot_step`, `plot_nearest`) read the same data. Nothing of
+// the workspace (files, recipes, results) exists in that instance.
+
+fn structured<T: serde::Serialize>(v: &T) -> std::result::Result<JsValue, JsValue> {
+    v.serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .map_err(|e| js_err(Error::internal(format!("cannot encode result: {e}"))))
+}
+
+fn plot_spec_of(spec: JsValue) -> Result<PlotSpec> {
+    let spec: PlotSpec = serde_wasm_bindgen::from_value(spec)
+        .map_err(|e| Error::usage(format!("plot description: {e}")).field("plot"))?;
+    spec.checked()
+}
+
+fn view_of(view: JsValue) -> Result<plot::View> {
+    serde_wasm_bindgen::from_value(view)
+        .map_err(|e| Error::usage(format!("plot view: {e}")).field("view"))
+}
+
+/// Resolve a plot (`plot::PlotSpec` as a JS object) against the workspace:
+/// returns `{ meta, grids, arrays }`, `meta` the `plot::PlotMeta` (the
+/// resolved spec and each curve's label, units and grid), `grids` the
+/// distinct frequency grids and `arrays` per curve its real parts,
+/// imaginary parts and levels (dB), each a Float64Array. The worker
+/// transfers the arrays' buffers to the page.
+#[wasm_bindgen]
+pub fn plot_data(spec: JsValue) -> std::result::Result<JsValue, JsValue> {
+    let spec = plot_spec_of(spec).map_err(js_err)?;
+    let data = WS
+        .with(|ws| plot::PlotData::resolve(&spec, ws.borrow().sets()))
+        .map_err(js_err)?;
+    let parts = data.to_parts();
+    let o = js_sys::Object::new();
+    let arrays = |v: &[Vec<f64>]| -> js_sys::Array {
+        v.iter()
+            .map(|a| JsValue::from(js_sys::Float64Array::from(a.as_slice())))
+            .collect()
+    };
+    js_sys::Reflect::set(&o, &"meta".into(), &structured(&parts.meta)?)?;
+    js_sys::Reflect::set(&o, &"grids".into(), &arrays(&parts.grids))?;
+    js_sys::Reflect::set(&o, &"arrays".into(), &arrays(&parts.arrays))?;
+    Ok(o.into())
+}
+
+/// The same parts as [`plot_data`] written as one JSON text (numbers as
+/// shortest round-trip decimal text, NaN and infinities as null): the way
+/// results crossed to the page before, kept to measure the two against each
+/// other (tests/e2e/plot.test.mjs).
+#[wasm_bindgen]
+pub fn plot_data_json(spec: JsValue) -> std::result::Result<String, JsValue> {
+    let spec = plot_spec_of(spec).map_err(js_err)?;
+    let data = WS
+        .with(|ws| plot::PlotData::resolve(&spec, ws.borrow().sets()))
+        .map_err(js_err)?;
+    let p = data.to_parts();
+    to_json(&serde_json::json!({ "meta": p.meta, "grids": p.grids, "arrays": p.arrays }))
+}
+
+thread_local! {
+    /// The page's drawing instance: the plot on screen and its last frames.
+    static SHOWN: RefCell<Option<(plot::PlotData, Vec<plot::Frame>)>> = const { RefCell::new(None) };
+}
+
+fn float_arrays(v: &JsValue, key: &str) -> Result<Vec<Vec<f64>>> {
+    let list = js_sys::Reflect::get(v, &JsValue::from_str(key))
+        .ok()
+        .filter(|a| js_sys::Array::is_array(a))
+        .map(|a| js_sys::Array::from(&a))
+        .ok_or_else(|| Error::usage(format!("plot data: no list '{key}'")).field(key))?;
+    let mut out = Vec::with_capacity(list.length() as usize);
+    for (i, a) in list.iter().enumerate() {
+        let a: js_sys::Float64Array = a.dyn_into().map_err(|_| {
+            Error::usage(format!("plot data: {key}[{i}] is not a Float64Array")).field(key)
+        })?;
+        out.push(a.to_vec());
+    }
+    Ok(out)
+}
+
+/// Keep plot data made by [`plot_data`] (in the worker) for drawing here;
+/// returns `{ kind, count }` (the plot's kind and how many curves, lines or
+/// bar groups it draws).
+#[wasm_bindgen]
+pub fn plot_put(parts: JsValue) -> std::result::Result<JsValue, JsValue> {
+    let meta_js = js_sys::Reflect::get(&parts, &JsValue::from_str("meta"))?;
+    let meta: plot::PlotMeta = serde_wasm_bindgen::from_value(meta_js)
+        .map_err(|e| js_err(Error::usage(format!("plot data: {e}")).field("meta")))?;
+    let data = plot::PlotData::from_parts(plot::PlotParts {
+        meta,
+        grids: float_arrays(&parts, "grids").map_err(js_err)?,
+        arrays: float_arrays(&parts, "arrays").map_err(js_err)?,
+    })
+    .map_err(js_err)?;
+    let out = serde_json::json!({ "kind": data.kind(), "count": data.count() });
+    SHOWN.with(|s| *s.borrow_mut() = Some((data, Vec::new())));
+    structured(&out)
+}
+
+fn with_shown<T>(
+    f: impl FnOnce(&mut (plot::PlotData, Vec<plot::Frame>)) -> Result<T>,
+) -> Result<T> {
+    SHOWN.with(|s| match s.borrow_mut().as_mut() {
+        Some(shown) => f(shown),
+        None => Err(Error::missing("no plot data: draw a plot first")),
+    })
+}
+
+/// Draw the kept plot on `canvas`, `width` × `height` CSS pixels at `dpr`
+/// device pixels per CSS pixel, with `view` (`plot::View`: db, x_log,
+/// y_log, x_range, y_range). Returns `plot::Drawn` (`{ frames, legend }`).
+#[wasm_bindgen]
+pub fn plot_draw(
+    canvas: web_sys::HtmlCanvasElement,
+    view: JsValue,
+    width: u32,
+    height: u32,
+    dpr: f64,
+) -> std::result::Result<JsValue, JsValue> {
+    let view = view_of(view).map_err(js_err)?;
+    let drawn = with_shown(|(data, frames)| {
+        plot::check_size(width, height)?;
+        let mut b = plot::Canvas::new(canvas, width, height, dpr)
+            .map_err(|e| Error::io(format!("the plot canvas: {e}")))?;
+        let drawn = plot::draw_data(&mut b, data, &view)?;
+        frames.clone_from(&drawn.frames);
+        Ok(drawn)
+    })
+    .map_err(js_err)?;
+    structured(&drawn)
+}
+
+/// The kept plot drawn as SVG text with `view` at `width` × `height` px:
+/// the export of exactly what the canvas shows.
+#[wasm_bindgen]
+pub fn plot_export_svg(
+    view: JsValue,
+    width: u32,
+    height: u32,
+) -> std::result::Result<String, JsValue> {
+    let view = view_of(view).map_err(js_err)?;
+    with_shown(|(data, _)| Ok(plot::render_data_svg(data, &view, width, height)?.0)).map_err(js_err)
+}
+
+/// Read-out of the kept plot: each curve's values at the line nearest
+/// `freq` (Hz), `[plot::Probe]`.
+#[wasm_bindgen]
+pub fn plot_read(freq: f64) -> std::result::Result<JsValue, JsValue> {
+    let p = with_shown(|(data, _)| Ok(plot::probe_data(data, freq))).map_err(js_err)?;
+    structured(&p)
+}
+
+/// The line next to `freq` over the kept plot's grids: above when `dir` > 0,
+/// below when `dir` < 0; undefined when there is none that way.
+#[wasm_bindgen]
+pub fn plot_step(freq: f64, dir: i32) -> Option<f64> {
+    with_shown(|(data, _)| Ok(plot::step_line(data, freq, dir)))
+        .ok()
+        .flatten()
+}
+
+/// Nyquist read-out of the kept plot: the point nearest the pointer at
+/// (`x`, `y`) CSS pixels inside the last drawing's panel, as `{ probe, x,
+/// y }` (`x`, `y` the point's own position), or null.
+#[wasm_bindgen]
+pub fn plot_nearest(x: f64, y: f64) -> std::result::Result<JsValue, JsValue> {
+    let hit = with_shown(|(data, frames)| {
+        let frame = frames
+            .iter()
+            .find(|f| x >= f.x0 as f64 && x <= f.x1 as f64 && y >= f.y0 as f64 && y <= f.y1 as f64);
+        Ok(frame.and_then(|f| plot::nearest_point(data, f, x, y)))
+    })
+    .map_err(js_err)?;
+    match hit {
+        Some((probe, px, py)) => {
+            structured(&serde_json::json!({ "probe": probe, "x": px, "y": py }))
+        }
+        None => Ok(JsValue::NULL),
+    }
 }

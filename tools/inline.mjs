@@ -40,7 +40,9 @@ if (unlisted.length) {
   console.error(`tools/inline.mjs: ${unlisted.join(', ')} not in PAGE_SCRIPTS`);
   process.exit(1);
 }
-const pageJs = safeJs('bridge.js + the page scripts', read(join(www, 'bridge.js')) + "\n(() => {\n'use strict';\n" +
+// The glue also runs in the page itself: the main thread instantiates the
+// module for drawing the plot (bridge.js), so the page script starts with it.
+const pageJs = safeJs('the glue, bridge.js and the page scripts', glue + '\n' + read(join(www, 'bridge.js')) + "\n(() => {\n'use strict';\n" +
   PAGE_SCRIPTS.map((n) => `// ---- www/${n} ----\n` + read(join(www, n))).join('\n') + '\n})();\n');
 // The wasm and the demo files travel gzip-compressed (the page inflates them
 // with the browser's own DecompressionStream), which keeps the page small.

@@ -80,8 +80,8 @@ async function clearWorkspace() {
   renderCompare();
   renderHistory();
   await setRecipeText('', 'clearing the workspace');
-  lastSvg = null; lastFrames = []; lastSpec = null;
-  $('plot-img').removeAttribute('src');
+  lastSpec = null;
+  clearPlot();
   $('readout').textContent = '';
   exportNote();
   try { await idb('readwrite', (st) => st.delete('current')); } catch (_) { /* nothing stored */ }

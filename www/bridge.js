@@ -3,9 +3,13 @@
 // code, both carried inside this page), and turns messages into promises.
 // cancel() terminates the worker and starts a fresh one; the page keeps the
 // workspace and replays it through the replay hook.
+// The same compiled module is also instantiated here, on the main thread, for
+// drawing only (draw()): it receives plot data (typed arrays and a small
+// description) from the worker, never files or recipes; every computation
+// stays in the worker.
 'use strict';
 const Bridge = (() => {
-  let module = null, workerUrl = null, worker = null, ready = null;
+  let module = null, workerUrl = null, worker = null, ready = null, drawCore = null;
   let nextId = 1;
   const pending = new Map();
   let progressCb = () => {};
@@ -57,6 +61,9 @@ const Bridge = (() => {
     let bytes = decodeBase64(wasmBase64);
     if (encoding === 'gzip') bytes = await gunzip(bytes);
     module = await WebAssembly.compile(bytes);
+    // the page's own instance, for drawing (the glue is part of the page script)
+    wasm_bindgen.initSync({ module });
+    drawCore = wasm_bindgen;
     workerUrl = URL.createObjectURL(new Blob([workerSource], { type: 'text/javascript' }));
     return spawn();
   }
@@ -87,6 +94,7 @@ const Bridge = (() => {
 
   return {
     start, call, callJson, cancel, decodeBase64, gunzip,
+    draw() { return drawCore; },
     onProgress(cb) { progressCb = cb; },
     setReplay(fn) { replayHook = fn; },
     busy() { return pending.size > 0; },

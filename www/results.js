@@ -207,64 +207,241 @@ function plotSpec(width) {
   }
   return { ...base, kind: S.plot.kind, series: S.plot.sel };
 }
+// ---------- the plot: resolved in the worker, drawn here by the core ----------
+// The worker resolves what to draw against its sets (plot_data: curve data as
+// Float64Arrays, transferred, and a small structured description). The page's
+// own instance of the core (Bridge.draw(): the same module, for drawing only)
+// keeps that data and draws it on the canvas. Zoom, pan, the read-outs and the
+// dB / log switches redraw here, without the worker; the SVG export is the
+// same drawing of the same data at the same size.
 let drawing = null;
+let kept = null; // what the drawing instance holds: { key, results, bundle, epoch }
+let plotCount = 0;
+let cursor = null; // the read-out: { freq } on a frequency axis, { nyquist: true } otherwise
+timings.redraw_ms = [];
+const plotCore = () => Bridge.draw();
+
+// everything but the view: a change here needs the worker
+function dataKey(spec) {
+  const { width, height, db, x_log, y_log, x_range, y_range, ...rest } = spec;
+  if (spec.kind === 'bars') rest.x_range = x_range; // bars sum the lines inside the range
+  return JSON.stringify(rest);
+}
+const keptFits = (key) => kept && kept.key === key && kept.results === S.results && kept.bundle === S.bundle && kept.epoch === S.filesEpoch;
+const viewOf = (spec) => ({ db: spec.db, x_log: spec.x_log, y_log: !!spec.y_log, x_range: spec.x_range || null, y_range: null });
+
+function clearPlot(message) {
+  $('plot-canvas').hidden = true;
+  $('cursor-line').hidden = true;
+  $('cursor-dot').hidden = true;
+  $('plot-legend').hidden = true;
+  lastFrames = [];
+  if (message !== undefined) $('readout').textContent = message;
+}
+
 async function drawPlot() {
   const wrap = $('plot-wrap');
   renderStale();
-  if (!S.plot.sel.length && S.plot.kind !== 'condition' && S.plot.kind !== 'difference') { $('plot-img').removeAttribute('src'); lastFrames = []; return; }
+  if (!S.plot.sel.length && S.plot.kind !== 'condition' && S.plot.kind !== 'difference') { clearPlot(); return; }
   let spec;
-  try { spec = plotSpec(wrap.clientWidth || 960); } catch (e) { $('plot-img').removeAttribute('src'); lastFrames = []; $('readout').textContent = 'cannot draw: ' + errorText(e); return; }
-  if (lastSpec && lastSpec.kind !== spec.kind) $('readout').textContent = '';
+  try { spec = plotSpec(wrap.clientWidth || 960); } catch (e) { clearPlot('cannot draw: ' + errorText(e)); return; }
+  if (lastSpec && lastSpec.kind !== spec.kind) { $('readout').textContent = ''; cursor = null; }
   // the core says which switches this view reads; the others are disabled, not silently ignored
-  Bridge.callJson('plot_controls', [JSON.stringify({ kind: spec.kind })]).then((c) => {
+  try {
+    const c = JSON.parse(plotCore().plot_controls(JSON.stringify({ kind: spec.kind })));
     for (const [id, on] of [['opt-db', c.db], ['opt-log', c.x_log]]) {
       $(id).disabled = !on;
       $(id).closest('label').title = on ? '' : 'this view does not use it';
     }
-  }, () => {});
+  } catch (_) { /* the switches stay as they are */ }
   const t0 = performance.now();
-  const job = Bridge.callJson('plot_svg', [JSON.stringify(spec)], 'drawing');
-  drawing = job;
-  try {
-    const r = await job;
-    if (drawing !== job) return;
-    lastSvg = r.svg; lastFrames = r.frames; lastSpec = spec;
-    wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
-    const img = $('plot-img');
-    const old = img.src;
-    img.src = URL.createObjectURL(new Blob([r.svg], { type: 'image/svg+xml' }));
-    if (old && old.startsWith('blob:')) setTimeout(() => URL.revokeObjectURL(old), 1000);
-    await img.decode().catch(() => {});
-    timings.last_plot_ms = performance.now() - t0;
-    if (r.frames[0]) $('plot-wrap').dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
-    document.body.dataset.plotted = String(Date.now());
-  } catch (e) {
-    lastFrames = [];
-    $('readout').textContent = 'cannot draw: ' + errorText(e);
+  const key = dataKey(spec);
+  if (!keptFits(key)) {
+    const job = Bridge.call('plot_data', [spec], 'drawing');
+    drawing = job;
+    const mark = { key, results: S.results, bundle: S.bundle, epoch: S.filesEpoch };
+    try {
+      const parts = await job;
+      if (drawing !== job) return;
+      const t1 = performance.now();
+      plotCore().plot_put(parts);
+      timings.last_put_ms = performance.now() - t1;
+      kept = mark;
+      // the drawing in a task of its own: no main-thread task holds both
+      await new Promise((res) => setTimeout(res, 0));
+      if (drawing !== job) return;
+    } catch (e) {
+      if (drawing !== job) return;
+      kept = null;
+      clearPlot('cannot draw: ' + errorText(e));
+      return;
+    }
   }
+  drawing = null;
+  lastSpec = spec;
+  redraw();
+  timings.last_plot_ms = performance.now() - t0;
+}
+
+// Draw the kept data with the view of lastSpec: the core draws, here, now.
+function redraw() {
+  const spec = lastSpec, c = $('plot-canvas'), wrap = $('plot-wrap');
+  let r;
+  const t0 = performance.now();
+  try {
+    r = plotCore().plot_draw(c, viewOf(spec), spec.width, spec.height, window.devicePixelRatio || 1);
+  } catch (e) {
+    clearPlot('cannot draw: ' + errorText(typeof e === 'string' ? parseCoreError(e) : e));
+    return;
+  }
+  const ms = performance.now() - t0;
+  timings.redraw_ms.push(ms);
+  if (timings.redraw_ms.length > 500) timings.redraw_ms.shift();
+  c.hidden = false;
+  lastFrames = r.frames;
+  renderLegend(r.legend);
+  wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
+  if (r.frames[0]) wrap.dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
+  wrap.dataset.frames = JSON.stringify(r.frames); // panels in plot pixels, for tests
+  if (!spec.x_range && r.frames[0]) wrap.dataset.fullrange = wrap.dataset.xrange;
+  document.body.dataset.plotted = String(++plotCount);
+  refreshReadout();
+}
+function parseCoreError(text) {
+  try { return JSON.parse(text); } catch (_) { return { message: String(text) }; }
+}
+
+// The legend the core drew: when it has too many entries to name inside the
+// plot, they are listed below it with the core's colours and dashes.
+function renderLegend(entries) {
+  const box = $('plot-legend'), list = $('plot-legend-list');
+  const listed = entries.length && entries.some((e) => !e.inside);
+  box.hidden = !listed;
+  if (!listed) return;
+  clear(list);
+  $('plot-legend-count').textContent = `${entries.length} curves`;
+  for (const e of entries) {
+    const sw = el('span', { class: 'swatch', 'aria-hidden': 'true' });
+    const [on, off] = e.dash;
+    sw.style.background = e.hatched ? `repeating-linear-gradient(120deg, ${e.colour} 0 4px, #fff 4px 5px)`
+      : on ? `repeating-linear-gradient(90deg, ${e.colour} 0 ${on}px, transparent ${on}px ${on + off}px)` : e.colour;
+    list.append(el('li', {}, sw, e.label));
+  }
+}
+
+// ---------- read-outs ----------
+function readoutLines(p) {
+  return p.map((q) => `${q.label}\n   f = ${fmt(q.freq)} Hz   |H| = ${fmt(q.magnitude)} ${q.unit}   L = ${fmt(q.level_db, 4)} ${q.db_label}   φ = ${fmt(q.phase_deg, 4)}°   re ${fmt(q.re)}  im ${fmt(q.im)}`).join('\n');
+}
+const scaleOf = () => { const r = $('plot-canvas').getBoundingClientRect(); return lastSpec && r.width ? lastSpec.width / r.width : 1; };
+// The read-out at frequency `freq` (the core snaps to the nearest line of each curve).
+function readAt(freq) {
+  const f = lastFrames.find((fr) => fr.x_is === 'frequency');
+  if (!f) return;
+  const p = plotCore().plot_read(freq);
+  if (!p.length) return;
+  cursor = { freq: p[0].freq };
+  $('readout').textContent = readoutLines(p);
+  const cl = $('cursor-line'), sc = scaleOf();
+  const x = pxOf(f, p[0].freq);
+  if (x < f.x0 - 0.5 || x > f.x1 + 0.5) { cl.hidden = true; return; }
+  const top = lastFrames[0].y0 / sc, bottom = lastFrames[lastFrames.length - 1].y1 / sc;
+  Object.assign(cl.style, { left: (x / sc) + 'px', top: top + 'px', height: (bottom - top) + 'px' });
+  cl.hidden = false;
+  $('plot-canvas').setAttribute('aria-valuetext', `${fmt(p[0].freq)} Hz`);
+}
+// Nyquist: the point nearest the pointer (x, y in plot pixels), with its frequency.
+function readNearest(x, y) {
+  const hit = plotCore().plot_nearest(x, y);
+  const dot = $('cursor-dot');
+  if (!hit) { dot.hidden = true; return; }
+  cursor = { nyquist: true, freq: hit.probe.freq };
+  $('readout').textContent = 'nearest point: ' + readoutLines([hit.probe]);
+  const sc = scaleOf();
+  Object.assign(dot.style, { left: (hit.x / sc) + 'px', top: (hit.y / sc) + 'px' });
+  dot.hidden = false;
+}
+// After a redraw (zoom, pan, switches) the read-out follows the new frames.
+function refreshReadout() {
+  $('cursor-line').hidden = true;
+  $('cursor-dot').hidden = true;
+  if (!cursor || !lastFrames.length) return;
+  if (lastFrames.some((fr) => fr.x_is === 'frequency')) readAt(cursor.freq);
+  else cursor = null;
 }
 
 // pointer → axis value with the frames the core returned
 function frameAt(ev) {
-  const img = $('plot-img');
-  const rect = img.getBoundingClientRect();
-  if (!lastSpec || !rect.width) return null;
+  const c = $('plot-canvas');
+  const rect = c.getBoundingClientRect();
+  if (!lastSpec || !rect.width || c.hidden) return null;
   const sx = lastSpec.width / rect.width;
   const x = (ev.clientX - rect.left) * sx, y = (ev.clientY - rect.top) * sx;
   const f = lastFrames.find((fr) => x >= fr.x0 && x <= fr.x1 && y >= fr.y0 - 2 && y <= fr.y1 + 2);
   if (!f) return null;
   const t = (x - f.x0) / (f.x1 - f.x0);
   const v = f.x_log ? 10 ** (Math.log10(f.x_min) + t * (Math.log10(f.x_max) - Math.log10(f.x_min))) : f.x_min + t * (f.x_max - f.x_min);
-  return { f, v, x, scale: sx, rect };
+  return { f, v, x, y, scale: sx, rect };
 }
 function pxOf(f, v) {
   const t = f.x_log ? (Math.log10(v) - Math.log10(f.x_min)) / (Math.log10(f.x_max) - Math.log10(f.x_min)) : (v - f.x_min) / (f.x_max - f.x_min);
   return f.x0 + t * (f.x1 - f.x0);
 }
-let probing = false, drag = null;
+// A range `k` times narrower (k < 1: wider) around `at`, in the axis's own scale;
+// as wide as all data or wider: the full range (null).
+function zoomRange(f, at, k) {
+  const full = JSON.parse($('plot-wrap').dataset.fullrange || 'null');
+  const [a, b] = f.x_log ? [Math.log10(f.x_min), Math.log10(f.x_max)] : [f.x_min, f.x_max];
+  const c = f.x_log ? Math.log10(at) : at;
+  const lo = c - (c - a) / k, hi = c + (b - c) / k;
+  const r = f.x_log ? [10 ** lo, 10 ** hi] : [lo, hi];
+  if (full && r[0] <= full[0] && r[1] >= full[1]) return null;
+  return r;
+}
+// Move the range by `dt` of its width (the axis's own scale).
+function panRange(f, dt) {
+  return f.x_log
+    ? [f.x_min * (f.x_max / f.x_min) ** dt, f.x_max * (f.x_max / f.x_min) ** dt]
+    : [f.x_min + dt * (f.x_max - f.x_min), f.x_max + dt * (f.x_max - f.x_min)];
+}
+function setRange(r) {
+  S.plot.xrange = r;
+  drawPlot();
+  autosave();
+}
+// Keys when the plot has the focus: ← → move the read-out line by line,
+// + and − zoom around it, Shift+← → (or Page Up / Page Down) pan, 0 or Home the full range.
+function plotKey(ev) {
+  const f = lastFrames[0];
+  if (!f || f.x_is === 'category') return;
+  const mid = (f.x_log ? 10 ** ((Math.log10(f.x_min) + Math.log10(f.x_max)) / 2) : (f.x_min + f.x_max) / 2);
+  const at = cursor && cursor.freq !== undefined && f.x_is === 'frequency' ? cursor.freq : mid;
+  const k = ev.key;
+  if ((k === 'ArrowLeft' || k === 'ArrowRight') && !ev.shiftKey) {
+    if (f.x_is !== 'frequency') return;
+    const dir = k === 'ArrowRight' ? 1 : -1;
+    const next = cursor ? plotCore().plot_step(cursor.freq, dir) : at;
+    if (next === undefined || next === null) { ev.preventDefault(); return; }
+    const x = pxOf(f, next);
+    if (x < f.x0 || x > f.x1) {
+      cursor = { freq: next };
+      setRange(panRange(f, (x - (x < f.x0 ? f.x0 : f.x1)) / (f.x1 - f.x0) + dir * 0.1));
+    } else readAt(next);
+  } else if (k === 'ArrowLeft' || k === 'ArrowRight' || k === 'PageUp' || k === 'PageDown') {
+    setRange(panRange(f, (k === 'ArrowRight' || k === 'PageDown' ? 1 : -1) * 0.25));
+  } else if (k === '+' || k === '=') {
+    setRange(zoomRange(f, at, 2));
+  } else if (k === '-' || k === '_') {
+    setRange(zoomRange(f, at, 0.5));
+  } else if (k === '0' || k === 'Home') {
+    setRange(null);
+  } else return;
+  ev.preventDefault();
+}
+let drag = null;
 function wirePlot() {
   const wrap = $('plot-wrap');
-  wrap.addEventListener('mousemove', async (ev) => {
+  wrap.addEventListener('mousemove', (ev) => {
     const hit = frameAt(ev);
     if (drag && hit) {
       const box = $('zoom-box');
@@ -272,25 +449,18 @@ function wirePlot() {
       box.hidden = drag.shift;
       Object.assign(box.style, { left: x0 + 'px', width: Math.abs(ev.clientX - drag.clientX) + 'px', top: (hit.f.y0 / hit.scale) + 'px', height: ((lastFrames[lastFrames.length - 1].y1 - hit.f.y0) / hit.scale) + 'px' });
     }
-    if (!hit || hit.f.x_is !== 'frequency' || probing) return;
-    probing = true;
+    if (!hit) return;
     try {
-      const p = await Bridge.callJson('probe', [JSON.stringify(lastSpec), hit.v], 'reading values');
-      const lines = p.map((q) => `${q.label}\n   f = ${fmt(q.freq)} Hz   |H| = ${fmt(q.magnitude)} ${q.unit}   L = ${fmt(q.level_db, 4)} ${q.db_label}   φ = ${fmt(q.phase_deg, 4)}°   re ${fmt(q.re)}  im ${fmt(q.im)}`);
-      $('readout').textContent = lines.join('\n');
-      if (p.length) {
-        const cl = $('cursor-line');
-        const top = lastFrames[0].y0 / hit.scale, bottom = lastFrames[lastFrames.length - 1].y1 / hit.scale;
-        Object.assign(cl.style, { left: (pxOf(hit.f, p[0].freq) / hit.scale) + 'px', top: top + 'px', height: (bottom - top) + 'px' });
-        cl.hidden = false;
-      }
-    } catch (_) { /* readout is best effort while plots change */ } finally { probing = false; }
+      if (hit.f.x_is === 'frequency') readAt(hit.v);
+      else if (hit.f.x_is === 'real') readNearest(hit.x, hit.y);
+    } catch (_) { /* the read-out is best effort while plots change */ }
   });
-  wrap.addEventListener('mouseleave', () => { $('cursor-line').hidden = true; });
+  wrap.addEventListener('mouseleave', () => { $('cursor-line').hidden = true; $('cursor-dot').hidden = true; });
   wrap.addEventListener('mousedown', (ev) => {
     const hit = frameAt(ev);
     if (!hit || hit.f.x_is === 'category') return;
     ev.preventDefault();
+    $('plot-canvas').focus({ preventScroll: true });
     drag = { clientX: ev.clientX, v: hit.v, f: hit.f, shift: ev.shiftKey };
   });
   window.addEventListener('mouseup', (ev) => {
@@ -300,19 +470,11 @@ function wirePlot() {
     const hit = frameAt(ev);
     if (!hit || Math.abs(ev.clientX - d.clientX) < 4) return;
     const f = d.f;
-    if (d.shift) {
-      // pan: move the range by the drag distance, in the axis's own scale
-      const dt = (d.clientX - ev.clientX) * hit.scale / (f.x1 - f.x0);
-      S.plot.xrange = f.x_log
-        ? [f.x_min * (f.x_max / f.x_min) ** dt, f.x_max * (f.x_max / f.x_min) ** dt]
-        : [f.x_min + dt * (f.x_max - f.x_min), f.x_max + dt * (f.x_max - f.x_min)];
-    } else {
-      S.plot.xrange = [Math.min(d.v, hit.v), Math.max(d.v, hit.v)];
-    }
-    drawPlot();
-    autosave();
+    // pan: move the range by the drag distance; zoom: the dragged band
+    setRange(d.shift ? panRange(f, (d.clientX - ev.clientX) * hit.scale / (f.x1 - f.x0)) : [Math.min(d.v, hit.v), Math.max(d.v, hit.v)]);
   });
-  wrap.addEventListener('dblclick', () => { S.plot.xrange = null; drawPlot(); autosave(); });
+  wrap.addEventListener('dblclick', () => setRange(null));
+  $('plot-canvas').addEventListener('keydown', plotKey);
 }
 // ---------- exports ----------
 // Why an export must not be written now (stale results), or null.
@@ -337,10 +499,12 @@ async function exportAs(kind) {
     }
     exportNote();
     if (kind === 'svg' || kind === 'png') {
-      if (!lastSvg) throw new Error('draw a plot first');
-      if (kind === 'svg') return download(lastSvg, 'mortise-plot.svg', 'image/svg+xml');
+      if (!lastSpec || $('plot-canvas').hidden) throw new Error('draw a plot first');
+      // the core's SVG of exactly what the canvas shows: same data, view and size
+      const svg = plotCore().plot_export_svg(viewOf(lastSpec), lastSpec.width, lastSpec.height);
+      if (kind === 'svg') return download(svg, 'mortise-plot.svg', 'image/svg+xml');
       const img = new Image();
-      img.src = URL.createObjectURL(new Blob([lastSvg], { type: 'image/svg+xml' }));
+      img.src = URL.createObjectURL(new Blob([svg], { type: 'image/svg+xml' }));
       await img.decode();
       const c = document.createElement('canvas');
       c.width = lastSpec.width * 2; c.height = lastSpec.height * 2;

@@ -15,7 +15,7 @@ const S = {
   compareChoice: [], // run numbers ticked for a comparison
 };
 let restoring = false;
-let lastSvg = null, lastFrames = [], lastSpec = null;
+let lastFrames = [], lastSpec = null;
 
 const DB = 'mortise-workspace', STORE = 'kv';
 function db() {

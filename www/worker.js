@@ -31,11 +31,13 @@ self.onmessage = (ev) => {
   try {
     const out = f(...(m.args || []));
     const ms = performance.now() - t0;
-    if (out instanceof Uint8Array) {
-      self.postMessage({ id: m.id, ok: out, ms }, [out.buffer]);
-    } else {
-      self.postMessage({ id: m.id, ok: out, ms });
+    // bytes and plot arrays are transferred (moved), not copied
+    const transfer = [];
+    if (out instanceof Uint8Array) transfer.push(out.buffer);
+    else if (out && typeof out === 'object') {
+      for (const k of ['grids', 'arrays']) for (const a of (Array.isArray(out[k]) ? out[k] : [])) if (ArrayBuffer.isView(a)) transfer.push(a.buffer);
     }
+    self.postMessage({ id: m.id, ok: out, ms }, transfer);
   } catch (e) {
     // The core throws its Error as JSON text; anything else (a trap) becomes one.
     const text = typeof e === 'string' ? e : JSON.stringify({ kind: 'numeric', message: 'the core stopped: ' + String(e && e.message || e) });

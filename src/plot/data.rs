@@ -39,6 +39,24 @@ pub(super) struct Curve {
     pub(super) unit: String,
     /// A line spectrum with empty lines (harmonics): drawn as stems.
     pub(super) stems: bool,
+    /// The phase drawn (degrees, ±180°; NaN at an empty line of a line
+    /// spectrum, which has none), taken once, not at every redraw.
+    pub(super) phase: Vec<f64>,
+}
+
+/// The phase a curve draws: [`wrap_phase`] of each value, NaN at the empty
+/// lines of a line spectrum.
+pub(super) fn drawn_phase(values: &[Complex64], stems: bool) -> Vec<f64> {
+    values
+        .iter()
+        .map(|v| {
+            if stems && v.norm() == 0.0 {
+                f64::NAN
+            } else {
+                wrap_phase(*v)
+            }
+        })
+        .collect()
 }
 
 fn ratio_unit(set: &FrfSet, i: usize, j: usize) -> String {
@@ -103,15 +121,17 @@ fn difference(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Cu
             .field("baseline"));
         }
         let level = a.level.iter().zip(&b.level).map(|(x, y)| x - y).collect();
-        let values = a.values.iter().zip(&b.values).map(|(x, y)| x / y).collect();
+        let values: Vec<Complex64> = a.values.iter().zip(&b.values).map(|(x, y)| x / y).collect();
+        let stems = a.stems || b.stems;
         out.push(Curve {
             label: format!("{} − {}", a.label, b.label),
             freqs: a.freqs,
+            phase: drawn_phase(&values, stems),
             values,
             level,
             db_label: "dB, change against the baseline".to_string(),
             unit: "ratio".to_string(),
-            stems: a.stems || b.stems,
+            stems,
         });
     }
     Ok(out)
@@ -176,6 +196,7 @@ pub(super) fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Resul
             stems,
             label,
             freqs: set.freqs.clone(),
+            phase: drawn_phase(&values, stems),
             values,
             level,
             db_label,

@@ -5,7 +5,9 @@
 //!
 //! Not here: where things go (`layout.rs`), which plot (`render.rs`).
 
-use super::layout::{tick_text, visible, Panel};
+use super::envelope::pixel_polylines;
+use super::layout::{tick_text, x_pixels, Panel};
+use super::spec::LegendEntry;
 use crate::error::{Error, Result};
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -93,7 +95,8 @@ fn stroke<DB: DrawingBackend>(
                     .map_err(derr)?;
                 seg.clear();
             } else {
-                seg = vec![m];
+                seg.clear();
+                seg.push(m);
             }
             drawing = !drawing;
             len -= left;
@@ -197,18 +200,75 @@ pub(super) fn axes<DB: DrawingBackend>(
     Ok(())
 }
 
-pub(super) fn legend<DB: DrawingBackend>(b: &mut DB, p: &Panel, labels: &[String]) -> Result<()> {
+/// The most entries a legend names inside a panel; with more, the panel
+/// says how many curves it draws and the entries are returned for a list
+/// beside the plot (150 names would hide the data).
+pub const LEGEND_INSIDE_MAX: usize = 8;
+
+pub(super) fn legend<DB: DrawingBackend>(
+    b: &mut DB,
+    p: &Panel,
+    labels: &[String],
+) -> Result<Vec<LegendEntry>> {
     legend_with(b, p, labels, false)
 }
 
+/// Draw a legend of line samples (or bar patches) in the panel's top right
+/// corner, or with more than [`LEGEND_INSIDE_MAX`] entries a note of their
+/// count; returns the entries with their colours and dashes.
 pub(super) fn legend_with<DB: DrawingBackend>(
     b: &mut DB,
     p: &Panel,
     labels: &[String],
     patches: bool,
-) -> Result<()> {
+) -> Result<Vec<LegendEntry>> {
+    let entries: Vec<LegendEntry> = labels
+        .iter()
+        .enumerate()
+        .map(|(i, l)| {
+            let c = colour(i);
+            LegendEntry {
+                label: l.clone(),
+                colour: format!("#{:02x}{:02x}{:02x}", c.0, c.1, c.2),
+                dash: if patches {
+                    [0, 0]
+                } else {
+                    [dash(i).0, dash(i).1]
+                },
+                hatched: patches && i % 2 == 1,
+                inside: labels.len() <= LEGEND_INSIDE_MAX,
+            }
+        })
+        .collect();
     if labels.is_empty() {
-        return Ok(());
+        return Ok(entries);
+    }
+    if labels.len() > LEGEND_INSIDE_MAX {
+        let note = format!(
+            "{} {}: too many to name here",
+            labels.len(),
+            if patches { "groups" } else { "curves" }
+        );
+        let w = note.chars().count() as i32 * 7 + 16;
+        let (x0, y0) = (p.x1 - w - 8, p.y0 + 8);
+        b.draw_rect(
+            (x0, y0),
+            (x0 + w, y0 + 22),
+            &RGBColor(0xfb, 0xfc, 0xfc),
+            true,
+        )
+        .map_err(derr)?;
+        b.draw_rect((x0, y0), (x0 + w, y0 + 22), &GRID, false)
+            .map_err(derr)?;
+        text(
+            b,
+            &note,
+            (x0 + 8, y0 + 11),
+            12.0,
+            Pos::new(HPos::Left, VPos::Center),
+            false,
+        )?;
+        return Ok(entries);
     }
     let shown: Vec<String> = labels
         .iter()
@@ -261,7 +321,7 @@ pub(super) fn legend_with<DB: DrawingBackend>(
             false,
         )?;
     }
-    Ok(())
+    Ok(entries)
 }
 
 pub(super) fn draw_curves<DB: DrawingBackend>(
@@ -281,6 +341,8 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
     stems: &[bool],
     stem_lines: bool,
 ) -> Result<()> {
+    // pixel x of the last grid seen: curves on one grid map it once
+    let mut grid: (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
     for (i, pts) in curves.iter().enumerate() {
         if stems.get(i).copied().unwrap_or(false) {
             let c = colour(i);
@@ -298,7 +360,16 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
             }
             continue;
         }
-        for line in visible(p, pts) {
+        let same = grid.0.len() == pts.len()
+            && grid
+                .0
+                .iter()
+                .zip(pts.iter())
+                .all(|(a, b)| a.to_bits() == b.0.to_bits());
+        if !same {
+            grid = (pts.iter().map(|q| q.0).collect(), x_pixels(p, pts));
+        }
+        for line in pixel_polylines(p, pts, Some(&grid.1)) {
             stroke(b, &line, colour(i), dash(i))?;
         }
     }

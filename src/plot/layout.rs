@@ -17,13 +17,44 @@ pub(super) struct Axis {
     pub(super) log: bool,
 }
 
-impl Axis {
-    fn t(&self, v: f64) -> f64 {
+/// An axis's map of values to 0..1 with its ends' logarithms taken once
+/// (a redraw maps hundreds of thousands of points).
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Scale {
+    log: bool,
+    a: f64,
+    d: f64,
+}
+
+impl Scale {
+    pub(super) fn t(&self, v: f64) -> f64 {
         if self.log {
-            (v.log10() - self.min.log10()) / (self.max.log10() - self.min.log10())
+            (v.log10() - self.a) / self.d
         } else {
-            (v - self.min) / (self.max - self.min)
+            (v - self.a) / self.d
         }
+    }
+}
+
+impl Axis {
+    pub(super) fn scale(&self) -> Scale {
+        if self.log {
+            let a = self.min.log10();
+            Scale {
+                log: true,
+                a,
+                d: self.max.log10() - a,
+            }
+        } else {
+            Scale {
+                log: false,
+                a: self.min,
+                d: self.max - self.min,
+            }
+        }
+    }
+    fn t(&self, v: f64) -> f64 {
+        self.scale().t(v)
     }
     pub(super) fn ticks(&self) -> (Vec<f64>, Vec<f64>) {
         if self.log {
@@ -177,29 +208,76 @@ fn clip(p: (f64, f64), q: (f64, f64), r: (f64, f64, f64, f64)) -> Option<((f64, 
 }
 
 /// Polylines of the visible part of a curve, in pixels.
+#[cfg(test)]
 pub(super) fn visible(panel: &Panel, pts: &[(f64, f64)]) -> Vec<Vec<(f64, f64)>> {
+    visible_with(panel, pts, None)
+}
+
+/// Pixel x of each point's x value (NaN where it has none on this axis):
+/// curves on one grid share it (`visible_with`), a logarithm less per point.
+pub(super) fn x_pixels(panel: &Panel, pts: &[(f64, f64)]) -> Vec<f64> {
+    let sx = panel.x.scale();
+    let w = (panel.x1 - panel.x0) as f64;
+    pts.iter()
+        .map(|&(x, _)| {
+            if x.is_finite() && (!panel.x.log || x > 0.0) {
+                panel.x0 as f64 + sx.t(x) * w
+            } else {
+                f64::NAN
+            }
+        })
+        .collect()
+}
+
+/// [`visible`], with the points' pixel x given (`x_pixels` of the same
+/// x values) or computed.
+pub(super) fn visible_with(
+    panel: &Panel,
+    pts: &[(f64, f64)],
+    xpx: Option<&[f64]>,
+) -> Vec<Vec<(f64, f64)>> {
     let r = (
         panel.x0 as f64,
         panel.y0 as f64,
         panel.x1 as f64,
         panel.y1 as f64,
     );
-    let ok = |(x, y): (f64, f64)| {
-        x.is_finite() && y.is_finite() && (!panel.x.log || x > 0.0) && (!panel.y.log || y > 0.0)
+    let (sx, sy) = (panel.x.scale(), panel.y.scale());
+    let (w, h) = ((panel.x1 - panel.x0) as f64, (panel.y1 - panel.y0) as f64);
+    // each point mapped once (the same arithmetic as Panel::px)
+    let map = |i: usize| {
+        let (x, y) = pts[i];
+        let ok = x.is_finite()
+            && y.is_finite()
+            && (!panel.x.log || x > 0.0)
+            && (!panel.y.log || y > 0.0);
+        let px = match xpx {
+            Some(v) => v.get(i).copied().unwrap_or(f64::NAN),
+            None => r.0 + sx.t(x) * w,
+        };
+        (ok && px.is_finite()).then(|| (px, r.3 - sy.t(y) * h))
     };
+    let inside = |p: (f64, f64)| p.0 >= r.0 && p.0 <= r.2 && p.1 >= r.1 && p.1 <= r.3;
     let mut lines: Vec<Vec<(f64, f64)>> = Vec::new();
     let mut cur: Vec<(f64, f64)> = Vec::new();
-    for w in pts.windows(2) {
-        if !ok(w[0]) || !ok(w[1]) {
+    let mut prev = if pts.is_empty() { None } else { map(0) };
+    for i in 1..pts.len() {
+        let next = map(i);
+        let (Some(a), Some(b)) = (prev, next) else {
             if cur.len() > 1 {
                 lines.push(std::mem::take(&mut cur));
             }
             cur.clear();
+            prev = next;
             continue;
-        }
-        let a = panel.px(w[0].0, w[0].1);
-        let b = panel.px(w[1].0, w[1].1);
-        match clip(a, b, r) {
+        };
+        prev = next;
+        let seg = if inside(a) && inside(b) {
+            Some((a, b))
+        } else {
+            clip(a, b, r)
+        };
+        match seg {
             Some((c, d)) => {
                 let joined = cur
                     .last()
@@ -254,7 +332,7 @@ pub(super) fn pad(lo: f64, hi: f64, log: bool) -> (f64, f64) {
     (lo - d, hi + d)
 }
 
-pub(super) fn x_axis(spec: &PlotSpec, curves: &[Curve]) -> Result<Axis> {
+pub(super) fn x_axis(spec: &PlotSpec, curves: &[&Curve]) -> Result<Axis> {
     let log = spec.x_log;
     let (lo, hi) = match spec.x_range {
         Some([a, b]) if a < b && (!log || a > 0.0) => (a, b),

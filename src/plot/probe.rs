@@ -1,9 +1,12 @@
-//! The cursor readout: [`probe`] gives each curve's values at the line
-//! nearest a frequency (the page maps the pointer to a frequency with the
-//! [`Frame`](super::Frame)s a drawing returns).
+//! The cursor readout: [`probe`] (from the sets) and [`probe_data`] (from
+//! resolved data) give each curve's values at the line nearest a frequency
+//! (the page maps the pointer to a frequency with the [`Frame`]s a drawing
+//! returns); [`step_line`] the next line either way (keyboard);
+//! [`nearest_point`] the Nyquist read-out, the point nearest the pointer.
 
-use super::data::{curves, wrap_phase};
-use super::spec::PlotSpec;
+use super::data::{curves, wrap_phase, Curve};
+use super::resolved::PlotData;
+use super::spec::{Frame, PlotSpec};
 use crate::error::Result;
 use crate::frf::FrfSet;
 use std::collections::BTreeMap;
@@ -25,35 +28,114 @@ pub struct Probe {
 
 /// Cursor readout: values at the grid line nearest `freq` for each curve.
 pub fn probe(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>, freq: f64) -> Result<Vec<Probe>> {
-    let curves = curves(spec, sets)?;
-    let mut out = Vec::new();
-    for c in curves {
-        if c.freqs.is_empty() {
-            continue;
-        }
-        // Nearest line: the first line at or above freq, or the one before it.
-        let k = c.freqs.partition_point(|f| *f < freq);
-        let k = if k == c.freqs.len()
-            || (k > 0 && (freq - c.freqs[k - 1]).abs() <= (c.freqs[k] - freq).abs())
-        {
-            k.saturating_sub(1).min(c.freqs.len() - 1)
-        } else {
-            k
-        };
-        let v = c.values[k];
-        out.push(Probe {
-            label: c.label.clone(),
-            freq: c.freqs[k],
-            re: v.re,
-            im: v.im,
-            magnitude: v.norm(),
-            unit: c.unit.clone(),
-            level_db: c.level[k],
-            db_label: c.db_label.clone(),
-            phase_deg: wrap_phase(v),
-        });
+    Ok(probe_curves(&curves(spec, sets)?, freq))
+}
+
+/// The read-out of resolved data (the page's drawing instance): each
+/// curve's values at the line nearest `freq`, so a tonal spectrum reads the
+/// line's value, never a zero between lines.
+pub fn probe_data(data: &PlotData, freq: f64) -> Vec<Probe> {
+    probe_curves(&data.curves, freq)
+}
+
+fn nearest_line(freqs: &[f64], freq: f64) -> usize {
+    // the first line at or above freq, or the one before it when nearer
+    let k = freqs.partition_point(|f| *f < freq);
+    if k == freqs.len() || (k > 0 && (freq - freqs[k - 1]).abs() <= (freqs[k] - freq).abs()) {
+        k.saturating_sub(1).min(freqs.len() - 1)
+    } else {
+        k
     }
-    Ok(out)
+}
+
+fn reading(c: &Curve, k: usize) -> Probe {
+    let v = c.values[k];
+    Probe {
+        label: c.label.clone(),
+        freq: c.freqs[k],
+        re: v.re,
+        im: v.im,
+        magnitude: v.norm(),
+        unit: c.unit.clone(),
+        level_db: c.level[k],
+        db_label: c.db_label.clone(),
+        phase_deg: wrap_phase(v),
+    }
+}
+
+fn probe_curves(curves: &[Curve], freq: f64) -> Vec<Probe> {
+    curves
+        .iter()
+        .filter(|c| !c.freqs.is_empty())
+        .map(|c| reading(c, nearest_line(&c.freqs, freq)))
+        .collect()
+}
+
+/// The line next to `freq` (the nearest line above when `dir > 0`, below
+/// when `dir < 0`) over all curves' grids: the keyboard moves the read-out
+/// line by line. None when there is none that way.
+pub fn step_line(data: &PlotData, freq: f64, dir: i32) -> Option<f64> {
+    let mut best: Option<f64> = None;
+    for c in &data.curves {
+        let f = &c.freqs;
+        let cand = if dir > 0 {
+            let k = f.partition_point(|x| *x <= freq);
+            f.get(k).copied()
+        } else {
+            let k = f.partition_point(|x| *x < freq);
+            k.checked_sub(1).map(|k| f[k])
+        };
+        if let Some(x) = cand.filter(|x| x.is_finite()) {
+            best = Some(match best {
+                None => x,
+                Some(b) if dir > 0 => b.min(x),
+                Some(b) => b.max(x),
+            });
+        }
+    }
+    best
+}
+
+/// Pixel position of axis values in a frame (log or linear axes).
+pub fn frame_px(f: &Frame, x: f64, y: f64) -> (f64, f64) {
+    let t = |v: f64, lo: f64, hi: f64, log: bool| {
+        if log {
+            (v.log10() - lo.log10()) / (hi.log10() - lo.log10())
+        } else {
+            (v - lo) / (hi - lo)
+        }
+    };
+    (
+        f.x0 as f64 + t(x, f.x_min, f.x_max, f.x_log) * (f.x1 - f.x0) as f64,
+        f.y1 as f64 - t(y, f.y_min, f.y_max, f.y_log) * (f.y1 - f.y0) as f64,
+    )
+}
+
+/// The Nyquist read-out: of every curve's points inside the frame, the one
+/// nearest the pointer at pixel (`x`, `y`), with its frequency and values,
+/// and its own pixel position. None when no point is inside the frame.
+pub fn nearest_point(data: &PlotData, frame: &Frame, x: f64, y: f64) -> Option<(Probe, f64, f64)> {
+    let mut best: Option<(f64, usize, usize, f64, f64)> = None;
+    for (i, c) in data.curves.iter().enumerate() {
+        for (k, v) in c.values.iter().enumerate() {
+            if !(v.re.is_finite() && v.im.is_finite()) {
+                continue;
+            }
+            let (px, py) = frame_px(frame, v.re, v.im);
+            let inside = px >= frame.x0 as f64
+                && px <= frame.x1 as f64
+                && py >= frame.y0 as f64
+                && py <= frame.y1 as f64;
+            if !inside {
+                continue;
+            }
+            let d = (px - x).powi(2) + (py - y).powi(2);
+            if best.map_or(true, |b| d < b.0) {
+                best = Some((d, i, k, px, py));
+            }
+        }
+    }
+    best.map(|(_, i, k, px, py)| (reading(&data.curves[i], k), px, py))
 }
 
 #[cfg(test)]

@@ -5,10 +5,11 @@
 //! Not here: the primitives (`draw.rs`), ranges and ticks (`layout.rs`),
 //! the data (`data.rs`).
 
-use super::data::{bars_from_set, curves, lines_with_x, wrap_phase, Curve};
+use super::data::Curve;
 use super::draw::{axes, colour, derr, draw_curves, draw_curves_stems, legend, legend_with, text};
 use super::layout::{finite_range, in_x, pad, x_axis, y_axis, Axis, Panel};
-use super::spec::{Frame, PlotKind, PlotSpec};
+use super::resolved::{PlotData, View};
+use super::spec::{Frame, LegendEntry, PlotKind, PlotSpec};
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use plotters::prelude::*;
@@ -21,14 +22,31 @@ pub fn draw<DB: DrawingBackend>(
     spec: &PlotSpec,
     sets: &BTreeMap<String, FrfSet>,
 ) -> Result<Vec<Frame>> {
+    let data = PlotData::resolve(spec, sets)?;
+    Ok(draw_data(b, &data, &View::of(spec))?.frames)
+}
+
+/// What a drawing returns: each panel's frame, and the legend's entries in
+/// the order and styles drawn (the page lists them beside the plot when
+/// there are too many to name inside it).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Drawn {
+    pub frames: Vec<Frame>,
+    pub legend: Vec<LegendEntry>,
+}
+
+/// Draw resolved data with a view (switches and zoom) on a backend: the
+/// one drawing behind the page's canvas and every SVG.
+pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -> Result<Drawn> {
     let (w, h) = b.get_size();
     let (w, h) = (w as i32, h as i32);
     b.draw_rect((0, 0), (w, h), &WHITE, true).map_err(derr)?;
-    let resolved = match spec.kind {
-        PlotKind::Lines => lines_with_x(spec, sets)?,
-        PlotKind::Bars => bars_from_set(spec, sets)?,
-        _ => spec.clone(),
-    };
+    let mut resolved = data.spec.clone();
+    resolved.db = view.db;
+    resolved.x_log = view.x_log;
+    resolved.y_log = view.y_log;
+    resolved.x_range = view.x_range;
+    resolved.y_range = view.y_range;
     let spec = &resolved;
     let top = if spec.title.is_empty() { 14 } else { 34 };
     if !spec.title.is_empty() {
@@ -42,11 +60,12 @@ pub fn draw<DB: DrawingBackend>(
         )?;
     }
     let (left, right, bottom) = (84, w - 18, h - 52);
+    let mut legend = Vec::new();
+    let curves: Vec<&Curve> = data.curves.iter().collect();
     let frames = match spec.kind {
-        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom))?,
-        PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom))?,
+        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom), &mut legend)?,
+        PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom), &mut legend)?,
         PlotKind::Difference => {
-            let curves = curves(spec, sets)?;
             if curves.is_empty() {
                 return Err(Error::missing("nothing to plot: no curve chosen"));
             }
@@ -59,18 +78,25 @@ pub fn draw<DB: DrawingBackend>(
                 PlotKind::Magnitude,
                 &curves,
                 (left, top, right, bottom),
+                &mut legend,
             )?
         }
         kind => {
-            let curves = curves(spec, sets)?;
             if curves.is_empty() {
                 return Err(Error::missing("nothing to plot: no curve chosen"));
             }
-            draw_frf(b, spec, kind, &curves, (left, top, right, bottom))?
+            draw_frf(
+                b,
+                spec,
+                kind,
+                &curves,
+                (left, top, right, bottom),
+                &mut legend,
+            )?
         }
     };
     b.present().map_err(derr)?;
-    Ok(frames)
+    Ok(Drawn { frames, legend })
 }
 
 /// The most stacked groups one plot draws: curves of more quantities than
@@ -85,8 +111,9 @@ fn draw_frf<DB: DrawingBackend>(
     b: &mut DB,
     spec: &PlotSpec,
     kind: PlotKind,
-    curves: &[Curve],
+    curves: &[&Curve],
     (left, top, right, bottom): (i32, i32, i32, i32),
+    legend_out: &mut Vec<LegendEntry>,
 ) -> Result<Vec<Frame>> {
     let levels = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
     let key = |c: &Curve| {
@@ -96,12 +123,12 @@ fn draw_frf<DB: DrawingBackend>(
             c.unit.clone()
         }
     };
-    let mut groups: Vec<(String, Vec<Curve>)> = Vec::new();
-    for c in curves {
+    let mut groups: Vec<(String, Vec<&Curve>)> = Vec::new();
+    for c in curves.iter().copied() {
         let k = key(c);
         match groups.iter_mut().find(|(g, _)| *g == k) {
-            Some((_, v)) => v.push(c.clone()),
-            None => groups.push((k, vec![c.clone()])),
+            Some((_, v)) => v.push(c),
+            None => groups.push((k, vec![c])),
         }
     }
     if groups.len() > 1 {
@@ -132,7 +159,14 @@ fn draw_frf<DB: DrawingBackend>(
                 // a zoom of the y axis belongs to the first panel's unit
                 s.y_range = None;
             }
-            frames.extend(draw_frf(b, &s, kind, g, (left, t, right, t + h))?);
+            frames.extend(draw_frf(
+                b,
+                &s,
+                kind,
+                g,
+                (left, t, right, t + h),
+                legend_out,
+            )?);
         }
         return Ok(frames);
     }
@@ -212,7 +246,7 @@ fn draw_frf<DB: DrawingBackend>(
                 true,
             )?;
             draw_curves(b, &p, &pts)?;
-            legend(b, &p, &labels)?;
+            legend_out.extend(legend(b, &p, &labels)?);
             Ok(vec![p.frame("real")])
         }
         PlotKind::Bode | PlotKind::Magnitude | PlotKind::ReIm => {
@@ -302,19 +336,10 @@ fn draw_frf<DB: DrawingBackend>(
                         )
                     } else {
                         (
+                            // (an empty line of a line spectrum has no phase: NaN)
                             curves
                                 .iter()
-                                .map(|c| {
-                                    // An empty line of a line spectrum has no phase.
-                                    let ph = c.values.iter().map(|v| {
-                                        if c.stems && v.norm() == 0.0 {
-                                            f64::NAN
-                                        } else {
-                                            wrap_phase(*v)
-                                        }
-                                    });
-                                    fx(c, ph.collect())
-                                })
+                                .map(|c| fx(c, c.phase.clone()))
                                 .collect::<Vec<_>>(),
                             Axis {
                                 min: -180.0,
@@ -354,7 +379,7 @@ fn draw_frf<DB: DrawingBackend>(
                 draw_curves_stems(b, &p2, &pts, &stems, false)?;
                 frames.push(p2.frame("frequency"));
             }
-            legend(b, &p1, &labels)?;
+            legend_out.extend(legend(b, &p1, &labels)?);
             Ok(frames)
         }
         PlotKind::Lines | PlotKind::Bars | PlotKind::Difference => {
@@ -367,6 +392,7 @@ fn draw_lines<DB: DrawingBackend>(
     b: &mut DB,
     spec: &PlotSpec,
     (left, top, right, bottom): (i32, i32, i32, i32),
+    legend_out: &mut Vec<LegendEntry>,
 ) -> Result<Vec<Frame>> {
     if spec.lines.is_empty() {
         return Err(Error::missing("nothing to plot: no lines given"));
@@ -427,7 +453,7 @@ fn draw_lines<DB: DrawingBackend>(
         .map(|l| l.x.iter().copied().zip(l.y.iter().copied()).collect())
         .collect();
     draw_curves(b, &p, &pts)?;
-    legend(
+    *legend_out = legend(
         b,
         &p,
         &spec
@@ -443,6 +469,7 @@ fn draw_bars<DB: DrawingBackend>(
     b: &mut DB,
     spec: &PlotSpec,
     (left, top, right, bottom): (i32, i32, i32, i32),
+    legend_out: &mut Vec<LegendEntry>,
 ) -> Result<Vec<Frame>> {
     let n = spec.categories.len();
     if n == 0 || spec.groups.is_empty() {
@@ -533,8 +560,19 @@ fn draw_bars<DB: DrawingBackend>(
         )?;
     }
     let labels: Vec<String> = spec.groups.iter().map(|g| g.label.clone()).collect();
-    legend_with(b, &p, &labels, true)?;
+    *legend_out = legend_with(b, &p, &labels, true)?;
     Ok(vec![p.frame("category")])
+}
+
+/// The plot sizes drawn (px): from 200×150 to 8000×8000.
+pub fn check_size(width: u32, height: u32) -> Result<()> {
+    if width < 200 || height < 150 || width > 8000 || height > 8000 {
+        return Err(Error::usage(format!(
+            "plot size {width}×{height} px is outside 200×150 to 8000×8000"
+        ))
+        .field("width/height"));
+    }
+    Ok(())
 }
 
 /// Render `spec` to SVG text.
@@ -542,19 +580,27 @@ pub fn render_svg(
     spec: &PlotSpec,
     sets: &BTreeMap<String, FrfSet>,
 ) -> Result<(String, Vec<Frame>)> {
-    if spec.width < 200 || spec.height < 150 || spec.width > 8000 || spec.height > 8000 {
-        return Err(Error::usage(format!(
-            "plot size {}×{} px is outside 200×150 to 8000×8000",
-            spec.width, spec.height
-        ))
-        .field("width/height"));
-    }
+    check_size(spec.width, spec.height)?;
+    let data = PlotData::resolve(spec, sets)?;
+    let (svg, drawn) = render_data_svg(&data, &View::of(spec), spec.width, spec.height)?;
+    Ok((svg, drawn.frames))
+}
+
+/// Render resolved data with a view to SVG text of `width` × `height` px:
+/// the page's SVG export of what its canvas shows.
+pub fn render_data_svg(
+    data: &PlotData,
+    view: &View,
+    width: u32,
+    height: u32,
+) -> Result<(String, Drawn)> {
+    check_size(width, height)?;
     let mut s = String::new();
-    let frames = {
-        let mut b = SVGBackend::with_string(&mut s, (spec.width, spec.height));
-        draw(&mut b, spec, sets)?
+    let drawn = {
+        let mut b = SVGBackend::with_string(&mut s, (width, height));
+        draw_data(&mut b, data, view)?
     };
-    Ok((s, frames))
+    Ok((s, drawn))
 }
 
 #[cfg(test)]

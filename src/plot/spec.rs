@@ -170,6 +170,13 @@ impl PlotSpec {
     pub fn from_json(text: &str) -> Result<PlotSpec> {
         let spec: PlotSpec = serde_json::from_str(text)
             .map_err(|e| Error::usage(format!("plot description: {e}")).field("plot"))?;
+        spec.checked()
+    }
+
+    /// The spec when its parts fit together (a baseline only with the
+    /// difference view), else the error naming the part.
+    pub fn checked(self) -> Result<PlotSpec> {
+        let spec = self;
         if spec.kind != PlotKind::Difference && !spec.baseline.is_empty() {
             return Err(Error::usage(
                 "a baseline is read by the difference view only; leave it out or choose that view",
@@ -195,6 +202,20 @@ pub struct Frame {
     pub y_log: bool,
     /// What the x axis is ("frequency" or "real part", "category").
     pub x_is: String,
+}
+
+/// One entry of a plot's legend as drawn: its label, colour (`#rrggbb`,
+/// from [`PALETTE`](super::PALETTE)), dash pattern (dash and gap in px, 0 for
+/// a solid line, from [`DASHES`](super::DASHES)) and, for bars, whether its
+/// patch is hatched.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct LegendEntry {
+    pub label: String,
+    pub colour: String,
+    pub dash: [u32; 2],
+    pub hatched: bool,
+    /// Named inside the plot (false: too many; the page lists them).
+    pub inside: bool,
 }
 
 #[cfg(test)]

@@ -91,3 +91,38 @@ export function complexRows(text) {
 export function dataValues(text) {
   return text.split('\n').filter((l) => /^\d/.test(l)).flatMap((l) => l.split(',').slice(1).filter((c) => c !== '').map(Number));
 }
+
+// Many curves for the plot's load tests: one output and `n` inputs of one
+// set, `lines` lines from 1 Hz up in 1 Hz steps; entry j is the receptance
+// of a single-DOF oscillator (m = 1 kg, k = (2π f_j)² with its resonance f_j
+// spread over the band, 2 % viscous damping). Made up for these tests only.
+export function manyCurvesCsv(n = 150, lines = 1000) {
+  const ins = Array.from({ length: n }, (_, j) => `bench:${j + 1}+Z`);
+  const head = ['# mortise-frf 1', '# name: bench', '# out-quantity: displacement', '# in-quantity: force', '# units: SI',
+    '# output: bench:0+Z', ...ins.map((i) => `# input: ${i}`),
+    ['freq_Hz', ...ins.flatMap((i) => [`"re bench:0+Z/${i}"`, `"im bench:0+Z/${i}"`])].join(',')];
+  const rows = [];
+  for (let l = 0; l < lines; l++) {
+    const f = 1 + l, w = 2 * Math.PI * f;
+    const row = [f];
+    for (let j = 0; j < n; j++) {
+      const wn = 2 * Math.PI * (5 + (lines - 10) * (j + 0.5) / n);
+      const re = wn * wn - w * w, im = 2 * 0.02 * wn * w;
+      const d = re * re + im * im;
+      row.push((re / d).toPrecision(7), (-im / d).toPrecision(7));
+    }
+    rows.push(row.join(','));
+  }
+  return head.join('\n') + '\n' + rows.join('\n') + '\n';
+}
+
+// One curve of `lines` lines (1 Hz, then 0.1 Hz steps) at 1e-6 m/N
+// (−120 dB re 1 m/N) with a single line at 1e-4 m/N (−80 dB) at index
+// `peak`: the envelope test's needle.
+export function peakCsv(lines = 100000, peak = 61803) {
+  const head = ['# mortise-frf 1', '# name: needle', '# out-quantity: displacement', '# in-quantity: force', '# units: SI',
+    '# output: needle:1+Z', '# input: needle:1+Z', 'freq_Hz,"re needle:1+Z/needle:1+Z","im needle:1+Z/needle:1+Z"'];
+  const rows = new Array(lines);
+  for (let l = 0; l < lines; l++) rows[l] = `${(1 + l / 10).toFixed(1)},${l === peak ? '1e-4' : '1e-6'},0`;
+  return { text: head.join('\n') + '\n' + rows.join('\n') + '\n', freq: 1 + peak / 10 };
+}

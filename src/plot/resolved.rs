@@ -1,0 +1,413 @@
+//! A plot resolved from the sets ([`PlotData`]): everything a drawing needs
+//! and nothing more, so it can be drawn again (zoomed, panned, switched
+//! between dB and linear or log and linear frequency) without the sets. The
+//! page's worker resolves a [`PlotSpec`] against its workspace and sends the
+//! result to the page's main thread in parts ([`PlotMeta`] plus one array of
+//! numbers per grid and four per curve), where the same drawing code draws
+//! it on a canvas. [`View`] is what may change between such redraws.
+//!
+//! Not here: taking curves from sets (`data.rs`), drawing (`render.rs`).
+
+use super::data::{bars_from_set, curves, drawn_phase, lines_with_x, Curve};
+use super::spec::{PlotKind, PlotSpec};
+use crate::error::{Error, Result};
+use crate::frf::FrfSet;
+use num_complex::Complex64;
+use std::collections::BTreeMap;
+
+/// A plot resolved from the sets: the spec with its lines and bars filled
+/// in, and for the frequency kinds the curves (values, levels, units).
+#[derive(Debug, Clone)]
+pub struct PlotData {
+    pub(super) spec: PlotSpec,
+    pub(super) curves: Vec<Curve>,
+}
+
+/// What a redraw of [`PlotData`] may change: the switches and the zoom.
+/// The size comes from the backend.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct View {
+    #[serde(default = "yes")]
+    pub db: bool,
+    #[serde(default = "yes")]
+    pub x_log: bool,
+    #[serde(default)]
+    pub y_log: bool,
+    #[serde(default)]
+    pub x_range: Option<[f64; 2]>,
+    #[serde(default)]
+    pub y_range: Option<[f64; 2]>,
+}
+
+fn yes() -> bool {
+    true
+}
+
+impl View {
+    /// The view a spec asks for.
+    pub fn of(spec: &PlotSpec) -> View {
+        View {
+            db: spec.db,
+            x_log: spec.x_log,
+            y_log: spec.y_log,
+            x_range: spec.x_range,
+            y_range: spec.y_range,
+        }
+    }
+}
+
+/// One curve's description without its numbers.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CurveMeta {
+    pub label: String,
+    pub db_label: String,
+    pub unit: String,
+    pub stems: bool,
+    /// Index of its frequency grid among the grids sent.
+    pub grid: usize,
+}
+
+/// [`PlotData`] without its numbers: the resolved spec (without the report
+/// text a path ranking was resolved from) and each curve's description.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PlotMeta {
+    pub spec: PlotSpec,
+    pub curves: Vec<CurveMeta>,
+}
+
+/// [`PlotData`] in parts for crossing to another wasm instance: the
+/// description, the distinct frequency grids, and per curve its real parts,
+/// imaginary parts and levels (dB), in that order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlotParts {
+    pub meta: PlotMeta,
+    pub grids: Vec<Vec<f64>>,
+    pub arrays: Vec<Vec<f64>>,
+}
+
+impl PlotData {
+    /// Resolve `spec` against the sets: its curves (for the difference view
+    /// each series' level minus its baseline's), its lines with x from a set,
+    /// its bars.
+    pub fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<PlotData> {
+        let (spec, curves) = match spec.kind {
+            PlotKind::Lines => (lines_with_x(spec, sets)?, Vec::new()),
+            PlotKind::Bars => {
+                let mut s = bars_from_set(spec, sets)?;
+                s.path_ranking = None;
+                s.ranking = None;
+                (s, Vec::new())
+            }
+            _ => {
+                let c = curves(spec, sets)?;
+                if c.is_empty() {
+                    return Err(Error::missing("nothing to plot: no curve chosen"));
+                }
+                (spec.clone(), c)
+            }
+        };
+        Ok(PlotData { spec, curves })
+    }
+
+    pub fn kind(&self) -> PlotKind {
+        self.spec.kind
+    }
+
+    /// How many curves (frequency kinds), lines or bar groups it draws.
+    pub fn count(&self) -> usize {
+        match self.spec.kind {
+            PlotKind::Lines => self.spec.lines.len(),
+            PlotKind::Bars => self.spec.groups.len(),
+            _ => self.curves.len(),
+        }
+    }
+
+    /// The parts to send (grids shared between curves sent once).
+    pub fn to_parts(&self) -> PlotParts {
+        let mut grids: Vec<Vec<f64>> = Vec::new();
+        let mut metas = Vec::new();
+        let mut arrays = Vec::new();
+        for c in &self.curves {
+            let grid = match grids.iter().position(|g| *g == c.freqs) {
+                Some(k) => k,
+                None => {
+                    grids.push(c.freqs.clone());
+                    grids.len() - 1
+                }
+            };
+            metas.push(CurveMeta {
+                label: c.label.clone(),
+                db_label: c.db_label.clone(),
+                unit: c.unit.clone(),
+                stems: c.stems,
+                grid,
+            });
+            arrays.push(c.values.iter().map(|v| v.re).collect());
+            arrays.push(c.values.iter().map(|v| v.im).collect());
+            arrays.push(c.level.clone());
+        }
+        PlotParts {
+            meta: PlotMeta {
+                spec: self.spec.clone(),
+                curves: metas,
+            },
+            grids,
+            arrays,
+        }
+    }
+
+    /// Put the parts together again; parts that do not fit (a missing grid
+    /// or array, lengths that differ) are refused, naming the curve.
+    pub fn from_parts(parts: PlotParts) -> Result<PlotData> {
+        let PlotParts {
+            meta,
+            grids,
+            arrays,
+        } = parts;
+        if arrays.len() != 3 * meta.curves.len() {
+            return Err(Error::usage(format!(
+                "plot data: {} curves need {} arrays, {} came",
+                meta.curves.len(),
+                3 * meta.curves.len(),
+                arrays.len()
+            ))
+            .field("arrays"));
+        }
+        let mut curves = Vec::with_capacity(meta.curves.len());
+        let mut it = arrays.into_iter();
+        for m in meta.curves {
+            let (Some(re), Some(im), Some(level)) = (it.next(), it.next(), it.next()) else {
+                return Err(Error::internal("plot data: arrays counted but missing"));
+            };
+            let freqs = grids.get(m.grid).ok_or_else(|| {
+                Error::usage(format!(
+                    "plot data: curve '{}' names grid {} of {}",
+                    m.label,
+                    m.grid,
+                    grids.len()
+                ))
+                .field("grids")
+            })?;
+            let n = freqs.len();
+            if re.len() != n || im.len() != n || level.len() != n {
+                return Err(Error::usage(format!(
+                    "plot data: curve '{}' has {} lines but {}, {} and {} values",
+                    m.label,
+                    n,
+                    re.len(),
+                    im.len(),
+                    level.len()
+                ))
+                .field("arrays"));
+            }
+            let values: Vec<Complex64> = re
+                .iter()
+                .zip(&im)
+                .map(|(r, i)| Complex64::new(*r, *i))
+                .collect();
+            curves.push(Curve {
+                label: m.label,
+                freqs: freqs.clone(),
+                phase: drawn_phase(&values, m.stems),
+                values,
+                level,
+                db_label: m.db_label,
+                unit: m.unit,
+                stems: m.stems,
+            });
+        }
+        let kind = meta.spec.kind;
+        if !matches!(kind, PlotKind::Lines | PlotKind::Bars) && curves.is_empty() {
+            return Err(Error::missing("nothing to plot: no curve chosen"));
+        }
+        Ok(PlotData {
+            spec: meta.spec,
+            curves,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::fixtures::{sdof, spec};
+    use super::super::render::draw_data;
+    use super::super::render_svg;
+    use super::*;
+    use plotters::prelude::SVGBackend;
+
+    fn svg_of(data: &PlotData, view: &View) -> String {
+        let mut s = String::new();
+        {
+            let mut b = SVGBackend::with_string(&mut s, (960, 540));
+            draw_data(&mut b, data, view).unwrap();
+        }
+        s
+    }
+
+    #[test]
+    fn parts_round_trip_and_draw_the_same_svg() {
+        let mut sets = sdof();
+        let mut b = sets["a"].clone();
+        b.freqs.truncate(100);
+        b.data.truncate(100);
+        sets.insert("b".into(), b);
+        let mut s = spec("bode");
+        s.series.push(s.series[0].clone());
+        s.series.push(crate::plot::SeriesRef {
+            set: "b".into(),
+            out: 0,
+            inp: 0,
+            label: None,
+        });
+        let data = PlotData::resolve(&s, &sets).unwrap();
+        let parts = data.to_parts();
+        assert_eq!(
+            parts.grids.len(),
+            2,
+            "a grid shared by two curves is sent once"
+        );
+        assert_eq!(parts.arrays.len(), 9);
+        let back = PlotData::from_parts(parts.clone()).unwrap();
+        let view = View::of(&s);
+        assert_eq!(svg_of(&data, &view), svg_of(&back, &view));
+        // and the same as the one-step drawing from the sets
+        let (svg, _) = render_svg(&s, &sets).unwrap();
+        assert_eq!(svg, svg_of(&back, &view));
+        // parts that do not fit are refused, not drawn
+        let mut bad = parts.clone();
+        bad.arrays[4].pop();
+        let e = PlotData::from_parts(bad).unwrap_err();
+        assert!(e.message.contains("has 400 lines"), "{e}");
+        let mut bad = parts;
+        bad.meta.curves[0].grid = 7;
+        assert!(PlotData::from_parts(bad).is_err());
+    }
+
+    #[test]
+    fn a_view_is_all_a_redraw_changes() {
+        let s = spec("bode");
+        let data = PlotData::resolve(&s, &sdof()).unwrap();
+        let mut zoomed = s.clone();
+        zoomed.x_range = Some([10.0, 20.0]);
+        zoomed.db = false;
+        let (want, _) = render_svg(&zoomed, &sdof()).unwrap();
+        assert_eq!(svg_of(&data, &View::of(&zoomed)), want);
+        let v: std::result::Result<View, _> = serde_json::from_str(r#"{"zoom": 2}"#);
+        assert!(v.is_err(), "an unknown switch is refused");
+    }
+}
+#[cfg(test)]
+mod prof {
+    use super::*;
+    use crate::frf::{Direction, Dof, FrfSet};
+    use crate::units::Quantity;
+    #[test]
+    #[ignore]
+    fn prof_150() {
+        let d = Dof::new("b", "0", Direction::Z);
+        let ins: Vec<Dof> = (0..150)
+            .map(|j| Dof::new("b", &format!("{}", j + 1), Direction::Z))
+            .collect();
+        let freqs: Vec<f64> = (0..1000).map(|l| 1.0 + l as f64).collect();
+        let mut h = FrfSet::zeros(
+            "bench",
+            freqs,
+            vec![d],
+            ins,
+            Quantity::Displacement,
+            Quantity::Force,
+        );
+        for l in 0..1000 {
+            let w = h.omega(l);
+            for j in 0..150 {
+                let wn = 2.0 * std::f64::consts::PI * (5.0 + 990.0 * (j as f64 + 0.5) / 150.0);
+                h.set(
+                    l,
+                    0,
+                    j,
+                    1.0 / Complex64::new(wn * wn - w * w, 0.04 * wn * w),
+                );
+            }
+        }
+        let mut sets = BTreeMap::new();
+        sets.insert("a".to_string(), h);
+        let series: Vec<String> = (0..150)
+            .map(|j| format!(r#"{{"set":"a","out":0,"in":{j}}}"#))
+            .collect();
+        let spec = PlotSpec::from_json(&format!(
+            r#"{{"series":[{}],"width":1400,"height":560}}"#,
+            series.join(",")
+        ))
+        .unwrap();
+        let data = PlotData::resolve(&spec, &sets).unwrap();
+        let t = std::time::Instant::now();
+        let mut n = 0;
+        for _ in 0..0 {
+            n = super::super::render_data_svg(&data, &View::of(&spec), 1400, 560)
+                .unwrap()
+                .0
+                .len();
+        }
+        eprintln!("svg {} ms, {} bytes", t.elapsed().as_secs_f64() * 200.0, n);
+        struct Null(usize, usize);
+        impl plotters::prelude::DrawingBackend for Null {
+            type ErrorType = std::fmt::Error;
+            fn get_size(&self) -> (u32, u32) {
+                (1400, 560)
+            }
+            fn ensure_prepared(
+                &mut self,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn present(
+                &mut self,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn draw_pixel(
+                &mut self,
+                _: (i32, i32),
+                _: plotters_backend::BackendColor,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+            fn draw_path<S: plotters_backend::BackendStyle, I: IntoIterator<Item = (i32, i32)>>(
+                &mut self,
+                p: I,
+                _: &S,
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                self.0 += 1;
+                self.1 += p.into_iter().count();
+                Ok(())
+            }
+            fn draw_text<S: plotters_backend::BackendTextStyle>(
+                &mut self,
+                _: &str,
+                _: &S,
+                _: (i32, i32),
+            ) -> std::result::Result<(), plotters_backend::DrawingErrorKind<std::fmt::Error>>
+            {
+                Ok(())
+            }
+        }
+        let mut nb = Null(0, 0);
+        let t = std::time::Instant::now();
+        for _ in 0..50 {
+            super::super::draw_data(&mut nb, &data, &View::of(&spec)).unwrap();
+        }
+        eprintln!(
+            "null {} ms, {} paths {} points",
+            t.elapsed().as_secs_f64() * 200.0,
+            nb.0 / 5,
+            nb.1 / 5
+        );
+    }
+}
