@@ -550,3 +550,81 @@ fn the_result_is_checked_against_the_budget_before_it_is_made() {
     assert_eq!(e.kind, ErrorKind::Budget, "{e}");
     assert!(e.message.contains("transforming 38 lines"), "{e}");
 }
+
+/// The set's sensor and impact nodes numbered as a Universal File must
+/// number them (sK → K, hK → 10 + K, as tests/py/vpt_uff_geom.py does).
+fn numbered(label: &str) -> String {
+    let (comp, rest) = label.split_once(':').unwrap();
+    let end = rest.find(['+', '-']).unwrap_or(rest.len());
+    let (node, dir) = rest.split_at(end);
+    let n = match (node.as_bytes()[0], node[1..].parse::<u32>()) {
+        (b's', Ok(k)) => k.to_string(),
+        (b'h', Ok(k)) => (10 + k).to_string(),
+        _ => node.to_string(),
+    };
+    format!("{comp}:{n}{dir}")
+}
+
+#[test]
+fn a_universal_file_with_nodes_and_displacement_systems_is_a_geometry() {
+    // The geometry of the rigid block written by pyuff as datasets 2411 and
+    // 2420 (each rotated sensor and each oblique impact measured along the
+    // axes of its node's own displacement system): the virtual point must
+    // come out as with our geometry layout, and so equal numpy's reference.
+    let s = setup();
+    let mut set = set_from_json(&s.doc["unit"]["set"], &s.freqs);
+    for d in set.outputs.iter_mut().chain(set.inputs.iter_mut()) {
+        *d = mortise::Dof::parse(&numbered(&d.to_string()), "").unwrap();
+    }
+    std::fs::write(
+        s.dir.join("unitnum.csv"),
+        mortise::save(&[set], ExportFormat::Csv).unwrap(),
+    )
+    .unwrap();
+    let said = common::run_py(
+        "vpt_uff_geom.py",
+        &[
+            s.dir.join("unit.geom.csv").to_str().unwrap(),
+            s.dir.join("unit.geom.unv").to_str().unwrap(),
+        ],
+    );
+    assert!(said.contains("displacement systems"), "{said}");
+    let renumber = |v: &Value| -> Value {
+        Value::Array(
+            v.as_array()
+                .unwrap()
+                .iter()
+                .map(|x| Value::String(numbered(x.as_str().unwrap())))
+                .collect(),
+        )
+    };
+    let mut p = point(&s.doc, "unit");
+    p["sensors"] = renumber(&p["sensors"]);
+    p["impacts"] = renumber(&p["impacts"]);
+    let text = recipe(
+        vec![vp_step("vp", "unit", json!("unit.geom.unv"), json!([p]))],
+        &["vp"],
+        &[("unit", "unitnum.csv")],
+    );
+    let r = run(&text).unwrap();
+    let want = set_from_json(&s.doc["unit"]["reference"], &s.freqs);
+    let d = entrywise_rel_diff(&r.outputs[0], &want);
+    eprintln!("rigid block, geometry from a Universal File (pyuff 2411 + 2420): {d:e}");
+    // reference: numpy full model solve (rigid-body kinematics, textbook)
+    assert!(d <= 1e-10, "relative difference {d:e}");
+    let step = &r.report.steps[0];
+    assert!(
+        step.notes.iter().any(|n| n.contains("geometry from the nodes")),
+        "{:?}",
+        step.notes
+    );
+    // a geometry file without nodes is refused naming the file and the field
+    std::fs::write(s.dir.join("empty.unv"), "    -1\n   164\n         1SI\n    2\n  1.00000000000000000D+00  1.00000000000000000D+00  1.00000000000000000D+00\n  2.73150000000000000D+02\n    -1\n").unwrap();
+    let text = recipe(
+        vec![vp_step("vp", "unit", json!("empty.unv"), json!([p]))],
+        &["vp"],
+        &[("unit", "unitnum.csv")],
+    );
+    let e = run(&text).unwrap_err().to_string();
+    assert!(e.contains("empty.unv") && e.contains("no nodes"), "{e}");
+}

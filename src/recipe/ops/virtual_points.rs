@@ -131,7 +131,11 @@ impl ToVirtualPoints {
         match &self.geometry {
             GeometryOperand::File(name) => {
                 let bytes = cx.files.read(name).map_err(|e| e.field("geometry"))?;
-                Geometry::from_csv(&bytes, name)
+                if crate::io::uff58::looks_like_uff(&bytes).is_some() {
+                    Geometry::from_uff(&bytes, name).map_err(|e| e.field("geometry"))
+                } else {
+                    Geometry::from_csv(&bytes, name)
+                }
             }
             GeometryOperand::Inline(g) => {
                 let rows: Vec<RawRow> = g
@@ -159,7 +163,7 @@ impl Operation for ToVirtualPoints {
         req("from", "name of the set (motion per force: receptance, mobility or accelerance)"),
         req(
             "geometry",
-            "where each channel and impact sits: a file of our geometry layout ('# mortise-geometry 1', 'unit, mm', rows 'label, x, y, z[, dx, dy, dz]'; see the README), or inline {\"unit\": \"mm\", \"rows\": [{\"label\": \"c:s1\", \"at\": [x, y, z], \"dir\": [dx, dy, dz] (optional, DOF rows only)}]}; a node row gives each of its DOFs the direction of its label; every row must be used",
+            "where each channel and impact sits: a file of our geometry layout ('# mortise-geometry 1', 'unit, mm', rows 'label, x, y, z[, dx, dy, dz]'; see the README), a Universal File with nodes (datasets 15 or 2411, directions from each node's displacement system; positions and origins in m), or inline {\"unit\": \"mm\", \"rows\": [{\"label\": \"c:s1\", \"at\": [x, y, z], \"dir\": [dx, dy, dz] (optional, DOF rows only)}]}; a node row gives each of its DOFs the direction of its label; every row must be used",
         ),
         req(
             "points",
@@ -217,6 +221,13 @@ impl Operation for ToVirtualPoints {
         )?;
         let t = plan.apply(s, threshold)?;
         let mut report = StepReport::new(cx.id, "to-virtual-points", t.set.warnings.clone());
+        if geom.whole_structure {
+            report.notes.push(format!(
+                "geometry from the nodes of {} ({} nodes; positions in m, DOF directions from each node's displacement system)",
+                geom.name(),
+                geom.rows.len() / 6
+            ));
+        }
         report.virtual_points = Some(t.points);
         Ok(StepOutput {
             set: t.set,
