@@ -27,11 +27,13 @@
 mod data;
 mod diagram;
 mod draw;
+mod drawing;
 mod geometry;
 mod layout;
 mod probe;
 mod render;
 mod spec;
+mod stabilization;
 
 #[cfg(test)]
 mod fixtures;
@@ -39,8 +41,10 @@ mod fixtures;
 pub use data::db_reference;
 pub use diagram::{assembly_svg, Diagram, DiagramItem, MAX_DRAWN};
 pub use draw::{DASHES, PALETTE};
+pub use drawing::Drawing;
 pub use geometry::geometry_svg;
 pub use layout::tick_text;
 pub use probe::{probe, Probe};
 pub use render::{draw, render_svg};
 pub use spec::{BarGroup, Controls, Frame, LineData, PlotKind, PlotSpec, SeriesRef};
+pub use stabilization::{stabilization_svg, PoleClass};
