@@ -569,3 +569,25 @@ pub fn probe(spec_json: &str, freq: f64) -> std::result::Result<String, JsValue>
         .map_err(js_err)?;
     to_json(&p)
 }
+
+/// The stabilization chart of an identify-modes step, drawn by the core
+/// ([`plot::stabilization_svg`]) from the run report the page holds (the
+/// `report` of [`run_recipe`], as JSON text) and the step's id, `width` ×
+/// `height` pixels: `{ svg, width, height, summary }` (`plot::Drawing`),
+/// `summary` being the chart in words for a screen reader. A report
+/// without that step, a step of another kind or a chart without poles
+/// comes back as the core's error JSON, naming the step.
+#[wasm_bindgen]
+pub fn stabilization_chart_svg(
+    report_json: &str,
+    step_id: &str,
+    width: f64,
+    height: f64,
+) -> std::result::Result<String, JsValue> {
+    let report: serde_json::Value = serde_json::from_str(report_json).map_err(|e| {
+        js_err(Error::parse(format!("the run report is not JSON: {e}")).field("report"))
+    })?;
+    let id = recipe::step_identification(&report, step_id).map_err(js_err)?;
+    let chart = crate::identify::stabilization_chart(&id);
+    to_json(&plot::stabilization_svg(&chart, width, height).map_err(js_err)?)
+}

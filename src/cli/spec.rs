@@ -461,7 +461,9 @@ pub const RUN: Command = Command {
             spectra) to OUTDIR (created if needed) as NAME.uff (UFF 58; text \
             node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
             lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
-            of every component, the headline), and prints the headline.",
+            of every component, the headline), and prints the headline. Each identify-modes step \
+            also gives ID.modes.json and ID.modes.unv (its modal model, when a driving point \
+            scales it) and ID.stability.svg (its stabilization chart).",
     groups: &[
         Group {
             title: "options",

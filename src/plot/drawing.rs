@@ -15,3 +15,18 @@ pub struct Drawing {
     /// What it shows (its accessible description).
     pub summary: String,
 }
+
+/// The longest summary, in characters (a screen reader reads it whole).
+pub const MAX_SUMMARY: usize = 2000;
+
+/// `s` as a summary: control characters and runs of white space made one
+/// space, cut with "…" at [`MAX_SUMMARY`] characters.
+pub(super) fn summary_text(s: &str) -> String {
+    let s = super::diagram::clean(s);
+    if s.chars().count() <= MAX_SUMMARY {
+        return s;
+    }
+    let mut t: String = s.chars().take(MAX_SUMMARY - 1).collect();
+    t.push('…');
+    t
+}

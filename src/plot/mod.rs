@@ -34,6 +34,7 @@ mod probe;
 mod render;
 mod spec;
 mod stabilization;
+mod vpt_geometry;
 
 #[cfg(test)]
 mod fixtures;
@@ -48,3 +49,4 @@ pub use probe::{probe, Probe};
 pub use render::{draw, render_svg};
 pub use spec::{BarGroup, Controls, Frame, LineData, PlotKind, PlotSpec, SeriesRef};
 pub use stabilization::{stabilization_svg, PoleClass};
+pub use vpt_geometry::vpt_geometry_svg;

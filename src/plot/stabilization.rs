@@ -22,8 +22,8 @@
 //! each label centred on its tick. Text sizes are estimated from character
 //! counts (no font metrics in a worker), as in `diagram.rs`.
 
-use super::diagram::{cap, clean, esc, text_w, INK, LINE, MUTED};
-use super::drawing::Drawing;
+use super::diagram::{clean, esc, text_w, INK, LINE, MUTED};
+use super::drawing::{summary_text, Drawing};
 use super::layout::{tick_text, Axis};
 use crate::error::{Error, Result};
 use crate::identify::stability::ChartPole;
@@ -261,6 +261,34 @@ fn label_rows(items: &[(f64, f64)]) -> (Vec<usize>, usize) {
     (rows, ends.len().max(1))
 }
 
+/// Centres for labels of width `w` wanted at `x` (in order of x) on one
+/// row between `lo` and `hi`, pushed apart as little as a sweep each way
+/// does; `None` when they do not fit side by side.
+fn spread_labels(items: &[(f64, f64)], lo: f64, hi: f64) -> Option<Vec<f64>> {
+    const GAP: f64 = 6.0;
+    let mut c: Vec<f64> = items.iter().map(|i| i.0).collect();
+    for k in 0..c.len() {
+        let min = if k == 0 {
+            lo + items[0].1 / 2.0
+        } else {
+            c[k - 1] + (items[k - 1].1 + items[k].1) / 2.0 + GAP
+        };
+        c[k] = c[k].max(min);
+    }
+    for k in (0..c.len()).rev() {
+        let max = if k + 1 == c.len() {
+            hi - items[k].1 / 2.0
+        } else {
+            c[k + 1] - (items[k].1 + items[k + 1].1) / 2.0 - GAP
+        };
+        c[k] = c[k].min(max);
+    }
+    match (c.first(), items.first()) {
+        (Some(&c0), Some(i0)) if c0 - i0.1 / 2.0 < lo - 1e-9 => None,
+        _ => Some(c),
+    }
+}
+
 /// Draw a stabilization chart `width` × `height` pixels.
 ///
 /// Refused: a chart without any pole (nothing identified to draw), a band
@@ -324,7 +352,15 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
         .zip(&labels)
         .map(|(c, l)| (sx(c[0]), text_w(l, FS_SMALL, false)))
         .collect();
-    let (rows, n_rows) = label_rows(&spans);
+    // one row, labels pushed apart and led to their lines; rows when they
+    // do not fit
+    let (rows, centres, n_rows) = match spread_labels(&spans, 4.0, width - 4.0) {
+        Some(c) => (vec![0; spans.len()], c, 1),
+        None => {
+            let (r, n) = label_rows(&spans);
+            (r, spans.iter().map(|s| s.0).collect(), n)
+        }
+    };
 
     // ---- the legend below the plot, in rows
     let mut legend: Vec<(String, Entry)> = classes
@@ -356,7 +392,7 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
         used += w;
     }
 
-    let y0 = 24.0 + n_rows as f64 * LABEL_ROW + 6.0;
+    let y0 = 24.0 + n_rows as f64 * LABEL_ROW + 12.0;
     let bottom = 18.0 + 18.0 + 8.0 + legend_rows.len() as f64 * 17.0 + 6.0;
     let y1 = height - bottom;
     if y1 - y0 < 60.0 || x1 - x0 < 120.0 {
@@ -393,7 +429,7 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
         short_hz(f0),
         short_hz(f1)
     );
-    let summary = cap(&format!(
+    let summary = summary_text(&format!(
         "{title}: {n_poles} poles ({}). {} chosen mode(s){}{}. Behind the poles, the sum of the FRF magnitudes (receptance) in dB re 1 m/N on the right axis.",
         class_words.join("; "),
         chosen.len(),
@@ -539,9 +575,10 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
     for (k, c) in chosen.iter().enumerate() {
         let x = sx(c[0]);
         let ly = 24.0 + (rows[k] as f64 + 1.0) * LABEL_ROW - 3.0;
+        let lx = centres[k];
         let _ = write!(
             s,
-            r#"<g data-kind="chosen"><title>mode {}: {} Hz, ζ = {:.2} %</title><line x1="{x:.1}" y1="{:.1}" x2="{x:.1}" y2="{y1:.1}" stroke="{INK}" stroke-width="1" stroke-dasharray="5 3"/><text x="{x:.1}" y="{ly:.1}" font-size="{FS_SMALL}" fill="{INK}" text-anchor="middle">{}</text></g>"#,
+            r#"<g data-kind="chosen"><title>mode {}: {} Hz, ζ = {:.2} %</title><line x1="{x:.1}" y1="{y0:.1}" x2="{x:.1}" y2="{y1:.1}" stroke="{INK}" stroke-width="1" stroke-dasharray="5 3"/><path d="M{lx:.1} {:.1}L{x:.1} {y0:.1}" fill="none" stroke="{INK}" stroke-width="1"/><text x="{lx:.1}" y="{ly:.1}" font-size="{FS_SMALL}" fill="{INK}" text-anchor="middle">{}</text></g>"#,
             k + 1,
             hz_text(c[0]),
             c[1] * 100.0,
@@ -793,6 +830,17 @@ mod tests {
             let r = contrast(m, "#ffffff");
             assert!(r >= 3.0, "{m}: {r:.2}");
         }
+    }
+
+    #[test]
+    fn close_labels_are_pushed_apart_on_one_row() {
+        let c = spread_labels(&[(100.0, 50.0), (110.0, 50.0), (300.0, 50.0)], 0.0, 400.0).unwrap();
+        assert!((c[1] - c[0] - 56.0).abs() < 1e-9, "{c:?}");
+        assert_eq!(c[2], 300.0);
+        // against the right edge: moved left, still apart
+        let c = spread_labels(&[(380.0, 50.0), (390.0, 50.0)], 0.0, 400.0).unwrap();
+        assert_eq!(c, vec![319.0, 375.0]);
+        assert!(spread_labels(&[(100.0, 250.0), (110.0, 250.0)], 0.0, 400.0).is_none());
     }
 
     #[test]
