@@ -591,3 +591,21 @@ pub fn stabilization_chart_svg(
     let chart = crate::identify::stabilization_chart(&id);
     to_json(&plot::stabilization_svg(&chart, width, height).map_err(js_err)?)
 }
+
+/// The geometry of the to-virtual-points step `step_id` of a recipe, drawn
+/// by the core ([`plot::vpt_geometry_svg`]) in three views: each virtual
+/// point's origin, sensor channels and impacts, a scale bar. The files the
+/// recipe names are read from the workspace (loaded files, then an opened
+/// bundle's inputs), as [`run_recipe`] reads them, and the steps before it
+/// are run to know the channels of the set it reads. Returns `{ svg, width,
+/// height, summary }` (`plot::Drawing`); a recipe the core refuses, a
+/// missing file, a step the recipe does not have or a step of another kind
+/// comes back as the core's error JSON, naming it.
+#[wasm_bindgen]
+pub fn vpt_geometry_svg(recipe_text: &str, step_id: &str) -> std::result::Result<String, JsValue> {
+    let r = recipe::parse(recipe_text).map_err(js_err)?;
+    let (geom, plan) = WS
+        .with(|ws| ws.borrow().virtual_point_plan(&r, step_id))
+        .map_err(js_err)?;
+    to_json(&plot::vpt_geometry_svg(step_id, &geom, &plan.points).map_err(js_err)?)
+}
