@@ -31,7 +31,7 @@ use std::fmt::Write as _;
 const S: f64 = 300.0;
 const MARGIN: f64 = 12.0;
 /// Free space at a view's edges, pixels (arrows and labels).
-const PAD: f64 = 46.0;
+const PAD: f64 = 48.0;
 const TOP: f64 = 30.0;
 /// An arrow's length on screen, pixels, when in the view's plane.
 const ARROW: f64 = 26.0;
@@ -39,6 +39,9 @@ const HEAD: f64 = 7.0;
 const FS: f64 = 12.0;
 const FS_SMALL: f64 = 10.0;
 const VIEW_KEYS: [&str; 3] = ["top", "front", "side"];
+/// A white outline under a label, so it stays readable over arrows.
+const HALO: &str =
+    r##" stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke""##;
 
 // At least 3:1 on white (WCAG 2.1 SC 1.4.11, non-text contrast).
 const C_SENSOR: &str = "#0063a0";
@@ -142,7 +145,12 @@ fn arrow(s: &mut String, views: &Views, v: usize, l: &Located, role: Role, geom:
     );
     let len = dx.hypot(dy);
     let sign = if l.dof.positive { "+" } else { "−" };
-    let tag = format!("{sign}{}", l.dof.dir.as_str());
+    // a sensor's arrow is tagged with its direction (its position carries
+    // the node's name), an impact's with its node
+    let tag = match role {
+        Role::Sensor => format!("{sign}{}", l.dof.dir.as_str()),
+        Role::Impact => l.dof.node.clone(),
+    };
     if len < 0.3 {
         // along the line of sight: a ring, a dot toward the viewer, a cross away
         let _ = write!(
@@ -168,7 +176,7 @@ fn arrow(s: &mut String, views: &Views, v: usize, l: &Located, role: Role, geom:
         }
         let _ = write!(
             s,
-            r#"<text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{INK}">{}</text></g>"#,
+            r#"<text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{INK}"{HALO}>{}</text></g>"#,
             x + 6.0,
             y - 5.0,
             esc(&tag)
@@ -204,7 +212,7 @@ fn arrow(s: &mut String, views: &Views, v: usize, l: &Located, role: Role, geom:
     }
     let _ = write!(
         s,
-        r#"<text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{INK}" text-anchor="middle">{}</text></g>"#,
+        r#"<text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{INK}" text-anchor="middle"{HALO}>{}</text></g>"#,
         label_at.0,
         label_at.1 + 3.5,
         esc(&tag)
@@ -326,12 +334,9 @@ pub fn vpt_geometry_svg(step: &str, geom: &Geometry, points: &[VpMatrices]) -> R
             ox + 4.0,
             esc(caption)
         );
-        // position labels: node names, once per place
+        // sensor positions: node names, once per place
         let mut places: BTreeMap<(i64, i64), Vec<String>> = BTreeMap::new();
-        for l in points
-            .iter()
-            .flat_map(|p| p.sensors.iter().chain(p.impacts.iter()))
-        {
+        for l in points.iter().flat_map(|p| p.sensors.iter()) {
             let (x, y) = views.px(v, &l.at);
             let names = places
                 .entry(((x * 2.0).round() as i64, (y * 2.0).round() as i64))
@@ -343,7 +348,7 @@ pub fn vpt_geometry_svg(step: &str, geom: &Geometry, points: &[VpMatrices]) -> R
         for ((x2, y2), names) in &places {
             let _ = write!(
                 s,
-                r#"<circle cx="{:.1}" cy="{:.1}" r="1.5" fill="{MUTED}"/><text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{MUTED}" text-anchor="end">{}</text>"#,
+                r#"<circle cx="{:.1}" cy="{:.1}" r="1.5" fill="{MUTED}"/><text x="{:.1}" y="{:.1}" font-size="{FS_SMALL}" fill="{MUTED}" text-anchor="end"{HALO}>{}</text>"#,
                 *x2 as f64 / 2.0,
                 *y2 as f64 / 2.0,
                 *x2 as f64 / 2.0 - 5.0,
@@ -365,7 +370,7 @@ pub fn vpt_geometry_svg(step: &str, geom: &Geometry, points: &[VpMatrices]) -> R
             let o = p.origin.map(|m| geom.show_len(m));
             let _ = write!(
                 s,
-                r##"<g data-kind="origin" data-view="{}" data-name="{}"><title>virtual point {} at ({}, {}, {}) {}</title><circle cx="{x:.1}" cy="{y:.1}" r="6" fill="#ffffff" fill-opacity="0.6" stroke="{INK}" stroke-width="1.6"/><path d="M{:.1} {y:.1}H{:.1}M{x:.1} {:.1}V{:.1}" stroke="{INK}" stroke-width="1.2"/><text x="{:.1}" y="{:.1}" font-size="{FS}" font-weight="700" fill="{INK}">{}</text></g>"##,
+                r##"<g data-kind="origin" data-view="{}" data-name="{}"><title>virtual point {} at ({}, {}, {}) {}</title><circle cx="{x:.1}" cy="{y:.1}" r="6" fill="#ffffff" fill-opacity="0.6" stroke="{INK}" stroke-width="1.6"/><path d="M{:.1} {y:.1}H{:.1}M{x:.1} {:.1}V{:.1}" stroke="{INK}" stroke-width="1.2"/><text x="{:.1}" y="{:.1}" font-size="{FS}" font-weight="700" fill="{INK}"{HALO}>{}</text></g>"##,
                 VIEW_KEYS[v],
                 esc(&name),
                 esc(&name),
@@ -597,8 +602,8 @@ mod tests {
             TOP,
         )
         .unwrap();
-        // 60 mm over 300 − 2·46 px
-        assert!((views.scale - 208.0 / 0.06).abs() < 1e-9);
+        // 60 mm over 300 − 2·48 px
+        assert!((views.scale - 204.0 / 0.06).abs() < 1e-9);
         let per_mm = views.scale * 1e-3;
         let len = nice_below(110.0 / per_mm);
         assert_eq!(len, 20.0);

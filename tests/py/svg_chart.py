@@ -14,8 +14,9 @@ Prints one JSON object:
   axes: for each <g data-axis=NAME>, its tick labels as [text, x, y];
   chosen: for each <g data-kind="chosen">, its <line>'s x1, x2 and its text;
   classes: the count of elements with each data-class;
-  items: every element with data-kind (besides "chosen") as
-    {kind, tag, attributes...} with its texts, for the geometry sketches.
+  items: every element with data-kind (besides "chosen") as its attributes,
+    its tag, its texts and its first <line> and <circle> (coordinates and
+    whether dashed), for the geometry sketches.
 """
 import json
 import sys
@@ -109,6 +110,13 @@ for el in root.iter():
         item = {k: v for k, v in el.attrib.items()}
         item["tag"] = el.tag.replace(NS, "")
         item["texts"] = [text_of(t) for t in el.iter(NS + "text")]
+        # the first line and circle inside, with whether they are dashed
+        for shape in ("line", "circle"):
+            found = el.find(NS + shape)
+            if found is not None:
+                item[shape] = {k: float(v) for k, v in found.attrib.items()
+                               if k in ("x1", "y1", "x2", "y2", "cx", "cy", "r")}
+                item[shape]["dashed"] = found.get("stroke-dasharray") is not None
         items.append(item)
     c = el.get("data-class")
     if c is not None:
