@@ -10,6 +10,7 @@
 //!   (frequency first, then damping and vector);
 //! * every text keeps a contrast of at least 4.5:1 on its background (WCAG
 //!   2.1 SC 1.4.3, the ratio computed in Python from the WCAG definition).
+//!
 //! The measured FRFs are numpy's (tests/py/identify_ref.py: six known modes,
 //! two of them 2 % apart, 1 % noise).
 

@@ -57,17 +57,17 @@ const LANE_GAP_MIN: f64 = 130.0;
 pub(super) const INK: &str = "#1f2a30";
 pub(super) const MUTED: &str = "#5d6b73";
 pub(super) const LINE: &str = "#d9d4c8";
-pub(super) const HEAD: &str = "#23404a";
-pub(super) const ACCENT: &str = "#a3520f";
+const HEAD: &str = "#23404a";
+const ACCENT: &str = "#a3520f";
 const OK: &str = "#2f7d5b";
-pub(super) const BAD: &str = "#a8322d";
-pub(super) const PAPER: &str = "#f6f4ef";
-pub(super) const CARD: &str = "#fcfcfa";
+const BAD: &str = "#a8322d";
+const PAPER: &str = "#f6f4ef";
+const CARD: &str = "#fcfcfa";
 const STEP_BG: &str = "#eef3f2";
 const STEP_LINE: &str = "#9fb0b5";
 const TAG_BG: &str = "#e6eceb";
 const TAG_INK: &str = "#30474f";
-pub(super) const MONO: &str = "ui-monospace, Menlo, Consolas, monospace";
+const MONO: &str = "ui-monospace, Menlo, Consolas, monospace";
 
 /// One clickable thing of the diagram and its box in SVG pixels.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -168,7 +168,7 @@ pub(super) fn text_w(s: &str, size: f64, bold: bool) -> f64 {
 }
 
 /// `s` cleaned and cut with "…" to fit `max_w` pixels.
-pub(super) fn fit(s: &str, max_w: f64, size: f64, bold: bool) -> String {
+fn fit(s: &str, max_w: f64, size: f64, bold: bool) -> String {
     let s = clean(s);
     if text_w(&s, size, bold) <= max_w {
         return s;
@@ -188,7 +188,7 @@ pub(super) fn fit(s: &str, max_w: f64, size: f64, bold: bool) -> String {
 }
 
 /// At most [`MAX_LABEL`] characters of cleaned text.
-pub(super) fn cap(s: &str) -> String {
+fn cap(s: &str) -> String {
     let s = clean(s);
     if s.chars().count() <= MAX_LABEL {
         return s;
