@@ -614,12 +614,14 @@ fn a_universal_file_with_nodes_and_displacement_systems_is_a_geometry() {
     assert!(d <= 1e-10, "relative difference {d:e}");
     let step = &r.report.steps[0];
     assert!(
-        step.notes.iter().any(|n| n.contains("geometry from the nodes")),
+        step.notes
+            .iter()
+            .any(|n| n.contains("geometry from the nodes")),
         "{:?}",
         step.notes
     );
     // a geometry file without nodes is refused naming the file and the field
-    std::fs::write(s.dir.join("empty.unv"), "    -1\n   164\n         1SI\n    2\n  1.00000000000000000D+00  1.00000000000000000D+00  1.00000000000000000D+00\n  2.73150000000000000D+02\n    -1\n").unwrap();
+    std::fs::write(s.dir.join("empty.unv"), "    -1\n   164\n         1SI                           2\n  1.00000000000000000D+00  1.00000000000000000D+00  1.00000000000000000D+00\n  2.73150000000000000D+02\n    -1\n").unwrap();
     let text = recipe(
         vec![vp_step("vp", "unit", json!("empty.unv"), json!([p]))],
         &["vp"],
@@ -627,6 +629,7 @@ fn a_universal_file_with_nodes_and_displacement_systems_is_a_geometry() {
     );
     let e = run(&text).unwrap_err().to_string();
     assert!(e.contains("empty.unv") && e.contains("no nodes"), "{e}");
+}
 
 /// Position and direction of a channel or impact from the geometry text, by
 /// the layout's rules (README): a DOF row wins over its node's row, a DOF

@@ -547,6 +547,7 @@ mod tests {
             to_metres: 1e-3,
             rows: Vec::new(),
             file: None,
+            whole_structure: false,
         }
     }
 

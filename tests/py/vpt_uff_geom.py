@@ -38,7 +38,7 @@ def main(src, out):
     nodes = {}  # number -> [xyz m, axes or None]
     for line in open(src):
         line = line.strip()
-        if not line or line.startswith("#") or line.lower().startswith("unit"):
+        if not line or line.startswith("#") or line.replace(" ", "").lower().startswith("unit,"):
             continue
         cells = [c.strip() for c in line.split(",")]
         label = cells[0].split(":", 1)[1]

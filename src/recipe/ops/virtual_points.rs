@@ -266,7 +266,7 @@ impl Operation for ToVirtualPoints {
             ))
             .field("consistency_min"));
         }
-        let (_, plan) = self.plan_on(s, cx.files)?;
+        let (geom, plan) = self.plan_on(s, cx.files)?;
         cx.check_set(
             "the virtual-point set",
             s.n_lines(),
