@@ -747,6 +747,7 @@ pub fn plot_nearest(x: f64, y: f64) -> std::result::Result<JsValue, JsValue> {
         }
         None => Ok(JsValue::NULL),
     }
+}
 
 /// The stabilization chart of an identify-modes step, drawn by the core
 /// ([`plot::stabilization_svg`]) from the run report the page holds (the

@@ -27,14 +27,26 @@ fn axes_at(sys: &CoordSystem, at: [f64; 3]) -> [[f64; 3]; 3] {
         return sys.axes;
     }
     let [ex, ey, ez] = sys.axes;
-    let p = [at[0] - sys.origin[0], at[1] - sys.origin[1], at[2] - sys.origin[2]];
+    let p = [
+        at[0] - sys.origin[0],
+        at[1] - sys.origin[1],
+        at[2] - sys.origin[2],
+    ];
     let dot = |a: [f64; 3], b: [f64; 3]| a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
     let (x, y) = (dot(p, ex), dot(p, ey));
     // on the axis the radial direction is undefined; the system's x is taken
-    let th = if x == 0.0 && y == 0.0 { 0.0 } else { y.atan2(x) };
+    let th = if x == 0.0 && y == 0.0 {
+        0.0
+    } else {
+        y.atan2(x)
+    };
     let (s, c) = th.sin_cos();
     let comb = |a: f64, u: [f64; 3], b: f64, v: [f64; 3]| {
-        [a * u[0] + b * v[0], a * u[1] + b * v[1], a * u[2] + b * v[2]]
+        [
+            a * u[0] + b * v[0],
+            a * u[1] + b * v[1],
+            a * u[2] + b * v[2],
+        ]
     };
     [comb(c, ex, s, ey), comb(-s, ex, c, ey), ez]
 }
@@ -44,7 +56,10 @@ impl Geometry {
     /// file (and the node whose displacement system is missing).
     pub fn from_uff(bytes: &[u8], file: &str) -> Result<Geometry> {
         let (extras, _notes, _has58) = uff58::read_extras(bytes, file, "")?;
-        let Some(g) = extras.and_then(|x| x.geometry).filter(|g| !g.nodes.is_empty()) else {
+        let Some(g) = extras
+            .and_then(|x| x.geometry)
+            .filter(|g| !g.nodes.is_empty())
+        else {
             return Err(Error::parse(
                 "the file holds no nodes (dataset 15 or 2411); a geometry from a Universal File needs them, or give our geometry layout ('# mortise-geometry 1')",
             )
@@ -98,11 +113,21 @@ mod tests {
         t.push_str("    -1\n");
         if with_system {
             // dataset 2420: system 5, cartesian, rotated 90° about z
-            t.push_str("    -1\n  2420\n         1\nPART\n         5         0         1\nROTATED\n");
-            t.push_str("   0.0000000000000000D+00   1.0000000000000000D+00   0.0000000000000000D+00\n");
-            t.push_str("  -1.0000000000000000D+00   0.0000000000000000D+00   0.0000000000000000D+00\n");
-            t.push_str("   0.0000000000000000D+00   0.0000000000000000D+00   1.0000000000000000D+00\n");
-            t.push_str("   0.0000000000000000D+00   0.0000000000000000D+00   0.0000000000000000D+00\n");
+            t.push_str(
+                "    -1\n  2420\n         1\nPART\n         5         0         1\nROTATED\n",
+            );
+            t.push_str(
+                "   0.0000000000000000D+00   1.0000000000000000D+00   0.0000000000000000D+00\n",
+            );
+            t.push_str(
+                "  -1.0000000000000000D+00   0.0000000000000000D+00   0.0000000000000000D+00\n",
+            );
+            t.push_str(
+                "   0.0000000000000000D+00   0.0000000000000000D+00   1.0000000000000000D+00\n",
+            );
+            t.push_str(
+                "   0.0000000000000000D+00   0.0000000000000000D+00   0.0000000000000000D+00\n",
+            );
             t.push_str("    -1\n");
         }
         t
@@ -113,11 +138,15 @@ mod tests {
         let g = Geometry::from_uff(file(true).as_bytes(), "g.unv").unwrap();
         assert!(g.whole_structure);
         assert_eq!(g.rows.len(), 12);
-        let x2 = g.locate(&Dof::parse("frame:2+X", "").unwrap(), "sensor channel").unwrap();
+        let x2 = g
+            .locate(&Dof::parse("frame:2+X", "").unwrap(), "sensor channel")
+            .unwrap();
         assert_eq!(x2.at, [0.0, 0.2, 0.0]);
         // system 5's x axis is the global y (rotation of 90° about z)
         assert!((x2.dir[0]).abs() < 1e-15 && (x2.dir[1] - 1.0).abs() < 1e-15);
-        let y1 = g.locate(&Dof::parse("frame:1-Y", "").unwrap(), "impact").unwrap();
+        let y1 = g
+            .locate(&Dof::parse("frame:1-Y", "").unwrap(), "impact")
+            .unwrap();
         assert_eq!(y1.dir, [0.0, -1.0, 0.0]);
     }
 
