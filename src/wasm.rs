@@ -748,3 +748,43 @@ pub fn plot_nearest(x: f64, y: f64) -> std::result::Result<JsValue, JsValue> {
         None => Ok(JsValue::NULL),
     }
 }
+
+/// The stabilization chart of an identify-modes step, drawn by the core
+/// ([`plot::stabilization_svg`]) from the run report the page holds (the
+/// `report` of [`run_recipe`], as JSON text) and the step's id, `width` ×
+/// `height` pixels: `{ svg, width, height, summary }` (`plot::Drawing`),
+/// `summary` being the chart in words for a screen reader. A report
+/// without that step, a step of another kind or a chart without poles
+/// comes back as the core's error JSON, naming the step.
+#[wasm_bindgen]
+pub fn stabilization_chart_svg(
+    report_json: &str,
+    step_id: &str,
+    width: f64,
+    height: f64,
+) -> std::result::Result<String, JsValue> {
+    let report: serde_json::Value = serde_json::from_str(report_json).map_err(|e| {
+        js_err(Error::parse(format!("the run report is not JSON: {e}")).field("report"))
+    })?;
+    let id = recipe::step_identification(&report, step_id).map_err(js_err)?;
+    let chart = crate::identify::stabilization_chart(&id);
+    to_json(&plot::stabilization_svg(&chart, width, height).map_err(js_err)?)
+}
+
+/// The geometry of the to-virtual-points step `step_id` of a recipe, drawn
+/// by the core ([`plot::vpt_geometry_svg`]) in three views: each virtual
+/// point's origin, sensor channels and impacts, a scale bar. The files the
+/// recipe names are read from the workspace (loaded files, then an opened
+/// bundle's inputs), as [`run_recipe`] reads them, and the steps before it
+/// are run to know the channels of the set it reads. Returns `{ svg, width,
+/// height, summary }` (`plot::Drawing`); a recipe the core refuses, a
+/// missing file, a step the recipe does not have or a step of another kind
+/// comes back as the core's error JSON, naming it.
+#[wasm_bindgen]
+pub fn vpt_geometry_svg(recipe_text: &str, step_id: &str) -> std::result::Result<String, JsValue> {
+    let r = recipe::parse(recipe_text).map_err(js_err)?;
+    let (geom, plan) = WS
+        .with(|ws| ws.borrow().virtual_point_plan(&r, step_id))
+        .map_err(js_err)?;
+    to_json(&plot::vpt_geometry_svg(step_id, &geom, &plan.points).map_err(js_err)?)
+}

@@ -375,6 +375,16 @@ impl Workspace {
         recipe::run_with(r, &Source(self), &self.limits)
     }
 
+    /// A to-virtual-points step of a recipe resolved on the workspace's
+    /// files, for drawing its geometry ([`recipe::virtual_point_plan`]).
+    pub fn virtual_point_plan(
+        &self,
+        r: &recipe::Recipe,
+        step: &str,
+    ) -> Result<(crate::vpt::Geometry, crate::vpt::Plan)> {
+        recipe::virtual_point_plan(r, step, &Source(self), &self.limits)
+    }
+
     /// The import options an opened bundle recorded for an input.
     pub fn bundle_input_options(&self, name: &str) -> Option<&serde_json::Value> {
         self.bundle_inputs.get(name).map(|b| &b.options)

@@ -550,3 +550,316 @@ fn the_result_is_checked_against_the_budget_before_it_is_made() {
     assert_eq!(e.kind, ErrorKind::Budget, "{e}");
     assert!(e.message.contains("transforming 38 lines"), "{e}");
 }
+
+/// The set's sensor and impact nodes numbered as a Universal File must
+/// number them (sK → K, hK → 10 + K, as tests/py/vpt_uff_geom.py does).
+fn numbered(label: &str) -> String {
+    let (comp, rest) = label.split_once(':').unwrap();
+    let end = rest.find(['+', '-']).unwrap_or(rest.len());
+    let (node, dir) = rest.split_at(end);
+    let n = match (node.as_bytes()[0], node[1..].parse::<u32>()) {
+        (b's', Ok(k)) => k.to_string(),
+        (b'h', Ok(k)) => (10 + k).to_string(),
+        _ => node.to_string(),
+    };
+    format!("{comp}:{n}{dir}")
+}
+
+#[test]
+fn a_universal_file_with_nodes_and_displacement_systems_is_a_geometry() {
+    // The geometry of the rigid block written by pyuff as datasets 2411 and
+    // 2420 (each rotated sensor and each oblique impact measured along the
+    // axes of its node's own displacement system): the virtual point must
+    // come out as with our geometry layout, and so equal numpy's reference.
+    let s = setup();
+    let mut set = set_from_json(&s.doc["unit"]["set"], &s.freqs);
+    for d in set.outputs.iter_mut().chain(set.inputs.iter_mut()) {
+        *d = mortise::Dof::parse(&numbered(&d.to_string()), "").unwrap();
+    }
+    std::fs::write(
+        s.dir.join("unitnum.csv"),
+        mortise::save(&[set], ExportFormat::Csv).unwrap(),
+    )
+    .unwrap();
+    let said = common::run_py(
+        "vpt_uff_geom.py",
+        &[
+            s.dir.join("unit.geom.csv").to_str().unwrap(),
+            s.dir.join("unit.geom.unv").to_str().unwrap(),
+        ],
+    );
+    assert!(said.contains("displacement systems"), "{said}");
+    let renumber = |v: &Value| -> Value {
+        Value::Array(
+            v.as_array()
+                .unwrap()
+                .iter()
+                .map(|x| Value::String(numbered(x.as_str().unwrap())))
+                .collect(),
+        )
+    };
+    let mut p = point(&s.doc, "unit");
+    p["sensors"] = renumber(&p["sensors"]);
+    p["impacts"] = renumber(&p["impacts"]);
+    let text = recipe(
+        vec![vp_step("vp", "unit", json!("unit.geom.unv"), json!([p]))],
+        &["vp"],
+        &[("unit", "unitnum.csv")],
+    );
+    let r = run(&text).unwrap();
+    let want = set_from_json(&s.doc["unit"]["reference"], &s.freqs);
+    let d = entrywise_rel_diff(&r.outputs[0], &want);
+    eprintln!("rigid block, geometry from a Universal File (pyuff 2411 + 2420): {d:e}");
+    // reference: numpy full model solve (rigid-body kinematics, textbook)
+    assert!(d <= 1e-10, "relative difference {d:e}");
+    let step = &r.report.steps[0];
+    assert!(
+        step.notes
+            .iter()
+            .any(|n| n.contains("geometry from the nodes")),
+        "{:?}",
+        step.notes
+    );
+    // a geometry file without nodes is refused naming the file and the field
+    std::fs::write(s.dir.join("empty.unv"), "    -1\n   164\n         1SI                           2\n  1.00000000000000000D+00  1.00000000000000000D+00  1.00000000000000000D+00\n  2.73150000000000000D+02\n    -1\n").unwrap();
+    let text = recipe(
+        vec![vp_step("vp", "unit", json!("empty.unv"), json!([p]))],
+        &["vp"],
+        &[("unit", "unitnum.csv")],
+    );
+    let e = run(&text).unwrap_err().to_string();
+    assert!(e.contains("empty.unv") && e.contains("no nodes"), "{e}");
+}
+
+/// Position and direction of a channel or impact from the geometry text, by
+/// the layout's rules (README): a DOF row wins over its node's row, a DOF
+/// row's vector normalised, else the direction of the DOF's own label.
+fn placed(geometry: &str, dof: &str) -> ([f64; 3], [f64; 3]) {
+    let d = mortise::Dof::parse(dof, "").unwrap();
+    let own = {
+        let mut v = [0.0; 3];
+        let k = match d.dir {
+            mortise::Direction::X => 0,
+            mortise::Direction::Y => 1,
+            _ => 2,
+        };
+        v[k] = if d.positive { 1.0 } else { -1.0 };
+        v
+    };
+    let node = format!("{}:{}", d.component, d.node);
+    let mut found: Option<([f64; 3], [f64; 3])> = None;
+    for line in geometry.lines().filter(|l| !l.starts_with('#')) {
+        let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+        if cells.len() < 4 {
+            continue;
+        }
+        let n = |i: usize| cells[i].parse::<f64>().unwrap();
+        let at = [n(1), n(2), n(3)];
+        let same_dof = mortise::Dof::parse(cells[0], "")
+            .map(|g| g.component == d.component && g.node == d.node && g.dir == d.dir)
+            .unwrap_or(false);
+        if same_dof {
+            let dir = if cells.len() == 7 {
+                let v = [n(4), n(5), n(6)];
+                let l = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                [v[0] / l, v[1] / l, v[2] / l]
+            } else {
+                own
+            };
+            return (at, dir);
+        }
+        if cells[0] == node {
+            found = Some((at, own));
+        }
+    }
+    found.unwrap_or_else(|| panic!("{dof} has no row"))
+}
+
+#[test]
+fn the_geometry_of_the_step_is_drawn_where_it_is() {
+    // `mortise diagram RECIPE --step ID`, read back by Python's xml.etree
+    // (tests/py/svg_chart.py): one arrow per channel and per impact in each
+    // of the three views, each at its position and along its direction as
+    // the geometry file gives them, the origin's marker at its place; the
+    // pixels per millimetre taken from the drawing's scale bar. Views:
+    // top X–Y, front X–Z, side Y–Z, right-handed (textbook orthographic
+    // projection). Contrast of every text ≥ 4.5:1 (WCAG 2.1 SC 1.4.3).
+    let s = setup();
+    let geometry = s.doc["geometry_unit"].as_str().unwrap();
+    let mut steps = vec![vp_step(
+        "foot",
+        "unit",
+        json!("unit.geom.csv"),
+        json!([point(&s.doc, "unit")]),
+    )];
+    steps.push(json!({"id": "twice", "op": "scale", "from": "foot", "factor": 2}));
+    let text = recipe(steps, &["twice"], &[("unit", "unit.csv")]);
+    let path = s.dir.join("geometry.recipe.json");
+    std::fs::write(&path, &text).unwrap();
+    let out = s.dir.join("foot.svg");
+    let cli = |args: &[&str]| {
+        let mut v = vec!["diagram".to_string(), path.to_str().unwrap().to_string()];
+        v.extend(args.iter().map(|a| a.to_string()));
+        mortise::cli::run_cli(&v)
+    };
+    let printed = cli(&["--step", "foot", "-o", out.to_str().unwrap()]).unwrap();
+    assert!(
+        printed.contains("step 'foot', 1 virtual point(s), 9 sensor channel(s), 9 impact(s)"),
+        "{printed}"
+    );
+    let py: Value =
+        serde_json::from_str(&common::run_py("svg_chart.py", &[out.to_str().unwrap()])).unwrap();
+    let items = py["items"].as_array().unwrap();
+
+    // the scale bar: pixels per millimetre
+    let bar = items.iter().find(|i| i["data-kind"] == "scale").unwrap();
+    let bar_px = bar["line"]["x2"].as_f64().unwrap() - bar["line"]["x1"].as_f64().unwrap();
+    let bar_text = bar["texts"][0].as_str().unwrap();
+    let bar_mm: f64 = bar_text.strip_suffix(" mm").unwrap().parse().unwrap();
+    let per_mm = bar_px / bar_mm;
+
+    // what the transformation resolved: the report's channels and impacts
+    let run = run(&text).unwrap();
+    let rep = &vp_report(&run, "foot")[0];
+    assert_eq!((rep.sensors.len(), rep.impacts.len()), (9, 9));
+
+    let views = [("top", 0usize, 1usize), ("front", 0, 2), ("side", 1, 2)];
+    let mut worst_pos: f64 = 0.0;
+    let mut worst_dir: f64 = 0.0;
+    for (view, h, v) in views {
+        let in_view: Vec<&Value> = items.iter().filter(|i| i["data-view"] == view).collect();
+        let origin = in_view.iter().find(|i| i["data-kind"] == "origin").unwrap();
+        assert_eq!(origin["data-name"], "unit:bolt");
+        assert!(origin["texts"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|t| t == "unit:bolt"));
+        let o_px = (
+            origin["circle"]["cx"].as_f64().unwrap(),
+            origin["circle"]["cy"].as_f64().unwrap(),
+        );
+        let o_mm = [0.0, 0.0, 0.0]; // the point's origin in the recipe
+        for (kind, dofs) in [("sensor", &rep.sensors), ("impact", &rep.impacts)] {
+            let drawn: Vec<&&Value> = in_view.iter().filter(|i| i["data-kind"] == kind).collect();
+            assert_eq!(drawn.len(), dofs.len(), "{view} {kind}");
+            for dof in dofs {
+                let mine: Vec<&&&Value> = drawn
+                    .iter()
+                    .filter(|i| i["data-name"] == dof.as_str())
+                    .collect();
+                assert_eq!(mine.len(), 1, "{view}: {dof} drawn once");
+                let it = mine[0];
+                let (at, dir) = placed(geometry, dof);
+                // screen: right = +h, down = −v
+                let want = (
+                    o_px.0 + per_mm * (at[h] - o_mm[h]),
+                    o_px.1 - per_mm * (at[v] - o_mm[v]),
+                );
+                let (sx, sy) = (dir[h], -dir[v]);
+                let anchor = if it["line"].is_object() {
+                    let l = &it["line"];
+                    let (x1, y1, x2, y2) = (
+                        l["x1"].as_f64().unwrap(),
+                        l["y1"].as_f64().unwrap(),
+                        l["x2"].as_f64().unwrap(),
+                        l["y2"].as_f64().unwrap(),
+                    );
+                    // along the projected direction, tail to head
+                    let (dx, dy) = (x2 - x1, y2 - y1);
+                    let n = dx.hypot(dy) * sx.hypot(sy);
+                    worst_dir = worst_dir.max(((dx * sy - dy * sx) / n).abs());
+                    assert!(
+                        dx * sx + dy * sy > 0.0,
+                        "{view}: {dof} points the wrong way"
+                    );
+                    assert_eq!(l["dashed"].as_bool(), Some(kind == "impact"), "{dof}");
+                    // a sensor's arrow leaves its position, an impact's ends there
+                    if kind == "sensor" {
+                        (x1, y1)
+                    } else {
+                        (x2, y2)
+                    }
+                } else {
+                    // along the line of sight of this view
+                    assert!(sx.hypot(sy) < 0.3, "{view}: {dof} drawn end-on");
+                    let c = &it["circle"];
+                    assert_eq!(c["dashed"].as_bool(), Some(kind == "impact"), "{dof}");
+                    (c["cx"].as_f64().unwrap(), c["cy"].as_f64().unwrap())
+                };
+                worst_pos = worst_pos.max((anchor.0 - want.0).hypot(anchor.1 - want.1));
+            }
+        }
+    }
+    eprintln!(
+        "# measure vpt geometry: {per_mm:.4} px/mm from the scale bar ({bar_text}); largest position error {worst_pos:.3} px, largest direction error (sine) {worst_dir:.4}"
+    );
+    assert!(worst_pos <= 0.5, "{worst_pos}");
+    assert!(worst_dir <= 0.02, "{worst_dir}");
+    let lowest = py["texts"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|t| t["contrast"].as_f64().unwrap())
+        .fold(f64::INFINITY, f64::min);
+    assert!(lowest >= 4.5, "lowest text contrast {lowest:.2}");
+    assert!(py["desc"]
+        .as_str()
+        .unwrap()
+        .contains("unit:bolt at (0, 0, 0) mm: 9 sensor channel(s) at 3 position(s), 9 impact(s) at 9 position(s)"));
+
+    // the page's path (files from the workspace, the geometry inline) draws
+    // the same
+    let mut ws = mortise::Workspace::new();
+    ws.load_file(
+        "unit.csv",
+        &std::fs::read(s.dir.join("unit.csv")).unwrap(),
+        json!({}),
+    )
+    .unwrap();
+    let mut rows = Vec::new();
+    for line in geometry.lines().filter(|l| !l.starts_with('#')) {
+        let c: Vec<&str> = line.split(',').map(str::trim).collect();
+        if c.len() < 4 {
+            continue;
+        }
+        let n = |i: usize| c[i].parse::<f64>().unwrap();
+        let mut row = json!({"label": c[0], "at": [n(1), n(2), n(3)]});
+        if c.len() == 7 {
+            row["dir"] = json!([n(4), n(5), n(6)]);
+        }
+        rows.push(row);
+    }
+    let inline = recipe(
+        vec![vp_step(
+            "foot",
+            "unit",
+            json!({"unit": "mm", "rows": rows}),
+            json!([point(&s.doc, "unit")]),
+        )],
+        &["foot"],
+        &[("unit", "unit.csv")],
+    );
+    let r = mortise::parse_recipe(&inline).unwrap();
+    let (g, plan) = ws.virtual_point_plan(&r, "foot").unwrap();
+    let page = mortise::plot::vpt_geometry_svg("foot", &g, &plan.points).unwrap();
+    assert_eq!(
+        std::fs::read_to_string(&out).unwrap(),
+        format!("{}\n", page.svg)
+    );
+
+    // refusals name the step
+    let e = cli(&["--step", "nope"]).unwrap_err();
+    assert!(
+        e.message.contains("no step 'nope'") && e.message.contains("the recipe's are foot"),
+        "{e}"
+    );
+    assert_eq!(mortise::cli::exit_code(e.kind), 1);
+    let e = cli(&["--step", "twice"]).unwrap_err();
+    assert!(e.message.contains("step 'twice' is a 'scale' step"), "{e}");
+    let e = cli(&["--read-outside"]).unwrap_err();
+    assert_eq!(mortise::cli::exit_code(e.kind), 2, "{e}");
+    assert!(e.message.contains("applies with --step only"), "{e}");
+    let help = mortise::cli::run_cli(&["help".to_string(), "diagram".to_string()]).unwrap();
+    assert!(help.contains("--step ID"), "{help}");
+}

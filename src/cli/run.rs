@@ -217,6 +217,43 @@ fn write_models(
     Ok(())
 }
 
+/// The size of the stabilization charts `mortise run` writes, pixels.
+pub const CHART_SIZE: [f64; 2] = [960.0, 600.0];
+
+/// Each identify-modes step's stabilization chart as `ID.stability.svg`,
+/// drawn by [`crate::plot::stabilization_svg`] (the page draws the same); a
+/// chart that cannot be drawn is a note of the report, naming the step.
+fn write_charts(
+    report: &mut crate::recipe::RunReport,
+    out: &Path,
+    files: &mut Vec<String>,
+) -> Result<()> {
+    let charts: Vec<(String, crate::identify::StabilizationChart)> = report
+        .steps
+        .iter()
+        .filter_map(|s| {
+            let id = s.identification.as_ref()?;
+            Some((s.id.clone(), crate::identify::stabilization_chart(id)))
+        })
+        .collect();
+    let stems = file_names(charts.iter().map(|(id, _)| id.as_str()))?;
+    for ((id, chart), stem) in charts.iter().zip(stems) {
+        match crate::plot::stabilization_svg(chart, CHART_SIZE[0], CHART_SIZE[1]) {
+            Ok(d) => {
+                let p = out.join(format!("{stem}.stability.svg"));
+                std::fs::write(&p, format!("{}\n", d.svg))
+                    .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+                files.push(p.display().to_string());
+            }
+            Err(e) => report.notes.push(format!(
+                "step '{id}': no stabilization chart is written: {}",
+                e.message
+            )),
+        }
+    }
+    Ok(())
+}
+
 /// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
@@ -247,6 +284,7 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
     }
     report.uff_node_numbers = numbers;
     write_models(&mut report, out, &mut files)?;
+    write_charts(&mut report, out, &mut files)?;
     let p = out.join("report.json");
     let text = serde_json::to_string_pretty(&report)
         .map_err(|e| internal(format!("report as JSON: {e}")))?;

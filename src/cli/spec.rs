@@ -461,7 +461,9 @@ pub const RUN: Command = Command {
             spectra) to OUTDIR (created if needed) as NAME.uff (UFF 58; text \
             node labels numbered, the numbers listed in the report) and NAME.csv (mortise CSV, \
             lossless), plus report.json (conditioning, warnings, levels, path rankings, the audit \
-            of every component, the headline), and prints the headline.",
+            of every component, the headline), and prints the headline. Each identify-modes step \
+            also gives ID.modes.json and ID.modes.unv (its modal model, when a driving point \
+            scales it) and ID.stability.svg (its stabilization chart).",
     groups: &[
         Group {
             title: "options",
@@ -494,15 +496,24 @@ pub const RUN: Command = Command {
 
 pub const DIAGRAM: Command = Command {
     name: "diagram",
-    summary: "draw the assembly a recipe describes as SVG: components, joints, steps, outputs",
-    usage: "mortise diagram RECIPE [-o FILE.svg]",
+    summary: "draw the assembly a recipe describes as SVG: components, joints, steps, outputs \
+              (or, with --step, the geometry of a virtual-point step)",
+    usage: "mortise diagram RECIPE [-o FILE.svg] [--step ID [--read-outside] [limits]]",
     about: "Reads RECIPE (as 'mortise run' does, without reading the files it names) and draws \
             it: each component with its source and interface DOFs, each coupling step's joints \
             as connectors between the parts' DOFs with the joint type and its parameters in SI \
             units, and every step in recipe order as a flow from the components to the results, \
             requested outputs marked and joints a variant leaves out dashed. The page's assembly \
             panel shows the same drawing. Beyond 200 components, 200 steps or 200 joints the \
-            rest are counted in a note rather than drawn.",
+            rest are counted in a note rather than drawn.\n\n\
+            With --step ID, draws instead the geometry of the to-virtual-points step ID in three \
+            views (top X-Y, front X-Z, side Y-Z): each virtual point's origin with its name, each \
+            sensor channel as a solid arrow from the sensor, each impact as a dashed arrow into \
+            the point hit, and a scale bar in the geometry's unit. This reads the files the \
+            recipe names (relative to its folder, as 'mortise run' reads them) and runs the \
+            steps before ID, to know the channels and impacts of the set the step reads; \
+            --read-outside and the limits apply to that. A step the recipe does not have, or a \
+            step of another kind, is refused naming it.",
     groups: &[
         Group {
             title: "options",
@@ -512,10 +523,27 @@ pub const DIAGRAM: Command = Command {
                     "FILE.svg",
                     "the SVG file to write; default: the SVG on standard output",
                 ),
+                val(
+                    "step",
+                    "ID",
+                    "draw the geometry of the to-virtual-points step ID (its virtual points, \
+                     sensor channels and impacts) instead of the assembly",
+                ),
                 HELP_OPT,
             ],
         },
-        FILES_GROUP,
+        LIMITS_GROUP,
+        Group {
+            title: "files",
+            opts: &[
+                flag(
+                    "read-outside",
+                    "with --step: let the recipe name files outside its own folder (default: \
+                     refused, as for 'mortise run')",
+                ),
+                MAX_FILE_OPT,
+            ],
+        },
     ],
     example: "mortise diagram sample-frf/heat-pump.recipe.json -o assembly.svg",
 };

@@ -54,9 +54,9 @@ const LANE_GAP_MIN: f64 = 130.0;
 
 // The page's colours (www/style.css); text colours keep 4.5:1 or more on
 // the fills they sit on.
-const INK: &str = "#1f2a30";
-const MUTED: &str = "#5d6b73";
-const LINE: &str = "#d9d4c8";
+pub(super) const INK: &str = "#1f2a30";
+pub(super) const MUTED: &str = "#5d6b73";
+pub(super) const LINE: &str = "#d9d4c8";
 const HEAD: &str = "#23404a";
 const ACCENT: &str = "#a3520f";
 const OK: &str = "#2f7d5b";
@@ -110,7 +110,7 @@ pub struct Diagram {
 /// Text as it may appear in SVG: control characters (and the two
 /// non-characters XML refuses) become spaces or U+FFFD, runs of white space
 /// one space.
-fn clean(s: &str) -> String {
+pub(super) fn clean(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     let mut space = false;
     for c in s.chars() {
@@ -133,7 +133,7 @@ fn clean(s: &str) -> String {
 }
 
 /// XML escaping for text and double- or single-quoted attribute values.
-fn esc(s: &str) -> String {
+pub(super) fn esc(s: &str) -> String {
     let mut out = String::with_capacity(s.len() + 8);
     for c in s.chars() {
         match c {
@@ -158,7 +158,7 @@ fn char_em(c: char) -> f64 {
 }
 
 /// Estimated width of `s` at font size `size` (bold about 8 % wider).
-fn text_w(s: &str, size: f64, bold: bool) -> f64 {
+pub(super) fn text_w(s: &str, size: f64, bold: bool) -> f64 {
     let w: f64 = s.chars().map(char_em).sum::<f64>() * size;
     if bold {
         w * 1.08
@@ -1349,6 +1349,7 @@ fn draw_ladder(
 
 #[cfg(test)]
 mod tests {
+    use super::super::fixtures::well_formed;
     use super::*;
     use crate::frf::{Direction, FrfSet};
     use crate::recipe::parse;
@@ -1375,62 +1376,6 @@ mod tests {
             .replace("&quot;", "\"")
             .replace("&#39;", "'")
             .replace("&amp;", "&")
-    }
-
-    /// A small well-formedness check: tags nest and close, every `&` starts
-    /// one of the five entities we write, attribute values hold no `<`, and
-    /// no character XML 1.0 refuses appears. (tests/cli_diagram.rs parses
-    /// the same kind of output with Python's xml.etree.)
-    fn well_formed(svg: &str) {
-        for c in svg.chars() {
-            let u = c as u32;
-            assert!(
-                !(u < 0x20 || u == 0xFFFE || u == 0xFFFF),
-                "character U+{u:04X} in the SVG"
-            );
-        }
-        let mut stack: Vec<String> = Vec::new();
-        let b = svg.as_bytes();
-        let mut i = 0;
-        while i < b.len() {
-            match b[i] {
-                b'<' => {
-                    let end = i + svg[i..].find('>').expect("tag closed");
-                    let tag = &svg[i + 1..end];
-                    if let Some(name) = tag.strip_prefix('/') {
-                        assert_eq!(stack.pop().as_deref(), Some(name), "close of {name}");
-                    } else {
-                        let name: String = tag
-                            .chars()
-                            .take_while(|c| c.is_ascii_alphanumeric())
-                            .collect();
-                        assert!(
-                            ["svg", "g", "rect", "text", "title", "path", "line", "circle"]
-                                .contains(&name.as_str()),
-                            "unexpected element <{name}"
-                        );
-                        // attribute values: name="...", nothing unescaped inside
-                        let attrs = &tag[name.len()..];
-                        assert_eq!(attrs.matches('"').count() % 2, 0, "{tag}");
-                        assert!(!attrs.contains('<'), "{tag}");
-                        if !tag.ends_with('/') {
-                            stack.push(name);
-                        }
-                    }
-                    i = end + 1;
-                }
-                b'&' => {
-                    let ok = ["&amp;", "&lt;", "&gt;", "&quot;", "&#39;"]
-                        .iter()
-                        .any(|e| svg[i..].starts_with(e));
-                    assert!(ok, "bare & at byte {i}: {}", &svg[i..(i + 12).min(b.len())]);
-                    i += 1;
-                }
-                b'>' => panic!("bare > at byte {i}"),
-                _ => i += 1,
-            }
-        }
-        assert!(stack.is_empty(), "unclosed {stack:?}");
     }
 
     /// Every item has exactly one group with its data attributes, and that

@@ -3,6 +3,10 @@
 //! translational DOF the file's FRFs use. Written as plain SVG text rather
 //! than through plotters: three small panels of points and lines, no axes
 //! or ticks, and the page shows it as an image (no script can run in it).
+//!
+//! [`Views`] is the one projection of the three-view sketches (this one and
+//! the virtual points' in `vpt_geometry.rs`): one scale for the three
+//! panels, each centred on the middle of the points' bounding box.
 
 use crate::frf::{Direction, Dof};
 use crate::io::uff58::Geometry;
@@ -11,6 +15,92 @@ use std::fmt::Write as _;
 
 const W: f64 = 150.0;
 const PAD: f64 = 14.0;
+
+/// The three views: title, horizontal axis, vertical axis (0 X, 1 Y, 2 Z).
+pub(super) const VIEWS: [(&str, usize, usize); 3] = [
+    ("top (X–Y)", 0, 1),
+    ("front (X–Z)", 0, 2),
+    ("side (Y–Z)", 1, 2),
+];
+
+/// Three orthographic views side by side, square panels of `size` pixels
+/// from (`left`, `top`), one scale (pixels per metre) for all of them.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Views {
+    mid: [f64; 3],
+    /// Pixels per unit of the coordinates.
+    pub(super) scale: f64,
+    pub(super) size: f64,
+    pub(super) left: f64,
+    pub(super) top: f64,
+}
+
+impl Views {
+    /// Views fitting `points` inside panels of `size` pixels with `pad`
+    /// pixels free at each edge; `None` without a finite point. Points all
+    /// at one place are drawn at the panels' centres.
+    pub(super) fn fit(
+        points: impl IntoIterator<Item = [f64; 3]>,
+        size: f64,
+        pad: f64,
+        left: f64,
+        top: f64,
+    ) -> Option<Views> {
+        let mut lo = [f64::INFINITY; 3];
+        let mut hi = [f64::NEG_INFINITY; 3];
+        for p in points {
+            if p.iter().all(|v| v.is_finite()) {
+                for k in 0..3 {
+                    lo[k] = lo[k].min(p[k]);
+                    hi[k] = hi[k].max(p[k]);
+                }
+            }
+        }
+        if !lo[0].is_finite() {
+            return None;
+        }
+        let span = (0..3).map(|k| hi[k] - lo[k]).fold(0.0f64, f64::max);
+        let scale = if span > 0.0 {
+            (size - 2.0 * pad) / span
+        } else {
+            1.0
+        };
+        Some(Views {
+            mid: [0, 1, 2].map(|k| (lo[k] + hi[k]) / 2.0),
+            scale,
+            size,
+            left,
+            top,
+        })
+    }
+
+    /// Pixel position of `p` in view `v` (0 top, 1 front, 2 side).
+    pub(super) fn px(&self, v: usize, p: &[f64; 3]) -> (f64, f64) {
+        let (_, h, vv) = VIEWS[v];
+        (
+            self.left + v as f64 * self.size + self.size / 2.0 + (p[h] - self.mid[h]) * self.scale,
+            self.top + self.size / 2.0 - (p[vv] - self.mid[vv]) * self.scale,
+        )
+    }
+
+    /// A direction as seen in view `v`: its on-screen components (pixels
+    /// down positive) per unit length, and its component toward the viewer.
+    pub(super) fn dir(&self, v: usize, d: &[f64; 3]) -> (f64, f64, f64) {
+        let (_, h, vv) = VIEWS[v];
+        // the axis out of the screen is h × v (right-handed): +Z, −Y, +X
+        let toward = match v {
+            0 => d[2],
+            1 => -d[1],
+            _ => d[0],
+        };
+        (d[h], -d[vv], toward)
+    }
+
+    /// Left edge of panel `v`.
+    pub(super) fn panel_left(&self, v: usize) -> f64 {
+        self.left + v as f64 * self.size
+    }
+}
 
 fn esc(s: &str) -> String {
     s.replace('&', "&amp;")
@@ -27,26 +117,8 @@ pub fn geometry_svg(g: &Geometry, dofs: &[Dof]) -> Option<String> {
         return None;
     }
     let pos: BTreeMap<i64, [f64; 3]> = g.nodes.iter().map(|n| (n.id, n.xyz)).collect();
-    let mut lo = [f64::INFINITY; 3];
-    let mut hi = [f64::NEG_INFINITY; 3];
-    for p in pos.values() {
-        for k in 0..3 {
-            lo[k] = lo[k].min(p[k]);
-            hi[k] = hi[k].max(p[k]);
-        }
-    }
-    let span = (0..3)
-        .map(|k| hi[k] - lo[k])
-        .fold(0.0f64, f64::max)
-        .max(1e-9);
-    let scale = (W - 2.0 * PAD) / span;
+    let views = Views::fit(pos.values().copied(), W, PAD, 0.0, 0.0)?;
     let arrow = 0.12 * (W - 2.0 * PAD);
-    // (title, horizontal axis, vertical axis)
-    let views = [
-        ("top (X–Y)", 0usize, 1usize),
-        ("front (X–Z)", 0, 2),
-        ("side (Y–Z)", 1, 2),
-    ];
     let mut s = String::new();
     let _ = write!(
         s,
@@ -73,10 +145,10 @@ pub fn geometry_svg(g: &Geometry, dofs: &[Dof]) -> Option<String> {
                 .then_some((p, axis, sign))
         })
         .collect();
-    for (v, (title, h, vv)) in views.iter().enumerate() {
-        let ox = v as f64 * W;
-        let px = |p: &[f64; 3]| ox + PAD + (p[*h] - lo[*h]) * scale;
-        let py = |p: &[f64; 3]| W - PAD - (p[*vv] - lo[*vv]) * scale;
+    for (v, (title, h, vv)) in VIEWS.iter().enumerate() {
+        let ox = views.panel_left(v);
+        let px = |p: &[f64; 3]| views.px(v, p).0;
+        let py = |p: &[f64; 3]| views.px(v, p).1;
         let _ = write!(
             s,
             r##"<rect x="{:.1}" y="0.5" width="{:.1}" height="{:.1}" fill="none" stroke="#c9d1d3"/><text x="{:.1}" y="{:.1}" fill="#334">{}</text>"##,

@@ -150,6 +150,23 @@ fn execute(
     })
 }
 
+/// The sets the step at index `n` can read, as the baseline run makes them:
+/// every component loaded, the steps before it run (no variant, no audit),
+/// within `limits`.
+pub(crate) fn values_before(
+    recipe: &Recipe,
+    n: usize,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<BTreeMap<String, FrfSet>> {
+    super::check_names(recipe)?;
+    let comps = load_components_with(recipe, files, limits)?;
+    let mut before = recipe.clone();
+    before.steps.truncate(n);
+    before.variants.clear();
+    Ok(execute(&before, &comps, None, limits, files)?.values)
+}
+
 /// The requested outputs of one execution, each followed by its extras.
 fn collect(recipe: &Recipe, ex: &Executed, suffix: &str) -> Vec<FrfSet> {
     let mut out = Vec::new();

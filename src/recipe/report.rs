@@ -6,6 +6,7 @@
 //! ISO 1683 reference.
 
 use crate::audit::AuditReport;
+use crate::error::{quote, Error, Result};
 use crate::frf::{FrfSet, Provenance};
 use crate::levels::{self, Weighting};
 use crate::predict::blocked::BlockedForces;
@@ -120,6 +121,58 @@ impl StepReport {
             identification: None,
         }
     }
+}
+
+/// The identification of step `step` in a run report's JSON (as the page
+/// keeps the report), for drawing its stabilization chart. Refused, naming
+/// the step: a report without steps, a step it does not hold, a step that
+/// is not an identify-modes step (the message lists those it holds).
+pub fn step_identification(
+    report: &serde_json::Value,
+    step: &str,
+) -> Result<crate::identify::Identification> {
+    let steps = report
+        .get("steps")
+        .and_then(|s| s.as_array())
+        .ok_or_else(|| {
+            Error::parse("the run report has no list of steps; give the report of a run")
+                .field("steps")
+        })?;
+    let id_of = |s: &serde_json::Value| s.get("id").and_then(|i| i.as_str()).map(str::to_string);
+    let identify: Vec<String> = steps
+        .iter()
+        .filter(|s| s.get("identification").is_some())
+        .filter_map(id_of)
+        .collect();
+    let listed = if identify.is_empty() {
+        "the report has none".to_string()
+    } else {
+        format!("the report's are {}", identify.join(", "))
+    };
+    let Some(s) = steps.iter().find(|s| id_of(s).as_deref() == Some(step)) else {
+        return Err(Error::recipe(format!(
+            "the run report has no step '{}'; a stabilization chart is drawn for an identify-modes step ({listed})",
+            quote(step)
+        ))
+        .field("step"));
+    };
+    let Some(v) = s.get("identification") else {
+        let op = s.get("op").and_then(|o| o.as_str()).unwrap_or("?");
+        return Err(Error::recipe(format!(
+            "step '{}' is a '{}' step; a stabilization chart is drawn for an identify-modes step ({listed})",
+            quote(step),
+            quote(op)
+        ))
+        .field("step"));
+    };
+    serde_json::from_value(v.clone()).map_err(|e| {
+        Error::parse(format!(
+            "step '{}': its identification in the report cannot be read: {}",
+            quote(step),
+            quote(&e.to_string())
+        ))
+        .field("identification")
+    })
 }
 
 /// Keep the first of each equal text, in order.

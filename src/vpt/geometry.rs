@@ -63,6 +63,11 @@ pub struct Geometry {
     pub rows: Vec<GeoRow>,
     /// The file it was read from, if any (for messages).
     pub file: Option<String>,
+    /// True when the rows describe a whole structure (the nodes of a UFF
+    /// file): rows that locate no channel or impact of the step are then
+    /// expected and not an error. False for our layout and inline rows,
+    /// where every row must be used.
+    pub whole_structure: bool,
 }
 
 /// The first line of a geometry file.
@@ -145,6 +150,7 @@ impl Geometry {
             to_metres: f,
             rows: out,
             file: None,
+            whole_structure: false,
         })
     }
 

@@ -64,11 +64,17 @@
 //! layout is accepted inline in a recipe as `{"unit": "mm", "rows":
 //! [{"label": "outdoor:s1", "at": [40, 0, 12]}, {"label": "outdoor:s3+X", "at":
 //! [...], "dir": [...]}]}`.
+//!
+//! A Universal File with nodes (datasets 15 or 2411) is a geometry too: each
+//! node locates its DOFs along the axes of its displacement system (see
+//! `uff_geometry.rs`); positions and origins are then in metres, and nodes
+//! that locate nothing of the step are expected.
 
 pub mod consistency;
 pub mod geometry;
 pub mod modes;
 pub mod transform;
+mod uff_geometry;
 
 pub use consistency::VirtualPointReport;
 pub use geometry::{Geometry, Located, RawRow, GEOMETRY_MAGIC};

@@ -263,7 +263,7 @@ fn check_rank(
 /// Resolve the points against `set` and compute their matrices: the plan of
 /// the transformation (cheap; the set itself is not touched).
 pub fn plan(set: &FrfSet, geom: &Geometry, vps: &[VirtualPointDef]) -> Result<Plan> {
-    plan_with(set, geom, vps, true)
+    plan_with(set, geom, vps, !geom.whole_structure)
 }
 
 fn plan_with(

@@ -1,9 +1,13 @@
 //! `to-virtual-points`: a set's interface channels and impacts reduced to
 //! virtual points (six DOFs each) by [`crate::vpt`].
 
-use super::{opt, req, Ctx, Operand, Operation, StepOutput};
+use super::{opt, req, Ctx, Op, Operand, Operation, StepOutput};
 use crate::error::{quote, Error, Result};
+use crate::frf::FrfSet;
+use crate::limits::Limits;
+use crate::recipe::execute::values_before;
 use crate::recipe::report::StepReport;
+use crate::recipe::{FileSource, Recipe};
 use crate::vpt::{self, Geometry, RawRow, VirtualPointDef, DEFAULT_CONSISTENCY_MIN};
 use serde::{Deserialize, Serialize};
 
@@ -127,11 +131,16 @@ fn weights(
 }
 
 impl ToVirtualPoints {
-    fn geometry(&self, cx: &Ctx) -> Result<Geometry> {
+    /// The step's geometry: its file read through `files`, or its inline rows.
+    fn geometry(&self, files: &dyn FileSource) -> Result<Geometry> {
         match &self.geometry {
             GeometryOperand::File(name) => {
-                let bytes = cx.files.read(name).map_err(|e| e.field("geometry"))?;
-                Geometry::from_csv(&bytes, name)
+                let bytes = files.read(name).map_err(|e| e.field("geometry"))?;
+                if crate::io::uff58::looks_like_uff(&bytes).is_some() {
+                    Geometry::from_uff(&bytes, name).map_err(|e| e.field("geometry"))
+                } else {
+                    Geometry::from_csv(&bytes, name)
+                }
             }
             GeometryOperand::Inline(g) => {
                 let rows: Vec<RawRow> = g
@@ -150,6 +159,81 @@ impl ToVirtualPoints {
             }
         }
     }
+
+    /// The step's points resolved against the set it reads: its geometry
+    /// and the plan (each point's channels and impacts located), as the
+    /// run computes them.
+    pub fn plan_on(&self, set: &FrfSet, files: &dyn FileSource) -> Result<(Geometry, vpt::Plan)> {
+        let geom = self.geometry(files)?;
+        let mut defs = Vec::with_capacity(self.points.0.len());
+        for (i, p) in self.points.0.iter().enumerate() {
+            let ctx = vpt::transform::point_context(i, &p.name);
+            defs.push(VirtualPointDef {
+                name: p.name.clone(),
+                origin: p.origin,
+                sensors: p.sensors.clone(),
+                impacts: p.impacts.clone(),
+                sensor_weights: weights(&p.sensor_weights, "sensor_weights")
+                    .map_err(|e| e.within(ctx.clone()))?,
+                impact_weights: weights(&p.impact_weights, "impact_weights")
+                    .map_err(|e| e.within(ctx))?,
+            });
+        }
+        let plan = vpt::plan(set, &geom, &defs)?;
+        Ok((geom, plan))
+    }
+}
+
+/// A to-virtual-points step of a recipe resolved for drawing: the set it
+/// reads is made as the baseline run makes it (components loaded, the
+/// steps before it run, within `limits`), then its points are resolved
+/// against that set ([`ToVirtualPoints::plan_on`]). Refused, naming the
+/// step: a step the recipe does not have, a step of another kind (the
+/// message lists the recipe's to-virtual-points steps).
+pub fn virtual_point_plan(
+    recipe: &Recipe,
+    step: &str,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<(Geometry, vpt::Plan)> {
+    let vp_steps: Vec<&str> = recipe
+        .steps
+        .iter()
+        .filter(|s| matches!(s.op, Op::ToVirtualPoints(_)))
+        .map(|s| s.id.as_str())
+        .collect();
+    let listed = if vp_steps.is_empty() {
+        "the recipe has none".to_string()
+    } else {
+        format!("the recipe's are {}", vp_steps.join(", "))
+    };
+    let Some(n) = recipe.steps.iter().position(|s| s.id == step) else {
+        return Err(Error::recipe(format!(
+            "the recipe has no step '{}'; the geometry is drawn for a to-virtual-points step ({listed})",
+            quote(step)
+        ))
+        .field("step"));
+    };
+    let st = &recipe.steps[n];
+    let Op::ToVirtualPoints(vp) = &st.op else {
+        return Err(Error::recipe(format!(
+            "step '{}' is a '{}' step; the geometry is drawn for a to-virtual-points step ({listed})",
+            quote(step),
+            st.op.name()
+        ))
+        .field("step"));
+    };
+    let label = format!("steps[{n}] (id '{}', op '{}')", st.id, st.op.name());
+    let values = values_before(recipe, n, files, limits)?;
+    let set = values.get(&vp.from).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{}' is not a component or an earlier step",
+            quote(&vp.from)
+        ))
+        .field("from")
+        .within(label.clone())
+    })?;
+    vp.plan_on(set, files).map_err(|e| e.within(label))
 }
 
 impl Operation for ToVirtualPoints {
@@ -159,7 +243,7 @@ impl Operation for ToVirtualPoints {
         req("from", "name of the set (motion per force: receptance, mobility or accelerance)"),
         req(
             "geometry",
-            "where each channel and impact sits: a file of our geometry layout ('# mortise-geometry 1', 'unit, mm', rows 'label, x, y, z[, dx, dy, dz]'; see the README), or inline {\"unit\": \"mm\", \"rows\": [{\"label\": \"c:s1\", \"at\": [x, y, z], \"dir\": [dx, dy, dz] (optional, DOF rows only)}]}; a node row gives each of its DOFs the direction of its label; every row must be used",
+            "where each channel and impact sits: a file of our geometry layout ('# mortise-geometry 1', 'unit, mm', rows 'label, x, y, z[, dx, dy, dz]'; see the README), a Universal File with nodes (datasets 15 or 2411, directions from each node's displacement system; positions and origins in m), or inline {\"unit\": \"mm\", \"rows\": [{\"label\": \"c:s1\", \"at\": [x, y, z], \"dir\": [dx, dy, dz] (optional, DOF rows only)}]}; a node row gives each of its DOFs the direction of its label; every row must be used",
         ),
         req(
             "points",
@@ -182,22 +266,7 @@ impl Operation for ToVirtualPoints {
             ))
             .field("consistency_min"));
         }
-        let geom = self.geometry(cx)?;
-        let mut defs = Vec::with_capacity(self.points.0.len());
-        for (i, p) in self.points.0.iter().enumerate() {
-            let ctx = vpt::transform::point_context(i, &p.name);
-            defs.push(VirtualPointDef {
-                name: p.name.clone(),
-                origin: p.origin,
-                sensors: p.sensors.clone(),
-                impacts: p.impacts.clone(),
-                sensor_weights: weights(&p.sensor_weights, "sensor_weights")
-                    .map_err(|e| e.within(ctx.clone()))?,
-                impact_weights: weights(&p.impact_weights, "impact_weights")
-                    .map_err(|e| e.within(ctx))?,
-            });
-        }
-        let plan = vpt::plan(s, &geom, &defs)?;
+        let (geom, plan) = self.plan_on(s, cx.files)?;
         cx.check_set(
             "the virtual-point set",
             s.n_lines(),
@@ -217,6 +286,13 @@ impl Operation for ToVirtualPoints {
         )?;
         let t = plan.apply(s, threshold)?;
         let mut report = StepReport::new(cx.id, "to-virtual-points", t.set.warnings.clone());
+        if geom.whole_structure {
+            report.notes.push(format!(
+                "geometry from the nodes of {} ({} nodes; positions in m, DOF directions from each node's displacement system)",
+                geom.name(),
+                geom.rows.len() / 6
+            ));
+        }
         report.virtual_points = Some(t.points);
         Ok(StepOutput {
             set: t.set,
