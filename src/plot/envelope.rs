@@ -26,7 +26,7 @@ pub(super) fn pixel_polylines(
 ) -> Vec<Vec<(f64, f64)>> {
     visible_with(panel, pts, xpx)
         .into_iter()
-        .map(|l| reduce(&l))
+        .map(|l| super::simplify::simplify(&reduce(&l), super::simplify::TOLERANCE_PX))
         .collect()
 }
 
@@ -132,7 +132,10 @@ mod tests {
             .collect();
         let r = reduce(&line);
         assert!(r.len() < line.len() / 10, "{} of {}", r.len(), line.len());
-        assert_eq!(columns(&[line.clone()]), columns(&[r.clone()]));
+        assert_eq!(
+            columns(std::slice::from_ref(&line)),
+            columns(std::slice::from_ref(&r))
+        );
         assert_eq!(r.first(), line.first());
         assert_eq!(r.last(), line.last());
         // points stay in the order of the curve

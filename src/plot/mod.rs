@@ -23,7 +23,8 @@
 //! panels in pixels, and clipping (no backend calls); `draw.rs` the drawing
 //! primitives over a backend (colours, text, dashed strokes, axes, legends,
 //! curves); `envelope.rs` the per-pixel-column decimation of long curves
-//! (min/max envelope: no peak lost); `render.rs` each kind of plot laid out
+//! (min/max envelope: no peak lost); `simplify.rs` the points a stroke
+//! cannot show left out (within 0.3 px of the drawn line); `render.rs` each kind of plot laid out
 //! and drawn ([`draw_data`], [`draw`], [`render_svg`]); `resolved.rs` the
 //! resolved data a redraw needs ([`PlotData`], [`View`], and its parts for
 //! crossing between wasm instances); `probe.rs` the cursor readouts
@@ -45,6 +46,7 @@ mod layout;
 mod probe;
 mod render;
 mod resolved;
+mod simplify;
 mod spec;
 mod stabilization;
 mod vpt_geometry;
