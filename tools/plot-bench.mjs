@@ -2,7 +2,8 @@
 // and per cursor move with 150 curves of 1,000 lines, against any build of
 // the page (so a build before the canvas plot can be measured the same way).
 // usage: node tools/plot-bench.mjs [PAGE.html]   (default dist/mortise.html)
-// Prints `# measure ...` lines; asserts nothing (times depend on the machine).
+// Prints `# measure ...` lines, with the core's redraw as a ratio to a plain Canvas 2D
+// drawing of as many points measured in the same run; asserts nothing.
 import { chromium } from 'playwright-core';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -63,4 +64,47 @@ try {
   report(`${page}: longest main-thread task over the 20 steps and 50 cursor moves (ms)`, Math.max(0, ...await p.evaluate(() => window.__tasks)).toFixed(0));
   const r = await p.evaluate(() => window.mortiseTimings.redraw_ms);
   if (r) report(`${page}: median redraw of the canvas by the core (ms)`, median(r.slice(1)).toFixed(1));
+  // the reference, measured here in the same run: the plain Canvas 2D API stroking 150
+  // polylines of 1,000 points each (1 px, one path a curve) on a canvas of the plot's
+  // size, flushed by reading a pixel back; the core's redraw is timed the same way
+  const ref = await p.evaluate(() => {
+    const src = document.getElementById('plot-canvas');
+    const c = document.createElement('canvas');
+    c.width = src.width; c.height = src.height;
+    const g = c.getContext('2d');
+    const times = [];
+    for (let rep = 0; rep < 7; rep++) {
+      const t = performance.now();
+      g.clearRect(0, 0, c.width, c.height);
+      for (let k = 0; k < 150; k++) {
+        g.beginPath();
+        for (let i = 0; i < 1000; i++) {
+          const x = 80 + (i / 999) * (c.width - 100);
+          const y = c.height / 2 + (c.height / 3) * Math.sin(i * 0.02 + k) / (1 + 0.002 * i);
+          if (i) g.lineTo(x, y); else g.moveTo(x, y);
+        }
+        g.strokeStyle = `hsl(${k * 37 % 360} 60% 40%)`;
+        g.lineWidth = 1;
+        g.stroke();
+      }
+      g.getImageData(0, 0, 1, 1);
+      times.push(performance.now() - t);
+    }
+    return times.sort((a, b) => a - b)[3];
+  });
+  // redraw() is the page's own (its scripts share one scope): the core draws the kept data
+  const core = await p.evaluate(() => {
+    const c = document.getElementById('plot-canvas');
+    const times = [];
+    for (let rep = 0; rep < 7; rep++) {
+      const t = performance.now();
+      redraw(); // eslint-disable-line no-undef
+      c.getContext('2d').getImageData(0, 0, 1, 1);
+      times.push(performance.now() - t);
+    }
+    return times;
+  });
+  const coreMedian = median(core);
+  report(`${page}: reference, plain Canvas 2D stroking 150 × 1,000 points (ms, median of 7)`, ref.toFixed(1));
+  report(`${page}: the core's redraw of 150 curves (ms, median of 7) and its ratio to the reference`, `${coreMedian.toFixed(1)} (${(coreMedian / ref).toFixed(2)}×)`);
 } finally { await ctx.close(); rmSync(dir, { recursive: true, force: true }); }

@@ -313,11 +313,16 @@ function parseCoreError(text) {
 
 // The legend the core drew: when it has too many entries to name inside the
 // plot, they are listed below it with the core's colours and dashes.
+let legendKey = '';
 function renderLegend(entries) {
   const box = $('plot-legend'), list = $('plot-legend-list');
   const listed = entries.length && entries.some((e) => !e.inside);
   box.hidden = !listed;
   if (!listed) return;
+  // a zoom or a pan draws the same curves: the list stays (no relayout of 150 rows)
+  const key = JSON.stringify(entries);
+  if (key === legendKey && list.childElementCount === entries.length) return;
+  legendKey = key;
   clear(list);
   $('plot-legend-count').textContent = `${entries.length} curves`;
   for (const e of entries) {

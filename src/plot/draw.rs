@@ -65,14 +65,20 @@ pub(super) fn text<DB: DrawingBackend>(
     b.draw_text(s, &st, (x, y)).map_err(derr)
 }
 
-/// Stroke a pixel polyline with a dash pattern.
+/// Curves drawn 2 px wide up to this many in a panel, 1 px wide beyond:
+/// many overlaid curves stay apart, and a canvas strokes thin lines far
+/// faster (common practice for dense overlays).
+pub const THIN_OVER: usize = 12;
+
+/// Stroke a pixel polyline `width` px wide with a dash pattern.
 fn stroke<DB: DrawingBackend>(
     b: &mut DB,
     line: &[(f64, f64)],
     c: RGBColor,
     (on, off): (u32, u32),
+    width: u32,
 ) -> Result<()> {
-    let style = ShapeStyle::from(&c).stroke_width(2);
+    let style = ShapeStyle::from(&c).stroke_width(width);
     let ip = |p: (f64, f64)| (p.0.round() as i32, p.1.round() as i32);
     if on == 0 {
         return b
@@ -310,6 +316,7 @@ pub(super) fn legend_with<DB: DrawingBackend>(
                 &[((x0 + 6) as f64, y as f64), ((x0 + 34) as f64, y as f64)],
                 colour(i),
                 dash(i),
+                2,
             )?;
         }
         text(
@@ -341,6 +348,7 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
     stems: &[bool],
     stem_lines: bool,
 ) -> Result<()> {
+    let width = if curves.len() > THIN_OVER { 1 } else { 2 };
     // pixel x of the last grid seen: curves on one grid map it once
     let mut grid: (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
     for (i, pts) in curves.iter().enumerate() {
@@ -370,7 +378,7 @@ pub(super) fn draw_curves_stems<DB: DrawingBackend>(
             grid = (pts.iter().map(|q| q.0).collect(), x_pixels(p, pts));
         }
         for line in pixel_polylines(p, pts, Some(&grid.1)) {
-            stroke(b, &line, colour(i), dash(i))?;
+            stroke(b, &line, colour(i), dash(i), width)?;
         }
     }
     Ok(())

@@ -19,20 +19,22 @@
 /// How far (px) a left-out point may lie from the drawn polyline.
 pub(super) const TOLERANCE_PX: f64 = 0.3;
 
-/// The angle of `a` relative to `reference`, in (−π, π].
-fn relative(a: f64, reference: f64) -> f64 {
-    let mut d = a - reference;
-    while d > std::f64::consts::PI {
-        d -= std::f64::consts::TAU;
-    }
-    while d <= -std::f64::consts::PI {
-        d += std::f64::consts::TAU;
-    }
-    d
+/// z-component of the cross product a × b.
+fn cross(a: (f64, f64), b: (f64, f64)) -> f64 {
+    a.0 * b.1 - a.1 * b.0
+}
+
+/// `u` (unit) turned by the angle whose sine is `s` and cosine `c`.
+fn turn(u: (f64, f64), s: f64, c: f64) -> (f64, f64) {
+    (u.0 * c - u.1 * s, u.0 * s + u.1 * c)
 }
 
 /// The polyline `line` (pixels) with the points within `tol` of the chords
 /// between kept points left out; the first and last points are kept.
+///
+/// The cone is kept as its two bounding unit directions (lo turned
+/// clockwise of hi by less than π, as each point's own cone is narrower than
+/// π), tested by cross products: no angle functions in the loop.
 pub(super) fn simplify(line: &[(f64, f64)], tol: f64) -> Vec<(f64, f64)> {
     if line.len() <= 2 {
         return line.to_vec();
@@ -40,26 +42,30 @@ pub(super) fn simplify(line: &[(f64, f64)], tol: f64) -> Vec<(f64, f64)> {
     let mut out = Vec::with_capacity(line.len() / 4 + 2);
     let mut anchor = line[0];
     out.push(anchor);
-    // the cone: reference direction and the allowed offsets [lo, hi]
-    let mut cone: Option<(f64, f64, f64)> = None;
+    let mut cone: Option<((f64, f64), (f64, f64))> = None;
     let mut last_d = 0.0;
     let mut i = 1;
     while i < line.len() {
         let p = line[i];
-        let (dx, dy) = (p.0 - anchor.0, p.1 - anchor.1);
-        let d = dx.hypot(dy);
-        if d <= tol && cone.is_none() {
-            // still within the tolerance of the kept point: no direction yet
-            i += 1;
+        let v = (p.0 - anchor.0, p.1 - anchor.1);
+        // no overflow to guard against in pixels: sqrt is several times faster than hypot
+        let d = (v.0 * v.0 + v.1 * v.1).sqrt();
+        if d <= tol {
+            if cone.is_none() {
+                // still within the tolerance of the kept point: no direction yet
+                i += 1;
+                continue;
+            }
+            // back near the kept point after leaving it: the chord ends
+            anchor = line[i - 1];
+            out.push(anchor);
+            cone = None;
+            last_d = 0.0;
             continue;
         }
-        let ang = dy.atan2(dx);
         let fits = match cone {
             None => true,
-            Some((r, lo, hi)) => {
-                let a = relative(ang, r);
-                d >= last_d && a >= lo && a <= hi
-            }
+            Some((lo, hi)) => d >= last_d && cross(lo, v) >= 0.0 && cross(v, hi) >= 0.0,
         };
         if !fits {
             // the chord ends at the previous point, which starts the next
@@ -69,17 +75,16 @@ pub(super) fn simplify(line: &[(f64, f64)], tol: f64) -> Vec<(f64, f64)> {
             last_d = 0.0;
             continue; // the same point again, from the new anchor
         }
-        let half = if d > tol {
-            (tol / d).asin()
-        } else {
-            std::f64::consts::FRAC_PI_2
-        };
+        let u = (v.0 / d, v.1 / d);
+        let s = tol / d;
+        let c = (1.0 - s * s).sqrt();
+        let (plo, phi) = (turn(u, -s, c), turn(u, s, c));
         cone = Some(match cone {
-            None => (ang, -half, half),
-            Some((r, lo, hi)) => {
-                let a = relative(ang, r);
-                (r, lo.max(a - half), hi.min(a + half))
-            }
+            None => (plo, phi),
+            Some((lo, hi)) => (
+                if cross(lo, plo) > 0.0 { plo } else { lo },
+                if cross(phi, hi) > 0.0 { phi } else { hi },
+            ),
         });
         last_d = d;
         i += 1;
