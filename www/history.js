@@ -43,7 +43,7 @@ function renderHistory() {
       el('td', { class: 'history-headline' }, (h.headline || [])[0] || '–'),
       el('td', { class: h.error ? 'fail-text' : '' }, state),
       el('td', {}, el('button', {
-        class: 'btn small', type: 'button', 'aria-label': `put the recipe of run ${h.number} in the recipe text`,
+        class: 'btn small', type: 'button', 'aria-label': `use this recipe: run ${h.number}'s, put in the recipe text`,
         onclick: () => recallRecipe(h.number),
       }, 'use this recipe')));
   });
