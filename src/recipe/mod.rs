@@ -34,9 +34,10 @@ pub use ops::{
     OpInfo, Operand, Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum,
     ToVirtualPoints,
 };
+pub use ops::{pick_toggled, pick_written};
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,
-    ComponentReport, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport, ValidationReport,
+    ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport, ValidationReport,
     VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
 
