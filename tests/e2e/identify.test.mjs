@@ -146,10 +146,11 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
     const marks = JSON.parse(await p.$eval('.fit-chart', (e) => e.dataset.poles));
     const target = marks.filter((m) => m.class === 'stable' && Math.abs(m.freq - 77) < 0.77).sort((a, b) => b.order - a.order)[0];
     assert.ok(target, 'a stable pole at 77 Hz is drawn');
-    const box = await p.$eval('.fit-pic svg', (e) => { const r = e.getBoundingClientRect(); return { x: r.left, y: r.top, w: r.width, W: Number(e.getAttribute('width')) }; });
+    const box = await p.$eval('.fit-pic svg', (e) => { e.scrollIntoView({ block: 'center' }); const r = e.getBoundingClientRect(); return { x: r.left, y: r.top, w: r.width, W: Number(e.getAttribute('width')) }; });
     const k = box.w / box.W;
     await p.mouse.click(box.x + (target.x + target.w / 2) * k, box.y + (target.y + target.h / 2) * k);
-    await p.waitForFunction(() => JSON.parse(document.getElementById('recipe-text').value).steps[0].pick.length === 6);
+    await p.waitForFunction(() => JSON.parse(document.getElementById('recipe-text').value).steps[0].pick.length === 6, null, { timeout: 10000 })
+      .catch(async (e) => { throw new Error(`${e.message}; status: ${await p.textContent('#status-text')}`); });
     pick = await pickOnScreen(p);
     report('pick after clicking the pole at order ' + target.order, JSON.stringify(pick));
     const added = pick.find((c) => Math.abs(c.freq - 77) < 1);
@@ -169,9 +170,9 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
     const labels = spec.series.map((x) => x.label);
     assert.equal(labels.filter((l) => /\(measured\)$/.test(l)).length, 5);
     assert.equal(labels.filter((l) => /\(synthesized\)$/.test(l)).length, 5);
-    assert.deepEqual(labels.filter((l) => /SYNTHESIZED, not measured/.test(l)), ['bracket-clean: p:1+Y / p:1+Y (SYNTHESIZED, not measured: filled from the mode shapes)']);
-    assert.match(await p.textContent('#plot-legend-list'), /p:1\+Y \/ p:1\+Y \(SYNTHESIZED, not measured/);
-    assert.match(await p.textContent('.fit-filled'), /p:1\+Y\/p:1\+Y/);
+    assert.deepEqual(labels.filter((l) => /SYNTHESIZED, not measured/.test(l)), ['bracket-clean: bracket:1+Y / bracket:1+Y (SYNTHESIZED, not measured: filled from the mode shapes)']);
+    assert.match(await p.textContent('#plot-legend-list'), /bracket:1\+Y \/ bracket:1\+Y \(SYNTHESIZED, not measured/);
+    assert.match(await p.textContent('.fit-filled'), /bracket:1\+Y\/bracket:1\+Y/);
 
     // ---- the page's result against `mortise run` on the same recipe
     const text = await p.inputValue('#recipe-text');
