@@ -848,7 +848,10 @@ pub fn identify_pick_toggle(
 /// The modes step `step_id` chose, as a `pick` list for the recipe (the
 /// automatic choice written out; `recipe::ops::identify::pick_written`).
 #[wasm_bindgen]
-pub fn identify_pick_written(report_json: &str, step_id: &str) -> std::result::Result<String, JsValue> {
+pub fn identify_pick_written(
+    report_json: &str,
+    step_id: &str,
+) -> std::result::Result<String, JsValue> {
     let id = report_identification(report_json, step_id)?;
     to_json(&recipe::pick_written(&id).map_err(js_err)?)
 }

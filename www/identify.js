@@ -181,7 +181,7 @@ function macTable(id) {
     el('tr', {}, el('td', {}), ...heads.map((h) => el('th', { scope: 'col' }, h))),
     ...id.auto_mac.map((row, i) => el('tr', {}, el('th', { scope: 'row' }, heads[i] || String(i + 1)),
       ...row.slice(0, n).map((v, j) => {
-        const c = el('td', { class: i === j ? 'diag' : null }, fmt(v, 3));
+        const c = el('td', { class: i === j ? 'diag' : null }, Number.isFinite(v) ? v.toFixed(3) : '–');
         if (i !== j) c.style.setProperty('--mac', String(Math.max(0, Math.min(1, v))));
         return c;
       })))));

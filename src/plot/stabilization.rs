@@ -862,7 +862,11 @@ mod tests {
         let y = |o: usize| d.poles.iter().find(|m| m.order == o).unwrap().y;
         assert!(y(12) < y(1));
         // the 250 Hz pole: frequency and vector
-        let m = d.poles.iter().find(|m| m.freq == 250.0 && m.order == 5).unwrap();
+        let m = d
+            .poles
+            .iter()
+            .find(|m| m.freq == 250.0 && m.order == 5)
+            .unwrap();
         assert_eq!(m.class, "frequency-vector");
     }
 

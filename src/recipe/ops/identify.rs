@@ -288,12 +288,8 @@ pub fn pick_toggled(
         Pick::Auto => None,
         Pick::List(l) => Some(l),
     };
-    let (next, added) = identify::stability::toggle_pick(
-        list.as_deref(),
-        &id.chosen,
-        pole.freq,
-        &id.tolerances,
-    )?;
+    let (next, added) =
+        identify::stability::toggle_pick(list.as_deref(), &id.chosen, pole.freq, &id.tolerances)?;
     let v = serde_json::to_value(&next)
         .map_err(|e| Error::internal(format!("cannot encode the pick list: {e}")))?;
     Ok((v, added))
@@ -302,11 +298,8 @@ pub fn pick_toggled(
 /// The modes an identification chose, as a `pick` list (an automatic
 /// choice written out, to be edited).
 pub fn pick_written(id: &identify::Identification) -> Result<serde_json::Value> {
-    serde_json::to_value(identify::stability::choices_of(
-        &id.chosen,
-        &id.tolerances,
-    ))
-    .map_err(|e| Error::internal(format!("cannot encode the pick list: {e}")))
+    serde_json::to_value(identify::stability::choices_of(&id.chosen, &id.tolerances))
+        .map_err(|e| Error::internal(format!("cannot encode the pick list: {e}")))
 }
 
 #[cfg(test)]
