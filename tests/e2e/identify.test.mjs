@@ -19,7 +19,9 @@ import { complexRows } from './data.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
 const AXE = readFileSync(join(ROOT, 'node_modules/axe-core/axe.min.js'), 'utf8');
-const TRUE_HZ = [42.0, 77.0, 118.0, 118.0 * 1.02, 165.0, 212.0]; // identify_ref.py modal
+// the modes the numpy reference (tests/py/identify_ref.py modal) builds the FRFs from; found within
+// 1 % (the default frequency tolerance of stability, common practice)
+const TRUE_HZ = [42.0, 77.0, 118.0, 118.0 * 1.02, 165.0, 212.0];
 
 function cli() {
   const bins = [process.env.MORTISE_BIN, join(ROOT, 'target/release/mortise'), join(ROOT, 'target/debug/mortise')].filter(Boolean);
@@ -187,12 +189,21 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
     });
     const d = worstDiff(pageCsv, readFileSync(join(dir, 'out/bracket-clean.csv'), 'utf8'));
     report('bracket-clean: page vs `mortise run`, worst relative difference', d.toExponential(2));
-    assert.ok(d <= 1e-10, `page and CLI differ by ${d}`);
+    assert.ok(d <= 1e-10, `page and CLI differ by ${d}`); // one library, same recipe (DEVELOPERS.md invariants)
     const cliReport = JSON.parse(readFileSync(join(dir, 'out/report.json'), 'utf8'));
     const cliModes = cliReport.steps.find((x) => x.id === 'bracket-modes').identification.modes.map((m) => m.freq);
     const worstF = Math.max(...cliModes.map((f, i) => Math.abs(f - modes[i]) / f));
     report('mode frequencies: page table vs `mortise run` (table rounded to 6 digits), worst relative difference', worstF.toExponential(2));
     assert.ok(worstF <= 1e-5);
+
+    // ---- "choose automatically" removes pick: the core's own choice again
+    await p.check('.fit-auto');
+    await p.waitForFunction(() => !('pick' in JSON.parse(document.getElementById('recipe-text').value).steps[0]));
+    assert.match(await p.textContent('.fit-pick-now'), /no “pick”/);
+    await readByCore(p);
+    await run(p);
+    assert.equal((await modesOnScreen(p)).length, 6);
+    assert.equal(await p.$eval('.fit-reasons summary', (e) => e.textContent), 'why these modes (chosen automatically)');
 
     // ---- accessibility of the view
     await p.evaluate(AXE);
