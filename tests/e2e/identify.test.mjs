@@ -220,3 +220,28 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
     assert.deepEqual(s.errors, []);
   } finally { await s.close(); }
 });
+
+test('modal fit view: without a regenerate step the view offers one, then plots both', async () => {
+  const csv = measuredCsv();
+  const s = await open();
+  try {
+    const p = s.page;
+    await addFiles(p, [{ name: 'bracket-hammer.csv', data: Buffer.from(csv) }]);
+    const recipe = { ...RECIPE, steps: [RECIPE.steps[0]], outputs: ['bracket-modes'] };
+    await p.fill('#recipe-text', JSON.stringify(recipe, null, 2));
+    await readByCore(p);
+    await run(p);
+    assert.equal(await p.$('.fit-overlay-btn'), null);
+    await p.click('.fit-add-regen');
+    await p.waitForFunction(() => JSON.parse(document.getElementById('recipe-text').value).steps.length === 2);
+    const r = JSON.parse(await p.inputValue('#recipe-text'));
+    assert.deepEqual(r.steps[1], { id: 'bracket-modes-synth', op: 'regenerate', from: 'bracket-modes', fill_missing: true });
+    assert.deepEqual(r.outputs, ['bracket-modes', 'bracket', 'bracket-modes-synth']);
+    await readByCore(p);
+    await run(p);
+    await p.click('.fit-overlay-btn');
+    await p.waitForFunction(() => JSON.parse(document.getElementById('plot-wrap').dataset.spec || '{}').series?.length === 11, null, { timeout: 30000 });
+    report('curves plotted after adding the regenerate step', 11);
+    assert.deepEqual(s.errors, []);
+  } finally { await s.close(); }
+});
