@@ -788,3 +788,70 @@ pub fn vpt_geometry_svg(recipe_text: &str, step_id: &str) -> std::result::Result
         .map_err(js_err)?;
     to_json(&plot::vpt_geometry_svg(step_id, &geom, &plan.points).map_err(js_err)?)
 }
+
+/// The identify-modes step `step_id` of a run report (as JSON text).
+fn report_identification(
+    report_json: &str,
+    step_id: &str,
+) -> std::result::Result<crate::identify::Identification, JsValue> {
+    let report: serde_json::Value = serde_json::from_str(report_json).map_err(|e| {
+        js_err(Error::parse(format!("the run report is not JSON: {e}")).field("report"))
+    })?;
+    recipe::step_identification(&report, step_id).map_err(js_err)
+}
+
+/// The fitting view's chart: [`stabilization_chart_svg`]'s drawing with the
+/// box of every pole's mark (`poles`: order, index, frequency, damping,
+/// class, picked, x, y, w, h in SVG pixels; `plot::PoleMark`) and the
+/// groups of stable poles (`groups`: frequency, damping, orders, the pole
+/// to choose; `identify::stability::StableGroup`), for a page to tell
+/// which mark a click is on and to list the stable poles for the keyboard.
+#[wasm_bindgen]
+pub fn stabilization_chart_marks(
+    report_json: &str,
+    step_id: &str,
+    width: f64,
+    height: f64,
+) -> std::result::Result<String, JsValue> {
+    let id = report_identification(report_json, step_id)?;
+    let chart = crate::identify::stabilization_chart(&id);
+    let d = plot::stabilization_drawing(&chart, width, height).map_err(js_err)?;
+    let groups = crate::identify::stability::stable_groups(&id.chart, &id.tolerances);
+    let mut v = serde_json::to_value(&d)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode result: {e}"))))?;
+    v["groups"] = serde_json::to_value(&groups)
+        .map_err(|e| js_err(Error::internal(format!("cannot encode result: {e}"))))?;
+    to_json(&v)
+}
+
+/// A click on pole `order`/`index` of step `step_id`'s chart: the step's
+/// new `pick` (`pick_json`: the step's `pick` as the recipe has it, or
+/// `null`) as `{pick, added}` (`recipe::pick_toggled`); the
+/// page writes it into the recipe text.
+#[wasm_bindgen]
+pub fn identify_pick_toggle(
+    report_json: &str,
+    step_id: &str,
+    pick_json: &str,
+    order: usize,
+    index: usize,
+) -> std::result::Result<String, JsValue> {
+    let id = report_identification(report_json, step_id)?;
+    let current: serde_json::Value = serde_json::from_str(pick_json)
+        .map_err(|e| js_err(Error::parse(format!("'pick' is not JSON: {e}")).field("pick")))?;
+    let current = (!current.is_null()).then_some(current);
+    let (pick, added) =
+        recipe::pick_toggled(&id, current.as_ref(), order, index).map_err(js_err)?;
+    to_json(&serde_json::json!({ "pick": pick, "added": added }))
+}
+
+/// The modes step `step_id` chose, as a `pick` list for the recipe (the
+/// automatic choice written out; `recipe::ops::identify::pick_written`).
+#[wasm_bindgen]
+pub fn identify_pick_written(
+    report_json: &str,
+    step_id: &str,
+) -> std::result::Result<String, JsValue> {
+    let id = report_identification(report_json, step_id)?;
+    to_json(&recipe::pick_written(&id).map_err(js_err)?)
+}

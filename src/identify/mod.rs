@@ -657,6 +657,8 @@ pub struct Regenerated {
     pub set: FrfSet,
     /// Entries filled from the mode shapes ("OUT/IN").
     pub filled: Vec<String>,
+    /// The same entries as (output, input) indices of the set.
+    pub filled_at: Vec<(usize, usize)>,
 }
 
 /// The FRFs of an identification on `freqs` (inside the fitted band), in
@@ -709,6 +711,7 @@ pub fn regenerate(id: &Identification, freqs: &[f64], fill_missing: bool) -> Res
         id.in_qty,
     );
     let mut filled = Vec::new();
+    let mut filled_at = Vec::new();
     match &id.model {
         Some(model) => {
             let rec = model.receptance(freqs)?;
@@ -748,6 +751,7 @@ pub fn regenerate(id: &Identification, freqs: &[f64], fill_missing: bool) -> Res
                         }
                     ));
                     filled.push(label);
+                    filled_at.push((o, i));
                 }
             }
         }
@@ -789,7 +793,11 @@ pub fn regenerate(id: &Identification, freqs: &[f64], fill_missing: bool) -> Res
         "synthesized from {} mode(s) identified in {lo}–{hi} Hz, with residual terms",
         id.modes.len()
     ));
-    Ok(Regenerated { set, filled })
+    Ok(Regenerated {
+        set,
+        filled,
+        filled_at,
+    })
 }
 
 /// The identified model as UFF dataset 55 (one dataset a mode), through

@@ -228,12 +228,14 @@ fn criteria(n_ref: usize) -> &'static str {
     }
 }
 
-/// The automatic choice. Marks the chosen poles in `chart`.
-pub fn auto_pick(
-    chart: &mut [ChartOrder],
+/// The poles stable in every criterion, grouped by frequency (a group
+/// holds poles within `tolerances.freq` of its running mean), one pole per
+/// order (the one nearest the group's median frequency): per group, order
+/// index → (chart order index, pole index), groups in order of frequency.
+fn stable_sets(
+    chart: &[ChartOrder],
     tol: &Tolerances,
-    n_ref: usize,
-) -> (Vec<Chosen>, Vec<Refused>) {
+) -> Vec<std::collections::BTreeMap<usize, (usize, usize)>> {
     // (chart order index, pole index)
     let mut stable: Vec<(usize, usize)> = Vec::new();
     for (oi, o) in chart.iter().enumerate() {
@@ -263,21 +265,76 @@ pub fn auto_pick(
             }
         }
     }
+    groups
+        .into_iter()
+        .map(|g| {
+            let mut fs: Vec<f64> = g.iter().map(|&(o, p)| chart[o].poles[p].freq).collect();
+            fs.sort_by(f64::total_cmp);
+            let med = fs[fs.len() / 2];
+            let mut per_order: std::collections::BTreeMap<usize, (usize, usize)> =
+                Default::default();
+            for &(o, p) in &g {
+                let f = chart[o].poles[p].freq;
+                let e = per_order.entry(o).or_insert((o, p));
+                if (f - med).abs() < (chart[e.0].poles[e.1].freq - med).abs() {
+                    *e = (o, p);
+                }
+            }
+            per_order
+        })
+        .collect()
+}
+
+/// A group of stable poles (one column of the chart), for a list a reader
+/// can choose from without the chart: its pole at the highest order.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StableGroup {
+    /// The pole at the group's highest order: frequency (Hz), damping ratio.
+    pub freq: f64,
+    pub zeta: f64,
+    /// That pole's model order and its index among the order's poles.
+    pub order: usize,
+    pub index: usize,
+    /// The orders at which the group is stable in every criterion.
+    pub orders: Vec<usize>,
+    /// Whether a pole within the frequency tolerance of it was taken as a mode.
+    pub picked: bool,
+}
+
+/// The groups of stable poles of a chart (see [`stable_sets`]), in order
+/// of frequency.
+pub fn stable_groups(chart: &[ChartOrder], tol: &Tolerances) -> Vec<StableGroup> {
+    stable_sets(chart, tol)
+        .into_iter()
+        .filter_map(|per_order| {
+            let &(o, p) = per_order.values().last()?;
+            let pole = &chart[o].poles[p];
+            let near = |f: f64| (f - pole.freq).abs() <= tol.freq * pole.freq;
+            let picked = chart
+                .iter()
+                .flat_map(|o| &o.poles)
+                .any(|q| q.picked && near(q.freq));
+            Some(StableGroup {
+                freq: pole.freq,
+                zeta: pole.zeta,
+                order: chart[o].order,
+                index: p,
+                orders: per_order.keys().map(|&o| chart[o].order).collect(),
+                picked,
+            })
+        })
+        .collect()
+}
+
+/// The automatic choice. Marks the chosen poles in `chart`.
+pub fn auto_pick(
+    chart: &mut [ChartOrder],
+    tol: &Tolerances,
+    n_ref: usize,
+) -> (Vec<Chosen>, Vec<Refused>) {
     let mut chosen = Vec::new();
     let mut refused = Vec::new();
-    for g in groups {
-        // one pole per order: the one nearest the group's median frequency
-        let mut fs: Vec<f64> = g.iter().map(|&(o, p)| chart[o].poles[p].freq).collect();
-        fs.sort_by(f64::total_cmp);
-        let med = fs[fs.len() / 2];
-        let mut per_order: std::collections::BTreeMap<usize, (usize, usize)> = Default::default();
-        for &(o, p) in &g {
-            let f = chart[o].poles[p].freq;
-            let e = per_order.entry(o).or_insert((o, p));
-            if (f - med).abs() < (chart[e.0].poles[e.1].freq - med).abs() {
-                *e = (o, p);
-            }
-        }
+    for per_order in stable_sets(chart, tol) {
         let orders: Vec<usize> = per_order.keys().map(|&o| chart[o].order).collect();
         let freqs: Vec<f64> = per_order
             .values()
@@ -409,4 +466,102 @@ pub fn list_pick(
         });
     }
     Ok(out)
+}
+
+/// `x` to `digits` significant digits.
+fn round_to(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let p = 10f64.powi(digits - 1 - x.abs().log10().floor() as i32);
+    (x * p).round() / p
+}
+
+/// The `pick` entry that chooses the pole at `freq`: the frequency to 5
+/// significant digits, the tolerance that of stability in frequency
+/// (`tolerances.freq` × freq, 3 significant digits), so the entry takes
+/// the best pole of that mode's column (see [`list_pick`]).
+pub fn choice_for(freq: f64, tol: &Tolerances) -> PoleChoice {
+    PoleChoice {
+        freq: round_to(freq, 5),
+        tol: round_to(tol.freq * freq, 3),
+    }
+}
+
+/// The chosen modes as `pick` entries (an automatic choice written out).
+pub fn choices_of(chosen: &[Chosen], tol: &Tolerances) -> Vec<PoleChoice> {
+    chosen.iter().map(|c| choice_for(c.freq, tol)).collect()
+}
+
+/// A pole clicked on the chart: the `pick` list with that pole's mode
+/// removed when an entry of `current` takes it (its frequency within the
+/// entry's ± tol), else added (in order of frequency). `current` `None`
+/// (an automatic choice) starts from the modes it chose. Returns the list
+/// and whether the pole was added. Refused: removing the last entry (an
+/// empty list means no mode; automatic choice is the other way back).
+pub fn toggle_pick(
+    current: Option<&[PoleChoice]>,
+    chosen: &[Chosen],
+    freq: f64,
+    tol: &Tolerances,
+) -> Result<(Vec<PoleChoice>, bool)> {
+    let mut list = match current {
+        Some(l) => l.to_vec(),
+        None => choices_of(chosen, tol),
+    };
+    let takes = |c: &PoleChoice| (freq - c.freq).abs() <= c.tol;
+    if list.iter().any(takes) {
+        list.retain(|c| !takes(c));
+        if list.is_empty() {
+            return Err(Error::recipe(format!(
+                "the pole at {freq:.4} Hz is the only mode chosen; choose another before dropping it, or let the modes be chosen automatically"
+            ))
+            .field("pick"));
+        }
+        return Ok((list, false));
+    }
+    list.push(choice_for(freq, tol));
+    list.sort_by(|a, b| a.freq.total_cmp(&b.freq));
+    Ok((list, true))
+}
+
+#[cfg(test)]
+mod pick_tests {
+    use super::*;
+
+    #[test]
+    fn a_choice_rounds_and_takes_the_frequency_tolerance() {
+        let t = Tolerances::default();
+        let c = choice_for(118.023456, &t);
+        assert_eq!(c.freq, 118.02);
+        assert_eq!(c.tol, 1.18);
+        assert_eq!(choice_for(42.0071, &t).freq, 42.007);
+    }
+
+    #[test]
+    fn toggling_adds_in_order_and_removes_the_entry_that_takes_the_pole() {
+        let t = Tolerances::default();
+        let chosen = |f: f64| Chosen {
+            freq: f,
+            zeta: 0.01,
+            order: 20,
+            stable_orders: vec![],
+            freq_spread: 0.0,
+            damping_spread: 0.0,
+            reason: String::new(),
+        };
+        // from an automatic choice of 42 and 165 Hz, 77 Hz is added between
+        let (l, added) = toggle_pick(None, &[chosen(42.0), chosen(165.0)], 77.01, &t).unwrap();
+        assert!(added);
+        let fs: Vec<f64> = l.iter().map(|c| c.freq).collect();
+        assert_eq!(fs, vec![42.0, 77.01, 165.0]);
+        // a pole of the same column (within ±0.77 Hz) removes it again
+        let (l, added) = toggle_pick(Some(&l), &[], 77.3, &t).unwrap();
+        assert!(!added);
+        assert_eq!(l.len(), 2);
+        // the last entry cannot be removed
+        let one = [choice_for(42.0, &t)];
+        let e = toggle_pick(Some(&one), &[], 42.1, &t).unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("pick"));
+    }
 }

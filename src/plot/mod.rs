@@ -66,5 +66,7 @@ pub use probe::{frame_px, nearest_point, probe, probe_data, step_line, Probe};
 pub use render::{check_size, draw, draw_data, render_data_svg, render_svg, Drawn};
 pub use resolved::{CurveMeta, PlotData, PlotMeta, PlotParts, View};
 pub use spec::{BarGroup, Controls, Frame, LegendEntry, LineData, PlotKind, PlotSpec, SeriesRef};
-pub use stabilization::{stabilization_svg, PoleClass};
+pub use stabilization::{
+    stabilization_drawing, stabilization_svg, ChartDrawing, PoleClass, PoleMark,
+};
 pub use vpt_geometry::vpt_geometry_svg;

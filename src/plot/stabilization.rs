@@ -42,6 +42,8 @@ const LEFT: f64 = 54.0;
 const RIGHT: f64 = 62.0;
 /// Half the size of a mark, pixels.
 const MARK: f64 = 3.6;
+/// Half the size of a mark's box for a pointer, pixels.
+pub const HIT: f64 = 5.0;
 
 // Mark colours: each at least 3:1 against white (WCAG 2.1 SC 1.4.11,
 // non-text contrast); the shapes carry the meaning, the colours help.
@@ -295,6 +297,48 @@ fn spread_labels(items: &[(f64, f64)], lo: f64, hi: f64) -> Option<Vec<f64>> {
 /// that is not two increasing finite frequencies, a size outside
 /// [`MIN_SIZE`]..[`MAX_SIZE`].
 pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) -> Result<Drawing> {
+    Ok(stabilization_drawing(chart, width, height)?.drawing)
+}
+
+/// One pole drawn on the chart and the box around its mark, in SVG
+/// pixels, for a page to know which mark a click is on.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PoleMark {
+    /// The model order and the pole's index among that order's poles (as
+    /// the chart's table holds them).
+    pub order: usize,
+    pub index: usize,
+    /// Frequency (Hz) and damping ratio.
+    pub freq: f64,
+    pub zeta: f64,
+    /// The class's key (`data-class`) and the class in words.
+    pub class: &'static str,
+    pub words: &'static str,
+    /// The pole a mode was taken from.
+    pub picked: bool,
+    pub x: f64,
+    pub y: f64,
+    pub w: f64,
+    pub h: f64,
+}
+
+/// The chart with the box of every pole's mark.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ChartDrawing {
+    #[serde(flatten)]
+    pub drawing: Drawing,
+    /// Every pole drawn, in drawing order (orders up, each order's poles in
+    /// the table's order).
+    pub poles: Vec<PoleMark>,
+}
+
+/// [`stabilization_svg`] with the box of every pole's mark (each mark's
+/// centre ± [`HIT`] pixels).
+pub fn stabilization_drawing(
+    chart: &StabilizationChart,
+    width: f64,
+    height: f64,
+) -> Result<ChartDrawing> {
     for (v, lo, hi, name) in [
         (width, MIN_SIZE[0], MAX_SIZE[0], "width"),
         (height, MIN_SIZE[1], MAX_SIZE[1], "height"),
@@ -588,14 +632,28 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
     }
 
     // ---- the poles
+    let mut marks = Vec::new();
     for o in &chart.orders {
         let y = sy(o.order);
-        for p in &o.poles {
+        for (index, p) in o.poles.iter().enumerate() {
             if !(p.freq.is_finite() && p.freq >= f0 && p.freq <= f1) {
                 continue;
             }
             let c = PoleClass::of(p);
             let x = sx(p.freq);
+            marks.push(PoleMark {
+                order: o.order,
+                index,
+                freq: p.freq,
+                zeta: p.zeta,
+                class: c.key(),
+                words: c.words(vector),
+                picked: p.picked,
+                x: x - HIT,
+                y: y - HIT,
+                w: 2.0 * HIT,
+                h: 2.0 * HIT,
+            });
             s.push_str(&c.mark(x, y, &format!(r#"data-class="{}""#, c.key())));
             if p.picked {
                 let _ = write!(
@@ -651,11 +709,14 @@ pub fn stabilization_svg(chart: &StabilizationChart, width: f64, height: f64) ->
         ly += 17.0;
     }
     s.push_str("</svg>");
-    Ok(Drawing {
-        svg: s,
-        width,
-        height,
-        summary,
+    Ok(ChartDrawing {
+        drawing: Drawing {
+            svg: s,
+            width,
+            height,
+            summary,
+        },
+        poles: marks,
     })
 }
 
@@ -782,6 +843,31 @@ mod tests {
             d.svg.contains(&format!(r#"<line x1="{x:.1}""#)),
             "line at {x:.1}"
         );
+    }
+
+    #[test]
+    fn every_drawn_pole_has_its_box_around_its_mark() {
+        let c = chart();
+        let d = stabilization_drawing(&c, 900.0, 560.0).unwrap();
+        let drawn: usize = c.orders.iter().map(|o| o.poles.len()).sum();
+        assert_eq!(d.poles.len(), drawn);
+        assert_eq!(d.poles.iter().filter(|m| m.picked).count(), 1);
+        // plot from x = 54 to 838 over 20–400 Hz; the box centred on the mark
+        for m in &d.poles {
+            let x = 54.0 + (m.freq - 20.0) / 380.0 * (838.0 - 54.0);
+            assert!((m.x + m.w / 2.0 - x).abs() < 1e-9, "{m:?}");
+            assert_eq!(m.w, 2.0 * HIT);
+        }
+        // higher orders higher up
+        let y = |o: usize| d.poles.iter().find(|m| m.order == o).unwrap().y;
+        assert!(y(12) < y(1));
+        // the 250 Hz pole: frequency and vector
+        let m = d
+            .poles
+            .iter()
+            .find(|m| m.freq == 250.0 && m.order == 5)
+            .unwrap();
+        assert_eq!(m.class, "frequency-vector");
     }
 
     #[test]

@@ -29,6 +29,7 @@ pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GR
 pub use execute::{load_components, load_components_with, run, run_with, RunResult};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
+pub use ops::{pick_toggled, pick_written};
 pub use ops::{
     virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple, Decouple, Invert, Op,
     OpInfo, Operand, Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum,
@@ -36,8 +37,8 @@ pub use ops::{
 };
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,
-    ComponentReport, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport, ValidationReport,
-    VariantReport, REPORT_FORMAT, REPORT_VERSION,
+    ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport,
+    ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
 
 use crate::error::{quote, quote_upto, Error, Result};

@@ -101,6 +101,20 @@ pub struct StepReport {
     /// Modal identification: the model, the stabilization table, the fit's quality.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub identification: Option<Box<crate::identify::Identification>>,
+    /// Entries of the step's set that were not measured but synthesized
+    /// (`regenerate` with `fill_missing`).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub filled: Vec<FilledEntry>,
+}
+
+/// An entry of a step's set synthesized where nothing was measured.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FilledEntry {
+    /// Output and input index in the set (0-based).
+    pub output: usize,
+    pub input: usize,
+    /// "OUT/IN".
+    pub label: String,
 }
 
 impl StepReport {
@@ -119,6 +133,7 @@ impl StepReport {
             extras: Vec::new(),
             virtual_points: None,
             identification: None,
+            filled: Vec::new(),
         }
     }
 }

@@ -240,6 +240,16 @@ impl Operation for Regenerate {
         )?;
         let r = identify::regenerate(id, &lines, self.fill_missing.unwrap_or(false))?;
         let mut out = StepOutput::plain(cx, "regenerate", r.set);
+        out.report.filled = r
+            .filled_at
+            .iter()
+            .zip(&r.filled)
+            .map(|(&(o, i), label)| crate::recipe::report::FilledEntry {
+                output: o,
+                input: i,
+                label: label.clone(),
+            })
+            .collect();
         if !r.filled.is_empty() {
             out.report.notes.push(format!(
                 "filled from the mode shapes: {}",
@@ -247,5 +257,122 @@ impl Operation for Regenerate {
             ));
         }
         Ok(out)
+    }
+}
+
+/// The `pick` operand after a click on the pole `order`/`index` of an
+/// identification's chart (the page's fitting view): `current` is the
+/// step's `pick` as the recipe has it (absent or "auto": the automatic
+/// choice, which the list starts from), the rule
+/// [`crate::identify::stability::toggle_pick`]. Returns the new list, as
+/// the recipe writes it, and whether the pole's mode was added.
+pub fn pick_toggled(
+    id: &identify::Identification,
+    current: Option<&serde_json::Value>,
+    order: usize,
+    index: usize,
+) -> Result<(serde_json::Value, bool)> {
+    let pole = id
+        .chart
+        .iter()
+        .find(|o| o.order == order)
+        .and_then(|o| o.poles.get(index))
+        .ok_or_else(|| {
+            Error::usage(format!(
+                "the chart of '{}' has no pole {index} at order {order}",
+                id.set
+            ))
+            .field("pole")
+        })?;
+    let list = match pick_of(current)? {
+        Pick::Auto => None,
+        Pick::List(l) => Some(l),
+    };
+    let (next, added) =
+        identify::stability::toggle_pick(list.as_deref(), &id.chosen, pole.freq, &id.tolerances)?;
+    let v = serde_json::to_value(&next)
+        .map_err(|e| Error::internal(format!("cannot encode the pick list: {e}")))?;
+    Ok((v, added))
+}
+
+/// The modes an identification chose, as a `pick` list (an automatic
+/// choice written out, to be edited).
+pub fn pick_written(id: &identify::Identification) -> Result<serde_json::Value> {
+    serde_json::to_value(identify::stability::choices_of(&id.chosen, &id.tolerances))
+        .map_err(|e| Error::internal(format!("cannot encode the pick list: {e}")))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::identify::stability::{ChartOrder, ChartPole, Chosen};
+
+    fn id_with(poles: &[(usize, f64)], chosen: &[f64]) -> identify::Identification {
+        let mut orders: Vec<ChartOrder> = Vec::new();
+        for &(o, f) in poles {
+            let p = ChartPole {
+                freq: f,
+                zeta: 0.01,
+                stable_freq: true,
+                stable_damping: true,
+                stable_vector: None,
+                mac_previous: None,
+                picked: false,
+                participation: Vec::new(),
+            };
+            match orders.iter_mut().find(|x| x.order == o) {
+                Some(x) => x.poles.push(p),
+                None => orders.push(ChartOrder {
+                    order: o,
+                    poles: vec![p],
+                    note: None,
+                }),
+            }
+        }
+        let v = serde_json::json!({
+            "set": "m", "band": [10.0, 300.0], "lines": 10, "outputs": [], "inputs": [],
+            "references": [], "pole_outputs": [], "out_qty": "acceleration", "in_qty": "force",
+            "present": [], "max_order": 10, "tolerances": {}, "pick": "auto", "chosen": [],
+            "modes": [], "entries": [], "auto_mac": [], "fits": [], "chart": [], "sum_magnitude": []
+        });
+        let mut id: identify::Identification = serde_json::from_value(v).unwrap();
+        id.chart = orders;
+        id.chosen = chosen
+            .iter()
+            .map(|&f| Chosen {
+                freq: f,
+                zeta: 0.01,
+                order: 10,
+                stable_orders: vec![],
+                freq_spread: 0.0,
+                damping_spread: 0.0,
+                reason: String::new(),
+            })
+            .collect();
+        id
+    }
+
+    #[test]
+    fn a_click_toggles_the_pole_in_the_recipe_pick() {
+        let id = id_with(&[(9, 42.0), (10, 42.01), (10, 77.0)], &[42.01]);
+        // automatic choice: the list starts from its modes, 77 Hz is added
+        let (v, added) = pick_toggled(&id, None, 10, 1).unwrap();
+        assert!(added);
+        assert_eq!(
+            v,
+            serde_json::json!([{"freq": 42.01, "tol": 0.42}, {"freq": 77.0, "tol": 0.77}])
+        );
+        // the recipe reads the list back: it is a valid operand
+        assert!(matches!(pick_of(Some(&v)).unwrap(), Pick::List(l) if l.len() == 2));
+        // the 42 Hz pole of order 9 is the same column: removed
+        let (v, added) = pick_toggled(&id, Some(&v), 9, 0).unwrap();
+        assert!(!added);
+        assert_eq!(v, serde_json::json!([{"freq": 77.0, "tol": 0.77}]));
+        let e = pick_toggled(&id, None, 3, 0).unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("pole"));
+        assert_eq!(
+            pick_written(&id).unwrap(),
+            serde_json::json!([{"freq": 42.01, "tol": 0.42}])
+        );
     }
 }

@@ -14,7 +14,7 @@ mod transform;
 mod virtual_points;
 
 pub use couple::{Couple, Decouple};
-pub use identify::{IdentifyModes, Regenerate};
+pub use identify::{pick_toggled, pick_written, IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
 pub(crate) use transform::{
