@@ -190,6 +190,9 @@ impl Workspace {
                 .in_file(name));
             }
         }
+        if crate::vpt::geometry::looks_like_geometry(bytes) {
+            return self.load_geometry(name, bytes, options);
+        }
         let loaded =
             io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
@@ -209,6 +212,90 @@ impl Workspace {
             },
         );
         Ok(sum)
+    }
+
+    /// A geometry file of our layout (`# mortise-geometry 1`): checked by
+    /// reading it, kept for the recipes that name it; it holds no sets and
+    /// takes no import options (any given are refused).
+    fn load_geometry(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: serde_json::Value,
+    ) -> Result<FileSummary> {
+        if options.as_object().is_some_and(|o| !o.is_empty()) {
+            return Err(Error::usage(
+                "a geometry file takes no import options (it has its own unit line)",
+            )
+            .field("options")
+            .in_file(name));
+        }
+        self.limits
+            .check_bytes("the geometry file", Some(bytes.len() as u64))
+            .map_err(|e| e.in_file(name))?;
+        let geom = crate::vpt::Geometry::from_csv(bytes, name)?;
+        let sum = summary::geometry_file_summary(name, bytes, &geom);
+        self.drop_prefix(&prefix_of("file", name));
+        self.files.insert(
+            name.to_string(),
+            WsFile {
+                bytes: bytes.to_vec(),
+                options,
+                format: sum.format.clone(),
+            },
+        );
+        Ok(sum)
+    }
+
+    /// Propose virtual-point groups for `from` with the geometry file
+    /// `geometry`, on the workspace's files
+    /// ([`recipe::virtual_point_groups`]).
+    pub fn virtual_point_groups(
+        &self,
+        r: &recipe::Recipe,
+        from: &str,
+        geometry: &str,
+        origins: &[crate::vpt::groups::Origin],
+        radius: f64,
+    ) -> Result<crate::vpt::groups::Proposal> {
+        recipe::virtual_point_groups(
+            r,
+            from,
+            geometry,
+            origins,
+            radius,
+            &Source(self),
+            &self.limits,
+        )
+    }
+
+    /// The consistency drawings of the last run's to-virtual-points step
+    /// `step`, one per point ([`crate::plot::vpt_consistency_svgs`]), on the
+    /// grid of the run's set named `step` (or else the first result with as
+    /// many lines as the report's consistencies).
+    pub fn virtual_point_consistency(
+        &self,
+        step: &str,
+        width: u32,
+        height: u32,
+    ) -> Result<Vec<crate::plot::Drawing>> {
+        let (sets, report) = self.results();
+        let report = report
+            .ok_or_else(|| Error::missing("no run yet: run the recipe first").field("report"))?;
+        let points = crate::plot::step_virtual_points(report, step)?;
+        let lines = points.first().map_or(0, |p| p.sensor_consistency.len());
+        let grid = sets
+            .iter()
+            .find(|s| s.name == step)
+            .or_else(|| sets.iter().find(|s| s.n_lines() == lines))
+            .ok_or_else(|| {
+                Error::missing(format!(
+                    "the run's results hold no set on the grid of step '{}': add the step to the outputs",
+                    crate::error::quote(step)
+                ))
+                .field("outputs")
+            })?;
+        crate::plot::vpt_consistency_svgs(report, step, grid, width, height)
     }
 
     /// Remove a file and its sets.

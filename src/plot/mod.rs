@@ -49,6 +49,7 @@ mod resolved;
 mod simplify;
 mod spec;
 mod stabilization;
+mod vpt_consistency;
 mod vpt_geometry;
 
 #[cfg(test)]
@@ -67,4 +68,5 @@ pub use render::{check_size, draw, draw_data, render_data_svg, render_svg, Drawn
 pub use resolved::{CurveMeta, PlotData, PlotMeta, PlotParts, View};
 pub use spec::{BarGroup, Controls, Frame, LegendEntry, LineData, PlotKind, PlotSpec, SeriesRef};
 pub use stabilization::{stabilization_svg, PoleClass};
+pub use vpt_consistency::{step_virtual_points, vpt_consistency_svgs};
 pub use vpt_geometry::vpt_geometry_svg;
