@@ -925,3 +925,78 @@ fn notice(
         if kept_names.is_empty() { "none".to_string() } else { kept_names.join(", ") },
     )
 }
+
+#[cfg(test)]
+mod geometry_file_tests {
+    use super::*;
+    use crate::frf::Dof;
+    use crate::units::Quantity;
+
+    const GEOM: &str =
+        "# mortise-geometry 1\nunit, mm\nb:s1, 10, 0, 0\nb:s2, 0, 20, 0\nb:h1+Z, 0, 0, 5\n";
+
+    fn component() -> Vec<u8> {
+        let d = |s: &str| Dof::parse(s, "b").unwrap();
+        let set = FrfSet::zeros(
+            "b",
+            vec![10.0, 20.0],
+            vec![d("b:s1+X"), d("b:s2+Y"), d("b:f0+Z")],
+            vec![d("b:h1+Z")],
+            Quantity::Acceleration,
+            Quantity::Force,
+        );
+        io::save(&[set], io::ExportFormat::Csv).unwrap()
+    }
+
+    // The summary counts the rows of the file as written (3 rows, unit mm).
+    #[test]
+    fn a_geometry_file_is_kept_with_its_summary_and_read_by_recipes() {
+        let mut ws = Workspace::new();
+        let sum = ws
+            .load_file("foot.geom.csv", GEOM.as_bytes(), serde_json::Value::Null)
+            .unwrap();
+        assert_eq!(sum.format, "mortise-geometry");
+        let g = sum.geometry.unwrap();
+        assert_eq!(
+            (g.rows, g.unit.as_str(), g.node_rows, g.dof_rows),
+            (3, "mm", 2, 1)
+        );
+        assert!(sum.sets.is_empty());
+        ws.load_file("b.csv", &component(), serde_json::json!({}))
+            .unwrap();
+        let r = recipe::parse(
+            r#"{"format": "mortise-recipe", "version": 1, "components": {"b": {"file": "b.csv"}}, "steps": [], "outputs": ["b"]}"#,
+        )
+        .unwrap();
+        let o = [crate::vpt::groups::Origin {
+            name: "bolt".into(),
+            origin: [0.0, 0.0, 0.0],
+        }];
+        let p = ws
+            .virtual_point_groups(&r, "b", "foot.geom.csv", &o, 25.0)
+            .unwrap();
+        assert_eq!(p.groups[0].sensors, vec!["b:s1+X", "b:s2+Y"]);
+        assert_eq!(p.groups[0].impacts, vec!["b:h1+Z"]);
+        assert_eq!(p.not_located, vec!["b:f0+Z"]);
+    }
+
+    #[test]
+    fn a_bad_geometry_file_or_import_options_are_refused_and_nothing_is_kept() {
+        let mut ws = Workspace::new();
+        let bad = GEOM.replace("0, 20, 0", "0, twenty, 0");
+        let e = ws
+            .load_file("g.csv", bad.as_bytes(), serde_json::Value::Null)
+            .unwrap_err();
+        assert_eq!(e.file.as_deref(), Some("g.csv"));
+        assert!(e.to_string().contains("line 4"), "{e}");
+        let e = ws
+            .load_file(
+                "g.csv",
+                GEOM.as_bytes(),
+                serde_json::json!({"component": "x"}),
+            )
+            .unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("options"));
+        assert!(ws.files.is_empty());
+    }
+}

@@ -171,7 +171,7 @@ function renderCards() {
     if (f.summary) {
       const s = f.summary;
       // a geometry file (our layout): the core's count of rows and its unit
-      if (s.geometry) card.append(el('div', { class: 'audit-sum', 'data-geometry-rows': s.geometry.rows }, `geometry: ${s.geometry.rows} rows, unit ${s.geometry.unit}`));
+      if (s.geometry) card.append(el('div', { class: 'geometry-sum', 'data-geometry-rows': s.geometry.rows }, `geometry: ${s.geometry.rows} rows, unit ${s.geometry.unit}`));
       card.append(el('dl', { class: 'kv' },
         el('dt', {}, s.geometry ? 'size' : 'FRFs'), el('dd', {}, s.geometry ? `${s.bytes} bytes` : `${s.frfs} in ${s.sets.length} set(s), ${s.bytes} bytes`),
         el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, s.sha256)));

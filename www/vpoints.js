@@ -7,7 +7,7 @@
 // core which channels and impacts lie nearest each origin within a radius
 // (vpt_propose_groups). The form edits the one recipe in place (editRecipe):
 // there is no second copy of the recipe. Nothing here computes anything.
-const VP = { key: null, timer: null, job: 0, proposal: null };
+const VP = { key: null, timer: null, job: 0, proposal: null, wantStep: null };
 
 function vpSteps() {
   const r = R.json || R.lastJson;
@@ -118,7 +118,8 @@ function vpOptions(select, values, keep) {
 function renderVpForm() {
   const r = R.json || R.lastJson;
   const steps = vpSteps().map((s) => s.id);
-  vpOptions($('vp-step'), [...steps, '(new step)']);
+  vpOptions($('vp-step'), [...steps, '(new step)'], steps.includes(VP.wantStep) ? VP.wantStep : undefined);
+  if (steps.includes(VP.wantStep)) VP.wantStep = null;
   const newStep = $('vp-step').value === '(new step)';
   $('vp-new-id').disabled = !newStep;
   const comps = Object.keys(r?.components || {});
@@ -175,7 +176,7 @@ function addVpoint() {
     return true;
   });
   if (ok) {
-    if (newStep) $('vp-step').value = id;
+    if (newStep) VP.wantStep = id;
     status(`point ${name} written into step ${id} of the recipe`);
     scheduleVpoints();
   }

@@ -131,10 +131,10 @@ test('virtual points on the page: geometry file, form, drawing, consistency, sam
     assert.equal(drawn.status, 'pass');
     assert.match(drawn.verdict, /pass/);
     // the page's virtual-point FRFs against `mortise run` on the same recipe and files
-    const pageCsv = await page.evaluate(async () => {
-      const rs = S.results.results.filter((r) => r.name === 'foot');
-      return new TextDecoder().decode((await Bridge.call('export_file', [JSON.stringify(rs.map((r) => r.id)), 'csv'])).bytes);
-    });
+    const ids = await page.$$eval('#curve-select optgroup[data-group=results] option', (os) =>
+      [...new Set(os.filter((o) => o.dataset.name === 'foot').map((o) => JSON.parse(o.value)[0]))]);
+    assert.equal(ids.length, 1, `the result set of step foot: ${ids}`);
+    const pageCsv = await page.evaluate(async (id) => new TextDecoder().decode((await Bridge.call('export_file', [JSON.stringify([id]), 'csv'])).bytes), ids[0]);
     writeFileSync(join(dir, 'page.recipe.json'), recipeText);
     const out = join(dir, 'out');
     execFileSync(BIN, ['run', join(dir, 'page.recipe.json'), '-o', out]);
