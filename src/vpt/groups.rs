@@ -54,10 +54,13 @@ pub struct Proposal {
     pub groups: Vec<Group>,
     /// The geometry's length unit (origins, radius).
     pub unit: String,
-    /// Located DOFs farther than the radius from every origin.
-    pub outside: Vec<String>,
-    /// DOFs the geometry does not locate (no row, or a scalar point).
-    pub not_located: Vec<String>,
+    /// Located outputs (sensor channels) and inputs (impacts) farther than
+    /// the radius from every origin.
+    pub outside_sensors: Vec<String>,
+    pub outside_impacts: Vec<String>,
+    /// Outputs and inputs the geometry does not locate (no row, or a scalar point).
+    pub not_located_sensors: Vec<String>,
+    pub not_located_impacts: Vec<String>,
 }
 
 /// Group the outputs and inputs of `set` located by `geom` around
@@ -101,8 +104,7 @@ pub fn propose(set: &FrfSet, geom: &Geometry, origins: &[Origin], radius: f64) -
             impacts: Vec::new(),
         })
         .collect();
-    let mut outside = Vec::new();
-    let mut not_located = Vec::new();
+    let (mut outside, mut not_located) = ([Vec::new(), Vec::new()], [Vec::new(), Vec::new()]);
     for (dofs, sensors, what) in [
         (&set.outputs, true, "sensor channel"),
         (&set.inputs, false, "impact"),
@@ -110,7 +112,7 @@ pub fn propose(set: &FrfSet, geom: &Geometry, origins: &[Origin], radius: f64) -
         for d in dofs {
             let label = d.to_string();
             let Ok(at) = geom.locate(d, what) else {
-                not_located.push(label);
+                not_located[usize::from(!sensors)].push(label);
                 continue;
             };
             let mut best: Option<(usize, f64)> = None;
@@ -127,15 +129,19 @@ pub fn propose(set: &FrfSet, geom: &Geometry, origins: &[Origin], radius: f64) -
             match best {
                 Some((i, _)) if sensors => groups[i].sensors.push(label),
                 Some((i, _)) => groups[i].impacts.push(label),
-                None => outside.push(label),
+                None => outside[usize::from(!sensors)].push(label),
             }
         }
     }
+    let [outside_sensors, outside_impacts] = outside;
+    let [not_located_sensors, not_located_impacts] = not_located;
     Ok(Proposal {
         groups,
         unit: geom.unit.clone(),
-        outside,
-        not_located,
+        outside_sensors,
+        outside_impacts,
+        not_located_sensors,
+        not_located_impacts,
     })
 }
 
@@ -204,12 +210,15 @@ mod tests {
         // h1 48 / 52 → left; h2 52 / 48 → right
         assert_eq!(p.groups[0].impacts, vec!["b:h1+Z"]);
         assert_eq!(p.groups[1].impacts, vec!["b:h2+X"]);
-        assert_eq!(p.outside, vec!["b:s3+Z"]);
-        assert_eq!(p.not_located, vec!["b:h9+X"]);
+        assert_eq!(p.outside_sensors, vec!["b:s3+Z"]);
+        assert!(p.outside_impacts.is_empty());
+        assert!(p.not_located_sensors.is_empty());
+        assert_eq!(p.not_located_impacts, vec!["b:h9+X"]);
         // a smaller radius leaves h1 and h2 (48 mm from their nearest) outside
         let p = propose(&s, &g, &o, 40.0).unwrap();
         assert!(p.groups.iter().all(|g| g.impacts.is_empty()));
-        assert_eq!(p.outside, vec!["b:s3+Z", "b:h1+Z", "b:h2+X"]);
+        assert_eq!(p.outside_sensors, vec!["b:s3+Z"]);
+        assert_eq!(p.outside_impacts, vec!["b:h1+Z", "b:h2+X"]);
     }
 
     #[test]
