@@ -749,9 +749,15 @@ impl Workspace {
                         e.in_file(inp.name.as_str())
                     };
                     let opts = import_options(&inp.options).map_err(carried)?;
-                    io::load_with_limits(r, &inp.name, &opts, &self.limits)
-                        .map_err(carried)?
-                        .sets
+                    if crate::vpt::geometry::looks_like_geometry(r) {
+                        // a geometry file: checked by reading it; it holds no sets
+                        crate::vpt::Geometry::from_csv(r, &inp.name).map_err(carried)?;
+                        Vec::new()
+                    } else {
+                        io::load_with_limits(r, &inp.name, &opts, &self.limits)
+                            .map_err(carried)?
+                            .sets
+                    }
                 }
                 (None, Some(s)) => s.clone(),
                 (None, None) => Vec::new(),
@@ -932,6 +938,12 @@ mod geometry_file_tests {
     use crate::frf::Dof;
     use crate::units::Quantity;
 
+    impl Workspace {
+        fn read_input(&self, name: &str) -> Result<Vec<u8>> {
+            Source(self).read(name)
+        }
+    }
+
     const GEOM: &str =
         "# mortise-geometry 1\nunit, mm\nb:s1, 10, 0, 0\nb:s2, 0, 20, 0\nb:h1+Z, 0, 0, 5\n";
 
@@ -979,6 +991,30 @@ mod geometry_file_tests {
         assert_eq!(p.groups[0].impacts, vec!["b:h1+Z"]);
         assert_eq!(p.not_located_sensors, vec!["b:f0+Z"]);
         assert!(p.not_located_impacts.is_empty());
+    }
+
+    #[test]
+    fn a_bundle_carries_a_geometry_file_and_opens_again() {
+        let mut ws = Workspace::new();
+        ws.load_file("foot.geom.csv", GEOM.as_bytes(), serde_json::Value::Null)
+            .unwrap();
+        ws.load_file("b.csv", &component(), serde_json::json!({}))
+            .unwrap();
+        let text = r#"{"format": "mortise-recipe", "version": 1, "components": {"b": {"file": "b.csv"}}, "steps": [], "outputs": ["b"]}"#;
+        ws.run_recipe_clocked(text, &|| 0.0).unwrap();
+        let made = ws.make_bundle(text, &BundleOptions::default()).unwrap();
+        let mut other = Workspace::new();
+        let opened = other.open_bundle("x.mortise", &made.bytes).unwrap();
+        let geo = opened
+            .inputs
+            .iter()
+            .find(|i| i.name == "foot.geom.csv")
+            .unwrap();
+        assert!(geo.sets.is_empty());
+        assert_eq!(
+            other.read_input("foot.geom.csv").unwrap(),
+            GEOM.as_bytes().to_vec()
+        );
     }
 
     #[test]
