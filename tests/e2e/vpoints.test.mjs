@@ -160,6 +160,8 @@ test('virtual points on the page: geometry file, form, drawing, consistency, sam
     });
     console.log(`# measure axe-core violations (virtual-points panel): ${vs.length} (${vs.map((v) => `${v.id}/${v.impact}`).join(', ') || 'none'})`);
     assert.deepEqual(vs.filter((v) => v.impact === 'serious' || v.impact === 'critical'), []);
+    // the page's sticky bar would cover part of a screenshot of one panel
+    await page.evaluate(() => { document.querySelector('header.bar').style.position = 'static'; });
     await page.locator('#vp-panel').screenshot({ path: join(ROOT, 'tests/e2e/artifacts/vpoints-panel.png') });
     await shot(page, 'vpoints');
     assert.deepEqual(s.foreign(), []);
