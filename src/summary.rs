@@ -77,6 +77,49 @@ pub struct FileSummary {
     /// translational DOF its sets use (`plot::geometry_svg`), when it has nodes.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub geometry_svg: Option<String>,
+    /// A geometry file of our layout (`# mortise-geometry 1`): its rows and
+    /// unit ([`geometry_file_summary`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub geometry: Option<GeometryFileSummary>,
+}
+
+/// A geometry file in words: how many rows locate channels or impacts, in
+/// which length unit.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct GeometryFileSummary {
+    pub rows: usize,
+    pub unit: String,
+    /// Rows locating a node (every DOF at it) and rows locating one DOF.
+    pub node_rows: usize,
+    pub dof_rows: usize,
+}
+
+/// The summary of a geometry file of our layout (read by
+/// [`crate::vpt::Geometry::from_csv`]): no FRFs, its rows and unit.
+pub fn geometry_file_summary(file: &str, bytes: &[u8], geom: &crate::vpt::Geometry) -> FileSummary {
+    let node_rows = geom
+        .rows
+        .iter()
+        .filter(|r| matches!(r.target, crate::vpt::geometry::Target::Node { .. }))
+        .count();
+    FileSummary {
+        file: file.to_string(),
+        bytes: bytes.len(),
+        sha256: crate::io::sha256_hex(bytes),
+        format: "mortise-geometry".to_string(),
+        frfs: 0,
+        sets: Vec::new(),
+        time_histories: Vec::new(),
+        warnings: Vec::new(),
+        uff: None,
+        geometry_svg: None,
+        geometry: Some(GeometryFileSummary {
+            rows: geom.rows.len(),
+            unit: geom.unit.clone(),
+            node_rows,
+            dof_rows: geom.rows.len() - node_rows,
+        }),
+    }
 }
 
 /// One time history of a file, for `inspect` and the page's card: it is
@@ -269,6 +312,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
                     .collect();
                 crate::plot::geometry_svg(g, &dofs)
             }),
+        geometry: None,
     }
 }
 

@@ -635,7 +635,7 @@ thread_local! {
 fn float_arrays(v: &JsValue, key: &str) -> Result<Vec<Vec<f64>>> {
     let list = js_sys::Reflect::get(v, &JsValue::from_str(key))
         .ok()
-        .filter(|a| js_sys::Array::is_array(a))
+        .filter(js_sys::Array::is_array)
         .map(|a| js_sys::Array::from(&a))
         .ok_or_else(|| Error::usage(format!("plot data: no list '{key}'")).field(key))?;
     let mut out = Vec::with_capacity(list.length() as usize);
@@ -854,4 +854,47 @@ pub fn identify_pick_written(
 ) -> std::result::Result<String, JsValue> {
     let id = report_identification(report_json, step_id)?;
     to_json(&recipe::pick_written(&id).map_err(js_err)?)
+}
+
+/// Propose virtual points for the set `from` names (a component or a step
+/// of the recipe) with the geometry file `geometry` from the workspace:
+/// each channel and impact the geometry locates goes to the nearest origin
+/// within the radius (`vpt::groups::propose`). `request_json` is
+/// `{"origins": [{"name", "origin": [x, y, z]}], "radius": r}` in the
+/// geometry's unit. Returns the proposal as JSON (`groups` with their
+/// `sensors` and `impacts` DOF labels, `outside`, `not_located`, `unit`).
+#[wasm_bindgen]
+pub fn vpt_propose_groups(
+    recipe_text: &str,
+    from: &str,
+    geometry: &str,
+    request_json: &str,
+) -> std::result::Result<String, JsValue> {
+    let r = recipe::parse(recipe_text).map_err(js_err)?;
+    let q = crate::vpt::groups::Request::from_json(request_json).map_err(js_err)?;
+    let p = WS
+        .with(|ws| {
+            ws.borrow()
+                .virtual_point_groups(&r, from, geometry, &q.origins, q.radius)
+        })
+        .map_err(js_err)?;
+    to_json(&p)
+}
+
+/// The consistency over frequency of each virtual point of the last run's
+/// step `step_id` (`Workspace::virtual_point_consistency`), drawn by the
+/// core as `width` × `height` px SVG: a JSON array of `plot::Drawing`.
+#[wasm_bindgen]
+pub fn vpt_consistency_svg(
+    step_id: &str,
+    width: u32,
+    height: u32,
+) -> std::result::Result<String, JsValue> {
+    let d = WS
+        .with(|ws| {
+            ws.borrow()
+                .virtual_point_consistency(step_id, width, height)
+        })
+        .map_err(js_err)?;
+    to_json(&d)
 }

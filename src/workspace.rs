@@ -190,6 +190,9 @@ impl Workspace {
                 .in_file(name));
             }
         }
+        if crate::vpt::geometry::looks_like_geometry(bytes) {
+            return self.load_geometry(name, bytes, options);
+        }
         let loaded =
             io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
@@ -209,6 +212,90 @@ impl Workspace {
             },
         );
         Ok(sum)
+    }
+
+    /// A geometry file of our layout (`# mortise-geometry 1`): checked by
+    /// reading it, kept for the recipes that name it; it holds no sets and
+    /// takes no import options (any given are refused).
+    fn load_geometry(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: serde_json::Value,
+    ) -> Result<FileSummary> {
+        if options.as_object().is_some_and(|o| !o.is_empty()) {
+            return Err(Error::usage(
+                "a geometry file takes no import options (it has its own unit line)",
+            )
+            .field("options")
+            .in_file(name));
+        }
+        self.limits
+            .check_bytes("the geometry file", Some(bytes.len() as u64))
+            .map_err(|e| e.in_file(name))?;
+        let geom = crate::vpt::Geometry::from_csv(bytes, name)?;
+        let sum = summary::geometry_file_summary(name, bytes, &geom);
+        self.drop_prefix(&prefix_of("file", name));
+        self.files.insert(
+            name.to_string(),
+            WsFile {
+                bytes: bytes.to_vec(),
+                options,
+                format: sum.format.clone(),
+            },
+        );
+        Ok(sum)
+    }
+
+    /// Propose virtual-point groups for `from` with the geometry file
+    /// `geometry`, on the workspace's files
+    /// ([`recipe::virtual_point_groups`]).
+    pub fn virtual_point_groups(
+        &self,
+        r: &recipe::Recipe,
+        from: &str,
+        geometry: &str,
+        origins: &[crate::vpt::groups::Origin],
+        radius: f64,
+    ) -> Result<crate::vpt::groups::Proposal> {
+        recipe::virtual_point_groups(
+            r,
+            from,
+            geometry,
+            origins,
+            radius,
+            &Source(self),
+            &self.limits,
+        )
+    }
+
+    /// The consistency drawings of the last run's to-virtual-points step
+    /// `step`, one per point ([`crate::plot::vpt_consistency_svgs`]), on the
+    /// grid of the run's set named `step` (or else the first result with as
+    /// many lines as the report's consistencies).
+    pub fn virtual_point_consistency(
+        &self,
+        step: &str,
+        width: u32,
+        height: u32,
+    ) -> Result<Vec<crate::plot::Drawing>> {
+        let (sets, report) = self.results();
+        let report = report
+            .ok_or_else(|| Error::missing("no run yet: run the recipe first").field("report"))?;
+        let points = crate::plot::step_virtual_points(report, step)?;
+        let lines = points.first().map_or(0, |p| p.sensor_consistency.len());
+        let grid = sets
+            .iter()
+            .find(|s| s.name == step)
+            .or_else(|| sets.iter().find(|s| s.n_lines() == lines))
+            .ok_or_else(|| {
+                Error::missing(format!(
+                    "the run's results hold no set on the grid of step '{}': add the step to the outputs",
+                    crate::error::quote(step)
+                ))
+                .field("outputs")
+            })?;
+        crate::plot::vpt_consistency_svgs(report, step, grid, width, height)
     }
 
     /// Remove a file and its sets.
@@ -662,9 +749,15 @@ impl Workspace {
                         e.in_file(inp.name.as_str())
                     };
                     let opts = import_options(&inp.options).map_err(carried)?;
-                    io::load_with_limits(r, &inp.name, &opts, &self.limits)
-                        .map_err(carried)?
-                        .sets
+                    if crate::vpt::geometry::looks_like_geometry(r) {
+                        // a geometry file: checked by reading it; it holds no sets
+                        crate::vpt::Geometry::from_csv(r, &inp.name).map_err(carried)?;
+                        Vec::new()
+                    } else {
+                        io::load_with_limits(r, &inp.name, &opts, &self.limits)
+                            .map_err(carried)?
+                            .sets
+                    }
                 }
                 (None, Some(s)) => s.clone(),
                 (None, None) => Vec::new(),
@@ -837,4 +930,110 @@ fn notice(
         if results_only { ", and no raw data at all" } else { "" },
         if kept_names.is_empty() { "none".to_string() } else { kept_names.join(", ") },
     )
+}
+
+#[cfg(test)]
+mod geometry_file_tests {
+    use super::*;
+    use crate::frf::Dof;
+    use crate::units::Quantity;
+
+    impl Workspace {
+        fn read_input(&self, name: &str) -> Result<Vec<u8>> {
+            Source(self).read(name)
+        }
+    }
+
+    const GEOM: &str =
+        "# mortise-geometry 1\nunit, mm\nb:s1, 10, 0, 0\nb:s2, 0, 20, 0\nb:h1+Z, 0, 0, 5\n";
+
+    fn component() -> Vec<u8> {
+        let d = |s: &str| Dof::parse(s, "b").unwrap();
+        let set = FrfSet::zeros(
+            "b",
+            vec![10.0, 20.0],
+            vec![d("b:s1+X"), d("b:s2+Y"), d("b:f0+Z")],
+            vec![d("b:h1+Z")],
+            Quantity::Acceleration,
+            Quantity::Force,
+        );
+        io::save(&[set], io::ExportFormat::Csv).unwrap()
+    }
+
+    // The summary counts the rows of the file as written (3 rows, unit mm).
+    #[test]
+    fn a_geometry_file_is_kept_with_its_summary_and_read_by_recipes() {
+        let mut ws = Workspace::new();
+        let sum = ws
+            .load_file("foot.geom.csv", GEOM.as_bytes(), serde_json::Value::Null)
+            .unwrap();
+        assert_eq!(sum.format, "mortise-geometry");
+        let g = sum.geometry.unwrap();
+        assert_eq!(
+            (g.rows, g.unit.as_str(), g.node_rows, g.dof_rows),
+            (3, "mm", 2, 1)
+        );
+        assert!(sum.sets.is_empty());
+        ws.load_file("b.csv", &component(), serde_json::json!({}))
+            .unwrap();
+        let r = recipe::parse(
+            r#"{"format": "mortise-recipe", "version": 1, "components": {"b": {"file": "b.csv"}}, "steps": [], "outputs": ["b"]}"#,
+        )
+        .unwrap();
+        let o = [crate::vpt::groups::Origin {
+            name: "bolt".into(),
+            origin: [0.0, 0.0, 0.0],
+        }];
+        let p = ws
+            .virtual_point_groups(&r, "b", "foot.geom.csv", &o, 25.0)
+            .unwrap();
+        assert_eq!(p.groups[0].sensors, vec!["b:s1+X", "b:s2+Y"]);
+        assert_eq!(p.groups[0].impacts, vec!["b:h1+Z"]);
+        assert_eq!(p.not_located_sensors, vec!["b:f0+Z"]);
+        assert!(p.not_located_impacts.is_empty());
+    }
+
+    #[test]
+    fn a_bundle_carries_a_geometry_file_and_opens_again() {
+        let mut ws = Workspace::new();
+        ws.load_file("foot.geom.csv", GEOM.as_bytes(), serde_json::Value::Null)
+            .unwrap();
+        ws.load_file("b.csv", &component(), serde_json::json!({}))
+            .unwrap();
+        let text = r#"{"format": "mortise-recipe", "version": 1, "components": {"b": {"file": "b.csv"}}, "steps": [], "outputs": ["b"]}"#;
+        ws.run_recipe_clocked(text, &|| 0.0).unwrap();
+        let made = ws.make_bundle(text, &BundleOptions::default()).unwrap();
+        let mut other = Workspace::new();
+        let opened = other.open_bundle("x.mortise", &made.bytes).unwrap();
+        let geo = opened
+            .inputs
+            .iter()
+            .find(|i| i.name == "foot.geom.csv")
+            .unwrap();
+        assert!(geo.sets.is_empty());
+        assert_eq!(
+            other.read_input("foot.geom.csv").unwrap(),
+            GEOM.as_bytes().to_vec()
+        );
+    }
+
+    #[test]
+    fn a_bad_geometry_file_or_import_options_are_refused_and_nothing_is_kept() {
+        let mut ws = Workspace::new();
+        let bad = GEOM.replace("0, 20, 0", "0, twenty, 0");
+        let e = ws
+            .load_file("g.csv", bad.as_bytes(), serde_json::Value::Null)
+            .unwrap_err();
+        assert_eq!(e.file.as_deref(), Some("g.csv"));
+        assert!(e.to_string().contains("line 4"), "{e}");
+        let e = ws
+            .load_file(
+                "g.csv",
+                GEOM.as_bytes(),
+                serde_json::json!({"component": "x"}),
+            )
+            .unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("options"));
+        assert!(ws.files.is_empty());
+    }
 }

@@ -170,8 +170,10 @@ function renderCards() {
     }
     if (f.summary) {
       const s = f.summary;
+      // a geometry file (our layout): the core's count of rows and its unit
+      if (s.geometry) card.append(el('div', { class: 'geometry-sum', 'data-geometry-rows': s.geometry.rows }, `geometry: ${s.geometry.rows} rows, unit ${s.geometry.unit}`));
       card.append(el('dl', { class: 'kv' },
-        el('dt', {}, 'FRFs'), el('dd', {}, `${s.frfs} in ${s.sets.length} set(s), ${s.bytes} bytes`),
+        el('dt', {}, s.geometry ? 'size' : 'FRFs'), el('dd', {}, s.geometry ? `${s.bytes} bytes` : `${s.frfs} in ${s.sets.length} set(s), ${s.bytes} bytes`),
         el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, s.sha256)));
       // a file named in an opened bundle: is it the very file the bundle was made from?
       const inBundle = (S.bundle?.info?.inputs || []).find((inp) => inp.name === f.name);

@@ -160,6 +160,7 @@ async function writePanelRecipe() {
 // two is newer.
 function renderRecipeState() {
   scheduleDiagram();
+  scheduleVpoints();
   const box = $('recipe-state');
   const sync = $('asm-sync');
   clear(box);

@@ -139,6 +139,7 @@ function levelsText(st) {
       (l.overall_unweighted_db !== null && l.overall_unweighted_db !== l.overall_db ? ` (unweighted ${fmt(l.overall_unweighted_db, 4)})` : ''))).join('; ');
 }
 function renderResults() {
+  scheduleVpoints();
   const sel = $('curve-select');
   clear(sel);
   const groups = {};

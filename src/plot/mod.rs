@@ -49,6 +49,7 @@ mod resolved;
 mod simplify;
 mod spec;
 mod stabilization;
+mod vpt_consistency;
 mod vpt_geometry;
 
 #[cfg(test)]
@@ -69,4 +70,5 @@ pub use spec::{BarGroup, Controls, Frame, LegendEntry, LineData, PlotKind, PlotS
 pub use stabilization::{
     stabilization_drawing, stabilization_svg, ChartDrawing, PoleClass, PoleMark,
 };
+pub use vpt_consistency::{step_virtual_points, vpt_consistency_svgs};
 pub use vpt_geometry::vpt_geometry_svg;

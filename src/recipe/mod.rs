@@ -31,9 +31,9 @@ pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
 pub use ops::{pick_toggled, pick_written};
 pub use ops::{
-    virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple, Decouple, Invert, Op,
-    OpInfo, Operand, Parallel, Paths, Resample, Respond, Scale, Select, Series, Step, Sum,
-    ToVirtualPoints,
+    virtual_point_groups, virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple,
+    Decouple, Invert, Op, OpInfo, Operand, Parallel, Paths, Resample, Respond, Scale, Select,
+    Series, Step, Sum, ToVirtualPoints,
 };
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,

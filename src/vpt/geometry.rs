@@ -328,6 +328,17 @@ fn component_matches(want: &str, have: &str) -> bool {
     want.is_empty() || want == have
 }
 
+/// Whether `bytes` are a geometry file of our layout: the first line is
+/// [`GEOMETRY_MAGIC`] (after a byte-order mark, surrounding blanks ignored).
+pub fn looks_like_geometry(bytes: &[u8]) -> bool {
+    let head = &bytes[..bytes.len().min(256)];
+    let text = crate::io::csv::decode_text(head);
+    let first = crate::io::csv::text_lines(&text)
+        .next()
+        .is_some_and(|l| l.trim() == GEOMETRY_MAGIC);
+    first
+}
+
 impl Geometry {
     /// Locate the DOF `d` of a set: a DOF row for it wins over its node's
     /// row; two rows of one kind for one DOF, or none, are errors naming it.

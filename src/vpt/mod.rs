@@ -72,6 +72,7 @@
 
 pub mod consistency;
 pub mod geometry;
+pub mod groups;
 pub mod modes;
 pub mod transform;
 mod uff_geometry;

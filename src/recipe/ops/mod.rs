@@ -21,7 +21,7 @@ pub(crate) use transform::{
     interp as transform_interp, scale_in_place, select as transform_select,
 };
 pub use transform::{Convert, Invert, Resample, Scale, Select};
-pub use virtual_points::{virtual_point_plan, ToVirtualPoints};
+pub use virtual_points::{virtual_point_groups, virtual_point_plan, ToVirtualPoints};
 
 use super::report::StepReport;
 use super::Variant;

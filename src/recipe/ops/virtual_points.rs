@@ -236,6 +236,44 @@ pub fn virtual_point_plan(
     vp.plan_on(set, files).map_err(|e| e.within(label))
 }
 
+/// Propose virtual-point groups for the set `from` names (a component, or
+/// a step of the recipe, made as the baseline run makes it) with the
+/// geometry file `geometry` (our layout or a Universal File with nodes,
+/// read through `files`): each located channel and impact goes to the
+/// nearest origin within `radius` ([`vpt::groups::propose`]; origins and
+/// radius in the geometry's unit).
+pub fn virtual_point_groups(
+    recipe: &Recipe,
+    from: &str,
+    geometry: &str,
+    origins: &[vpt::groups::Origin],
+    radius: f64,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<vpt::groups::Proposal> {
+    let n = recipe
+        .steps
+        .iter()
+        .position(|s| s.id == from)
+        .map_or(0, |k| k + 1);
+    let values = values_before(recipe, n, files, limits)?;
+    let set = values.get(from).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{}' is not a component or a step of the recipe",
+            quote(from)
+        ))
+        .field("from")
+    })?;
+    let step = ToVirtualPoints {
+        from: from.to_string(),
+        geometry: GeometryOperand::File(geometry.to_string()),
+        points: Points(Vec::new()),
+        consistency_min: None,
+    };
+    let geom = step.geometry(files)?;
+    vpt::groups::propose(set, &geom, origins, radius)
+}
+
 impl Operation for ToVirtualPoints {
     const SUMMARY: &'static str =
         "reduce measured interface channels and impacts to virtual points (3 translations, 3 rotations each) by the virtual point transformation; other DOFs are kept; reports each point's sensor and impact consistency";
