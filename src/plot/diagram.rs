@@ -1349,7 +1349,7 @@ fn draw_ladder(
 
 #[cfg(test)]
 mod tests {
-    use super::super::fixtures::well_formed;
+    use super::super::fixtures::{contrast, well_formed};
     use super::*;
     use crate::frf::{Direction, FrfSet};
     use crate::recipe::parse;
@@ -1741,24 +1741,6 @@ mod tests {
             d.svg.len()
         );
         assert!(d.svg.len() < 2_000_000);
-    }
-
-    /// WCAG 2.1 contrast ratio of two "#rrggbb" colours (relative
-    /// luminance and ratio as defined in WCAG 2.1, success criterion 1.4.3).
-    fn contrast(a: &str, b: &str) -> f64 {
-        let lum = |h: &str| {
-            let c = |i: usize| {
-                let v = f64::from(u8::from_str_radix(&h[i..i + 2], 16).unwrap()) / 255.0;
-                if v <= 0.03928 {
-                    v / 12.92
-                } else {
-                    ((v + 0.055) / 1.055).powf(2.4)
-                }
-            };
-            0.2126 * c(1) + 0.7152 * c(3) + 0.0722 * c(5)
-        };
-        let (x, y) = (lum(a), lum(b));
-        (x.max(y) + 0.05) / (x.min(y) + 0.05)
     }
 
     #[test]
