@@ -678,7 +678,11 @@ fn with_shown<T>(
 
 /// Draw the kept plot on `canvas`, `width` × `height` CSS pixels at `dpr`
 /// device pixels per CSS pixel, with `view` (`plot::View`: db, x_log,
-/// y_log, x_range, y_range). Returns `plot::Drawn` (`{ frames, legend }`).
+/// y_log, x_range, y_range), in passes (`plot::Pass`): the curves
+/// `from..from + count`, the frame when `from` is 0 (the canvas sized and
+/// cleared), the legend in the last pass. Returns `plot::Drawn`
+/// (`{ frames, legend, next }`, `next` the next pass's `from` or null when
+/// the drawing is complete).
 #[wasm_bindgen]
 pub fn plot_draw(
     canvas: web_sys::HtmlCanvasElement,
@@ -686,13 +690,23 @@ pub fn plot_draw(
     width: u32,
     height: u32,
     dpr: f64,
+    from: u32,
+    count: u32,
 ) -> std::result::Result<JsValue, JsValue> {
     let view = view_of(view).map_err(js_err)?;
+    let pass = plot::Pass {
+        from: from as usize,
+        to: (from as usize).saturating_add(count as usize),
+    };
     let drawn = with_shown(|(data, frames)| {
         plot::check_size(width, height)?;
-        let mut b = plot::Canvas::new(canvas, width, height, dpr)
-            .map_err(|e| Error::io(format!("the plot canvas: {e}")))?;
-        let drawn = plot::draw_data(&mut b, data, &view)?;
+        let b = if pass.from == 0 {
+            plot::Canvas::new(canvas, width, height, dpr)
+        } else {
+            plot::Canvas::resume(canvas, width, height, dpr)
+        };
+        let mut b = b.map_err(|e| Error::io(format!("the plot canvas: {e}")))?;
+        let drawn = plot::draw_data_pass(&mut b, data, &view, pass)?;
         frames.clone_from(&drawn.frames);
         Ok(drawn)
     })
