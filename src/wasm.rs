@@ -912,3 +912,37 @@ pub fn vpt_consistency_svg(
         .map_err(js_err)?;
     to_json(&d)
 }
+
+/// The coupling benchmark in this worker: the case of
+/// `assemble::bench_case` (60 + 48 DOFs, 12 rigid joints) on `lines` lines,
+/// made under the workspace's limits, then coupled (timed alone). Returns
+/// `{ lines, seconds, digest }`, `digest` the SHA-256 of the result's values
+/// (`assemble::values_digest`), for `tools/wasm-bench.mjs` to compare with
+/// the native run.
+#[wasm_bindgen]
+pub fn bench_couple(lines: u32) -> std::result::Result<JsValue, JsValue> {
+    let limits = WS.with(|ws| ws.borrow().limits().clone());
+    let (comps, joints) = crate::assemble::bench_case(
+        lines as usize,
+        60,
+        48,
+        12,
+        crate::assemble::BENCH_SEED,
+        &limits,
+    )
+    .map_err(js_err)?;
+    let t0 = js_sys::Date::now();
+    let r = crate::assemble::couple(
+        &comps,
+        &joints,
+        &crate::assemble::CouplingOptions::default(),
+    )
+    .map_err(js_err)?;
+    let seconds = (js_sys::Date::now() - t0) / 1e3;
+    drop(comps);
+    structured(&serde_json::json!({
+        "lines": lines,
+        "seconds": seconds,
+        "digest": crate::assemble::values_digest(&r.set),
+    }))
+}
