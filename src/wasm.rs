@@ -921,7 +921,7 @@ pub fn vpt_consistency_svg(
 /// the native run.
 #[wasm_bindgen]
 pub fn bench_couple(lines: u32) -> std::result::Result<JsValue, JsValue> {
-    let limits = WS.with(|ws| ws.borrow().limits().clone());
+    let limits = WS.with(|ws| *ws.borrow().limits());
     let (comps, joints) = crate::assemble::bench_case(
         lines as usize,
         60,

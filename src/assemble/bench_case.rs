@@ -136,7 +136,7 @@ mod tests {
         let (c, j) = bench_case(3, 4, 3, 2, BENCH_SEED, &Limits::default()).unwrap();
         assert_eq!(j.len(), 2);
         let l = c[0].line(2);
-        assert_eq!(l[1 * 4 + 3], l[3 * 4 + 1]);
+        assert_eq!(l[4 + 3], l[3 * 4 + 1]); // (1, 3) and (3, 1)
         assert!(bench_case(3, 4, 3, 5, BENCH_SEED, &Limits::default()).is_err());
         let tight = Limits::default().with_budget_gb("0.001").unwrap();
         assert!(bench_case(6400, 60, 48, 12, BENCH_SEED, &tight).is_err());
