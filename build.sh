@@ -3,7 +3,8 @@
 #   ./build.sh        build the CLI and the offline page, run the demo scenario, print the page's URL
 #   ./build.sh test   run every test: Rust unit and integration tests (with Python cross-checks),
 #                     and the browser end-to-end tests against the built page
-#   ./build.sh bench  run the coupling benchmark (Rust core against a numpy reference)
+#   ./build.sh bench  benchmarks: coupling (Rust core against numpy and the machine's limit; the page's
+#                     WebAssembly against native) and the plot canvas (against plain Canvas 2D)
 #
 # On a fresh machine the first run installs what is missing, and only that: the wasm32 Rust target,
 # the pinned wasm-bindgen CLI, the npm packages (playwright-core, binaryen's wasm-opt); `test` also
@@ -153,7 +154,17 @@ case "${1:-build}" in
     ;;
   bench)
     ensure_venv
+    echo "== coupling: Rust core against numpy (two versions) and the machine's limit"
     cargo run --release --quiet --example bench_couple
+    ensure_wasm_target
+    ensure_bindgen
+    ensure_node_deps
+    ensure_chromium
+    page
+    echo "== coupling: the page's WebAssembly (its worker, headless Chromium) against native"
+    node tools/wasm-bench.mjs
+    echo "== plot: 150 curves on the page's canvas against plain Canvas 2D"
+    node tools/plot-bench.mjs
     ;;
   *)
     echo "usage: ./build.sh [build|test|bench]" >&2
