@@ -1,0 +1,32 @@
+//! Uncertainty of FRFs and of what is computed from them.
+//!
+//! * [`model`]: the standard uncertainty of each value of a set
+//!   ([`FrfUncertainty`], circular complex errors, independent values) and
+//!   how it is obtained: coherence and averages (H1 random error), repeated
+//!   measurements, a relative uncertainty with a floor below each FRF's peak.
+//! * [`first_order`]: linearized propagation through LM-FBS coupling and
+//!   decoupling (δY_c = L δY R), with the cancellation of each value.
+//! * [`monte_carlo`]: seeded Monte Carlo through any operation on sets
+//!   ([`draws`]: the counter-based normal draws, reproducible anywhere).
+//! * [`reliability`]: per value flags (below the noise, cancellation,
+//!   ill-conditioned interface), unreliable ranges and statements in words,
+//!   95 % level intervals.
+//! * [`spec`]: the recipe's per-component `"uncertainty"` key.
+//!
+//! An uncertainty is kept beside its set, never inside it: operations that
+//! copy and transform a set would otherwise carry a stale uncertainty.
+
+pub mod draws;
+pub mod first_order;
+pub mod model;
+pub mod monte_carlo;
+pub mod reliability;
+
+pub use first_order::{couple_first_order, decouple_first_order, FirstOrder};
+pub use model::{
+    from_coherence, from_repeats, h1_normalized_random_error, relative_with_floor, FrfUncertainty,
+};
+pub use monte_carlo::{
+    couple_monte_carlo, decouple_monte_carlo, monte_carlo_with, McOptions, McResult,
+};
+pub use reliability::{assess, interval_db, Reliability, ReliabilityOptions};
