@@ -35,6 +35,13 @@ pub struct FirstOrder {
     /// divided by |Y_c,ij| (1 when nothing cancels; 10 when the result is
     /// 20 dB below the terms it is the difference of). NaN where missing.
     pub cancellation: Vec<f64>,
+    /// Per value, the largest relative uncertainty u/|H| of the input values
+    /// its formula reads (its own entry, the interface columns of its row,
+    /// the interface rows of its column, every entry of the interface
+    /// matrix), each as its median over five neighbouring lines. Near or
+    /// above 1 the linearization is not valid there: an input is below its
+    /// noise. NaN where missing.
+    pub input_relative: Vec<f64>,
 }
 
 /// First-order uncertainty of [`crate::assemble::couple`]'s result.
@@ -102,6 +109,19 @@ fn propagate(
         });
     }
 
+    // relative uncertainty u/|H| of every input value (0 without
+    // uncertainty), as the median over the line and its two neighbours on
+    // each side: judged on single noisy lines, a value that is pure noise
+    // looks above its noise too often (see `reliability`)
+    let rel: Vec<Vec<f64>> = p
+        .sets
+        .iter()
+        .zip(&u2)
+        .map(|(s, u)| match u {
+            None => vec![0.0; s.data.len()],
+            Some(u) => local_median(s, &relative_of(&s.data, u)),
+        })
+        .collect();
     let nparts = p.sets.len();
     let (mut grow, mut gcol) = (vec![0usize; nparts], vec![0usize; nparts]);
     let (mut gr, mut gc) = (0, 0);
@@ -117,6 +137,18 @@ fn propagate(
     let zero = Complex64::new(0.0, 0.0);
     let mut std = vec![f64::NAN; nl * nr * nc];
     let mut cancellation = vec![f64::NAN; nl * nr * nc];
+    let mut input_relative = vec![f64::NAN; nl * nr * nc];
+    // result row a / column c → (part, local index)
+    let row_part: Vec<(usize, usize)> = p
+        .res
+        .iter()
+        .flat_map(|&q| (0..p.sets[q].n_out()).map(move |i| (q, i)))
+        .collect();
+    let col_part: Vec<(usize, usize)> = p
+        .res
+        .iter()
+        .flat_map(|&q| (0..p.sets[q].n_in()).map(move |j| (q, j)))
+        .collect();
     // B_u (m × gr) and B_f (m × gc), fixed over lines
     let mut bu = DMatrix::from_element(m, gr, zero);
     let mut bf = DMatrix::from_element(m, gc, zero);
@@ -200,6 +232,50 @@ fn propagate(
             let bm = DMatrix::from_fn(ni, nc, |c, j| rmat[(gcol[q] + c, j)].norm_sqr());
             var += a * u * bm;
         }
+        // relative input uncertainty each result value reads
+        let r_at = |q: usize, i: usize, j: usize| {
+            let s = &p.sets[q];
+            let v = rel[q][(k * s.n_out() + i) * s.n_in() + j];
+            if v.is_nan() {
+                0.0
+            } else {
+                v
+            }
+        };
+        let mut zrel: f64 = 0.0;
+        for er in &p.ends {
+            for es in &p.ends {
+                for e in er {
+                    for g in es {
+                        if e.part == g.part {
+                            zrel = zrel.max(r_at(e.part, e.o, g.i));
+                        }
+                    }
+                }
+            }
+        }
+        let rowrel: Vec<f64> = row_part
+            .iter()
+            .map(|&(q, i)| {
+                p.ends
+                    .iter()
+                    .flatten()
+                    .filter(|g| g.part == q)
+                    .map(|g| r_at(q, i, g.i))
+                    .fold(zrel, f64::max)
+            })
+            .collect();
+        let colrel: Vec<f64> = col_part
+            .iter()
+            .map(|&(q, j)| {
+                p.ends
+                    .iter()
+                    .flatten()
+                    .filter(|e| e.part == q)
+                    .map(|e| r_at(q, e.o, j))
+                    .fold(0.0, f64::max)
+            })
+            .collect();
         // cancellation: Y_c = Y − (Y B_fᵀ) X on the result block
         for (a, &gi) in res_rows.iter().enumerate() {
             let t = yb.row(gi) * &x;
@@ -210,6 +286,10 @@ fn propagate(
                 std[o] = var[(a, c)].sqrt();
                 let big = yv.norm().max(t[gj].norm());
                 cancellation[o] = if big == 0.0 { 1.0 } else { big / yc.norm() };
+                let (qa, i) = row_part[a];
+                let (qb, j) = col_part[c];
+                let own = if qa == qb { r_at(qa, i, j) } else { 0.0 };
+                input_relative[o] = rowrel[a].max(colrel[c]).max(own);
             }
         }
     }
@@ -226,10 +306,16 @@ fn propagate(
             }
         }
     }
-    for (o, (s, c)) in std.iter_mut().zip(&mut cancellation).enumerate() {
+    for (o, ((s, c), r)) in std
+        .iter_mut()
+        .zip(&mut cancellation)
+        .zip(&mut input_relative)
+        .enumerate()
+    {
         if !present[o % (nr * nc)] {
             *s = f64::NAN;
             *c = f64::NAN;
+            *r = f64::NAN;
         }
     }
     let methods: Vec<String> = originals
@@ -250,5 +336,77 @@ fn propagate(
             ),
         },
         cancellation,
+        input_relative,
     })
+}
+
+/// u/|H| per value (u² given): ∞ for an exact zero with noise, 0 without.
+fn relative_of(data: &[Complex64], u2: &[f64]) -> Vec<f64> {
+    data.iter()
+        .zip(u2)
+        .map(|(h, v)| {
+            let m = h.norm();
+            if m > 0.0 {
+                v.sqrt() / m
+            } else if *v > 0.0 {
+                f64::INFINITY
+            } else {
+                0.0
+            }
+        })
+        .collect()
+}
+
+/// Lines on each side of the median window of [`local_median`].
+const HALF_WINDOW: usize = 2;
+
+/// Per entry, the median of `v` over lines k − 2 … k + 2 (fewer at the
+/// ends of the grid); NaN values are left out.
+fn local_median(s: &FrfSet, v: &[f64]) -> Vec<f64> {
+    let (nl, nm) = (s.n_lines(), s.n_out() * s.n_in());
+    let mut out = vec![f64::NAN; v.len()];
+    let mut w: Vec<f64> = Vec::with_capacity(2 * HALF_WINDOW + 1);
+    for e in 0..nm {
+        for k in 0..nl {
+            w.clear();
+            let lo = k.saturating_sub(HALF_WINDOW);
+            let hi = (k + HALF_WINDOW).min(nl.saturating_sub(1));
+            w.extend((lo..=hi).map(|l| v[l * nm + e]).filter(|x| !x.is_nan()));
+            if w.is_empty() {
+                continue;
+            }
+            w.sort_by(|a, b| a.total_cmp(b));
+            let n = w.len();
+            out[k * nm + e] = if n % 2 == 1 {
+                w[n / 2]
+            } else {
+                0.5 * (w[n / 2 - 1] + w[n / 2])
+            };
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::frf::Dof;
+    use crate::units::Quantity;
+
+    #[test]
+    fn local_median_over_five_lines() {
+        let d = Dof::parse("a:1+Z", "").unwrap();
+        let s = FrfSet::zeros(
+            "a",
+            (0..6).map(|k| 1.0 + k as f64).collect(),
+            vec![d.clone()],
+            vec![d],
+            Quantity::Acceleration,
+            Quantity::Force,
+        );
+        let v = [5.0, 1.0, 9.0, 2.0, 7.0, 3.0];
+        // windows: [5,1,9] → 5; [5,1,9,2] → 3.5; [5,1,9,2,7] → 5; [1,9,2,7,3] → 3;
+        // [9,2,7,3] → 5; [2,7,3] → 3
+        assert_eq!(local_median(&s, &v), vec![5.0, 3.5, 5.0, 3.0, 5.0, 3.0]);
+    }
 }

@@ -130,12 +130,22 @@ pub fn from_coherence(set: &FrfSet, averages: f64) -> Result<FrfUncertainty> {
     })
 }
 
-/// A relative uncertainty with a floor: u = √((r·|H|)² + (f·peak)²), with r
-/// the relative standard uncertainty, f = 10^(floor_db / 20) and peak the
-/// largest |H| of that entry over the grid (in the set's own kind).
+/// A relative uncertainty with a floor: u = √((r·|H|)² + (f·P)²), with r
+/// the relative standard uncertainty and f = 10^(floor_db / 20). P is the
+/// peak of the entry as accelerance when the set is motion per force (the
+/// noise floor of an accelerometer is flat in acceleration, so the floor is
+/// constant in accelerance and falls as 1/ω or 1/ω² in mobility or
+/// receptance), else the largest |H| of the entry over the grid in its own
+/// kind.
 pub fn relative_with_floor(set: &FrfSet, relative: f64, floor_db: Option<f64>) -> FrfUncertainty {
     let (no, ni) = (set.n_out(), set.n_in());
     let f = floor_db.map_or(0.0, |d| 10f64.powf(d / 20.0));
+    // power of ω taking a value of this set to accelerance
+    let to_acc = match (set.out_qty.motion_order(), set.in_qty, set.signal) {
+        (Some(o), crate::units::Quantity::Force, None) => Some(2 - o),
+        _ => None,
+    };
+    let scale = |k: usize| to_acc.map_or(1.0, |p| set.omega(k).powi(p));
     let mut std = vec![f64::NAN; set.data.len()];
     for i in 0..no {
         for j in 0..ni {
@@ -143,19 +153,24 @@ pub fn relative_with_floor(set: &FrfSet, relative: f64, floor_db: Option<f64>) -
                 continue;
             }
             let peak = (0..set.n_lines())
-                .map(|k| set.get(k, i, j).norm())
+                .map(|k| set.get(k, i, j).norm() * scale(k))
                 .fold(0.0, f64::max);
             for k in 0..set.n_lines() {
                 let x = set.idx(k, i, j);
-                std[x] = (relative * set.data[x].norm()).hypot(f * peak);
+                std[x] = (relative * set.data[x].norm()).hypot(f * peak / scale(k));
             }
         }
     }
+    let peak = if to_acc.is_some() {
+        "accelerance peak"
+    } else {
+        "peak"
+    };
     FrfUncertainty {
         std,
         method: match floor_db {
             Some(d) => format!(
-                "relative {}, floor {d} dB below each FRF's peak",
+                "relative {}, floor {d} dB re each FRF's {peak}",
                 fmt_rel(relative)
             ),
             None => format!("relative {}", fmt_rel(relative)),
@@ -293,6 +308,15 @@ mod tests {
         assert!((u.std[1] - (1e-6f64 + 0.01).sqrt()).abs() < 1e-12);
         let u = relative_with_floor(&s, 0.02, None);
         assert!((u.std[1] - 0.002).abs() < 1e-15);
+        // receptance: the floor is 1e-3 of the accelerance peak, taken back by 1/ω²
+        let mut r = s.clone();
+        r.out_qty = Quantity::Displacement;
+        let w = [r.omega(0), r.omega(1)];
+        let peak = (100.0 * w[0] * w[0]).max(0.1 * w[1] * w[1]);
+        let u = relative_with_floor(&r, 0.0, Some(-60.0));
+        for (k, wk) in w.iter().enumerate() {
+            assert!((u.std[k] - 1e-3 * peak / (wk * wk)).abs() < 1e-12 * u.std[k]);
+        }
     }
 
     #[test]

@@ -1,11 +1,24 @@
 //! Which lines of a result can be trusted: a flag per value (entry and
-//! line) from the propagated uncertainty, the cancellation and the
-//! interface conditioning, and band-by-band statements in words.
+//! line) from the propagated uncertainty, the inputs' own noise, the
+//! cancellation and the interface conditioning, and band-by-band statements
+//! in words.
 //!
-//! Rules (each with its default):
-//! * **below the noise**: the 95 % interval of |Y| reaches zero, i.e.
-//!   1.96 · u/√2 ≥ |Y| (u/√2 is the standard deviation of |Y| for a circular
-//!   error, see [`super::model`]; normal approximation): u/|Y| ≥ 0.72.
+//! Rules (each with its default). With u the propagated standard
+//! uncertainty, u/√2 is the standard deviation of |Y| (circular error, see
+//! [`super::model`]), so the 95 % interval of |Y| is |Y| (1 ± 1.96 u/(√2|Y|))
+//! (normal approximation):
+//! * **below the input noise**: that interval reaches zero, u/|Y| ≥ √2/1.96
+//!   = 0.72.
+//! * **uncertain**: the interval is wider than ±3 dB (its lower end, the
+//!   wider side, below −3 dB: u/|Y| ≥ 0.211).
+//! * **an input below its noise**: an input value the result's formula reads
+//!   has u/|H| ≥ 0.3 (median over five lines, see
+//!   [`super::first_order`]). The first-order propagation is linearized at
+//!   the measured values; where an input is dominated by its noise that point
+//!   is far from the truth and the propagated u can be far too small. The
+//!   bar is low because u/|H| is judged on the noisy value itself: a value
+//!   that is pure circular noise passes 0.72 on a line with probability
+//!   e^(−1/0.72²) = 15 %, 0.3 with e^(−1/0.09) = 1.5·10⁻⁵.
 //! * **cancellation**: the result is 20 dB or more below the larger of the
 //!   two terms it is the difference of (ratio ≥ 10; a small relative error of
 //!   the terms becomes a large one of the result).
@@ -22,8 +35,12 @@ pub const Z95: f64 = 1.959_963_984_540_054;
 /// Thresholds of the reliability rules.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct ReliabilityOptions {
-    /// Largest u/|Y| of a reliable value (default √2 / 1.96 = 0.72).
-    pub max_relative: f64,
+    /// Half-width in dB the 95 % level interval of a reliable value may
+    /// have (default 3 dB).
+    pub max_interval_db: f64,
+    /// Largest u/|H| of an input value a reliable result value reads
+    /// (default 0.3).
+    pub max_input_relative: f64,
     /// Largest cancellation ratio of a reliable value (default 10: 20 dB).
     pub max_cancellation: f64,
     /// Largest interface condition number of a reliable line (default 1e6).
@@ -33,17 +50,31 @@ pub struct ReliabilityOptions {
 impl Default for ReliabilityOptions {
     fn default() -> Self {
         ReliabilityOptions {
-            max_relative: std::f64::consts::SQRT_2 / Z95,
+            max_interval_db: 3.0,
+            max_input_relative: 0.3,
             max_cancellation: 10.0,
             max_condition: 1e6,
         }
     }
 }
 
+impl ReliabilityOptions {
+    /// The u/|Y| at which the 95 % interval's lower end is `max_interval_db`
+    /// below |Y|: (1 − 10^(−dB/20)) · √2 / 1.96.
+    pub fn max_relative(&self) -> f64 {
+        (1.0 - 10f64.powf(-self.max_interval_db / 20.0)) * std::f64::consts::SQRT_2 / Z95
+    }
+}
+
+/// u/|Y| at which the 95 % interval of |Y| reaches zero: √2 / 1.96.
+pub const NOISE_RELATIVE: f64 = std::f64::consts::SQRT_2 / Z95;
+
 /// Why a value is unreliable: a bit set.
 pub const BELOW_NOISE: u8 = 1;
 pub const CANCELLATION: u8 = 2;
 pub const ILL_CONDITIONED: u8 = 4;
+pub const INPUT_NOISE: u8 = 8;
+pub const UNCERTAIN: u8 = 16;
 
 /// The reasons of a flag in words.
 pub fn reasons(flag: u8) -> Vec<&'static str> {
@@ -51,11 +82,17 @@ pub fn reasons(flag: u8) -> Vec<&'static str> {
     if flag & BELOW_NOISE != 0 {
         v.push("below the input noise");
     }
+    if flag & INPUT_NOISE != 0 {
+        v.push("an input below its noise");
+    }
     if flag & CANCELLATION != 0 {
         v.push("cancellation");
     }
     if flag & ILL_CONDITIONED != 0 {
         v.push("ill-conditioned interface");
+    }
+    if flag & UNCERTAIN != 0 {
+        v.push("95 % interval wider than the limit");
     }
     v
 }
@@ -67,7 +104,7 @@ pub struct Band {
     pub entry: String,
     pub from_hz: f64,
     pub to_hz: f64,
-    /// the reasons (the same on every line of the range)
+    /// the reasons found on the lines of the range
     pub reasons: Vec<String>,
 }
 
@@ -94,24 +131,48 @@ impl Reliability {
     }
 }
 
-/// Flag the values of `set` from its propagated standard uncertainty `std`
-/// (same layout; `None` when no input uncertainty was given), the
-/// cancellation ratios (same layout, `None` when not known) and the
-/// interface condition number per line (`None` when not a coupling).
-pub fn assess(
-    set: &FrfSet,
-    std: Option<&[f64]>,
-    cancellation: Option<&[f64]>,
-    condition: Option<&[f64]>,
-    opts: &ReliabilityOptions,
-) -> Reliability {
+/// What [`assess`] reads, each in the set's data layout (`None` when not known).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Evidence<'a> {
+    /// propagated standard uncertainty per value
+    pub std: Option<&'a [f64]>,
+    /// largest relative uncertainty of the inputs each value reads
+    pub input_relative: Option<&'a [f64]>,
+    /// cancellation ratio per value
+    pub cancellation: Option<&'a [f64]>,
+    /// interface condition number per line
+    pub condition: Option<&'a [f64]>,
+}
+
+impl<'a> Evidence<'a> {
+    /// Everything a coupling's first-order propagation and its interface
+    /// conditioning give.
+    pub fn of_coupling(fo: &'a super::FirstOrder, condition: &'a [f64]) -> Evidence<'a> {
+        Evidence {
+            std: Some(&fo.uncertainty.std),
+            input_relative: Some(&fo.input_relative),
+            cancellation: Some(&fo.cancellation),
+            condition: Some(condition),
+        }
+    }
+}
+
+/// Flag the values of `set` from the evidence (see the module docs).
+pub fn assess(set: &FrfSet, ev: &Evidence, opts: &ReliabilityOptions) -> Reliability {
+    let Evidence {
+        std,
+        input_relative,
+        cancellation,
+        condition,
+    } = *ev;
     let (no, ni, nl) = (set.n_out(), set.n_in(), set.n_lines());
     let mut flags = vec![0u8; set.data.len()];
+    let max_rel = opts.max_relative();
     let (mut present, mut flagged) = (0usize, 0usize);
     for k in 0..nl {
         let ill = condition
             .and_then(|c| c.get(k))
-            .is_some_and(|&c| !(c < opts.max_condition));
+            .is_some_and(|&c| c.is_nan() || c >= opts.max_condition);
         for i in 0..no {
             for j in 0..ni {
                 if !set.is_present(i, j) {
@@ -121,12 +182,21 @@ pub fn assess(
                 let mut f = 0u8;
                 let mag = set.data[x].norm();
                 if let Some(u) = std.and_then(|s| s.get(x)) {
-                    if u.is_finite() && *u >= opts.max_relative * mag && *u > 0.0 {
-                        f |= BELOW_NOISE;
+                    if !u.is_nan() && *u > 0.0 {
+                        if *u >= NOISE_RELATIVE * mag {
+                            f |= BELOW_NOISE;
+                        } else if *u >= max_rel * mag {
+                            f |= UNCERTAIN;
+                        }
+                    }
+                }
+                if let Some(r) = input_relative.and_then(|r| r.get(x)) {
+                    if *r >= opts.max_input_relative {
+                        f |= INPUT_NOISE;
                     }
                 }
                 if let Some(c) = cancellation.and_then(|c| c.get(x)) {
-                    if !(*c < opts.max_cancellation) && !c.is_nan() {
+                    if *c >= opts.max_cancellation {
                         f |= CANCELLATION;
                     }
                 }
@@ -153,8 +223,9 @@ pub fn assess(
                     continue;
                 }
                 let start = k;
-                let why = flags[set.idx(k, i, j)];
-                while k < nl && flags[set.idx(k, i, j)] == why {
+                let mut why = 0u8;
+                while k < nl && flags[set.idx(k, i, j)] != 0 {
+                    why |= flags[set.idx(k, i, j)];
                     k += 1;
                 }
                 bands.push(Band {
@@ -278,39 +349,53 @@ mod tests {
 
     #[test]
     fn flags_by_each_rule_and_states_the_ranges() {
-        let s = set(&[1.0, 1.0, 1.0, 1.0, 1.0]);
-        let u = [0.1, 0.1, 0.1, 0.8, 2.0];
-        let c = [12.0, 1.0, 1.0, 1.0, 1.0];
-        let cond = [1.0, 1.0, 1e7, 1.0, 1.0];
-        let r = assess(
-            &s,
-            Some(&u),
-            Some(&c),
-            Some(&cond),
-            &ReliabilityOptions::default(),
-        );
+        let s = set(&[1.0; 6]);
+        let u = [0.1, 0.1, 0.1, 0.8, 2.0, 0.25];
+        let ir = [0.0, 0.0, 0.0, 0.2, 0.3, 0.0];
+        let c = [12.0, 1.0, 1.0, 1.0, 1.0, 1.0];
+        let cond = [1.0, 1.0, 1e7, 1.0, 1.0, 1.0];
+        let ev = Evidence {
+            std: Some(&u),
+            input_relative: Some(&ir),
+            cancellation: Some(&c),
+            condition: Some(&cond),
+        };
+        let r = assess(&s, &ev, &ReliabilityOptions::default());
         assert_eq!(
             r.flags,
-            vec![CANCELLATION, 0, ILL_CONDITIONED, BELOW_NOISE, BELOW_NOISE]
+            vec![
+                CANCELLATION,
+                0,
+                ILL_CONDITIONED,
+                BELOW_NOISE,
+                BELOW_NOISE | INPUT_NOISE,
+                UNCERTAIN
+            ]
         );
-        assert!((r.fraction_flagged - 0.8).abs() < 1e-15);
-        assert_eq!(r.bands.len(), 3);
+        assert!((r.fraction_flagged - 5.0 / 6.0).abs() < 1e-15);
+        // consecutive flagged lines form one range with all their reasons
+        assert_eq!(r.bands.len(), 2);
         let st = &r.statements[0];
         assert!(st.contains("up to 100 Hz (cancellation)"), "{st}");
-        assert!(st.contains("at 300 Hz (ill-conditioned interface)"), "{st}");
-        assert!(st.contains("above 400 Hz (below the input noise)"), "{st}");
+        assert!(
+            st.contains("above 300 Hz (below the input noise, an input below its noise, ill-conditioned interface, 95 % interval wider than the limit)"),
+            "{st}"
+        );
         assert!(r.is_reliable(&s, 1, 0, 0));
         assert!(!r.is_reliable(&s, 4, 0, 0));
     }
 
     #[test]
-    fn noise_threshold_is_where_the_95_percent_interval_reaches_zero() {
-        let o = ReliabilityOptions::default();
-        // 1.96 · u / √2 = |Y|
-        assert!((o.max_relative * Z95 / 2f64.sqrt() - 1.0).abs() < 1e-15);
-        let (lo, hi) = interval_db(1.0, o.max_relative * 0.999);
+    fn thresholds_follow_the_95_percent_interval() {
+        // 1.96 · u / √2 = |Y|: the interval reaches zero
+        assert!((NOISE_RELATIVE * Z95 / 2f64.sqrt() - 1.0).abs() < 1e-15);
+        let (lo, hi) = interval_db(1.0, NOISE_RELATIVE * 0.999);
         assert!(lo < -59.0 && lo.is_finite() && (hi - 20.0 * 2f64.log10()).abs() < 1e-2);
-        assert_eq!(interval_db(1.0, o.max_relative).0, f64::NEG_INFINITY);
+        assert_eq!(interval_db(1.0, NOISE_RELATIVE).0, f64::NEG_INFINITY);
+        // ±3 dB: the lower end at −3 dB, hand-worked: (1 − 0.70795) · 1.41421 / 1.95996 = 0.21073
+        let o = ReliabilityOptions::default();
+        assert!((o.max_relative() - 0.210_73).abs() < 1e-5);
+        assert!((interval_db(1.0, o.max_relative()).0 + 3.0).abs() < 1e-12);
         // small u: ±1.96 · u/√2 relative, 20·log10(1.0139) = 0.1196 dB for u = 0.01
         let (lo, hi) = interval_db(1.0, 0.01);
         assert!(
