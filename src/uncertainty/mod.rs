@@ -11,17 +11,21 @@
 //! * [`reliability`]: per value flags (below the noise, cancellation,
 //!   ill-conditioned interface), unreliable ranges and statements in words,
 //!   95 % level intervals.
+//! * [`chain`]: first order through cascade, sum of paths and response.
 //! * [`spec`]: the recipe's per-component `"uncertainty"` key.
 //!
 //! An uncertainty is kept beside its set, never inside it: operations that
 //! copy and transform a set would otherwise carry a stale uncertainty.
 
+pub mod chain;
 pub mod draws;
 pub mod first_order;
 pub mod model;
 pub mod monte_carlo;
 pub mod reliability;
+pub mod spec;
 
+pub use chain::{cascade_first_order, respond_first_order, sum_first_order};
 pub use first_order::{couple_first_order, decouple_first_order, FirstOrder};
 pub use model::{
     from_coherence, from_repeats, h1_normalized_random_error, relative_with_floor, FrfUncertainty,
@@ -30,3 +34,4 @@ pub use monte_carlo::{
     couple_monte_carlo, decouple_monte_carlo, monte_carlo_with, McOptions, McResult,
 };
 pub use reliability::{assess, interval_db, Evidence, Reliability, ReliabilityOptions};
+pub use spec::UncertaintySpec;
