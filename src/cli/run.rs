@@ -254,7 +254,8 @@ fn write_charts(
     Ok(())
 }
 
-/// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
+/// Write each output as `NAME.uff` and `NAME.csv` (with `NAME.uncertainty.csv`
+/// when it carries an uncertainty), and `report.json`.
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
 /// numbers under `uff_node_numbers`.
@@ -281,6 +282,24 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
             files.push(p.display().to_string());
         }
+    }
+    for (s, base) in res.outputs.iter().zip(&stems) {
+        if res.uncertainties.contains_key(&s.name) && stems.contains(&format!("{base}.uncertainty"))
+        {
+            return Err(Error::usage(format!(
+                "output '{}' has an uncertainty, written as {base}.uncertainty.csv, and another output would be written as {base}.uncertainty.csv too; rename one",
+                s.name
+            )));
+        }
+        let Some(a) = res.uncertainties.get(&s.name) else {
+            continue;
+        };
+        let text = crate::uncertainty::csv::to_csv(s, &a.uncertainty, &a.reliability)
+            .map_err(|e| as_data(e, ErrorKind::Internal))?;
+        let p = out.join(format!("{base}.uncertainty.csv"));
+        std::fs::write(&p, text)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+        files.push(p.display().to_string());
     }
     report.uff_node_numbers = numbers;
     write_models(&mut report, out, &mut files)?;

@@ -24,6 +24,7 @@ mod help;
 mod joint;
 mod ops;
 mod report;
+mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
 pub use execute::{load_components, load_components_with, run, run_with, RunResult};
@@ -38,8 +39,9 @@ pub use ops::{
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,
     ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport,
-    ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
+    UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
+pub use uncertainty::Assessed;
 
 use crate::error::{quote, quote_upto, Error, Result};
 use crate::io;

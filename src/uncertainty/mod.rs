@@ -12,14 +12,18 @@
 //!   ill-conditioned interface), unreliable ranges and statements in words,
 //!   95 % level intervals.
 //! * [`chain`]: first order through cascade, sum of paths and response.
+//! * [`level`]: the 95 % interval of an overall level.
+//! * [`csv`]: a result's uncertainty and flags as text.
 //! * [`spec`]: the recipe's per-component `"uncertainty"` key.
 //!
 //! An uncertainty is kept beside its set, never inside it: operations that
 //! copy and transform a set would otherwise carry a stale uncertainty.
 
 pub mod chain;
+pub mod csv;
 pub mod draws;
 pub mod first_order;
+pub mod level;
 pub mod model;
 pub mod monte_carlo;
 pub mod reliability;
@@ -27,6 +31,7 @@ pub mod spec;
 
 pub use chain::{cascade_first_order, respond_first_order, sum_first_order};
 pub use first_order::{couple_first_order, decouple_first_order, FirstOrder};
+pub use level::level_interval;
 pub use model::{
     from_coherence, from_repeats, h1_normalized_random_error, relative_with_floor, FrfUncertainty,
 };
