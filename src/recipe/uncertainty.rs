@@ -1,6 +1,7 @@
 //! The recipe's face of [`crate::uncertainty`]: each component's
 //! uncertainty from its `"uncertainty"` key, its propagation step by step
-//! (first order through couple, decouple, cascade, sum and respond), and
+//! (first order through couple, decouple, cascade, sum, select, convert,
+//! respond and the total of paths), and
 //! the reliability of each result in the step's report.
 
 use super::ops::{check_tsvd, resolve_joints, Ctx, Op, StepOutput};
@@ -139,18 +140,41 @@ pub(crate) fn propagate(
             let r = assess_std(&out.set, &u, &opts);
             (u, r)
         }
+        Op::Select(sel) => {
+            let from = cx.get("from", &sel.from)?;
+            let Some(uf) = get(&sel.from) else {
+                return Ok(None);
+            };
+            let u = uncertainty::select_uncertainty(from, uf, &|s| {
+                super::ops::transform_select(s, sel.outputs.as_deref(), sel.inputs.as_deref())
+            })?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Convert(c) => {
+            let from = cx.get("from", &c.from)?;
+            let Some(uf) = get(&c.from) else {
+                return Ok(None);
+            };
+            let (_, u) = uncertainty::convert_first_order(from, uf, &c.kind)?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Paths(p) => {
+            // the total: the response of the same FRFs and excitation
+            let h = cx.get("frf", &p.frf)?;
+            let f = cx.get("excitation", &p.excitation)?;
+            let (_, u) = uncertainty::respond_first_order(h, get(&p.frf), f, get(&p.excitation))?;
+            let rel = assess_std(&out.set, &u, &opts);
+            level_intervals(out, &u)?;
+            (u, rel)
+        }
         Op::Respond(r) => {
             let h = cx.get("frf", &r.frf)?;
             let f = cx.get("excitation", &r.excitation)?;
             let (_, u) = uncertainty::respond_first_order(h, get(&r.frf), f, get(&r.excitation))?;
             let rel = assess_std(&out.set, &u, &opts);
-            let w = weighting_for(&out.set);
-            for (i, row) in out.report.levels.iter_mut().flatten().enumerate() {
-                if row.overall_db.is_some() {
-                    let (lo, hi) = uncertainty::level_interval(&out.set, &u, i, w)?;
-                    row.overall_interval_95_db = Some([lo, hi]);
-                }
-            }
+            level_intervals(out, &u)?;
             (u, rel)
         }
         other => {
@@ -162,7 +186,7 @@ pub(crate) fn propagate(
             return Ok(None);
         }
     };
-    let method = if matches!(op, Op::Respond(_)) {
+    let method = if matches!(op, Op::Respond(_) | Op::Paths(_)) {
         format!(
             "{}; level intervals: Monte Carlo over the lines, {} draws, seed {}",
             u.method,
@@ -183,6 +207,18 @@ pub(crate) fn propagate(
         uncertainty: u,
         reliability,
     }))
+}
+
+/// The 95 % interval of each level row of a response (or path total).
+fn level_intervals(out: &mut StepOutput, u: &FrfUncertainty) -> Result<()> {
+    let w = weighting_for(&out.set);
+    for (i, row) in out.report.levels.iter_mut().flatten().enumerate() {
+        if row.overall_db.is_some() {
+            let (lo, hi) = uncertainty::level_interval(&out.set, u, i, w)?;
+            row.overall_interval_95_db = Some([lo, hi]);
+        }
+    }
+    Ok(())
 }
 
 fn tsvd_of(op: &Op) -> Option<f64> {

@@ -11,6 +11,9 @@
 //!   |H_ij|² u_f,j²; y_i = Σ_j |H_ij|² S_j (autopower, PSD):
 //!   u_y,i² = Σ_j 2 |H_ij|² S_j² u_H,ij² + |H_ij|⁴ u_S,j² (δ|H|² =
 //!   2 Re(H̄ δH), whose variance is 2|H|²u² for a circular δH).
+//! * kind conversion by (iω)ⁿ: u times ωⁿ (exact); by inversion Z = Y⁻¹:
+//!   δZ = −Z δY Z, so u_Z,ij² = Σ_ab |Z_ia|² u_Y,ab² |Z_bj|².
+//! * selection: the same selection of the uncertainties (exact).
 
 use super::model::FrfUncertainty;
 use crate::error::Result;
@@ -143,6 +146,71 @@ pub fn respond_first_order(
     Ok((y, FrfUncertainty { std, method: what }))
 }
 
+/// `set.to_kind(kind)` with its first-order uncertainty.
+pub fn convert_first_order(
+    set: &FrfSet,
+    u: &FrfUncertainty,
+    kind: &str,
+) -> Result<(FrfSet, FrfUncertainty)> {
+    u.check_fits(set)?;
+    let out = set.to_kind(kind)?;
+    let order = |q: crate::units::Quantity| q.motion_order().unwrap_or(0);
+    let (mid, mut std) = if set.out_qty.is_motion() == out.out_qty.is_motion() {
+        (set.clone(), u.std.clone())
+    } else {
+        // the inversion first (to_kind inverts, then changes the order)
+        let z = set.invert()?;
+        let n = z.n_out();
+        let mut std = vec![0.0; z.data.len()];
+        for k in 0..z.n_lines() {
+            for i in 0..n {
+                for j in 0..n {
+                    let mut v = 0.0;
+                    for a in 0..n {
+                        for b in 0..n {
+                            let ub = u.std[set.idx(k, a, b)];
+                            v += z.get(k, i, a).norm_sqr() * ub * ub * z.get(k, b, j).norm_sqr();
+                        }
+                    }
+                    std[z.idx(k, i, j)] = v.sqrt();
+                }
+            }
+        }
+        (z, std)
+    };
+    let p = (order(out.out_qty) - order(mid.out_qty)) - (order(out.in_qty) - order(mid.in_qty));
+    if p != 0 {
+        let nm = mid.n_out() * mid.n_in();
+        for k in 0..mid.n_lines() {
+            let f = mid.omega(k).powi(p);
+            for v in &mut std[k * nm..(k + 1) * nm] {
+                *v *= f;
+            }
+        }
+    }
+    let method = format!("{} through a conversion to {}", u.method, out.kind().name());
+    Ok((out, FrfUncertainty { std, method }))
+}
+
+/// The uncertainty of a selection of `set` made by `select` (the same
+/// function applied to the uncertainties, so the one selection rule decides).
+pub fn select_uncertainty(
+    set: &FrfSet,
+    u: &FrfUncertainty,
+    select: &dyn Fn(&FrfSet) -> Result<FrfSet>,
+) -> Result<FrfUncertainty> {
+    u.check_fits(set)?;
+    let mut carrier = set.clone();
+    for (d, s) in carrier.data.iter_mut().zip(&u.std) {
+        *d = num_complex::Complex64::new(*s, 0.0);
+    }
+    let picked = select(&carrier)?;
+    Ok(FrfUncertainty {
+        std: picked.data.iter().map(|v| v.re.abs()).collect(),
+        method: u.method.clone(),
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -208,6 +276,21 @@ mod tests {
         assert_eq!(y.data[0], Complex64::new(7.0, 8.0));
         // 4·0.01 + 25·0.0025 + 1·0.04 = 0.1425
         assert!((uy.std[0] - 0.1425f64.sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn inversion_of_a_scalar_and_order_change() {
+        // Z = 1/Y: u_Z = u_Y / |Y|² (δ(1/Y) = −δY / Y²); mobility → impedance
+        let y = frf(&["a:1+Z"], &["a:1+Z"], &[Complex64::new(0.0, 2.0)]);
+        let (z, uz) = convert_first_order(&y, &u(&[0.1]), "impedance").unwrap();
+        assert_eq!(z.data[0], Complex64::new(0.0, -0.5));
+        assert!((uz.std[0] - 0.1 / 4.0).abs() < 1e-15);
+        // mobility → accelerance: times iω, u times ω
+        let (_, ua) = convert_first_order(&y, &u(&[0.1]), "accelerance").unwrap();
+        assert!((ua.std[0] - 0.1 * y.omega(0)).abs() < 1e-12);
+        // receptance ← mobility ÷ iω, dynamic stiffness: the order change after the inversion
+        let (_, uk) = convert_first_order(&y, &u(&[0.1]), "dynamic-stiffness").unwrap();
+        assert!((uk.std[0] - 0.025 * y.omega(0)).abs() < 1e-12);
     }
 
     #[test]

@@ -29,7 +29,10 @@ pub mod monte_carlo;
 pub mod reliability;
 pub mod spec;
 
-pub use chain::{cascade_first_order, respond_first_order, sum_first_order};
+pub use chain::{
+    cascade_first_order, convert_first_order, respond_first_order, select_uncertainty,
+    sum_first_order,
+};
 pub use first_order::{couple_first_order, decouple_first_order, FirstOrder};
 pub use level::level_interval;
 pub use model::{
