@@ -174,6 +174,17 @@ fn execute(
     })
 }
 
+/// The baseline steps' reports on `comps`, with no uncertainty propagated
+/// (each draw of [`super::monte_carlo`]).
+pub(crate) fn execute_plain(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<Vec<StepReport>> {
+    Ok(execute(recipe, comps, &BTreeMap::new(), None, limits, files)?.steps)
+}
+
 /// The sets the step at index `n` can read, as the baseline run makes them:
 /// every component loaded, the steps before it run (no variant, no audit),
 /// within `limits`.
@@ -303,6 +314,7 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         audit,
         headline: Vec::new(),
         uff_node_numbers: BTreeMap::new(),
+        monte_carlo: None,
         caution: predict::CAUTION.into(),
     };
     report.headline = headline(&report);

@@ -51,6 +51,10 @@ pub struct RunReport {
     /// Integer node numbers given to text labels in UFF exports, per output.
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     pub uff_node_numbers: BTreeMap<String, serde_json::Value>,
+    /// A Monte Carlo of the whole recipe over its components' stated
+    /// uncertainty, when asked for (`mortise run --monte-carlo N`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub monte_carlo: Option<super::monte_carlo::RecipeMonteCarlo>,
     pub caution: String,
 }
 
