@@ -129,3 +129,50 @@ fn uncertainty_keys_are_used_or_refused_by_name() {
         assert_eq!(mortise::cli::exit_code(e.kind), 1, "{spec}: {text}");
     }
 }
+
+#[test]
+fn monte_carlo_of_the_recipe_and_its_bad_options() {
+    let dir = common::scratch("run_uncertainty_mc");
+    let recipe = demo_recipe(&dir, |r| {
+        r["components"]["forces"]["uncertainty"] = json!({"relative": 0.05});
+        r.as_object_mut().unwrap().remove("variants");
+    });
+    let rp = recipe.to_str().unwrap();
+    let out = dir.join("out");
+    let op = out.to_str().unwrap();
+    for (args, expect) in [
+        (vec!["--monte-carlo", "1"], "2 or more"),
+        (vec!["--monte-carlo", "x"], "whole number"),
+        (vec!["--seed", "3"], "--monte-carlo N"),
+        (vec!["--monte-carlo", "3", "--seed", "-1"], "--seed"),
+    ] {
+        let mut a = vec!["run", rp, "-o", op];
+        a.extend(args.iter());
+        let e = cli(&a).unwrap_err();
+        assert_eq!(mortise::cli::exit_code(e.kind), 2, "{args:?}: {e}");
+        assert!(e.to_string().contains(expect), "{args:?}: {e}");
+    }
+    let printed = cli(&["run", rp, "-o", op, "--monte-carlo", "3", "--seed", "7"]).unwrap();
+    let line = printed
+        .lines()
+        .find(|l| l.starts_with("Monte Carlo of the recipe (3 draws, seed 7): bedroom at room:bed"))
+        .unwrap_or_else(|| panic!("{printed}"));
+    assert!(line.contains("dB(A)"), "{line}");
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let mc = &report["monte_carlo"];
+    assert_eq!(mc["draws"], 3);
+    assert!(mc["method"].as_str().unwrap().contains("'forces'"), "{mc}");
+    // 5 % on the forces alone: every draw moves the level, and only a little
+    let bed = mc["levels"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|l| l["step"] == "bedroom")
+        .unwrap();
+    let sd = bed["std_db"].as_f64().unwrap();
+    assert!(sd > 0.0 && sd < 1.0, "{bed}");
+    // the same seed gives the same draws
+    let again = cli(&["run", rp, "-o", op, "--monte-carlo", "3", "--seed", "7"]).unwrap();
+    assert!(again.contains(line), "{again}");
+}

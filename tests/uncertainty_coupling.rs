@@ -97,6 +97,7 @@ fn check_propagation(name: &str) {
     for (a, b) in mc.std.iter().zip(&c.mc_std) {
         worst = worst.max((a - b).abs() / b.max(1e-300));
     }
+    eprintln!("{name}: Monte Carlo std, largest relative difference to numpy's: {worst:.1e}");
     assert!(
         worst < 1e-7,
         "{name}: Monte Carlo std differs from numpy's by {worst:e}"
@@ -322,4 +323,62 @@ fn interval_coverage_near_95_percent() {
     );
     // the acceptance range
     assert!((0.93..=0.97).contains(&cov), "coverage {cov}");
+}
+
+/// Decoupling: B removed from the coupled A + B (its A rows and columns,
+/// renamed AB), 1 % noise on both; first order against the Monte Carlo.
+#[test]
+fn decoupling_first_order_matches_monte_carlo() {
+    let c = case("rigid");
+    let mut full = couple(&c.parts, &c.joints, &opts()).unwrap().set;
+    let a_dofs: Vec<mortise::Dof> = full.outputs[..3].to_vec();
+    full = full.select_dofs(&a_dofs, &a_dofs).unwrap();
+    for d in full.outputs.iter_mut().chain(full.inputs.iter_mut()) {
+        d.component = "AB".into();
+    }
+    full.name = "AB".into();
+    let removed = c.parts[1].clone();
+    let joints = vec![Joint::rigid(
+        mortise::Dof::parse("AB:3+X", "").unwrap(),
+        mortise::Dof::parse("B:1+X", "").unwrap(),
+    )];
+    let ua = uncertainty::relative_with_floor(&full, 0.01, None);
+    let ub = c.small[1].clone();
+    let fo =
+        uncertainty::decouple_first_order(&full, Some(&ua), &removed, Some(&ub), &joints, &opts())
+            .unwrap();
+    let mc = uncertainty::decouple_monte_carlo(
+        &full,
+        Some(&ua),
+        &removed,
+        Some(&ub),
+        &joints,
+        &opts(),
+        McOptions {
+            draws: 400,
+            seed: 11,
+        },
+    )
+    .unwrap();
+    let nominal = mortise::assemble::decouple(&full, &removed, &joints, &opts())
+        .unwrap()
+        .set;
+    // the decoupled A equals the component A (the noise-free check of the setup)
+    let a = &c.parts[0];
+    let scale = a.data.iter().map(|v| v.norm()).fold(0.0, f64::max);
+    for (x, y) in nominal.data.iter().zip(&a.data) {
+        assert!((x - y).norm() < 1e-8 * scale, "{x} vs {y}");
+    }
+    let se = 1.0 / (2.0 * 399.0f64).sqrt();
+    let (mut n, mut worst) = (0usize, 0.0f64);
+    for (x, (f, m)) in fo.uncertainty.std.iter().zip(&mc.std).enumerate() {
+        if f / nominal.data[x].norm() > 0.05 {
+            continue;
+        }
+        n += 1;
+        worst = worst.max((f / m - 1.0).abs());
+    }
+    eprintln!("decoupling: {n} values compared, worst |first order / Monte Carlo − 1| {worst:.4}");
+    assert!(n > nominal.data.len() / 2, "{n}");
+    assert!(worst < 5.0 * se, "{worst}");
 }

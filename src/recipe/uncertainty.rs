@@ -71,6 +71,26 @@ pub(crate) fn propagate(
         return Ok(None);
     }
     let get = |n: &str| unc.get(n);
+    // a measured joint's stiffness is read, but joints are taken as exact
+    let joint_sets: Vec<&str> = match op {
+        Op::Couple(c) => c.joints.iter().filter_map(|j| j.reads()).collect(),
+        Op::Decouple(d) => d.joints.iter().filter_map(|j| j.reads()).collect(),
+        _ => Vec::new(),
+    };
+    let exact: Vec<&str> = carried
+        .iter()
+        .copied()
+        .filter(|n| joint_sets.contains(n))
+        .collect();
+    if !exact.is_empty() {
+        out.report.notes.push(format!(
+            "the uncertainty of the measured joint stiffness {} is not propagated to first order (joints are taken as exact); mortise run --monte-carlo draws it",
+            quoted(&exact)
+        ));
+        if carried.len() == exact.len() {
+            return Ok(None);
+        }
+    }
     let opts = ReliabilityOptions::default();
     let (u, reliability) = match op {
         _ if tsvd_of(op).is_some() => {
