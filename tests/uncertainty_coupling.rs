@@ -382,3 +382,38 @@ fn decoupling_first_order_matches_monte_carlo() {
     assert!(n > nominal.data.len() / 2, "{n}");
     assert!(worst < 5.0 * se, "{worst}");
 }
+
+/// The truncation threshold referenced to the noise: with 1 % input noise
+/// the three-part interface (two joints) resolves both singular values on
+/// most lines, so a truncation at 0.5 drops resolved ones, and a
+/// truncation at 1e-12 none.
+#[test]
+fn noise_referenced_threshold_on_three_parts() {
+    let c = case("three");
+    let u: Vec<Option<&FrfUncertainty>> = c.small.iter().map(Some).collect();
+    let n =
+        uncertainty::interface_noise::coupling_interface_noise(&c.parts, &u, &c.joints, Some(0.5))
+            .unwrap();
+    let dropped = n.iter().filter(|l| l.dropped_above_noise > 0).count();
+    let below = n.iter().filter(|l| l.below_noise > 0).count();
+    let mut t: Vec<f64> = n.iter().map(|l| l.threshold).collect();
+    t.sort_by(|a, b| a.total_cmp(b));
+    eprintln!(
+        "three parts, 1 % noise: thresholds from the noise {:.1e} … {:.1e} (median {:.1e}); lines with a singular value below the noise {below}; a truncation at 0.5 drops resolved ones at {dropped} of {} lines",
+        t[0],
+        t[t.len() - 1],
+        t[t.len() / 2],
+        n.len()
+    );
+    assert!(dropped > 0);
+    // 1 % noise on a two-joint interface: the threshold is of the order of 1 %
+    assert!(t[t.len() / 2] > 1e-3 && t[t.len() / 2] < 0.1, "{t:?}");
+    let n = uncertainty::interface_noise::coupling_interface_noise(
+        &c.parts,
+        &u,
+        &c.joints,
+        Some(1e-12),
+    )
+    .unwrap();
+    assert!(n.iter().all(|l| l.dropped_above_noise == 0));
+}

@@ -93,6 +93,33 @@ pub(crate) fn propagate(
     }
     let opts = ReliabilityOptions::default();
     let (u, reliability) = match op {
+        Op::Couple(c) if c.tsvd.is_some() => {
+            let parts = cx.get_all("parts", &c.parts)?;
+            let (joints, _) = resolve_joints(cx, &c.joints)?;
+            let us: Vec<Option<&FrfUncertainty>> = c.parts.iter().map(|n| get(n)).collect();
+            let noise = uncertainty::interface_noise::coupling_interface_noise(
+                &parts, &us, &joints, c.tsvd,
+            )?;
+            let hit: Vec<usize> = (0..noise.len())
+                .filter(|&k| noise[k].dropped_above_noise > 0)
+                .collect();
+            if let Some(&k0) = hit.first() {
+                let f = &out.set.freqs;
+                out.report.warnings.push(format!(
+                    "'tsvd' {} drops interface singular values that lie above the input noise at {} of {} lines (first at {} Hz, threshold from the noise there {:.2e}): the truncation removes coupled dynamics the data resolve",
+                    c.tsvd.unwrap_or(0.0),
+                    hit.len(),
+                    noise.len(),
+                    f[k0],
+                    noise[k0].threshold
+                ));
+            }
+            out.report.notes.push(format!(
+                "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
+                quoted(&carried)
+            ));
+            return Ok(None);
+        }
         _ if tsvd_of(op).is_some() => {
             out.report.notes.push(format!(
                 "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
@@ -119,7 +146,10 @@ pub(crate) fn propagate(
                 },
             )?;
             let cond = condition(out);
-            let r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
+            let mut r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
+            let noise =
+                uncertainty::interface_noise::coupling_interface_noise(&parts, &us, &joints, None)?;
+            r.statements.push(noise_statement(&out.set.freqs, &noise));
             (fo.uncertainty, r)
         }
         Op::Decouple(d) => {
@@ -227,6 +257,29 @@ pub(crate) fn propagate(
         uncertainty: u,
         reliability,
     }))
+}
+
+/// Where the interface has singular values below the input noise, in words.
+fn noise_statement(freqs: &[f64], noise: &[uncertainty::interface_noise::LineNoise]) -> String {
+    let lines: Vec<usize> = (0..noise.len())
+        .filter(|&k| noise[k].below_noise > 0)
+        .collect();
+    let (Some(&a), Some(&b)) = (lines.first(), lines.last()) else {
+        let worst = noise.iter().map(|n| n.threshold).fold(0.0, f64::max);
+        return format!(
+            "interface: no singular value lies below the input noise (the noise-referenced truncation threshold is at most {worst:.2e}): a truncated SVD would only remove dynamics the data resolve"
+        );
+    };
+    let mut t: Vec<f64> = lines.iter().map(|&k| noise[k].threshold).collect();
+    t.sort_by(|x, y| x.total_cmp(y));
+    format!(
+        "interface: singular values below the input noise at {} of {} lines, from {} Hz to {} Hz; a truncated SVD at the threshold from the noise (median {:.2e} on those lines) removes only them",
+        lines.len(),
+        noise.len(),
+        freqs[a],
+        freqs[b],
+        t[t.len() / 2]
+    )
 }
 
 /// The 95 % interval of each level row of a response (or path total).

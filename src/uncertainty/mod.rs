@@ -6,6 +6,8 @@
 //!   measurements, a relative uncertainty with a floor below each FRF's peak.
 //! * [`first_order`]: linearized propagation through LM-FBS coupling and
 //!   decoupling (δY_c = L δY R), with the cancellation of each value.
+//! * [`interface_noise`]: a truncation threshold referenced to the input
+//!   noise, per line of a coupling.
 //! * [`monte_carlo`]: seeded Monte Carlo through any operation on sets
 //!   ([`draws`]: the counter-based normal draws, reproducible anywhere).
 //! * [`reliability`]: per value flags (below the noise, cancellation,
@@ -23,6 +25,7 @@ pub mod chain;
 pub mod csv;
 pub mod draws;
 pub mod first_order;
+pub mod interface_noise;
 pub mod level;
 pub mod model;
 pub mod monte_carlo;
