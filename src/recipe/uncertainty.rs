@@ -216,7 +216,7 @@ pub(crate) fn propagate(
             let f = cx.get("excitation", &p.excitation)?;
             let (_, u) = uncertainty::respond_first_order(h, get(&p.frf), f, get(&p.excitation))?;
             let rel = assess_std(&out.set, &u, &opts);
-            level_intervals(out, &u)?;
+            level_intervals(cx, out, &u)?;
             (u, rel)
         }
         Op::Respond(r) => {
@@ -224,7 +224,7 @@ pub(crate) fn propagate(
             let f = cx.get("excitation", &r.excitation)?;
             let (_, u) = uncertainty::respond_first_order(h, get(&r.frf), f, get(&r.excitation))?;
             let rel = assess_std(&out.set, &u, &opts);
-            level_intervals(out, &u)?;
+            level_intervals(cx, out, &u)?;
             (u, rel)
         }
         other => {
@@ -283,7 +283,13 @@ fn noise_statement(freqs: &[f64], noise: &[uncertainty::interface_noise::LineNoi
 }
 
 /// The 95 % interval of each level row of a response (or path total).
-fn level_intervals(out: &mut StepOutput, u: &FrfUncertainty) -> Result<()> {
+fn level_intervals(cx: &Ctx, out: &mut StepOutput, u: &FrfUncertainty) -> Result<()> {
+    let rows = out.report.levels.iter().flatten().count();
+    // per draw and row: the lines' levels and their 1/3-octave bands
+    cx.check_work(
+        "the level intervals (a Monte Carlo over the lines)",
+        rows as f64 * uncertainty::level::LEVEL_DRAWS as f64 * out.set.n_lines() as f64 * 100.0,
+    )?;
     let w = weighting_for(&out.set);
     for (i, row) in out.report.levels.iter_mut().flatten().enumerate() {
         if row.overall_db.is_some() {

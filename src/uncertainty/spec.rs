@@ -103,6 +103,22 @@ mod tests {
     }
 
     #[test]
+    fn documented_keys_are_exactly_the_accepted_ones() {
+        let e = spec(serde_json::json!({"zz": 1})).unwrap_err();
+        let tail = e.split("expected").nth(1).unwrap_or("").to_string();
+        let mut got: Vec<&str> = tail
+            .split('`')
+            .enumerate()
+            .filter(|(i, _)| i % 2 == 1)
+            .map(|(_, s)| s)
+            .collect();
+        let mut doc: Vec<&str> = UNCERTAINTY_FIELDS.iter().map(|f| f.0).collect();
+        got.sort();
+        doc.sort();
+        assert_eq!(got, doc);
+    }
+
+    #[test]
     fn each_key_changes_the_result_or_is_refused() {
         let s = set();
         let a = spec(serde_json::json!({"relative": 0.01}))
