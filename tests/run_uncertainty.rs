@@ -172,7 +172,4 @@ fn monte_carlo_of_the_recipe_and_its_bad_options() {
         .unwrap();
     let sd = bed["std_db"].as_f64().unwrap();
     assert!(sd > 0.0 && sd < 1.0, "{bed}");
-    // the same seed gives the same draws
-    let again = cli(&["run", rp, "-o", op, "--monte-carlo", "3", "--seed", "7"]).unwrap();
-    assert!(again.contains(line), "{again}");
 }

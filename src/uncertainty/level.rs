@@ -1,7 +1,8 @@
 //! The 95 % interval of an overall level from the per-line uncertainty of
 //! a spectrum: a seeded Monte Carlo over the lines (independent, circular
 //! errors for spectra with phase, real errors for autopower and PSD)
-//! through the one level function ([`crate::levels::spectrum_levels`]).
+//! through the level functions of [`crate::levels`] (the overall level as
+//! `spectrum_levels` forms it).
 
 use super::draws;
 use super::model::FrfUncertainty;
@@ -32,6 +33,7 @@ pub fn level_interval(
         )));
     }
     let phase = y.signal.is_some_and(|s| s.has_phase());
+    let r = levels::reference(y.out_qty, y.outputs[row].dir.is_rotational());
     let mut d = y.clone();
     let mut levels_db = Vec::with_capacity(LEVEL_DRAWS);
     let n = y.n_lines();
@@ -50,7 +52,9 @@ pub fn level_interval(
                 Complex64::new((y.data[x].re + s * z).max(0.0), 0.0)
             };
         }
-        let l = levels::spectrum_levels(&d, row, 3, w)?.overall_db;
+        // the overall level as levels::spectrum_levels forms it, without its bands
+        let ms = levels::line_mean_squares(&d, row)?;
+        let l = levels::db_mean_square(levels::overall_mean_square(&d.freqs, &ms, w), r.value);
         if l.is_finite() {
             levels_db.push(l);
         }
