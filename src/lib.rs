@@ -63,6 +63,7 @@ pub mod predict;
 pub mod recipe;
 pub mod summary;
 pub mod synth;
+pub mod uncertainty;
 pub mod units;
 pub mod vpt;
 #[cfg(target_arch = "wasm32")]

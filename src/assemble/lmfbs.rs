@@ -131,48 +131,85 @@ pub fn decouple_with_threads(
 
 /// One end of a joint inside a component.
 #[derive(Debug, Clone, Copy)]
-struct End {
-    part: usize,
+pub(crate) struct End {
+    pub(crate) part: usize,
     /// local output index
-    o: usize,
+    pub(crate) o: usize,
     /// local input index
-    i: usize,
+    pub(crate) i: usize,
     /// B_u entry (±1, times the component's sign)
-    su: f64,
+    pub(crate) su: f64,
     /// B_f entry (±1)
-    sf: f64,
+    pub(crate) sf: f64,
 }
 
-struct Prepared<'a> {
-    sets: Vec<Cow<'a, FrfSet>>,
-    ends: Vec<[End; 2]>,
+/// A checked coupling or decoupling, ready to be solved line by line.
+pub(crate) struct Prepared<'a> {
+    /// the components, each in the first one's motion order
+    pub(crate) sets: Vec<Cow<'a, FrfSet>>,
+    /// one row of B per joint: its two ends
+    pub(crate) ends: Vec<[End; 2]>,
     /// n_lines × m flexibilities Γ (times the joint sign), row-major.
-    gamma: Vec<Complex64>,
+    pub(crate) gamma: Vec<Complex64>,
     tsvd: Option<f64>,
     /// parts whose rows and columns form the result
-    res: Vec<usize>,
+    pub(crate) res: Vec<usize>,
     /// offsets of each result part's outputs (rows) and inputs (columns)
-    row_off: Vec<usize>,
-    col_off: Vec<usize>,
-    n_rows: usize,
-    n_cols: usize,
+    pub(crate) row_off: Vec<usize>,
+    pub(crate) col_off: Vec<usize>,
+    pub(crate) n_rows: usize,
+    pub(crate) n_cols: usize,
     /// sign of each part (−1 for a removed part)
-    psign: Vec<f64>,
+    pub(crate) psign: Vec<f64>,
 }
 
-#[allow(clippy::too_many_arguments)]
-fn solve(
-    components: &[&FrfSet],
+/// [`prepare`] for [`couple`]: every component in the result.
+pub(crate) fn prepare_coupling<'a>(
+    components: &[&'a FrfSet],
+    joints: &[Joint],
+    opts: &CouplingOptions,
+) -> Result<Prepared<'a>> {
+    if components.is_empty() {
+        return Err(Error::usage("coupling needs at least one component"));
+    }
+    let signs = vec![1.0; components.len()];
+    let parts: Vec<usize> = (0..components.len()).collect();
+    prepare(components, &signs, joints, 1.0, opts, &parts, "coupling")
+}
+
+/// [`prepare`] for [`decouple`]: the removed part entered negatively.
+pub(crate) fn prepare_decoupling<'a>(
+    assembly: &'a FrfSet,
+    removed: &'a FrfSet,
+    joints: &[Joint],
+    opts: &CouplingOptions,
+) -> Result<Prepared<'a>> {
+    prepare(
+        &[assembly, removed],
+        &[1.0, -1.0],
+        joints,
+        -1.0,
+        opts,
+        &[0],
+        "decoupling",
+    )
+}
+
+/// Check and prepare a coupling or decoupling: every component in the first
+/// one's motion order, the joints as B entries, Γ per line, the result
+/// layout. Shared by [`solve`] and the uncertainty propagation
+/// ([`crate::uncertainty`]), so both read the one definition of B and Γ.
+pub(crate) fn prepare<'a>(
+    components: &[&'a FrfSet],
     signs: &[f64],
     joints: &[Joint],
     gamma_sign: f64,
     opts: &CouplingOptions,
-    threads: usize,
     result_parts: &[usize],
-    name: &str,
     what: &str,
-) -> Result<Assembled> {
+) -> Result<Prepared<'a>> {
     let first = components[0];
+
     for &c in components {
         require_motion_per_force(c, what)?;
         require_same_grid(first, c, what)?;
@@ -297,7 +334,38 @@ fn solve(
         psign: signs.to_vec(),
     };
     check_needed_entries(&prep, what)?;
+    Ok(prep)
+}
 
+#[allow(clippy::too_many_arguments)]
+fn solve(
+    components: &[&FrfSet],
+    signs: &[f64],
+    joints: &[Joint],
+    gamma_sign: f64,
+    opts: &CouplingOptions,
+    threads: usize,
+    result_parts: &[usize],
+    name: &str,
+    what: &str,
+) -> Result<Assembled> {
+    let prep = prepare(
+        components,
+        signs,
+        joints,
+        gamma_sign,
+        opts,
+        result_parts,
+        what,
+    )?;
+    let first = components[0];
+    let (nl, m, n_rows, n_cols, oq) = (
+        first.n_lines(),
+        prep.ends.len(),
+        prep.n_rows,
+        prep.n_cols,
+        prep.sets[0].out_qty,
+    );
     let mut outputs: Vec<Dof> = Vec::with_capacity(n_rows);
     let mut inputs: Vec<Dof> = Vec::with_capacity(n_cols);
     for &p in result_parts {

@@ -63,6 +63,7 @@ mod lmfbs;
 pub use bench_case::{bench_case, values_digest, BENCH_SEED};
 pub use chain::{cascade, parallel, series, sum_paths};
 pub use lmfbs::{couple, couple_with_threads, decouple, decouple_with_threads, default_threads};
+pub(crate) use lmfbs::{prepare_coupling, prepare_decoupling, Prepared};
 
 /// How two interface DOFs are joined.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]

@@ -40,6 +40,11 @@ pub fn run(args: &Args) -> Result<Done> {
             DirSource::confined(dir, limits)
         };
         let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
+            if args.value("monte-carlo").is_some() || args.value("seed").is_some() {
+                return Err(Error::usage(
+                    "--monte-carlo and --seed run on a recipe file, not on a bundle",
+                ));
+            }
             run_bundle(path, &bytes, &folder, &limits)?
         } else {
             let text = String::from_utf8(bytes).map_err(|e| {
@@ -50,8 +55,29 @@ pub fn run(args: &Args) -> Result<Done> {
             })?;
             let r = recipe::parse(&text)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
-            let res = recipe::run_with(&r, &folder, &limits)
+            let mut res = recipe::run_with(&r, &folder, &limits)
                 .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+            if let Some(mc) = monte_carlo_options(args)? {
+                let m = recipe::monte_carlo_levels(&r, &folder, &limits, mc)
+                    .map_err(|e| as_data(e, ErrorKind::Recipe).in_file(path.as_str()))?;
+                // the levels the headline shows: path totals, else responses
+                let has_paths = m.levels.iter().any(|l| l.op == "paths");
+                for l in m.levels.iter().filter(|l| l.op == "paths" || !has_paths) {
+                    res.report.headline.push(format!(
+                        "Monte Carlo of the recipe ({} draws, seed {}): {} at {}: 95 % interval {:.1}–{:.1} {u} (mean {:.1} {u}, standard deviation {:.2} dB)",
+                        m.draws,
+                        m.seed,
+                        l.step,
+                        l.dof,
+                        l.interval_95_db[0],
+                        l.interval_95_db[1],
+                        l.mean_db,
+                        l.std_db,
+                        u = l.unit
+                    ));
+                }
+                res.report.monte_carlo = Some(m);
+            }
             (r, res)
         };
         super::limits::check_written(&res.outputs, &limits)?;
@@ -74,6 +100,42 @@ pub fn run(args: &Args) -> Result<Done> {
         Err(e) if json => Ok(Done::json(result).failed(Some(e))),
         Err(e) => Err(e),
     }
+}
+
+/// `--monte-carlo N` and `--seed S`, checked (`--seed` alone is refused).
+fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptions>> {
+    let seed = match args.value("seed") {
+        None => None,
+        Some(t) => Some(t.trim().parse::<u64>().map_err(|_| {
+            Error::usage(format!(
+                "--seed '{}': expected a whole number from 0 to 18446744073709551615",
+                crate::error::quote(t)
+            ))
+        })?),
+    };
+    let Some(n) = args.value("monte-carlo") else {
+        if seed.is_some() {
+            return Err(Error::usage(
+                "--seed sets the draws of --monte-carlo; give --monte-carlo N too",
+            ));
+        }
+        return Ok(None);
+    };
+    let draws = n
+        .trim()
+        .parse::<usize>()
+        .ok()
+        .filter(|&d| d >= 2)
+        .ok_or_else(|| {
+            Error::usage(format!(
+                "--monte-carlo '{}': expected a whole number of draws, 2 or more",
+                crate::error::quote(n)
+            ))
+        })?;
+    Ok(Some(crate::uncertainty::McOptions {
+        draws,
+        seed: seed.unwrap_or(1),
+    }))
 }
 
 /// What [`write_outputs`] wrote.
@@ -254,7 +316,8 @@ fn write_charts(
     Ok(())
 }
 
-/// Write each output as `NAME.uff` and `NAME.csv`, and `report.json`.
+/// Write each output as `NAME.uff` and `NAME.csv` (with `NAME.uncertainty.csv`
+/// when it carries an uncertainty), and `report.json`.
 /// Text node labels are numbered for UFF (which needs integers) by
 /// [`io::export`], as the page's export numbers them; the report lists the
 /// numbers under `uff_node_numbers`.
@@ -281,6 +344,24 @@ pub fn write_outputs(res: &RunResult, out: &Path) -> Result<Written> {
                 .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
             files.push(p.display().to_string());
         }
+    }
+    for (s, base) in res.outputs.iter().zip(&stems) {
+        if res.uncertainties.contains_key(&s.name) && stems.contains(&format!("{base}.uncertainty"))
+        {
+            return Err(Error::usage(format!(
+                "output '{}' has an uncertainty, written as {base}.uncertainty.csv, and another output would be written as {base}.uncertainty.csv too; rename one",
+                s.name
+            )));
+        }
+        let Some(a) = res.uncertainties.get(&s.name) else {
+            continue;
+        };
+        let text = crate::uncertainty::csv::to_csv(s, &a.uncertainty, &a.reliability)
+            .map_err(|e| as_data(e, ErrorKind::Internal))?;
+        let p = out.join(format!("{base}.uncertainty.csv"));
+        std::fs::write(&p, text)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+        files.push(p.display().to_string());
     }
     report.uff_node_numbers = numbers;
     write_models(&mut report, out, &mut files)?;

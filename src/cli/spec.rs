@@ -473,6 +473,20 @@ pub const RUN: Command = Command {
                     "OUTDIR",
                     "the directory to write the outputs and report.json into (required)",
                 ),
+                val(
+                    "monte-carlo",
+                    "N",
+                    "also run the recipe's baseline on N draws (2 or more) of the components that \
+                     have an 'uncertainty' key, and report each level's 95 % interval over the \
+                     draws beside the first-order one (report.json 'monte_carlo', the headline); \
+                     N times the run's time",
+                ),
+                val(
+                    "seed",
+                    "S",
+                    "seed of the --monte-carlo draws, a whole number (default 1); the same seed \
+                     gives the same draws",
+                ),
                 JSON_OPT,
                 HELP_OPT,
             ],

@@ -9,12 +9,14 @@ use super::report::{
     dedup, fin, weighting_for, BandChange, ComponentReport, RunReport, StepReport, VariantReport,
     REPORT_FORMAT, REPORT_VERSION,
 };
+use super::uncertainty::{component_uncertainties, propagate, Assessed};
 use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
 use crate::error::Result;
 use crate::frf::FrfSet;
 use crate::limits::Limits;
 use crate::predict;
+use crate::uncertainty::FrfUncertainty;
 use std::collections::BTreeMap;
 
 /// What a run produced.
@@ -24,6 +26,9 @@ pub struct RunResult {
     /// step's extra results (`ID/NAME`); variants' as `NAME [variant]`.
     pub outputs: Vec<FrfSet>,
     pub report: RunReport,
+    /// The uncertainty and reliability of the outputs that carry one, by
+    /// output name (when components have an `"uncertainty"` key).
+    pub uncertainties: BTreeMap<String, Assessed>,
 }
 
 /// Load every component of a recipe (once; variants reuse them) within the
@@ -84,6 +89,8 @@ fn values_held(values: &BTreeMap<String, FrfSet>) -> u64 {
 
 struct Executed {
     values: BTreeMap<String, FrfSet>,
+    /// The propagated uncertainty of each step result that carries one.
+    assessed: BTreeMap<String, Assessed>,
     /// Extra results of each step, by step id: (full name, set).
     extras: BTreeMap<String, Vec<(String, FrfSet)>>,
     steps: Vec<StepReport>,
@@ -92,17 +99,21 @@ struct Executed {
 fn execute(
     recipe: &Recipe,
     comps: &BTreeMap<String, FrfSet>,
+    comp_unc: &BTreeMap<String, FrfUncertainty>,
     variant: Option<&Variant>,
     limits: &Limits,
     files: &dyn FileSource,
 ) -> Result<Executed> {
     let mut values: BTreeMap<String, FrfSet> = comps.clone();
+    let mut unc: BTreeMap<String, FrfUncertainty> = comp_unc.clone();
+    let mut assessed: BTreeMap<String, Assessed> = BTreeMap::new();
     if let Some(v) = variant {
         for (name, f) in &v.scale {
             if let Some(s) = values.get_mut(name) {
                 scale_in_place(s, *f)
                     .map_err(|e| e.field(format!("scale.{}", crate::error::quote(name))))?;
             }
+            scale_uncertainty(unc.get_mut(name), *f);
         }
     }
     let mut steps = Vec::new();
@@ -119,12 +130,24 @@ fn execute(
             steps: &steps,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
+        let mut a =
+            propagate(&step.op, &cx, &unc, &mut out).map_err(|e| e.within(label.clone()))?;
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
             // the variant's factor on this step's result: the error names both
             scale_in_place(&mut out.set, *f).map_err(|mut e| {
                 e.field = Some(format!("scale.{}", crate::error::quote(&step.id)));
                 e.within(label)
             })?;
+            scale_uncertainty(a.as_mut().map(|a| &mut a.uncertainty), *f);
+        }
+        match a {
+            Some(a) => {
+                unc.insert(step.id.clone(), a.uncertainty.clone());
+                assessed.insert(step.id.clone(), a);
+            }
+            None => {
+                unc.remove(&step.id);
+            }
         }
         out.set.name = step.id.clone();
         dedup(&mut out.set.warnings);
@@ -145,9 +168,21 @@ fn execute(
     }
     Ok(Executed {
         values,
+        assessed,
         extras,
         steps,
     })
+}
+
+/// The baseline steps' reports on `comps`, with no uncertainty propagated
+/// (each draw of [`super::monte_carlo`]).
+pub(crate) fn execute_plain(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<Vec<StepReport>> {
+    Ok(execute(recipe, comps, &BTreeMap::new(), None, limits, files)?.steps)
 }
 
 /// The sets the step at index `n` can read, as the baseline run makes them:
@@ -164,16 +199,35 @@ pub(crate) fn values_before(
     let mut before = recipe.clone();
     before.steps.truncate(n);
     before.variants.clear();
-    Ok(execute(&before, &comps, None, limits, files)?.values)
+    let (unc, _) = component_uncertainties(&before, &comps)?;
+    Ok(execute(&before, &comps, &unc, None, limits, files)?.values)
 }
 
-/// The requested outputs of one execution, each followed by its extras.
-fn collect(recipe: &Recipe, ex: &Executed, suffix: &str) -> Vec<FrfSet> {
+/// The uncertainty of a set scaled by `f`: |f| times.
+fn scale_uncertainty(u: Option<&mut FrfUncertainty>, f: f64) {
+    if let Some(u) = u {
+        for v in &mut u.std {
+            *v *= f.abs();
+        }
+    }
+}
+
+/// The requested outputs of one execution, each followed by its extras,
+/// and the uncertainties of those that carry one.
+fn collect(
+    recipe: &Recipe,
+    ex: &Executed,
+    suffix: &str,
+    uncertainties: &mut BTreeMap<String, Assessed>,
+) -> Vec<FrfSet> {
     let mut out = Vec::new();
     for name in &recipe.outputs {
         if let Some(s) = ex.values.get(name) {
             let mut s = s.clone();
             s.name = format!("{name}{suffix}");
+            if let Some(a) = ex.assessed.get(name) {
+                uncertainties.insert(s.name.clone(), a.clone());
+            }
             out.push(s);
         }
         for (full, s) in ex.extras.get(name).into_iter().flatten() {
@@ -199,13 +253,20 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
-    let base = execute(recipe, &comps, None, limits, files)?;
-    let mut outputs = collect(recipe, &base, "");
+    let (comp_unc, unc_notes) = component_uncertainties(recipe, &comps)?;
+    let base = execute(recipe, &comps, &comp_unc, None, limits, files)?;
+    let mut uncertainties = BTreeMap::new();
+    let mut outputs = collect(recipe, &base, "", &mut uncertainties);
     let mut variants = Vec::new();
     for (n, v) in recipe.variants.iter().enumerate() {
-        let res = execute(recipe, &comps, Some(v), limits, files)
+        let res = execute(recipe, &comps, &comp_unc, Some(v), limits, files)
             .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
-        outputs.extend(collect(recipe, &res, &format!(" [{}]", v.name)));
+        outputs.extend(collect(
+            recipe,
+            &res,
+            &format!(" [{}]", v.name),
+            &mut uncertainties,
+        ));
         variants.push(variant_report(recipe, &base, res, &v.name));
     }
     let mut notes: Vec<String> = base
@@ -216,6 +277,7 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
     if !notes.is_empty() {
         notes.push(format!("rule: {}", super::INFERENCE_RULE));
     }
+    notes.extend(unc_notes);
     // the fitness audit of every FRF component, with common-practice limits;
     // its conditioning check is one SVD per line
     for (k, s) in comps.iter().filter(|(_, s)| s.signal.is_none()) {
@@ -252,10 +314,15 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         audit,
         headline: Vec::new(),
         uff_node_numbers: BTreeMap::new(),
+        monte_carlo: None,
         caution: predict::CAUTION.into(),
     };
     report.headline = headline(&report);
-    Ok(RunResult { outputs, report })
+    Ok(RunResult {
+        outputs,
+        report,
+        uncertainties,
+    })
 }
 
 fn variant_report(recipe: &Recipe, base: &Executed, res: Executed, name: &str) -> VariantReport {

@@ -16,14 +16,21 @@ pub(crate) fn headline(r: &RunReport) -> Vec<String> {
                 continue;
             };
             let u = db_unit(row.weighting);
+            let interval = match (row.overall_interval_95_db, &st.uncertainty) {
+                (Some([lo, hi]), Some(un)) => format!(
+                    ", 95 % interval {lo:.1}–{hi:.1} {u} ({})",
+                    interval_source(&un.method)
+                ),
+                _ => String::new(),
+            };
             if row.weighting == crate::levels::Weighting::Z {
                 out.push(format!(
-                    "{} at {}: {overall:.1} dB ({})",
+                    "{} at {}: {overall:.1} dB ({}){interval}",
                     st.id, row.dof, row.reference
                 ));
             } else {
                 out.push(format!(
-                    "{} at {}: {overall:.1} {u}, {unweighted:.1} dB unweighted ({})",
+                    "{} at {}: {overall:.1} {u}, {unweighted:.1} dB unweighted ({}){interval}",
                     st.id, row.dof, row.reference
                 ));
             }
@@ -106,10 +113,38 @@ pub(crate) fn headline(r: &RunReport) -> Vec<String> {
             }
         }
     }
+    for st in &r.steps {
+        if let Some(un) = &st.uncertainty {
+            if un.fraction_flagged > 0.0 {
+                out.push(format!(
+                    "{}: {:.0} % of the values unreliable{}",
+                    st.id,
+                    100.0 * un.fraction_flagged,
+                    un.statements
+                        .first()
+                        .map(|s| format!("; {s}"))
+                        .unwrap_or_default()
+                ));
+            }
+        }
+    }
     for (name, a) in &r.audit {
         for c in a.checks.iter().filter(|c| c.status == Status::Flag) {
             out.push(format!("audit of '{name}': {}: {}", c.check, c.summary));
         }
     }
     out
+}
+
+/// The interval's source in a few words: the input uncertainty, propagated
+/// to first order to the lines and by Monte Carlo to the level.
+fn interval_source(method: &str) -> String {
+    let from = if method.contains("coherence") {
+        "input FRF noise from coherence"
+    } else if method.contains("repeated") {
+        "scatter of repeated measurements"
+    } else {
+        "the stated input uncertainty"
+    };
+    format!("from {from}; first order to the lines, Monte Carlo to the level")
 }

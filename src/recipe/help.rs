@@ -19,6 +19,10 @@ pub fn schema_help() -> String {
     for (k, d) in COMPONENT_FIELDS {
         let _ = writeln!(s, "  {k:<10} {d}");
     }
+    let _ = writeln!(s, "\nKeys of a component's \"uncertainty\" (one source):");
+    for (k, d) in crate::uncertainty::spec::UNCERTAINTY_FIELDS {
+        let _ = writeln!(s, "  {k:<10} {d}");
+    }
     let _ = writeln!(s, "\nOperations (\"op\"):");
     for op in vocabulary() {
         let _ = writeln!(s, "  {}: {}", op.name, op.summary);
@@ -83,6 +87,9 @@ mod tests {
         }
         for (k, _) in COMPONENT_FIELDS {
             assert!(h.contains(k), "{k}");
+        }
+        for (k, _) in crate::uncertainty::spec::UNCERTAINTY_FIELDS {
+            assert!(h.contains(&format!("  {k:<10} ")), "{k}");
         }
     }
 }

@@ -22,13 +22,16 @@ mod execute;
 mod headline;
 mod help;
 mod joint;
+mod monte_carlo;
 mod ops;
 mod report;
+mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
 pub use execute::{load_components, load_components_with, run, run_with, RunResult};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
+pub use monte_carlo::{monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
 pub use ops::{pick_toggled, pick_written};
 pub use ops::{
     virtual_point_groups, virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple,
@@ -38,8 +41,9 @@ pub use ops::{
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,
     ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport,
-    ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
+    UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
+pub use uncertainty::Assessed;
 
 use crate::error::{quote, quote_upto, Error, Result};
 use crate::io;

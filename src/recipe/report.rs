@@ -51,6 +51,10 @@ pub struct RunReport {
     /// Integer node numbers given to text labels in UFF exports, per output.
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     pub uff_node_numbers: BTreeMap<String, serde_json::Value>,
+    /// A Monte Carlo of the whole recipe over its components' stated
+    /// uncertainty, when asked for (`mortise run --monte-carlo N`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub monte_carlo: Option<super::monte_carlo::RecipeMonteCarlo>,
     pub caution: String,
 }
 
@@ -105,6 +109,25 @@ pub struct StepReport {
     /// (`regenerate` with `fill_missing`).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub filled: Vec<FilledEntry>,
+    /// The result's propagated uncertainty and the reliability of its lines
+    /// (when its inputs carry an uncertainty).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub uncertainty: Option<UncertaintyReport>,
+}
+
+/// A step result's uncertainty: how it was propagated, and which lines are
+/// unreliable (see [`crate::uncertainty::reliability`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct UncertaintyReport {
+    pub method: String,
+    /// Fraction of the result's present values flagged unreliable.
+    pub fraction_flagged: f64,
+    /// The unreliable ranges in words, one statement per entry.
+    pub statements: Vec<String>,
+    /// The unreliable ranges, entry by entry.
+    pub bands: Vec<crate::uncertainty::reliability::Band>,
+    /// The thresholds used.
+    pub thresholds: crate::uncertainty::ReliabilityOptions,
 }
 
 /// An entry of a step's set synthesized where nothing was measured.
@@ -134,6 +157,7 @@ impl StepReport {
             virtual_points: None,
             identification: None,
             filled: Vec::new(),
+            uncertainty: None,
         }
     }
 }
@@ -328,6 +352,10 @@ pub struct LevelRow {
     pub band_db: Vec<Option<f64>>,
     /// The three strongest lines, in `weighting`.
     pub top_lines: Vec<LineLevel>,
+    /// The 95 % interval of `overall_db` from the propagated uncertainty
+    /// (2.5 % and 97.5 % quantiles), when the inputs carry one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub overall_interval_95_db: Option<[f64; 2]>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub error: Option<String>,
 }
@@ -359,6 +387,7 @@ pub fn level_rows(y: &FrfSet) -> Vec<LevelRow> {
                     bands: a.bands.iter().map(|b| b.label.clone()).collect(),
                     band_db: a.band_db.iter().map(|&v| fin(v)).collect(),
                     top_lines: lines,
+                    overall_interval_95_db: None,
                     error: None,
                 }
             }
@@ -371,6 +400,7 @@ pub fn level_rows(y: &FrfSet) -> Vec<LevelRow> {
                 bands: Vec::new(),
                 band_db: Vec::new(),
                 top_lines: Vec::new(),
+                overall_interval_95_db: None,
                 error: Some(e.to_string()),
             },
         })

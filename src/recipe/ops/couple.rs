@@ -119,7 +119,7 @@ fn coupling_work(lines: usize, outs: usize, ins: usize, joints: usize) -> f64 {
 
 /// The engine's joints, without those the variant drops; notes on joints
 /// whose type was read from their parameters.
-fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint>, Vec<String>)> {
+pub(crate) fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint>, Vec<String>)> {
     let mut out = Vec::new();
     let mut notes = Vec::new();
     for (i, j) in specs.iter().enumerate() {

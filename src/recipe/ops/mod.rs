@@ -13,6 +13,7 @@ mod reshape;
 mod transform;
 mod virtual_points;
 
+pub(crate) use couple::resolve_joints;
 pub use couple::{Couple, Decouple};
 pub use identify::{pick_toggled, pick_written, IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};

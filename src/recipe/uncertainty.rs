@@ -1,0 +1,335 @@
+//! The recipe's face of [`crate::uncertainty`]: each component's
+//! uncertainty from its `"uncertainty"` key, its propagation step by step
+//! (first order through couple, decouple, cascade, sum, select, convert,
+//! respond and the total of paths), and
+//! the reliability of each result in the step's report.
+
+use super::ops::{check_tsvd, resolve_joints, Ctx, Op, StepOutput};
+use super::report::{weighting_for, UncertaintyReport};
+use super::Recipe;
+use crate::assemble::CouplingOptions;
+use crate::error::Result;
+use crate::frf::FrfSet;
+use crate::uncertainty::{
+    self, reliability::Evidence, FrfUncertainty, Reliability, ReliabilityOptions,
+};
+use std::collections::BTreeMap;
+
+/// A result's uncertainty with its reliability.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Assessed {
+    pub uncertainty: FrfUncertainty,
+    pub reliability: Reliability,
+}
+
+/// The uncertainty of every component that has an `"uncertainty"` key, and
+/// a note per component saying how it was obtained.
+pub(crate) fn component_uncertainties(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+) -> Result<(BTreeMap<String, FrfUncertainty>, Vec<String>)> {
+    let mut out = BTreeMap::new();
+    let mut notes = Vec::new();
+    for (name, spec) in &recipe.components {
+        let (Some(u), Some(set)) = (&spec.uncertainty, comps.get(name)) else {
+            continue;
+        };
+        let v = u
+            .resolve(set)
+            .map_err(|e| e.within(format!("components.{name}")))?;
+        notes.push(format!("component '{name}': uncertainty {}", v.method));
+        out.insert(name.clone(), v);
+    }
+    Ok((out, notes))
+}
+
+/// Estimated operations of the first-order propagation of a coupling: per
+/// line, dense products of the whole block-diagonal matrix (rows × columns)
+/// with the interface (m) and the result's rows and columns.
+fn first_order_work(lines: usize, rows: usize, cols: usize, m: usize, nr: usize) -> f64 {
+    let (l, r, c, m, n) = (lines as f64, rows as f64, cols as f64, m as f64, nr as f64);
+    l * 8.0 * (r * c * (2.0 * m + n) + m * m * (r + c))
+}
+
+/// Propagate the uncertainty of a step's inputs to its result (the step has
+/// just run: `out`), and write the result's reliability into its report.
+/// `None` when no input carries an uncertainty, or when the operation does
+/// not propagate one (a note says so).
+pub(crate) fn propagate(
+    op: &Op,
+    cx: &Ctx,
+    unc: &BTreeMap<String, FrfUncertainty>,
+    out: &mut StepOutput,
+) -> Result<Option<Assessed>> {
+    let reads = op.reads();
+    let carried: Vec<&str> = reads
+        .iter()
+        .copied()
+        .filter(|n| unc.contains_key(*n))
+        .collect();
+    if carried.is_empty() {
+        return Ok(None);
+    }
+    let get = |n: &str| unc.get(n);
+    // a measured joint's stiffness is read, but joints are taken as exact
+    let joint_sets: Vec<&str> = match op {
+        Op::Couple(c) => c.joints.iter().filter_map(|j| j.reads()).collect(),
+        Op::Decouple(d) => d.joints.iter().filter_map(|j| j.reads()).collect(),
+        _ => Vec::new(),
+    };
+    let exact: Vec<&str> = carried
+        .iter()
+        .copied()
+        .filter(|n| joint_sets.contains(n))
+        .collect();
+    if !exact.is_empty() {
+        out.report.notes.push(format!(
+            "the uncertainty of the measured joint stiffness {} is not propagated to first order (joints are taken as exact); mortise run --monte-carlo draws it",
+            quoted(&exact)
+        ));
+        if carried.len() == exact.len() {
+            return Ok(None);
+        }
+    }
+    let opts = ReliabilityOptions::default();
+    let (u, reliability) = match op {
+        Op::Couple(c) if c.tsvd.is_some() => {
+            let parts = cx.get_all("parts", &c.parts)?;
+            let (joints, _) = resolve_joints(cx, &c.joints)?;
+            let us: Vec<Option<&FrfUncertainty>> = c.parts.iter().map(|n| get(n)).collect();
+            let noise = uncertainty::interface_noise::coupling_interface_noise(
+                &parts, &us, &joints, c.tsvd,
+            )?;
+            let hit: Vec<usize> = (0..noise.len())
+                .filter(|&k| noise[k].dropped_above_noise > 0)
+                .collect();
+            if let Some(&k0) = hit.first() {
+                let f = &out.set.freqs;
+                out.report.warnings.push(format!(
+                    "'tsvd' {} drops interface singular values that lie above the input noise at {} of {} lines (first at {} Hz, threshold from the noise there {:.2e}): the truncation removes coupled dynamics the data resolve",
+                    c.tsvd.unwrap_or(0.0),
+                    hit.len(),
+                    noise.len(),
+                    f[k0],
+                    noise[k0].threshold
+                ));
+            }
+            out.report.notes.push(format!(
+                "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
+                quoted(&carried)
+            ));
+            return Ok(None);
+        }
+        _ if tsvd_of(op).is_some() => {
+            out.report.notes.push(format!(
+                "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
+                quoted(&carried)
+            ));
+            return Ok(None);
+        }
+        Op::Couple(c) => {
+            let parts = cx.get_all("parts", &c.parts)?;
+            let (joints, _) = resolve_joints(cx, &c.joints)?;
+            let us: Vec<Option<&FrfUncertainty>> = c.parts.iter().map(|n| get(n)).collect();
+            let rows: usize = parts.iter().map(|p| p.n_out()).sum();
+            let cols: usize = parts.iter().map(|p| p.n_in()).sum();
+            cx.check_work(
+                "the first-order uncertainty propagation of the coupling",
+                first_order_work(out.set.n_lines(), rows, cols, joints.len(), rows),
+            )?;
+            let fo = uncertainty::couple_first_order(
+                &parts,
+                &us,
+                &joints,
+                &CouplingOptions {
+                    tsvd_rel_threshold: check_tsvd(c.tsvd)?,
+                },
+            )?;
+            let cond = condition(out);
+            let mut r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
+            let noise =
+                uncertainty::interface_noise::coupling_interface_noise(&parts, &us, &joints, None)?;
+            r.statements.push(noise_statement(&out.set.freqs, &noise));
+            (fo.uncertainty, r)
+        }
+        Op::Decouple(d) => {
+            let asm = cx.get("assembly", &d.assembly)?;
+            let rem = cx.get("remove", &d.remove)?;
+            let (joints, _) = resolve_joints(cx, &d.joints)?;
+            let rows = asm.n_out() + rem.n_out();
+            let cols = asm.n_in() + rem.n_in();
+            cx.check_work(
+                "the first-order uncertainty propagation of the decoupling",
+                first_order_work(out.set.n_lines(), rows, cols, joints.len(), asm.n_out()),
+            )?;
+            let fo = uncertainty::decouple_first_order(
+                asm,
+                get(&d.assembly),
+                rem,
+                get(&d.remove),
+                &joints,
+                &CouplingOptions {
+                    tsvd_rel_threshold: check_tsvd(d.tsvd)?,
+                },
+            )?;
+            let cond = condition(out);
+            let r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
+            (fo.uncertainty, r)
+        }
+        Op::Cascade(c) => {
+            let a = cx.get("first", &c.first)?;
+            let b = cx.get("second", &c.second)?;
+            let (_, u) = uncertainty::cascade_first_order(a, get(&c.first), b, get(&c.second))?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Sum(s) => {
+            let parts = cx.get_all("parts", &s.parts)?;
+            let us: Vec<Option<&FrfUncertainty>> = s.parts.iter().map(|n| get(n)).collect();
+            let (_, u) = uncertainty::sum_first_order(&parts, &us)?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Select(sel) => {
+            let from = cx.get("from", &sel.from)?;
+            let Some(uf) = get(&sel.from) else {
+                return Ok(None);
+            };
+            let u = uncertainty::select_uncertainty(from, uf, &|s| {
+                super::ops::transform_select(s, sel.outputs.as_deref(), sel.inputs.as_deref())
+            })?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Convert(c) => {
+            let from = cx.get("from", &c.from)?;
+            let Some(uf) = get(&c.from) else {
+                return Ok(None);
+            };
+            let (_, u) = uncertainty::convert_first_order(from, uf, &c.kind)?;
+            let r = assess_std(&out.set, &u, &opts);
+            (u, r)
+        }
+        Op::Paths(p) => {
+            // the total: the response of the same FRFs and excitation
+            let h = cx.get("frf", &p.frf)?;
+            let f = cx.get("excitation", &p.excitation)?;
+            let (_, u) = uncertainty::respond_first_order(h, get(&p.frf), f, get(&p.excitation))?;
+            let rel = assess_std(&out.set, &u, &opts);
+            level_intervals(cx, out, &u)?;
+            (u, rel)
+        }
+        Op::Respond(r) => {
+            let h = cx.get("frf", &r.frf)?;
+            let f = cx.get("excitation", &r.excitation)?;
+            let (_, u) = uncertainty::respond_first_order(h, get(&r.frf), f, get(&r.excitation))?;
+            let rel = assess_std(&out.set, &u, &opts);
+            level_intervals(cx, out, &u)?;
+            (u, rel)
+        }
+        other => {
+            out.report.notes.push(format!(
+                "the uncertainty of {} is not propagated through '{}': the result carries none",
+                quoted(&carried),
+                other.name()
+            ));
+            return Ok(None);
+        }
+    };
+    let method = if matches!(op, Op::Respond(_) | Op::Paths(_)) {
+        format!(
+            "{}; level intervals: Monte Carlo over the lines, {} draws, seed {}",
+            u.method,
+            uncertainty::level::LEVEL_DRAWS,
+            uncertainty::level::LEVEL_SEED
+        )
+    } else {
+        u.method.clone()
+    };
+    out.report.uncertainty = Some(UncertaintyReport {
+        method,
+        fraction_flagged: reliability.fraction_flagged,
+        statements: reliability.statements.clone(),
+        bands: reliability.bands.clone(),
+        thresholds: reliability.options,
+    });
+    Ok(Some(Assessed {
+        uncertainty: u,
+        reliability,
+    }))
+}
+
+/// Where the interface has singular values below the input noise, in words.
+fn noise_statement(freqs: &[f64], noise: &[uncertainty::interface_noise::LineNoise]) -> String {
+    let lines: Vec<usize> = (0..noise.len())
+        .filter(|&k| noise[k].below_noise > 0)
+        .collect();
+    let (Some(&a), Some(&b)) = (lines.first(), lines.last()) else {
+        let worst = noise.iter().map(|n| n.threshold).fold(0.0, f64::max);
+        return format!(
+            "interface: no singular value lies below the input noise (the noise-referenced truncation threshold is at most {worst:.2e}): a truncated SVD would only remove dynamics the data resolve"
+        );
+    };
+    let mut t: Vec<f64> = lines.iter().map(|&k| noise[k].threshold).collect();
+    t.sort_by(|x, y| x.total_cmp(y));
+    format!(
+        "interface: singular values below the input noise at {} of {} lines, from {} Hz to {} Hz; a truncated SVD at the threshold from the noise (median {:.2e} on those lines) removes only them",
+        lines.len(),
+        noise.len(),
+        freqs[a],
+        freqs[b],
+        t[t.len() / 2]
+    )
+}
+
+/// The 95 % interval of each level row of a response (or path total).
+fn level_intervals(cx: &Ctx, out: &mut StepOutput, u: &FrfUncertainty) -> Result<()> {
+    let rows = out.report.levels.iter().flatten().count();
+    // per draw and row: the lines' levels and their 1/3-octave bands
+    cx.check_work(
+        "the level intervals (a Monte Carlo over the lines)",
+        rows as f64 * uncertainty::level::LEVEL_DRAWS as f64 * out.set.n_lines() as f64 * 100.0,
+    )?;
+    let w = weighting_for(&out.set);
+    for (i, row) in out.report.levels.iter_mut().flatten().enumerate() {
+        if row.overall_db.is_some() {
+            let (lo, hi) = uncertainty::level_interval(&out.set, u, i, w)?;
+            row.overall_interval_95_db = Some([lo, hi]);
+        }
+    }
+    Ok(())
+}
+
+fn tsvd_of(op: &Op) -> Option<f64> {
+    match op {
+        Op::Couple(c) => c.tsvd,
+        Op::Decouple(d) => d.tsvd,
+        _ => None,
+    }
+}
+
+fn quoted(names: &[&str]) -> String {
+    let q: Vec<String> = names.iter().map(|n| format!("'{n}'")).collect();
+    q.join(", ")
+}
+
+/// The interface condition numbers of a coupling step's report (NaN where
+/// not finite).
+fn condition(out: &StepOutput) -> Vec<f64> {
+    out.report
+        .interface
+        .as_ref()
+        .map(|i| i.condition.iter().map(|c| c.unwrap_or(f64::NAN)).collect())
+        .unwrap_or_default()
+}
+
+fn assess_std(set: &FrfSet, u: &FrfUncertainty, opts: &ReliabilityOptions) -> Reliability {
+    uncertainty::assess(
+        set,
+        &Evidence {
+            std: Some(&u.std),
+            ..Evidence::default()
+        },
+        opts,
+    )
+}

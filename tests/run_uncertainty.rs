@@ -1,0 +1,175 @@
+//! A recipe whose components carry an uncertainty, through `mortise run`:
+//! the demo scenario with supplier-like noise stated per component.
+
+mod common;
+
+use serde_json::{json, Value};
+use std::path::{Path, PathBuf};
+
+fn cli(args: &[&str]) -> Result<String, mortise::Error> {
+    let v: Vec<String> = args.iter().map(|s| s.to_string()).collect();
+    mortise::cli::run_cli(&v)
+}
+
+/// The demo's files and its recipe with `edit` applied, written to `dir`.
+fn demo_recipe(dir: &Path, edit: impl FnOnce(&mut Value)) -> PathBuf {
+    let input = dir.join("in");
+    cli(&["demo", "-o", input.to_str().unwrap()]).unwrap();
+    let p = input.join("heat-pump.recipe.json");
+    let mut r: Value = serde_json::from_str(&std::fs::read_to_string(&p).unwrap()).unwrap();
+    edit(&mut r);
+    let q = input.join("unc.recipe.json");
+    std::fs::write(&q, serde_json::to_string_pretty(&r).unwrap()).unwrap();
+    q
+}
+
+#[test]
+fn demo_with_stated_uncertainty_reports_interval_reliability_and_files() {
+    let dir = common::scratch("run_uncertainty");
+    let recipe = demo_recipe(&dir, |r| {
+        for c in ["casing", "bracket", "wall", "room"] {
+            r["components"][c]["uncertainty"] = json!({"relative": 0.01, "floor_db": -60});
+        }
+        r["components"]["forces"]["uncertainty"] = json!({"relative": 0.05});
+        // the variant would run the propagation again; one run is enough here
+        r.as_object_mut().unwrap().remove("variants");
+    });
+    let out = dir.join("out");
+    let printed = cli(&["run", recipe.to_str().unwrap(), "-o", out.to_str().unwrap()]).unwrap();
+    // the headline: the level, then its 95 % interval and where it comes from
+    let line = printed
+        .lines()
+        .find(|l| l.starts_with("bedroom at room:bed:"))
+        .unwrap_or_else(|| panic!("{printed}"));
+    assert!(line.contains("95 % interval"), "{line}");
+    assert!(line.contains("from the stated input uncertainty"), "{line}");
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let steps = report["steps"].as_array().unwrap();
+    let step = |id: &str| steps.iter().find(|s| s["id"] == id).unwrap();
+    let row = &step("bedroom")["levels"][0];
+    let level = row["overall_db"].as_f64().unwrap();
+    let iv = row["overall_interval_95_db"].as_array().unwrap();
+    let (lo, hi) = (iv[0].as_f64().unwrap(), iv[1].as_f64().unwrap());
+    eprintln!("headline: {line}");
+    assert!(lo < level && level < hi, "{lo} {level} {hi}");
+    // 1 % on the structure and 5 % on the forces cannot move the level by 6 dB
+    assert!(hi - lo > 0.05 && hi - lo < 6.0, "{lo} {hi}");
+    // the coupling: its reliability with statements in words
+    let u = &step("mounted")["uncertainty"];
+    let frac = u["fraction_flagged"].as_f64().unwrap();
+    eprintln!(
+        "mounted: {:.1} % flagged; {}",
+        100.0 * frac,
+        u["statements"][0].as_str().unwrap_or("")
+    );
+    assert!(frac > 0.0 && frac < 1.0, "{frac}");
+    assert!(u["method"].as_str().unwrap().contains("first-order"), "{u}");
+    assert!(!u["statements"].as_array().unwrap().is_empty());
+    // every step on the way carries one, the component notes say how
+    for id in [
+        "seat_to_anchor",
+        "anchor_velocity",
+        "wall_impedance",
+        "anchor_forces",
+    ] {
+        assert!(step(id)["uncertainty"].is_object(), "step {id}");
+    }
+    let notes: Vec<&str> = report["notes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|n| n.as_str())
+        .collect();
+    assert!(
+        notes
+            .iter()
+            .any(|n| n.contains("component 'forces': uncertainty relative 5 %")),
+        "{notes:?}"
+    );
+    // the uncertainty file beside each output: header, one row per line
+    let csv = std::fs::read_to_string(out.join("bedroom.uncertainty.csv")).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines[0], "# mortise-uncertainty 1");
+    let header = lines.iter().find(|l| l.starts_with("freq_Hz")).unwrap();
+    assert_eq!(*header, "freq_Hz,u room:bed/ref,flag room:bed/ref");
+    let rows = lines.iter().filter(|l| !l.starts_with(['#', 'f'])).count();
+    let data = std::fs::read_to_string(out.join("bedroom.csv")).unwrap();
+    let data_rows = data
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.starts_with("freq"))
+        .count();
+    assert_eq!(rows, data_rows);
+    assert!(out.join("seat_to_anchor.uncertainty.csv").exists());
+}
+
+#[test]
+fn uncertainty_keys_are_used_or_refused_by_name() {
+    let dir = common::scratch("run_uncertainty_bad");
+    for (spec, expect) in [
+        (json!({"relativ": 0.01}), "relativ"),
+        (json!({"relative": -0.01}), "relative"),
+        (json!({"floor_db": 6}), "floor_db"),
+        (json!({"averages": 20}), "coherence"),
+        (json!({}), "empty"),
+    ] {
+        let recipe = demo_recipe(&dir, |r| {
+            r["components"]["casing"]["uncertainty"] = spec.clone();
+        });
+        let e = cli(&[
+            "run",
+            recipe.to_str().unwrap(),
+            "-o",
+            dir.join("out").to_str().unwrap(),
+        ])
+        .unwrap_err();
+        let text = e.to_string();
+        assert!(text.contains("casing"), "{spec}: {text}");
+        assert!(text.contains(expect), "{spec}: {text}");
+        assert_eq!(mortise::cli::exit_code(e.kind), 1, "{spec}: {text}");
+    }
+}
+
+#[test]
+fn monte_carlo_of_the_recipe_and_its_bad_options() {
+    let dir = common::scratch("run_uncertainty_mc");
+    let recipe = demo_recipe(&dir, |r| {
+        r["components"]["forces"]["uncertainty"] = json!({"relative": 0.05});
+        r.as_object_mut().unwrap().remove("variants");
+    });
+    let rp = recipe.to_str().unwrap();
+    let out = dir.join("out");
+    let op = out.to_str().unwrap();
+    for (args, expect) in [
+        (vec!["--monte-carlo", "1"], "2 or more"),
+        (vec!["--monte-carlo", "x"], "whole number"),
+        (vec!["--seed", "3"], "--monte-carlo N"),
+        (vec!["--monte-carlo", "3", "--seed", "-1"], "--seed"),
+    ] {
+        let mut a = vec!["run", rp, "-o", op];
+        a.extend(args.iter());
+        let e = cli(&a).unwrap_err();
+        assert_eq!(mortise::cli::exit_code(e.kind), 2, "{args:?}: {e}");
+        assert!(e.to_string().contains(expect), "{args:?}: {e}");
+    }
+    let printed = cli(&["run", rp, "-o", op, "--monte-carlo", "3", "--seed", "7"]).unwrap();
+    let line = printed
+        .lines()
+        .find(|l| l.starts_with("Monte Carlo of the recipe (3 draws, seed 7): bedroom at room:bed"))
+        .unwrap_or_else(|| panic!("{printed}"));
+    assert!(line.contains("dB(A)"), "{line}");
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let mc = &report["monte_carlo"];
+    assert_eq!(mc["draws"], 3);
+    assert!(mc["method"].as_str().unwrap().contains("'forces'"), "{mc}");
+    // 5 % on the forces alone: every draw moves the level, and only a little
+    let bed = mc["levels"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|l| l["step"] == "bedroom")
+        .unwrap();
+    let sd = bed["std_db"].as_f64().unwrap();
+    assert!(sd > 0.0 && sd < 1.0, "{bed}");
+}
