@@ -14,6 +14,7 @@ pub mod mat;
 pub mod merge;
 pub mod nodes;
 pub mod uff58;
+pub mod wav;
 
 use crate::error::{Error, Result};
 use crate::frf::{FrfSet, Provenance, SignalKind};
