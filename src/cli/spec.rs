@@ -693,6 +693,121 @@ pub const LISTEN: Command = Command {
     example: "mortise listen results/bedroom.csv -o bedroom.wav --seconds 5",
 };
 
+/// Options shared by `spectrum` and `estimate`: the averaging and the channels.
+const TIME_GROUP: Group = Group {
+    title: "time data (Welch averaging as scipy.signal.welch; the sets record these choices)",
+    opts: &[
+        val(
+            "segment",
+            "N",
+            "samples per segment, the FFT length: lines every fs/N Hz from 0 to fs/2; refused \
+             when longer than the record (default 4096)",
+        ),
+        val(
+            "overlap",
+            "F",
+            "fraction of a segment shared with the next, from 0 up to (not including) 1 \
+             (default 0.5)",
+        ),
+        val(
+            "window",
+            "W",
+            "rectangular, hann, hamming, flat-top (amplitudes of tones), force:WIDTH_S or \
+             exponential:TAU_S (impact testing; the exponential window adds 1/TAU_S to every \
+             mode's decay rate) (default hann)",
+        ),
+        val(
+            "detrend",
+            "D",
+            "removed from each segment before the window: none, constant (its mean) or linear \
+             (its least-squares line) (default constant)",
+        ),
+        many(
+            "channel",
+            "'N=DOF QTY FS UNIT'",
+            "a WAV channel to analyse: its number from 1, DOF, quantity, the value of full scale \
+             (sample 1.0) and its unit, e.g. '1=rig:1+Z force 500 N'; required for WAV files \
+             (channels not described are left out, with a note), refused for UFF files, whose \
+             time histories carry their DOFs and units",
+        ),
+        val(
+            "to",
+            "FORMAT",
+            "uff, uff-binary or csv (mortise CSV, lossless); default: from OUT's extension",
+        ),
+    ],
+};
+
+pub const SPECTRUM: Command = Command {
+    name: "spectrum",
+    summary: "spectra (PSD, autopower, linear, cross) of recorded time data (WAV, UFF 58 time responses)",
+    usage: "mortise spectrum FILE -o OUT [--kind KIND] [--reference DOF] [time-data options] [--json]",
+    about: "Reads FILE, a WAV recording (PCM 8/16/24/32-bit or float 32/64-bit, any number of \
+            channels, read in blocks so its length is not bounded by memory; each channel \
+            described with --channel) or a UFF file of time responses (function type 1, all of \
+            one rate and length), averages each channel's spectrum over overlapping windowed \
+            segments (Welch) and writes the spectra as a spectrum set per quantity, ready for \
+            'respond' and the other steps: the kind (autopower, PSD, RMS or peak line spectrum, \
+            cross spectrum) is stored with the values, and the window, segment, overlap, \
+            detrending and number of averages in the set's provenance.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                val(
+                    "kind",
+                    "KIND",
+                    "psd (unit²/Hz), autopower (unit², mean square per line), rms or peak (line \
+                     spectrum with the phase against --reference), cross (conj(X_ref)·X per \
+                     line, against --reference) (default psd)",
+                ),
+                val(
+                    "reference",
+                    "DOF",
+                    "the channel phases are measured against (needed by rms, peak and cross)",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        TIME_GROUP,
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise spectrum bench.wav -o bench-psd.csv --channel '1=unit:1+Z acceleration 98.0665 m/s^2' --segment 8192",
+};
+
+pub const ESTIMATE: Command = Command {
+    name: "estimate",
+    summary: "FRFs with coherence (H1, H2, Hv) from force and response channels of recorded time data",
+    usage: "mortise estimate FILE -o OUT --input DOF [--input DOF] [--estimator E] [time-data options] [--json]",
+    about: "Reads FILE (as 'mortise spectrum' does), averages the auto and cross spectra of the \
+            input (force) channels and every other channel (the responses) over windowed \
+            segments, and writes the FRFs from the inputs to the responses, one set per response \
+            quantity, with the coherence kept on the set: the multiple coherence of each \
+            response, which with one input is the ordinary coherence. H1 (default) is \
+            unbiased by noise on the responses, H2 (one input only) by noise on the input, Hv \
+            (total least squares) lies between them. Several inputs need their cross-spectral \
+            matrix regular at every line (not fully correlated); 0 Hz is left out.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                many("input", "DOF", "an input (force) channel; at least one"),
+                val("estimator", "E", "h1, h2 or hv (default h1)"),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        TIME_GROUP,
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise estimate hammer.uff -o bracket-frf.uff --input bracket:1+Z --window exponential:0.5",
+};
+
 pub const DEMO: Command = Command {
     name: "demo",
     summary: "write (or check) the demo scenario's supplier files and recipe",
@@ -749,7 +864,7 @@ pub const VERSION: Command = Command {
 
 /// Every command, in the order the general help lists them.
 pub const COMMANDS: &[Command] = &[
-    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, DEMO, HELP, VERSION,
+    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE, DEMO, HELP, VERSION,
 ];
 
 pub fn command(name: &str) -> Option<&'static Command> {

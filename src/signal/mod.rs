@@ -6,9 +6,12 @@
 //! - `spectra.rs`: the averages as spectrum sets (autopower, PSD, RMS and
 //!   peak linear spectra, cross spectra), the scaling kept in `signal`;
 //! - `frf_estimate.rs`: H1, H2, Hv with ordinary and multiple coherence;
+//! - `analyse.rs`: one analysis for the CLI and recipes (channels picked and
+//!   calibrated, a WAV file streamed, spectra or FRFs made);
 //! - `recording.rs`: channels in SI from a UFF file's time histories, a WAV
 //!   file or a CSV time column, with each channel's DOF and quantity.
 
+pub mod analyse;
 pub mod frf_estimate;
 pub mod recording;
 pub mod spectra;

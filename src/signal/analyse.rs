@@ -1,0 +1,360 @@
+//! One analysis of time data, shared by the command line and recipes:
+//! channels picked and calibrated, Welch averages (a WAV file streamed in
+//! blocks), then spectrum sets or FRF estimates.
+
+use super::frf_estimate::{estimate, Estimator};
+use super::recording::Recording;
+use super::spectra::spectrum_sets;
+use super::welch::{Averaged, Detrend, Welch, WelchSettings};
+use super::window::Window;
+use super::Channel;
+use crate::error::{quote, Error, Result};
+use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
+use crate::io::wav::WavReader;
+use crate::limits::Limits;
+use crate::units::Quantity;
+use std::io::Read;
+
+/// A WAV channel described: `N=DOF QUANTITY FULL_SCALE UNIT`, e.g.
+/// `1=rig:1+Z force 500 N` (sample value 1.0 of channel 1 is 500 N at
+/// rig:1+Z). Channels are numbered from 1.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChannelSpec {
+    pub number: usize,
+    pub dof: Dof,
+    pub quantity: Quantity,
+    /// SI value of full scale (sample 1.0).
+    pub full_scale_si: f64,
+    /// As written, for messages.
+    pub text: String,
+}
+
+impl ChannelSpec {
+    pub const FORM: &'static str =
+        "N=DOF QUANTITY FULL_SCALE UNIT, e.g. '1=rig:1+Z force 500 N' (sample 1.0 of channel 1 is 500 N)";
+
+    pub fn parse(text: &str, component: &str) -> Result<ChannelSpec> {
+        let bad = |why: String| {
+            Error::usage(format!(
+                "channel '{}': {why}; expected {}",
+                quote(text),
+                ChannelSpec::FORM
+            ))
+        };
+        let Some((n, rest)) = text.split_once('=') else {
+            return Err(bad("no '='".into()));
+        };
+        let number = match n.trim().parse::<usize>() {
+            Ok(v) if v >= 1 => v,
+            _ => {
+                return Err(bad(format!(
+                    "'{}' is not a channel number from 1",
+                    quote(n)
+                )))
+            }
+        };
+        let parts: Vec<&str> = rest.split_whitespace().collect();
+        let [dof, qty, full, unit @ ..] = parts.as_slice() else {
+            return Err(bad("too few parts".into()));
+        };
+        if unit.is_empty() {
+            return Err(bad("no unit".into()));
+        }
+        let unit = unit.join(" ");
+        let dof = Dof::parse(dof, component).map_err(|e| bad(e.message))?;
+        let quantity = Quantity::parse(qty).map_err(|e| bad(e.message))?;
+        let full: f64 = match full.parse::<f64>() {
+            Ok(v) if v.is_finite() && v > 0.0 => v,
+            _ => {
+                return Err(bad(format!(
+                    "full scale '{}' is not a positive number",
+                    quote(full)
+                )))
+            }
+        };
+        let factor = crate::units::factor_for(&unit, quantity, dof.dir.is_rotational())
+            .map_err(|e| bad(e.message))?;
+        Ok(ChannelSpec {
+            number,
+            dof,
+            quantity,
+            full_scale_si: full * factor,
+            text: text.to_string(),
+        })
+    }
+}
+
+/// How the record is cut: segment in samples, overlap as a fraction.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Averaging {
+    pub segment: usize,
+    /// Fraction of a segment shared with the next, 0 ≤ overlap < 1.
+    pub overlap: f64,
+    pub window: Window,
+    pub detrend: Detrend,
+}
+
+impl Averaging {
+    pub fn settings(&self) -> Result<WelchSettings> {
+        if !(self.overlap.is_finite() && (0.0..1.0).contains(&self.overlap)) {
+            return Err(Error::usage(format!(
+                "overlap {}; expected a fraction from 0 up to (not including) 1",
+                self.overlap
+            ))
+            .field("overlap"));
+        }
+        Ok(WelchSettings {
+            segment: self.segment,
+            overlap: (self.overlap * self.segment as f64).floor() as usize,
+            window: self.window,
+            detrend: self.detrend,
+        })
+    }
+}
+
+/// What to make.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Job {
+    /// Spectra of every channel; `reference` for cross spectra and the
+    /// phase of linear spectra.
+    Spectrum {
+        kind: SignalKind,
+        reference: Option<Dof>,
+    },
+    /// FRFs from the `inputs` (forces) to every other channel.
+    Frf {
+        inputs: Vec<Dof>,
+        estimator: Estimator,
+    },
+}
+
+/// The result.
+#[derive(Debug, Clone)]
+pub struct Analysed {
+    pub sets: Vec<FrfSet>,
+    pub channels: Vec<Channel>,
+    pub fs: f64,
+    pub samples: usize,
+    pub segments: usize,
+    pub settings: WelchSettings,
+    pub coherent_gain: f64,
+    pub enbw_bins: f64,
+    pub notes: Vec<String>,
+}
+
+fn find(channels: &[Channel], dof: &Dof, what: &str) -> Result<usize> {
+    channels
+        .iter()
+        .position(|c| c.dof.same_place(dof))
+        .ok_or_else(|| {
+            let names: Vec<String> = channels.iter().map(|c| c.dof.to_string()).collect();
+            Error::usage(format!(
+                "{what} {dof} is not among the channels ({})",
+                names.join(", ")
+            ))
+            .field(what.to_string())
+        })
+}
+
+/// The reference channels the job needs.
+fn refs_of(channels: &[Channel], job: &Job) -> Result<Vec<usize>> {
+    Ok(match job {
+        Job::Spectrum {
+            reference: Some(d), ..
+        } => vec![find(channels, d, "reference")?],
+        Job::Spectrum {
+            reference: None, ..
+        } => Vec::new(),
+        Job::Frf { inputs, .. } => {
+            let mut v = Vec::new();
+            for d in inputs {
+                let i = find(channels, d, "input")?;
+                if v.contains(&i) {
+                    return Err(Error::usage(format!("input {d} is named twice")).field("input"));
+                }
+                v.push(i);
+            }
+            v
+        }
+    })
+}
+
+fn check_sizes(
+    channels: &[Channel],
+    refs: &[usize],
+    settings: &WelchSettings,
+    samples: u64,
+    fs: f64,
+    limits: &Limits,
+) -> Result<()> {
+    settings.check(fs)?;
+    if samples < settings.segment as u64 {
+        return Err(Error::usage(format!(
+            "the segment of {} samples ({} s) is longer than the record of {samples} samples ({} s at {fs} Hz); choose a shorter segment",
+            settings.segment,
+            settings.segment as f64 / fs,
+            samples as f64 / fs
+        ))
+        .field("segment"));
+    }
+    // the accumulated cross spectra and the result
+    limits.check_set(
+        "the spectra",
+        settings.lines(),
+        channels.len(),
+        refs.len().max(1),
+    )
+}
+
+fn finish(
+    a: Averaged,
+    channels: Vec<Channel>,
+    refs: &[usize],
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    mut notes: Vec<String>,
+) -> Result<Analysed> {
+    let dropped = a.samples - ((a.segments - 1) * a.settings.step() + a.settings.segment);
+    if dropped > 0 {
+        notes.push(format!(
+            "the last {dropped} samples ({:.6} s) do not fill a segment and are left out",
+            dropped as f64 / a.fs
+        ));
+    }
+    let sets = match job {
+        Job::Spectrum { kind, .. } => {
+            spectrum_sets(&a, &channels, *kind, refs.first().copied(), name, prov)?
+        }
+        Job::Frf { estimator, .. } => {
+            let outputs: Vec<usize> = (0..channels.len()).filter(|c| !refs.contains(c)).collect();
+            estimate(&a, &channels, refs, &outputs, *estimator, name, prov)?
+        }
+    };
+    Ok(Analysed {
+        sets,
+        channels,
+        fs: a.fs,
+        samples: a.samples,
+        segments: a.segments,
+        settings: a.settings,
+        coherent_gain: a.window.coherent_gain,
+        enbw_bins: a.window.enbw_bins,
+        notes,
+    })
+}
+
+/// A recording in memory (a UFF file's time histories).
+pub fn analyse_recording(
+    rec: &Recording,
+    averaging: &Averaging,
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    limits: &Limits,
+) -> Result<Analysed> {
+    let settings = averaging.settings()?;
+    let refs = refs_of(&rec.channels, job)?;
+    check_sizes(
+        &rec.channels,
+        &refs,
+        &settings,
+        rec.len() as u64,
+        rec.fs,
+        limits,
+    )?;
+    let v: Vec<&[f64]> = rec.samples.iter().map(|c| c.as_slice()).collect();
+    let a = super::welch::average(rec.fs, &v, &refs, settings)?;
+    finish(a, rec.channels.clone(), &refs, job, name, prov, Vec::new())
+}
+
+/// A WAV file streamed in blocks of `block` frames: only the described
+/// channels, each times its full scale. `progress(frames done, frames)`
+/// is called after each block.
+#[allow(clippy::too_many_arguments)]
+pub fn analyse_wav<R: Read>(
+    mut wav: WavReader<R>,
+    file: &str,
+    specs: &[ChannelSpec],
+    averaging: &Averaging,
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    limits: &Limits,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<Analysed> {
+    let info = wav.info.clone();
+    if specs.is_empty() {
+        return Err(Error::usage(format!(
+            "describe the WAV file's channels to analyse ({} in the file): {}",
+            info.channels,
+            ChannelSpec::FORM
+        ))
+        .in_file(file)
+        .field("channel"));
+    }
+    let mut channels = Vec::new();
+    let mut picks: Vec<(usize, f64)> = Vec::new();
+    for s in specs {
+        if s.number > info.channels {
+            return Err(Error::usage(format!(
+                "channel '{}': the file has {} channel(s)",
+                quote(&s.text),
+                info.channels
+            ))
+            .in_file(file)
+            .field("channel"));
+        }
+        if picks.iter().any(|p| p.0 == s.number - 1)
+            || channels.iter().any(|c: &Channel| c.dof.same_place(&s.dof))
+        {
+            return Err(Error::usage(format!(
+                "channel '{}' repeats a channel number or DOF",
+                quote(&s.text)
+            ))
+            .field("channel"));
+        }
+        picks.push((s.number - 1, s.full_scale_si));
+        channels.push(Channel {
+            dof: s.dof.clone(),
+            quantity: s.quantity,
+        });
+    }
+    let mut notes = Vec::new();
+    let unused: Vec<String> = (1..=info.channels)
+        .filter(|n| !specs.iter().any(|s| s.number == *n))
+        .map(|n| n.to_string())
+        .collect();
+    if !unused.is_empty() {
+        notes.push(format!(
+            "WAV channel(s) {} not described, left out",
+            unused.join(", ")
+        ));
+    }
+    let settings = averaging.settings()?;
+    let fs = info.sample_rate as f64;
+    let refs = refs_of(&channels, job)?;
+    check_sizes(&channels, &refs, &settings, info.frames, fs, limits)
+        .map_err(|e| e.in_file(file))?;
+    let mut welch = Welch::new(fs, channels.len(), &refs, settings)?;
+    let block = 1usize << 15;
+    let mut done = 0u64;
+    let mut picked = Vec::with_capacity(block * picks.len());
+    loop {
+        let frames = wav.read_frames(block)?;
+        if frames.is_empty() {
+            break;
+        }
+        picked.clear();
+        for frame in frames.chunks_exact(info.channels) {
+            for &(c, f) in &picks {
+                picked.push(frame[c] * f);
+            }
+        }
+        welch.push_interleaved(&picked)?;
+        done += (frames.len() / info.channels) as u64;
+        progress(done, info.frames);
+    }
+    let a = welch.finish().map_err(|e| e.in_file(file))?;
+    finish(a, channels, &refs, job, name, prov, notes)
+}

@@ -1,0 +1,186 @@
+//! `mortise spectrum` and `mortise estimate` on a WAV file (scipy.io.wavfile)
+//! and a UFF file of time responses (pyuff) against scipy.signal on the
+//! samples as those libraries read them back (tests/py/time_files.py).
+
+mod common;
+
+use mortise::cli::run_cli;
+use mortise::frf::SignalKind;
+use mortise::io::{self, ImportOptions};
+
+fn argv(v: &[&str]) -> Vec<String> {
+    v.iter().map(|s| s.to_string()).collect()
+}
+
+fn arr(v: &serde_json::Value) -> Vec<f64> {
+    v.as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_f64().unwrap())
+        .collect()
+}
+
+fn load(path: &std::path::Path) -> Vec<mortise::frf::FrfSet> {
+    let bytes = std::fs::read(path).unwrap();
+    io::load(&bytes, "out.csv", &ImportOptions::default())
+        .unwrap()
+        .sets
+}
+
+fn max_rel(a: &[f64], b: &[f64]) -> f64 {
+    assert_eq!(a.len(), b.len());
+    let s = b.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    a.iter()
+        .zip(b)
+        .fold(0.0f64, |m, (x, y)| m.max((x - y).abs()))
+        / s
+}
+
+#[test]
+fn estimate_and_spectrum_equal_scipy_on_wav_and_uff() {
+    let dir = common::scratch("cli_time_data");
+    let d = dir.to_str().unwrap();
+    let r: serde_json::Value =
+        serde_json::from_str(&common::run_py("time_files.py", &[d])).unwrap();
+    let wav = format!("{d}/rig.wav");
+    let uff = format!("{d}/rig.uff");
+    let chans = [
+        "--channel",
+        "1=rig:1+Z force 100 N",
+        "--channel",
+        "2=rig:2+Z acceleration 50 m/s^2",
+    ];
+    let common_opts = ["--segment", "1024", "--overlap", "0.5", "--window", "hann"];
+    for (src, file, extra) in [("wav", &wav, &chans[..]), ("uff", &uff, &[][..])] {
+        let out = dir.join(format!("{src}-h1.csv"));
+        let mut a = argv(&[
+            "estimate",
+            file,
+            "-o",
+            out.to_str().unwrap(),
+            "--input",
+            "rig:1+Z",
+        ]);
+        a.extend(argv(extra));
+        a.extend(argv(&common_opts));
+        let text = run_cli(&a).unwrap();
+        let sets = load(&out);
+        assert_eq!(sets.len(), 1, "{text}");
+        let h = &sets[0];
+        assert_eq!(h.kind(), mortise::frf::FrfKind::Accelerance);
+        let want = &r[src];
+        assert!(max_rel(&h.freqs, &arr(&want["freqs"])) < 1e-12);
+        let col = h.column(0, 0);
+        let re: Vec<f64> = col.iter().map(|v| v.re).collect();
+        let im: Vec<f64> = col.iter().map(|v| v.im).collect();
+        let e = max_rel(&re, &arr(&want["h1_re"])).max(max_rel(&im, &arr(&want["h1_im"])));
+        let coh = h.coherence.as_ref().unwrap();
+        let ec = max_rel(coh, &arr(&want["coherence"]));
+        println!("{src}: H1 {e:e}, coherence {ec:e} against scipy");
+        assert!(e <= 1e-10 && ec <= 1e-10, "{src}: {e:e} {ec:e}");
+        if src == "wav" {
+            assert!(text.contains("channel(s) 3 not described"), "{text}");
+        }
+
+        // the response's PSD
+        let out = dir.join(format!("{src}-psd.csv"));
+        let mut a = argv(&[
+            "spectrum",
+            file,
+            "-o",
+            out.to_str().unwrap(),
+            "--kind",
+            "psd",
+        ]);
+        a.extend(argv(extra));
+        a.extend(argv(&common_opts));
+        run_cli(&a).unwrap();
+        let sets = load(&out);
+        let s = sets
+            .iter()
+            .find(|s| s.out_qty == mortise::units::Quantity::Acceleration)
+            .unwrap();
+        assert_eq!(s.signal, Some(SignalKind::Psd));
+        let psd: Vec<f64> = s.column(0, 0).iter().map(|v| v.re).collect();
+        let e = max_rel(&psd, &arr(&want["psd"]));
+        println!("{src}: PSD {e:e} against scipy.signal.welch");
+        assert!(e <= 1e-10);
+    }
+}
+
+#[test]
+fn time_data_mistakes_are_refused_with_reasons() {
+    let dir = common::scratch("cli_time_data_bad");
+    let d = dir.to_str().unwrap();
+    common::run_py("time_files.py", &[d]);
+    let wav = format!("{d}/rig.wav");
+    let uff = format!("{d}/rig.uff");
+    let out = format!("{d}/x.csv");
+    let cases: Vec<(Vec<&str>, &str)> = vec![
+        // a window (segment) longer than the record
+        (
+            vec!["spectrum", &uff, "-o", &out, "--segment", "100000"],
+            "longer than the record",
+        ),
+        (
+            vec!["spectrum", &wav, "-o", &out],
+            "describe the WAV file's channels",
+        ),
+        (
+            vec![
+                "spectrum",
+                &uff,
+                "-o",
+                &out,
+                "--channel",
+                "1=a:1+Z force 1 N",
+            ],
+            "carry their DOFs",
+        ),
+        (
+            vec!["spectrum", &uff, "-o", &out, "--kind", "peak"],
+            "reference",
+        ),
+        (
+            vec!["spectrum", &uff, "-o", &out, "--overlap", "1"],
+            "overlap",
+        ),
+        (
+            vec!["spectrum", &uff, "-o", &out, "--window", "kaiser"],
+            "unknown window",
+        ),
+        (
+            vec![
+                "spectrum",
+                &wav,
+                "-o",
+                &out,
+                "--channel",
+                "4=a:1+Z force 1 N",
+            ],
+            "has 3 channel",
+        ),
+        (
+            vec![
+                "spectrum",
+                &wav,
+                "-o",
+                &out,
+                "--channel",
+                "1=a:1+Z force 1 furlong",
+            ],
+            "channel '1=a",
+        ),
+        (vec!["estimate", &uff, "-o", &out], "at least one --input"),
+        (
+            vec![
+                "estimate", &uff, "-o", &out, "--input", "rig:1+Z", "--input", "rig:2+Z",
+            ],
+            "at least one input (force) and one response",
+        ),
+    ];
+    for (a, text) in cases {
+        let e = run_cli(&argv(&a)).unwrap_err();
+        assert!(e.to_string().contains(text), "{a:?}: {e}");
+    }
+}
