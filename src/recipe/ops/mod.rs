@@ -10,6 +10,7 @@ mod couple;
 mod identify;
 mod predict;
 mod reshape;
+mod time_data;
 mod transform;
 mod virtual_points;
 
@@ -17,6 +18,7 @@ pub use couple::{Couple, Decouple};
 pub use identify::{pick_toggled, pick_written, IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
+pub use time_data::{EstimateFrf, Spectrum};
 pub(crate) use transform::{
     interp as transform_interp, scale_in_place, select as transform_select,
 };
@@ -215,6 +217,8 @@ operations! {
     "to-virtual-points" => ToVirtualPoints,
     "identify-modes" => IdentifyModes,
     "regenerate" => Regenerate,
+    "spectrum" => Spectrum,
+    "estimate-frf" => EstimateFrf,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.

@@ -1,0 +1,269 @@
+//! Time data in a recipe: `spectrum` and `estimate-frf` read a WAV file or
+//! a UFF file of time responses named by `file` (through the recipe's
+//! files) and make spectra or FRFs with coherence by
+//! [`crate::signal::analyse`], as `mortise spectrum` / `estimate` do.
+
+use super::{opt, req, Ctx, Operand, Operation, StepOutput};
+use crate::error::{Error, Result};
+use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
+use crate::io::{self, ImportOptions};
+use crate::recipe::report::StepReport;
+use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
+use crate::signal::{Detrend, Estimator, Recording, Window};
+use serde::{Deserialize, Serialize};
+
+/// Spectra of every channel of a recording.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Spectrum {
+    pub file: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub kind: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub channels: Option<Vec<String>>,
+    pub segment: usize,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub overlap: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub window: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub detrend: Option<String>,
+}
+
+/// FRFs from force channels to the other channels of a recording.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EstimateFrf {
+    pub file: String,
+    pub inputs: Vec<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub estimator: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub channels: Option<Vec<String>>,
+    pub segment: usize,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub overlap: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub window: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub detrend: Option<String>,
+}
+
+const FILE: &str =
+    "a WAV file, or a UFF file of time responses (function type 1), among the recipe's files";
+const CHANNELS: &str = "WAV only, required there: each channel analysed as 'N=DOF QUANTITY FULL_SCALE UNIT', e.g. '1=rig:1+Z force 500 N'";
+const SEGMENT: &str = "samples per segment (the FFT length; lines every fs/N Hz)";
+const OVERLAP: &str = "fraction of a segment shared with the next, 0 to below 1 (default 0.5)";
+const WINDOW: &str =
+    "rectangular, hann (default), hamming, flat-top, force:WIDTH_S, exponential:TAU_S";
+const DETREND: &str = "none, constant (default: the segment's mean) or linear";
+
+fn averaging(
+    segment: usize,
+    overlap: Option<f64>,
+    window: Option<&str>,
+    detrend: Option<&str>,
+) -> Result<Averaging> {
+    Ok(Averaging {
+        segment,
+        overlap: overlap.unwrap_or(0.5),
+        window: match window {
+            Some(w) => Window::parse(w).map_err(|e| Error::recipe(e.message).field("window"))?,
+            None => Window::Hann,
+        },
+        detrend: match detrend {
+            Some(d) => Detrend::parse(d).map_err(|e| Error::recipe(e.message).field("detrend"))?,
+            None => Detrend::Constant,
+        },
+    })
+}
+
+fn dof(text: &str, field: &str) -> Result<Dof> {
+    Dof::parse(text, "").map_err(|e| Error::recipe(e.message).field(field.to_string()))
+}
+
+/// Reads the file and runs the analysis.
+fn analyse_file(
+    cx: &Ctx,
+    file: &str,
+    channels: Option<&[String]>,
+    avg: &Averaging,
+    job: &Job,
+) -> Result<Analysed> {
+    let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
+    let name = cx.id.to_string();
+    let mut prov = Provenance {
+        file: io::base_name(file),
+        sha256: io::sha256_hex(&bytes),
+        format: String::new(),
+        options: String::new(),
+    };
+    if io::wav::looks_like_wav(&bytes) {
+        prov.format = "wav".into();
+        let specs: Vec<ChannelSpec> = channels
+            .unwrap_or_default()
+            .iter()
+            .map(|t| {
+                ChannelSpec::parse(t, "").map_err(|e| Error::recipe(e.message).field("channels"))
+            })
+            .collect::<Result<_>>()?;
+        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        analyse::analyse_wav(
+            wav,
+            file,
+            &specs,
+            avg,
+            job,
+            &name,
+            &prov,
+            cx.limits,
+            &mut |_, _| {},
+        )
+    } else {
+        if channels.is_some() {
+            return Err(Error::recipe(
+                "'channels' describes WAV channels; a UFF file's time histories carry their DOFs and units",
+            )
+            .field("channels"));
+        }
+        let loaded = io::load_with_limits(&bytes, file, &ImportOptions::default(), cx.limits)?;
+        prov.format = loaded.format.name().to_string();
+        let rec = Recording::from_time_histories(file, &loaded.time_histories)?;
+        analyse::analyse_recording(&rec, avg, job, &name, &prov, cx.limits)
+    }
+}
+
+/// The first set as the step's result, the others (other quantities) as
+/// `ID/QUANTITY` extras; the notes in the report.
+fn output(cx: &Ctx, op: &str, a: Analysed) -> Result<StepOutput> {
+    let mut sets = a.sets.into_iter();
+    let Some(first) = sets.next() else {
+        return Err(Error::internal("an analysis without a set"));
+    };
+    for s in std::iter::once(&first).chain(sets.as_slice()) {
+        cx.check_set(&format!("'{}'", s.name), s.n_lines(), s.n_out(), s.n_in())?;
+    }
+    let extras: Vec<(String, FrfSet)> = sets.map(|s| (s.out_qty.name().to_string(), s)).collect();
+    let mut warnings = first.warnings.clone();
+    warnings.extend(a.notes);
+    let report = StepReport::new(cx.id, op, warnings);
+    Ok(StepOutput {
+        set: first,
+        extras,
+        report,
+    })
+}
+
+impl Operation for Spectrum {
+    const SUMMARY: &'static str = "spectra of recorded time data (Welch averages): psd, autopower, rms, peak or cross, the kind kept with the set; one set per quantity (others as ID/QUANTITY)";
+    const OPERANDS: &'static [Operand] = &[
+        req("file", FILE),
+        req("segment", SEGMENT),
+        opt("kind", "psd (default), autopower, rms, peak or cross"),
+        opt(
+            "reference",
+            "the channel DOF phases are measured against (rms, peak, cross)",
+        ),
+        opt("channels", CHANNELS),
+        opt("overlap", OVERLAP),
+        opt("window", WINDOW),
+        opt("detrend", DETREND),
+    ];
+    fn reads(&self) -> Vec<&str> {
+        Vec::new()
+    }
+    fn run(&self, cx: &Ctx) -> Result<StepOutput> {
+        let kind = match self.kind.as_deref().map(|k| k.trim().to_ascii_lowercase()) {
+            None => SignalKind::Psd,
+            Some(k) => match k.as_str() {
+                "psd" => SignalKind::Psd,
+                "autopower" => SignalKind::Autopower,
+                "rms" => SignalKind::Rms,
+                "peak" => SignalKind::Peak,
+                "cross" => SignalKind::Cross,
+                _ => {
+                    return Err(Error::recipe(format!(
+                        "unknown kind '{}'; expected psd, autopower, rms, peak or cross",
+                        crate::error::quote(&k)
+                    ))
+                    .field("kind"))
+                }
+            },
+        };
+        let reference = self
+            .reference
+            .as_deref()
+            .map(|r| dof(r, "reference"))
+            .transpose()?;
+        if reference.is_some() && matches!(kind, SignalKind::Psd | SignalKind::Autopower) {
+            return Err(Error::recipe(format!(
+                "'reference' applies to rms, peak and cross spectra; {} has no phase",
+                kind.name()
+            ))
+            .field("reference"));
+        }
+        let avg = averaging(
+            self.segment,
+            self.overlap,
+            self.window.as_deref(),
+            self.detrend.as_deref(),
+        )?;
+        let a = analyse_file(
+            cx,
+            &self.file,
+            self.channels.as_deref(),
+            &avg,
+            &Job::Spectrum { kind, reference },
+        )?;
+        output(cx, "spectrum", a)
+    }
+}
+
+impl Operation for EstimateFrf {
+    const SUMMARY: &'static str = "FRFs with coherence from force and response channels of recorded time data: H1 (default), H2 (one input) or Hv; several inputs through their cross-spectral matrix; one set per response quantity (others as ID/QUANTITY)";
+    const OPERANDS: &'static [Operand] = &[
+        req("file", FILE),
+        req(
+            "inputs",
+            "the input (force) channel DOFs; every other channel is a response",
+        ),
+        req("segment", SEGMENT),
+        opt("estimator", "h1 (default), h2 or hv"),
+        opt("channels", CHANNELS),
+        opt("overlap", OVERLAP),
+        opt("window", WINDOW),
+        opt("detrend", DETREND),
+    ];
+    fn reads(&self) -> Vec<&str> {
+        Vec::new()
+    }
+    fn run(&self, cx: &Ctx) -> Result<StepOutput> {
+        let inputs: Vec<Dof> = self
+            .inputs
+            .iter()
+            .map(|t| dof(t, "inputs"))
+            .collect::<Result<_>>()?;
+        let estimator = match &self.estimator {
+            Some(e) => {
+                Estimator::parse(e).map_err(|e| Error::recipe(e.message).field("estimator"))?
+            }
+            None => Estimator::H1,
+        };
+        let avg = averaging(
+            self.segment,
+            self.overlap,
+            self.window.as_deref(),
+            self.detrend.as_deref(),
+        )?;
+        let a = analyse_file(
+            cx,
+            &self.file,
+            self.channels.as_deref(),
+            &avg,
+            &Job::Frf { inputs, estimator },
+        )?;
+        output(cx, "estimate-frf", a)
+    }
+}
