@@ -405,7 +405,7 @@ mod tests {
 
     #[test]
     fn reads_what_listen_writes() {
-        let w = crate::listen::wav::float_wav(8000, &[0.0, 0.5, -0.25]);
+        let w = crate::listen::float_wav(8000, &[0.0, 0.5, -0.25]);
         let mut r = WavReader::new(std::io::Cursor::new(w), "t.wav").unwrap();
         assert_eq!(r.info.channels, 1);
         assert_eq!(r.info.frames, 3);
