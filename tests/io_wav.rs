@@ -81,6 +81,10 @@ fn pcm16() -> Vec<u8> {
     b
 }
 
+/// A named change of the canonical file, the byte its error must name and a
+/// text it must contain.
+type Case = (&'static str, Box<dyn Fn(&mut Vec<u8>)>, usize, &'static str);
+
 fn refused(bytes: Vec<u8>) -> mortise::error::Error {
     match WavReader::new(Cursor::new(bytes), "bad.wav") {
         Err(e) => e,
@@ -99,7 +103,7 @@ fn bad_headers_are_refused_at_their_byte() {
             vec![0.5, 32767.0 / 32768.0, -1.0 / 32768.0, -1.0]
         ]
     );
-    let cases: Vec<(&str, Box<dyn Fn(&mut Vec<u8>)>, usize, &str)> = vec![
+    let cases: Vec<Case> = vec![
         ("fmt size 12", Box::new(|b| b[16] = 12), 16, "expected 16"),
         ("0 channels", Box::new(|b| b[22] = 0), 22, "0 channels"),
         (

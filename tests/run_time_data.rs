@@ -54,16 +54,16 @@ fn recipe_estimates_frfs_and_spectra_that_predict_the_coherent_response() {
     let coh = frf.coherence.as_ref().unwrap();
     let mut worst = 0.0f64;
     let scale = m.column(0, 0).iter().fold(0.0f64, |a, v| a.max(v.re));
-    for k in 0..frf.n_lines() {
-        let coherent = coh[k] * m.get(k, 0, 0).re;
+    for (k, g) in coh.iter().enumerate() {
+        let coherent = g * m.get(k, 0, 0).re;
         worst = worst.max((y.get(k, 0, 0).re - coherent).abs() / scale);
     }
     println!("predicted PSD against γ²·measured PSD: {worst:e} of the largest");
     assert!(worst <= 1e-10);
     // the WAV's Hv lies within a few per cent of the UFF's H1 where the
     // coherence is high (the same signals, quantized to 32 bits)
-    for k in 0..frf.n_lines() {
-        if coh[k] > 0.99 {
+    for (k, g) in coh.iter().enumerate() {
+        if *g > 0.99 {
             let r = (wav.get(k, 0, 0) - frf.get(k, 0, 0)).norm() / frf.get(k, 0, 0).norm();
             assert!(r < 0.02, "{} Hz: {r}", frf.freqs[k]);
         }

@@ -57,8 +57,7 @@ fn est(
     x: &[Vec<f64>],
     len: usize,
     chans: &[Channel],
-    inputs: &[usize],
-    outputs: &[usize],
+    (inputs, outputs): (&[usize], &[usize]),
     e: Estimator,
     fs: f64,
     seg: usize,
@@ -91,9 +90,9 @@ fn single_input_estimators_against_scipy_and_theory() {
         .map(|v| v.as_f64().unwrap())
         .collect();
 
-    let (h1, nd) = est(&x, n, &chans, &[0], &[1], Estimator::H1, fs, seg);
-    let (h2, _) = est(&x, n, &chans, &[0], &[1], Estimator::H2, fs, seg);
-    let (hv, _) = est(&x, n, &chans, &[0], &[1], Estimator::Hv, fs, seg);
+    let (h1, nd) = est(&x, n, &chans, (&[0], &[1]), Estimator::H1, fs, seg);
+    let (h2, _) = est(&x, n, &chans, (&[0], &[1]), Estimator::H2, fs, seg);
+    let (hv, _) = est(&x, n, &chans, (&[0], &[1]), Estimator::Hv, fs, seg);
     assert_eq!(h1.freqs, freqs);
     assert_eq!(h1.kind(), mortise::frf::FrfKind::Accelerance);
     // the same spectra as scipy.signal.csd / welch: H1 = G_fy/G_ff, the
@@ -154,7 +153,7 @@ fn single_input_estimators_against_scipy_and_theory() {
     // Bendat & Piersol 2010, table 9.6)
     let mut last = f64::INFINITY;
     for len in [seg * 6, seg * 25, n] {
-        let (h, nd) = est(&x, len, &chans, &[0], &[1], Estimator::H1, fs, seg);
+        let (h, nd) = est(&x, len, &chans, (&[0], &[1]), Estimator::H1, fs, seg);
         let (mut err, mut theory) = (0.0, 0.0);
         for &k in &band {
             err += ((h.get(k, 0, 0) - truth[k]).norm() / truth[k].norm()).powi(2);
@@ -186,7 +185,7 @@ fn two_inputs_against_numpy_and_the_true_frfs() {
         channel("s:3+Z", Quantity::Acceleration),
         channel("s:4+Z", Quantity::Acceleration),
     ];
-    let (h, _) = est(&x, n, &chans, &[0, 1], &[2, 3], Estimator::H1, fs, seg);
+    let (h, _) = est(&x, n, &chans, (&[0, 1], &[2, 3]), Estimator::H1, fs, seg);
     assert_eq!(h.n_out(), 2);
     assert_eq!(h.n_in(), 2);
     let lines = h.n_lines();
