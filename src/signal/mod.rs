@@ -8,11 +8,14 @@
 //! - `frf_estimate.rs`: H1, H2, Hv with ordinary and multiple coherence;
 //! - `analyse.rs`: one analysis for the CLI and recipes (channels picked and
 //!   calibrated, a WAV file streamed, spectra or FRFs made);
+//! - `impact.rs`: triggered impact records (pre-trigger, double hits,
+//!   overloads) and FRFs averaged over the accepted ones;
 //! - `recording.rs`: channels in SI from a UFF file's time histories, a WAV
 //!   file or a CSV time column, with each channel's DOF and quantity.
 
 pub mod analyse;
 pub mod frf_estimate;
+pub mod impact;
 pub mod recording;
 pub mod spectra;
 pub mod welch;
