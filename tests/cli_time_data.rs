@@ -184,3 +184,74 @@ fn time_data_mistakes_are_refused_with_reasons() {
         assert!(e.to_string().contains(text), "{a:?}: {e}");
     }
 }
+
+#[test]
+fn estimate_from_a_hammer_test_wav() {
+    let dir = common::scratch("cli_time_data_impact");
+    let d = dir.to_str().unwrap();
+    let r: serde_json::Value =
+        serde_json::from_str(&common::run_py("impact_test.py", &[d])).unwrap();
+    let wav = format!("{d}/impact.wav");
+    let out = format!("{d}/impact-frf.csv");
+    let resp = format!("2=beam:7+Z acceleration {} m/s^2", r["resp_full"]);
+    let base = [
+        "estimate",
+        &wav,
+        "-o",
+        &out,
+        "--input",
+        "beam:1+Z",
+        "--channel",
+        "1=beam:1+Z force 200 N",
+        "--channel",
+        &resp,
+    ];
+    let mut a = argv(&base);
+    a.extend(argv(&[
+        "--trigger",
+        "20",
+        "--record-length",
+        "1.5",
+        "--pre-trigger",
+        "0.01",
+        "--force-width",
+        "0.02",
+        "--decay",
+        "0.3",
+        "--json",
+    ]));
+    let v: serde_json::Value = serde_json::from_str(&run_cli(&a).unwrap()).unwrap();
+    assert_eq!(v["hits"].as_array().unwrap().len(), 9, "{v}");
+    assert_eq!(v["segments"], r["used"]);
+    let notes = v["notes"].to_string();
+    assert!(
+        notes.contains("double hit") && notes.contains("overload on beam:7+Z"),
+        "{notes}"
+    );
+    let h = &load(std::path::Path::new(&out))[0];
+    let re: Vec<f64> = h.column(0, 0).iter().map(|c| c.re).collect();
+    let im: Vec<f64> = h.column(0, 0).iter().map(|c| c.im).collect();
+    let e = max_rel(&re, &arr(&r["h1"]["re"])).max(max_rel(&im, &arr(&r["h1"]["im"])));
+    println!("impact WAV through the command line: H1 {e:e} against numpy");
+    assert!(e <= 1e-10);
+    // Welch options with --trigger, impact options without it
+    let mut a = argv(&base);
+    a.extend(argv(&[
+        "--trigger",
+        "20",
+        "--record-length",
+        "1",
+        "--window",
+        "hann",
+    ]));
+    assert!(run_cli(&a)
+        .unwrap_err()
+        .to_string()
+        .contains("does not use"));
+    let mut a = argv(&base);
+    a.extend(argv(&["--decay", "0.3"]));
+    assert!(run_cli(&a)
+        .unwrap_err()
+        .to_string()
+        .contains("give --trigger"));
+}

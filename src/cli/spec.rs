@@ -738,6 +738,48 @@ const TIME_GROUP: Group = Group {
     ],
 };
 
+/// Triggered impact records, for `estimate`.
+const IMPACT_GROUP: Group = Group {
+    title: "impact test (with --trigger: one record per hit instead of Welch segments; --segment, \
+            --overlap, --window and --detrend are then refused)",
+    opts: &[
+        val(
+            "trigger",
+            "LEVEL",
+            "trigger level on the force channel (the one --input), in SI (N): a hit starts where \
+             |force| first reaches it after the previous record",
+        ),
+        val(
+            "record-length",
+            "S",
+            "seconds per record (required with --trigger; lines every 1/S Hz)",
+        ),
+        val(
+            "pre-trigger",
+            "S",
+            "seconds kept before the trigger (default 0.01)",
+        ),
+        val(
+            "double-hit",
+            "F",
+            "a second pulse reaching F times the peak within the record flags a double hit; the \
+             record is left out (default 0.1)",
+        ),
+        val(
+            "force-width",
+            "S",
+            "force window: the force channel kept for S seconds from the record start, 0 after \
+             (default: kept whole)",
+        ),
+        val(
+            "decay",
+            "S",
+            "exponential window exp(-t/S) on every channel (adds 1/S to every mode's decay rate) \
+             (default: none)",
+        ),
+    ],
+};
+
 pub const SPECTRUM: Command = Command {
     name: "spectrum",
     summary: "spectra (PSD, autopower, linear, cross) of recorded time data (WAV, UFF 58 time responses)",
@@ -789,7 +831,10 @@ pub const ESTIMATE: Command = Command {
             response, which with one input is the ordinary coherence. H1 (default) is \
             unbiased by noise on the responses, H2 (one input only) by noise on the input, Hv \
             (total least squares) lies between them. Several inputs need their cross-spectral \
-            matrix regular at every line (not fully correlated); 0 Hz is left out.",
+            matrix regular at every line (not fully correlated); 0 Hz is left out.\n\n\
+            With --trigger, a hammer test: each hit on the force channel gives one record \
+            (pre-trigger, length, force and exponential windows); records with a double hit or an \
+            overload (a WAV channel within 0.1 % of its full scale) are left out and listed.",
     groups: &[
         Group {
             title: "options",
@@ -802,6 +847,7 @@ pub const ESTIMATE: Command = Command {
             ],
         },
         TIME_GROUP,
+        IMPACT_GROUP,
         LIMITS_GROUP,
         FILES_GROUP,
     ],

@@ -7,6 +7,7 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance, SignalKind};
 use crate::io::{self, ExportFormat, ImportOptions};
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
+use crate::signal::impact::ImpactSettings;
 use crate::signal::{Detrend, Estimator, Recording, Window};
 use std::io::{BufReader, Read};
 use std::path::Path;
@@ -46,6 +47,56 @@ fn averaging(args: &Args) -> Result<Averaging> {
         window,
         detrend,
     })
+}
+
+fn seconds(args: &Args, name: &str) -> Result<Option<f64>> {
+    args.value(name)
+        .map(|v| {
+            v.trim()
+                .parse::<f64>()
+                .map_err(|_| Error::usage(format!("--{name} '{}': expected a number", quote(v))))
+        })
+        .transpose()
+}
+
+/// The impact options, when --trigger is given (and refused without it).
+fn impact_settings(args: &Args) -> Result<Option<ImpactSettings>> {
+    let impact_opts = [
+        "record-length",
+        "pre-trigger",
+        "double-hit",
+        "force-width",
+        "decay",
+    ];
+    let Some(level) = seconds(args, "trigger")? else {
+        if let Some(o) = impact_opts.iter().find(|o| args.value(o).is_some()) {
+            return Err(Error::usage(format!(
+                "--{o} applies to an impact test: give --trigger LEVEL"
+            )));
+        }
+        return Ok(None);
+    };
+    if let Some(o) = ["segment", "overlap", "window", "detrend"]
+        .iter()
+        .find(|o| args.value(o).is_some())
+    {
+        return Err(Error::usage(format!(
+            "--{o} sets Welch averaging, which an impact test (--trigger) does not use: each hit is one record (--record-length, --force-width, --decay)"
+        )));
+    }
+    let Some(length_s) = seconds(args, "record-length")? else {
+        return Err(Error::usage(
+            "an impact test (--trigger) needs --record-length S",
+        ));
+    };
+    Ok(Some(ImpactSettings {
+        level,
+        pre_trigger_s: seconds(args, "pre-trigger")?.unwrap_or(0.01),
+        length_s,
+        double_hit_fraction: seconds(args, "double-hit")?.unwrap_or(0.1),
+        force_width_s: seconds(args, "force-width")?,
+        decay_s: seconds(args, "decay")?,
+    }))
 }
 
 fn dof(text: &str, option: &str) -> Result<Dof> {
@@ -93,7 +144,22 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
             Some(e) => Estimator::parse(e)
                 .map_err(|e| Error::usage(format!("--estimator: {}", e.message)))?,
         };
-        Job::Frf { inputs, estimator }
+        match impact_settings(args)? {
+            None => Job::Frf { inputs, estimator },
+            Some(settings) => {
+                let [input] = inputs.as_slice() else {
+                    return Err(Error::usage(format!(
+                        "an impact test (--trigger) takes one --input, the hammer's force channel; {} were given",
+                        inputs.len()
+                    )));
+                };
+                Job::Impact {
+                    input: input.clone(),
+                    settings,
+                    estimator,
+                }
+            }
+        }
     } else {
         let kind = match args.value("kind").map(|k| k.trim().to_ascii_lowercase()) {
             None => SignalKind::Psd,
@@ -212,37 +278,62 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
             })
         })
         .collect();
+    let impact = matches!(job, Job::Impact { .. });
     if args.flag("json") {
-        return Ok(Done::json(serde_json::json!({
+        let mut v = serde_json::json!({
             "file": out,
             "sets": sets,
             "sample_rate_hz": result.fs,
             "samples": result.samples,
             "segment": result.settings.segment,
-            "overlap": result.settings.overlap,
-            "window": result.settings.window.label(),
-            "detrend": result.settings.detrend.name(),
             "segments": result.segments,
-            "coherent_gain": result.coherent_gain,
-            "enbw_bins": result.enbw_bins,
             "notes": result.notes,
-        })));
+        });
+        if impact {
+            v["hits"] =
+                serde_json::to_value(&result.hits).map_err(|e| super::internal(e.to_string()))?;
+            v["provenance"] = result
+                .sets
+                .first()
+                .map(|s| s.provenance[0].options.clone())
+                .into();
+        } else {
+            v["overlap"] = result.settings.overlap.into();
+            v["window"] = result.settings.window.label().into();
+            v["detrend"] = result.settings.detrend.name().into();
+            v["coherent_gain"] = result.coherent_gain.into();
+            v["enbw_bins"] = result.enbw_bins.into();
+        }
+        return Ok(Done::json(v));
     }
     let mut s = format!(
-        "wrote {out}: {} set(s) from {} channel(s) of {shown}, {} samples at {} Hz\n  {} segments of {} samples ({} Hz lines), overlap {}, window {} (coherent gain {:.6}, ENBW {:.4} bins), detrend {}\n",
+        "wrote {out}: {} set(s) from {} channel(s) of {shown}, {} samples at {} Hz\n",
         result.sets.len(),
         result.channels.len(),
         result.samples,
         result.fs,
-        result.segments,
-        result.settings.segment,
-        result.fs / result.settings.segment as f64,
-        result.settings.overlap,
-        result.settings.window.label(),
-        result.coherent_gain,
-        result.enbw_bins,
-        result.settings.detrend.name()
     );
+    if impact {
+        s.push_str(&format!(
+            "  {} hit(s), {} averaged, records of {} samples ({} Hz lines)\n",
+            result.hits.len(),
+            result.segments,
+            result.settings.segment,
+            result.fs / result.settings.segment as f64,
+        ));
+    } else {
+        s.push_str(&format!(
+            "  {} segments of {} samples ({} Hz lines), overlap {}, window {} (coherent gain {:.6}, ENBW {:.4} bins), detrend {}\n",
+            result.segments,
+            result.settings.segment,
+            result.fs / result.settings.segment as f64,
+            result.settings.overlap,
+            result.settings.window.label(),
+            result.coherent_gain,
+            result.enbw_bins,
+            result.settings.detrend.name()
+        ));
+    }
     for set in &result.sets {
         let what = set
             .signal

@@ -3,6 +3,7 @@
 //! blocks), then spectrum sets or FRF estimates.
 
 use super::frf_estimate::{estimate, Estimator};
+use super::impact::{impact_frf, Hit, ImpactSettings};
 use super::recording::Recording;
 use super::spectra::spectrum_sets;
 use super::welch::{Averaged, Detrend, Welch, WelchSettings};
@@ -126,6 +127,13 @@ pub enum Job {
         inputs: Vec<Dof>,
         estimator: Estimator,
     },
+    /// FRFs from triggered impact records on the force channel `input`
+    /// (the averaging settings do not apply: each record is one segment).
+    Impact {
+        input: Dof,
+        settings: ImpactSettings,
+        estimator: Estimator,
+    },
 }
 
 /// The result.
@@ -140,6 +148,8 @@ pub struct Analysed {
     pub coherent_gain: f64,
     pub enbw_bins: f64,
     pub notes: Vec<String>,
+    /// The hits of an impact job (empty otherwise).
+    pub hits: Vec<Hit>,
 }
 
 fn find(channels: &[Channel], dof: &Dof, what: &str) -> Result<usize> {
@@ -165,6 +175,7 @@ fn refs_of(channels: &[Channel], job: &Job) -> Result<Vec<usize>> {
         Job::Spectrum {
             reference: None, ..
         } => Vec::new(),
+        Job::Impact { input, .. } => vec![find(channels, input, "input")?],
         Job::Frf { inputs, .. } => {
             let mut v = Vec::new();
             for d in inputs {
@@ -226,6 +237,7 @@ fn finish(
         Job::Spectrum { kind, .. } => {
             spectrum_sets(&a, &channels, *kind, refs.first().copied(), name, prov)?
         }
+        Job::Impact { .. } => return Err(Error::internal("impact records are not Welch averages")),
         Job::Frf { estimator, .. } => {
             let outputs: Vec<usize> = (0..channels.len()).filter(|c| !refs.contains(c)).collect();
             estimate(&a, &channels, refs, &outputs, *estimator, name, prov)?
@@ -241,6 +253,7 @@ fn finish(
         coherent_gain: a.window.coherent_gain,
         enbw_bins: a.window.enbw_bins,
         notes,
+        hits: Vec::new(),
     })
 }
 
@@ -331,8 +344,33 @@ pub fn analyse_wav<R: Read>(
             unused.join(", ")
         ));
     }
-    let settings = averaging.settings()?;
     let fs = info.sample_rate as f64;
+    if let Job::Impact { .. } = job {
+        // records need the whole recording: held in memory, within the budget
+        let values = info.frames.checked_mul(channels.len() as u64);
+        limits
+            .check_bytes(
+                "the recording held for impact records (8 bytes a sample)",
+                values.and_then(|v| v.checked_mul(8)),
+            )
+            .map_err(|e| e.in_file(file))?;
+        let raw = wav.read_all()?;
+        let rec = Recording {
+            fs,
+            channels: channels.clone(),
+            samples: picks
+                .iter()
+                .map(|&(c, f)| raw[c].iter().map(|v| v * f).collect())
+                .collect(),
+        };
+        drop(raw);
+        // a channel reaching 0.999 of its full scale is overloaded
+        let over: Vec<Option<f64>> = picks.iter().map(|&(_, f)| Some(0.999 * f)).collect();
+        let mut a = impacts(&rec, &over, job, name, prov, limits)?;
+        a.notes.extend(notes);
+        return Ok(a);
+    }
+    let settings = averaging.settings()?;
     let refs = refs_of(&channels, job)?;
     check_sizes(&channels, &refs, &settings, info.frames, fs, limits)
         .map_err(|e| e.in_file(file))?;
@@ -357,4 +395,56 @@ pub fn analyse_wav<R: Read>(
     }
     let a = welch.finish().map_err(|e| e.in_file(file))?;
     finish(a, channels, &refs, job, name, prov, notes)
+}
+
+/// An impact job on a recording in memory.
+fn impacts(
+    rec: &Recording,
+    over: &[Option<f64>],
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    limits: &Limits,
+) -> Result<Analysed> {
+    let Job::Impact {
+        input,
+        settings,
+        estimator,
+    } = job
+    else {
+        return Err(Error::internal("not an impact job"));
+    };
+    let i = find(&rec.channels, input, "input")?;
+    let len = (settings.length_s * rec.fs).round();
+    if !(len.is_finite() && len <= rec.len() as f64) {
+        return Err(Error::usage(format!(
+            "the record length {} s is longer than the recording ({} s)",
+            settings.length_s,
+            rec.len() as f64 / rec.fs
+        ))
+        .field("record length"));
+    }
+    limits.check_set("the FRFs", len as usize / 2 + 1, rec.channels.len(), 1)?;
+    let (sets, hits, notes) = impact_frf(rec, i, over, settings, *estimator, name, prov)?;
+    let segments = hits
+        .iter()
+        .filter(|h| h.double_hit.is_none() && h.overloaded.is_empty())
+        .count();
+    Ok(Analysed {
+        sets,
+        channels: rec.channels.clone(),
+        fs: rec.fs,
+        samples: rec.len(),
+        segments,
+        settings: WelchSettings {
+            segment: len as usize,
+            overlap: 0,
+            window: Window::Rectangular,
+            detrend: Detrend::None,
+        },
+        coherent_gain: 1.0,
+        enbw_bins: 1.0,
+        notes,
+        hits,
+    })
 }

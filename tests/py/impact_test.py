@@ -13,7 +13,8 @@ in the record), then numpy's rfft of each accepted record (force times the
 force window times the exponential window, response times the exponential
 window): H1 = sum conj(F) X / sum |F|^2, coherence, and the exact FRF
 (scipy.signal.freqz). Writes OUT/impact.bin (force, response float64 LE) and
-prints JSON. Usage: impact_test.py OUT"""
+prints JSON; OUT/impact.wav holds the same samples as float64 at stated full
+scales. Usage: impact_test.py OUT"""
 import json
 import sys
 
@@ -40,6 +41,11 @@ f += 0.05 * rng.standard_normal(n)
 x += 1e-3 * rng.standard_normal(n)
 np.vstack([f, x]).astype("<f8").tofile(out + "/impact.bin")
 limit = 0.9 * np.abs(x).max()
+# the same as a float64 WAV for the command line: force at full scale 200 N,
+# response at full scale limit/0.999 (mortise flags 0.999 of full scale)
+resp_full = limit / 0.999
+from scipy.io import wavfile  # noqa: E402
+wavfile.write(out + "/impact.wav", int(fs), np.vstack([f / 200.0, x / resp_full]).T)
 
 level, pre_s, length_s, frac, width, tau = 20.0, 0.01, 1.5, 0.1, 0.02, 0.3
 L = int(round(length_s * fs))
@@ -80,5 +86,5 @@ coh = np.abs(sfx) ** 2 / (sff * sxx)
 fr = np.fft.rfftfreq(L, 1 / fs)
 _, ht = signal.freqz(b, a, worN=fr, fs=fs)
 c = lambda z: {"re": np.real(z[1:]).tolist(), "im": np.imag(z[1:]).tolist()}
-print(json.dumps({"fs": fs, "n": n, "limit": limit, "hits": found, "used": len(used),
+print(json.dumps({"fs": fs, "n": n, "limit": limit, "resp_full": resp_full, "hits": found, "used": len(used),
                   "freqs": fr[1:].tolist(), "h1": c(h1), "coherence": coh[1:].tolist(), "true": c(ht)}))
