@@ -72,3 +72,62 @@ fn recipe_estimates_frfs_and_spectra_that_predict_the_coherent_response() {
         serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
     assert!(report.to_string().contains("estimate-frf"));
 }
+
+#[test]
+fn recipe_estimates_frfs_from_a_hammer_test() {
+    let dir = common::scratch("run_time_data_impact");
+    let r: serde_json::Value =
+        serde_json::from_str(&common::run_py("impact_test.py", &[dir.to_str().unwrap()])).unwrap();
+    let recipe = format!(
+        r#"{{"format": "mortise-recipe", "version": 1, "components": {{}},
+  "steps": [{{"id": "beam", "op": "estimate-frf", "file": "impact.wav", "inputs": ["beam:1+Z"],
+    "channels": ["1=beam:1+Z force 200 N", "2=beam:7+Z acceleration {} m/s^2"],
+    "impact": {{"trigger": 20, "record_length": 1.5, "force_width": 0.02, "decay": 0.3}}}}],
+  "outputs": ["beam"]}}"#,
+        r["resp_full"]
+    );
+    std::fs::write(dir.join("hammer.recipe.json"), &recipe).unwrap();
+    let out = dir.join("out");
+    mortise::cli::run_cli(&[
+        "run".into(),
+        dir.join("hammer.recipe.json").to_str().unwrap().into(),
+        "-o".into(),
+        out.to_str().unwrap().into(),
+    ])
+    .unwrap();
+    let h = load(&out.join("beam.csv"));
+    let re = r["h1"]["re"].as_array().unwrap();
+    let im = r["h1"]["im"].as_array().unwrap();
+    let want: Vec<num_complex::Complex64> = re
+        .iter()
+        .zip(im)
+        .map(|(a, b)| num_complex::Complex64::new(a.as_f64().unwrap(), b.as_f64().unwrap()))
+        .collect();
+    let scale = want.iter().fold(0.0f64, |m, v| m.max(v.norm()));
+    let e = h
+        .column(0, 0)
+        .iter()
+        .zip(&want)
+        .fold(0.0f64, |m, (a, b)| m.max((a - b).norm()))
+        / scale;
+    assert!(e <= 1e-10, "{e:e}");
+    let report = std::fs::read_to_string(out.join("report.json")).unwrap();
+    assert!(
+        report.contains("double hit") && report.contains("overload"),
+        "{report}"
+    );
+    // Welch operands beside 'impact' are refused, naming the operand
+    let bad = recipe.replace("\"inputs\"", "\"segment\": 1024, \"inputs\"");
+    std::fs::write(dir.join("bad.recipe.json"), bad).unwrap();
+    let e = mortise::cli::run_cli(&[
+        "run".into(),
+        dir.join("bad.recipe.json").to_str().unwrap().into(),
+        "-o".into(),
+        dir.join("out2").to_str().unwrap().into(),
+    ])
+    .unwrap_err();
+    assert!(
+        e.to_string().contains("segment") && e.to_string().contains("impact"),
+        "{e}"
+    );
+}

@@ -9,6 +9,7 @@ use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
 use crate::io::{self, ImportOptions};
 use crate::recipe::report::StepReport;
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
+use crate::signal::impact::ImpactSettings;
 use crate::signal::{Detrend, Estimator, Recording, Window};
 use serde::{Deserialize, Serialize};
 
@@ -42,13 +43,32 @@ pub struct EstimateFrf {
     pub estimator: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub channels: Option<Vec<String>>,
-    pub segment: usize,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub segment: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub impact: Option<Impact>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub overlap: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub window: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub detrend: Option<String>,
+}
+
+/// A hammer test's records (see `signal::impact`), in seconds and SI.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Impact {
+    pub trigger: f64,
+    pub record_length: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pre_trigger: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub double_hit: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub force_width: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub decay: Option<f64>,
 }
 
 const FILE: &str =
@@ -251,19 +271,71 @@ impl Operation for EstimateFrf {
             }
             None => Estimator::H1,
         };
-        let avg = averaging(
-            self.segment,
-            self.overlap,
-            self.window.as_deref(),
-            self.detrend.as_deref(),
-        )?;
-        let a = analyse_file(
-            cx,
-            &self.file,
-            self.channels.as_deref(),
-            &avg,
-            &Job::Frf { inputs, estimator },
-        )?;
+        let (avg, job) = match &self.impact {
+            None => {
+                let Some(segment) = self.segment else {
+                    return Err(Error::recipe(
+                        "'segment' is needed (or 'impact' for a hammer test)",
+                    )
+                    .field("segment"));
+                };
+                let avg = averaging(
+                    segment,
+                    self.overlap,
+                    self.window.as_deref(),
+                    self.detrend.as_deref(),
+                )?;
+                (avg, Job::Frf { inputs, estimator })
+            }
+            Some(i) => {
+                for (given, name) in [
+                    (self.segment.is_some(), "segment"),
+                    (self.overlap.is_some(), "overlap"),
+                    (self.window.is_some(), "window"),
+                    (self.detrend.is_some(), "detrend"),
+                ] {
+                    if given {
+                        return Err(Error::recipe(format!(
+                            "'{name}' sets Welch averaging, which 'impact' does not use (each hit is one record)"
+                        ))
+                        .field(name));
+                    }
+                }
+                let [input] = inputs.as_slice() else {
+                    return Err(Error::recipe(format!(
+                        "'impact' takes one input, the hammer's force channel; {} were given",
+                        inputs.len()
+                    ))
+                    .field("inputs"));
+                };
+                let settings = ImpactSettings {
+                    level: i.trigger,
+                    pre_trigger_s: i.pre_trigger.unwrap_or(0.01),
+                    length_s: i.record_length,
+                    double_hit_fraction: i.double_hit.unwrap_or(0.1),
+                    force_width_s: i.force_width,
+                    decay_s: i.decay,
+                };
+                // the averaging is not used by an impact job
+                let avg = averaging(2, None, None, None)?;
+                (
+                    avg,
+                    Job::Impact {
+                        input: input.clone(),
+                        settings,
+                        estimator,
+                    },
+                )
+            }
+        };
+        let a =
+            analyse_file(cx, &self.file, self.channels.as_deref(), &avg, &job).map_err(|e| {
+                if matches!(job, Job::Impact { .. }) && e.field.is_none() {
+                    e.field("impact")
+                } else {
+                    e
+                }
+            })?;
         output(cx, "estimate-frf", a)
     }
 }
