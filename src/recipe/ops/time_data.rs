@@ -249,7 +249,14 @@ impl Operation for EstimateFrf {
             "inputs",
             "the input (force) channel DOFs; every other channel is a response",
         ),
-        req("segment", SEGMENT),
+        opt(
+            "segment",
+            "samples per segment (the FFT length; lines every fs/N Hz); required without 'impact'",
+        ),
+        opt(
+            "impact",
+            "a hammer test instead of Welch segments: {\"trigger\": level in N, \"record_length\": s, \"pre_trigger\": s (0.01), \"double_hit\": fraction of the peak (0.1), \"force_width\": s, \"decay\": s}; one input; records with a double hit or an overload are left out",
+        ),
         opt("estimator", "h1 (default), h2 or hv"),
         opt("channels", CHANNELS),
         opt("overlap", OVERLAP),
