@@ -1,5 +1,5 @@
-//! `mortise spectrum` and `mortise estimate` on a WAV file (scipy.io.wavfile)
-//! and a UFF file of time responses (pyuff) against scipy.signal on the
+//! `mortise spectrum` and `mortise estimate` on a WAV file (scipy.io.wavfile),
+//! a UFF file of time responses (pyuff) and a time CSV against scipy.signal on the
 //! samples as those libraries read them back (tests/py/time_files.py).
 
 mod common;
@@ -37,7 +37,7 @@ fn max_rel(a: &[f64], b: &[f64]) -> f64 {
 }
 
 #[test]
-fn estimate_and_spectrum_equal_scipy_on_wav_and_uff() {
+fn estimate_and_spectrum_equal_scipy_on_wav_uff_and_csv() {
     let dir = common::scratch("cli_time_data");
     let d = dir.to_str().unwrap();
     let r: serde_json::Value =
@@ -51,7 +51,12 @@ fn estimate_and_spectrum_equal_scipy_on_wav_and_uff() {
         "2=rig:2+Z acceleration 50 m/s^2",
     ];
     let common_opts = ["--segment", "1024", "--overlap", "0.5", "--window", "hann"];
-    for (src, file, extra) in [("wav", &wav, &chans[..]), ("uff", &uff, &[][..])] {
+    let csv = format!("{d}/rig.csv");
+    for (src, file, extra) in [
+        ("wav", &wav, &chans[..]),
+        ("uff", &uff, &[][..]),
+        ("csv", &csv, &[][..]),
+    ] {
         let out = dir.join(format!("{src}-h1.csv"));
         let mut a = argv(&[
             "estimate",
@@ -116,7 +121,14 @@ fn time_data_mistakes_are_refused_with_reasons() {
     let wav = format!("{d}/rig.wav");
     let uff = format!("{d}/rig.uff");
     let out = format!("{d}/x.csv");
+    let bad_time = format!("{d}/bad-time.csv");
+    std::fs::write(&bad_time, "time [s], a:1+Z [N]\n0, 1\n0.001, 2\n0.001, 3\n").unwrap();
     let cases: Vec<(Vec<&str>, &str)> = vec![
+        // a time column that is not increasing: named with its line
+        (
+            vec!["spectrum", &bad_time, "-o", &out],
+            "line 4: column 1: time 0.001 s does not exceed",
+        ),
         // a window (segment) longer than the record
         (
             vec!["spectrum", &uff, "-o", &out, "--segment", "100000"],

@@ -727,8 +727,8 @@ const TIME_GROUP: Group = Group {
             "'N=DOF QTY FS UNIT'",
             "a WAV channel to analyse: its number from 1, DOF, quantity, the value of full scale \
              (sample 1.0) and its unit, e.g. '1=rig:1+Z force 500 N'; required for WAV files \
-             (channels not described are left out, with a note), refused for UFF files, whose \
-             time histories carry their DOFs and units",
+             (channels not described are left out, with a note), refused for UFF and CSV \
+             files, whose channels carry their DOFs and units",
         ),
         val(
             "to",
@@ -782,12 +782,13 @@ const IMPACT_GROUP: Group = Group {
 
 pub const SPECTRUM: Command = Command {
     name: "spectrum",
-    summary: "spectra (PSD, autopower, linear, cross) of recorded time data (WAV, UFF 58 time responses)",
+    summary: "spectra (PSD, autopower, linear, cross) of recorded time data (WAV, UFF 58 time responses, time CSV)",
     usage: "mortise spectrum FILE -o OUT [--kind KIND] [--reference DOF] [time-data options] [--json]",
     about: "Reads FILE, a WAV recording (PCM 8/16/24/32-bit or float 32/64-bit, any number of \
             channels, read in blocks so its length is not bounded by memory; each channel \
-            described with --channel) or a UFF file of time responses (function type 1, all of \
-            one rate and length), averages each channel's spectrum over overlapping windowed \
+            described with --channel), a UFF file of time responses (function type 1, all of \
+            one rate and length) or a time CSV (header 'time [s], DOF [UNIT], ...', one row per \
+            sample, increasing even times), averages each channel's spectrum over overlapping windowed \
             segments (Welch) and writes the spectra as a spectrum set per quantity, ready for \
             'respond' and the other steps: the kind (autopower, PSD, RMS or peak line spectrum, \
             cross spectrum) is stored with the values, and the window, segment, overlap, \

@@ -5,10 +5,10 @@
 use super::{Args, Done};
 use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance, SignalKind};
-use crate::io::{self, ExportFormat, ImportOptions};
+use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
 use crate::signal::impact::ImpactSettings;
-use crate::signal::{Detrend, Estimator, Recording, Window};
+use crate::signal::{Detrend, Estimator, Window};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -237,18 +237,17 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         drop(file);
         if !specs.is_empty() {
             return Err(Error::usage(
-                "--channel describes WAV channels; a UFF file's time histories carry their DOFs and units",
+                "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
             )
             .in_file(path.as_str()));
         }
         let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
-        let loaded = io::load_with_limits(&bytes, &shown, &ImportOptions::default(), &limits)
+        let (rec, format) = analyse::recording_from_bytes(&bytes, &shown, &limits)
             .map_err(|e| e.in_file(path.as_str()))?;
-        let rec = Recording::from_time_histories(path, &loaded.time_histories)?;
         let prov = Provenance {
             file: shown.clone(),
             sha256: io::sha256_hex(&bytes),
-            format: loaded.format.name().to_string(),
+            format,
             options: String::new(),
         };
         analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(|e| {

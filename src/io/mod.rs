@@ -13,6 +13,7 @@ pub mod disk;
 pub mod mat;
 pub mod merge;
 pub mod nodes;
+pub mod time_csv;
 pub mod uff58;
 pub mod wav;
 

@@ -257,7 +257,28 @@ fn finish(
     })
 }
 
-/// A recording in memory (a UFF file's time histories).
+/// A file held in memory as a recording: a time CSV
+/// ([`crate::io::time_csv`]) or a UFF file's time histories; with the
+/// format's name.
+pub fn recording_from_bytes(
+    bytes: &[u8],
+    file: &str,
+    limits: &Limits,
+) -> Result<(Recording, String)> {
+    if crate::io::time_csv::looks_like_time_csv(bytes) {
+        let stem = crate::io::file_stem(file);
+        return Ok((
+            crate::io::time_csv::read(bytes, file, &stem)?,
+            "time-csv".into(),
+        ));
+    }
+    let loaded =
+        crate::io::load_with_limits(bytes, file, &crate::io::ImportOptions::default(), limits)?;
+    let rec = Recording::from_time_histories(file, &loaded.time_histories)?;
+    Ok((rec, loaded.format.name().to_string()))
+}
+
+/// A recording in memory (a UFF file's time histories, a time CSV).
 pub fn analyse_recording(
     rec: &Recording,
     averaging: &Averaging,

@@ -5,7 +5,8 @@ bilinear at fs = 2048 Hz); the response (m/s^2) gets white noise. Written as
   OUT/rig.wav: 32-bit PCM by scipy.io.wavfile, channel 1 force (full scale
     100 N), channel 2 response (full scale 50 m/s^2), channel 3 unused noise;
   OUT/rig.uff: two UFF 58 time responses (function type 1) by pyuff: node 1
-    +Z excitation force in N, node 2 +Z acceleration in m/s^2.
+    +Z excitation force in N, node 2 +Z acceleration in m/s^2;
+  OUT/rig.csv: the same as a time CSV (time [s], rig:1+Z [N], rig:2+Z [m/s^2]).
 Prints JSON with, for each file, the samples as read back (scipy.io.wavfile,
 pyuff) in SI and, from them, scipy.signal's H1 = csd(f, a) / welch(f),
 coherence and the response's PSD (hann, nperseg 1024, noverlap 512,
@@ -51,8 +52,15 @@ uff_si = np.vstack([np.real(np.asarray(s["data"], dtype=float)) for s in uback])
 # the file holds the time step to the digits pyuff writes: its rate is 1/step
 fs_uff = 1.0 / float(uback[0]["abscissa_inc"])
 
+# a time CSV with every value in its shortest exact text
+with open(f"{out}/rig.csv", "w") as fh:
+    fh.write("# bench recording\ntime [s], rig:1+Z [N], rig:2+Z [m/s^2]\n")
+    for i in range(n):
+        fh.write(f"{repr(i / fs)}, {repr(float(f[i]))}, {repr(float(acc[i]))}\n")
+csv_si = np.vstack([f, acc]).T
+
 res = {}
-for name, v, rate in (("wav", wav_si, fs), ("uff", uff_si, fs_uff)):
+for name, v, rate in (("wav", wav_si, fs), ("uff", uff_si, fs_uff), ("csv", csv_si, fs)):
     kw = dict(fs=rate, window="hann", nperseg=1024, noverlap=512, detrend="constant")
     fr, gff = signal.welch(v[:, 0], **kw)
     _, gaa = signal.welch(v[:, 1], **kw)

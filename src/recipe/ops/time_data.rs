@@ -6,11 +6,11 @@
 use super::{opt, req, Ctx, Operand, Operation, StepOutput};
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
-use crate::io::{self, ImportOptions};
+use crate::io;
 use crate::recipe::report::StepReport;
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
 use crate::signal::impact::ImpactSettings;
-use crate::signal::{Detrend, Estimator, Recording, Window};
+use crate::signal::{Detrend, Estimator, Window};
 use serde::{Deserialize, Serialize};
 
 /// Spectra of every channel of a recording.
@@ -71,8 +71,7 @@ pub struct Impact {
     pub decay: Option<f64>,
 }
 
-const FILE: &str =
-    "a WAV file, or a UFF file of time responses (function type 1), among the recipe's files";
+const FILE: &str = "a WAV file, a UFF file of time responses (function type 1) or a time CSV (time [s], DOF [UNIT], ...), among the recipe's files";
 const CHANNELS: &str = "WAV only, required there: each channel analysed as 'N=DOF QUANTITY FULL_SCALE UNIT', e.g. '1=rig:1+Z force 500 N'";
 const SEGMENT: &str = "samples per segment (the FFT length; lines every fs/N Hz)";
 const OVERLAP: &str = "fraction of a segment shared with the next, 0 to below 1 (default 0.5)";
@@ -144,13 +143,12 @@ fn analyse_file(
     } else {
         if channels.is_some() {
             return Err(Error::recipe(
-                "'channels' describes WAV channels; a UFF file's time histories carry their DOFs and units",
+                "'channels' describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
             )
             .field("channels"));
         }
-        let loaded = io::load_with_limits(&bytes, file, &ImportOptions::default(), cx.limits)?;
-        prov.format = loaded.format.name().to_string();
-        let rec = Recording::from_time_histories(file, &loaded.time_histories)?;
+        let (rec, format) = analyse::recording_from_bytes(&bytes, file, cx.limits)?;
+        prov.format = format;
         analyse::analyse_recording(&rec, avg, job, &name, &prov, cx.limits)
     }
 }
