@@ -10,12 +10,15 @@
 //!   calibrated, a WAV file streamed, spectra or FRFs made);
 //! - `impact.rs`: triggered impact records (pre-trigger, double hits,
 //!   overloads) and FRFs averaged over the accepted ones;
+//! - `orders.rs`: order tracks from a speed profile or a tachometer channel
+//!   (resampling to constant angle increments);
 //! - `recording.rs`: channels in SI from a UFF file's time histories, a WAV
 //!   file or a CSV time column, with each channel's DOF and quantity.
 
 pub mod analyse;
 pub mod frf_estimate;
 pub mod impact;
+pub mod orders;
 pub mod recording;
 pub mod spectra;
 pub mod welch;
