@@ -137,3 +137,51 @@ fn orders_between_lines_and_stalls_are_refused() {
     .unwrap_err();
     assert!(e.to_string().contains("monotonically"), "{e}");
 }
+
+#[test]
+fn orders_command_on_a_time_csv() {
+    let dir = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("target/test-scratch/signal_orders");
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut text = String::from("time [s]; fan:1+Z [m/s^2]\n");
+    for (i, v) in run_up().iter().enumerate() {
+        text.push_str(&format!("{:?}; {v:?}\n", i as f64 / FS));
+    }
+    let csv = dir.join("runup.csv");
+    std::fs::write(&csv, text).unwrap();
+    let out = dir.join("o2.csv");
+    let said = mortise::cli::run_cli(&[
+        "orders".into(),
+        csv.to_str().unwrap().into(),
+        "-o".into(),
+        out.to_str().unwrap().into(),
+        "--order".into(),
+        "2".into(),
+        "--speed".into(),
+        "0:600,20:3600".into(),
+    ])
+    .unwrap();
+    assert!(said.contains("87 blocks"), "{said}");
+    let bytes = std::fs::read(&out).unwrap();
+    let set = mortise::io::load(&bytes, "o2.csv", &Default::default())
+        .unwrap()
+        .sets
+        .remove(0);
+    assert_eq!(set.signal, Some(mortise::frf::SignalKind::Peak));
+    for k in 0..set.n_lines() {
+        let db = 20.0 * (set.get(k, 0, 0).norm() / 3.0).log10();
+        assert!(db.abs() < 0.1, "{db}");
+    }
+    // the speed given both ways, or not at all, is refused
+    let e = mortise::cli::run_cli(&[
+        "orders".into(),
+        csv.to_str().unwrap().into(),
+        "-o".into(),
+        out.to_str().unwrap().into(),
+        "--order".into(),
+        "2".into(),
+    ])
+    .unwrap_err();
+    assert!(e.to_string().contains("needs the speed"), "{e}");
+}

@@ -36,6 +36,7 @@ pub mod inspect;
 pub mod limits;
 pub mod listen;
 pub mod mat_opts;
+pub mod orders;
 pub mod run;
 pub mod spec;
 pub mod time_data;
@@ -263,6 +264,7 @@ pub fn execute(argv: &[String]) -> Outcome {
                 "listen" => listen::run(&args),
                 "spectrum" => time_data::run(&args, false),
                 "estimate" => time_data::run(&args, true),
+                "orders" => orders::run(&args),
                 "help" => help(&args.positional),
                 "version" => version(&args),
                 other => Err(internal(format!("command '{other}' has no handler"))),

@@ -855,6 +855,63 @@ pub const ESTIMATE: Command = Command {
     example: "mortise estimate hammer.uff -o bracket-frf.uff --input bracket:1+Z --window exponential:0.5",
 };
 
+pub const ORDERS: Command = Command {
+    name: "orders",
+    summary: "order tracks of a run-up or run-down (WAV, UFF time responses, time CSV): one order's amplitude over frequency",
+    usage: "mortise orders FILE -o OUT --order O (--speed T:RPM,... | --tach DOF --tach-level L --pulses-per-rev N) [options]",
+    about: "Reads FILE (as 'mortise spectrum' does, a WAV file with --channel), finds the shaft angle \
+            from a speed profile (--speed, rpm linear between the points) or a tachometer channel \
+            (--tach: each upward crossing of --tach-level is 1/--pulses-per-rev revolution), resamples \
+            every other channel to --samples-per-rev samples a revolution (cubic interpolation), and \
+            takes order --order from Hann-windowed blocks of --revolutions revolutions. Writes a \
+            peak spectrum set per quantity whose lines are the order's frequency (order × rpm / 60) \
+            at each block's speed, the complex amplitude's phase referred to angle 0: a run-up becomes \
+            an excitation over frequency. The speed must rise or fall throughout; --order times \
+            --revolutions must be a whole number.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                val("order", "O", "the order to track, e.g. 2 or 0.5 (required)"),
+                val(
+                    "speed",
+                    "T:RPM,...",
+                    "the speed profile: times in s and speeds in rpm, e.g. '0:600,20:3600'",
+                ),
+                val("tach", "DOF", "the tachometer channel (left out of the tracks)"),
+                val("tach-level", "L", "the tachometer's trigger level, in its SI unit (default 0.5)"),
+                val("pulses-per-rev", "N", "tachometer pulses per revolution (default 1)"),
+                val(
+                    "revolutions",
+                    "R",
+                    "revolutions per block (order resolution 1/R; default 8)",
+                ),
+                val(
+                    "samples-per-rev",
+                    "S",
+                    "samples per revolution after resampling (orders up to S/2 − 1; default 64)",
+                ),
+                many(
+                    "channel",
+                    "'N=DOF QTY FS UNIT'",
+                    "a WAV channel, as for 'mortise spectrum' (required for WAV files)",
+                ),
+                val(
+                    "to",
+                    "FORMAT",
+                    "uff, uff-binary or csv; default: from OUT's extension",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise orders runup.uff -o fan-order2.csv --order 2 --speed 0:600,20:3600",
+};
+
 pub const DEMO: Command = Command {
     name: "demo",
     summary: "write (or check) the demo scenario's supplier files and recipe",
@@ -911,7 +968,8 @@ pub const VERSION: Command = Command {
 
 /// Every command, in the order the general help lists them.
 pub const COMMANDS: &[Command] = &[
-    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE, DEMO, HELP, VERSION,
+    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE, ORDERS, DEMO, HELP,
+    VERSION,
 ];
 
 pub fn command(name: &str) -> Option<&'static Command> {

@@ -302,22 +302,13 @@ pub fn analyse_recording(
     finish(a, rec.channels.clone(), &refs, job, name, prov, Vec::new())
 }
 
-/// A WAV file streamed in blocks of `block` frames: only the described
-/// channels, each times its full scale. `progress(frames done, frames)`
-/// is called after each block.
-#[allow(clippy::too_many_arguments)]
-pub fn analyse_wav<R: Read>(
-    mut wav: WavReader<R>,
+/// The described WAV channels: their DOFs and quantities, (index in the
+/// file, SI full scale) each, and a note on channels left out.
+fn pick_channels(
+    info: &crate::io::wav::WavInfo,
     file: &str,
     specs: &[ChannelSpec],
-    averaging: &Averaging,
-    job: &Job,
-    name: &str,
-    prov: &Provenance,
-    limits: &Limits,
-    progress: &mut dyn FnMut(u64, u64),
-) -> Result<Analysed> {
-    let info = wav.info.clone();
+) -> Result<(Vec<Channel>, Vec<(usize, f64)>, Vec<String>)> {
     if specs.is_empty() {
         return Err(Error::usage(format!(
             "describe the WAV file's channels to analyse ({} in the file): {}",
@@ -365,28 +356,75 @@ pub fn analyse_wav<R: Read>(
             unused.join(", ")
         ));
     }
+    Ok((channels, picks, notes))
+}
+
+/// Every remaining frame of the picked channels in SI, held in memory
+/// (checked against the memory budget first), with each channel's overload
+/// limit (0.999 of its full scale).
+fn held<R: Read>(
+    mut wav: WavReader<R>,
+    file: &str,
+    channels: Vec<Channel>,
+    picks: &[(usize, f64)],
+    limits: &Limits,
+) -> Result<(Recording, Vec<Option<f64>>)> {
+    let info = wav.info.clone();
+    let values = info.frames.checked_mul(channels.len() as u64);
+    limits
+        .check_bytes(
+            "the recording held in memory (8 bytes a sample)",
+            values.and_then(|v| v.checked_mul(8)),
+        )
+        .map_err(|e| e.in_file(file))?;
+    let raw = wav.read_all()?;
+    let rec = Recording {
+        fs: info.sample_rate as f64,
+        channels,
+        samples: picks
+            .iter()
+            .map(|&(c, f)| raw[c].iter().map(|v| v * f).collect())
+            .collect(),
+    };
+    let over = picks.iter().map(|&(_, f)| Some(0.999 * f)).collect();
+    Ok((rec, over))
+}
+
+/// A WAV file held whole as a recording of its described channels (for
+/// jobs that need the whole record: impact tests, order tracks), with each
+/// channel's overload limit and the notes.
+pub fn wav_recording<R: Read>(
+    wav: WavReader<R>,
+    file: &str,
+    specs: &[ChannelSpec],
+    limits: &Limits,
+) -> Result<(Recording, Vec<Option<f64>>, Vec<String>)> {
+    let info = wav.info.clone();
+    let (channels, picks, notes) = pick_channels(&info, file, specs)?;
+    let (rec, over) = held(wav, file, channels, &picks, limits)?;
+    Ok((rec, over, notes))
+}
+
+/// A WAV file streamed in blocks of `block` frames: only the described
+/// channels, each times its full scale. `progress(frames done, frames)`
+/// is called after each block.
+#[allow(clippy::too_many_arguments)]
+pub fn analyse_wav<R: Read>(
+    mut wav: WavReader<R>,
+    file: &str,
+    specs: &[ChannelSpec],
+    averaging: &Averaging,
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    limits: &Limits,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<Analysed> {
+    let info = wav.info.clone();
+    let (channels, picks, notes) = pick_channels(&info, file, specs)?;
     let fs = info.sample_rate as f64;
     if let Job::Impact { .. } = job {
-        // records need the whole recording: held in memory, within the budget
-        let values = info.frames.checked_mul(channels.len() as u64);
-        limits
-            .check_bytes(
-                "the recording held for impact records (8 bytes a sample)",
-                values.and_then(|v| v.checked_mul(8)),
-            )
-            .map_err(|e| e.in_file(file))?;
-        let raw = wav.read_all()?;
-        let rec = Recording {
-            fs,
-            channels: channels.clone(),
-            samples: picks
-                .iter()
-                .map(|&(c, f)| raw[c].iter().map(|v| v * f).collect())
-                .collect(),
-        };
-        drop(raw);
-        // a channel reaching 0.999 of its full scale is overloaded
-        let over: Vec<Option<f64>> = picks.iter().map(|&(_, f)| Some(0.999 * f)).collect();
+        let (rec, over) = held(wav, file, channels, &picks, limits)?;
         let mut a = impacts(&rec, &over, job, name, prov, limits)?;
         a.notes.extend(notes);
         return Ok(a);
