@@ -302,13 +302,16 @@ pub fn analyse_recording(
     finish(a, rec.channels.clone(), &refs, job, name, prov, Vec::new())
 }
 
-/// The described WAV channels: their DOFs and quantities, (index in the
-/// file, SI full scale) each, and a note on channels left out.
+/// Described WAV channels: their DOFs and quantities, (index in the file,
+/// SI full scale) each, and a note on channels left out.
+type Picked = (Vec<Channel>, Vec<(usize, f64)>, Vec<String>);
+
+/// The described WAV channels (see [`Picked`]).
 fn pick_channels(
     info: &crate::io::wav::WavInfo,
     file: &str,
     specs: &[ChannelSpec],
-) -> Result<(Vec<Channel>, Vec<(usize, f64)>, Vec<String>)> {
+) -> Result<Picked> {
     if specs.is_empty() {
         return Err(Error::usage(format!(
             "describe the WAV file's channels to analyse ({} in the file): {}",

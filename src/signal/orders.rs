@@ -59,7 +59,7 @@ pub fn angle(speed: &Speed, n: usize, fs: f64) -> Result<Vec<f64>> {
                 );
             }
             for w in p.windows(2) {
-                if !(w[1].0 > w[0].0) {
+                if w[1].0 <= w[0].0 || w[1].0.is_nan() {
                     return Err(Error::usage(format!(
                         "speed profile times {} s then {} s; expected increasing times",
                         w[0].0, w[1].0
@@ -195,7 +195,7 @@ pub fn order_track(
         return Err(Error::usage("the speed does not cover the recording").field("speed"));
     };
     for i in a + 1..=b {
-        if !(th[i] > th[i - 1]) {
+        if th[i] <= th[i - 1] || th[i].is_nan() {
             return Err(Error::usage(format!(
                 "the angle does not increase at {} s (speed zero or a tachometer glitch)",
                 i as f64 / fs
@@ -217,7 +217,7 @@ pub fn order_track(
         let mut buf = Vec::with_capacity(nb);
         let mut t0 = f64::NAN;
         let mut t1 = f64::NAN;
-        for j in 0..nb {
+        for (j, wj) in w.iter().enumerate() {
             let target = block_start + j as f64 * step;
             while idx < b && th[idx + 1] < target {
                 idx += 1;
@@ -230,7 +230,7 @@ pub fn order_track(
                 t0 = u / fs;
             }
             t1 = u / fs;
-            buf.push(Complex64::new(catmull_rom(x, u) * w[j], 0.0));
+            buf.push(Complex64::new(catmull_rom(x, u) * wj, 0.0));
         }
         fft.process(&mut buf);
         // the block spans revolutions·(nb−1)/nb revolutions between its first and last sample
