@@ -173,6 +173,28 @@ fn orders_command_on_a_time_csv() {
         let db = 20.0 * (set.get(k, 0, 0).norm() / 3.0).log10();
         assert!(db.abs() < 0.1, "{db}");
     }
+    // the recipe step on the same file
+    std::fs::write(
+        dir.join("fan.recipe.json"),
+        r#"{"format": "mortise-recipe", "version": 1, "components": {},
+  "steps": [{"id": "o2", "op": "orders", "file": "runup.csv", "order": 2, "speed": [[0, 600], [20, 3600]]}],
+  "outputs": ["o2"]}"#,
+    )
+    .unwrap();
+    mortise::cli::run_cli(&[
+        "run".into(),
+        dir.join("fan.recipe.json").to_str().unwrap().into(),
+        "-o".into(),
+        dir.join("out").to_str().unwrap().into(),
+    ])
+    .unwrap();
+    let bytes = std::fs::read(dir.join("out/o2.csv")).unwrap();
+    let step = mortise::io::load(&bytes, "o2.csv", &Default::default())
+        .unwrap()
+        .sets
+        .remove(0);
+    assert_eq!(step.freqs, set.freqs);
+    assert_eq!(step.data, set.data);
     // the speed given both ways, or not at all, is refused
     let e = mortise::cli::run_cli(&[
         "orders".into(),

@@ -3,10 +3,10 @@
 
 use super::{Args, Done};
 use crate::error::{quote, Error, Result};
-use crate::frf::{Dof, FrfSet, Provenance};
+use crate::frf::{Dof, Provenance};
 use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, ChannelSpec};
-use crate::signal::orders::{order_track, OrderSettings, Speed};
+use crate::signal::orders::{order_tracks, OrderSettings, Speed};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -152,60 +152,15 @@ pub fn run(args: &Args) -> Result<Done> {
         (None, Some(t)) => (Speed::Profile(profile(t)?), None),
         (None, None) => return Err(Error::internal("speed checked above")),
     };
-    let stem = io::file_stem(path);
-    let mut sets: Vec<FrfSet> = Vec::new();
-    for (c, ch) in rec.channels.iter().enumerate() {
-        if Some(c) == tach_index {
-            continue;
-        }
-        let name = format!("{stem} order {order}");
-        let t = order_track(
-            &rec.samples[c],
-            rec.fs,
-            &ch.dof,
-            ch.quantity,
-            &speed,
-            &settings,
-            &name,
-            &prov,
-        )
-        .map_err(|e| e.in_file(path.as_str()))?;
-        limits.check_set("the order tracks", t.n_lines(), rec.channels.len(), 1)?;
-        // channels of one quantity share the lines (they depend on the speed only)
-        match sets.iter_mut().find(|s| s.out_qty == t.out_qty) {
-            Some(s) => {
-                let mut merged = FrfSet::zeros(
-                    &s.name,
-                    s.freqs.clone(),
-                    s.outputs.clone(),
-                    s.inputs.clone(),
-                    s.out_qty,
-                    s.in_qty,
-                );
-                merged.outputs.push(ch.dof.clone());
-                merged.present.push(true);
-                merged.data = Vec::with_capacity(s.n_lines() * merged.outputs.len());
-                for k in 0..s.n_lines() {
-                    merged.data.extend_from_slice(s.line(k));
-                    merged.data.push(t.get(k, 0, 0));
-                }
-                merged.signal = s.signal;
-                merged.provenance = s.provenance.clone();
-                *s = merged;
+    let name = format!("{} order {order}", io::file_stem(path));
+    let sets =
+        order_tracks(&rec, &speed, tach_index, &settings, &name, &prov, &limits).map_err(|e| {
+            if e.file.is_none() {
+                e.in_file(path.as_str())
+            } else {
+                e
             }
-            None => sets.push(t),
-        }
-    }
-    if sets.is_empty() {
-        return Err(
-            Error::usage("no channel to track besides the tachometer").in_file(path.as_str())
-        );
-    }
-    if sets.len() > 1 {
-        for s in &mut sets {
-            s.name = format!("{} {}", s.name, s.out_qty.name());
-        }
-    }
+        })?;
     let exported = io::export(&sets, fmt)?;
     std::fs::write(out, &exported.bytes)
         .map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;

@@ -292,3 +292,56 @@ pub fn order_track(
     set.provenance = vec![prov];
     Ok(set)
 }
+
+/// Order tracks of every channel of `rec` but the tachometer `tach`, one
+/// set per quantity (channels of one quantity share the lines, which depend
+/// on the speed only).
+pub fn order_tracks(
+    rec: &super::Recording,
+    speed: &Speed,
+    tach: Option<usize>,
+    s: &OrderSettings,
+    name: &str,
+    source: &Provenance,
+    limits: &crate::limits::Limits,
+) -> Result<Vec<FrfSet>> {
+    let mut sets: Vec<FrfSet> = Vec::new();
+    for (c, ch) in rec.channels.iter().enumerate() {
+        if Some(c) == tach {
+            continue;
+        }
+        let t = order_track(
+            &rec.samples[c],
+            rec.fs,
+            &ch.dof,
+            ch.quantity,
+            speed,
+            s,
+            name,
+            source,
+        )?;
+        limits.check_set("the order tracks", t.n_lines(), rec.channels.len(), 1)?;
+        match sets.iter_mut().find(|x| x.out_qty == t.out_qty) {
+            Some(x) => {
+                let mut data = Vec::with_capacity(x.n_lines() * (x.n_out() + 1));
+                for k in 0..x.n_lines() {
+                    data.extend_from_slice(x.line(k));
+                    data.push(t.get(k, 0, 0));
+                }
+                x.data = data;
+                x.outputs.push(ch.dof.clone());
+                x.present.push(true);
+            }
+            None => sets.push(t),
+        }
+    }
+    if sets.is_empty() {
+        return Err(Error::usage("no channel to track besides the tachometer"));
+    }
+    if sets.len() > 1 {
+        for x in &mut sets {
+            x.name = format!("{} {}", x.name, x.out_qty.name());
+        }
+    }
+    Ok(sets)
+}

@@ -18,7 +18,7 @@ pub use couple::{Couple, Decouple};
 pub use identify::{pick_toggled, pick_written, IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
-pub use time_data::{EstimateFrf, Spectrum};
+pub use time_data::{EstimateFrf, Orders, Spectrum};
 pub(crate) use transform::{
     interp as transform_interp, scale_in_place, select as transform_select,
 };
@@ -219,6 +219,7 @@ operations! {
     "regenerate" => Regenerate,
     "spectrum" => Spectrum,
     "estimate-frf" => EstimateFrf,
+    "orders" => Orders,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.

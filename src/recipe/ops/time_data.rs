@@ -10,7 +10,8 @@ use crate::io;
 use crate::recipe::report::StepReport;
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
 use crate::signal::impact::ImpactSettings;
-use crate::signal::{Detrend, Estimator, Window};
+use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use crate::signal::{Detrend, Estimator, Recording, Window};
 use serde::{Deserialize, Serialize};
 
 /// Spectra of every channel of a recording.
@@ -53,6 +54,28 @@ pub struct EstimateFrf {
     pub window: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub detrend: Option<String>,
+}
+
+/// Order tracks of a run-up or run-down.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Orders {
+    pub file: String,
+    pub order: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub speed: Option<Vec<(f64, f64)>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tach: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tach_level: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pulses_per_rev: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub revolutions: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub samples_per_rev: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub channels: Option<Vec<String>>,
 }
 
 /// A hammer test's records (see `signal::impact`), in seconds and SI.
@@ -153,10 +176,48 @@ fn analyse_file(
     }
 }
 
+/// The file as a recording held whole (WAV channels described by
+/// `channels`), with notes.
+fn recording_of(
+    cx: &Ctx,
+    file: &str,
+    channels: Option<&[String]>,
+) -> Result<(Recording, Provenance, Vec<String>)> {
+    let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
+    let mut prov = Provenance {
+        file: io::base_name(file),
+        sha256: io::sha256_hex(&bytes),
+        format: String::new(),
+        options: String::new(),
+    };
+    if io::wav::looks_like_wav(&bytes) {
+        prov.format = "wav".into();
+        let specs: Vec<ChannelSpec> = channels
+            .unwrap_or_default()
+            .iter()
+            .map(|t| {
+                ChannelSpec::parse(t, "").map_err(|e| Error::recipe(e.message).field("channels"))
+            })
+            .collect::<Result<_>>()?;
+        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        let (rec, _, notes) = analyse::wav_recording(wav, file, &specs, cx.limits)?;
+        return Ok((rec, prov, notes));
+    }
+    if channels.is_some() {
+        return Err(Error::recipe(
+            "'channels' describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
+        )
+        .field("channels"));
+    }
+    let (rec, format) = analyse::recording_from_bytes(&bytes, file, cx.limits)?;
+    prov.format = format;
+    Ok((rec, prov, Vec::new()))
+}
+
 /// The first set as the step's result, the others (other quantities) as
 /// `ID/QUANTITY` extras; the notes in the report.
-fn output(cx: &Ctx, op: &str, a: Analysed) -> Result<StepOutput> {
-    let mut sets = a.sets.into_iter();
+fn output(cx: &Ctx, op: &str, sets: Vec<FrfSet>, notes: Vec<String>) -> Result<StepOutput> {
+    let mut sets = sets.into_iter();
     let Some(first) = sets.next() else {
         return Err(Error::internal("an analysis without a set"));
     };
@@ -165,7 +226,7 @@ fn output(cx: &Ctx, op: &str, a: Analysed) -> Result<StepOutput> {
     }
     let extras: Vec<(String, FrfSet)> = sets.map(|s| (s.out_qty.name().to_string(), s)).collect();
     let mut warnings = first.warnings.clone();
-    warnings.extend(a.notes);
+    warnings.extend(notes);
     let report = StepReport::new(cx.id, op, warnings);
     Ok(StepOutput {
         set: first,
@@ -235,7 +296,7 @@ impl Operation for Spectrum {
             &avg,
             &Job::Spectrum { kind, reference },
         )?;
-        output(cx, "spectrum", a)
+        output(cx, "spectrum", a.sets, a.notes)
     }
 }
 
@@ -341,6 +402,82 @@ impl Operation for EstimateFrf {
                     e
                 }
             })?;
-        output(cx, "estimate-frf", a)
+        output(cx, "estimate-frf", a.sets, a.notes)
+    }
+}
+
+impl Operation for Orders {
+    const SUMMARY: &'static str = "order tracks of a run-up or run-down: one order's peak amplitude at order × rpm / 60 per block of revolutions, from a speed profile or a tachometer channel; one set per quantity (others as ID/QUANTITY)";
+    const OPERANDS: &'static [Operand] = &[
+        req("file", FILE),
+        req(
+            "order",
+            "the order to track, e.g. 2; order × revolutions must be whole",
+        ),
+        opt(
+            "speed",
+            "the speed profile as [[time s, rpm], ...], rpm linear between the points (or 'tach')",
+        ),
+        opt(
+            "tach",
+            "the tachometer channel's DOF (or 'speed'); left out of the tracks",
+        ),
+        opt(
+            "tach_level",
+            "the tachometer's trigger level in its SI unit (default 0.5)",
+        ),
+        opt(
+            "pulses_per_rev",
+            "tachometer pulses per revolution (default 1)",
+        ),
+        opt("revolutions", "revolutions per block (default 8)"),
+        opt(
+            "samples_per_rev",
+            "samples per revolution after resampling (default 64)",
+        ),
+        opt("channels", CHANNELS),
+    ];
+    fn reads(&self) -> Vec<&str> {
+        Vec::new()
+    }
+    fn run(&self, cx: &Ctx) -> Result<StepOutput> {
+        if self.speed.is_some() == self.tach.is_some() {
+            return Err(Error::recipe("give 'speed' or 'tach', one of them").field("speed"));
+        }
+        if self.tach.is_none() {
+            for (given, name) in [
+                (self.tach_level.is_some(), "tach_level"),
+                (self.pulses_per_rev.is_some(), "pulses_per_rev"),
+            ] {
+                if given {
+                    return Err(Error::recipe(format!("'{name}' applies to 'tach'")).field(name));
+                }
+            }
+        }
+        let (rec, prov, notes) = recording_of(cx, &self.file, self.channels.as_deref())?;
+        let (speed, tach) = match (&self.speed, &self.tach) {
+            (Some(p), _) => (Speed::Profile(p.clone()), None),
+            (None, Some(t)) => {
+                let i = rec
+                    .index_of(&dof(t, "tach")?)
+                    .map_err(|e| e.field("tach"))?;
+                (
+                    Speed::Tach {
+                        samples: rec.samples[i].clone(),
+                        level: self.tach_level.unwrap_or(0.5),
+                        pulses_per_rev: self.pulses_per_rev.unwrap_or(1.0),
+                    },
+                    Some(i),
+                )
+            }
+            (None, None) => return Err(Error::internal("speed checked above")),
+        };
+        let settings = OrderSettings {
+            order: self.order,
+            revolutions: self.revolutions.unwrap_or(8),
+            samples_per_rev: self.samples_per_rev.unwrap_or(64),
+        };
+        let sets = order_tracks(&rec, &speed, tach, &settings, cx.id, &prov, cx.limits)?;
+        output(cx, "orders", sets, notes)
     }
 }
