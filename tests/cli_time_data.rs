@@ -267,3 +267,48 @@ fn estimate_from_a_hammer_test_wav() {
         .to_string()
         .contains("give --trigger"));
 }
+
+#[test]
+fn an_hour_of_eight_channels_needs_a_larger_work_budget() {
+    // a 44-byte header claiming one hour of 8 channels of 16-bit PCM at
+    // 51.2 kHz (2.95 GB of samples, which this file does not hold): the work
+    // is estimated from the header and refused before any sample is read
+    let dir = common::scratch("cli_time_data_budget");
+    let frames: u64 = 51_200 * 3600;
+    let data = (frames * 16) as u32;
+    let mut b = Vec::new();
+    b.extend_from_slice(b"RIFF");
+    b.extend_from_slice(&(36u32.wrapping_add(data)).to_le_bytes());
+    b.extend_from_slice(b"WAVEfmt ");
+    b.extend_from_slice(&16u32.to_le_bytes());
+    b.extend_from_slice(&1u16.to_le_bytes());
+    b.extend_from_slice(&8u16.to_le_bytes());
+    b.extend_from_slice(&51_200u32.to_le_bytes());
+    b.extend_from_slice(&(51_200u32 * 16).to_le_bytes());
+    b.extend_from_slice(&16u16.to_le_bytes());
+    b.extend_from_slice(&16u16.to_le_bytes());
+    b.extend_from_slice(b"data");
+    b.extend_from_slice(&data.to_le_bytes());
+    let wav = dir.join("hour.wav");
+    std::fs::write(&wav, &b).unwrap();
+    let w = wav.to_str().unwrap();
+    let out = dir.join("x.csv");
+    let mut a = argv(&[
+        "spectrum",
+        w,
+        "-o",
+        out.to_str().unwrap(),
+        "--segment",
+        "8192",
+    ]);
+    for c in 1..=8 {
+        a.push("--channel".into());
+        a.push(format!("{c}=bench:{c}+Z acceleration 100 m/s^2"));
+    }
+    let e = run_cli(&a).unwrap_err();
+    assert!(e.to_string().contains("--work-budget"), "{e}");
+    // with a larger budget it starts reading, and finds the file short
+    a.extend(argv(&["--work-budget", "2e11"]));
+    let e = run_cli(&a).unwrap_err();
+    assert!(e.to_string().contains("the file ends at byte 44"), "{e}");
+}

@@ -214,7 +214,29 @@ fn check_sizes(
         settings.lines(),
         channels.len(),
         refs.len().max(1),
+    )?;
+    limits.check_work(
+        &format!(
+            "Welch averaging of {} channel(s) × {samples} samples",
+            channels.len()
+        ),
+        welch_work(settings, samples, channels.len(), refs.len()),
     )
+}
+
+/// Estimated floating-point operations of Welch averaging: per segment and
+/// channel the detrend and window (6 per sample) and half a complex FFT
+/// (2.5 N log₂ N), then 8 per line for each auto and cross product.
+pub fn welch_work(settings: &WelchSettings, samples: u64, channels: usize, refs: usize) -> f64 {
+    let n = settings.segment as f64;
+    let segments = if samples < settings.segment as u64 {
+        0.0
+    } else {
+        ((samples - settings.segment as u64) / settings.step() as u64 + 1) as f64
+    };
+    segments
+        * channels as f64
+        * (n * (2.5 * n.log2() + 6.0) + settings.lines() as f64 * 8.0 * (1 + refs) as f64)
 }
 
 fn finish(
@@ -487,6 +509,12 @@ fn impacts(
         .field("record length"));
     }
     limits.check_set("the FRFs", len as usize / 2 + 1, rec.channels.len(), 1)?;
+    // at most one record per record length of the recording
+    let records = (rec.len() as f64 / len).floor();
+    limits.check_work(
+        "the impact records",
+        records * rec.channels.len() as f64 * len * (2.5 * len.log2() + 12.0),
+    )?;
     let (sets, hits, notes) = impact_frf(rec, i, over, settings, *estimator, name, prov)?;
     let segments = hits
         .iter()

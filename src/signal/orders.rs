@@ -305,6 +305,13 @@ pub fn order_tracks(
     source: &Provenance,
     limits: &crate::limits::Limits,
 ) -> Result<Vec<FrfSet>> {
+    // resampling (about 20 operations a sample) and the blocks' FFTs
+    // (2.5 log₂ N a sample for blocks of N), per channel and recorded sample
+    let n = (s.revolutions * s.samples_per_rev).max(2) as f64;
+    limits.check_work(
+        "the order tracks",
+        rec.channels.len() as f64 * rec.len() as f64 * (20.0 + 2.5 * n.log2()),
+    )?;
     let mut sets: Vec<FrfSet> = Vec::new();
     for (c, ch) in rec.channels.iter().enumerate() {
         if Some(c) == tach {
