@@ -138,3 +138,21 @@ fn bad_headers_are_refused_at_their_byte() {
         assert!(e.to_string().contains(text), "{what}: {e}");
     }
 }
+
+#[test]
+fn frf_readers_send_time_data_to_the_time_commands() {
+    // a WAV file or a time CSV given where FRFs are read (inspect, convert,
+    // a recipe component, the page) is named as time data, with the way on
+    let e = mortise::io::detect(&pcm16(), "rec.wav").unwrap_err();
+    assert!(
+        e.message
+            .contains("WAV recording (2 channel(s), 8000 Hz, 16-bit PCM, 4 frames")
+            && e.message.contains("mortise spectrum"),
+        "{e}"
+    );
+    let e = mortise::io::detect(b"time [s], a:1+Z [N]\n0, 1\n0.1, 2\n", "rec.csv").unwrap_err();
+    assert!(
+        e.message.contains("time data") && e.message.contains("'mortise estimate'"),
+        "{e}"
+    );
+}
