@@ -678,7 +678,11 @@ fn with_shown<T>(
 
 /// Draw the kept plot on `canvas`, `width` × `height` CSS pixels at `dpr`
 /// device pixels per CSS pixel, with `view` (`plot::View`: db, x_log,
-/// y_log, x_range, y_range). Returns `plot::Drawn` (`{ frames, legend }`).
+/// y_log, x_range, y_range), in passes (`plot::Pass`): the curves
+/// `from..from + count`, the frame when `from` is 0 (the canvas sized and
+/// cleared), the legend in the last pass. Returns `plot::Drawn`
+/// (`{ frames, legend, next }`, `next` the next pass's `from` or null when
+/// the drawing is complete).
 #[wasm_bindgen]
 pub fn plot_draw(
     canvas: web_sys::HtmlCanvasElement,
@@ -686,13 +690,23 @@ pub fn plot_draw(
     width: u32,
     height: u32,
     dpr: f64,
+    from: u32,
+    count: u32,
 ) -> std::result::Result<JsValue, JsValue> {
     let view = view_of(view).map_err(js_err)?;
+    let pass = plot::Pass {
+        from: from as usize,
+        to: (from as usize).saturating_add(count as usize),
+    };
     let drawn = with_shown(|(data, frames)| {
         plot::check_size(width, height)?;
-        let mut b = plot::Canvas::new(canvas, width, height, dpr)
-            .map_err(|e| Error::io(format!("the plot canvas: {e}")))?;
-        let drawn = plot::draw_data(&mut b, data, &view)?;
+        let b = if pass.from == 0 {
+            plot::Canvas::new(canvas, width, height, dpr)
+        } else {
+            plot::Canvas::resume(canvas, width, height, dpr)
+        };
+        let mut b = b.map_err(|e| Error::io(format!("the plot canvas: {e}")))?;
+        let drawn = plot::draw_data_pass(&mut b, data, &view, pass)?;
         frames.clone_from(&drawn.frames);
         Ok(drawn)
     })
@@ -897,4 +911,38 @@ pub fn vpt_consistency_svg(
         })
         .map_err(js_err)?;
     to_json(&d)
+}
+
+/// The coupling benchmark in this worker: the case of
+/// `assemble::bench_case` (60 + 48 DOFs, 12 rigid joints) on `lines` lines,
+/// made under the workspace's limits, then coupled (timed alone). Returns
+/// `{ lines, seconds, digest }`, `digest` the SHA-256 of the result's values
+/// (`assemble::values_digest`), for `tools/wasm-bench.mjs` to compare with
+/// the native run.
+#[wasm_bindgen]
+pub fn bench_couple(lines: u32) -> std::result::Result<JsValue, JsValue> {
+    let limits = WS.with(|ws| *ws.borrow().limits());
+    let (comps, joints) = crate::assemble::bench_case(
+        lines as usize,
+        60,
+        48,
+        12,
+        crate::assemble::BENCH_SEED,
+        &limits,
+    )
+    .map_err(js_err)?;
+    let t0 = js_sys::Date::now();
+    let r = crate::assemble::couple(
+        &comps,
+        &joints,
+        &crate::assemble::CouplingOptions::default(),
+    )
+    .map_err(js_err)?;
+    let seconds = (js_sys::Date::now() - t0) / 1e3;
+    drop(comps);
+    structured(&serde_json::json!({
+        "lines": lines,
+        "seconds": seconds,
+        "digest": crate::assemble::values_digest(&r.set),
+    }))
 }

@@ -220,6 +220,10 @@ let kept = null; // what the drawing instance holds: { key, results, bundle, epo
 let plotCount = 0;
 let cursor = null; // the read-out: { freq } on a frequency axis, { nyquist: true } otherwise
 timings.redraw_ms = [];
+// drawing passes (see redraw): a pass's target time, the current drawing, a curve's cost
+const PASS_MS = 12;
+let passJob = 0, curveMs = 0.2;
+timings.pass_ms = [];
 const plotCore = () => Bridge.draw();
 
 // everything but the view: a change here needs the worker
@@ -232,6 +236,7 @@ const keptFits = (key) => kept && kept.key === key && kept.results === S.results
 const viewOf = (spec) => ({ db: spec.db, x_log: spec.x_log, y_log: !!spec.y_log, x_range: spec.x_range || null, y_range: null });
 
 function clearPlot(message) {
+  passJob++; // passes of a drawing still to come are dropped
   $('plot-canvas').hidden = true;
   $('cursor-line').hidden = true;
   $('cursor-dot').hidden = true;
@@ -280,33 +285,57 @@ async function drawPlot() {
   }
   drawing = null;
   lastSpec = spec;
-  redraw();
+  await redraw();
   timings.last_plot_ms = performance.now() - t0;
 }
 
-// Draw the kept data with the view of lastSpec: the core draws, here, now.
+// Draw the kept data with the view of lastSpec: the core draws, here, in
+// passes (the frame and the first curves, then the next curves on the same
+// canvas, the legend with the last), each a main-thread task of its own of
+// about PASS_MS, so a redraw of many curves never holds the page; a new
+// redraw drops what is left of the one before. Resolves when complete.
 function redraw() {
   const spec = lastSpec, c = $('plot-canvas'), wrap = $('plot-wrap');
-  let r;
-  const t0 = performance.now();
-  try {
-    r = plotCore().plot_draw(c, viewOf(spec), spec.width, spec.height, window.devicePixelRatio || 1);
-  } catch (e) {
-    clearPlot('cannot draw: ' + errorText(typeof e === 'string' ? parseCoreError(e) : e));
-    return;
-  }
-  const ms = performance.now() - t0;
-  timings.redraw_ms.push(ms);
-  if (timings.redraw_ms.length > 500) timings.redraw_ms.shift();
-  c.hidden = false;
-  lastFrames = r.frames;
-  renderLegend(r.legend);
-  wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
-  if (r.frames[0]) wrap.dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
-  wrap.dataset.frames = JSON.stringify(r.frames); // panels in plot pixels, for tests
-  if (!spec.x_range && r.frames[0]) wrap.dataset.fullrange = wrap.dataset.xrange;
-  document.body.dataset.plotted = String(++plotCount);
-  refreshReadout();
+  const job = ++passJob;
+  const view = viewOf(spec), dpr = window.devicePixelRatio || 1;
+  let spent = 0;
+  return new Promise((done) => {
+    const pass = (from) => {
+      if (job !== passJob) { done(); return; }
+      const count = Math.max(1, Math.round(PASS_MS / curveMs));
+      const t0 = performance.now();
+      let r;
+      try {
+        r = plotCore().plot_draw(c, view, spec.width, spec.height, dpr, from, count);
+      } catch (e) {
+        clearPlot('cannot draw: ' + errorText(typeof e === 'string' ? parseCoreError(e) : e));
+        done();
+        return;
+      }
+      const ms = performance.now() - t0;
+      spent += ms;
+      timings.pass_ms.push(ms);
+      if (timings.pass_ms.length > 500) timings.pass_ms.shift();
+      // the cost of a curve, learnt from passes that drew a full count
+      if (r.next != null) curveMs = Math.min(50, Math.max(0.005, ms / count));
+      if (from === 0) {
+        c.hidden = false;
+        lastFrames = r.frames;
+        wrap.dataset.spec = JSON.stringify(spec); // what is drawn, for tests and the curious
+        if (r.frames[0]) wrap.dataset.xrange = JSON.stringify([r.frames[0].x_min, r.frames[0].x_max]);
+        wrap.dataset.frames = JSON.stringify(r.frames); // panels in plot pixels, for tests
+        if (!spec.x_range && r.frames[0]) wrap.dataset.fullrange = wrap.dataset.xrange;
+        refreshReadout();
+      }
+      if (r.next != null) { setTimeout(() => pass(r.next), 0); return; }
+      timings.redraw_ms.push(spent);
+      if (timings.redraw_ms.length > 500) timings.redraw_ms.shift();
+      renderLegend(r.legend);
+      document.body.dataset.plotted = String(++plotCount);
+      done();
+    };
+    pass(0);
+  });
 }
 function parseCoreError(text) {
   try { return JSON.parse(text); } catch (_) { return { message: String(text) }; }
@@ -314,25 +343,33 @@ function parseCoreError(text) {
 
 // The legend the core drew: when it has too many entries to name inside the
 // plot, they are listed below it with the core's colours and dashes.
-let legendKey = '';
+let legendKey = '', legendJob = 0;
 function renderLegend(entries) {
   const box = $('plot-legend'), list = $('plot-legend-list');
   const listed = entries.length && entries.some((e) => !e.inside);
   box.hidden = !listed;
-  if (!listed) return;
+  if (!listed) { legendJob++; legendKey = ''; return; }
   // a zoom or a pan draws the same curves: the list stays (no relayout of 150 rows)
   const key = JSON.stringify(entries);
   if (key === legendKey && list.childElementCount === entries.length) return;
   legendKey = key;
+  // built in a task of its own: a first drawing of many curves and the list's
+  // rows never share one main-thread task
   clear(list);
+  const job = ++legendJob;
+  setTimeout(() => { if (job === legendJob) fillLegend(list, entries); }, 0);
+}
+function fillLegend(list, entries) {
   $('plot-legend-count').textContent = `${entries.length} curves`;
+  const rows = document.createDocumentFragment();
   for (const e of entries) {
     const sw = el('span', { class: 'swatch', 'aria-hidden': 'true' });
     const [on, off] = e.dash;
     sw.style.background = e.hatched ? `repeating-linear-gradient(120deg, ${e.colour} 0 4px, #fff 4px 5px)`
       : on ? `repeating-linear-gradient(90deg, ${e.colour} 0 ${on}px, transparent ${on}px ${on + off}px)` : e.colour;
-    list.append(el('li', {}, sw, e.label));
+    rows.append(el('li', {}, sw, e.label));
   }
+  list.append(rows);
 }
 
 // ---------- read-outs ----------

@@ -54,11 +54,13 @@ use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfKind, FrfSet};
 use crate::units::Quantity;
 
+mod bench_case;
 mod chain;
 mod interface_solve;
 mod kernel;
 mod lmfbs;
 
+pub use bench_case::{bench_case, values_digest, BENCH_SEED};
 pub use chain::{cascade, parallel, series, sum_paths};
 pub use lmfbs::{couple, couple_with_threads, decouple, decouple_with_threads, default_threads};
 

@@ -335,23 +335,30 @@ pub(super) fn draw_curves<DB: DrawingBackend>(
     b: &mut DB,
     p: &Panel,
     curves: &[Vec<(f64, f64)>],
+    drawn: &[bool],
 ) -> Result<()> {
-    draw_curves_stems(b, p, curves, &[], false)
+    draw_curves_stems(b, p, curves, &[], false, drawn)
 }
 
 /// Lines, or for line spectra (`stems[i]`) a marker at each line, with a
-/// stem down to the axis when `stem_lines`.
+/// stem down to the axis when `stem_lines`; only the curves `drawn[i]`
+/// (a pass of the drawing, `render::Pass`), each in the colour and width of
+/// its place among all.
 pub(super) fn draw_curves_stems<DB: DrawingBackend>(
     b: &mut DB,
     p: &Panel,
     curves: &[Vec<(f64, f64)>],
     stems: &[bool],
     stem_lines: bool,
+    drawn: &[bool],
 ) -> Result<()> {
     let width = if curves.len() > THIN_OVER { 1 } else { 2 };
     // pixel x of the last grid seen: curves on one grid map it once
     let mut grid: (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
     for (i, pts) in curves.iter().enumerate() {
+        if !drawn.get(i).copied().unwrap_or(false) {
+            continue;
+        }
         if stems.get(i).copied().unwrap_or(false) {
             let c = colour(i);
             for &(x, y) in pts {

@@ -191,10 +191,14 @@ fn clip(p: (f64, f64), q: (f64, f64), r: (f64, f64, f64, f64)) -> Option<((f64, 
             }
         } else {
             let t = qk / pk;
+            // comparisons, not f64::max/min: no NaN can reach here (pk ≠ 0, finite
+            // pixels), and wasm calls a library function for f64::max
             if pk < 0.0 {
-                t0 = t0.max(t);
-            } else {
-                t1 = t1.min(t);
+                if t > t0 {
+                    t0 = t;
+                }
+            } else if t < t1 {
+                t1 = t;
             }
         }
     }
@@ -310,8 +314,13 @@ pub(super) fn finite_range(vals: impl Iterator<Item = f64>, positive: bool) -> O
     let mut hi = f64::NEG_INFINITY;
     for v in vals {
         if v.is_finite() && (!positive || v > 0.0) {
-            lo = lo.min(v);
-            hi = hi.max(v);
+            // v is finite: plain comparisons (wasm calls a function for f64::min/max)
+            if v < lo {
+                lo = v;
+            }
+            if v > hi {
+                hi = v;
+            }
         }
     }
     (lo <= hi).then_some((lo, hi))

@@ -64,7 +64,9 @@ pub use drawing::Drawing;
 pub use geometry::geometry_svg;
 pub use layout::tick_text;
 pub use probe::{frame_px, nearest_point, probe, probe_data, step_line, Probe};
-pub use render::{check_size, draw, draw_data, render_data_svg, render_svg, Drawn};
+pub use render::{
+    check_size, draw, draw_data, draw_data_pass, render_data_svg, render_svg, Drawn, Pass,
+};
 pub use resolved::{CurveMeta, PlotData, PlotMeta, PlotParts, View};
 pub use spec::{BarGroup, Controls, Frame, LegendEntry, LineData, PlotKind, PlotSpec, SeriesRef};
 pub use stabilization::{

@@ -32,15 +32,80 @@ pub fn draw<DB: DrawingBackend>(
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Drawn {
     pub frames: Vec<Frame>,
+    /// Empty until the pass that draws the legend (the last).
     pub legend: Vec<LegendEntry>,
+    /// The first curve not drawn yet (a later pass's `from`), or None when
+    /// the drawing is complete.
+    pub next: Option<usize>,
+}
+
+/// Which part of a drawing one call makes: the frame (background, title,
+/// grid, axes) when `from` is 0, the curves `from..to` in the order chosen,
+/// and the legend when `to` reaches the last curve. The page's canvas draws
+/// many curves in several passes, each in a main-thread task of its own, on
+/// the canvas the earlier passes drew; every SVG is drawn in one pass
+/// ([`Pass::ALL`]). The passes of one view make the same pixels as one pass:
+/// the layout (ranges, panels) is computed from all curves in each.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Pass {
+    pub from: usize,
+    pub to: usize,
+}
+
+impl Pass {
+    /// The whole drawing at once.
+    pub const ALL: Pass = Pass {
+        from: 0,
+        to: usize::MAX,
+    };
+}
+
+/// What a pass draws of one panel's curves.
+struct Part {
+    frame: bool,
+    legend: bool,
+    /// Per curve (in the panel's order): drawn in this pass.
+    drawn: Vec<bool>,
+}
+
+impl Part {
+    fn of(pass: Pass, n: usize) -> Part {
+        Part {
+            frame: pass.from == 0,
+            legend: pass.to >= n,
+            drawn: (0..n).map(|i| i >= pass.from && i < pass.to).collect(),
+        }
+    }
+    /// The part of a group of the curves (their indices).
+    fn subset(&self, idx: &[usize]) -> Part {
+        Part {
+            frame: self.frame,
+            legend: self.legend,
+            drawn: idx.iter().map(|&i| self.drawn[i]).collect(),
+        }
+    }
 }
 
 /// Draw resolved data with a view (switches and zoom) on a backend: the
 /// one drawing behind the page's canvas and every SVG.
 pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -> Result<Drawn> {
+    draw_data_pass(b, data, view, Pass::ALL)
+}
+
+/// [`draw_data`] in passes: the part `pass` names, on what earlier passes
+/// of the same view drew (see [`Pass`]). Bars are drawn whole in the first
+/// pass.
+pub fn draw_data_pass<DB: DrawingBackend>(
+    b: &mut DB,
+    data: &PlotData,
+    view: &View,
+    pass: Pass,
+) -> Result<Drawn> {
     let (w, h) = b.get_size();
     let (w, h) = (w as i32, h as i32);
-    b.draw_rect((0, 0), (w, h), &WHITE, true).map_err(derr)?;
+    if pass.from == 0 {
+        b.draw_rect((0, 0), (w, h), &WHITE, true).map_err(derr)?;
+    }
     let mut resolved = data.spec.clone();
     resolved.db = view.db;
     resolved.x_log = view.x_log;
@@ -49,7 +114,7 @@ pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -
     resolved.y_range = view.y_range;
     let spec = &resolved;
     let top = if spec.title.is_empty() { 14 } else { 34 };
-    if !spec.title.is_empty() {
+    if !spec.title.is_empty() && pass.from == 0 {
         text(
             b,
             &spec.title,
@@ -62,8 +127,21 @@ pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -
     let (left, right, bottom) = (84, w - 18, h - 52);
     let mut legend = Vec::new();
     let curves: Vec<&Curve> = data.curves.iter().collect();
+    let n = match spec.kind {
+        PlotKind::Lines => spec.lines.len(),
+        PlotKind::Bars => 0,
+        _ => curves.len(),
+    };
+    if pass.from >= pass.to || (pass.from > 0 && pass.from >= n) {
+        return Err(Error::usage(format!(
+            "drawing pass {}..{} of a plot of {n} curves",
+            pass.from, pass.to
+        ))
+        .field("pass"));
+    }
+    let part = Part::of(pass, n);
     let frames = match spec.kind {
-        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom), &mut legend)?,
+        PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom), &mut legend, &part)?,
         PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom), &mut legend)?,
         PlotKind::Difference => {
             if curves.is_empty() {
@@ -79,6 +157,7 @@ pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -
                 &curves,
                 (left, top, right, bottom),
                 &mut legend,
+                &part,
             )?
         }
         kind => {
@@ -92,11 +171,17 @@ pub fn draw_data<DB: DrawingBackend>(b: &mut DB, data: &PlotData, view: &View) -
                 &curves,
                 (left, top, right, bottom),
                 &mut legend,
+                &part,
             )?
         }
     };
     b.present().map_err(derr)?;
-    Ok(Drawn { frames, legend })
+    let next = (pass.to < n).then_some(pass.to);
+    Ok(Drawn {
+        frames,
+        legend,
+        next,
+    })
 }
 
 /// The most stacked groups one plot draws: curves of more quantities than
@@ -114,6 +199,7 @@ fn draw_frf<DB: DrawingBackend>(
     curves: &[&Curve],
     (left, top, right, bottom): (i32, i32, i32, i32),
     legend_out: &mut Vec<LegendEntry>,
+    part: &Part,
 ) -> Result<Vec<Frame>> {
     let levels = spec.db && kind != PlotKind::ReIm && kind != PlotKind::Nyquist;
     let key = |c: &Curve| {
@@ -123,12 +209,12 @@ fn draw_frf<DB: DrawingBackend>(
             c.unit.clone()
         }
     };
-    let mut groups: Vec<(String, Vec<&Curve>)> = Vec::new();
-    for c in curves.iter().copied() {
+    let mut groups: Vec<(String, Vec<usize>)> = Vec::new();
+    for (i, c) in curves.iter().enumerate() {
         let k = key(c);
         match groups.iter_mut().find(|(g, _)| *g == k) {
-            Some((_, v)) => v.push(c),
-            None => groups.push((k, vec![c])),
+            Some((_, v)) => v.push(i),
+            None => groups.push((k, vec![i])),
         }
     }
     if groups.len() > 1 {
@@ -159,13 +245,15 @@ fn draw_frf<DB: DrawingBackend>(
                 // a zoom of the y axis belongs to the first panel's unit
                 s.y_range = None;
             }
+            let g_curves: Vec<&Curve> = g.iter().map(|&k| curves[k]).collect();
             frames.extend(draw_frf(
                 b,
                 &s,
                 kind,
-                g,
+                &g_curves,
                 (left, t, right, t + h),
                 legend_out,
+                &part.subset(g),
             )?);
         }
         return Ok(frames);
@@ -197,8 +285,14 @@ fn draw_frf<DB: DrawingBackend>(
     } else {
         curves[0].db_label.clone()
     };
-    let fx =
-        |c: &Curve, ys: Vec<f64>| -> Vec<(f64, f64)> { c.freqs.iter().copied().zip(ys).collect() };
+    // the points of curve i, made only when this pass draws it
+    let fx = |i: usize, c: &Curve, ys: &dyn Fn(&Curve) -> Vec<f64>| -> Vec<(f64, f64)> {
+        if part.drawn[i] {
+            c.freqs.iter().copied().zip(ys(c)).collect()
+        } else {
+            Vec::new()
+        }
+    };
     let freq_title = "frequency (Hz)";
     match kind {
         PlotKind::Nyquist => {
@@ -237,16 +331,20 @@ fn draw_frf<DB: DrawingBackend>(
                 y,
             };
             let u = &unit_text;
-            axes(
-                b,
-                &p,
-                Some(&format!("real part ({u})")),
-                &format!("imaginary part ({u})"),
-                None,
-                true,
-            )?;
-            draw_curves(b, &p, &pts)?;
-            legend_out.extend(legend(b, &p, &labels)?);
+            if part.frame {
+                axes(
+                    b,
+                    &p,
+                    Some(&format!("real part ({u})")),
+                    &format!("imaginary part ({u})"),
+                    None,
+                    true,
+                )?;
+            }
+            draw_curves(b, &p, &pts, &part.drawn)?;
+            if part.legend {
+                legend_out.extend(legend(b, &p, &labels)?);
+            }
             Ok(vec![p.frame("real")])
         }
         PlotKind::Bode | PlotKind::Magnitude | PlotKind::ReIm => {
@@ -273,35 +371,42 @@ fn draw_frf<DB: DrawingBackend>(
                     })
                     .collect()
             };
-            let (top_pts, top_axis, top_title): (Vec<Vec<(f64, f64)>>, Axis, String) =
-                if kind == PlotKind::ReIm {
-                    let v = visible_vals(&|c, k| c.values[k].re);
-                    (
-                        curves
-                            .iter()
-                            .map(|c| fx(c, c.values.iter().map(|v| v.re).collect()))
-                            .collect(),
-                        y_axis(spec.y_range, v, false, false),
-                        format!("real part ({unit_text})"),
-                    )
-                } else if spec.db {
-                    let v = visible_vals(&|c, k| c.level[k]);
-                    (
-                        curves.iter().map(|c| fx(c, c.level.clone())).collect(),
-                        y_axis(spec.y_range, v, false, true),
-                        format!("level ({db_text})"),
-                    )
-                } else {
-                    let v = visible_vals(&|c, k| c.values[k].norm());
-                    (
-                        curves
-                            .iter()
-                            .map(|c| fx(c, c.values.iter().map(|v| v.norm()).collect()))
-                            .collect(),
-                        y_axis(spec.y_range, v, false, false),
-                        format!("magnitude ({unit_text})"),
-                    )
-                };
+            let (top_pts, top_axis, top_title): (Vec<Vec<(f64, f64)>>, Axis, String) = if kind
+                == PlotKind::ReIm
+            {
+                let v = visible_vals(&|c, k| c.values[k].re);
+                (
+                    curves
+                        .iter()
+                        .enumerate()
+                        .map(|(i, c)| fx(i, c, &|c| c.values.iter().map(|v| v.re).collect()))
+                        .collect(),
+                    y_axis(spec.y_range, v, false, false),
+                    format!("real part ({unit_text})"),
+                )
+            } else if spec.db {
+                let v = visible_vals(&|c, k| c.level[k]);
+                (
+                    curves
+                        .iter()
+                        .enumerate()
+                        .map(|(i, c)| fx(i, c, &|c| c.level.clone()))
+                        .collect(),
+                    y_axis(spec.y_range, v, false, true),
+                    format!("level ({db_text})"),
+                )
+            } else {
+                let v = visible_vals(&|c, k| c.values[k].norm());
+                (
+                    curves
+                        .iter()
+                        .enumerate()
+                        .map(|(i, c)| fx(i, c, &|c| c.values.iter().map(|v| v.norm()).collect()))
+                        .collect(),
+                    y_axis(spec.y_range, v, false, false),
+                    format!("magnitude ({unit_text})"),
+                )
+            };
             let p1 = Panel {
                 x0: left,
                 y0: top,
@@ -310,46 +415,58 @@ fn draw_frf<DB: DrawingBackend>(
                 x,
                 y: top_axis,
             };
-            axes(
+            if part.frame {
+                axes(
+                    b,
+                    &p1,
+                    if two { None } else { Some(freq_title) },
+                    &top_title,
+                    None,
+                    true,
+                )?;
+            }
+            let stems: Vec<bool> = curves.iter().map(|c| c.stems).collect();
+            draw_curves_stems(
                 b,
                 &p1,
-                if two { None } else { Some(freq_title) },
-                &top_title,
-                None,
-                true,
+                &top_pts,
+                &stems,
+                kind != PlotKind::ReIm,
+                &part.drawn,
             )?;
-            let stems: Vec<bool> = curves.iter().map(|c| c.stems).collect();
-            draw_curves_stems(b, &p1, &top_pts, &stems, kind != PlotKind::ReIm)?;
             let mut frames = vec![p1.frame("frequency")];
             if two {
-                let (pts, axis, title, fixed): (_, Axis, String, Option<Vec<f64>>) =
-                    if kind == PlotKind::ReIm {
-                        let v = visible_vals(&|c, k| c.values[k].im);
-                        (
-                            curves
-                                .iter()
-                                .map(|c| fx(c, c.values.iter().map(|v| v.im).collect()))
-                                .collect::<Vec<_>>(),
-                            y_axis(None, v, false, false),
-                            format!("imaginary part ({unit_text})"),
-                            None,
-                        )
-                    } else {
-                        (
-                            // (an empty line of a line spectrum has no phase: NaN)
-                            curves
-                                .iter()
-                                .map(|c| fx(c, c.phase.clone()))
-                                .collect::<Vec<_>>(),
-                            Axis {
-                                min: -180.0,
-                                max: 180.0,
-                                log: false,
-                            },
-                            "phase (°)".to_string(),
-                            Some(vec![-180.0, -90.0, 0.0, 90.0, 180.0]),
-                        )
-                    };
+                let (pts, axis, title, fixed): (_, Axis, String, Option<Vec<f64>>) = if kind
+                    == PlotKind::ReIm
+                {
+                    let v = visible_vals(&|c, k| c.values[k].im);
+                    (
+                        curves
+                            .iter()
+                            .enumerate()
+                            .map(|(i, c)| fx(i, c, &|c| c.values.iter().map(|v| v.im).collect()))
+                            .collect::<Vec<_>>(),
+                        y_axis(None, v, false, false),
+                        format!("imaginary part ({unit_text})"),
+                        None,
+                    )
+                } else {
+                    (
+                        // (an empty line of a line spectrum has no phase: NaN)
+                        curves
+                            .iter()
+                            .enumerate()
+                            .map(|(i, c)| fx(i, c, &|c| c.phase.clone()))
+                            .collect::<Vec<_>>(),
+                        Axis {
+                            min: -180.0,
+                            max: 180.0,
+                            log: false,
+                        },
+                        "phase (°)".to_string(),
+                        Some(vec![-180.0, -90.0, 0.0, 90.0, 180.0]),
+                    )
+                };
                 let p2 = Panel {
                     x0: left,
                     y0: y0b,
@@ -358,7 +475,9 @@ fn draw_frf<DB: DrawingBackend>(
                     x,
                     y: axis,
                 };
-                axes(b, &p2, Some(freq_title), &title, fixed.as_deref(), true)?;
+                if part.frame {
+                    axes(b, &p2, Some(freq_title), &title, fixed.as_deref(), true)?;
+                }
                 // Phase wraps at ±180°: break the line there instead of drawing a vertical jump.
                 let pts: Vec<Vec<(f64, f64)>> = if kind == PlotKind::Bode {
                     pts.into_iter()
@@ -376,10 +495,12 @@ fn draw_frf<DB: DrawingBackend>(
                 } else {
                     pts
                 };
-                draw_curves_stems(b, &p2, &pts, &stems, false)?;
+                draw_curves_stems(b, &p2, &pts, &stems, false, &part.drawn)?;
                 frames.push(p2.frame("frequency"));
             }
-            legend_out.extend(legend(b, &p1, &labels)?);
+            if part.legend {
+                legend_out.extend(legend(b, &p1, &labels)?);
+            }
             Ok(frames)
         }
         PlotKind::Lines | PlotKind::Bars | PlotKind::Difference => {
@@ -393,6 +514,7 @@ fn draw_lines<DB: DrawingBackend>(
     spec: &PlotSpec,
     (left, top, right, bottom): (i32, i32, i32, i32),
     legend_out: &mut Vec<LegendEntry>,
+    part: &Part,
 ) -> Result<Vec<Frame>> {
     if spec.lines.is_empty() {
         return Err(Error::missing("nothing to plot: no lines given"));
@@ -446,13 +568,18 @@ fn draw_lines<DB: DrawingBackend>(
     } else {
         &spec.x_label
     };
-    axes(b, &p, Some(xt), &spec.y_label, None, true)?;
+    if part.frame {
+        axes(b, &p, Some(xt), &spec.y_label, None, true)?;
+    }
     let pts: Vec<Vec<(f64, f64)>> = spec
         .lines
         .iter()
         .map(|l| l.x.iter().copied().zip(l.y.iter().copied()).collect())
         .collect();
-    draw_curves(b, &p, &pts)?;
+    draw_curves(b, &p, &pts, &part.drawn)?;
+    if !part.legend {
+        return Ok(vec![p.frame("x")]);
+    }
     *legend_out = legend(
         b,
         &p,
@@ -607,6 +734,79 @@ pub fn render_data_svg(
 mod tests {
     use super::super::fixtures::{sdof, spec};
     use super::*;
+
+    /// The drawn elements of an SVG, one per line, sorted (the header and
+    /// the closing tag left out).
+    fn elements(svg: &str) -> Vec<String> {
+        let mut v: Vec<String> = svg
+            .lines()
+            .map(str::trim)
+            .filter(|l| !l.is_empty() && !l.starts_with("<svg") && *l != "</svg>")
+            .map(String::from)
+            .collect();
+        v.sort();
+        v
+    }
+
+    #[test]
+    fn passes_draw_what_one_pass_draws() {
+        // one entry drawn seven times, in passes of 3: the same elements as
+        // one pass, the legend only in the last
+        let series: Vec<String> = (0..7)
+            .map(|_| r#"{"set":"a","out":0,"in":0}"#.to_string())
+            .collect();
+        for kind in ["bode", "magnitude", "re-im", "nyquist"] {
+            let spec = PlotSpec::from_json(&format!(
+                r#"{{"kind":"{kind}","series":[{}],"title":"t"}}"#,
+                series.join(",")
+            ))
+            .unwrap();
+            let data = PlotData::resolve(&spec, &sdof()).unwrap();
+            let view = View::of(&spec);
+            let (one, all) = render_data_svg(&data, &view, 800, 500).unwrap();
+            assert_eq!(all.next, None);
+            let mut parts = String::new();
+            let mut from = 0;
+            let mut passes = 0;
+            loop {
+                let mut s = String::new();
+                let d = {
+                    let mut b = SVGBackend::with_string(&mut s, (800, 500));
+                    draw_data_pass(&mut b, &data, &view, Pass { from, to: from + 3 }).unwrap()
+                };
+                assert_eq!(
+                    d.frames, all.frames,
+                    "{kind}: every pass lays out the same panels"
+                );
+                parts.push_str(&s);
+                passes += 1;
+                match d.next {
+                    Some(n) => {
+                        assert!(d.legend.is_empty());
+                        from = n;
+                    }
+                    None => {
+                        assert_eq!(d.legend, all.legend);
+                        break;
+                    }
+                }
+            }
+            assert_eq!(passes, 3, "{kind}");
+            assert_eq!(elements(&parts), elements(&one), "{kind}");
+        }
+        // a pass past the curves is refused, naming the pass
+        let data = PlotData::resolve(&spec("bode"), &sdof()).unwrap();
+        let mut s = String::new();
+        let mut b = SVGBackend::with_string(&mut s, (800, 500));
+        let e = draw_data_pass(
+            &mut b,
+            &data,
+            &View::of(&spec("bode")),
+            Pass { from: 5, to: 8 },
+        )
+        .unwrap_err();
+        assert_eq!(e.field.as_deref(), Some("pass"));
+    }
 
     #[test]
     fn bode_svg_has_two_panels_and_reference_label() {

@@ -173,6 +173,7 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
     assert.equal(labels.filter((l) => /\(measured\)$/.test(l)).length, 5);
     assert.equal(labels.filter((l) => /\(synthesized\)$/.test(l)).length, 5);
     assert.deepEqual(labels.filter((l) => /SYNTHESIZED, not measured/.test(l)), ['bracket-clean: bracket:1+Y / bracket:1+Y (SYNTHESIZED, not measured: filled from the mode shapes)']);
+    await p.waitForFunction(() => document.querySelectorAll('#plot-legend-list li').length > 0);
     assert.match(await p.textContent('#plot-legend-list'), /bracket:1\+Y \/ bracket:1\+Y \(SYNTHESIZED, not measured/);
     assert.match(await p.textContent('.fit-filled'), /bracket:1\+Y\/bracket:1\+Y/);
 

@@ -4,10 +4,18 @@ Builds the same component data as the Rust side from the same seed (a
 counter-based splitmix64 generator, reproduced bit for bit with uint64
 arithmetic), then times the LM-FBS formula
     Y_c = Y - Y B^T (B Y B^T)^-1 B Y
-on stacked arrays: the block-diagonal Y, matmul with the signed Boolean B,
-and batched np.linalg.solve. Writes every SAMPLE-th line of Y_c (complex128,
-little-endian, line-major) for the Rust side to compare, and prints one JSON
-line with the best wall-clock and CPU (all threads) times.
+two ways:
+- "matmul": stacked arrays, the block-diagonal Y, matmul with the signed
+  Boolean B, batched np.linalg.solve;
+- "indexed" (the strongest plain numpy we know): no Boolean matmul, the
+  interface rows and columns taken by index (B Y = Y[a] - Y[b]), one batched
+  solve, and the rank-m update written in place into the preallocated result
+  in chunks of lines (no full-size temporary).
+Also measured, for the machine's limit: the complex matrix-product rate
+(OpenBLAS zgemm through numpy on large square matrices, best of 3).
+Writes every SAMPLE-th line of both results (complex128, little-endian,
+line-major) for the Rust side to compare, and prints one JSON line with the
+best wall-clock and CPU (all threads) times of each.
 
 usage: bench_lmfbs.py OUTDIR LINES N_A N_B N_IF SEED REPS SAMPLE
 """
@@ -65,13 +73,10 @@ def main():
     # complex, C-contiguous operands so matmul hands every stacked product to BLAS
     B = B.astype(complex)
     Bt = np.ascontiguousarray(B.T)
-    best = float("inf")
-    best_cpu = float("inf")
-    yc = None
-    for _ in range(reps):
-        yc = None
-        t0 = time.perf_counter()
-        c0 = time.process_time()
+    ia = np.arange(na - nif, na)
+    ib = np.arange(na, na + nif)
+
+    def matmul():
         Y = np.zeros((lines, n, n), complex)
         Y[:, :na, :na] = ya
         Y[:, na:, na:] = yb
@@ -80,12 +85,50 @@ def main():
         Z = B @ YBt
         X = np.linalg.solve(Z, BY)
         Y -= YBt @ X
-        yc = Y
-        best = min(best, time.perf_counter() - t0)
-        best_cpu = min(best_cpu, time.process_time() - c0)
-        del YBt, BY, Z, X
-    np.ascontiguousarray(yc[::sample]).astype("<c16").tofile(f"{out}/numpy_samples.bin")
-    print(json.dumps({"seconds": best, "cpu_seconds": best_cpu, "numpy": np.__version__, "lines": lines, "dofs": n}))
+        return Y
+
+    def indexed():
+        Y = np.empty((lines, n, n), complex)
+        Y[:, :na, :na] = ya
+        Y[:, na:, na:] = yb
+        Y[:, :na, na:] = 0
+        Y[:, na:, :na] = 0
+        BY = Y[:, ia, :] - Y[:, ib, :]
+        YBt = Y[:, :, ia] - Y[:, :, ib]
+        Z = BY[:, :, ia] - BY[:, :, ib]
+        X = np.linalg.solve(Z, BY)
+        step = 64
+        for k in range(0, lines, step):
+            Y[k : k + step] -= YBt[k : k + step] @ X[k : k + step]
+        return Y
+
+    res = {"numpy": np.__version__, "lines": lines, "dofs": n}
+    for name, f in (("matmul", matmul), ("indexed", indexed)):
+        best = float("inf")
+        best_cpu = float("inf")
+        yc = None
+        for _ in range(reps):
+            yc = None
+            t0 = time.perf_counter()
+            c0 = time.process_time()
+            yc = f()
+            best = min(best, time.perf_counter() - t0)
+            best_cpu = min(best_cpu, time.process_time() - c0)
+        np.ascontiguousarray(yc[::sample]).astype("<c16").tofile(f"{out}/numpy_{name}_samples.bin")
+        res[name] = {"seconds": best, "cpu_seconds": best_cpu}
+        yc = None
+    # complex matrix-product rate: 8 real flops per complex multiply-add
+    m = 1024
+    rng = np.random.default_rng(1)
+    a = rng.standard_normal((m, m)) + 1j * rng.standard_normal((m, m))
+    b = rng.standard_normal((m, m)) + 1j * rng.standard_normal((m, m))
+    t = float("inf")
+    for _ in range(3):
+        t0 = time.perf_counter()
+        a @ b
+        t = min(t, time.perf_counter() - t0)
+    res["zgemm_gflops"] = 8.0 * m**3 / t / 1e9
+    print(json.dumps(res))
 
 
 if __name__ == "__main__":
