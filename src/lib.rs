@@ -61,6 +61,7 @@ pub mod listen;
 pub mod plot;
 pub mod predict;
 pub mod recipe;
+pub mod signal;
 pub mod summary;
 pub mod synth;
 pub mod uncertainty;

@@ -159,7 +159,7 @@ impl TimeSummary {
     /// One line of text, as `inspect` prints it.
     pub fn text(&self) -> String {
         format!(
-            "time history '{}' at line {}: channel {}, {}{}, {} samples{}, {:.6} s; not an FRF or spectrum (time data import is a later feature)",
+            "time history '{}' at line {}: channel {}, {}{}, {} samples{}, {:.6} s; not an FRF or spectrum (spectra and FRFs come from it through 'mortise spectrum' and 'mortise estimate', or the recipe steps 'spectrum' and 'estimate-frf')",
             self.name,
             self.line,
             if self.channel.is_empty() { "without DOF number" } else { &self.channel },

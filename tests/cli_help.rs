@@ -10,8 +10,9 @@ use mortise::io::{self, ExportFormat, ImportOptions};
 use num_complex::Complex64;
 use std::path::Path;
 
-const COMMANDS: [&str; 8] = [
-    "inspect", "convert", "run", "couple", "audit", "demo", "help", "version",
+const COMMANDS: [&str; 11] = [
+    "inspect", "convert", "run", "couple", "audit", "demo", "help", "version", "spectrum",
+    "estimate", "orders",
 ];
 
 #[test]

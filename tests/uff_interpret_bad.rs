@@ -253,10 +253,7 @@ fn only_time_responses() {
         &e,
         Some(8),
         "record 6, function type",
-        &[
-            "function type 1 (time response)",
-            "time data import is a later feature",
-        ],
+        &["function type 1 (time response)", "mortise spectrum"],
     );
 }
 

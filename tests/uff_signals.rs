@@ -242,8 +242,7 @@ fn time_responses_are_a_separate_typed_list() {
         // inspect's line and the card's summary say what it is
         let s = mortise::summary::time_summary(t).text();
         assert!(
-            s.contains("64 samples at 1024.0005 Hz, 0.061523 s")
-                && s.contains("time data import is a later feature"),
+            s.contains("64 samples at 1024.0005 Hz, 0.061523 s") && s.contains("mortise spectrum"),
             "{s}"
         );
         // the plain FRF reader refuses a file of time data, naming it

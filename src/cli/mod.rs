@@ -36,8 +36,10 @@ pub mod inspect;
 pub mod limits;
 pub mod listen;
 pub mod mat_opts;
+pub mod orders;
 pub mod run;
 pub mod spec;
+pub mod time_data;
 
 pub use args::Args;
 
@@ -260,6 +262,9 @@ pub fn execute(argv: &[String]) -> Outcome {
                 "demo" => demo::run(&args),
                 "diagram" => diagram::run(&args),
                 "listen" => listen::run(&args),
+                "spectrum" => time_data::run(&args, false),
+                "estimate" => time_data::run(&args, true),
+                "orders" => orders::run(&args),
                 "help" => help(&args.positional),
                 "version" => version(&args),
                 other => Err(internal(format!("command '{other}' has no handler"))),

@@ -707,6 +707,225 @@ pub const LISTEN: Command = Command {
     example: "mortise listen results/bedroom.csv -o bedroom.wav --seconds 5",
 };
 
+/// Options shared by `spectrum` and `estimate`: the averaging and the channels.
+const TIME_GROUP: Group = Group {
+    title: "time data (Welch averaging as scipy.signal.welch; the sets record these choices)",
+    opts: &[
+        val(
+            "segment",
+            "N",
+            "samples per segment, the FFT length: lines every fs/N Hz from 0 to fs/2; refused \
+             when longer than the record (default 4096)",
+        ),
+        val(
+            "overlap",
+            "F",
+            "fraction of a segment shared with the next, from 0 up to (not including) 1 \
+             (default 0.5)",
+        ),
+        val(
+            "window",
+            "W",
+            "rectangular, hann, hamming, flat-top (amplitudes of tones), force:WIDTH_S or \
+             exponential:TAU_S (impact testing; the exponential window adds 1/TAU_S to every \
+             mode's decay rate) (default hann)",
+        ),
+        val(
+            "detrend",
+            "D",
+            "removed from each segment before the window: none, constant (its mean) or linear \
+             (its least-squares line) (default constant)",
+        ),
+        many(
+            "channel",
+            "'N=DOF QTY FS UNIT'",
+            "a WAV channel to analyse: its number from 1, DOF, quantity, the value of full scale \
+             (sample 1.0) and its unit, e.g. '1=rig:1+Z force 500 N'; required for WAV files \
+             (channels not described are left out, with a note), refused for UFF and CSV \
+             files, whose channels carry their DOFs and units",
+        ),
+        val(
+            "to",
+            "FORMAT",
+            "uff, uff-binary or csv (mortise CSV, lossless); default: from OUT's extension",
+        ),
+    ],
+};
+
+/// Triggered impact records, for `estimate`.
+const IMPACT_GROUP: Group = Group {
+    title: "impact test (with --trigger: one record per hit instead of Welch segments; --segment, \
+            --overlap, --window and --detrend are then refused)",
+    opts: &[
+        val(
+            "trigger",
+            "LEVEL",
+            "trigger level on the force channel (the one --input), in SI (N): a hit starts where \
+             |force| first reaches it after the previous record",
+        ),
+        val(
+            "record-length",
+            "S",
+            "seconds per record (required with --trigger; lines every 1/S Hz)",
+        ),
+        val(
+            "pre-trigger",
+            "S",
+            "seconds kept before the trigger (default 0.01)",
+        ),
+        val(
+            "double-hit",
+            "F",
+            "a second pulse reaching F times the peak within the record flags a double hit; the \
+             record is left out (default 0.1)",
+        ),
+        val(
+            "force-width",
+            "S",
+            "force window: the force channel kept for S seconds from the record start, 0 after \
+             (default: kept whole)",
+        ),
+        val(
+            "decay",
+            "S",
+            "exponential window exp(-t/S) on every channel (adds 1/S to every mode's decay rate) \
+             (default: none)",
+        ),
+    ],
+};
+
+pub const SPECTRUM: Command = Command {
+    name: "spectrum",
+    summary: "spectra (PSD, autopower, linear, cross) of recorded time data (WAV, UFF 58 time responses, time CSV)",
+    usage: "mortise spectrum FILE -o OUT [--kind KIND] [--reference DOF] [time-data options] [--json]",
+    about: "Reads FILE, a WAV recording (PCM 8/16/24/32-bit or float 32/64-bit, any number of \
+            channels, read in blocks so its length is not bounded by memory; each channel \
+            described with --channel), a UFF file of time responses (function type 1, all of \
+            one rate and length) or a time CSV (header 'time [s], DOF [UNIT], ...', one row per \
+            sample, increasing even times), averages each channel's spectrum over overlapping windowed \
+            segments (Welch) and writes the spectra as a spectrum set per quantity, ready for \
+            'respond' and the other steps: the kind (autopower, PSD, RMS or peak line spectrum, \
+            cross spectrum) is stored with the values, and the window, segment, overlap, \
+            detrending and number of averages in the set's provenance.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                val(
+                    "kind",
+                    "KIND",
+                    "psd (unit²/Hz), autopower (unit², mean square per line), rms or peak (line \
+                     spectrum with the phase against --reference), cross (conj(X_ref)·X per \
+                     line, against --reference) (default psd)",
+                ),
+                val(
+                    "reference",
+                    "DOF",
+                    "the channel phases are measured against (needed by rms, peak and cross)",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        TIME_GROUP,
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise spectrum bench.wav -o bench-psd.csv --channel '1=unit:1+Z acceleration 98.0665 m/s^2' --segment 8192",
+};
+
+pub const ESTIMATE: Command = Command {
+    name: "estimate",
+    summary: "FRFs with coherence (H1, H2, Hv) from force and response channels of recorded time data",
+    usage: "mortise estimate FILE -o OUT --input DOF [--input DOF] [--estimator E] [time-data options] [--json]",
+    about: "Reads FILE (as 'mortise spectrum' does), averages the auto and cross spectra of the \
+            input (force) channels and every other channel (the responses) over windowed \
+            segments, and writes the FRFs from the inputs to the responses, one set per response \
+            quantity, with the coherence kept on the set: the multiple coherence of each \
+            response, which with one input is the ordinary coherence. H1 (default) is \
+            unbiased by noise on the responses, H2 (one input only) by noise on the input, Hv \
+            (total least squares) lies between them. Several inputs need their cross-spectral \
+            matrix regular at every line (not fully correlated); 0 Hz is left out.\n\n\
+            With --trigger, a hammer test: each hit on the force channel gives one record \
+            (pre-trigger, length, force and exponential windows); records with a double hit or an \
+            overload (a WAV channel within 0.1 % of its full scale) are left out and listed.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                many("input", "DOF", "an input (force) channel; at least one"),
+                val("estimator", "E", "h1, h2 or hv (default h1)"),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        TIME_GROUP,
+        IMPACT_GROUP,
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise estimate hammer.uff -o bracket-frf.uff --input bracket:1+Z --window exponential:0.5",
+};
+
+pub const ORDERS: Command = Command {
+    name: "orders",
+    summary: "order tracks of a run-up or run-down (WAV, UFF time responses, time CSV): one order's amplitude over frequency",
+    usage: "mortise orders FILE -o OUT --order O (--speed T:RPM,... | --tach DOF --tach-level L --pulses-per-rev N) [options]",
+    about: "Reads FILE (as 'mortise spectrum' does, a WAV file with --channel), finds the shaft angle \
+            from a speed profile (--speed, rpm linear between the points) or a tachometer channel \
+            (--tach: each upward crossing of --tach-level is 1/--pulses-per-rev revolution), resamples \
+            every other channel to --samples-per-rev samples a revolution (cubic interpolation), and \
+            takes order --order from Hann-windowed blocks of --revolutions revolutions. Writes a \
+            peak spectrum set per quantity whose lines are the order's frequency (order × rpm / 60) \
+            at each block's speed, the complex amplitude's phase referred to angle 0: a run-up becomes \
+            an excitation over frequency. The speed must rise or fall throughout; --order times \
+            --revolutions must be a whole number.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "OUT", "the file to write (required)"),
+                val("order", "O", "the order to track, e.g. 2 or 0.5 (required)"),
+                val(
+                    "speed",
+                    "T:RPM,...",
+                    "the speed profile: times in s and speeds in rpm, e.g. '0:600,20:3600'",
+                ),
+                val("tach", "DOF", "the tachometer channel (left out of the tracks)"),
+                val("tach-level", "L", "the tachometer's trigger level, in its SI unit (default 0.5)"),
+                val("pulses-per-rev", "N", "tachometer pulses per revolution (default 1)"),
+                val(
+                    "revolutions",
+                    "R",
+                    "revolutions per block (order resolution 1/R; default 8)",
+                ),
+                val(
+                    "samples-per-rev",
+                    "S",
+                    "samples per revolution after resampling (orders up to S/2 − 1; default 64)",
+                ),
+                many(
+                    "channel",
+                    "'N=DOF QTY FS UNIT'",
+                    "a WAV channel, as for 'mortise spectrum' (required for WAV files)",
+                ),
+                val(
+                    "to",
+                    "FORMAT",
+                    "uff, uff-binary or csv; default: from OUT's extension",
+                ),
+                JSON_OPT,
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+        FILES_GROUP,
+    ],
+    example: "mortise orders runup.uff -o fan-order2.csv --order 2 --speed 0:600,20:3600",
+};
+
 pub const DEMO: Command = Command {
     name: "demo",
     summary: "write (or check) the demo scenario's supplier files and recipe",
@@ -763,7 +982,8 @@ pub const VERSION: Command = Command {
 
 /// Every command, in the order the general help lists them.
 pub const COMMANDS: &[Command] = &[
-    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, DEMO, HELP, VERSION,
+    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE, ORDERS, DEMO, HELP,
+    VERSION,
 ];
 
 pub fn command(name: &str) -> Option<&'static Command> {

@@ -5,7 +5,8 @@
 //!   a socket or a directory is refused before it is opened, so nothing
 //!   reads without end or waits forever for a writer;
 //! - a file larger than the budget ([`Limits::file_bytes`], 256 MiB by
-//!   default, `--max-file-mb`) is refused before it is read, and reading
+//!   default, `--max-file-mb`) is refused before it is read (except a file
+//!   opened by [`open_stream`] to be read in blocks, never held whole), and reading
 //!   stops one byte past the budget should the file grow meanwhile;
 //! - [`DirSource`] confines the names a recipe (or a bundle) gives to the
 //!   recipe's own folder: absolute names, `..` that leave the folder and
@@ -53,6 +54,32 @@ pub fn read_file(path: &Path, shown: &str, limits: &Limits) -> Result<Vec<u8>> {
         .check_file(&format!("'{shown}'"), bytes.len() as u64)
         .map_err(|e| e.in_file(shown))?;
     Ok(bytes)
+}
+
+/// Open one regular file to read block by block (a WAV recording streamed
+/// by `signal::analyse`): the same checks as [`read_file`] but no size
+/// budget, since the file is never held whole.
+pub fn open_stream(path: &Path, shown: &str) -> Result<std::fs::File> {
+    let meta = std::fs::metadata(path)
+        .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
+    if !meta.is_file() {
+        return Err(Error::io(format!(
+            "not a regular file ({}); mortise reads only regular files",
+            kind_of(&meta)
+        ))
+        .in_file(shown));
+    }
+    let file = std::fs::File::open(path)
+        .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
+    let opened = file
+        .metadata()
+        .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
+    if !opened.is_file() {
+        return Err(
+            Error::io("not a regular file; mortise reads only regular files").in_file(shown),
+        );
+    }
+    Ok(file)
 }
 
 /// The operating system's reason, without the Rust wording ("os error 2").

@@ -13,7 +13,9 @@ pub mod disk;
 pub mod mat;
 pub mod merge;
 pub mod nodes;
+pub mod time_csv;
 pub mod uff58;
+pub mod wav;
 
 use crate::error::{Error, Result};
 use crate::frf::{FrfSet, Provenance, SignalKind};
@@ -425,6 +427,23 @@ pub fn detect(bytes: &[u8], file: &str) -> Result<Format> {
     }
     if let Some(what) = looks_like(bytes) {
         return fail(format!("this looks like {what}, not FRF data; {ACCEPTED}"));
+    }
+    // time data: read by the time-data commands and steps, never as a set
+    const TIME_WAY: &str = "spectra, FRFs and order tracks are made from it by 'mortise spectrum', \
+        'mortise estimate' and 'mortise orders' (recipe steps 'spectrum', 'estimate-frf', 'orders')";
+    if wav::looks_like_wav(bytes) {
+        let what = match wav::WavReader::new(bytes, file) {
+            Ok(r) => r.info.describe(),
+            Err(e) => format!("its header is not readable: {}", e.message),
+        };
+        return fail(format!(
+            "this is a WAV recording ({what}): time data, not FRFs or spectra; {TIME_WAY}"
+        ));
+    }
+    if time_csv::looks_like_time_csv(bytes) {
+        return fail(format!(
+            "this is time data (its first column is time): not FRFs or spectra; {TIME_WAY}"
+        ));
     }
     if mat::sniff(bytes) {
         return Ok(Format::Mat);

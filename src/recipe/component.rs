@@ -298,7 +298,7 @@ fn load_file(
             format!("file '{file}' holds no FRF set")
         } else {
             format!(
-                "file '{file}' holds no FRF set, only {} time histor{} (UFF function type 1), which no operation takes yet (time data import is a later feature)",
+                "file '{file}' holds no FRF set, only {} time histor{} (UFF function type 1), which a component does not take; make spectra or FRFs from it with a 'spectrum' or 'estimate-frf' step naming it as \"file\"",
                 loaded.time_histories.len(),
                 if loaded.time_histories.len() == 1 { "y" } else { "ies" }
             )

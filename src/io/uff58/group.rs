@@ -293,7 +293,7 @@ pub struct UffRead {
 fn time_text(time: &[TimeHistory]) -> String {
     let lines: Vec<String> = time.iter().take(5).map(|t| t.line.to_string()).collect();
     format!(
-        "{} dataset(s) of function type 1 (time response) at line(s) {}{}: time histories are not FRFs or spectra (their abscissa is time, not frequency); time data import is a later feature (it will feed spectra for excitation and operational data for blocked forces)",
+        "{} dataset(s) of function type 1 (time response) at line(s) {}{}: time histories are not FRFs or spectra (their abscissa is time, not frequency); spectra and FRFs are made from them by 'mortise spectrum' and 'mortise estimate' (recipe steps 'spectrum' and 'estimate-frf')",
         time.len(),
         lines.join(", "),
         if time.len() > 5 { " ..." } else { "" }

@@ -10,6 +10,7 @@ mod couple;
 mod identify;
 mod predict;
 mod reshape;
+mod time_data;
 mod transform;
 mod virtual_points;
 
@@ -18,6 +19,7 @@ pub use couple::{Couple, Decouple};
 pub use identify::{pick_toggled, pick_written, IdentifyModes, Regenerate};
 pub use predict::{BlockedForces, Paths, Respond};
 pub use reshape::{Cascade, Parallel, Series, Sum};
+pub use time_data::{EstimateFrf, Orders, Spectrum};
 pub(crate) use transform::{
     interp as transform_interp, scale_in_place, select as transform_select,
 };
@@ -216,6 +218,9 @@ operations! {
     "to-virtual-points" => ToVirtualPoints,
     "identify-modes" => IdentifyModes,
     "regenerate" => Regenerate,
+    "spectrum" => Spectrum,
+    "estimate-frf" => EstimateFrf,
+    "orders" => Orders,
 }
 
 /// One step: an id, an optional note, and an operation with its operands.

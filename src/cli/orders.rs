@@ -1,0 +1,191 @@
+//! `mortise orders`: order tracks of a run-up or run-down through
+//! [`crate::signal::orders`].
+
+use super::{Args, Done};
+use crate::error::{quote, Error, Result};
+use crate::frf::{Dof, Provenance};
+use crate::io::{self, ExportFormat};
+use crate::signal::analyse::{self, ChannelSpec};
+use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use std::io::{BufReader, Read};
+use std::path::Path;
+
+fn number(args: &Args, name: &str) -> Result<Option<f64>> {
+    args.value(name)
+        .map(|v| {
+            v.trim()
+                .parse::<f64>()
+                .map_err(|_| Error::usage(format!("--{name} '{}': expected a number", quote(v))))
+        })
+        .transpose()
+}
+
+fn whole(args: &Args, name: &str, default: usize) -> Result<usize> {
+    match args.value(name) {
+        None => Ok(default),
+        Some(v) => v
+            .trim()
+            .parse::<usize>()
+            .map_err(|_| Error::usage(format!("--{name} '{}': expected a whole number", quote(v)))),
+    }
+}
+
+fn profile(text: &str) -> Result<Vec<(f64, f64)>> {
+    text.split(',')
+        .map(|p| {
+            let bad = || {
+                Error::usage(format!(
+                    "--speed: '{}' is not TIME:RPM (e.g. '0:600,20:3600')",
+                    quote(p)
+                ))
+            };
+            let (t, r) = p.split_once(':').ok_or_else(bad)?;
+            Ok((
+                t.trim().parse::<f64>().map_err(|_| bad())?,
+                r.trim().parse::<f64>().map_err(|_| bad())?,
+            ))
+        })
+        .collect()
+}
+
+pub fn run(args: &Args) -> Result<Done> {
+    let [path] = args.positional.as_slice() else {
+        return Err(Error::usage("orders takes one FILE of time data"));
+    };
+    let out = args
+        .value("o")
+        .ok_or_else(|| Error::usage("orders needs -o OUT"))?;
+    let fmt = match args.value("to") {
+        Some(t) => ExportFormat::parse(t)?,
+        None => ExportFormat::from_extension(out).ok_or_else(|| {
+            Error::usage(format!(
+                "cannot tell the output format from '{out}'; give --to uff, uff-binary or csv"
+            ))
+        })?,
+    };
+    if fmt == ExportFormat::Bundle {
+        return Err(Error::usage("orders writes uff, uff-binary or csv"));
+    }
+    let order = number(args, "order")?.ok_or_else(|| Error::usage("orders needs --order O"))?;
+    let settings = OrderSettings {
+        order,
+        revolutions: whole(args, "revolutions", 8)?,
+        samples_per_rev: whole(args, "samples-per-rev", 64)?,
+    };
+    let tach = args
+        .value("tach")
+        .map(|t| Dof::parse(t, "").map_err(|e| Error::usage(format!("--tach: {}", e.message))))
+        .transpose()?;
+    let speed_text = args.value("speed");
+    match (&tach, speed_text) {
+        (Some(_), Some(_)) => {
+            return Err(Error::usage("give --speed or --tach, not both"));
+        }
+        (None, None) => {
+            return Err(Error::usage(
+                "orders needs the speed: --speed T:RPM,... or --tach DOF",
+            ))
+        }
+        (None, Some(_)) => {
+            for o in ["tach-level", "pulses-per-rev"] {
+                if args.value(o).is_some() {
+                    return Err(Error::usage(format!("--{o} applies to --tach")));
+                }
+            }
+        }
+        _ => {}
+    }
+    let limits = super::limits::from_args(args)?;
+    let shown = io::base_name(path);
+    let specs: Vec<ChannelSpec> = args
+        .values("channel")
+        .iter()
+        .map(|t| ChannelSpec::parse(t, ""))
+        .collect::<Result<_>>()?;
+    let mut file = io::disk::open_stream(Path::new(path), path)?;
+    let mut head = [0u8; 12];
+    let n = file
+        .read(&mut head)
+        .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
+    drop(file);
+    let (rec, notes, prov) = if io::wav::looks_like_wav(&head[..n]) {
+        let f = io::disk::open_stream(Path::new(path), path)?;
+        let wav = io::wav::WavReader::new(BufReader::with_capacity(1 << 20, f), path)?;
+        let (rec, _, notes) = analyse::wav_recording(wav, path, &specs, &limits)?;
+        let prov = Provenance {
+            file: shown.clone(),
+            sha256: String::new(),
+            format: "wav".into(),
+            options: String::new(),
+        };
+        (rec, notes, prov)
+    } else {
+        if !specs.is_empty() {
+            return Err(Error::usage(
+                "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
+            )
+            .in_file(path.as_str()));
+        }
+        let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
+        let (rec, format) = analyse::recording_from_bytes(&bytes, &shown, &limits)
+            .map_err(|e| e.in_file(path.as_str()))?;
+        let prov = Provenance {
+            file: shown.clone(),
+            sha256: io::sha256_hex(&bytes),
+            format,
+            options: String::new(),
+        };
+        (rec, Vec::new(), prov)
+    };
+    let (speed, tach_index) = match (&tach, speed_text) {
+        (Some(d), _) => {
+            let i = rec.index_of(d).map_err(|e| e.field("tach"))?;
+            (
+                Speed::Tach {
+                    samples: rec.samples[i].clone(),
+                    level: number(args, "tach-level")?.unwrap_or(0.5),
+                    pulses_per_rev: number(args, "pulses-per-rev")?.unwrap_or(1.0),
+                },
+                Some(i),
+            )
+        }
+        (None, Some(t)) => (Speed::Profile(profile(t)?), None),
+        (None, None) => return Err(Error::internal("speed checked above")),
+    };
+    let name = format!("{} order {order}", io::file_stem(path));
+    let sets =
+        order_tracks(&rec, &speed, tach_index, &settings, &name, &prov, &limits).map_err(|e| {
+            if e.file.is_none() {
+                e.in_file(path.as_str())
+            } else {
+                e
+            }
+        })?;
+    let exported = io::export(&sets, fmt)?;
+    std::fs::write(out, &exported.bytes)
+        .map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
+    let what = sets[0]
+        .provenance
+        .first()
+        .map(|p| p.options.clone())
+        .unwrap_or_default();
+    if args.flag("json") {
+        return Ok(Done::json(serde_json::json!({
+            "file": out,
+            "sets": sets.iter().map(|s| serde_json::json!({
+                "name": s.name,
+                "outputs": s.outputs.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+                "lines": s.n_lines(),
+                "from_hz": s.freqs.first(),
+                "to_hz": s.freqs.last(),
+            })).collect::<Vec<_>>(),
+            "tracking": what,
+            "notes": notes,
+        })));
+    }
+    let mut s = format!("wrote {out}: {} set(s), {what}\n", sets.len());
+    for n in &notes {
+        s.push_str(&format!("  note: {n}\n"));
+    }
+    Ok(Done::text(s))
+}

@@ -1,0 +1,414 @@
+//! Reading WAV files (RIFF `WAVE`), block by block.
+//!
+//! Formats: PCM (tag 1) of 8 (unsigned), 16, 24 and 32 bits, IEEE float
+//! (tag 3) of 32 and 64 bits, and `WAVE_FORMAT_EXTENSIBLE` (tag 0xFFFE)
+//! whose sub-format GUID is PCM or float, with any number of channels.
+//! Chunks other than `fmt ` and `data` (`LIST`, `fact`, ...) are skipped,
+//! with the pad byte of odd-sized chunks. Samples come out as f64 at full
+//! scale 1: PCM values divided by 2^(bits−1) (8-bit: (v − 128)/128), float
+//! values as stored; a channel's calibration (what full scale is in a
+//! physical unit) is applied by the caller.
+//!
+//! [`WavReader`] reads from any `std::io::Read` and keeps only the block
+//! asked for, so a recording of any length is read in bounded memory.
+//! Errors name the byte offset of the field they are about.
+
+use crate::error::{Error, Result};
+use std::io::Read;
+
+/// Sample encoding.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SampleFormat {
+    Pcm,
+    Float,
+}
+
+/// What the header says.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WavInfo {
+    pub format: SampleFormat,
+    pub channels: usize,
+    pub sample_rate: u32,
+    /// Bits per stored sample (container size).
+    pub bits: u16,
+    /// Bytes per frame (all channels of one instant).
+    pub block_align: usize,
+    /// Frames in the data chunk.
+    pub frames: u64,
+    /// Byte offset of the first sample.
+    pub data_offset: u64,
+    /// `WAVE_FORMAT_EXTENSIBLE` was used.
+    pub extensible: bool,
+}
+
+impl WavInfo {
+    pub fn duration_s(&self) -> f64 {
+        self.frames as f64 / self.sample_rate as f64
+    }
+    pub fn describe(&self) -> String {
+        format!(
+            "{} channel(s), {} Hz, {}-bit {}{}, {} frames ({:.3} s)",
+            self.channels,
+            self.sample_rate,
+            self.bits,
+            match self.format {
+                SampleFormat::Pcm => "PCM",
+                SampleFormat::Float => "float",
+            },
+            if self.extensible { " (extensible)" } else { "" },
+            self.frames,
+            self.duration_s()
+        )
+    }
+}
+
+/// True when the bytes start like a WAV file.
+pub fn looks_like_wav(bytes: &[u8]) -> bool {
+    bytes.len() >= 12 && &bytes[0..4] == b"RIFF" && &bytes[8..12] == b"WAVE"
+}
+
+/// A WAV file being read.
+pub struct WavReader<R: Read> {
+    src: R,
+    file: String,
+    pub info: WavInfo,
+    /// Frames read so far.
+    done: u64,
+    raw: Vec<u8>,
+}
+
+fn u16le(b: &[u8], at: usize) -> u16 {
+    u16::from_le_bytes([b[at], b[at + 1]])
+}
+fn u32le(b: &[u8], at: usize) -> u32 {
+    u32::from_le_bytes([b[at], b[at + 1], b[at + 2], b[at + 3]])
+}
+
+/// The sub-format GUIDs' common tail (KSDATAFORMAT_SUBTYPE_*: the format
+/// tag in the first two bytes, then 00 00 00 00 10 00 80 00 00 AA 00 38 9B 71).
+const GUID_TAIL: [u8; 14] = [
+    0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xAA, 0x00, 0x38, 0x9B, 0x71,
+];
+
+impl<R: Read> WavReader<R> {
+    /// Reads the header up to the start of the samples.
+    pub fn new(mut src: R, file: &str) -> Result<WavReader<R>> {
+        let err = |at: u64, field: &str, msg: String| {
+            Error::parse(msg)
+                .in_file(file)
+                .at_byte(at as usize)
+                .field(field.to_string())
+        };
+        let mut head = [0u8; 12];
+        read_exact(&mut src, &mut head, file, 0, "RIFF header")?;
+        if &head[0..4] != b"RIFF" || &head[8..12] != b"WAVE" {
+            return Err(err(
+                0,
+                "RIFF header",
+                "not a WAV file: expected 'RIFF' at byte 0 and 'WAVE' at byte 8".into(),
+            ));
+        }
+        let mut pos: u64 = 12;
+        let mut fmt: Option<(u64, Vec<u8>)> = None;
+        loop {
+            let mut ch = [0u8; 8];
+            let got = read_upto(&mut src, &mut ch, file, pos)?;
+            if got < 8 {
+                return Err(err(
+                    pos,
+                    "data chunk",
+                    if fmt.is_none() {
+                        "the file ends before a 'fmt ' chunk".into()
+                    } else {
+                        "the file ends before a 'data' chunk".into()
+                    },
+                ));
+            }
+            let id = [ch[0], ch[1], ch[2], ch[3]];
+            let size = u32le(&ch, 4) as u64;
+            let body = pos + 8;
+            match &id {
+                b"fmt " => {
+                    if !matches!(size, 16 | 18 | 40) {
+                        return Err(err(
+                            pos + 4,
+                            "fmt chunk size",
+                            format!(
+                                "the 'fmt ' chunk declares {size} bytes; expected 16 (PCM), 18 or 40 (extensible)"
+                            ),
+                        ));
+                    }
+                    let mut b = vec![0u8; size as usize];
+                    read_exact(&mut src, &mut b, file, body, "fmt chunk")?;
+                    fmt = Some((body, b));
+                    pos = body + size;
+                }
+                b"data" => {
+                    let Some((at, b)) = fmt.take() else {
+                        return Err(err(
+                            pos,
+                            "fmt chunk",
+                            "the 'data' chunk comes before any 'fmt ' chunk".into(),
+                        ));
+                    };
+                    let info = parse_fmt(&b, at, body, size, file)?;
+                    return Ok(WavReader {
+                        src,
+                        file: file.to_string(),
+                        info,
+                        done: 0,
+                        raw: Vec::new(),
+                    });
+                }
+                _ => {
+                    let skip = size + (size & 1);
+                    let n = std::io::copy(&mut (&mut src).take(skip), &mut std::io::sink())
+                        .map_err(|e| {
+                            Error::io(format!("cannot read: {e}"))
+                                .in_file(file)
+                                .at_byte(body as usize)
+                        })?;
+                    if n < skip {
+                        return Err(err(
+                            pos + 4,
+                            "chunk size",
+                            format!(
+                                "chunk '{}' declares {size} bytes but the file ends {n} bytes after its header",
+                                String::from_utf8_lossy(&id).escape_default()
+                            ),
+                        ));
+                    }
+                    pos = body + skip;
+                }
+            }
+        }
+    }
+
+    /// Up to `max_frames` frames, interleaved, full scale 1; empty at the end.
+    pub fn read_frames(&mut self, max_frames: usize) -> Result<Vec<f64>> {
+        let left = self.info.frames - self.done;
+        let n = (max_frames as u64).min(left) as usize;
+        if n == 0 {
+            return Ok(Vec::new());
+        }
+        let ba = self.info.block_align;
+        self.raw.resize(n * ba, 0);
+        let at = self.info.data_offset + self.done * ba as u64;
+        let got = read_upto(&mut self.src, &mut self.raw, &self.file, at)?;
+        if got < n * ba {
+            let end = at + got as u64;
+            return Err(Error::parse(format!(
+                "the data chunk declares {} frames of {ba} bytes from byte {}, but the file ends at byte {end}{}",
+                self.info.frames,
+                self.info.data_offset,
+                if got % ba != 0 { ", inside a frame" } else { "" }
+            ))
+            .in_file(&self.file)
+            .at_byte(end as usize)
+            .field("data chunk size"));
+        }
+        self.done += n as u64;
+        let bytes = (self.info.bits / 8) as usize;
+        let mut out = Vec::with_capacity(n * self.info.channels);
+        for frame in self.raw.chunks_exact(ba) {
+            for c in 0..self.info.channels {
+                let s = &frame[c * bytes..(c + 1) * bytes];
+                out.push(match (self.info.format, bytes) {
+                    (SampleFormat::Pcm, 1) => (s[0] as f64 - 128.0) / 128.0,
+                    (SampleFormat::Pcm, 2) => i16::from_le_bytes([s[0], s[1]]) as f64 / 32768.0,
+                    (SampleFormat::Pcm, 3) => {
+                        (i32::from_le_bytes([0, s[0], s[1], s[2]]) >> 8) as f64 / 8388608.0
+                    }
+                    (SampleFormat::Pcm, _) => {
+                        i32::from_le_bytes([s[0], s[1], s[2], s[3]]) as f64 / 2147483648.0
+                    }
+                    (SampleFormat::Float, 4) => f32::from_le_bytes([s[0], s[1], s[2], s[3]]) as f64,
+                    (SampleFormat::Float, _) => {
+                        f64::from_le_bytes([s[0], s[1], s[2], s[3], s[4], s[5], s[6], s[7]])
+                    }
+                });
+            }
+        }
+        Ok(out)
+    }
+
+    /// Every remaining frame, channel after channel.
+    pub fn read_all(&mut self) -> Result<Vec<Vec<f64>>> {
+        let ch = self.info.channels;
+        let mut out = vec![Vec::new(); ch];
+        loop {
+            let block = self.read_frames(1 << 16)?;
+            if block.is_empty() {
+                return Ok(out);
+            }
+            for (c, v) in out.iter_mut().enumerate() {
+                v.extend(block.iter().skip(c).step_by(ch));
+            }
+        }
+    }
+}
+
+fn parse_fmt(b: &[u8], at: u64, data_at: u64, data_size: u64, file: &str) -> Result<WavInfo> {
+    let err = |off: u64, field: &str, msg: String| {
+        Error::parse(msg)
+            .in_file(file)
+            .at_byte((at + off) as usize)
+            .field(field.to_string())
+    };
+    let tag = u16le(b, 0);
+    let channels = u16le(b, 2) as usize;
+    let rate = u32le(b, 4);
+    let block_align = u16le(b, 12) as usize;
+    let bits = u16le(b, 14);
+    if channels == 0 {
+        return Err(err(2, "channels", "0 channels; expected at least 1".into()));
+    }
+    if rate == 0 {
+        return Err(err(
+            4,
+            "sample rate",
+            "sample rate 0 Hz; expected a positive rate".into(),
+        ));
+    }
+    let (format, extensible) = match tag {
+        1 => (SampleFormat::Pcm, false),
+        3 => (SampleFormat::Float, false),
+        0xFFFE => {
+            if b.len() < 40 {
+                return Err(err(
+                    0,
+                    "format tag",
+                    format!(
+                        "WAVE_FORMAT_EXTENSIBLE needs a 40-byte 'fmt ' chunk, this one has {}",
+                        b.len()
+                    ),
+                ));
+            }
+            let valid = u16le(b, 18);
+            if valid != 0 && valid != bits {
+                return Err(err(
+                    18,
+                    "valid bits",
+                    format!(
+                        "{valid} valid bits in {bits}-bit containers are not read; expected equal sizes"
+                    ),
+                ));
+            }
+            if b[26..40] != GUID_TAIL {
+                return Err(err(24, "sub-format", "unknown sub-format GUID; expected PCM or IEEE float".into()));
+            }
+            match u16le(b, 24) {
+                1 => (SampleFormat::Pcm, true),
+                3 => (SampleFormat::Float, true),
+                t => {
+                    return Err(err(
+                        24,
+                        "sub-format",
+                        format!("sub-format {t}; expected 1 (PCM) or 3 (IEEE float)"),
+                    ))
+                }
+            }
+        }
+        t => {
+            return Err(err(
+                0,
+                "format tag",
+                format!(
+                    "format tag {t} (compressed or unknown); expected 1 (PCM), 3 (IEEE float) or 0xFFFE (extensible)"
+                ),
+            ))
+        }
+    };
+    let ok_bits = match format {
+        SampleFormat::Pcm => matches!(bits, 8 | 16 | 24 | 32),
+        SampleFormat::Float => matches!(bits, 32 | 64),
+    };
+    if !ok_bits {
+        return Err(err(
+            14,
+            "bits per sample",
+            format!(
+                "{bits} bits per sample; expected {}",
+                match format {
+                    SampleFormat::Pcm => "8, 16, 24 or 32 for PCM",
+                    SampleFormat::Float => "32 or 64 for float",
+                }
+            ),
+        ));
+    }
+    let expect = channels * (bits as usize / 8);
+    if block_align != expect {
+        return Err(err(
+            12,
+            "block align",
+            format!(
+                "block align {block_align} bytes; {channels} channel(s) of {bits} bits need {expect}"
+            ),
+        ));
+    }
+    if data_size % block_align as u64 != 0 {
+        return Err(Error::parse(format!(
+            "the data chunk declares {data_size} bytes, not whole frames of {block_align}"
+        ))
+        .in_file(file)
+        .at_byte((data_at - 4) as usize)
+        .field("data chunk size"));
+    }
+    Ok(WavInfo {
+        format,
+        channels,
+        sample_rate: rate,
+        bits,
+        block_align,
+        frames: data_size / block_align as u64,
+        data_offset: data_at,
+        extensible,
+    })
+}
+
+/// Reads as much of `buf` as the source holds; the count read.
+fn read_upto<R: Read>(src: &mut R, buf: &mut [u8], file: &str, at: u64) -> Result<usize> {
+    let mut got = 0;
+    while got < buf.len() {
+        match src.read(&mut buf[got..]) {
+            Ok(0) => break,
+            Ok(n) => got += n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+            Err(e) => {
+                return Err(Error::io(format!("cannot read: {e}"))
+                    .in_file(file)
+                    .at_byte((at + got as u64) as usize))
+            }
+        }
+    }
+    Ok(got)
+}
+
+fn read_exact<R: Read>(src: &mut R, buf: &mut [u8], file: &str, at: u64, what: &str) -> Result<()> {
+    let got = read_upto(src, buf, file, at)?;
+    if got < buf.len() {
+        return Err(Error::parse(format!(
+            "the file ends inside the {what} ({} of {} bytes)",
+            got,
+            buf.len()
+        ))
+        .in_file(file)
+        .at_byte((at + got as u64) as usize)
+        .field(what.to_string()));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reads_what_listen_writes() {
+        let w = crate::listen::float_wav(8000, &[0.0, 0.5, -0.25]);
+        let mut r = WavReader::new(std::io::Cursor::new(w), "t.wav").unwrap();
+        assert_eq!(r.info.channels, 1);
+        assert_eq!(r.info.frames, 3);
+        assert_eq!(r.read_all().unwrap(), vec![vec![0.0, 0.5, -0.25]]);
+    }
+}
