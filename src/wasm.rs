@@ -119,52 +119,71 @@ pub fn recipe_editor_info() -> std::result::Result<String, JsValue> {
     ];
     let param_probes = [("number", json!(1.0)), ("text", json!("x"))];
 
-    // The first assignment of probes (an optional slot may also be left out)
-    // that `accepts` takes, as slot name → shape.
+    // Each slot's shape, as slot name → shape: first the required slots
+    // (the first assignment of probes `accepts` takes, the optional slots
+    // left out), then each optional slot alone on top of that. Linear in the
+    // optional slots: an operation of a dozen optional operands is probed in
+    // a few dozen tries, not in probes^slots (which took 34 s for the
+    // time-data steps). A slot no probe fits, or an operation whose required
+    // slots take no assignment, is "json" (the panel's plain text field).
     fn search(
         slots: &[(&str, bool)],
         probes: &[(&'static str, Value)],
         accepts: &dyn Fn(&Map<String, Value>) -> bool,
     ) -> Map<String, Value> {
-        let choices: Vec<usize> = slots
-            .iter()
-            .map(|(_, optional)| probes.len() + usize::from(*optional))
-            .collect();
-        let mut pick = vec![0usize; slots.len()];
-        loop {
+        let all_json = || {
+            slots
+                .iter()
+                .map(|(name, _)| ((*name).to_string(), Value::from("json")))
+                .collect::<Map<String, Value>>()
+        };
+        let required: Vec<usize> = (0..slots.len()).filter(|&k| !slots[k].1).collect();
+        let object = |pick: &[(usize, usize)]| {
             let mut obj = Map::new();
-            for ((name, _), &p) in slots.iter().zip(&pick) {
-                if let Some((_, v)) = probes.get(p) {
-                    obj.insert((*name).to_string(), v.clone());
-                }
+            for &(slot, p) in pick {
+                obj.insert(slots[slot].0.to_string(), probes[p].1.clone());
             }
-            if accepts(&obj) {
-                return slots
-                    .iter()
-                    .zip(&pick)
-                    .map(|((name, _), &p)| {
-                        let shape = probes.get(p).map_or("json", |(s, _)| *s);
-                        ((*name).to_string(), Value::from(shape))
-                    })
-                    .collect();
+            obj
+        };
+        // required slots: odometer over the probes
+        let mut pick = vec![0usize; required.len()];
+        let base: Vec<(usize, usize)> = loop {
+            let trial: Vec<(usize, usize)> =
+                required.iter().copied().zip(pick.iter().copied()).collect();
+            if accepts(&object(&trial)) {
+                break trial;
             }
-            // next assignment (odometer order); none left → every slot "json"
             let mut k = 0;
             loop {
                 if k == pick.len() {
-                    return slots
-                        .iter()
-                        .map(|(name, _)| ((*name).to_string(), Value::from("json")))
-                        .collect();
+                    return all_json();
                 }
                 pick[k] += 1;
-                if pick[k] < choices[k] {
+                if pick[k] < probes.len() {
                     break;
                 }
                 pick[k] = 0;
                 k += 1;
             }
+        };
+        let mut shapes = all_json();
+        for &(slot, p) in &base {
+            shapes.insert(slots[slot].0.to_string(), Value::from(probes[p].0));
         }
+        for (slot, (name, optional)) in slots.iter().enumerate() {
+            if !optional {
+                continue;
+            }
+            for (p, (shape, _)) in probes.iter().enumerate() {
+                let mut trial = base.clone();
+                trial.push((slot, p));
+                if accepts(&object(&trial)) {
+                    shapes.insert((*name).to_string(), Value::from(*shape));
+                    break;
+                }
+            }
+        }
+        shapes
     }
 
     let mut operations = Map::new();

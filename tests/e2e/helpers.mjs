@@ -29,8 +29,16 @@ export async function open(profile) {
   const page = ctx.pages()[0] || await ctx.newPage();
   page.on('pageerror', (e) => errors.push(String(e)));
   page.on('console', (m) => { if (m.type() === 'error') errors.push(m.text()); });
-  await page.goto(PAGE_URL);
-  await page.waitForFunction(() => document.body.dataset.state === 'ready' && window.mortiseTimings.ready_ms !== null, null, { timeout: 30000 });
+  try {
+    await page.goto(PAGE_URL);
+    await page.waitForFunction(() => document.body.dataset.state === 'ready' && window.mortiseTimings.ready_ms !== null, null, { timeout: 30000 });
+  } catch (e) {
+    // a page that does not start fails its test, and its browser is closed (else the test file never ends)
+    const state = await page.evaluate(() => `state ${document.body.dataset.state}, status: ${document.getElementById('status')?.textContent}`).catch(() => 'no state');
+    await ctx.close().catch(() => {});
+    if (!profile) rmSync(dir, { recursive: true, force: true });
+    throw new Error(`the page did not start (${state}; errors: ${errors.join(' | ') || 'none'}): ${e.message}`);
+  }
   const foreign = () => requests.filter((u) => !(u === PAGE_URL || u.startsWith('data:') || u.startsWith('blob:')));
   return {
     ctx, page, dir, requests, errors, foreign,

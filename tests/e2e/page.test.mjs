@@ -14,7 +14,7 @@ const report = (k, v) => console.log(`# measure ${k}: ${v}`);
 test('page fits the budget, starts offline and makes no request of its own', async () => {
   const size = statSync(PAGE).size;
   report('file size (bytes)', size);
-  assert.ok(size < 3 * 1024 * 1024, `page is ${size} bytes`);
+  assert.ok(size < 4 * 1024 * 1024, `page is ${size} bytes`); // tools/page.sh BUDGET
   const html = readFileSync(PAGE, 'utf8');
   assert.match(html, /Content-Security-Policy" content="default-src 'none'; script-src 'sha256-[^']+' 'wasm-unsafe-eval'; worker-src blob:;/);
   assert.match(html, /connect-src 'none'/);
