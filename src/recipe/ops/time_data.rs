@@ -126,6 +126,25 @@ fn dof(text: &str, field: &str) -> Result<Dof> {
     Dof::parse(text, "").map_err(|e| Error::recipe(e.message).field(field.to_string()))
 }
 
+/// A time file's provenance: its name and SHA-256, the format filled in by the reader.
+fn provenance_of(file: &str, bytes: &[u8]) -> Provenance {
+    Provenance {
+        file: io::base_name(file),
+        sha256: io::sha256_hex(bytes),
+        format: String::new(),
+        options: String::new(),
+    }
+}
+
+/// The step's `channels` (WAV channel descriptions), each parsed or refused.
+fn wav_channels(channels: Option<&[String]>) -> Result<Vec<ChannelSpec>> {
+    channels
+        .unwrap_or_default()
+        .iter()
+        .map(|t| ChannelSpec::parse(t, "").map_err(|e| Error::recipe(e.message).field("channels")))
+        .collect()
+}
+
 /// Reads the file and runs the analysis.
 fn analyse_file(
     cx: &Ctx,
@@ -136,21 +155,10 @@ fn analyse_file(
 ) -> Result<Analysed> {
     let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
     let name = cx.id.to_string();
-    let mut prov = Provenance {
-        file: io::base_name(file),
-        sha256: io::sha256_hex(&bytes),
-        format: String::new(),
-        options: String::new(),
-    };
+    let mut prov = provenance_of(file, &bytes);
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
-        let specs: Vec<ChannelSpec> = channels
-            .unwrap_or_default()
-            .iter()
-            .map(|t| {
-                ChannelSpec::parse(t, "").map_err(|e| Error::recipe(e.message).field("channels"))
-            })
-            .collect::<Result<_>>()?;
+        let specs = wav_channels(channels)?;
         let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
         analyse::analyse_wav(
             wav,
@@ -184,21 +192,10 @@ fn recording_of(
     channels: Option<&[String]>,
 ) -> Result<(Recording, Provenance, Vec<String>)> {
     let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
-    let mut prov = Provenance {
-        file: io::base_name(file),
-        sha256: io::sha256_hex(&bytes),
-        format: String::new(),
-        options: String::new(),
-    };
+    let mut prov = provenance_of(file, &bytes);
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
-        let specs: Vec<ChannelSpec> = channels
-            .unwrap_or_default()
-            .iter()
-            .map(|t| {
-                ChannelSpec::parse(t, "").map_err(|e| Error::recipe(e.message).field("channels"))
-            })
-            .collect::<Result<_>>()?;
+        let specs = wav_channels(channels)?;
         let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
         let (rec, _, notes) = analyse::wav_recording(wav, file, &specs, cx.limits)?;
         return Ok((rec, prov, notes));
