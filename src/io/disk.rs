@@ -23,29 +23,14 @@ use std::path::{Component, Path, PathBuf};
 /// Read one regular file of at most `limits.file_bytes` bytes. `shown` is the
 /// name errors give (as the user wrote it).
 pub fn read_file(path: &Path, shown: &str, limits: &Limits) -> Result<Vec<u8>> {
-    let meta = std::fs::metadata(path)
-        .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
-    if !meta.is_file() {
-        return Err(Error::io(format!(
-            "not a regular file ({}); mortise reads only regular files",
-            kind_of(&meta)
-        ))
-        .in_file(shown));
-    }
-    limits
-        .check_file(&format!("'{shown}'"), meta.len())
-        .map_err(|e| e.in_file(shown))?;
-    let file = std::fs::File::open(path)
-        .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
-    // The name may have been swapped for something else since the check.
+    // the regular-file checks (before and after opening) are open_stream's
+    let file = open_stream(path, shown)?;
     let opened = file
         .metadata()
         .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;
-    if !opened.is_file() {
-        return Err(
-            Error::io("not a regular file; mortise reads only regular files").in_file(shown),
-        );
-    }
+    limits
+        .check_file(&format!("'{shown}'"), opened.len())
+        .map_err(|e| e.in_file(shown))?;
     let mut bytes = Vec::with_capacity(usize::try_from(opened.len()).unwrap_or(0).min(1 << 26));
     file.take(limits.file_bytes.saturating_add(1))
         .read_to_end(&mut bytes)
