@@ -120,21 +120,7 @@ pub fn run(args: &Args) -> Result<Done> {
         };
         (rec, notes, prov)
     } else {
-        if !specs.is_empty() {
-            return Err(Error::usage(
-                "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
-            )
-            .in_file(path.as_str()));
-        }
-        let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
-        let (rec, format) = analyse::recording_from_bytes(&bytes, &shown, &limits)
-            .map_err(|e| e.in_file(path.as_str()))?;
-        let prov = Provenance {
-            file: shown.clone(),
-            sha256: io::sha256_hex(&bytes),
-            format,
-            options: String::new(),
-        };
+        let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;
         (rec, Vec::new(), prov)
     };
     let (speed, tach_index) = match (&tach, speed_text) {

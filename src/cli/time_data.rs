@@ -99,6 +99,33 @@ fn impact_settings(args: &Args) -> Result<Option<ImpactSettings>> {
     }))
 }
 
+/// A UFF or time CSV recording held whole, with its provenance (`specs`,
+/// the WAV channel descriptions, refused here): `spectrum`, `estimate` and
+/// `orders` read such files the same way.
+pub(super) fn recording_of(
+    path: &String,
+    shown: &str,
+    specs: &[ChannelSpec],
+    limits: &crate::limits::Limits,
+) -> Result<(crate::signal::Recording, Provenance)> {
+    if !specs.is_empty() {
+        return Err(Error::usage(
+            "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
+        )
+        .in_file(path.as_str()));
+    }
+    let bytes = io::disk::read_file(Path::new(path), path, limits)?;
+    let (rec, format) = analyse::recording_from_bytes(&bytes, shown, limits)
+        .map_err(|e| e.in_file(path.as_str()))?;
+    let prov = Provenance {
+        file: shown.to_string(),
+        sha256: io::sha256_hex(&bytes),
+        format,
+        options: String::new(),
+    };
+    Ok((rec, prov))
+}
+
 fn dof(text: &str, option: &str) -> Result<Dof> {
     Dof::parse(text, "").map_err(|e| Error::usage(format!("--{option}: {}", e.message)))
 }
@@ -235,21 +262,7 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         )?
     } else {
         drop(file);
-        if !specs.is_empty() {
-            return Err(Error::usage(
-                "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
-            )
-            .in_file(path.as_str()));
-        }
-        let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
-        let (rec, format) = analyse::recording_from_bytes(&bytes, &shown, &limits)
-            .map_err(|e| e.in_file(path.as_str()))?;
-        let prov = Provenance {
-            file: shown.clone(),
-            sha256: io::sha256_hex(&bytes),
-            format,
-            options: String::new(),
-        };
+        let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;
         analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(|e| {
             if e.file.is_none() {
                 e.in_file(path.as_str())
