@@ -155,8 +155,10 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
         "version": 1,
         "title": "Heat-pump outdoor unit on the bedroom wall (demo, invented data)",
         "components": {
-            "casing": {"file": "unit-casing.uff", "note": "unit maker: casing mobility at the isolator seats"},
-            "forces": {"file": "unit-blocked-forces.uff", "component": "casing", "note": "unit maker: compressor blocked forces at the seats, 58 Hz and harmonics"},
+            "casing": {"file": "unit-casing.uff", "note": "unit maker: casing mobility at the isolator seats",
+                "uncertainty": {"relative": 0.01, "floor_db": -60}},
+            "forces": {"file": "unit-blocked-forces.uff", "component": "casing", "note": "unit maker: compressor blocked forces at the seats, 58 Hz and harmonics",
+                "uncertainty": {"relative": 0.05}},
             "isolator": {"file": "isolator-stiffness.csv", "note": "isolator maker: axial dynamic stiffness of one isolator",
                 "import": {"column_map": {
                     "delimiter": "semicolon", "skip_rows": 3,
@@ -166,12 +168,14 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
                 }}},
             "bracket": {"file": "brackets.uffb", "note": "bracket maker: FE receptances between seats and wall anchors"},
             "wall": {"file": "wall-accelerance.csv", "note": "acoustician: wall accelerance at the anchors (hammer test)",
+                "uncertainty": {"relative": 0.01, "floor_db": -60},
                 "import": {"column_map": {
                     "delimiter": "comma", "skip_rows": 3,
                     "freq": "freq_Hz", "entries": wall_entries,
                     "unit": "g/N", "phase_unit": "deg", "out_qty": "acceleration", "in_qty": "force"
                 }}},
             "room": {"file": "wall-to-bed-pressure.csv", "note": "acoustician: sound pressure at the bed per anchor force",
+                "uncertainty": {"relative": 0.02, "floor_db": -60},
                 "import": {"column_map": {
                     "delimiter": "comma", "skip_rows": 2,
                     "freq": "freq_Hz", "entries": vibro_entries,

@@ -617,7 +617,10 @@ fn view_of(view: JsValue) -> Result<plot::View> {
 pub fn plot_data(spec: JsValue) -> std::result::Result<JsValue, JsValue> {
     let spec = plot_spec_of(spec).map_err(js_err)?;
     let data = WS
-        .with(|ws| plot::PlotData::resolve(&spec, ws.borrow().sets()))
+        .with(|ws| {
+            let ws = ws.borrow();
+            plot::PlotData::resolve_with_bands(&spec, ws.sets(), ws.uncertainties())
+        })
         .map_err(js_err)?;
     let parts = data.to_parts();
     let o = js_sys::Object::new();
@@ -640,7 +643,10 @@ pub fn plot_data(spec: JsValue) -> std::result::Result<JsValue, JsValue> {
 pub fn plot_data_json(spec: JsValue) -> std::result::Result<String, JsValue> {
     let spec = plot_spec_of(spec).map_err(js_err)?;
     let data = WS
-        .with(|ws| plot::PlotData::resolve(&spec, ws.borrow().sets()))
+        .with(|ws| {
+            let ws = ws.borrow();
+            plot::PlotData::resolve_with_bands(&spec, ws.sets(), ws.uncertainties())
+        })
         .map_err(js_err)?;
     let p = data.to_parts();
     to_json(&serde_json::json!({ "meta": p.meta, "grids": p.grids, "arrays": p.arrays }))

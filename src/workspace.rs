@@ -53,6 +53,9 @@ pub struct Workspace {
     bundle_inputs: BTreeMap<String, BundleIn>,
     bundle_recipe: Option<serde_json::Value>,
     sets: BTreeMap<String, FrfSet>,
+    /// The uncertainty and reliability of result sets that have one, by
+    /// set id (runs with uncertain components); dropped with their sets.
+    uncertainties: BTreeMap<String, recipe::Assessed>,
     results: Vec<String>,
     report: Option<serde_json::Value>,
     /// Every run, oldest first (at most [`history::KEEP_RUNS`]).
@@ -168,6 +171,13 @@ impl Workspace {
 
     fn drop_prefix(&mut self, prefix: &str) {
         self.sets.retain(|k, _| !k.starts_with(prefix));
+        self.uncertainties.retain(|k, _| !k.starts_with(prefix));
+    }
+
+    /// The uncertainty and reliability of the sets that have one, by set
+    /// id (drawn as bands by the plots).
+    pub fn uncertainties(&self) -> &BTreeMap<String, recipe::Assessed> {
+        &self.uncertainties
     }
 
     /// Load one file (replacing one of the same name). A file named by an
@@ -368,6 +378,7 @@ impl Workspace {
                 record.title = title;
                 record.headline = run.report.headline.clone();
                 let summary = self.store_results(number, run.outputs, Some(report));
+                self.keep_uncertainties(number, run.uncertainties);
                 record.results = summary.results.clone();
                 record.curves_kept = true;
                 self.remember(record);
@@ -475,6 +486,29 @@ impl Workspace {
     /// The import options an opened bundle recorded for an input.
     pub fn bundle_input_options(&self, name: &str) -> Option<&serde_json::Value> {
         self.bundle_inputs.get(name).map(|b| &b.options)
+    }
+
+    /// Keep a run's uncertainties beside its stored results (by output
+    /// name, as [`recipe::RunResult::uncertainties`] gives them).
+    fn keep_uncertainties(
+        &mut self,
+        number: u32,
+        mut by_name: BTreeMap<String, recipe::Assessed>,
+    ) {
+        let p = history::prefix(number);
+        for id in self.results.clone() {
+            if !id.starts_with(&p) {
+                continue;
+            }
+            let Some(set) = self.sets.get(&id) else {
+                continue;
+            };
+            if let Some(a) = by_name.remove(&set.name) {
+                if a.uncertainty.std.len() == set.data.len() {
+                    self.uncertainties.insert(id, a);
+                }
+            }
+        }
     }
 
     fn store_results(

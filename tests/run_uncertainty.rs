@@ -173,3 +173,92 @@ fn monte_carlo_of_the_recipe_and_its_bad_options() {
     let sd = bed["std_db"].as_f64().unwrap();
     assert!(sd > 0.0 && sd < 1.0, "{bed}");
 }
+
+/// The page's path, natively: the demo's files in a workspace, the run's
+/// result with its uncertainty kept beside it, and the plot of it carrying
+/// the 95 % band, the pale unreliable lines and the read-out's interval.
+#[test]
+fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
+    use mortise::plot::{probe_data, render_data_svg, PlotData, PlotSpec, View};
+    use mortise::workspace::Workspace;
+    let mut ws = Workspace::new();
+    let files = mortise::demo_files::files().unwrap();
+    let recipe = files
+        .iter()
+        .find(|(n, _)| n.ends_with(".recipe.json"))
+        .map(|(_, b)| String::from_utf8(b.clone()).unwrap())
+        .unwrap();
+    // each file with the import options its component names (as the page does)
+    let r: Value = serde_json::from_str(&recipe).unwrap();
+    for (name, bytes) in &files {
+        if name.ends_with(".recipe.json") {
+            continue;
+        }
+        let opts = r["components"]
+            .as_object()
+            .unwrap()
+            .values()
+            .find(|c| c["file"] == name.as_str())
+            .and_then(|c| c.get("import").cloned())
+            .unwrap_or(json!({}));
+        ws.load_file(name, bytes, opts).unwrap();
+    }
+    let run = ws.run_recipe(&recipe).unwrap();
+    let id = |name: &str| {
+        run.results
+            .iter()
+            .find(|r| r.name == name)
+            .unwrap_or_else(|| panic!("no result {name}"))
+            .id
+            .clone()
+    };
+    let bed = id("bedroom");
+    let a = ws.uncertainties().get(&bed).expect("the bedroom's uncertainty");
+    let set = ws.set(&bed).unwrap();
+    assert_eq!(a.uncertainty.std.len(), set.data.len());
+    let spec = PlotSpec::from_json(
+        &json!({"kind": "magnitude", "series": [{"set": bed, "out": 0, "in": 0}]}).to_string(),
+    )
+    .unwrap();
+    let data = PlotData::resolve_with_bands(&spec, ws.sets(), ws.uncertainties()).unwrap();
+    let (svg, drawn) = render_data_svg(&data, &View::of(&spec), 900, 500).unwrap();
+    assert!(
+        drawn.legend.iter().any(|l| l.label.contains("shaded: 95 % band")),
+        "{:?}",
+        drawn.legend
+    );
+    assert!(svg.contains("<polygon"), "no band drawn");
+    assert!(svg.contains("opacity=\"0.18\""), "the band's fill is not light");
+    // the same drawing after crossing to the drawing instance in parts
+    let again = PlotData::from_parts(data.to_parts()).unwrap();
+    assert_eq!(
+        render_data_svg(&again, &View::of(&spec), 900, 500).unwrap().0,
+        svg
+    );
+    // the read-out at the strongest line: its level inside its interval,
+    // the interval the formula of reliability::level_interval_db gives
+    let k = set
+        .freqs
+        .iter()
+        .position(|f| (*f - 116.0).abs() < 0.6)
+        .expect("a line at 116 Hz");
+    let p = &probe_data(&data, set.freqs[k])[0];
+    let [lo, hi] = p.interval_95_db.expect("an interval");
+    let (lo, hi) = (lo.unwrap(), hi.unwrap());
+    assert!(lo < p.level_db && p.level_db < hi, "{lo} {} {hi}", p.level_db);
+    let (elo, ehi) = mortise::uncertainty::level_interval_db(
+        set.data[k],
+        a.uncertainty.std[k],
+        set.signal,
+        p.level_db,
+    );
+    assert_eq!((lo, hi), (elo, ehi));
+    assert_eq!(p.reliable, Some(a.reliability.flags[k] == 0));
+    // a plot without uncertainty draws no band, and the baseline run
+    // forgets them with its sets
+    let plain = PlotData::resolve(&spec, ws.sets()).unwrap();
+    let (svg_plain, _) = render_data_svg(&plain, &View::of(&spec), 900, 500).unwrap();
+    assert!(!svg_plain.contains("opacity=\"0.18\""));
+    ws.clear();
+    assert!(ws.uncertainties().is_empty());
+}

@@ -374,7 +374,14 @@ function fillLegend(list, entries) {
 
 // ---------- read-outs ----------
 function readoutLines(p) {
-  return p.map((q) => `${q.label}\n   f = ${fmt(q.freq)} Hz   |H| = ${fmt(q.magnitude)} ${q.unit}   L = ${fmt(q.level_db, 4)} ${q.db_label}   φ = ${fmt(q.phase_deg, 4)}°   re ${fmt(q.re)}  im ${fmt(q.im)}`).join('\n');
+  // the 95 % interval and reliability come with a curve whose set has an uncertainty
+  const band = (q) => {
+    if (!q.interval_95_db) return '';
+    const [lo, hi] = q.interval_95_db;
+    const end = (v) => (v === null || v === undefined ? '−∞' : fmt(v, 4));
+    return `   95 %: ${end(lo)} to ${end(hi)} dB${q.reliable === false ? '   not reliable at this line' : ''}`;
+  };
+  return p.map((q) => `${q.label}\n   f = ${fmt(q.freq)} Hz   |H| = ${fmt(q.magnitude)} ${q.unit}   L = ${fmt(q.level_db, 4)} ${q.db_label}${band(q)}   φ = ${fmt(q.phase_deg, 4)}°   re ${fmt(q.re)}  im ${fmt(q.im)}`).join('\n');
 }
 const scaleOf = () => { const r = $('plot-canvas').getBoundingClientRect(); return lastSpec && r.width ? lastSpec.width / r.width : 1; };
 // The read-out at frequency `freq` (the core snaps to the nearest line of each curve).

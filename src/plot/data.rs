@@ -5,6 +5,7 @@
 //!
 //! Not here: axes and pixels (`layout.rs`), drawing (`draw.rs`, `render.rs`).
 
+use super::band::CurveBand;
 use super::layout::tick_text;
 use super::spec::{BarGroup, PlotSpec};
 use crate::error::{Error, Result};
@@ -42,6 +43,8 @@ pub(super) struct Curve {
     /// The phase drawn (degrees, ±180°; NaN at an empty line of a line
     /// spectrum, which has none), taken once, not at every redraw.
     pub(super) phase: Vec<f64>,
+    /// The 95 % level band and reliability, when the set has an uncertainty.
+    pub(super) band: Option<CurveBand>,
 }
 
 /// The phase a curve draws: [`wrap_phase`] of each value, NaN at the empty
@@ -71,12 +74,52 @@ fn ratio_unit(set: &FrfSet, i: usize, j: usize) -> String {
 
 /// The curves a spec of any frequency kind shows: its series, or for the
 /// difference view each series' level minus its baseline's.
-pub(super) fn curves(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve>> {
+pub(super) fn curves(
+    spec: &PlotSpec,
+    sets: &BTreeMap<String, FrfSet>,
+    bands: &Bands,
+) -> Result<Vec<Curve>> {
     if spec.kind == super::spec::PlotKind::Difference {
         difference(spec, sets)
     } else {
-        resolve(spec, sets)
+        resolve(spec, sets, bands)
     }
+}
+
+/// The uncertainties of the sets that have one, by set id (the workspace's
+/// results of a run with uncertain components).
+pub type Bands = BTreeMap<String, crate::recipe::Assessed>;
+
+/// The band of entry (i, j) of `set` from its uncertainty, or `None` when
+/// the uncertainty does not fit the set (then no band is drawn rather than
+/// a wrong one).
+fn band_of(
+    set: &FrfSet,
+    a: &crate::recipe::Assessed,
+    i: usize,
+    j: usize,
+    level: &[f64],
+) -> Option<CurveBand> {
+    let n = set.data.len();
+    if a.uncertainty.std.len() != n || a.reliability.flags.len() != n {
+        return None;
+    }
+    let mut lo = Vec::with_capacity(set.n_lines());
+    let mut hi = Vec::with_capacity(set.n_lines());
+    let mut reliable = Vec::with_capacity(set.n_lines());
+    for (k, l) in level.iter().enumerate() {
+        let x = set.idx(k, i, j);
+        let (a_lo, a_hi) = crate::uncertainty::level_interval_db(
+            set.data[x],
+            a.uncertainty.std[x],
+            set.signal,
+            *l,
+        );
+        lo.push(a_lo);
+        hi.push(a_hi);
+        reliable.push(a.reliability.flags[x] == 0);
+    }
+    Some(CurveBand { lo, hi, reliable })
 }
 
 /// Each series' level minus its baseline's, line by line, in dB: both on
@@ -97,7 +140,7 @@ fn difference(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Cu
         s.kind = super::spec::PlotKind::Magnitude;
         s.series = series.to_vec();
         s.baseline.clear();
-        resolve(&s, sets)
+        resolve(&s, sets, &Bands::new())
     };
     let after = plain(&spec.series)?;
     let before = plain(&spec.baseline)?;
@@ -132,12 +175,17 @@ fn difference(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Cu
             db_label: "dB, change against the baseline".to_string(),
             unit: "ratio".to_string(),
             stems,
+            band: None,
         });
     }
     Ok(out)
 }
 
-pub(super) fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<Vec<Curve>> {
+pub(super) fn resolve(
+    spec: &PlotSpec,
+    sets: &BTreeMap<String, FrfSet>,
+    bands: &Bands,
+) -> Result<Vec<Curve>> {
     let mut out = Vec::new();
     for s in &spec.series {
         let set = sets.get(&s.set).ok_or_else(|| {
@@ -192,7 +240,11 @@ pub(super) fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Resul
             )
         });
         let stems = set.signal.is_some() && values.iter().any(|v| v.norm() == 0.0);
+        let band = bands
+            .get(&s.set)
+            .and_then(|a| band_of(set, a, s.out, s.inp, &level));
         out.push(Curve {
+            band,
             stems,
             label,
             freqs: set.freqs.clone(),

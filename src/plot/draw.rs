@@ -340,6 +340,46 @@ pub(super) fn draw_curves<DB: DrawingBackend>(
     draw_curves_stems(b, p, curves, &[], false, drawn)
 }
 
+/// A curve's 95 % level band, filled in its colour, light
+/// ([`super::band`]).
+pub(super) fn draw_band<DB: DrawingBackend>(
+    b: &mut DB,
+    p: &Panel,
+    i: usize,
+    freqs: &[f64],
+    band: &super::band::CurveBand,
+) -> Result<()> {
+    let fill = colour(i).mix(super::band::BAND_ALPHA);
+    for poly in super::band::polygons(p, freqs, band) {
+        b.fill_polygon(poly, &fill).map_err(derr)?;
+    }
+    Ok(())
+}
+
+/// Curve `i` of `count` drawn again over its unreliable lines in a pale mix
+/// of its colour (same dash and width), when it has any.
+pub(super) fn draw_pale<DB: DrawingBackend>(
+    b: &mut DB,
+    p: &Panel,
+    i: usize,
+    count: usize,
+    pts: &[(f64, f64)],
+    reliable: &[bool],
+) -> Result<()> {
+    let Some(bad) = super::band::unreliable_points(pts, reliable) else {
+        return Ok(());
+    };
+    let c = colour(i);
+    let w = super::band::PALE_WHITE;
+    let mixw = |v: u8| (v as f64 * (1.0 - w) + 255.0 * w).round() as u8;
+    let pale = RGBColor(mixw(c.0), mixw(c.1), mixw(c.2));
+    let width = if count > THIN_OVER { 1 } else { 2 };
+    for line in pixel_polylines(p, &bad, None) {
+        stroke(b, &line, pale, dash(i), width)?;
+    }
+    Ok(())
+}
+
 /// Lines, or for line spectra (`stems[i]`) a marker at each line, with a
 /// stem down to the axis when `stem_lines`; only the curves `drawn[i]`
 /// (a pass of the drawing, `render::Pass`), each in the colour and width of

@@ -34,6 +34,7 @@
 //! `diagram.rs` the assembly a recipe describes, components, joints and
 //! steps, with the box of every clickable part ([`assembly_svg`]).
 
+mod band;
 #[cfg(target_arch = "wasm32")]
 mod canvas;
 mod data;
@@ -57,7 +58,7 @@ mod fixtures;
 
 #[cfg(target_arch = "wasm32")]
 pub use canvas::Canvas;
-pub use data::db_reference;
+pub use data::{db_reference, Bands};
 pub use diagram::{assembly_svg, Diagram, DiagramItem, MAX_DRAWN};
 pub use draw::{DASHES, LEGEND_INSIDE_MAX, PALETTE};
 pub use drawing::Drawing;

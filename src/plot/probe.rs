@@ -24,11 +24,22 @@ pub struct Probe {
     pub level_db: f64,
     pub db_label: String,
     pub phase_deg: f64,
+    /// The 95 % interval of the level (dB, absolute) when the curve's set
+    /// has an uncertainty; an end without value (the interval reaching
+    /// zero) is null.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub interval_95_db: Option<[Option<f64>; 2]>,
+    /// Whether the line is reliable, when the set has an uncertainty.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reliable: Option<bool>,
 }
 
 /// Cursor readout: values at the grid line nearest `freq` for each curve.
 pub fn probe(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>, freq: f64) -> Result<Vec<Probe>> {
-    Ok(probe_curves(&curves(spec, sets)?, freq))
+    Ok(probe_curves(
+        &curves(spec, sets, &super::data::Bands::new())?,
+        freq,
+    ))
 }
 
 /// The read-out of resolved data (the page's drawing instance): each
@@ -60,6 +71,11 @@ fn reading(c: &Curve, k: usize) -> Probe {
         level_db: c.level[k],
         db_label: c.db_label.clone(),
         phase_deg: wrap_phase(v),
+        interval_95_db: c.band.as_ref().map(|b| {
+            let end = |x: Option<&f64>| x.copied().filter(|v| v.is_finite());
+            [end(b.lo.get(k)), end(b.hi.get(k))]
+        }),
+        reliable: c.band.as_ref().and_then(|b| b.reliable.get(k).copied()),
     }
 }
 

@@ -6,7 +6,10 @@
 //! the data (`data.rs`).
 
 use super::data::Curve;
-use super::draw::{axes, colour, derr, draw_curves, draw_curves_stems, legend, legend_with, text};
+use super::draw::{
+    axes, colour, derr, draw_band, draw_curves, draw_curves_stems, draw_pale, legend, legend_with,
+    text,
+};
 use super::layout::{finite_range, in_x, pad, x_axis, y_axis, Axis, Panel};
 use super::resolved::{PlotData, View};
 use super::spec::{Frame, LegendEntry, PlotKind, PlotSpec};
@@ -192,6 +195,27 @@ pub const MAX_AXIS_GROUPS: usize = 4;
 /// group of one unit (one dB reference when levels are drawn) gets its own
 /// panels, stacked, on the same frequency axis. A Nyquist view shows one
 /// quantity or is refused.
+/// What a curve's legend entry adds about its band: the band (on dB
+/// axes) and the pale stretches, when it has any.
+fn band_note(band: &super::band::CurveBand, db: bool) -> String {
+    let bad = band.reliable.iter().filter(|r| !**r).count();
+    let mut parts = Vec::new();
+    if db {
+        parts.push("shaded: 95 % band".to_string());
+    }
+    if bad > 0 {
+        parts.push(format!(
+            "pale: {bad} of {} lines not reliable",
+            band.reliable.len()
+        ));
+    }
+    if parts.is_empty() {
+        String::new()
+    } else {
+        format!(" ({})", parts.join("; "))
+    }
+}
+
 fn draw_frf<DB: DrawingBackend>(
     b: &mut DB,
     spec: &PlotSpec,
@@ -266,12 +290,16 @@ fn draw_frf<DB: DrawingBackend>(
     let labels: Vec<String> = curves
         .iter()
         .map(|c| {
-            if level_db_mixed && mixed_db {
+            let l = if level_db_mixed && mixed_db {
                 format!("{} [{}]", c.label, c.db_label)
             } else if !level_db_mixed && mixed_unit {
                 format!("{} [{}]", c.label, c.unit)
             } else {
                 c.label.clone()
+            };
+            match &c.band {
+                Some(band) => format!("{l}{}", band_note(band, level_db_mixed)),
+                None => l,
             }
         })
         .collect();
@@ -426,6 +454,14 @@ fn draw_frf<DB: DrawingBackend>(
                 )?;
             }
             let stems: Vec<bool> = curves.iter().map(|c| c.stems).collect();
+            // bands on the level axis in dB, under the curves
+            if kind != PlotKind::ReIm && spec.db {
+                for (i, c) in curves.iter().enumerate() {
+                    if let (true, Some(band)) = (part.drawn[i], &c.band) {
+                        draw_band(b, &p1, i, &c.freqs, band)?;
+                    }
+                }
+            }
             draw_curves_stems(
                 b,
                 &p1,
@@ -434,6 +470,15 @@ fn draw_frf<DB: DrawingBackend>(
                 kind != PlotKind::ReIm,
                 &part.drawn,
             )?;
+            let pale = |b: &mut DB, p: &Panel, pts: &[Vec<(f64, f64)>]| -> Result<()> {
+                for (i, c) in curves.iter().enumerate() {
+                    if let (true, false, Some(band)) = (part.drawn[i], c.stems, &c.band) {
+                        draw_pale(b, p, i, curves.len(), &pts[i], &band.reliable)?;
+                    }
+                }
+                Ok(())
+            };
+            pale(b, &p1, &top_pts)?;
             let mut frames = vec![p1.frame("frequency")];
             if two {
                 let (pts, axis, title, fixed): (_, Axis, String, Option<Vec<f64>>) = if kind
@@ -496,6 +541,7 @@ fn draw_frf<DB: DrawingBackend>(
                     pts
                 };
                 draw_curves_stems(b, &p2, &pts, &stems, false, &part.drawn)?;
+                pale(b, &p2, &pts)?;
                 frames.push(p2.frame("frequency"));
             }
             if part.legend {

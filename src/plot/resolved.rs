@@ -8,7 +8,8 @@
 //!
 //! Not here: taking curves from sets (`data.rs`), drawing (`render.rs`).
 
-use super::data::{bars_from_set, curves, drawn_phase, lines_with_x, Curve};
+use super::band::CurveBand;
+use super::data::{bars_from_set, curves, drawn_phase, lines_with_x, Bands, Curve};
 use super::spec::{PlotKind, PlotSpec};
 use crate::error::{Error, Result};
 use crate::frf::FrfSet;
@@ -67,6 +68,10 @@ pub struct CurveMeta {
     pub stems: bool,
     /// Index of its frequency grid among the grids sent.
     pub grid: usize,
+    /// Whether three more arrays follow its three: the lower and upper
+    /// ends of its 95 % level band (dB) and 1/0 per line for reliable.
+    #[serde(default)]
+    pub band: bool,
 }
 
 /// [`PlotData`] without its numbers: the resolved spec (without the report
@@ -80,7 +85,8 @@ pub struct PlotMeta {
 
 /// [`PlotData`] in parts for crossing to another wasm instance: the
 /// description, the distinct frequency grids, and per curve its real parts,
-/// imaginary parts and levels (dB), in that order.
+/// imaginary parts and levels (dB), in that order, then for a curve with a
+/// band its lower and upper ends and reliability (see [`CurveMeta::band`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct PlotParts {
     pub meta: PlotMeta,
@@ -93,6 +99,16 @@ impl PlotData {
     /// each series' level minus its baseline's), its lines with x from a set,
     /// its bars.
     pub fn resolve(spec: &PlotSpec, sets: &BTreeMap<String, FrfSet>) -> Result<PlotData> {
+        Self::resolve_with_bands(spec, sets, &Bands::new())
+    }
+
+    /// [`PlotData::resolve`], each curve of a set with an uncertainty in
+    /// `bands` carrying its 95 % level band and reliability.
+    pub fn resolve_with_bands(
+        spec: &PlotSpec,
+        sets: &BTreeMap<String, FrfSet>,
+        bands: &Bands,
+    ) -> Result<PlotData> {
         let (spec, curves) = match spec.kind {
             PlotKind::Lines => (lines_with_x(spec, sets)?, Vec::new()),
             PlotKind::Bars => {
@@ -102,7 +118,7 @@ impl PlotData {
                 (s, Vec::new())
             }
             _ => {
-                let c = curves(spec, sets)?;
+                let c = curves(spec, sets, bands)?;
                 if c.is_empty() {
                     return Err(Error::missing("nothing to plot: no curve chosen"));
                 }
@@ -144,10 +160,16 @@ impl PlotData {
                 unit: c.unit.clone(),
                 stems: c.stems,
                 grid,
+                band: c.band.is_some(),
             });
             arrays.push(c.values.iter().map(|v| v.re).collect());
             arrays.push(c.values.iter().map(|v| v.im).collect());
             arrays.push(c.level.clone());
+            if let Some(b) = &c.band {
+                arrays.push(b.lo.clone());
+                arrays.push(b.hi.clone());
+                arrays.push(b.reliable.iter().map(|r| f64::from(u8::from(*r))).collect());
+            }
         }
         PlotParts {
             meta: PlotMeta {
@@ -167,11 +189,16 @@ impl PlotData {
             grids,
             arrays,
         } = parts;
-        if arrays.len() != 3 * meta.curves.len() {
+        let want: usize = meta
+            .curves
+            .iter()
+            .map(|c| if c.band { 6 } else { 3 })
+            .sum();
+        if arrays.len() != want {
             return Err(Error::usage(format!(
                 "plot data: {} curves need {} arrays, {} came",
                 meta.curves.len(),
-                3 * meta.curves.len(),
+                want,
                 arrays.len()
             ))
             .field("arrays"));
@@ -203,12 +230,36 @@ impl PlotData {
                 ))
                 .field("arrays"));
             }
+            let band = if m.band {
+                let (Some(lo), Some(hi), Some(ok)) = (it.next(), it.next(), it.next()) else {
+                    return Err(Error::internal("plot data: arrays counted but missing"));
+                };
+                if lo.len() != n || hi.len() != n || ok.len() != n {
+                    return Err(Error::usage(format!(
+                        "plot data: curve '{}' has {} lines but a band of {}, {} and {}",
+                        m.label,
+                        n,
+                        lo.len(),
+                        hi.len(),
+                        ok.len()
+                    ))
+                    .field("arrays"));
+                }
+                Some(CurveBand {
+                    lo,
+                    hi,
+                    reliable: ok.iter().map(|v| *v != 0.0).collect(),
+                })
+            } else {
+                None
+            };
             let values: Vec<Complex64> = re
                 .iter()
                 .zip(&im)
                 .map(|(r, i)| Complex64::new(*r, *i))
                 .collect();
             curves.push(Curve {
+                band,
                 label: m.label,
                 freqs: freqs.clone(),
                 phase: drawn_phase(&values, m.stems),

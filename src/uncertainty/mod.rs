@@ -44,5 +44,7 @@ pub use model::{
 pub use monte_carlo::{
     couple_monte_carlo, decouple_monte_carlo, monte_carlo_with, McOptions, McResult,
 };
-pub use reliability::{assess, interval_db, Evidence, Reliability, ReliabilityOptions};
+pub use reliability::{
+    assess, interval_db, level_interval_db, Evidence, Reliability, ReliabilityOptions,
+};
 pub use spec::UncertaintySpec;

@@ -325,6 +325,43 @@ pub fn interval_db(mag: f64, u: f64) -> (f64, f64) {
     (lo, 20.0 * (1.0 + r).log10())
 }
 
+/// The 95 % interval of the dB level of a value of kind `signal` with
+/// standard uncertainty `u`, as absolute levels: `level_db` the value's
+/// level as plotted. Amplitudes (FRFs, peak and RMS spectra) take the
+/// circular form of [`interval_db`]; mean-square values (autopower, PSD,
+/// ESD: real errors, as [`crate::uncertainty::chain`] propagates them) take
+/// 10·log10(1 ∓ 1.96·u/|P|); a cross spectrum (complex, circular) takes
+/// 10·log10(1 ∓ 1.96·u/(√2|S|)). The lower end is −∞ when the interval
+/// reaches zero; both are NaN when `u` is not a finite non-negative number.
+pub fn level_interval_db(
+    value: num_complex::Complex64,
+    u: f64,
+    signal: Option<crate::frf::SignalKind>,
+    level_db: f64,
+) -> (f64, f64) {
+    use crate::frf::SignalKind as K;
+    if !(u.is_finite() && u >= 0.0) {
+        return (f64::NAN, f64::NAN);
+    }
+    let (mag, spread, factor) = match signal {
+        Some(K::Autopower | K::Psd | K::Esd) => (value.re.abs(), 1.0, 10.0),
+        Some(K::Cross) => (value.norm(), std::f64::consts::SQRT_2, 10.0),
+        _ => (value.norm(), std::f64::consts::SQRT_2, 20.0),
+    };
+    let r = Z95 * u / (spread * mag);
+    let lo = if r >= 1.0 || !r.is_finite() {
+        f64::NEG_INFINITY
+    } else {
+        level_db + factor * (1.0 - r).log10()
+    };
+    let hi = if r.is_finite() {
+        level_db + factor * (1.0 + r).log10()
+    } else {
+        f64::INFINITY
+    };
+    (lo, hi)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -402,5 +439,22 @@ mod tests {
             (hi - 0.119_6).abs() < 1e-3 && (lo + 0.121_3).abs() < 1e-3,
             "{lo} {hi}"
         );
+    }
+
+    #[test]
+    fn level_interval_by_kind() {
+        use crate::frf::SignalKind;
+        // hand-worked: r = 1.959964·0.1/(√2·1) = 0.1385904; 20·log10(1 ∓ r)
+        let v = Complex64::new(1.0, 0.0);
+        let (lo, hi) = level_interval_db(v, 0.1, None, 0.0);
+        assert!((lo - 20.0 * (1.0 - 0.138_590_4_f64).log10()).abs() < 1e-5, "{lo}");
+        assert!((hi - 20.0 * (1.0 + 0.138_590_4_f64).log10()).abs() < 1e-5, "{hi}");
+        // mean square, real error: r = 1.96·0.1 = 0.196; 10·log10(1 ∓ r) about 40 dB
+        let (lo, hi) = level_interval_db(v, 0.1, Some(SignalKind::Psd), 40.0);
+        assert!((lo - (40.0 + 10.0 * 0.804_f64.log10())).abs() < 1e-3, "{lo}");
+        assert!((hi - (40.0 + 10.0 * 1.196_f64.log10())).abs() < 1e-3, "{hi}");
+        // the interval reaches zero
+        assert_eq!(level_interval_db(v, 1.0, None, 0.0).0, f64::NEG_INFINITY);
+        assert!(level_interval_db(v, f64::NAN, None, 0.0).1.is_nan());
     }
 }
