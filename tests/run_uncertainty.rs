@@ -216,8 +216,15 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
     let a = ws.uncertainties().get(&bed).expect("the bedroom's uncertainty");
     let set = ws.set(&bed).unwrap();
     assert_eq!(a.uncertainty.std.len(), set.data.len());
+    // an FRF (a band) and the bedroom's line spectrum (a bar at each line)
+    let frf = id("seat_to_anchor");
+    assert!(ws.uncertainties().contains_key(&frf));
     let spec = PlotSpec::from_json(
-        &json!({"kind": "magnitude", "series": [{"set": bed, "out": 0, "in": 0}]}).to_string(),
+        &json!({"kind": "magnitude", "series": [
+            {"set": frf, "out": 0, "in": 0},
+            {"set": bed, "out": 0, "in": 0}
+        ]})
+        .to_string(),
     )
     .unwrap();
     let data = PlotData::resolve_with_bands(&spec, ws.sets(), ws.uncertainties()).unwrap();
@@ -229,6 +236,12 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
     );
     assert!(svg.contains("<polygon"), "no band drawn");
     assert!(svg.contains("opacity=\"0.18\""), "the band's fill is not light");
+    let bars = svg
+        .matches("<rect")
+        .zip(svg.split("<rect").skip(1))
+        .filter(|(_, r)| r.contains("opacity=\"0.18\""))
+        .count();
+    assert!(bars >= 15, "{bars} interval bars on the line spectrum");
     // the same drawing after crossing to the drawing instance in parts
     let again = PlotData::from_parts(data.to_parts()).unwrap();
     assert_eq!(
@@ -242,7 +255,11 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
         .iter()
         .position(|f| (*f - 116.0).abs() < 0.6)
         .expect("a line at 116 Hz");
-    let p = &probe_data(&data, set.freqs[k])[0];
+    let probes = probe_data(&data, set.freqs[k]);
+    let p = probes
+        .iter()
+        .find(|p| p.label.starts_with("bedroom"))
+        .expect("the bedroom's read-out");
     let [lo, hi] = p.interval_95_db.expect("an interval");
     let (lo, hi) = (lo.unwrap(), hi.unwrap());
     assert!(lo < p.level_db && p.level_db < hi, "{lo} {} {hi}", p.level_db);

@@ -56,12 +56,14 @@ use crate::units::Quantity;
 
 mod bench_case;
 mod chain;
+mod demand;
 mod interface_solve;
 mod kernel;
 mod lmfbs;
 
 pub use bench_case::{bench_case, values_digest, BENCH_SEED};
 pub use chain::{cascade, parallel, series, sum_paths};
+pub use demand::{couple_requested, couple_requested_with_threads, Demanded, Request};
 pub use lmfbs::{couple, couple_with_threads, decouple, decouple_with_threads, default_threads};
 pub(crate) use lmfbs::{prepare_coupling, prepare_decoupling, Prepared};
 

@@ -92,6 +92,44 @@ pub(super) fn polygons(p: &Panel, freqs: &[f64], band: &CurveBand) -> Vec<Vec<(i
     out
 }
 
+/// Half-width in px of the interval bar drawn at each line of a line
+/// spectrum (its band has nothing between the lines).
+pub(super) const BAR_HALF_PX: i32 = 3;
+
+/// For a line spectrum: one bar per visible line with an interval, as the
+/// pixel x and the top and bottom y (upper and lower ends, clamped).
+pub(super) fn bars(p: &Panel, freqs: &[f64], band: &CurveBand) -> Vec<(i32, i32, i32)> {
+    let (top, bottom) = (p.y0 as f64, p.y1 as f64);
+    let y_of = |f: f64, v: f64| {
+        if v == f64::NEG_INFINITY || (p.y.log && v <= 0.0) {
+            bottom
+        } else if v == f64::INFINITY {
+            top
+        } else {
+            p.px(f, v).1.max(top).min(bottom)
+        }
+    };
+    freqs
+        .iter()
+        .zip(band.lo.iter().zip(&band.hi))
+        .filter(|(f, (lo, hi))| {
+            f.is_finite()
+                && **f >= p.x.min
+                && **f <= p.x.max
+                && (!p.x.log || **f > 0.0)
+                && !lo.is_nan()
+                && !hi.is_nan()
+        })
+        .map(|(f, (lo, hi))| {
+            (
+                p.px(*f, p.y.min).0.round() as i32,
+                y_of(*f, *hi).round() as i32,
+                y_of(*f, *lo).round() as i32,
+            )
+        })
+        .collect()
+}
+
 /// The curve's points kept only where a line is unreliable or next to one
 /// (so each unreliable stretch joins its neighbours), NaN elsewhere: the
 /// pale overlay drawn over the curve.
@@ -171,6 +209,18 @@ mod tests {
         assert_eq!(polys.len(), 2);
         assert_eq!(polys[0][0], (10, 0)); // clamped to the top
         assert_eq!(*polys[0].last().unwrap_or(&(0, 0)), (10, 100)); // −∞: the bottom
+    }
+
+    #[test]
+    fn a_line_spectrum_gets_one_bar_per_line_with_an_interval() {
+        let freqs = vec![10.0, 20.0, 30.0, 200.0];
+        let b = CurveBand {
+            lo: vec![-10.0, f64::NAN, f64::NEG_INFINITY, 0.0],
+            hi: vec![10.0, f64::NAN, 20.0, 1.0],
+            reliable: vec![true; 4],
+        };
+        // 10 Hz: 40..60 px; 20 Hz has none; 30 Hz reaches the bottom; 200 Hz is outside
+        assert_eq!(bars(&panel(), &freqs, &b), vec![(10, 40, 60), (30, 30, 100)]);
     }
 
     #[test]

@@ -341,15 +341,24 @@ pub(super) fn draw_curves<DB: DrawingBackend>(
 }
 
 /// A curve's 95 % level band, filled in its colour, light
-/// ([`super::band`]).
+/// ([`super::band`]); for a line spectrum (`stems`) a bar at each line.
 pub(super) fn draw_band<DB: DrawingBackend>(
     b: &mut DB,
     p: &Panel,
     i: usize,
     freqs: &[f64],
     band: &super::band::CurveBand,
+    stems: bool,
 ) -> Result<()> {
     let fill = colour(i).mix(super::band::BAND_ALPHA);
+    if stems {
+        let h = super::band::BAR_HALF_PX;
+        for (x, top, bottom) in super::band::bars(p, freqs, band) {
+            b.draw_rect((x - h, top), (x + h, bottom), &fill, true)
+                .map_err(derr)?;
+        }
+        return Ok(());
+    }
     for poly in super::band::polygons(p, freqs, band) {
         b.fill_polygon(poly, &fill).map_err(derr)?;
     }

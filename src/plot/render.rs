@@ -458,7 +458,7 @@ fn draw_frf<DB: DrawingBackend>(
             if kind != PlotKind::ReIm && spec.db {
                 for (i, c) in curves.iter().enumerate() {
                     if let (true, Some(band)) = (part.drawn[i], &c.band) {
-                        draw_band(b, &p1, i, &c.freqs, band)?;
+                        draw_band(b, &p1, i, &c.freqs, band, c.stems)?;
                     }
                 }
             }

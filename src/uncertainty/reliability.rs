@@ -332,7 +332,9 @@ pub fn interval_db(mag: f64, u: f64) -> (f64, f64) {
 /// ESD: real errors, as [`crate::uncertainty::chain`] propagates them) take
 /// 10·log10(1 ∓ 1.96·u/|P|); a cross spectrum (complex, circular) takes
 /// 10·log10(1 ∓ 1.96·u/(√2|S|)). The lower end is −∞ when the interval
-/// reaches zero; both are NaN when `u` is not a finite non-negative number.
+/// reaches zero; both are NaN when `u` is not a finite non-negative number
+/// or the value is exactly zero (an empty line of a line spectrum: its level
+/// is −∞ and has no interval to draw).
 pub fn level_interval_db(
     value: num_complex::Complex64,
     u: f64,
@@ -340,7 +342,7 @@ pub fn level_interval_db(
     level_db: f64,
 ) -> (f64, f64) {
     use crate::frf::SignalKind as K;
-    if !(u.is_finite() && u >= 0.0) {
+    if !(u.is_finite() && u >= 0.0) || value.norm() == 0.0 {
         return (f64::NAN, f64::NAN);
     }
     let (mag, spread, factor) = match signal {
@@ -456,5 +458,8 @@ mod tests {
         // the interval reaches zero
         assert_eq!(level_interval_db(v, 1.0, None, 0.0).0, f64::NEG_INFINITY);
         assert!(level_interval_db(v, f64::NAN, None, 0.0).1.is_nan());
+        assert!(level_interval_db(Complex64::new(0.0, 0.0), 0.0, None, f64::NEG_INFINITY)
+            .0
+            .is_nan());
     }
 }

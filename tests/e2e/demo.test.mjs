@@ -56,6 +56,22 @@ test('demo assembly on the page equals the CLI', async () => {
     assert.match(head, /room:bed: [0-9.]+ dB\(A\)/);
     assert.match(head, /paths ranked at room:bed/);
     assert.match(head, /softer isolators/);
+    // the suppliers' stated noise: the headline's 95 % interval, and the bedroom's curve
+    // drawn with its band and pale unreliable lines, the read-out giving the interval
+    assert.match(head, /95 % interval [0-9.]+–[0-9.]+ dB\(A\)/);
+    await s.page.evaluate(() => {
+      const sel = document.getElementById('curve-select');
+      for (const o of sel.options) o.selected = o.dataset.name === 'bedroom';
+      sel.dispatchEvent(new Event('change', { bubbles: true }));
+    });
+    await s.page.selectOption('#plot-kind', 'magnitude');
+    await s.page.waitForTimeout(800);
+    const box = await (await s.page.$('#plot-canvas')).boundingBox();
+    await s.page.mouse.move(box.x + box.width * 0.45, box.y + box.height * 0.3);
+    await s.page.waitForFunction(() => /95 %: /.test(document.getElementById('readout').textContent), null, { timeout: 20000 });
+    assert.match(await s.page.textContent('#readout'), /95 %: [-0-9.−∞]+ to [-0-9.]+ dB/);
+    await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/13-demo-band.png') });
+    await s.page.selectOption('#plot-kind', 'bode');
     // the path ranking as bars (one-third-octave bands × anchor paths)
     await s.page.selectOption('#plot-kind', 'bars');
     await s.page.waitForTimeout(500);
