@@ -490,11 +490,7 @@ impl Workspace {
 
     /// Keep a run's uncertainties beside its stored results (by output
     /// name, as [`recipe::RunResult::uncertainties`] gives them).
-    fn keep_uncertainties(
-        &mut self,
-        number: u32,
-        mut by_name: BTreeMap<String, recipe::Assessed>,
-    ) {
+    fn keep_uncertainties(&mut self, number: u32, mut by_name: BTreeMap<String, recipe::Assessed>) {
         let p = history::prefix(number);
         for id in self.results.clone() {
             if !id.starts_with(&p) {

@@ -90,7 +90,11 @@ fn check_requested(c: &Case, full: &mortise::assemble::Assembled) {
             .map(|v| (v.re.to_bits(), v.im.to_bits()))
             .collect()
     };
-    assert_eq!(bits(&got.assembled.set), bits(&want), "requested entries differ");
+    assert_eq!(
+        bits(&got.assembled.set),
+        bits(&want),
+        "requested entries differ"
+    );
     assert_eq!(got.assembled.condition, full.condition);
     assert!(got.solved.0 <= got.whole.0 && got.solved.1 <= got.whole.1);
     eprintln!(

@@ -213,7 +213,10 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
             .clone()
     };
     let bed = id("bedroom");
-    let a = ws.uncertainties().get(&bed).expect("the bedroom's uncertainty");
+    let a = ws
+        .uncertainties()
+        .get(&bed)
+        .expect("the bedroom's uncertainty");
     let set = ws.set(&bed).unwrap();
     assert_eq!(a.uncertainty.std.len(), set.data.len());
     // an FRF (a band) and the bedroom's line spectrum (a bar at each line)
@@ -230,12 +233,18 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
     let data = PlotData::resolve_with_bands(&spec, ws.sets(), ws.uncertainties()).unwrap();
     let (svg, drawn) = render_data_svg(&data, &View::of(&spec), 900, 500).unwrap();
     assert!(
-        drawn.legend.iter().any(|l| l.label.contains("shaded: 95 % band")),
+        drawn
+            .legend
+            .iter()
+            .any(|l| l.label.contains("shaded: 95 % band")),
         "{:?}",
         drawn.legend
     );
     assert!(svg.contains("<polygon"), "no band drawn");
-    assert!(svg.contains("opacity=\"0.18\""), "the band's fill is not light");
+    assert!(
+        svg.contains("opacity=\"0.18\""),
+        "the band's fill is not light"
+    );
     let bars = svg
         .matches("<rect")
         .zip(svg.split("<rect").skip(1))
@@ -245,7 +254,9 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
     // the same drawing after crossing to the drawing instance in parts
     let again = PlotData::from_parts(data.to_parts()).unwrap();
     assert_eq!(
-        render_data_svg(&again, &View::of(&spec), 900, 500).unwrap().0,
+        render_data_svg(&again, &View::of(&spec), 900, 500)
+            .unwrap()
+            .0,
         svg
     );
     // the read-out at the strongest line: its level inside its interval,
@@ -262,7 +273,11 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
         .expect("the bedroom's read-out");
     let [lo, hi] = p.interval_95_db.expect("an interval");
     let (lo, hi) = (lo.unwrap(), hi.unwrap());
-    assert!(lo < p.level_db && p.level_db < hi, "{lo} {} {hi}", p.level_db);
+    assert!(
+        lo < p.level_db && p.level_db < hi,
+        "{lo} {} {hi}",
+        p.level_db
+    );
     let (elo, ehi) = mortise::uncertainty::level_interval_db(
         set.data[k],
         a.uncertainty.std[k],

@@ -62,7 +62,11 @@ pub fn couple_requested_with_threads(
         components.iter().map(FrfSet::n_out).sum(),
         components.iter().map(FrfSet::n_in).sum(),
     );
-    let at_joint = |d: &Dof| joints.iter().any(|j| j.a.same_place(d) || j.b.same_place(d));
+    let at_joint = |d: &Dof| {
+        joints
+            .iter()
+            .any(|j| j.a.same_place(d) || j.b.same_place(d))
+    };
     let keep = |d: &Dof, asked: &[Dof]| at_joint(d) || asked.iter().any(|a| a.same_place(d));
     let mut cut = Vec::with_capacity(components.len());
     for c in components {

@@ -181,8 +181,12 @@ mod tests {
     fn one_column_per_pixel_with_the_extremes() {
         // 1,000 lines over 100 px: at most one column each, the widest ends kept
         let freqs: Vec<f64> = (0..1000).map(|k| k as f64 * 0.1).collect();
-        let lo: Vec<f64> = (0..1000).map(|k| if k == 505 { -40.0 } else { -5.0 }).collect();
-        let hi: Vec<f64> = (0..1000).map(|k| if k == 507 { 30.0 } else { 5.0 }).collect();
+        let lo: Vec<f64> = (0..1000)
+            .map(|k| if k == 505 { -40.0 } else { -5.0 })
+            .collect();
+        let hi: Vec<f64> = (0..1000)
+            .map(|k| if k == 507 { 30.0 } else { 5.0 })
+            .collect();
         let b = CurveBand {
             lo,
             hi,
@@ -220,13 +224,17 @@ mod tests {
             reliable: vec![true; 4],
         };
         // 10 Hz: 40..60 px; 20 Hz has none; 30 Hz reaches the bottom; 200 Hz is outside
-        assert_eq!(bars(&panel(), &freqs, &b), vec![(10, 40, 60), (30, 30, 100)]);
+        assert_eq!(
+            bars(&panel(), &freqs, &b),
+            vec![(10, 40, 60), (30, 30, 100)]
+        );
     }
 
     #[test]
     fn unreliable_points_join_their_neighbours() {
         let pts: Vec<(f64, f64)> = (0..6).map(|k| (k as f64, 1.0)).collect();
-        let got = unreliable_points(&pts, &[true, true, true, false, true, true]).unwrap_or_default();
+        let got =
+            unreliable_points(&pts, &[true, true, true, false, true, true]).unwrap_or_default();
         let kept: Vec<bool> = got.iter().map(|q| q.1.is_finite()).collect();
         assert_eq!(kept, vec![false, false, true, true, true, false]);
         assert!(unreliable_points(&pts, &[true; 6]).is_none());

@@ -189,11 +189,7 @@ impl PlotData {
             grids,
             arrays,
         } = parts;
-        let want: usize = meta
-            .curves
-            .iter()
-            .map(|c| if c.band { 6 } else { 3 })
-            .sum();
+        let want: usize = meta.curves.iter().map(|c| if c.band { 6 } else { 3 }).sum();
         if arrays.len() != want {
             return Err(Error::usage(format!(
                 "plot data: {} curves need {} arrays, {} came",

@@ -449,17 +449,31 @@ mod tests {
         // hand-worked: r = 1.959964·0.1/(√2·1) = 0.1385904; 20·log10(1 ∓ r)
         let v = Complex64::new(1.0, 0.0);
         let (lo, hi) = level_interval_db(v, 0.1, None, 0.0);
-        assert!((lo - 20.0 * (1.0 - 0.138_590_4_f64).log10()).abs() < 1e-5, "{lo}");
-        assert!((hi - 20.0 * (1.0 + 0.138_590_4_f64).log10()).abs() < 1e-5, "{hi}");
+        assert!(
+            (lo - 20.0 * (1.0 - 0.138_590_4_f64).log10()).abs() < 1e-5,
+            "{lo}"
+        );
+        assert!(
+            (hi - 20.0 * (1.0 + 0.138_590_4_f64).log10()).abs() < 1e-5,
+            "{hi}"
+        );
         // mean square, real error: r = 1.96·0.1 = 0.196; 10·log10(1 ∓ r) about 40 dB
         let (lo, hi) = level_interval_db(v, 0.1, Some(SignalKind::Psd), 40.0);
-        assert!((lo - (40.0 + 10.0 * 0.804_f64.log10())).abs() < 1e-3, "{lo}");
-        assert!((hi - (40.0 + 10.0 * 1.196_f64.log10())).abs() < 1e-3, "{hi}");
+        assert!(
+            (lo - (40.0 + 10.0 * 0.804_f64.log10())).abs() < 1e-3,
+            "{lo}"
+        );
+        assert!(
+            (hi - (40.0 + 10.0 * 1.196_f64.log10())).abs() < 1e-3,
+            "{hi}"
+        );
         // the interval reaches zero
         assert_eq!(level_interval_db(v, 1.0, None, 0.0).0, f64::NEG_INFINITY);
         assert!(level_interval_db(v, f64::NAN, None, 0.0).1.is_nan());
-        assert!(level_interval_db(Complex64::new(0.0, 0.0), 0.0, None, f64::NEG_INFINITY)
-            .0
-            .is_nan());
+        assert!(
+            level_interval_db(Complex64::new(0.0, 0.0), 0.0, None, f64::NEG_INFINITY)
+                .0
+                .is_nan()
+        );
     }
 }
