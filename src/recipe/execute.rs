@@ -9,7 +9,7 @@ use super::report::{
     dedup, fin, weighting_for, BandChange, ComponentReport, RunReport, StepReport, VariantReport,
     REPORT_FORMAT, REPORT_VERSION,
 };
-use super::uncertainty::{component_uncertainties, propagate, Assessed};
+use super::uncertainty::{check_uncertainty_used, component_uncertainties, propagate, Assessed};
 use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
 use crate::error::Result;
@@ -128,6 +128,7 @@ fn execute(
             held: values_held(&values),
             files,
             steps: &steps,
+            uncertainties: &unc,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         let mut a =
@@ -252,6 +253,7 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
 pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
+    check_uncertainty_used(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
     let (comp_unc, unc_notes) = component_uncertainties(recipe, &comps)?;
     let base = execute(recipe, &comps, &comp_unc, None, limits, files)?;
