@@ -225,8 +225,7 @@ impl BlockedForces {
         frf: &FrfSet,
     ) -> Result<predict::blocked::BlockedForceOptions> {
         use predict::blocked::{BlockedMethod, Regularisation};
-        let mut o = predict::blocked::BlockedForceOptions::default();
-        o.method = match self.method.as_deref() {
+        let method = match self.method.as_deref() {
             None | Some("bench") => BlockedMethod::Bench,
             Some("in-situ") => BlockedMethod::InSitu,
             Some(m) => {
@@ -238,7 +237,7 @@ impl BlockedForces {
             }
         };
         let tsvd = check_tsvd(self.tsvd)?;
-        o.regularisation = match (&self.tikhonov, tsvd) {
+        let regularisation = match (&self.tikhonov, tsvd) {
             (Some(_), Some(_)) => {
                 return Err(Error::recipe(
                     "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
@@ -274,6 +273,11 @@ impl BlockedForces {
                 ))
                 .field("tikhonov"))
             }
+        };
+        let mut o = predict::blocked::BlockedForceOptions {
+            method,
+            regularisation,
+            ..predict::blocked::BlockedForceOptions::default()
         };
         if let Some(v) = &self.validate {
             o.validation = parse_dofs(v, "validate")?;
