@@ -475,7 +475,11 @@ pub fn blocked_forces(
         );
     }
     if regularised {
-        warnings.extend(peak_changes(&plain, &forces, "blocked force"));
+        warnings.extend(crate::peaks::peak_changes(
+            &plain,
+            &forces,
+            "blocked forces",
+        ));
     }
     warnings.push(CAUTION.to_string());
     forces.warnings = warnings.clone();
@@ -490,7 +494,11 @@ pub fn blocked_forces(
         let t = predict_targets(frf, operational, &forces, &opts.target, &target_rows);
         if regularised {
             let p = predict_targets(frf, operational, &plain, &opts.target, &target_rows);
-            warnings.extend(peak_changes(&p.predicted, &t.predicted, "target response"));
+            warnings.extend(crate::peaks::peak_changes(
+                &p.predicted,
+                &t.predicted,
+                "target responses",
+            ));
         }
         Some(t)
     };
@@ -511,39 +519,6 @@ pub fn blocked_forces(
         validation_rows,
         target_rows,
     })
-}
-
-/// Peak level change above which a regularisation is reported, dB.
-pub const PEAK_CHANGE_DB: f64 = 1.0;
-
-/// Warnings where the regularised result changes a peak of the plain
-/// least-squares result by more than [`PEAK_CHANGE_DB`]: a peak is a line
-/// whose magnitude exceeds both neighbours (common practice), per output.
-fn peak_changes(plain: &FrfSet, reg: &FrfSet, what: &str) -> Vec<String> {
-    let nl = plain.n_lines();
-    let mut out = Vec::new();
-    for i in 0..plain.n_out() {
-        let m: Vec<f64> = (0..nl).map(|k| plain.get(k, i, 0).norm()).collect();
-        let mut hit: Vec<(usize, f64)> = Vec::new();
-        for k in 1..nl.saturating_sub(1) {
-            if m[k] > m[k - 1] && m[k] > m[k + 1] && m[k] > 0.0 {
-                let d = 20.0 * (reg.get(k, i, 0).norm() / m[k]).log10();
-                if d.abs() > PEAK_CHANGE_DB || !d.is_finite() {
-                    hit.push((k, d));
-                }
-            }
-        }
-        if let Some(&(k, _)) = hit.iter().max_by(|a, b| a.1.abs().total_cmp(&b.1.abs())) {
-            let d = hit.iter().find(|h| h.0 == k).map_or(f64::NAN, |h| h.1);
-            out.push(format!(
-                "the regularisation changes {} peak(s) of the {what} at {} by more than {PEAK_CHANGE_DB} dB against the plain least-squares solve (largest {d:+.1} dB at {} Hz): it removes or moves dynamics there",
-                hit.len(),
-                plain.outputs[i],
-                plain.freqs[k]
-            ));
-        }
-    }
-    out
 }
 
 /// The responses at target DOFs predicted from the forces, compared with
