@@ -256,7 +256,9 @@ fn worst(freqs: &[f64], v: &[f64]) -> (Option<f64>, Option<f64>) {
 /// Blocked forces: the indicator matrix's conditioning and the validation.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BlockedReport {
-    /// "bench" or "in-situ": where the FRFs and the responses were measured.
+    /// "bench" or "in-situ": where the FRFs and the responses were measured
+    /// (reports written before the in-situ method read as "bench").
+    #[serde(default = "bench_method")]
     pub method: String,
     /// The relative truncation threshold (0 under Tikhonov).
     pub rel_threshold: f64,
@@ -279,6 +281,10 @@ pub struct BlockedReport {
     /// inputs carry an uncertainty.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub prediction_bands: Vec<PredictionBands>,
+}
+
+fn bench_method() -> String {
+    "bench".to_string()
 }
 
 /// The predicted responses at target DOFs (in situ).
