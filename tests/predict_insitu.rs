@@ -211,6 +211,11 @@ fn first_order_force_std_agrees_with_numpy_monte_carlo() {
         let b = res.report.steps[0].blocked.as_ref().unwrap();
         let of: Vec<&str> = b.prediction_bands.iter().map(|p| p.of.as_str()).collect();
         assert_eq!(of, ["validation", "target"]);
+        // noise-free data: the measured validation and target equal their
+        // predictions, so every line lies in the band
+        for p in &b.prediction_bands {
+            assert_eq!(p.measured_within, vec![Some(1.0)], "{}", p.of);
+        }
         assert!(res.report.steps[0].uncertainty.is_some());
     }
 }
@@ -347,6 +352,18 @@ fn tikhonov_equals_numpy_regularised_normal_equations() {
         .notes
         .iter()
         .any(|n| n.contains("Tikhonov λ from the noise")));
+    // the band of a regularised estimate says what it leaves out
+    let m = &res.uncertainties["fb"].uncertainty.method;
+    assert!(m.contains("146 of 146 lines the inverse is regularised"), "{m}");
+    // the recipe's Monte Carlo draws see the same stated uncertainty, so λ
+    // from the noise is there in every draw
+    let mc = recipe::monte_carlo_levels(
+        &rc,
+        &MapSource::default(),
+        &mortise::limits::Limits::default(),
+        mortise::uncertainty::McOptions { draws: 3, seed: 1 },
+    );
+    assert!(mc.is_ok(), "{:?}", mc.err());
 }
 
 #[test]

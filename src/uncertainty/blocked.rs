@@ -90,11 +90,23 @@ pub fn blocked_first_order(
         .iter()
         .filter_map(|(s, u)| u.map(|u| format!("'{}': {}", s.name, u.method)))
         .collect();
+    // lines where the inverse applied is regularised: the spread is that of
+    // the regularised estimate, whose bias it does not include
+    let regularised = (0..nl)
+        .filter(|&k| b.kept[k] < nf || b.tikhonov.as_ref().is_some_and(|l| l[k] > 0.0))
+        .count();
+    let caveat = if regularised > 0 {
+        format!(
+            "; at {regularised} of {nl} lines the inverse is regularised: the uncertainty there is the spread of the regularised estimate, not its bias"
+        )
+    } else {
+        String::new()
+    };
     Ok(BlockedFirstOrder {
         forces: FrfUncertainty {
             std: uf,
             method: format!(
-                "first order through the {} blocked-force inverse of ({})",
+                "first order through the {} blocked-force inverse of ({}){caveat}",
                 b.method.name(),
                 from.join("; ")
             ),
