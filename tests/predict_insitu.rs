@@ -354,7 +354,10 @@ fn tikhonov_equals_numpy_regularised_normal_equations() {
         .any(|n| n.contains("Tikhonov λ from the noise")));
     // the band of a regularised estimate says what it leaves out
     let m = &res.uncertainties["fb"].uncertainty.method;
-    assert!(m.contains("146 of 146 lines the inverse is regularised"), "{m}");
+    assert!(
+        m.contains("146 of 146 lines the inverse is regularised"),
+        "{m}"
+    );
     // the recipe's Monte Carlo draws see the same stated uncertainty, so λ
     // from the noise is there in every draw
     let mc = recipe::monte_carlo_levels(
