@@ -414,6 +414,16 @@ fn bad_inputs_are_refused_naming_the_field() {
         (json!({"method": "insitu"}), "method", "insitu"),
         (json!({"target": ["unit:panel+Z"]}), "target", "in-situ"),
         (
+            json!({"method": "in-situ", "target": ["unit:b4+Z"], "validate": ["unit:b4+Z"]}),
+            "target",
+            "give it once",
+        ),
+        (
+            json!({"method": "in-situ", "target": []}),
+            "target",
+            "empty",
+        ),
+        (
             json!({"method": "in-situ", "target": ["unit:roof+Z"]}),
             "target",
             "unit:roof+Z",

@@ -246,7 +246,13 @@ pub(crate) fn propagate(
         Op::BlockedForces(bf) => {
             let frf = cx.get("bench", &bf.bench)?;
             let op = cx.get("operational", &bf.operational)?;
-            // the same solve as the step's (deterministic), for its inverse
+            // the same solve as the step's (deterministic), for its inverse,
+            // then per line the force and prediction variances
+            let (nl, m, n) = (frf.n_lines() as f64, frf.n_out() as f64, frf.n_in() as f64);
+            cx.check_work(
+                "the first-order uncertainty of the blocked forces (the solve again and its propagation)",
+                34.0 * nl * m * n * m.min(n) + 16.0 * nl * m * m * n,
+            )?;
             let b = crate::predict::blocked::blocked_forces(frf, op, &bf.options(cx, frf)?)?;
             let fo = uncertainty::blocked::blocked_first_order(
                 frf,
