@@ -5,6 +5,7 @@
 //! a numpy Monte Carlo of the forces under 1 % response noise, and numpy's
 //! Tikhonov solve (HᴴH + λ²I)⁻¹Hᴴy.
 
+mod cli_support;
 mod common;
 
 use mortise::frf::{Dof, FrfSet, SignalKind};
@@ -102,6 +103,11 @@ fn worst_rel(a: &[Complex64], b: &[Complex64]) -> f64 {
 /// The recipe: the assembly synthesized by mortise from the same network,
 /// the feet selected as inputs, the responses inline.
 fn recipe_with(step: Value, asm_unc: Option<Value>, op_unc: Option<Value>) -> recipe::Recipe {
+    recipe::parse(&recipe_doc(step, asm_unc, op_unc).to_string()).unwrap()
+}
+
+/// The recipe's JSON (see [`recipe_with`]).
+fn recipe_doc(step: Value, asm_unc: Option<Value>, op_unc: Option<Value>) -> Value {
     let r = reference();
     let mut asm = json!({
         "synth": r["network"],
@@ -119,13 +125,12 @@ fn recipe_with(step: Value, asm_unc: Option<Value>, op_unc: Option<Value>) -> re
     for (k, v) in step.as_object().unwrap() {
         s[k] = v.clone();
     }
-    let doc = json!({
+    json!({
         "format": "mortise-recipe", "version": 1,
         "components": { "asm": asm, "op": op },
         "steps": [ s ],
         "outputs": ["asm", "fb"]
-    });
-    recipe::parse(&doc.to_string()).unwrap()
+    })
 }
 
 #[test]
@@ -471,4 +476,37 @@ fn bad_inputs_are_refused_naming_the_field() {
     doc["steps"][0]["bench"] = json!("spare");
     let r = recipe::parse(&doc.to_string()).unwrap();
     assert!(recipe::run(&r, &MapSource::default()).is_ok());
+}
+
+#[test]
+fn mortise_run_writes_the_in_situ_report_and_predictions() {
+    // what a user runs: the recipe file through the binary
+    let dir = common::scratch("predict_insitu_cli");
+    let doc = recipe_doc(
+        json!({"method": "in-situ", "validate": labels("validation"), "target": labels("target")}),
+        None,
+        Some(json!({"relative": 0.01})),
+    );
+    std::fs::write(dir.join("insitu.recipe.json"), doc.to_string()).unwrap();
+    let ran = cli_support::mortise(&dir, &["run", "insitu.recipe.json", "-o", "out"]);
+    assert_eq!(ran.code, 0, "{}", ran.stderr);
+    let said = format!("{}{}", ran.stdout, ran.stderr);
+    assert!(
+        said.contains("in-situ blocked forces, target(s) unit:panel+Z predicted"),
+        "{said}"
+    );
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("out/report.json")).unwrap())
+            .unwrap();
+    let b = &report["steps"][0]["blocked"];
+    assert_eq!(b["method"], "in-situ");
+    assert_eq!(b["target"]["dofs"], json!(labels("target")));
+    assert_eq!(b["prediction_bands"][1]["of"], "target");
+    let names: Vec<String> = std::fs::read_dir(dir.join("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    for want in ["target-predicted", "target-measured", "fb.uncertainty.csv"] {
+        assert!(names.iter().any(|n| n.contains(want)), "{want}: {names:?}");
+    }
 }
