@@ -139,6 +139,45 @@ fn demo_coupling_with_a_threshold_that_drops_nothing_is_bit_identical() {
     }
 }
 
+#[test]
+fn demo_coupling_truncated_past_a_mode_warns_of_the_moved_peak() {
+    // a threshold of 1e-2 removes coupled dynamics of the demo's mounted
+    // unit; the step then names the peaks it moves by more than 1 dB against
+    // the plain LU solve (the reference; LU itself is checked against numpy
+    // in couple_lmfbs)
+    let files: BTreeMap<String, Vec<u8>> =
+        mortise::demo_files::files().unwrap().into_iter().collect();
+    let text = String::from_utf8(files["heat-pump.recipe.json"].clone()).unwrap();
+    let mut j: Value = serde_json::from_str(&text).unwrap();
+    j["outputs"] = serde_json::json!(["mounted"]);
+    j["variants"] = serde_json::json!([]);
+    let src = MapSource(files);
+    let run = |j: &Value| recipe::run(&recipe::parse(&j.to_string()).unwrap(), &src).unwrap();
+    let peak = |w: &[String]| {
+        w.iter()
+            .filter(|m| m.contains("changes") && m.contains("peak(s)"))
+            .count()
+    };
+    let plain = run(&j);
+    j["steps"][0]["tsvd"] = serde_json::json!(1e-2);
+    let r = run(&j);
+    let dropped: usize = r.report.steps[0]
+        .interface
+        .as_ref()
+        .unwrap()
+        .truncated
+        .iter()
+        .sum();
+    let w = &r.report.steps[0].warnings;
+    eprintln!(
+        "tsvd 1e-2: {dropped} singular values dropped; {}",
+        w.join("\n")
+    );
+    assert!(dropped > 0);
+    assert!(peak(w) > 0, "{w:#?}");
+    assert_eq!(peak(&plain.report.steps[0].warnings), 0);
+}
+
 // ---- item 16 (b): with truncation, agreement with numpy -----------------
 
 fn check_against_numpy(name: &str, got: impl Fn(f64) -> Assembled) {

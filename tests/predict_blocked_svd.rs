@@ -11,7 +11,7 @@
 mod common;
 
 use mortise::frf::{Direction, Dof, FrfSet, SignalKind};
-use mortise::predict::blocked::{blocked_forces, BlockedForceOptions};
+use mortise::predict::blocked::{blocked_forces, BlockedForceOptions, Regularisation};
 use mortise::predict::new_spectrum;
 use mortise::units::Quantity;
 use nalgebra::DMatrix;
@@ -120,9 +120,10 @@ fn check_case(name: &str) -> f64 {
     for r in v["solutions"].as_array().unwrap() {
         let t = r["t"].as_f64().unwrap();
         let opts = BlockedForceOptions {
-            rel_threshold: t,
+            regularisation: Regularisation::Truncated(t),
             validation: Vec::new(),
             band_fraction: 3,
+            ..BlockedForceOptions::default()
         };
         let bf = blocked_forces(&h, &y, &opts).unwrap();
         let got: Vec<Vec<Complex64>> = (0..h.n_lines())

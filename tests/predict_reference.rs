@@ -6,7 +6,7 @@ mod common;
 
 use mortise::frf::{Direction, Dof, FrfSet, SignalKind};
 use mortise::levels::{self, Weighting};
-use mortise::predict::blocked::{blocked_forces, BlockedForceOptions};
+use mortise::predict::blocked::{blocked_forces, BlockedForceOptions, Regularisation};
 use mortise::predict::paths::{path_contributions, rank_paths, PathGroup, RankOptions};
 use mortise::predict::variants::{difference_db, scale_source};
 use mortise::predict::{convert_signal, new_spectrum, operational_response, INCOHERENT_ASSUMPTION};
@@ -244,9 +244,10 @@ fn blocked_forces_exact_data_recovered() {
     let r = reference("1e-12", "0");
     let (b, y) = bench(&r);
     let opts = BlockedForceOptions {
-        rel_threshold: 1e-12,
+        regularisation: Regularisation::Truncated(1e-12),
         validation: vec![dof(1)],
         band_fraction: 3,
+        ..BlockedForceOptions::default()
     };
     let bf = blocked_forces(&b, &y, &opts).unwrap();
     let mut worst: f64 = 0.0;
@@ -272,9 +273,10 @@ fn blocked_forces_match_numpy_pinv_with_noise_and_truncation() {
         let r = reference(rcond, "0.01");
         let (b, y) = bench(&r);
         let opts = BlockedForceOptions {
-            rel_threshold: rcond.parse().unwrap(),
+            regularisation: Regularisation::Truncated(rcond.parse().unwrap()),
             validation: vec![dof(1)],
             band_fraction: 3,
+            ..BlockedForceOptions::default()
         };
         let bf = blocked_forces(&b, &y, &opts).unwrap();
         let mut worst: f64 = 0.0;
@@ -318,9 +320,10 @@ fn blocked_forces_refuse_too_few_indicators_and_no_phase() {
     let r = reference("1e-3", "0");
     let (b, y) = bench(&r);
     let opts = BlockedForceOptions {
-        rel_threshold: 1e-3,
+        regularisation: Regularisation::Truncated(1e-3),
         validation: vec![dof(1), dof(2), dof(3)],
         band_fraction: 3,
+        ..BlockedForceOptions::default()
     };
     assert!(blocked_forces(&b, &y, &opts).is_err());
     let a = convert_signal(&y, SignalKind::Autopower).unwrap();

@@ -416,6 +416,26 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
                     st.id
                 );
             }
+            if let Some(t) = &b.target {
+                let err = t
+                    .worst_error_db
+                    .map(|e| format!(", largest level error against the measured {e:.2} dB"))
+                    .unwrap_or_default();
+                let band = b
+                    .prediction_bands
+                    .iter()
+                    .find(|p| p.of == "target")
+                    .and_then(|p| p.median_upper_db.iter().flatten().copied().reduce(f64::max))
+                    .map(|u| format!(", 95 % band up to +{u:.2} dB (median over the lines)"))
+                    .unwrap_or_default();
+                let _ = writeln!(
+                    s,
+                    "  step '{}': {} blocked forces, target(s) {} predicted{err}{band}",
+                    st.id,
+                    b.method,
+                    t.dofs.join(", ")
+                );
+            }
         }
         for w in &st.warnings {
             // the caution is printed once, at the end

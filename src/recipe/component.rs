@@ -72,7 +72,7 @@ pub const COMPONENT_FIELDS: &[(&str, &str)] = &[
     ("synth", "a synthesized part, tagged by \"model\": network (masses, springs, dampers), modal (modal superposition with residuals), beam, frame or isolator; computed on 'grid'"),
     ("grid", "{from, to, step} or {lines: [...]}, Hz: where a synthesized part, or the modal model (UFF dataset 55) of a file without FRFs, is computed; a file's or inline set's lines are resampled onto it (never extrapolated)"),
     ("interp", "interpolation for 'grid' on a file or inline set: re-im (default) or log-mag-phase"),
-    ("uncertainty", "the standard uncertainty of the values: {\"relative\": 0.01, \"floor_db\": -60} (1 % of each value, plus a floor 60 dB below each FRF's accelerance peak), or {\"averages\": 40} (from the set's coherence, H1 estimate of 40 averages); propagated to first order through couple, decouple, cascade, sum, select, convert, respond and the total of paths, with a per-line reliability in the report and NAME.uncertainty.csv"),
+    ("uncertainty", "the standard uncertainty of the values: {\"relative\": 0.01, \"floor_db\": -60} (1 % of each value, plus a floor 60 dB below each FRF's accelerance peak), or {\"averages\": 40} (from the set's coherence, H1 estimate of 40 averages); propagated to first order through couple, decouple, cascade, sum, select, convert, respond, the total of paths and blocked forces (with their validation and target predictions), with a per-line reliability in the report and NAME.uncertainty.csv; refused on a component no step reads"),
     ("note", "free text"),
 ];
 

@@ -9,7 +9,7 @@ use super::report::{
     dedup, fin, weighting_for, BandChange, ComponentReport, RunReport, StepReport, VariantReport,
     REPORT_FORMAT, REPORT_VERSION,
 };
-use super::uncertainty::{component_uncertainties, propagate, Assessed};
+use super::uncertainty::{check_uncertainty_used, component_uncertainties, propagate, Assessed};
 use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
 use crate::error::Result;
@@ -103,6 +103,7 @@ fn execute(
     variant: Option<&Variant>,
     limits: &Limits,
     files: &dyn FileSource,
+    propagating: bool,
 ) -> Result<Executed> {
     let mut values: BTreeMap<String, FrfSet> = comps.clone();
     let mut unc: BTreeMap<String, FrfUncertainty> = comp_unc.clone();
@@ -128,10 +129,14 @@ fn execute(
             held: values_held(&values),
             files,
             steps: &steps,
+            uncertainties: &unc,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
-        let mut a =
-            propagate(&step.op, &cx, &unc, &mut out).map_err(|e| e.within(label.clone()))?;
+        let mut a = if propagating {
+            propagate(&step.op, &cx, &unc, &mut out).map_err(|e| e.within(label.clone()))?
+        } else {
+            None
+        };
         if let Some(f) = variant.and_then(|v| v.scale.get(&step.id)) {
             // the variant's factor on this step's result: the error names both
             scale_in_place(&mut out.set, *f).map_err(|mut e| {
@@ -175,14 +180,17 @@ fn execute(
 }
 
 /// The baseline steps' reports on `comps`, with no uncertainty propagated
-/// (each draw of [`super::monte_carlo`]).
+/// (each draw of [`super::monte_carlo`]); the components' stated
+/// uncertainties `comp_unc` are still seen by the steps (a Tikhonov λ from
+/// the noise), as in the baseline run.
 pub(crate) fn execute_plain(
     recipe: &Recipe,
     comps: &BTreeMap<String, FrfSet>,
+    comp_unc: &BTreeMap<String, FrfUncertainty>,
     limits: &Limits,
     files: &dyn FileSource,
 ) -> Result<Vec<StepReport>> {
-    Ok(execute(recipe, comps, &BTreeMap::new(), None, limits, files)?.steps)
+    Ok(execute(recipe, comps, comp_unc, None, limits, files, false)?.steps)
 }
 
 /// The sets the step at index `n` can read, as the baseline run makes them:
@@ -200,7 +208,7 @@ pub(crate) fn values_before(
     before.steps.truncate(n);
     before.variants.clear();
     let (unc, _) = component_uncertainties(&before, &comps)?;
-    Ok(execute(&before, &comps, &unc, None, limits, files)?.values)
+    Ok(execute(&before, &comps, &unc, None, limits, files, true)?.values)
 }
 
 /// The uncertainty of a set scaled by `f`: |f| times.
@@ -252,14 +260,15 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
 pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
+    check_uncertainty_used(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
     let (comp_unc, unc_notes) = component_uncertainties(recipe, &comps)?;
-    let base = execute(recipe, &comps, &comp_unc, None, limits, files)?;
+    let base = execute(recipe, &comps, &comp_unc, None, limits, files, true)?;
     let mut uncertainties = BTreeMap::new();
     let mut outputs = collect(recipe, &base, "", &mut uncertainties);
     let mut variants = Vec::new();
     for (n, v) in recipe.variants.iter().enumerate() {
-        let res = execute(recipe, &comps, &comp_unc, Some(v), limits, files)
+        let res = execute(recipe, &comps, &comp_unc, Some(v), limits, files, true)
             .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
         outputs.extend(collect(
             recipe,

@@ -64,7 +64,7 @@ pub fn schema_help() -> String {
     );
     let _ = writeln!(
         s,
-        "\nVariants: 'scale' multiplies a component's or step's values by a factor; 'drop_joints'\nleaves out joints of couple/decouple steps. Each variant's outputs are written as\n'NAME [variant]', with level changes against the baseline in the report.\n\nOutputs: step ids or component names; a step's extra results (a path analysis's per-path\ncontributions, a blocked-force validation's predicted and measured spectra) are written\nbeside it as ID/NAME."
+        "\nVariants: 'scale' multiplies a component's or step's values by a factor; 'drop_joints'\nleaves out joints of couple/decouple steps. Each variant's outputs are written as\n'NAME [variant]', with level changes against the baseline in the report.\n\nOutputs: step ids or component names; a step's extra results (a path analysis's per-path\ncontributions, a blocked-force validation's predicted and measured spectra, in-situ target\npredictions) are written beside it as ID/NAME."
     );
     s
 }

@@ -88,7 +88,7 @@ pub fn monte_carlo_levels(
             "no component has an 'uncertainty' key: there is nothing to draw",
         ));
     }
-    let nominal = level_values(&execute_plain(recipe, &comps, limits, files)?);
+    let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
     let total: u64 = unc
         .keys()
         .filter_map(|k| comps.get(k))
@@ -112,7 +112,7 @@ pub fn monte_carlo_levels(
             base += src.data.len() as u64;
         }
         let got = level_values(
-            &execute_plain(recipe, &drawn, limits, files)
+            &execute_plain(recipe, &drawn, &unc, limits, files)
                 .map_err(|e| e.within(format!("Monte Carlo draw {}", d + 1)))?,
         );
         for (p, (_, l)) in per.iter_mut().zip(&got) {

@@ -256,7 +256,15 @@ fn worst(freqs: &[f64], v: &[f64]) -> (Option<f64>, Option<f64>) {
 /// Blocked forces: the indicator matrix's conditioning and the validation.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BlockedReport {
+    /// "bench" or "in-situ": where the FRFs and the responses were measured
+    /// (reports written before the in-situ method read as "bench").
+    #[serde(default = "bench_method")]
+    pub method: String,
+    /// The relative truncation threshold (0 under Tikhonov).
     pub rel_threshold: f64,
+    /// Tikhonov's λ per line, when used.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tikhonov_lambda: Option<Vec<Option<f64>>>,
     pub indicators: Vec<String>,
     /// 2-norm condition number of the indicator matrix per line.
     pub indicator_condition: Vec<Option<f64>>,
@@ -266,6 +274,48 @@ pub struct BlockedReport {
     pub kept: Vec<usize>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub validation: Option<ValidationReport>,
+    /// In situ: the responses predicted at target DOFs of the assembly.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub target: Option<TargetReport>,
+    /// The 95 % bands of the validation and target predictions, when the
+    /// inputs carry an uncertainty.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub prediction_bands: Vec<PredictionBands>,
+}
+
+fn bench_method() -> String {
+    "bench".to_string()
+}
+
+/// The predicted responses at target DOFs (in situ).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TargetReport {
+    pub dofs: Vec<String>,
+    /// Per target: whether the operational responses hold it.
+    pub measured: Vec<bool>,
+    /// Level error 20·log10(|predicted| / |measured|), dB, per target per
+    /// line (null where not measured).
+    pub error_db: Vec<Vec<Option<f64>>>,
+    /// The largest |level error| over the measured targets' lines, dB.
+    pub worst_error_db: Option<f64>,
+}
+
+/// The 95 % bands of the responses a blocked-force step predicts, from the
+/// first-order uncertainty.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PredictionBands {
+    /// "validation" or "target".
+    pub of: String,
+    pub dofs: Vec<String>,
+    /// The predicted level's 95 % interval relative to the prediction, dB
+    /// ([low, high]), per DOF per line; null where not finite.
+    pub interval_95_db: Vec<Vec<Option<[f64; 2]>>>,
+    /// The median over the lines of the interval's upper end, dB, per DOF.
+    pub median_upper_db: Vec<Option<f64>>,
+    /// Per DOF, where measured: the fraction of lines whose measured level
+    /// lies in the prediction's 95 % interval widened by the measurement's
+    /// own uncertainty (in quadrature); null where not measured.
+    pub measured_within: Vec<Option<f64>>,
 }
 
 /// The on-board validation at indicators left out of the inversion.
@@ -283,7 +333,12 @@ impl BlockedReport {
     pub fn new(b: &BlockedForces) -> BlockedReport {
         let (w, at) = worst(&b.forces.freqs, &b.condition);
         BlockedReport {
+            method: b.method.name().to_string(),
             rel_threshold: b.rel_threshold,
+            tikhonov_lambda: b
+                .tikhonov
+                .as_ref()
+                .map(|l| l.iter().map(|&x| fin(x)).collect()),
             indicators: b.indicators.iter().map(|d| d.to_string()).collect(),
             indicator_condition: b.condition.iter().map(|&c| fin(c)).collect(),
             worst_indicator_condition: w,
@@ -305,6 +360,23 @@ impl BlockedReport {
                     .map(|x| x.abs())
                     .reduce(f64::max),
             }),
+            target: b.target.as_ref().map(|t| TargetReport {
+                dofs: t.dofs.iter().map(|d| d.to_string()).collect(),
+                measured: t.measured.clone(),
+                error_db: t
+                    .error_db
+                    .iter()
+                    .map(|r| r.iter().map(|&x| fin(x)).collect())
+                    .collect(),
+                worst_error_db: t
+                    .error_db
+                    .iter()
+                    .flatten()
+                    .filter(|x| x.is_finite())
+                    .map(|x| x.abs())
+                    .reduce(f64::max),
+            }),
+            prediction_bands: Vec::new(),
         }
     }
 }

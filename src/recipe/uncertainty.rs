@@ -1,14 +1,15 @@
 //! The recipe's face of [`crate::uncertainty`]: each component's
 //! uncertainty from its `"uncertainty"` key, its propagation step by step
 //! (first order through couple, decouple, cascade, sum, select, convert,
-//! respond and the total of paths), and
+//! respond, the total of paths and blocked forces with their
+//! predictions), and
 //! the reliability of each result in the step's report.
 
 use super::ops::{check_tsvd, resolve_joints, Ctx, Op, StepOutput};
-use super::report::{weighting_for, UncertaintyReport};
+use super::report::{weighting_for, PredictionBands, UncertaintyReport};
 use super::Recipe;
 use crate::assemble::CouplingOptions;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::uncertainty::{
     self, reliability::Evidence, FrfUncertainty, Reliability, ReliabilityOptions,
@@ -41,6 +42,29 @@ pub(crate) fn component_uncertainties(
         out.insert(name.clone(), v);
     }
     Ok((out, notes))
+}
+
+/// Refuse an `"uncertainty"` key on a component that no step reads (it
+/// would change nothing in the run).
+pub(crate) fn check_uncertainty_used(recipe: &Recipe) -> Result<()> {
+    for (name, spec) in &recipe.components {
+        if spec.uncertainty.is_none() {
+            continue;
+        }
+        if !recipe
+            .steps
+            .iter()
+            .any(|s| s.op.reads().contains(&name.as_str()))
+        {
+            return Err(Error::recipe(format!(
+                "component '{}' has an \"uncertainty\" but no step reads it, so the uncertainty would change nothing; remove the key, or use the component in a step",
+                crate::error::quote(name)
+            ))
+            .field("uncertainty")
+            .within(format!("components.{name}")));
+        }
+    }
+    Ok(())
 }
 
 /// Estimated operations of the first-order propagation of a coupling: per
@@ -219,6 +243,31 @@ pub(crate) fn propagate(
             level_intervals(cx, out, &u)?;
             (u, rel)
         }
+        Op::BlockedForces(bf) => {
+            let frf = cx.get("bench", &bf.bench)?;
+            let op = cx.get("operational", &bf.operational)?;
+            // the same solve as the step's (deterministic), for its inverse,
+            // then per line the force and prediction variances
+            let (nl, m, n) = (frf.n_lines() as f64, frf.n_out() as f64, frf.n_in() as f64);
+            cx.check_work(
+                "the first-order uncertainty of the blocked forces (the solve again and its propagation)",
+                34.0 * nl * m * n * m.min(n) + 16.0 * nl * m * m * n,
+            )?;
+            let b = crate::predict::blocked::blocked_forces(frf, op, &bf.options(cx, frf)?)?;
+            let fo = uncertainty::blocked::blocked_first_order(
+                frf,
+                get(&bf.bench),
+                op,
+                get(&bf.operational),
+                &b,
+            )?;
+            let bands = prediction_bands(&b, &fo, op, get(&bf.operational));
+            if let Some(r) = out.report.blocked.as_mut() {
+                r.prediction_bands = bands;
+            }
+            let rel = assess_std(&out.set, &fo.forces, &opts);
+            (fo.forces, rel)
+        }
         Op::Respond(r) => {
             let h = cx.get("frf", &r.frf)?;
             let f = cx.get("excitation", &r.excitation)?;
@@ -257,6 +306,77 @@ pub(crate) fn propagate(
         uncertainty: u,
         reliability,
     }))
+}
+
+/// The 95 % bands of a blocked-force step's validation and target
+/// predictions, and how often the measured response lies in them.
+fn prediction_bands(
+    b: &crate::predict::blocked::BlockedForces,
+    fo: &uncertainty::blocked::BlockedFirstOrder,
+    op: &FrfSet,
+    u_op: Option<&FrfUncertainty>,
+) -> Vec<PredictionBands> {
+    let mut out = Vec::new();
+    let sets = [
+        (
+            "validation",
+            b.validation.as_ref().map(|v| &v.predicted),
+            &b.validation_rows,
+            &fo.validation,
+        ),
+        (
+            "target",
+            b.target.as_ref().map(|t| &t.predicted),
+            &b.target_rows,
+            &fo.target,
+        ),
+    ];
+    for (of, pred, rows, std) in sets {
+        let (Some(pred), Some(std)) = (pred, std) else {
+            continue;
+        };
+        let n = rows.len();
+        let nl = pred.n_lines();
+        let mut interval = Vec::new();
+        let mut median = Vec::new();
+        let mut within = Vec::new();
+        for (t, r) in rows.iter().enumerate() {
+            let mut row = Vec::with_capacity(nl);
+            let mut upper = Vec::new();
+            let mut inside = 0usize;
+            for k in 0..nl {
+                let p = pred.get(k, t, 0).norm();
+                let u = std[k * n + t];
+                let (lo, hi) = uncertainty::interval_db(p, u);
+                row.push((lo.is_finite() && hi.is_finite()).then_some([lo, hi]));
+                if hi.is_finite() {
+                    upper.push(hi);
+                }
+                if let Some((o, _)) = r.op {
+                    // the difference of two independent circular errors
+                    let um = u_op.map_or(0.0, |w| w.std[op.idx(k, o, 0)]);
+                    let m = op.get(k, o, 0).norm();
+                    let half =
+                        uncertainty::reliability::Z95 * u.hypot(um) / std::f64::consts::SQRT_2;
+                    if (m - p).abs() <= half {
+                        inside += 1;
+                    }
+                }
+            }
+            upper.sort_by(|a, b| a.total_cmp(b));
+            median.push(upper.get(upper.len() / 2).copied());
+            within.push(r.op.map(|_| inside as f64 / nl.max(1) as f64));
+            interval.push(row);
+        }
+        out.push(PredictionBands {
+            of: of.to_string(),
+            dofs: pred.outputs.iter().map(|d| d.to_string()).collect(),
+            interval_95_db: interval,
+            median_upper_db: median,
+            measured_within: within,
+        });
+    }
+    out
 }
 
 /// Where the interface has singular values below the input noise, in words.

@@ -14,6 +14,8 @@
 //!   ill-conditioned interface), unreliable ranges and statements in words,
 //!   95 % level intervals.
 //! * [`chain`]: first order through cascade, sum of paths and response.
+//! * [`blocked`]: first order through the blocked-force inverse, to the
+//!   forces and the responses predicted from them.
 //! * [`level`]: the 95 % interval of an overall level.
 //! * [`csv`]: a result's uncertainty and flags as text.
 //! * [`spec`]: the recipe's per-component `"uncertainty"` key.
@@ -21,6 +23,7 @@
 //! An uncertainty is kept beside its set, never inside it: operations that
 //! copy and transform a set would otherwise carry a stale uncertainty.
 
+pub mod blocked;
 pub mod chain;
 pub mod csv;
 pub mod draws;

@@ -64,7 +64,15 @@ impl Operation for Couple {
             ),
             coupling_work(lines, outs, ins, joints.len()),
         )?;
-        let a = assemble::couple(&parts, &joints, &opts)?;
+        let mut a = assemble::couple(&parts, &joints, &opts)?;
+        if a.truncated.iter().any(|&t| t > 0) {
+            cx.check_work(
+                "the plain coupling the truncated one is compared with",
+                coupling_work(lines, outs, ins, joints.len()),
+            )?;
+            let plain = assemble::couple(&parts, &joints, &CouplingOptions::default());
+            compare_with_plain(&mut a, plain, "coupled FRFs");
+        }
         Ok(output(cx, "couple", a, notes))
     }
 }
@@ -104,7 +112,20 @@ impl Operation for Decouple {
                 joints.len(),
             ),
         )?;
-        let a = assemble::decouple(asm, rem, &joints, &opts)?;
+        let mut a = assemble::decouple(asm, rem, &joints, &opts)?;
+        if a.truncated.iter().any(|&t| t > 0) {
+            cx.check_work(
+                "the plain decoupling the truncated one is compared with",
+                coupling_work(
+                    lines,
+                    outs.saturating_add(rem.n_out()),
+                    ins.saturating_add(rem.n_in()),
+                    joints.len(),
+                ),
+            )?;
+            let plain = assemble::decouple(asm, rem, &joints, &CouplingOptions::default());
+            compare_with_plain(&mut a, plain, "decoupled FRFs");
+        }
         Ok(output(cx, "decouple", a, notes))
     }
 }
@@ -143,6 +164,21 @@ pub(crate) fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint
         .field("joints"));
     }
     Ok((out, notes))
+}
+
+/// Warn where a truncated-SVD result moves a peak of the plain solve
+/// ([`crate::peaks`]); a plain solve that fails (a singular interface) is
+/// said instead.
+fn compare_with_plain(a: &mut Assembled, plain: Result<Assembled>, what: &str) {
+    match plain {
+        Ok(p) => a
+            .warnings
+            .extend(crate::peaks::peak_changes(&p.set, &a.set, what)),
+        Err(e) => a.warnings.push(format!(
+            "the plain solve the truncation is compared with failed ({}), so its effect on the peaks is not checked",
+            e.message
+        )),
+    }
 }
 
 fn output(cx: &Ctx, op: &str, a: Assembled, notes: Vec<String>) -> StepOutput {

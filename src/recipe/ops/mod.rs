@@ -83,6 +83,9 @@ pub(crate) struct Ctx<'a> {
     pub files: &'a dyn super::FileSource,
     /// The reports of the earlier steps (a step may read what one found).
     pub steps: &'a [StepReport],
+    /// The standard uncertainty of the components and earlier results that
+    /// carry one, by name (a step may take a regularisation from it).
+    pub uncertainties: &'a BTreeMap<String, crate::uncertainty::FrfUncertainty>,
 }
 
 impl Ctx<'_> {

@@ -1,7 +1,7 @@
 //! Operation: `respond`, `paths`, `blocked-forces`.
 
 use super::{check_tsvd, opt, parse_dofs, req, Ctx, Operand, Operation, StepOutput};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::predict::{self, paths::PathGroup, paths::RankOptions};
 use crate::recipe::report::{level_rows, weighting_for, BlockedReport, StepReport};
@@ -26,17 +26,35 @@ pub struct Paths {
     pub groups: Option<BTreeMap<String, Vec<String>>>,
 }
 
-/// Blocked forces from a test bench, with an on-board validation.
+/// Blocked forces on a test bench or in situ, with an on-board validation.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct BlockedForces {
     pub bench: String,
     pub operational: String,
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub method: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tsvd: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tikhonov: Option<TikhonovSpec>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub validate: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub target: Option<Vec<String>>,
 }
+
+/// The `tikhonov` operand: λ as a fraction of the largest singular value
+/// per line, or `"noise"`: λ from the FRFs' uncertainty.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum TikhonovSpec {
+    Relative(f64),
+    Rule(String),
+}
+
+/// The λ rule that `"tikhonov": "noise"` names (for the help and the docs).
+pub const TIKHONOV_NOISE_RULE: &str = "per line, λ = (Σ u²)^½ over the standard uncertainties u of the indicator FRFs used (an estimate of ‖δH‖_F, which bounds the spectral norm of the FRF error): singular values well above the FRF noise are kept nearly whole, those below it are damped";
 
 const FRF: &str = "name of the FRFs from the excitation DOFs to the targets";
 const EXC: &str =
@@ -129,12 +147,15 @@ impl Operation for Paths {
 
 impl Operation for BlockedForces {
     const SUMMARY: &'static str =
-        "blocked forces at a source's interface from bench FRFs and operational responses at indicators (truncated-SVD inverse); indicators in 'validate' are left out and predicted as an on-board check, written as ID/validation-predicted and ID/validation-measured";
+        "blocked forces at a source's interface from FRFs and operational responses at indicators (f = H⁺y per line); method 'bench' (the source on a test bench, the bench's FRFs) or 'in-situ' (the source installed, the assembly's FRFs from the interface to indicators, with target DOFs predicted); indicators in 'validate' are left out and predicted as an on-board check, written as ID/validation-predicted and ID/validation-measured; targets as ID/target-predicted (and ID/target-measured when the responses hold them)";
     const OPERANDS: &'static [Operand] = &[
-        req("bench", "name of the bench FRFs: indicator DOFs × interface DOFs (more indicators than forces allowed)"),
+        req("bench", "name of the FRFs: indicator DOFs × interface DOFs (more indicators than forces allowed); the bench's, or with method 'in-situ' the installed assembly's"),
         req("operational", "name of the running source's responses at the indicators (peak or RMS spectrum)"),
-        opt("tsvd", "relative singular-value threshold of the inversion (default 1e-3)"),
+        opt("method", "'bench' (default) or 'in-situ': where the FRFs and responses were measured; said in the report"),
+        opt("tsvd", "relative singular-value threshold of the inversion (default 1e-3 when no 'tikhonov')"),
+        opt("tikhonov", "Tikhonov regularisation instead of the truncation, f = (HᴴH + λ²I)⁻¹Hᴴy: a number is λ as a fraction of the largest singular value per line; \"noise\" takes λ per line from the FRFs' 'uncertainty' (root sum of squares of the indicator FRFs' standard uncertainties)"),
         opt("validate", "indicator DOF labels left out of the inversion and predicted as a check"),
+        opt("target", "in situ: DOF labels of the assembly (outputs of the FRFs, left out of the inversion) whose responses are predicted from the blocked forces, and compared where the responses hold them"),
     ];
     fn reads(&self) -> Vec<&str> {
         vec![&self.bench, &self.operational]
@@ -142,22 +163,17 @@ impl Operation for BlockedForces {
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let bench = cx.get("bench", &self.bench)?;
         let op = cx.get("operational", &self.operational)?;
-        let mut o = predict::blocked::BlockedForceOptions::default();
-        if let Some(t) = check_tsvd(self.tsvd)? {
-            o.rel_threshold = t;
-        }
-        if let Some(v) = &self.validate {
-            o.validation = parse_dofs(v, "validate")?;
-        }
-        // per line a truncated SVD of the m × n indicator matrix (Jacobi
-        // sweeps: about 30 · m · n · min(m, n) operations)
+        let o = self.options(cx, bench)?;
+        // per line an SVD of the m × n indicator matrix (Jacobi sweeps: about
+        // 30 · m · n · min(m, n) operations), the inverse and, when
+        // regularised, the plain solve beside it
         let (m, n) = (bench.n_out(), bench.n_in());
         cx.check_work(
             &format!(
                 "the blocked forces ({} lines of {m} × {n} indicator matrices)",
                 bench.n_lines()
             ),
-            30.0 * bench.n_lines() as f64 * m as f64 * n as f64 * m.min(n) as f64,
+            34.0 * bench.n_lines() as f64 * m as f64 * n as f64 * m.min(n) as f64,
         )?;
         let b = predict::blocked::blocked_forces(bench, op, &o)?;
         let mut extras: Vec<(String, FrfSet)> = Vec::new();
@@ -169,12 +185,118 @@ impl Operation for BlockedForces {
             extras.push(("validation-predicted".into(), p));
             extras.push(("validation-measured".into(), m));
         }
+        if let Some(t) = &b.target {
+            let mut p = t.predicted.clone();
+            p.name = format!("{} target-predicted", cx.id);
+            extras.push(("target-predicted".into(), p));
+            let measured: Vec<_> = t
+                .dofs
+                .iter()
+                .zip(&t.measured)
+                .filter(|(_, m)| **m)
+                .map(|(d, _)| d.clone())
+                .collect();
+            if !measured.is_empty() {
+                let mut m = op.select_dofs(&measured, &op.inputs)?;
+                m.name = format!("{} target-measured", cx.id);
+                extras.push(("target-measured".into(), m));
+            }
+        }
         let mut report = StepReport::new(cx.id, "blocked-forces", b.warnings.clone());
+        if matches!(self.tikhonov, Some(TikhonovSpec::Rule(_))) {
+            report
+                .notes
+                .push(format!("Tikhonov λ from the noise: {TIKHONOV_NOISE_RULE}"));
+        }
         report.blocked = Some(BlockedReport::new(&b));
         Ok(StepOutput {
             set: b.forces,
             extras,
             report,
         })
+    }
+}
+
+impl BlockedForces {
+    /// The solve's options from the operands; every operand used or refused.
+    pub(crate) fn options(
+        &self,
+        cx: &Ctx,
+        frf: &FrfSet,
+    ) -> Result<predict::blocked::BlockedForceOptions> {
+        use predict::blocked::{BlockedMethod, Regularisation};
+        let method = match self.method.as_deref() {
+            None | Some("bench") => BlockedMethod::Bench,
+            Some("in-situ") => BlockedMethod::InSitu,
+            Some(m) => {
+                return Err(Error::recipe(format!(
+                    "method '{}': expected 'bench' or 'in-situ'",
+                    crate::error::quote(m)
+                ))
+                .field("method"))
+            }
+        };
+        let tsvd = check_tsvd(self.tsvd)?;
+        let regularisation = match (&self.tikhonov, tsvd) {
+            (Some(_), Some(_)) => {
+                return Err(Error::recipe(
+                    "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
+                )
+                .field("tikhonov"))
+            }
+            (None, Some(t)) => Regularisation::Truncated(t),
+            (None, None) => Regularisation::Truncated(1e-3),
+            (Some(TikhonovSpec::Relative(x)), None) => {
+                if !(x.is_finite() && *x > 0.0) {
+                    return Err(Error::recipe(format!(
+                        "'tikhonov' is {x}; expected λ as a positive fraction of the largest singular value (for example 1e-3), or \"noise\""
+                    ))
+                    .field("tikhonov"));
+                }
+                Regularisation::TikhonovRelative(*x)
+            }
+            (Some(TikhonovSpec::Rule(r)), None) if r == "noise" => {
+                let Some(u) = cx.uncertainties.get(&self.bench) else {
+                    return Err(Error::recipe(format!(
+                        "'tikhonov': \"noise\" takes λ from the uncertainty of the FRFs '{}', which carry none; give the component an \"uncertainty\" key, or λ as a number",
+                        crate::error::quote(&self.bench)
+                    ))
+                    .field("tikhonov"));
+                };
+                u.check_fits(frf)?;
+                Regularisation::TikhonovNoise(u.std.clone())
+            }
+            (Some(TikhonovSpec::Rule(r)), None) => {
+                return Err(Error::recipe(format!(
+                    "'tikhonov' is '{}'; expected a number (λ as a fraction of the largest singular value) or \"noise\"",
+                    crate::error::quote(r)
+                ))
+                .field("tikhonov"))
+            }
+        };
+        let mut o = predict::blocked::BlockedForceOptions {
+            method,
+            regularisation,
+            ..predict::blocked::BlockedForceOptions::default()
+        };
+        if let Some(v) = &self.validate {
+            o.validation = parse_dofs(v, "validate")?;
+        }
+        if let Some(t) = &self.target {
+            if o.method != BlockedMethod::InSitu {
+                return Err(Error::recipe(
+                    "'target' predicts responses of the installed assembly: it needs method 'in-situ' (the bench's FRFs do not reach the receiver)",
+                )
+                .field("target"));
+            }
+            if t.is_empty() {
+                return Err(
+                    Error::recipe("'target' is empty; give DOF labels or leave it out")
+                        .field("target"),
+                );
+            }
+            o.target = parse_dofs(t, "target")?;
+        }
+        Ok(o)
     }
 }
