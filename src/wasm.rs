@@ -174,13 +174,23 @@ pub fn recipe_editor_info() -> std::result::Result<String, JsValue> {
             if !optional {
                 continue;
             }
-            for (p, (shape, _)) in probes.iter().enumerate() {
-                let mut trial = base.clone();
-                trial.push((slot, p));
-                if accepts(&object(&trial)) {
-                    shapes.insert((*name).to_string(), Value::from(*shape));
-                    break;
-                }
+            let fits: Vec<&str> = (0..probes.len())
+                .filter(|&p| {
+                    let mut trial = base.clone();
+                    trial.push((slot, p));
+                    accepts(&object(&trial))
+                })
+                .map(|p| probes[p].0)
+                .collect();
+            // a slot taking a number or a word (e.g. a parameter or "noise")
+            // is the plain JSON field, which writes either as typed
+            let shape = if fits.contains(&"text") && fits.contains(&"number") {
+                Some("json")
+            } else {
+                fits.first().copied()
+            };
+            if let Some(shape) = shape {
+                shapes.insert((*name).to_string(), Value::from(shape));
             }
         }
         shapes
