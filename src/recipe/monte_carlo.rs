@@ -45,9 +45,9 @@ pub struct RecipeMonteCarlo {
 }
 
 /// (step, op, dof, unit) and the overall level of every level row.
-type Row = ((String, String, String, String), Option<f64>);
+pub(crate) type Row = ((String, String, String, String), Option<f64>);
 
-fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
+pub(crate) fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
     steps
         .iter()
         .flat_map(|s| {
