@@ -146,12 +146,18 @@ fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptio
     }))
 }
 
-/// Write `NAME.sweep.csv` into `out` (the recipe's SHA-256 recorded in
-/// it); its path.
+/// Write `NAME.sweep.csv` (and a speed sweep's `NAME.map.sweep.csv`) into
+/// `out`, the recipe's SHA-256 recorded in them; the level file's path.
 pub(crate) fn write_sweep(sw: &recipe::SweepReport, sha: &str, out: &Path) -> Result<String> {
     std::fs::create_dir_all(out)
         .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
-    let p = out.join(format!("{}.sweep.csv", safe_name(&sw.name)));
+    let stem = safe_name(&sw.name);
+    if let Some(map) = recipe::sweep_map_csv(sw, sha) {
+        let p = out.join(format!("{stem}.map.sweep.csv"));
+        std::fs::write(&p, map)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+    }
+    let p = out.join(format!("{stem}.sweep.csv"));
     std::fs::write(&p, recipe::sweep_csv(sw, sha))
         .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
     Ok(p.display().to_string())

@@ -222,6 +222,17 @@ pub(crate) fn execute_on(
     Ok(execute(recipe, comps, &BTreeMap::new(), variant, limits, files)?.steps)
 }
 
+/// Every set of the baseline run on `comps` (components and step results),
+/// with no uncertainty propagated: what a speed sweep reads its transfer from.
+pub(crate) fn baseline_values(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<BTreeMap<String, FrfSet>> {
+    Ok(execute(recipe, comps, &BTreeMap::new(), None, limits, files)?.values)
+}
+
 /// The sets the step at index `n` can read, as the baseline run makes them:
 /// every component loaded, the steps before it run (no variant, no audit),
 /// within `limits`.

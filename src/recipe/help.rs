@@ -73,6 +73,10 @@ pub fn schema_help() -> String {
     for (k, d) in super::SWEEP_FIELDS {
         let _ = writeln!(s, "  {k:<10} {d}");
     }
+    let _ = writeln!(s, "Keys of a sweep's \"speed\":");
+    for (k, d) in super::SPEED_FIELDS {
+        let _ = writeln!(s, "  {k:<10} {d}");
+    }
     s
 }
 

@@ -18,13 +18,14 @@
 //! `help` (the schema text).
 
 mod component;
-mod execute;
+pub(crate) mod execute;
 mod headline;
 mod help;
 mod joint;
 mod monte_carlo;
 mod ops;
 mod report;
+mod speed;
 mod sweep;
 mod uncertainty;
 
@@ -44,10 +45,11 @@ pub use report::{
     ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport,
     UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
+pub use speed::{OrderForce, SpeedSource, SPEED_FIELDS};
 pub use sweep::{
     merge_csv as merge_sweep_csv, run_sweep, slice as shard_slice, sweep_csv, sweep_headline,
-    PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS, SWEEP_CSV_MAGIC,
-    SWEEP_FIELDS,
+    sweep_map_csv, PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS,
+    SWEEP_CSV_MAGIC, SWEEP_FIELDS,
 };
 pub use uncertainty::Assessed;
 

@@ -30,8 +30,9 @@
 //! comma or a quote are quoted, quotes doubled. `points: A..B of N` is the
 //! slice a file holds (A inclusive, B exclusive); a whole run is `0..N`.
 
-use super::execute::{execute_on, load_components_with};
+use super::execute::{baseline_values, execute_on, load_components_with};
 use super::monte_carlo::level_values;
+use super::speed::SpeedSource;
 use super::{check_joint_setting, check_swap, FileSource, Recipe, Variant};
 use crate::error::{quote, Error, Result};
 use crate::frf::FrfSet;
@@ -61,6 +62,9 @@ pub struct SweepSpec {
     /// A component replaced by each point's value (a component name).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub swap: Option<String>,
+    /// A source excited per order, each point a speed in rev/s.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub speed: Option<SpeedSource>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub from: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -82,6 +86,7 @@ pub const SWEEP_FIELDS: &[(&str, &str)] = &[
     ("set_joints", "list of joint parameters \"STEP_ID#INDEX.FIELD\" (a couple or decouple step's joint, 0-based; FIELD k, c or eta of its type), all set to each point's value (SI units)"),
     ("scale", "a component or step whose values are multiplied by each point's value"),
     ("swap", "a component replaced, at each point, by the component the point names"),
+    ("speed", "a source excited per order: {frf, orders, interp} (keys below); each point a speed in rev/s, the level of the order lines there, and a map of each order's line level (NAME.map.sweep.csv)"),
     ("from", "first value of a range"),
     ("to", "last value of a range"),
     ("steps", "number of points of a range, both ends included (2 or more)"),
@@ -120,6 +125,8 @@ impl SweepSpec {
             format!("scale {s}")
         } else if let Some(s) = &self.swap {
             format!("swap {s}")
+        } else if let Some(s) = &self.speed {
+            format!("speed [rev/s] through {}", s.frf)
         } else {
             String::new()
         }
@@ -136,13 +143,14 @@ impl SweepSpec {
             ("set_joints", !self.set_joints.is_empty()),
             ("scale", self.scale.is_some()),
             ("swap", self.swap.is_some()),
+            ("speed", self.speed.is_some()),
         ];
         let given: Vec<&str> = kinds.iter().filter(|k| k.1).map(|k| k.0).collect();
         if given.len() != 1 {
             return Err(err(
                 "sweep",
                 format!(
-                    "a sweep varies exactly one of 'set_joints', 'scale' or 'swap'; {}",
+                    "a sweep varies exactly one of 'set_joints', 'scale', 'swap' or 'speed'; {}",
                     if given.is_empty() {
                         "none is given".to_string()
                     } else {
@@ -295,6 +303,19 @@ impl SweepSpec {
                     .collect()
             }
         };
+        if let Some(sp) = &self.speed {
+            sp.check().map_err(|e| e.within("speed"))?;
+            let known =
+                r.components.contains_key(&sp.frf) || r.steps.iter().any(|s| s.id == sp.frf);
+            if !known {
+                return Err(Error::recipe(format!(
+                    "'frf' names '{}', which is neither a component nor a step",
+                    quote(&sp.frf)
+                ))
+                .field("frf")
+                .within("speed"));
+            }
+        }
         // every point allowed where it goes (the first refused one named)
         for (i, p) in points.iter().enumerate() {
             let at = |e: Error| {
@@ -313,6 +334,11 @@ impl SweepSpec {
                     }
                     if let Some(s) = &self.scale {
                         check_scale(r, s, *x).map_err(at)?;
+                    }
+                    if self.speed.is_some() && !(x.is_finite() && *x > 0.0) {
+                        return Err(at(Error::recipe(format!(
+                            "speed {x} rev/s: expected a finite speed above 0"
+                        ))));
                     }
                 }
                 PointValue::Name(n) => {
@@ -398,6 +424,10 @@ pub struct SweepRow {
     pub value: String,
     /// Overall level of each column (None when not defined).
     pub levels_db: Vec<Option<f64>>,
+    /// A speed sweep's line level of each order at each column, orders ×
+    /// columns row-major by order (None where an order is left out).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub map_db: Vec<Option<f64>>,
 }
 
 /// A sweep's results (all its points, or one slice of them).
@@ -412,6 +442,12 @@ pub struct SweepReport {
     pub end: usize,
     pub columns: Vec<SweepColumn>,
     pub rows: Vec<SweepRow>,
+    /// A speed sweep's orders (the map's order axis), ascending.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub orders: Vec<f64>,
+    /// What was left out (orders outside the transfer's grid), once each.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub notes: Vec<String>,
 }
 
 /// The `k`-th (1-based) of `n` contiguous slices of `total` points:
@@ -465,38 +501,110 @@ pub(crate) fn sweep_on(
             range.start, range.end
         )));
     }
-    let nominal = level_values(&execute_on(recipe, comps, None, limits, files)?);
-    let columns: Vec<SweepColumn> = nominal
-        .iter()
-        .map(|((step, op, dof, unit), _)| SweepColumn {
-            step: step.clone(),
-            op: op.clone(),
-            dof: dof.clone(),
-            unit: unit.clone(),
-        })
-        .collect();
+    // a speed sweep reads its transfer from the baseline once
+    let transfer = match &spec.speed {
+        Some(sp) => {
+            let values = baseline_values(recipe, comps, limits, files)?;
+            let h = values.get(&sp.frf).cloned().ok_or_else(|| {
+                Error::recipe(format!(
+                    "'frf' names '{}', which the run did not make",
+                    quote(&sp.frf)
+                ))
+                .field("frf")
+                .within("sweep.speed")
+            })?;
+            if h.signal.is_some() {
+                return Err(Error::recipe(format!(
+                    "'frf' names '{}', a spectrum; a speed sweep's transfer is an FRF set",
+                    quote(&sp.frf)
+                ))
+                .field("frf")
+                .within("sweep.speed"));
+            }
+            // every DOF of the orders drives an input of the transfer
+            for (i, o) in sp.orders.iter().enumerate() {
+                let d = crate::frf::Dof::parse(&o.dof, "")?;
+                if h.in_place(&d).is_none() {
+                    return Err(Error::recipe(format!(
+                        "'{}' is not an input of '{}' (its inputs: {})",
+                        quote(&o.dof),
+                        quote(&sp.frf),
+                        h.inputs
+                            .iter()
+                            .map(|x| x.to_string())
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ))
+                    .field(format!("orders[{i}].dof"))
+                    .within("sweep.speed"));
+                }
+            }
+            Some((sp, h))
+        }
+        None => None,
+    };
+    let columns: Vec<SweepColumn> = match &transfer {
+        Some((sp, h)) => {
+            let unit = super::report::db_unit(super::report::weighting_for(h));
+            h.outputs
+                .iter()
+                .map(|d| SweepColumn {
+                    step: sp.frf.clone(),
+                    op: "speed".into(),
+                    dof: d.to_string(),
+                    unit: unit.to_string(),
+                })
+                .collect()
+        }
+        None => level_values(&execute_on(recipe, comps, None, limits, files)?)
+            .iter()
+            .map(|((step, op, dof, unit), _)| SweepColumn {
+                step: step.clone(),
+                op: op.clone(),
+                dof: dof.clone(),
+                unit: unit.clone(),
+            })
+            .collect(),
+    };
     let todo: Vec<(usize, &PointValue)> = range.clone().map(|i| (i, &points[i])).collect();
-    let one = |(i, p): &(usize, &PointValue)| -> Result<SweepRow> {
-        let v = spec.variant(*i, p);
-        let steps = execute_on(recipe, comps, Some(&v), limits, files).map_err(|e| {
+    let one = |(i, p): &(usize, &PointValue)| -> Result<(SweepRow, Vec<String>)> {
+        let within = |e: Error| {
             e.within(format!(
                 "sweep point {i} ({} = {})",
                 spec.parameter(),
                 p.text()
             ))
-        })?;
-        Ok(SweepRow {
-            index: *i,
-            value: p.text(),
-            levels_db: level_values(&steps).into_iter().map(|(_, l)| l).collect(),
-        })
+        };
+        if let (Some((sp, h)), PointValue::Number(speed)) = (&transfer, p) {
+            let (levels_db, map_db, notes) = sp.levels_at(h, *speed).map_err(within)?;
+            return Ok((
+                SweepRow {
+                    index: *i,
+                    value: p.text(),
+                    levels_db,
+                    map_db,
+                },
+                notes,
+            ));
+        }
+        let v = spec.variant(*i, p);
+        let steps = execute_on(recipe, comps, Some(&v), limits, files).map_err(within)?;
+        Ok((
+            SweepRow {
+                index: *i,
+                value: p.text(),
+                levels_db: level_values(&steps).into_iter().map(|(_, l)| l).collect(),
+                map_db: Vec::new(),
+            },
+            Vec::new(),
+        ))
     };
     let threads = threads.clamp(1, todo.len().max(1));
-    let rows: Vec<SweepRow> = if threads == 1 {
+    let done: Vec<(SweepRow, Vec<String>)> = if threads == 1 {
         todo.iter().map(one).collect::<Result<_>>()?
     } else {
         let per = todo.len().div_ceil(threads);
-        let chunks: Vec<Result<Vec<SweepRow>>> = std::thread::scope(|sc| {
+        let chunks: Vec<Result<Vec<_>>> = std::thread::scope(|sc| {
             let hs: Vec<_> = todo
                 .chunks(per)
                 .map(|c| sc.spawn(move || c.iter().map(one).collect::<Result<Vec<_>>>()))
@@ -514,6 +622,13 @@ pub(crate) fn sweep_on(
         }
         rows
     };
+    let mut rows = Vec::with_capacity(done.len());
+    let mut notes: Vec<String> = Vec::new();
+    for (r, n) in done {
+        rows.push(r);
+        notes.extend(n);
+    }
+    super::report::dedup(&mut notes);
     Ok(SweepReport {
         name: spec.name().to_string(),
         parameter: spec.parameter(),
@@ -522,6 +637,8 @@ pub(crate) fn sweep_on(
         end: range.end,
         columns,
         rows,
+        orders: transfer.map(|(sp, _)| sp.order_list()).unwrap_or_default(),
+        notes,
     })
 }
 
@@ -542,6 +659,37 @@ fn one_line(s: &str) -> String {
 /// The sweep file ([module docs](self)); `recipe_sha256` is the SHA-256 of
 /// the recipe file's bytes.
 pub fn sweep_csv(rep: &SweepReport, recipe_sha256: &str) -> String {
+    let labels: Vec<String> = rep.columns.iter().map(SweepColumn::label).collect();
+    csv_text(rep, recipe_sha256, &labels, |r| &r.levels_db)
+}
+
+/// A speed sweep's map, `NAME.map.sweep.csv`: the layout of the sweep file
+/// with one column per order and target ("FRF DOF order K [UNIT]", orders
+/// ascending, targets within each order), each the level of the line K·s Hz
+/// at the row's speed s (empty where the line falls outside the transfer's
+/// grid). None for a sweep that is not over speed.
+pub fn sweep_map_csv(rep: &SweepReport, recipe_sha256: &str) -> Option<String> {
+    if rep.orders.is_empty() {
+        return None;
+    }
+    let labels: Vec<String> = rep
+        .orders
+        .iter()
+        .flat_map(|k| {
+            rep.columns
+                .iter()
+                .map(move |c| format!("{} {} order {k} [{}]", c.step, c.dof, c.unit))
+        })
+        .collect();
+    Some(csv_text(rep, recipe_sha256, &labels, |r| &r.map_db))
+}
+
+fn csv_text(
+    rep: &SweepReport,
+    recipe_sha256: &str,
+    labels: &[String],
+    values: impl Fn(&SweepRow) -> &[Option<f64>],
+) -> String {
     let mut s = String::new();
     s.push_str(SWEEP_CSV_MAGIC);
     s.push('\n');
@@ -552,10 +700,15 @@ pub fn sweep_csv(rep: &SweepReport, recipe_sha256: &str) -> String {
         "# points: {}..{} of {}\n",
         rep.first, rep.end, rep.total
     ));
-    s.push_str(&header_row(rep));
+    s.push_str("index,value");
+    for l in labels {
+        s.push(',');
+        s.push_str(&field(l));
+    }
+    s.push('\n');
     for r in &rep.rows {
         s.push_str(&format!("{},{}", r.index, field(&r.value)));
-        for l in &r.levels_db {
+        for l in values(r) {
             s.push(',');
             if let Some(l) = l {
                 s.push_str(&format!("{l}"));
@@ -564,16 +717,6 @@ pub fn sweep_csv(rep: &SweepReport, recipe_sha256: &str) -> String {
         s.push('\n');
     }
     s
-}
-
-fn header_row(rep: &SweepReport) -> String {
-    let mut h = String::from("index,value");
-    for c in &rep.columns {
-        h.push(',');
-        h.push_str(&field(&c.label()));
-    }
-    h.push('\n');
-    h
 }
 
 /// One shard's file, read for [`merge_csv`]: its header lines, slice and rows.
@@ -759,6 +902,22 @@ pub fn sweep_headline(rep: &SweepReport) -> Vec<String> {
         let Some(lo) = vals.iter().min_by(|a, b| a.1.total_cmp(&b.1)) else {
             continue;
         };
+        if !rep.orders.is_empty() {
+            let rpm = hi.0.parse::<f64>().map(|s| s * 60.0).unwrap_or(f64::NAN);
+            out.push(format!(
+                "speed sweep '{}' ({} speeds): {} at {} peaks at {} rev/s ({rpm:.0} rpm) with {:.1} {u}; lowest {:.1} {u} at {} rev/s",
+                rep.name,
+                rep.total,
+                c.step,
+                c.dof,
+                hi.0,
+                hi.1,
+                lo.1,
+                lo.0,
+                u = c.unit
+            ));
+            continue;
+        }
         out.push(format!(
             "sweep '{}' of {} over {} points: {} at {} spans {:.1}–{:.1} {u}, highest where the value is {} and lowest where it is {}",
             rep.name,
