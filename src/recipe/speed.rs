@@ -51,6 +51,10 @@ pub const SPEED_FIELDS: &[(&str, &str)] = &[
     ("interp", "resampling of the FRFs onto the order lines: re-im (default) or log-mag-phase; lines outside the FRFs' grid are left out, never extrapolated"),
 ];
 
+/// The overall level of each target, each order's line level (orders ×
+/// targets, row-major by order) and the notes of one speed.
+pub type SpeedLevels = (Vec<Option<f64>>, Vec<Option<f64>>, Vec<String>);
+
 impl SpeedSource {
     /// The distinct orders, ascending.
     pub fn order_list(&self) -> Vec<f64> {
@@ -178,7 +182,7 @@ impl SpeedSource {
         &self,
         h: &FrfSet,
         speed: f64,
-    ) -> Result<(Vec<Option<f64>>, Vec<Option<f64>>, Vec<String>)> {
+    ) -> Result<SpeedLevels> {
         let orders = self.order_list();
         let n = h.n_out();
         let mut overall = vec![None; n];
