@@ -111,7 +111,7 @@ pub fn run(args: &Args) -> Result<Done> {
 }
 
 /// `--monte-carlo N` and `--seed S`, checked (`--seed` alone is refused).
-fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptions>> {
+pub(crate) fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptions>> {
     let seed = match args.value("seed") {
         None => None,
         Some(t) => Some(t.trim().parse::<u64>().map_err(|_| {

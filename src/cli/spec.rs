@@ -989,14 +989,18 @@ pub const COMMANDS: &[Command] = &[
 pub const SWEEP: Command = Command {
     name: "sweep",
     summary: "compute a recipe's sweep, whole or one shard K/N of its points, as NAME.sweep.csv",
-    usage: "mortise sweep RECIPE -o DIR [--shard K/N] [--threads T] [--read-outside] [limits]",
+    usage: "mortise sweep RECIPE -o DIR [--shard K/N] [--threads T] [--monte-carlo N [--seed S]] [--read-outside] [limits]",
     about: "Runs the \"sweep\" section of RECIPE ('mortise help recipe'): the baseline at each \
             point, each point the variant with that value, and writes every response and \
             path-total level against the parameter to DIR/NAME.sweep.csv (its layout in the \
             README). With --shard K/N only the K-th of N contiguous slices of the points is \
             computed; the file records the recipe's SHA-256 and the slice, and 'mortise merge' \
             folds the N shard directories into the file an unsharded run writes, byte for byte. \
-            Each shard is independent: a batch engine's array job runs them in any order.",
+            Each shard is independent: a batch engine's array job runs them in any order.\n\n\
+            With --monte-carlo N the points are the N draws of a Monte Carlo of the recipe's \
+            uncertain components (as 'mortise run --monte-carlo'): each row one draw's levels, \
+            written to DIR/monte-carlo.sweep.csv; a draw depends on the seed and its index only, \
+            so shards split the draws as they split a sweep.",
     groups: &[
         Group {
             title: "options",
@@ -1012,6 +1016,17 @@ pub const SWEEP: Command = Command {
                     "threads",
                     "T",
                     "threads computing points, 1 to 256 (default 2); the numbers do not depend on it",
+                ),
+                val(
+                    "monte-carlo",
+                    "N",
+                    "instead of the recipe's sweep, N draws (2 or more) of the components that \
+                     have an 'uncertainty' key, one row of levels per draw",
+                ),
+                val(
+                    "seed",
+                    "S",
+                    "seed of the --monte-carlo draws, a whole number (default 1)",
                 ),
                 HELP_OPT,
             ],

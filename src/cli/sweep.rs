@@ -1,5 +1,7 @@
-//! `mortise sweep RECIPE [--shard K/N] -o DIR`: the recipe's sweep, whole or
-//! one contiguous slice of its points, written as DIR/NAME.sweep.csv; and
+//! `mortise sweep RECIPE [--shard K/N] -o DIR`: the recipe's sweep (or, with
+//! `--monte-carlo N --seed S`, the draws of a Monte Carlo of its uncertain
+//! components), whole or one contiguous slice of its points, written as
+//! DIR/NAME.sweep.csv; and
 //! `mortise merge DIR... -o OUT`: shards folded into the file of the whole
 //! sweep, byte for byte the one an unsharded run writes.
 
@@ -82,20 +84,27 @@ pub fn run(args: &Args) -> Result<Done> {
     })?;
     let data = |e: Error| as_data(e, ErrorKind::Recipe).in_file(path.as_str());
     let r = recipe::parse(&text).map_err(data)?;
-    let spec = r.sweep.as_ref().ok_or_else(|| {
-        data(
-            Error::recipe(
-                "the recipe has no \"sweep\" section; 'mortise help recipe' describes it",
+    let sw = if let Some(mc) = super::run::monte_carlo_options(args)? {
+        // the draws of a Monte Carlo, as a sweep over the draw index
+        let range = match shard {
+            Some((k, n)) => Some(recipe::shard_slice(mc.draws, k, n)?),
+            None => None,
+        };
+        recipe::monte_carlo_draws(&r, &folder, &limits, mc, range, threads).map_err(data)?
+    } else {
+        let spec = r.sweep.as_ref().ok_or_else(|| {
+            data(Error::recipe(
+                "the recipe has no \"sweep\" section ('mortise help recipe' describes it); give --monte-carlo N for a Monte Carlo of its uncertain components",
             )
-            .field("sweep"),
-        )
-    })?;
-    let total = spec.points(&r).map_err(|e| data(e.within("sweep")))?.len();
-    let range = match shard {
-        Some((k, n)) => Some(recipe::shard_slice(total, k, n)?),
-        None => None,
+            .field("sweep"))
+        })?;
+        let total = spec.points(&r).map_err(|e| data(e.within("sweep")))?.len();
+        let range = match shard {
+            Some((k, n)) => Some(recipe::shard_slice(total, k, n)?),
+            None => None,
+        };
+        recipe::run_sweep(&r, &folder, &limits, range, threads).map_err(data)?
     };
-    let sw = recipe::run_sweep(&r, &folder, &limits, range, threads).map_err(data)?;
     let file = super::run::write_sweep(&sw, &sha, &out)?;
     let mut s = format!(
         "sweep '{}' of {}: points {}..{} of {} written to {file}\n",

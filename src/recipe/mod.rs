@@ -33,7 +33,7 @@ pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GR
 pub use execute::{load_components, load_components_with, run, run_with, RunResult};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
-pub use monte_carlo::{monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
+pub use monte_carlo::{monte_carlo_draws, monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
 pub use ops::{pick_toggled, pick_written};
 pub use ops::{
     virtual_point_groups, virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple,

@@ -178,11 +178,7 @@ impl SpeedSource {
     /// The overall level of each target at `speed` and each order's line
     /// level (orders × targets, row-major by order; None where an order is
     /// left out or a level is not defined).
-    pub fn levels_at(
-        &self,
-        h: &FrfSet,
-        speed: f64,
-    ) -> Result<SpeedLevels> {
+    pub fn levels_at(&self, h: &FrfSet, speed: f64) -> Result<SpeedLevels> {
         let orders = self.order_list();
         let n = h.n_out();
         let mut overall = vec![None; n];

@@ -599,29 +599,7 @@ pub(crate) fn sweep_on(
             Vec::new(),
         ))
     };
-    let threads = threads.clamp(1, todo.len().max(1));
-    let done: Vec<(SweepRow, Vec<String>)> = if threads == 1 {
-        todo.iter().map(one).collect::<Result<_>>()?
-    } else {
-        let per = todo.len().div_ceil(threads);
-        let chunks: Vec<Result<Vec<_>>> = std::thread::scope(|sc| {
-            let hs: Vec<_> = todo
-                .chunks(per)
-                .map(|c| sc.spawn(move || c.iter().map(one).collect::<Result<Vec<_>>>()))
-                .collect();
-            hs.into_iter()
-                .map(|h| {
-                    h.join()
-                        .unwrap_or_else(|_| Err(Error::internal("a sweep thread panicked")))
-                })
-                .collect()
-        });
-        let mut rows = Vec::with_capacity(todo.len());
-        for c in chunks {
-            rows.extend(c?);
-        }
-        rows
-    };
+    let done = on_threads(&todo, threads, one)?;
     let mut rows = Vec::with_capacity(done.len());
     let mut notes: Vec<String> = Vec::new();
     for (r, n) in done {
@@ -640,6 +618,38 @@ pub(crate) fn sweep_on(
         orders: transfer.map(|(sp, _)| sp.order_list()).unwrap_or_default(),
         notes,
     })
+}
+
+/// `f` of every item on `threads` threads, each thread a contiguous chunk,
+/// the results in the items' order (the first error, in that order, wins).
+pub(crate) fn on_threads<I: Sync, T: Send>(
+    items: &[I],
+    threads: usize,
+    f: impl Fn(&I) -> Result<T> + Sync,
+) -> Result<Vec<T>> {
+    let threads = threads.clamp(1, items.len().max(1));
+    if threads == 1 {
+        return items.iter().map(f).collect();
+    }
+    let per = items.len().div_ceil(threads);
+    let f = &f;
+    let chunks: Vec<Result<Vec<T>>> = std::thread::scope(|sc| {
+        let hs: Vec<_> = items
+            .chunks(per)
+            .map(|c| sc.spawn(move || c.iter().map(f).collect::<Result<Vec<T>>>()))
+            .collect();
+        hs.into_iter()
+            .map(|h| {
+                h.join()
+                    .unwrap_or_else(|_| Err(Error::internal("a sweep thread panicked")))
+            })
+            .collect()
+    });
+    let mut out = Vec::with_capacity(items.len());
+    for c in chunks {
+        out.extend(c?);
+    }
+    Ok(out)
 }
 
 /// A CSV field, quoted when it holds a comma, a quote or a line break.
