@@ -71,7 +71,7 @@ pub struct SweepSpec {
     pub to: Option<f64>,
     /// Number of points from `from` to `to`, both ends included (2 or more).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub steps: Option<u64>,
+    pub steps: Option<serde_json::Number>,
     /// "linear" (the default) or "log".
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub spacing: Option<String>,
@@ -237,10 +237,16 @@ impl SweepSpec {
                 let to = self
                     .to
                     .ok_or_else(|| err("to", "a range needs 'to' (its last value)".into()))?;
-                let steps = self.steps.ok_or_else(|| {
+                let steps = self.steps.as_ref().ok_or_else(|| {
                     err(
                         "steps",
                         "a range needs 'steps' (its number of points, 2 or more)".into(),
+                    )
+                })?;
+                let steps = steps.as_u64().ok_or_else(|| {
+                    err(
+                        "steps",
+                        format!("'steps' is {steps}; expected a whole number of points, 2 or more"),
                     )
                 })?;
                 for (k, x) in [("from", from), ("to", to)] {
@@ -1173,6 +1179,11 @@ mod tests {
 
     #[test]
     fn bad_sweeps_are_refused_naming_the_field() {
+        for bad in ["-3", "2.5"] {
+            let e = err_of(serde_json::json!({"scale": "isolator", "from": 1, "to": 2,
+                "steps": serde_json::from_str::<serde_json::Value>(bad).unwrap()}));
+            assert!(e.contains("steps: 'steps' is") && e.contains(bad), "{e}");
+        }
         let e = err_of(serde_json::json!({"scale": "isolator", "from": 1, "to": 2, "steps": 0}));
         assert!(
             e.contains("sweep") && e.contains("steps") && e.contains("is 0"),
