@@ -8,9 +8,8 @@
 //! the demo's steps, and the ratio of the whole time to (single × N / 2
 //! cores); 1.0 would be a perfect split with no overhead.
 //!
-//! The single run is timed as a one-point sweep minus nothing else: loading
-//! the components, the baseline and the point (so it counts two executions
-//! of the steps; its half is printed as the single run).
+//! The single run is the time one more point adds to a sweep on one thread:
+//! (t(21 points) − t(1 point)) / 20, so loading the files is left out.
 //!
 //! Run: `cargo run --profile bench-native --example bench_sweep [DRAWS] [POINTS]`
 //! (defaults 1000 and 200).
@@ -37,22 +36,29 @@ fn main() -> mortise::Result<()> {
     let lim = Limits::default();
     let parse = |v: &serde_json::Value| recipe::parse(&v.to_string());
 
-    // a single run: a one-point sweep is a baseline and one point
-    let mut one = base.clone();
-    one["sweep"] = serde_json::json!({"scale": "isolator", "values": [1.0]});
-    let r1 = parse(&one)?;
-    let mut best = f64::INFINITY;
-    for _ in 0..5 {
+    // a single run: the time one more point adds to a sweep on one thread,
+    // (t(21 points) − t(1 point)) / 20, best of 3 (loading the components and
+    // the baseline left out)
+    let timed = |steps: usize, threads: usize| -> mortise::Result<f64> {
+        let mut r = base.clone();
+        r["sweep"] =
+            serde_json::json!({"scale": "isolator", "from": 0.5, "to": 2.0, "steps": steps.max(2)});
+        if steps == 1 {
+            r["sweep"] = serde_json::json!({"scale": "isolator", "values": [1.0]});
+        }
+        let r = parse(&r)?;
         let t = Instant::now();
-        recipe::run_sweep(&r1, &src, &lim, None, 1)?;
-        best = best.min(t.elapsed().as_secs_f64());
+        recipe::run_sweep(&r, &src, &lim, None, threads)?;
+        Ok(t.elapsed().as_secs_f64())
+    };
+    let mut single = f64::INFINITY;
+    for _ in 0..3 {
+        single = single.min((timed(21, 1)? - timed(1, 1)?) / 20.0);
     }
-    let single = best / 2.0;
     println!(
-        "single run of the demo's steps: {:.1} ms (half of a one-point sweep, best of 5)",
+        "single run of the demo's steps: {:.1} ms (one more point of a sweep on one thread, best of 3)",
         single * 1e3
     );
-
     let report = |what: &str, n: usize, secs: f64| {
         println!(
             "{what}: {n} in {secs:.2} s on 2 threads, {:.2} ms each ({:.2}× a single run); ratio to single × N / 2 cores: {:.2}",
@@ -73,6 +79,12 @@ fn main() -> mortise::Result<()> {
     sw["sweep"] = serde_json::json!({"scale": "isolator", "from": 0.25, "to": 4.0,
         "steps": points, "spacing": "log"});
     let rsw = parse(&sw)?;
+    let t = Instant::now();
+    recipe::run_sweep(&rsw, &src, &lim, None, 1)?;
+    println!(
+        "isolator sweep points on 1 thread: {points} in {:.2} s",
+        t.elapsed().as_secs_f64()
+    );
     let t = Instant::now();
     recipe::run_sweep(&rsw, &src, &lim, None, 2)?;
     report("isolator sweep points", points, t.elapsed().as_secs_f64());
