@@ -142,3 +142,78 @@ fn shards_run_by_xargs_merge_into_the_unsharded_file() {
         assert!(err.contains("--shard"), "{err}");
     }
 }
+
+#[test]
+fn monte_carlo_draws_shard_and_merge_like_a_sweep() {
+    let d = common::scratch("cli_sweep_mc");
+    let input = d.join("in");
+    let (code, _, err) = mortise(&["demo", "-o", input.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(input.join("heat-pump.recipe.json")).unwrap();
+    let mut r: serde_json::Value = serde_json::from_str(&text).unwrap();
+    r["components"]["casing"]["uncertainty"] = serde_json::json!({"relative": 0.02});
+    let recipe = input.join("mc.recipe.json");
+    std::fs::write(&recipe, r.to_string()).unwrap();
+    let rp = recipe.to_str().unwrap();
+    let whole = d.join("whole");
+    let (code, _, err) = mortise(&[
+        "sweep",
+        rp,
+        "--monte-carlo",
+        "5",
+        "--seed",
+        "3",
+        "-o",
+        whole.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let mut dirs = Vec::new();
+    for k in 1..=2 {
+        let o = d.join(format!("s{k}"));
+        let shard = format!("{k}/2");
+        let (code, _, err) = mortise(&[
+            "sweep",
+            rp,
+            "--monte-carlo",
+            "5",
+            "--seed",
+            "3",
+            "--shard",
+            &shard,
+            "-o",
+            o.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 0, "{err}");
+        dirs.push(o.display().to_string());
+    }
+    let merged = d.join("merged");
+    let (code, _, err) = mortise(&["merge", &dirs[1], &dirs[0], "-o", merged.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    let file = "monte-carlo.sweep.csv";
+    let cmp = Command::new("cmp")
+        .arg(whole.join(file))
+        .arg(merged.join(file))
+        .status()
+        .unwrap();
+    assert!(cmp.success());
+    // another seed is another run: its rows differ from seed 3's
+    let other = d.join("seed4");
+    let (code, _, err) = mortise(&[
+        "sweep",
+        rp,
+        "--monte-carlo",
+        "5",
+        "--seed",
+        "4",
+        "-o",
+        other.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let a = std::fs::read_to_string(whole.join(file)).unwrap();
+    let b = std::fs::read_to_string(other.join(file)).unwrap();
+    assert_ne!(a.lines().nth(6), b.lines().nth(6));
+    // N = 0 or 1 draws is refused
+    let (code, _, err) = mortise(&["sweep", rp, "--monte-carlo", "0", "-o", "x"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--monte-carlo '0'"), "{err}");
+}
