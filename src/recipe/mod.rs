@@ -559,5 +559,25 @@ mod tests {
         assert!(e.to_string().contains("variants[0] ('soft')"), "{e}");
         let e = parse(&base.replace("VAR", r#"{"name":"soft","scale":{"Q":2}}"#)).unwrap_err();
         assert!(e.to_string().contains("'Q'"), "{e}");
+        // a joint parameter the joint's type lacks, a joint that is not
+        // there, a swap with a name that is no component
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","set_joints":{"c#0.k":1e5}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("set_joints.c#0.k") && e.contains("'rigid'"),
+            "{e}"
+        );
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","set_joints":{"c#1.k":1e5}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("joint 1 of step 'c'"), "{e}");
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","swap":{"A":"Q"}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("swap.A") && e.contains("'Q' is not a component"),
+            "{e}"
+        );
     }
 }
