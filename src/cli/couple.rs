@@ -148,6 +148,7 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
         }],
         variants: vec![],
         outputs: vec!["coupled".into()],
+        sweep: None,
     })
 }
 

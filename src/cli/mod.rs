@@ -39,6 +39,7 @@ pub mod mat_opts;
 pub mod orders;
 pub mod run;
 pub mod spec;
+pub mod sweep;
 pub mod time_data;
 
 pub use args::Args;
@@ -257,6 +258,8 @@ pub fn execute(argv: &[String]) -> Outcome {
                 "inspect" => inspect::run(&args),
                 "convert" => convert::run(&args),
                 "run" => run::run(&args),
+                "sweep" => sweep::run(&args),
+                "merge" => sweep::merge(&args),
                 "couple" => couple::run(&args),
                 "audit" => audit::run(&args),
                 "demo" => demo::run(&args),

@@ -29,6 +29,7 @@ pub fn run(args: &Args) -> Result<Done> {
     let mut result = serde_json::json!({ "recipe": path, "outdir": out.display().to_string() });
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
         let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
+        let recipe_sha = io::sha256_hex(&bytes);
         let dir = Path::new(path)
             .parent()
             .map(Path::to_path_buf)
@@ -81,7 +82,14 @@ pub fn run(args: &Args) -> Result<Done> {
             (r, res)
         };
         super::limits::check_written(&res.outputs, &limits)?;
-        let w = write_outputs(&res, &out)?;
+        let mut w = write_outputs(&res, &out)?;
+        if let Some(sw) = &res.report.sweep {
+            // the SHA-256 of the file run (the recipe, or the bundle)
+            w.files.insert(
+                w.files.len().saturating_sub(1),
+                write_sweep(sw, &recipe_sha, &out)?,
+            );
+        }
         Ok((r, res, w))
     })();
     match ran {
@@ -103,7 +111,7 @@ pub fn run(args: &Args) -> Result<Done> {
 }
 
 /// `--monte-carlo N` and `--seed S`, checked (`--seed` alone is refused).
-fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptions>> {
+pub(crate) fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptions>> {
     let seed = match args.value("seed") {
         None => None,
         Some(t) => Some(t.trim().parse::<u64>().map_err(|_| {
@@ -136,6 +144,23 @@ fn monte_carlo_options(args: &Args) -> Result<Option<crate::uncertainty::McOptio
         draws,
         seed: seed.unwrap_or(1),
     }))
+}
+
+/// Write `NAME.sweep.csv` (and a speed sweep's `NAME.map.sweep.csv`) into
+/// `out`, the recipe's SHA-256 recorded in them; the level file's path.
+pub(crate) fn write_sweep(sw: &recipe::SweepReport, sha: &str, out: &Path) -> Result<String> {
+    std::fs::create_dir_all(out)
+        .map_err(|e| Error::io(format!("cannot create '{}': {e}", out.display())))?;
+    let stem = safe_name(&sw.name);
+    if let Some(map) = recipe::sweep_map_csv(sw, sha) {
+        let p = out.join(format!("{stem}.map.sweep.csv"));
+        std::fs::write(&p, map)
+            .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+    }
+    let p = out.join(format!("{stem}.sweep.csv"));
+    std::fs::write(&p, recipe::sweep_csv(sw, sha))
+        .map_err(|e| Error::io(format!("cannot write '{}': {e}", p.display())))?;
+    Ok(p.display().to_string())
 }
 
 /// What [`write_outputs`] wrote.

@@ -982,9 +982,93 @@ pub const VERSION: Command = Command {
 
 /// Every command, in the order the general help lists them.
 pub const COMMANDS: &[Command] = &[
-    INSPECT, CONVERT, RUN, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE, ORDERS, DEMO, HELP,
-    VERSION,
+    INSPECT, CONVERT, RUN, SWEEP, MERGE, DIAGRAM, COUPLE, AUDIT, LISTEN, SPECTRUM, ESTIMATE,
+    ORDERS, DEMO, HELP, VERSION,
 ];
+
+pub const SWEEP: Command = Command {
+    name: "sweep",
+    summary: "compute a recipe's sweep, whole or one shard K/N of its points, as NAME.sweep.csv",
+    usage: "mortise sweep RECIPE -o DIR [--shard K/N] [--threads T] [--monte-carlo N [--seed S]] [--read-outside] [limits]",
+    about: "Runs the \"sweep\" section of RECIPE ('mortise help recipe'): the baseline at each \
+            point, each point the variant with that value, and writes every response and \
+            path-total level against the parameter to DIR/NAME.sweep.csv (its layout in the \
+            README). With --shard K/N only the K-th of N contiguous slices of the points is \
+            computed; the file records the recipe's SHA-256 and the slice, and 'mortise merge' \
+            folds the N shard directories into the file an unsharded run writes, byte for byte. \
+            Each shard is independent: a batch engine's array job runs them in any order.\n\n\
+            With --monte-carlo N the points are the N draws of a Monte Carlo of the recipe's \
+            uncertain components (as 'mortise run --monte-carlo'): each row one draw's levels, \
+            written to DIR/monte-carlo.sweep.csv; a draw depends on the seed and its index only, \
+            so shards split the draws as they split a sweep.",
+    groups: &[
+        Group {
+            title: "options",
+            opts: &[
+                val("o", "DIR", "the directory to write NAME.sweep.csv into (required)"),
+                val(
+                    "shard",
+                    "K/N",
+                    "compute only the K-th (1 to N) of N contiguous slices of the points; \
+                     default: every point",
+                ),
+                val(
+                    "threads",
+                    "T",
+                    "threads computing points, 1 to 256 (default 2); the numbers do not depend on it",
+                ),
+                val(
+                    "monte-carlo",
+                    "N",
+                    "instead of the recipe's sweep, N draws (2 or more) of the components that \
+                     have an 'uncertainty' key, one row of levels per draw",
+                ),
+                val(
+                    "seed",
+                    "S",
+                    "seed of the --monte-carlo draws, a whole number (default 1)",
+                ),
+                HELP_OPT,
+            ],
+        },
+        LIMITS_GROUP,
+        Group {
+            title: "files",
+            opts: &[
+                flag(
+                    "read-outside",
+                    "let the recipe name files outside its own folder (default: refused)",
+                ),
+                MAX_FILE_OPT,
+            ],
+        },
+    ],
+    example: "mortise sweep isolator-sweep.recipe.json --shard 2/4 -o shards/2",
+};
+
+pub const MERGE: Command = Command {
+    name: "merge",
+    summary: "fold the shard directories of 'mortise sweep --shard' into the whole sweep's files",
+    usage: "mortise merge DIR... -o OUT",
+    about:
+        "Reads every NAME.sweep.csv in each DIR and writes, for each NAME, the file of the whole \
+            sweep to OUT/NAME.sweep.csv: byte for byte what 'mortise sweep RECIPE -o OUT' writes \
+            without --shard. Refused: shards of different recipes (both SHA-256 named), of \
+            different sweeps, missing or overlapping slices.",
+    groups: &[Group {
+        title: "options",
+        opts: &[
+            val(
+                "o",
+                "OUT",
+                "the directory to write the merged files into (required)",
+            ),
+            MAX_FILE_OPT,
+            HELP_OPT,
+        ],
+    }],
+    example: "mortise merge shards/1 shards/2 shards/3 shards/4 -o whole",
+};
 
 pub fn command(name: &str) -> Option<&'static Command> {
     COMMANDS.iter().find(|c| c.name == name)

@@ -109,6 +109,30 @@ fn execute(
     let mut unc: BTreeMap<String, FrfUncertainty> = comp_unc.clone();
     let mut assessed: BTreeMap<String, Assessed> = BTreeMap::new();
     if let Some(v) = variant {
+        // a swap first: a variant scaling NAME scales what NAME now holds
+        for (name, other) in &v.swap {
+            if let (Some(a), Some(b)) = (comps.get(name), comps.get(other)) {
+                if a.outputs != b.outputs || a.inputs != b.inputs {
+                    return Err(crate::error::Error::recipe(format!(
+                        "swap '{name}' → '{other}': the DOFs differ ({} × {} against {} × {}, or their names); the replacement must have the DOFs the steps read (give it \"component\": \"{name}\" when only the namespace differs)",
+                        b.n_out(),
+                        b.n_in(),
+                        a.n_out(),
+                        a.n_in()
+                    ))
+                    .field(format!("swap.{}", crate::error::quote(name))));
+                }
+            }
+            if let Some(s) = comps.get(other) {
+                let mut s = s.clone();
+                s.name = name.clone();
+                values.insert(name.clone(), s);
+            }
+            match comp_unc.get(other) {
+                Some(u) => unc.insert(name.clone(), u.clone()),
+                None => unc.remove(name),
+            };
+        }
         for (name, f) in &v.scale {
             if let Some(s) = values.get_mut(name) {
                 scale_in_place(s, *f)
@@ -190,7 +214,35 @@ pub(crate) fn execute_plain(
     limits: &Limits,
     files: &dyn FileSource,
 ) -> Result<Vec<StepReport>> {
-    Ok(execute(recipe, comps, comp_unc, None, limits, files, false)?.steps)
+    execute_on(recipe, comps, comp_unc, None, limits, files)
+}
+
+/// The steps' reports of the baseline or of one variant on `comps`, with no
+/// uncertainty propagated (the components' stated uncertainty is seen by
+/// steps that read it, e.g. Tikhonov's λ from the noise): each point of a
+/// sweep ([`super::sweep`]) is the variant with its value, computed here as
+/// a recipe's variant is.
+pub(crate) fn execute_on(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    comp_unc: &BTreeMap<String, FrfUncertainty>,
+    variant: Option<&Variant>,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<Vec<StepReport>> {
+    Ok(execute(recipe, comps, comp_unc, variant, limits, files, false)?.steps)
+}
+
+/// Every set of the baseline run on `comps` (components and step results),
+/// with no uncertainty propagated: what a speed sweep reads its transfer from.
+pub(crate) fn baseline_values(
+    recipe: &Recipe,
+    comps: &BTreeMap<String, FrfSet>,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<BTreeMap<String, FrfSet>> {
+    let (unc, _) = super::uncertainty::component_uncertainties(recipe, comps)?;
+    Ok(execute(recipe, comps, &unc, None, limits, files, false)?.values)
 }
 
 /// The sets the step at index `n` can read, as the baseline run makes them:
@@ -324,9 +376,17 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         headline: Vec::new(),
         uff_node_numbers: BTreeMap::new(),
         monte_carlo: None,
+        sweep: None,
         caution: predict::CAUTION.into(),
     };
     report.headline = headline(&report);
+    if recipe.sweep.is_some() {
+        // the whole sweep, on threads where there are threads
+        let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
+        let sw = super::sweep::sweep_on(recipe, &comps, files, limits, None, threads)?;
+        report.headline.extend(super::sweep::sweep_headline(&sw));
+        report.sweep = Some(sw);
+    }
     Ok(RunResult {
         outputs,
         report,

@@ -13,7 +13,7 @@ pub fn schema_help() -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "A recipe is a JSON file:\n\n{{\n  \"format\": \"{RECIPE_FORMAT}\",\n  \"version\": {RECIPE_VERSION},\n  \"title\": \"free text\",\n  \"grid\": {{\"from\": 10, \"to\": 1000, \"step\": 1}},   (default grid of synthesized parts)\n  \"components\": {{ \"NAME\": {{ ... }}, ... }},\n  \"steps\": [ {{ \"id\": \"ID\", \"op\": \"OP\", ...operands... }}, ... ],\n  \"variants\": [ {{ \"name\": \"...\", \"scale\": {{\"NAME\": 0.5}}, \"drop_joints\": [\"STEP_ID#INDEX\"] }} ],\n  \"outputs\": [\"ID\", ...]\n}}\n\nEvery key is checked: an unknown key, or an operand of another operation, is an error naming\nthe entry. Components and step results share one namespace; a step may use any name defined\nbefore it. DOF labels are component:node+DIR (DIR one of X Y Z RX RY RZ, sign + or -) or\ncomponent:node for a scalar point."
+        "A recipe is a JSON file:\n\n{{\n  \"format\": \"{RECIPE_FORMAT}\",\n  \"version\": {RECIPE_VERSION},\n  \"title\": \"free text\",\n  \"grid\": {{\"from\": 10, \"to\": 1000, \"step\": 1}},   (default grid of synthesized parts)\n  \"components\": {{ \"NAME\": {{ ... }}, ... }},\n  \"steps\": [ {{ \"id\": \"ID\", \"op\": \"OP\", ...operands... }}, ... ],\n  \"variants\": [ {{ \"name\": \"...\", \"scale\": {{\"NAME\": 0.5}}, \"drop_joints\": [\"STEP_ID#INDEX\"],\n                  \"set_joints\": {{\"STEP_ID#INDEX.FIELD\": 2e5}}, \"swap\": {{\"NAME\": \"OTHER\"}} }} ],\n  \"sweep\": {{ \"set_joints\": [\"STEP_ID#INDEX.k\"], \"from\": 1e5, \"to\": 1e6, \"steps\": 11, \"spacing\": \"log\" }},\n  \"outputs\": [\"ID\", ...]\n}}\n\nEvery key is checked: an unknown key, or an operand of another operation, is an error naming\nthe entry. Components and step results share one namespace; a step may use any name defined\nbefore it. DOF labels are component:node+DIR (DIR one of X Y Z RX RY RZ, sign + or -) or\ncomponent:node for a scalar point."
     );
     let _ = writeln!(s, "\nComponent keys (one of file, inline, synth):");
     for (k, d) in COMPONENT_FIELDS {
@@ -64,8 +64,19 @@ pub fn schema_help() -> String {
     );
     let _ = writeln!(
         s,
-        "\nVariants: 'scale' multiplies a component's or step's values by a factor; 'drop_joints'\nleaves out joints of couple/decouple steps. Each variant's outputs are written as\n'NAME [variant]', with level changes against the baseline in the report.\n\nOutputs: step ids or component names; a step's extra results (a path analysis's per-path\ncontributions, a blocked-force validation's predicted and measured spectra, in-situ target\npredictions) are written beside it as ID/NAME."
+        "\nVariants: 'scale' multiplies a component's or step's values by a factor; 'drop_joints'\nleaves out joints of couple/decouple steps; 'set_joints' sets a joint's parameter\n(\"STEP_ID#INDEX.FIELD\": value, FIELD k, c or eta of the joint's type, SI units); 'swap'\nreplaces a component by another with the same DOFs. Each variant's outputs are written as\n'NAME [variant]', with level changes against the baseline in the report.\n\nOutputs: step ids or component names; a step's extra results (a path analysis's per-path\ncontributions, a blocked-force validation's predicted and measured spectra, in-situ target\npredictions) are written beside it as ID/NAME."
     );
+    let _ = writeln!(
+        s,
+        "\nSweep (optional): the baseline at a list of points over one parameter, each point the\nvariant with that value; every response and path-total level against the parameter, in\nthe report ('sweep') and in NAME.sweep.csv (`mortise run`, `mortise sweep`). Keys:"
+    );
+    for (k, d) in super::SWEEP_FIELDS {
+        let _ = writeln!(s, "  {k:<10} {d}");
+    }
+    let _ = writeln!(s, "Keys of a sweep's \"speed\":");
+    for (k, d) in super::SPEED_FIELDS {
+        let _ = writeln!(s, "  {k:<10} {d}");
+    }
     s
 }
 
@@ -87,6 +98,9 @@ mod tests {
         }
         for (k, _) in COMPONENT_FIELDS {
             assert!(h.contains(k), "{k}");
+        }
+        for (k, _) in super::super::SWEEP_FIELDS {
+            assert!(h.contains(&format!("  {k:<10} ")), "{k}");
         }
         for (k, _) in crate::uncertainty::spec::UNCERTAINTY_FIELDS {
             assert!(h.contains(&format!("  {k:<10} ")), "{k}");

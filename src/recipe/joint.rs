@@ -296,6 +296,60 @@ impl JointSpec {
         ))
     }
 
+    /// This joint with one numeric parameter (`k`, `c` or `eta`) set to
+    /// `value`: a variant's or a sweep point's `set_joints`. The field must
+    /// belong to the joint's type (an optional one of `spring-damper` may be
+    /// given), and the joint is checked as a written one is.
+    pub fn with_param(&self, field: &str, value: f64) -> Result<JointSpec> {
+        let info = JOINT_TYPES
+            .iter()
+            .find(|t| t.name == self.type_name())
+            .ok_or_else(|| Error::internal("a joint type missing from the table"))?;
+        let numeric: Vec<&str> = info
+            .params
+            .iter()
+            .map(|p| p.0)
+            .filter(|p| *p != "stiffness")
+            .collect();
+        if !numeric.contains(&field) {
+            return Err(Error::recipe(format!(
+                "joint {} = {} is '{}', which has {}; '{}' is not one of them",
+                self.a,
+                self.b,
+                self.type_name(),
+                if numeric.is_empty() {
+                    "no numeric parameter".to_string()
+                } else {
+                    format!("the numeric parameters {}", numeric.join(", "))
+                },
+                crate::error::quote(field)
+            )));
+        }
+        let (mut k, mut c, mut eta) = match &self.kind {
+            JointType::Spring { k } => (Some(*k), None, None),
+            JointType::Damper { c } => (None, Some(*c), None),
+            JointType::Hysteretic { k, eta } => (Some(*k), None, Some(*eta)),
+            JointType::SpringDamper { k, c, eta } => (Some(*k), *c, *eta),
+            JointType::Rigid | JointType::Measured { .. } => (None, None, None),
+        };
+        match field {
+            "k" => k = Some(value),
+            "c" => c = Some(value),
+            _ => eta = Some(value),
+        }
+        let mut j = JointSpec::from_parts(
+            self.a.clone(),
+            self.b.clone(),
+            Some(self.type_name()),
+            k,
+            c,
+            eta,
+            None,
+        )?;
+        j.inferred = self.inferred;
+        Ok(j)
+    }
+
     /// The component names this joint reads (a measured joint's stiffness).
     pub fn reads(&self) -> Option<&str> {
         match &self.kind {

@@ -18,20 +18,22 @@
 //! `help` (the schema text).
 
 mod component;
-mod execute;
+pub(crate) mod execute;
 mod headline;
 mod help;
 mod joint;
 mod monte_carlo;
 mod ops;
 mod report;
+mod speed;
+mod sweep;
 mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
 pub use execute::{load_components, load_components_with, run, run_with, RunResult};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
-pub use monte_carlo::{monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
+pub use monte_carlo::{monte_carlo_draws, monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
 pub use ops::{pick_toggled, pick_written};
 pub use ops::{
     virtual_point_groups, virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple,
@@ -42,6 +44,12 @@ pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,
     ComponentReport, FilledEntry, InterfaceReport, LevelRow, LineLevel, RunReport, StepReport,
     UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
+};
+pub use speed::{OrderForce, SpeedSource, SPEED_FIELDS};
+pub use sweep::{
+    merge_csv as merge_sweep_csv, run_sweep, slice as shard_slice, sweep_csv, sweep_headline,
+    sweep_map_csv, PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS,
+    SWEEP_CSV_MAGIC, SWEEP_FIELDS,
 };
 pub use uncertainty::Assessed;
 
@@ -56,7 +64,7 @@ pub const RECIPE_FORMAT: &str = "mortise-recipe";
 pub const RECIPE_VERSION: u32 = 1;
 
 /// Where a recipe's files come from: the disk for the CLI, memory for the page.
-pub trait FileSource {
+pub trait FileSource: Sync {
     /// The bytes of the file the recipe names (a name relative to the recipe).
     fn read(&self, name: &str) -> Result<Vec<u8>>;
 }
@@ -107,6 +115,14 @@ pub struct Variant {
     /// Joints to leave out, as "STEP_ID#INDEX" (0-based index in that step's joints).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub drop_joints: Vec<String>,
+    /// Joint parameters to set, "STEP_ID#INDEX.FIELD" → value: `k`, `c` or
+    /// `eta` of that joint's type, in SI units.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub set_joints: BTreeMap<String, f64>,
+    /// Components replaced by another component: NAME → OTHER (every step
+    /// and joint reading NAME reads OTHER instead).
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub swap: BTreeMap<String, String>,
 }
 
 impl Variant {
@@ -116,6 +132,91 @@ impl Variant {
             .iter()
             .any(|d| d.rsplit_once('#') == Some((step, &index.to_string())))
     }
+
+    /// The parameters this variant sets on joint `index` of step `step`:
+    /// (field, value).
+    pub fn joint_settings<'a>(
+        &'a self,
+        step: &'a str,
+        index: usize,
+    ) -> impl Iterator<Item = (&'a str, f64)> + 'a {
+        self.set_joints.iter().filter_map(move |(k, v)| {
+            let (s, i, f) = joint_key(k)?;
+            (s == step && i == index).then_some((f, *v))
+        })
+    }
+}
+
+/// "STEP_ID#INDEX.FIELD" split into its parts (the index 0-based).
+pub(crate) fn joint_key(key: &str) -> Option<(&str, usize, &str)> {
+    let (at, field) = key.rsplit_once('.')?;
+    let (step, index) = at.rsplit_once('#')?;
+    Some((step, index.parse().ok()?, field))
+}
+
+/// Check one "STEP_ID#INDEX.FIELD" = value against the recipe's steps: the
+/// step is a couple or decouple step, the joint exists, the field belongs to
+/// its type and the value is allowed there. The error names the key.
+pub(crate) fn check_joint_setting(r: &Recipe, key: &str, value: f64) -> Result<()> {
+    let (step, index, field) = joint_key(key).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{}' is not a joint parameter; expected STEP_ID#INDEX.FIELD (a couple or decouple step's joint, 0-based, and k, c or eta)",
+            quote(key)
+        ))
+    })?;
+    let st = r.steps.iter().find(|s| s.id == step).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{}' names step '{}', which is not a step of the recipe",
+            quote(key),
+            quote(step)
+        ))
+    })?;
+    let joints = match &st.op {
+        Op::Couple(c) => &c.joints,
+        Op::Decouple(c) => &c.joints,
+        _ => {
+            return Err(Error::recipe(format!(
+                "'{}' names step '{}', a '{}' step, which has no joints",
+                quote(key),
+                quote(step),
+                st.op.name()
+            )))
+        }
+    };
+    let j = joints.get(index).ok_or_else(|| {
+        Error::recipe(format!(
+            "'{}' names joint {index} of step '{}', which has {} joint(s) (0-based)",
+            quote(key),
+            quote(step),
+            joints.len()
+        ))
+    })?;
+    j.with_param(field, value)
+        .map(|_| ())
+        .map_err(|e| Error::recipe(format!("'{}': {}", quote(key), e.message)))
+}
+
+/// Check one swap NAME → OTHER: both are components and differ.
+pub(crate) fn check_swap(r: &Recipe, name: &str, other: &str) -> Result<()> {
+    for n in [name, other] {
+        if !r.components.contains_key(n) {
+            return Err(Error::recipe(format!(
+                "swap '{}' → '{}': '{}' is not a component; components: {}",
+                quote(name),
+                quote(other),
+                quote(n),
+                known_list(&r.components.keys().map(String::as_str).collect::<Vec<_>>())
+            )));
+        }
+    }
+    if name == other {
+        return Err(Error::recipe(format!(
+            "swap '{}' → '{}' replaces a component by itself",
+            quote(name),
+            quote(other)
+        )));
+    }
+    Ok(())
 }
 
 /// A parsed recipe.
@@ -133,6 +234,9 @@ pub struct Recipe {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub variants: Vec<Variant>,
     pub outputs: Vec<String>,
+    /// The baseline at a list of points over one parameter.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sweep: Option<SweepSpec>,
 }
 
 /// The recipe as written: the top level checked with line numbers, each
@@ -154,6 +258,8 @@ struct RawRecipe {
     variants: Vec<serde_json::Value>,
     #[serde(default)]
     outputs: Vec<String>,
+    #[serde(default)]
+    sweep: Option<serde_json::Value>,
 }
 
 /// Parse recipe text. Errors name the entry (`components.NAME`,
@@ -225,6 +331,16 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
         })?;
         variants.push(var);
     }
+    let sweep = match raw.sweep {
+        None => None,
+        Some(v) => Some(serde_json::from_value::<SweepSpec>(v).map_err(|e| {
+            Error::recipe(quote_upto(
+                &e.to_string().replace("unknown field", "unknown key"),
+                240,
+            ))
+            .within("sweep")
+        })?),
+    };
     let r = Recipe {
         format: raw.format,
         version: raw.version,
@@ -234,8 +350,12 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
         steps,
         variants,
         outputs: raw.outputs,
+        sweep,
     };
     check_names(&r)?;
+    if let Some(s) = &r.sweep {
+        s.points(&r).map_err(|e| e.within("sweep"))?;
+    }
     Ok(r)
 }
 
@@ -324,6 +444,16 @@ fn check_names(r: &Recipe) -> Result<()> {
                 .field("drop_joints")
                 .within(label));
             }
+        }
+        for (k, x) in &v.set_joints {
+            check_joint_setting(r, k, *x).map_err(|e| {
+                e.field(format!("set_joints.{}", quote(k)))
+                    .within(label.clone())
+            })?;
+        }
+        for (k, o) in &v.swap {
+            check_swap(r, k, o)
+                .map_err(|e| e.field(format!("swap.{}", quote(k))).within(label.clone()))?;
         }
     }
     Ok(())
@@ -429,5 +559,25 @@ mod tests {
         assert!(e.to_string().contains("variants[0] ('soft')"), "{e}");
         let e = parse(&base.replace("VAR", r#"{"name":"soft","scale":{"Q":2}}"#)).unwrap_err();
         assert!(e.to_string().contains("'Q'"), "{e}");
+        // a joint parameter the joint's type lacks, a joint that is not
+        // there, a swap with a name that is no component
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","set_joints":{"c#0.k":1e5}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("set_joints.c#0.k") && e.contains("'rigid'"),
+            "{e}"
+        );
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","set_joints":{"c#1.k":1e5}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("joint 1 of step 'c'"), "{e}");
+        let e = parse(&base.replace("VAR", r#"{"name":"soft","swap":{"A":"Q"}}"#))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("swap.A") && e.contains("'Q' is not a component"),
+            "{e}"
+        );
     }
 }

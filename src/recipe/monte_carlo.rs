@@ -14,9 +14,11 @@ use super::execute::{execute_plain, load_components_with};
 use super::uncertainty::component_uncertainties;
 use super::{FileSource, Recipe};
 use crate::error::{Error, Result};
+use crate::frf::FrfSet;
 use crate::limits::Limits;
-use crate::uncertainty::{draws, McOptions};
+use crate::uncertainty::{draws, FrfUncertainty, McOptions};
 use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
 
 /// The spread of one level over the draws.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -45,9 +47,9 @@ pub struct RecipeMonteCarlo {
 }
 
 /// (step, op, dof, unit) and the overall level of every level row.
-type Row = ((String, String, String, String), Option<f64>);
+pub(crate) type Row = ((String, String, String, String), Option<f64>);
 
-fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
+pub(crate) fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
     steps
         .iter()
         .flat_map(|s| {
@@ -64,6 +66,103 @@ fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
             })
         })
         .collect()
+}
+
+/// Draw `d` of the uncertain components into `drawn` (a copy of `comps`):
+/// value `v` of the `c`-th component gets the normal pair d·T + o_c + v.
+fn draw_into(
+    drawn: &mut BTreeMap<String, FrfSet>,
+    comps: &BTreeMap<String, FrfSet>,
+    unc: &BTreeMap<String, FrfUncertainty>,
+    seed: u64,
+    d: usize,
+    total: u64,
+) {
+    let mut base = (d as u64).wrapping_mul(total);
+    for (name, u) in unc {
+        let (Some(src), Some(dst)) = (comps.get(name), drawn.get_mut(name)) else {
+            continue;
+        };
+        for (v, ((x, y), s)) in dst.data.iter_mut().zip(&src.data).zip(&u.std).enumerate() {
+            *x = if s.is_finite() && *s > 0.0 {
+                *y + draws::circular(seed, base + v as u64, *s)
+            } else {
+                *y
+            };
+        }
+        base += src.data.len() as u64;
+    }
+}
+
+/// The levels of draws `range` of an `draws`-draw Monte Carlo (seed
+/// `seed`) as a sweep over the draw index: each row one draw's every
+/// response and path-total level, the value its index. Each draw depends on
+/// (seed, index) only, so a slice computed alone (a shard) holds exactly
+/// the rows of the whole run; computed on `threads` threads.
+pub fn monte_carlo_draws(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    mc: McOptions,
+    range: Option<std::ops::Range<usize>>,
+    threads: usize,
+) -> Result<super::sweep::SweepReport> {
+    if mc.draws < 2 {
+        return Err(Error::usage(format!(
+            "a Monte Carlo of the recipe needs at least 2 draws; {} asked",
+            mc.draws
+        )));
+    }
+    super::check_names(recipe)?;
+    let comps = load_components_with(recipe, files, limits)?;
+    let (unc, _) = component_uncertainties(recipe, &comps)?;
+    if unc.is_empty() {
+        return Err(Error::recipe(
+            "no component has an 'uncertainty' key: there is nothing to draw",
+        ));
+    }
+    let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
+    let total: u64 = unc
+        .keys()
+        .filter_map(|k| comps.get(k))
+        .map(|s| s.data.len() as u64)
+        .sum();
+    let range = range.unwrap_or(0..mc.draws);
+    let idx: Vec<usize> = range.clone().collect();
+    let rows = super::sweep::on_threads(&idx, threads, |&d| {
+        let mut drawn = comps.clone();
+        draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
+        let got = execute_plain(recipe, &drawn, &unc, limits, files)
+            .map_err(|e| e.within(format!("Monte Carlo draw {}", d + 1)))?;
+        Ok(super::sweep::SweepRow {
+            index: d,
+            value: d.to_string(),
+            levels_db: level_values(&got).into_iter().map(|(_, l)| l).collect(),
+            map_db: Vec::new(),
+        })
+    })?;
+    Ok(super::sweep::SweepReport {
+        name: "monte-carlo".into(),
+        parameter: format!(
+            "draw of seed {} (Monte Carlo of the stated uncertainty)",
+            mc.seed
+        ),
+        total: mc.draws,
+        first: range.start,
+        end: range.end,
+        columns: nominal
+            .into_iter()
+            .map(|((step, op, dof, unit), _)| super::sweep::SweepColumn {
+                step,
+                op,
+                dof,
+                unit,
+            })
+            .collect(),
+        rows,
+        orders: Vec::new(),
+        notes: Vec::new(),
+    })
 }
 
 /// Run the recipe's baseline on `mc.draws` draws of its uncertain
@@ -97,20 +196,7 @@ pub fn monte_carlo_levels(
     let mut per: Vec<Vec<f64>> = vec![Vec::with_capacity(mc.draws); nominal.len()];
     let mut drawn = comps.clone();
     for d in 0..mc.draws {
-        let mut base = (d as u64).wrapping_mul(total);
-        for (name, u) in &unc {
-            let (Some(src), Some(dst)) = (comps.get(name), drawn.get_mut(name)) else {
-                continue;
-            };
-            for (v, ((x, y), s)) in dst.data.iter_mut().zip(&src.data).zip(&u.std).enumerate() {
-                *x = if s.is_finite() && *s > 0.0 {
-                    *y + draws::circular(mc.seed, base + v as u64, *s)
-                } else {
-                    *y
-                };
-            }
-            base += src.data.len() as u64;
-        }
+        draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
         let got = level_values(
             &execute_plain(recipe, &drawn, &unc, limits, files)
                 .map_err(|e| e.within(format!("Monte Carlo draw {}", d + 1)))?,
@@ -155,4 +241,48 @@ pub fn monte_carlo_levels(
         ),
         levels,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::recipe::{merge_sweep_csv, parse, shard_slice, sweep_csv, MapSource};
+
+    #[test]
+    fn monte_carlo_shards_hold_the_rows_of_the_whole_run() {
+        let mut src = MapSource::default();
+        let mut r = serde_json::Value::Null;
+        for (n, b) in crate::demo_files::files().unwrap() {
+            if n.ends_with(".recipe.json") {
+                r = serde_json::from_slice(&b).unwrap();
+            }
+            src.0.insert(n, b);
+        }
+        r["components"]["casing"]["uncertainty"] = serde_json::json!({"relative": 0.05});
+        let rec = parse(&r.to_string()).unwrap();
+        let lim = Limits::default();
+        let mc = McOptions { draws: 6, seed: 7 };
+        let whole = monte_carlo_draws(&rec, &src, &lim, mc, None, 2).unwrap();
+        let shards: Vec<(String, String)> = (1..=3)
+            .map(|k| {
+                let part =
+                    monte_carlo_draws(&rec, &src, &lim, mc, Some(shard_slice(6, k, 3).unwrap()), 1)
+                        .unwrap();
+                (format!("s{k}"), sweep_csv(&part, "h"))
+            })
+            .collect();
+        assert_eq!(merge_sweep_csv(&shards).unwrap(), sweep_csv(&whole, "h"));
+        // the rows are the draws `mortise run --monte-carlo` summarizes: the
+        // sample mean and standard deviation (n − 1) of the bed's level agree
+        // (textbook sample statistics; common practice)
+        let lv = monte_carlo_levels(&rec, &src, &lim, mc).unwrap();
+        let bed = lv.levels.iter().find(|l| l.op == "paths").unwrap();
+        let j = whole.columns.iter().position(|c| c.op == "paths").unwrap();
+        let x: Vec<f64> = whole.rows.iter().map(|r| r.levels_db[j].unwrap()).collect();
+        let mean = x.iter().sum::<f64>() / 6.0;
+        let sd = (x.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / 5.0).sqrt();
+        assert!((mean - bed.mean_db).abs() < 1e-12, "{mean} {}", bed.mean_db);
+        assert!((sd - bed.std_db).abs() < 1e-12);
+        assert!(sd > 0.0);
+    }
 }

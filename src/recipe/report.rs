@@ -55,6 +55,9 @@ pub struct RunReport {
     /// uncertainty, when asked for (`mortise run --monte-carlo N`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub monte_carlo: Option<super::monte_carlo::RecipeMonteCarlo>,
+    /// The recipe's sweep, when it has one: levels at each point.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sweep: Option<super::sweep::SweepReport>,
     pub caution: String,
 }
 

@@ -138,16 +138,23 @@ fn coupling_work(lines: usize, outs: usize, ins: usize, joints: usize) -> f64 {
     l * 8.0 * (o * m * i + m * m * (o + i) + m * m * m)
 }
 
-/// The engine's joints, without those the variant drops; notes on joints
+/// The engine's joints, without those the variant drops and with the
+/// parameters it sets; notes on joints
 /// whose type was read from their parameters.
 pub(crate) fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint>, Vec<String>)> {
     let mut out = Vec::new();
     let mut notes = Vec::new();
     for (i, j) in specs.iter().enumerate() {
         let at = format!("joints[{i}]");
+        let mut j = j.clone();
         if let Some(v) = cx.variant {
             if v.drops(cx.id, i) {
                 continue;
+            }
+            for (field, value) in v.joint_settings(cx.id, i) {
+                j = j
+                    .with_param(field, value)
+                    .map_err(|e| e.field(field.to_string()).within(at.clone()))?;
             }
         }
         if let Some(n) = j.inference_note() {

@@ -1,0 +1,373 @@
+//! A speed sweep: a source whose excitation is given per order (per DOF and
+//! order, a complex peak amplitude), driven at each speed of the sweep. At a
+//! speed of s revolutions per second, order k excites the line k·s Hz; the
+//! recipe's transfer (`frf`, a component or step) is resampled onto those
+//! lines by [`crate::grid::resample`] (never extrapolated: an order whose
+//! line falls outside the transfer's grid is left out at that speed, with a
+//! note) and the response is [`crate::predict::operational_response`], the
+//! function the `respond` operation calls. The level at a speed is the
+//! overall level of that line spectrum (dB, dB(A) for sound pressure, as the
+//! report weights it); the map gives each order's line level.
+
+use crate::error::{quote, Error, Result};
+use crate::frf::{Dof, FrfSet, SignalKind};
+use crate::grid::{self, Interp};
+use crate::levels;
+use crate::predict;
+use crate::recipe::report::weighting_for;
+use num_complex::Complex64;
+use serde::{Deserialize, Serialize};
+
+/// The `"speed"` key of a sweep: the transfer and the excitation per order.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SpeedSource {
+    /// A component or step holding FRFs from the orders' DOFs to the targets.
+    pub frf: String,
+    /// The excitation: one entry per DOF and order.
+    pub orders: Vec<OrderForce>,
+    /// Resampling of the transfer onto the order lines: "re-im" (default)
+    /// or "log-mag-phase".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub interp: Option<String>,
+}
+
+/// One order's complex peak amplitude at one DOF, in the transfer's input
+/// quantity (N for a force), SI units.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OrderForce {
+    pub dof: String,
+    /// The order: multiples of the rotation frequency (above 0).
+    pub order: f64,
+    pub re: f64,
+    pub im: f64,
+}
+
+/// The keys of `"speed"` and of each entry of its `"orders"` (for the help).
+pub const SPEED_FIELDS: &[(&str, &str)] = &[
+    ("frf", "a component or step: FRFs from the orders' DOFs to the targets"),
+    ("orders", "list of {dof, order, re, im}: each order's complex peak amplitude at a DOF, in the FRFs' input quantity (N for a force); order k at a speed of s rev/s is the line k·s Hz"),
+    ("interp", "resampling of the FRFs onto the order lines: re-im (default) or log-mag-phase; lines outside the FRFs' grid are left out, never extrapolated"),
+];
+
+/// The overall level of each target, each order's line level (orders ×
+/// targets, row-major by order) and the notes of one speed.
+pub type SpeedLevels = (Vec<Option<f64>>, Vec<Option<f64>>, Vec<String>);
+
+impl SpeedSource {
+    /// The distinct orders, ascending.
+    pub fn order_list(&self) -> Vec<f64> {
+        let mut o: Vec<f64> = self.orders.iter().map(|o| o.order).collect();
+        o.sort_by(|a, b| a.total_cmp(b));
+        o.dedup();
+        o
+    }
+
+    /// Every key checked: the DOFs parse, orders above 0 and finite,
+    /// amplitudes finite, no DOF and order given twice. Errors name the entry.
+    pub fn check(&self) -> Result<()> {
+        if self.orders.is_empty() {
+            return Err(
+                Error::recipe("'orders' is empty: nothing excites the transfer").field("orders"),
+            );
+        }
+        self.interp()?;
+        for (i, o) in self.orders.iter().enumerate() {
+            let at = |f: &str| format!("orders[{i}].{f}");
+            Dof::parse(&o.dof, "").map_err(|e| e.field(at("dof")))?;
+            if !o.order.is_finite() || o.order <= 0.0 {
+                return Err(Error::recipe(format!(
+                    "order {} : expected a finite number above 0",
+                    o.order
+                ))
+                .field(at("order")));
+            }
+            for (k, x) in [("re", o.re), ("im", o.im)] {
+                if !x.is_finite() {
+                    return Err(
+                        Error::recipe(format!("'{k}' is {x}; expected a finite number"))
+                            .field(at(k)),
+                    );
+                }
+            }
+            if let Some(j) = self.orders[..i]
+                .iter()
+                .position(|p| p.dof.trim() == o.dof.trim() && p.order == o.order)
+            {
+                return Err(Error::recipe(format!(
+                    "order {} at '{}' is given twice (orders[{j}] and orders[{i}])",
+                    o.order,
+                    quote(&o.dof)
+                ))
+                .field(at("dof")));
+            }
+        }
+        Ok(())
+    }
+
+    fn interp(&self) -> Result<Interp> {
+        match &self.interp {
+            None => Ok(Interp::LinearReIm),
+            Some(s) => Interp::parse(s).map_err(|e| e.field("interp")),
+        }
+    }
+
+    /// The excitation at `speed` rev/s on the transfer `h`: a peak spectrum
+    /// at the order lines inside `h`'s grid, and a note for each order left
+    /// out. None when no order falls inside the grid.
+    pub fn excitation_at(&self, h: &FrfSet, speed: f64) -> Result<(Option<FrfSet>, Vec<String>)> {
+        let (Some(&lo), Some(&hi)) = (h.freqs.first(), h.freqs.last()) else {
+            return Err(Error::recipe(format!("'{}' has no lines", h.name)).field("frf"));
+        };
+        let mut notes = Vec::new();
+        let mut kept = Vec::new();
+        for k in self.order_list() {
+            let f = k * speed;
+            if f < lo || f > hi {
+                notes.push(format!(
+                    "order {k} at {speed} rev/s is {f} Hz, outside the FRFs' grid {lo}–{hi} Hz: left out"
+                ));
+            } else {
+                kept.push((k, f));
+            }
+        }
+        if kept.is_empty() {
+            return Ok((None, notes));
+        }
+        let mut dofs: Vec<Dof> = Vec::new();
+        for o in &self.orders {
+            let d = Dof::parse(&o.dof, "")?;
+            if !dofs.contains(&d) {
+                dofs.push(d);
+            }
+        }
+        let mut exc = predict::new_spectrum(
+            &format!("orders at {speed} rev/s"),
+            kept.iter().map(|p| p.1).collect(),
+            dofs.clone(),
+            h.in_qty,
+            SignalKind::Peak,
+        );
+        for o in &self.orders {
+            let d = Dof::parse(&o.dof, "")?;
+            let (Some(r), Some(line)) = (
+                dofs.iter().position(|x| *x == d),
+                kept.iter().position(|p| p.0 == o.order),
+            ) else {
+                continue;
+            };
+            exc.set(line, r, 0, Complex64::new(o.re, o.im));
+        }
+        Ok((Some(exc), notes))
+    }
+
+    /// The response at `speed` rev/s: the transfer resampled onto the order
+    /// lines, times the excitation (`respond`'s function). None when no
+    /// order falls inside the grid; notes for orders left out.
+    pub fn response_at(&self, h: &FrfSet, speed: f64) -> Result<(Option<FrfSet>, Vec<String>)> {
+        let (exc, notes) = self.excitation_at(h, speed)?;
+        let Some(exc) = exc else {
+            return Ok((None, notes));
+        };
+        let hr = grid::resample(h, &exc.freqs, self.interp()?)?;
+        let y = predict::operational_response(&hr, &exc)?;
+        Ok((Some(y), notes))
+    }
+
+    /// The overall level of each target at `speed` and each order's line
+    /// level (orders × targets, row-major by order; None where an order is
+    /// left out or a level is not defined).
+    pub fn levels_at(&self, h: &FrfSet, speed: f64) -> Result<SpeedLevels> {
+        let orders = self.order_list();
+        let n = h.n_out();
+        let mut overall = vec![None; n];
+        let mut map = vec![None; orders.len() * n];
+        let (y, notes) = self.response_at(h, speed)?;
+        if let Some(y) = y {
+            let w = weighting_for(&y);
+            for (i, o) in overall.iter_mut().enumerate() {
+                let Ok(a) = levels::spectrum_levels(&y, i, 3, w) else {
+                    continue;
+                };
+                *o = a.overall_db.is_finite().then_some(a.overall_db);
+                for (f, l) in a.freqs.iter().zip(&a.line_db) {
+                    let Some(k) = orders.iter().position(|k| k * speed == *f) else {
+                        continue;
+                    };
+                    let v = l + levels::weighting_db(w, *f);
+                    map[k * n + i] = v.is_finite().then_some(v);
+                }
+            }
+        }
+        Ok((overall, map, notes))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::limits::Limits;
+    use crate::recipe::{parse, run_sweep, run_with, MapSource, SweepSpec};
+
+    /// The demo's files and recipe with a speed sweep of the casing seats
+    /// through `seat_to_anchor` (invented order amplitudes, N).
+    fn demo(speeds: serde_json::Value) -> (MapSource, serde_json::Value) {
+        static FILES: std::sync::OnceLock<Vec<(String, Vec<u8>)>> = std::sync::OnceLock::new();
+        let files = FILES
+            .get_or_init(|| crate::demo_files::files().unwrap())
+            .clone();
+        let mut src = MapSource::default();
+        let mut recipe = serde_json::Value::Null;
+        for (n, b) in files {
+            if n.ends_with(".recipe.json") {
+                recipe = serde_json::from_slice(&b).unwrap();
+            }
+            src.0.insert(n, b);
+        }
+        let mut orders = Vec::new();
+        for (s, seat) in ["101", "102", "103", "104"].iter().enumerate() {
+            for (k, amp) in [(1.0, 2.0), (2.0, 0.8), (3.0, 0.3)] {
+                orders.push(
+                    serde_json::json!({"dof": format!("casing:{seat}+Z"), "order": k,
+                    "re": amp * (1.0 + 0.1 * s as f64), "im": -0.2 * amp}),
+                );
+            }
+        }
+        let mut sweep = serde_json::json!({"name": "compressor",
+            "speed": {"frf": "seat_to_anchor", "orders": orders}});
+        for (k, v) in speeds.as_object().unwrap() {
+            sweep[k] = v.clone();
+        }
+        recipe["sweep"] = sweep;
+        (src, recipe)
+    }
+
+    #[test]
+    fn a_speed_line_equals_a_respond_run_at_that_speed() {
+        let (src, r) = demo(serde_json::json!({"from": 20.0, "to": 400.0, "steps": 20}));
+        let rec = parse(&r.to_string()).unwrap();
+        let sw = run_sweep(&rec, &src, &Limits::default(), None, 2).unwrap();
+        let sp: &SweepSpec = rec.sweep.as_ref().unwrap();
+        let speed = sp.speed.as_ref().unwrap();
+        // the transfer as the baseline makes it
+        let values = crate::recipe::execute::baseline_values(
+            &rec,
+            &crate::recipe::load_components(&rec, &src).unwrap(),
+            &Limits::default(),
+            &src,
+        )
+        .unwrap();
+        let h = &values["seat_to_anchor"];
+        let row = &sw.rows[5];
+        let s: f64 = row.value.parse().unwrap();
+        // the same speed as a plain recipe: an inline excitation at k·s Hz,
+        // the transfer resampled onto it, and a respond step
+        let (exc, _) = speed.excitation_at(h, s).unwrap();
+        let exc = exc.unwrap();
+        let mut plain = r.clone();
+        plain.as_object_mut().unwrap().remove("sweep");
+        plain["components"]["orders_at_s"] =
+            serde_json::json!({"inline": serde_json::to_value(&exc).unwrap()});
+        let steps = plain["steps"].as_array_mut().unwrap();
+        steps.push(serde_json::json!({"id": "h_at_s", "op": "resample", "from": "seat_to_anchor", "like": "orders_at_s"}));
+        steps.push(serde_json::json!({"id": "y_at_s", "op": "respond", "frf": "h_at_s", "excitation": "orders_at_s"}));
+        plain["outputs"] = serde_json::json!(["y_at_s"]);
+        let pr = parse(&plain.to_string()).unwrap();
+        let got = run_with(&pr, &src, &Limits::default()).unwrap();
+        let y_respond = &got.outputs[0];
+        let (y_sweep, _) = speed.response_at(h, s).unwrap();
+        let y_sweep = y_sweep.unwrap();
+        assert_eq!(y_respond.freqs, y_sweep.freqs);
+        for (a, b) in y_respond.data.iter().zip(&y_sweep.data) {
+            assert!((a - b).norm() <= 1e-12 * a.norm().max(1e-300), "{a} {b}");
+        }
+        let levels = got.report.steps.last().unwrap().levels.clone().unwrap();
+        for (l, v) in levels.iter().zip(&row.levels_db) {
+            assert!((l.overall_db.unwrap() - v.unwrap()).abs() <= 1e-12);
+        }
+        // each map entry is one line's level: a peak amplitude |y| is a
+        // mean square |y|²/2 (a sinusoid), in dB re 1 nm/s (ISO 1683:2015,
+        // velocity)
+        let orders = speed.order_list();
+        let n = h.n_out();
+        for (k, f) in orders.iter().map(|k| k * s).enumerate() {
+            let line = y_sweep.freqs.iter().position(|x| *x == f).unwrap();
+            for i in 0..n {
+                let y = y_sweep.get(line, i, 0).norm();
+                let want = 10.0 * (y * y / 2.0 / 1e-18).log10();
+                let got = row.map_db[k * n + i].unwrap();
+                assert!((got - want).abs() < 1e-9, "{got} {want}");
+            }
+        }
+    }
+
+    #[test]
+    fn orders_beyond_the_grid_are_left_out_and_the_worst_speed_is_named() {
+        // the demo's grid is 10–1000 Hz: order 3 at 400 rev/s is 1200 Hz
+        let (src, r) = demo(serde_json::json!({"values": [30.0, 58.0, 400.0]}));
+        let rec = parse(&r.to_string()).unwrap();
+        let sw = run_sweep(&rec, &src, &Limits::default(), None, 1).unwrap();
+        assert_eq!(sw.orders, vec![1.0, 2.0, 3.0]);
+        assert!(
+            sw.notes
+                .iter()
+                .any(|n| n.contains("order 3 at 400 rev/s is 1200 Hz")),
+            "{:?}",
+            sw.notes
+        );
+        let n = sw.columns.len();
+        assert!(sw.rows[2].map_db[2 * n].is_none());
+        assert!(sw.rows[2].map_db[n].is_some());
+        let csv = crate::recipe::sweep_map_csv(&sw, "x").unwrap();
+        assert!(
+            csv.contains("seat_to_anchor wall:a1+X order 3 [dB]"),
+            "{csv}"
+        );
+        let head = crate::recipe::sweep_headline(&sw);
+        let worst = sw
+            .rows
+            .iter()
+            .max_by(|a, b| a.levels_db[0].unwrap().total_cmp(&b.levels_db[0].unwrap()))
+            .unwrap();
+        assert!(
+            head[0].contains(&format!("peaks at {} rev/s", worst.value)),
+            "{head:?}"
+        );
+        let one = run_sweep(&rec, &src, &Limits::default(), None, 2).unwrap();
+        assert_eq!(one, sw);
+    }
+
+    #[test]
+    fn bad_speed_sweeps_are_refused_naming_the_field() {
+        let err = |r: serde_json::Value| parse(&r.to_string()).unwrap_err().to_string();
+        let (_, r) = demo(serde_json::json!({"values": [30.0, 0.0]}));
+        let e = err(r);
+        assert!(e.contains("values[1]") && e.contains("above 0"), "{e}");
+        let (_, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        r["sweep"]["speed"]["orders"][2]["order"] = (-1.0).into();
+        let e = err(r.clone());
+        assert!(e.contains("orders[2].order"), "{e}");
+        r["sweep"]["speed"]["orders"] = serde_json::json!([]);
+        assert!(err(r.clone()).contains("'orders' is empty"));
+        let (_, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        r["sweep"]["speed"]["frf"] = "nothing".into();
+        assert!(err(r).contains("'nothing'"));
+        let (_, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        r["sweep"]["speed"]["interp"] = "cubic".into();
+        assert!(err(r).contains("cubic"));
+        let (_, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        r["sweep"]["speed"]["amplitude"] = 1.into();
+        assert!(err(r).contains("amplitude"));
+        // a DOF that is not an input of the transfer, at run time
+        let (src, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        r["sweep"]["speed"]["orders"][0]["dof"] = "casing:999+Z".into();
+        let rec = parse(&r.to_string()).unwrap();
+        let e = run_sweep(&rec, &src, &Limits::default(), None, 1)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("orders[0].dof") && e.contains("casing:999+Z"),
+            "{e}"
+        );
+    }
+}
