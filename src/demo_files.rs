@@ -150,6 +150,24 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
             })
         })
         .collect();
+    // the compressor's blocked forces per order (the harmonics of the running
+    // speed, read at their lines), for the speed sweep
+    let bf = &p.blocked_forces;
+    let mut orders = Vec::new();
+    for n in 1..=17u32 {
+        let f = demo::RUNNING_HZ * f64::from(n);
+        let Some(k) = (0..bf.n_lines()).min_by(|&a, &b| {
+            (bf.freqs[a] - f).abs().total_cmp(&(bf.freqs[b] - f).abs())
+        }) else {
+            continue;
+        };
+        for (i, seat) in ["s1", "s2", "s3", "s4"].iter().enumerate() {
+            let v = bf.get(k, i, 0);
+            if v.norm() > 0.0 {
+                orders.push(json!({"dof": format!("casing:{}+Z", node(&CASING_NODES, seat)), "order": n, "re": v.re, "im": v.im}));
+            }
+        }
+    }
     json!({
         "format": "mortise-recipe",
         "version": 1,
@@ -193,8 +211,14 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
             {"id": "anchor_forces", "op": "respond", "frf": "wall_impedance", "excitation": "anchor_velocity",
              "note": "forces the brackets put into the wall"},
             {"id": "bedroom", "op": "paths", "frf": "room", "excitation": "anchor_forces",
-             "note": "sound pressure at the bed, split into the four anchor paths"}
+             "note": "sound pressure at the bed, split into the four anchor paths"},
+            {"id": "seat_to_wall_force", "op": "cascade", "first": "seat_to_anchor", "second": "wall_impedance",
+             "note": "forces into the wall per blocked force at a seat"},
+            {"id": "seat_to_bed", "op": "cascade", "first": "seat_to_wall_force", "second": "room",
+             "note": "sound pressure at the bed per blocked force at a seat: the transfer the speed sweep drives"}
         ],
+        "sweep": {"name": "compressor speed", "speed": {"frf": "seat_to_bed", "orders": orders},
+                  "from": 40, "to": 75, "steps": 71, "spacing": "linear"},
         "variants": [
             {"name": "softer isolators", "scale": {"isolator": demo::SOFT_FACTOR}}
         ],
