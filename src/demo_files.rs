@@ -156,9 +156,9 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
     let mut orders = Vec::new();
     for n in 1..=17u32 {
         let f = demo::RUNNING_HZ * f64::from(n);
-        let Some(k) = (0..bf.n_lines()).min_by(|&a, &b| {
-            (bf.freqs[a] - f).abs().total_cmp(&(bf.freqs[b] - f).abs())
-        }) else {
+        let Some(k) = (0..bf.n_lines())
+            .min_by(|&a, &b| (bf.freqs[a] - f).abs().total_cmp(&(bf.freqs[b] - f).abs()))
+        else {
             continue;
         };
         for (i, seat) in ["s1", "s2", "s3", "s4"].iter().enumerate() {

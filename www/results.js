@@ -72,6 +72,7 @@ function plotShowsResults() {
   if (!S.results) return false;
   if (S.plot.kind === 'condition') return true;
   if (S.plot.kind === 'bars' && (S.results.report?.steps || []).some((st) => st.ranking?.targets?.length)) return true;
+  if (S.plot.kind === 'speed-map') return !!S.results.report?.sweep;
   const ids = resultIds();
   return S.plot.sel.some((x) => ids.has(x.set));
 }
@@ -201,6 +202,12 @@ function plotSpec(width) {
     const first = S.plot.sel[0];
     return { ...base, kind: 'bars', ranking: first || null, y_label: '' };
   }
+  if (S.plot.kind === 'speed-map') {
+    // the run report's speed sweep, resolved into cells by the core
+    const sweep = S.results?.report?.sweep;
+    if (!sweep) throw new Error('the recipe has no speed sweep: add a "sweep" with "speed" and run it');
+    return { ...base, kind: 'speed-map', sweep };
+  }
   if (S.plot.kind === 'difference') {
     const c = S.plot.compare;
     if (!c) throw new Error('choose two runs in the run history and press Compare: this view draws the level difference between them');
@@ -248,7 +255,7 @@ function clearPlot(message) {
 async function drawPlot() {
   const wrap = $('plot-wrap');
   renderStale();
-  if (!S.plot.sel.length && S.plot.kind !== 'condition' && S.plot.kind !== 'difference') { clearPlot(); return; }
+  if (!S.plot.sel.length && !['condition', 'difference', 'speed-map'].includes(S.plot.kind)) { clearPlot(); return; }
   let spec;
   try { spec = plotSpec(wrap.clientWidth || 960); } catch (e) { clearPlot('cannot draw: ' + errorText(e)); return; }
   if (lastSpec && lastSpec.kind !== spec.kind) { $('readout').textContent = ''; cursor = null; }

@@ -44,6 +44,7 @@ mod drawing;
 mod envelope;
 mod geometry;
 mod layout;
+mod map;
 mod probe;
 mod render;
 mod resolved;
@@ -69,7 +70,9 @@ pub use render::{
     check_size, draw, draw_data, draw_data_pass, render_data_svg, render_svg, Drawn, Pass,
 };
 pub use resolved::{CurveMeta, PlotData, PlotMeta, PlotParts, View};
-pub use spec::{BarGroup, Controls, Frame, LegendEntry, LineData, PlotKind, PlotSpec, SeriesRef};
+pub use spec::{
+    BarGroup, Controls, Frame, LegendEntry, LineData, MapCell, PlotKind, PlotSpec, SeriesRef,
+};
 pub use stabilization::{
     stabilization_drawing, stabilization_svg, ChartDrawing, PoleClass, PoleMark,
 };

@@ -132,7 +132,7 @@ pub fn draw_data_pass<DB: DrawingBackend>(
     let curves: Vec<&Curve> = data.curves.iter().collect();
     let n = match spec.kind {
         PlotKind::Lines => spec.lines.len(),
-        PlotKind::Bars => 0,
+        PlotKind::Bars | PlotKind::SpeedMap => 0,
         _ => curves.len(),
     };
     if pass.from >= pass.to || (pass.from > 0 && pass.from >= n) {
@@ -146,6 +146,7 @@ pub fn draw_data_pass<DB: DrawingBackend>(
     let frames = match spec.kind {
         PlotKind::Lines => draw_lines(b, spec, (left, top, right, bottom), &mut legend, &part)?,
         PlotKind::Bars => draw_bars(b, spec, (left, top, right, bottom), &mut legend)?,
+        PlotKind::SpeedMap => super::map::draw_map(b, spec, (left, top, right, bottom))?,
         PlotKind::Difference => {
             if curves.is_empty() {
                 return Err(Error::missing("nothing to plot: no curve chosen"));
@@ -549,7 +550,7 @@ fn draw_frf<DB: DrawingBackend>(
             }
             Ok(frames)
         }
-        PlotKind::Lines | PlotKind::Bars | PlotKind::Difference => {
+        PlotKind::Lines | PlotKind::Bars | PlotKind::Difference | PlotKind::SpeedMap => {
             Err(Error::usage("not an FRF plot"))
         }
     }

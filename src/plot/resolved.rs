@@ -94,6 +94,36 @@ pub struct PlotParts {
     pub arrays: Vec<Vec<f64>>,
 }
 
+/// A speed map's spec: the cells of its sweep, the axis and scale titles,
+/// the worst speed; the sweep's JSON itself is not kept.
+fn speed_map(spec: &PlotSpec) -> Result<PlotSpec> {
+    let sweep = spec.sweep.as_ref().ok_or_else(|| {
+        Error::missing("a speed map needs a speed sweep from a run report").field("sweep")
+    })?;
+    let (cells, label, unit) = super::map::cells_from_sweep(sweep, spec.map_column)?;
+    let mut s = spec.clone();
+    s.worst_speed = sweep["rows"].as_array().and_then(|rows| {
+        rows.iter()
+            .filter_map(|r| {
+                let speed = r["value"].as_str()?.parse::<f64>().ok()?;
+                let level = r["levels_db"].get(spec.map_column)?.as_f64()?;
+                Some((speed, level))
+            })
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+            .map(|(speed, _)| speed)
+    });
+    s.cells = cells;
+    s.sweep = None;
+    s.z_label = format!("line level ({unit})");
+    if s.y_label.is_empty() {
+        s.y_label = "speed (rev/s)".into();
+    }
+    if s.title.is_empty() {
+        s.title = format!("{label}: level of each order's line against speed");
+    }
+    Ok(s)
+}
+
 impl PlotData {
     /// Resolve `spec` against the sets: its curves (for the difference view
     /// each series' level minus its baseline's), its lines with x from a set,
@@ -111,6 +141,7 @@ impl PlotData {
     ) -> Result<PlotData> {
         let (spec, curves) = match spec.kind {
             PlotKind::Lines => (lines_with_x(spec, sets)?, Vec::new()),
+            PlotKind::SpeedMap => (speed_map(spec)?, Vec::new()),
             PlotKind::Bars => {
                 let mut s = bars_from_set(spec, sets)?;
                 s.path_ranking = None;
@@ -137,6 +168,7 @@ impl PlotData {
         match self.spec.kind {
             PlotKind::Lines => self.spec.lines.len(),
             PlotKind::Bars => self.spec.groups.len(),
+            PlotKind::SpeedMap => self.spec.cells.len(),
             _ => self.curves.len(),
         }
     }
@@ -267,7 +299,9 @@ impl PlotData {
             });
         }
         let kind = meta.spec.kind;
-        if !matches!(kind, PlotKind::Lines | PlotKind::Bars) && curves.is_empty() {
+        if !matches!(kind, PlotKind::Lines | PlotKind::Bars | PlotKind::SpeedMap)
+            && curves.is_empty()
+        {
             return Err(Error::missing("nothing to plot: no curve chosen"));
         }
         Ok(PlotData {

@@ -26,6 +26,9 @@ pub enum PlotKind {
     /// The level difference in dB of each series against the baseline
     /// series at the same place (`baseline`): the change between two runs.
     Difference,
+    /// A speed sweep's line levels as colour: frequency across, speed up
+    /// (`sweep`, from a run report).
+    SpeedMap,
 }
 
 /// Which of a plot's switches change a drawing of this kind (the page
@@ -65,6 +68,11 @@ impl PlotKind {
                 db: false,
                 x_log: false,
             },
+            // colour is a level in dB; the frequency axis may be log
+            PlotKind::SpeedMap => Controls {
+                db: false,
+                x_log: true,
+            },
         }
     }
 }
@@ -93,6 +101,17 @@ pub struct LineData {
     /// value such as the interface condition number).
     #[serde(default)]
     pub x_from: Option<String>,
+}
+
+/// One cell of a speed map: an order's line at one speed.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct MapCell {
+    /// The line's frequency, order × speed (Hz).
+    pub freq: f64,
+    /// The speed (rev/s).
+    pub speed: f64,
+    /// The line's level at the target (dB, the sweep's weighting).
+    pub level: f64,
 }
 
 /// One group of bars for [`PlotKind::Bars`], one value per category.
@@ -164,6 +183,22 @@ pub struct PlotSpec {
     #[serde(default)]
     /// Kept as JSON: a report writes NaN and −∞ levels as null.
     pub path_ranking: Option<serde_json::Value>,
+    /// For [`PlotKind::SpeedMap`]: a run report's `sweep` (a speed sweep),
+    /// kept as JSON (null levels are orders left out), and which of its
+    /// targets (`map_column`, 0 the first).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sweep: Option<serde_json::Value>,
+    #[serde(default)]
+    pub map_column: usize,
+    /// The speed map's cells, resolved from `sweep`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub cells: Vec<MapCell>,
+    /// The colour scale's title (resolved).
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub z_label: String,
+    /// The speed of the highest overall level (resolved), marked on the map.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub worst_speed: Option<f64>,
 }
 
 impl PlotSpec {
@@ -177,6 +212,16 @@ impl PlotSpec {
     /// difference view), else the error naming the part.
     pub fn checked(self) -> Result<PlotSpec> {
         let spec = self;
+        if spec.kind != PlotKind::SpeedMap && (spec.sweep.is_some() || spec.map_column != 0) {
+            return Err(Error::usage(
+                "a sweep is read by the speed map only; leave it out or choose that view",
+            )
+            .field(if spec.sweep.is_some() {
+                "sweep"
+            } else {
+                "map_column"
+            }));
+        }
         if spec.kind != PlotKind::Difference && !spec.baseline.is_empty() {
             return Err(Error::usage(
                 "a baseline is read by the difference view only; leave it out or choose that view",
