@@ -202,7 +202,7 @@ pub(super) fn draw_map<DB: DrawingBackend>(
         }
         text(
             b,
-            &format!("loudest: {}", super::layout::tick_text(w)),
+            &format!("loudest: {} rev/s", super::layout::tick_text(w)),
             (p.x0 + 6, y - 4),
             12.0,
             Pos::new(HPos::Left, VPos::Bottom),
@@ -234,9 +234,9 @@ pub(super) fn draw_map<DB: DrawingBackend>(
     text(
         b,
         &spec.z_label,
-        (sx0 - 4, top - 2),
+        (right, top - 4),
         11.0,
-        Pos::new(HPos::Left, VPos::Bottom),
+        Pos::new(HPos::Right, VPos::Bottom),
         false,
     )?;
     Ok(vec![p.frame("frequency")])
@@ -305,7 +305,7 @@ mod tests {
         let rects = svg.matches("<rect").count();
         assert!(rects >= 10 + 64, "{rects}");
         // the loudest overall speed is 55 rev/s (k = 3), marked
-        assert!(svg.contains("loudest: 55"), "no worst-speed mark");
+        assert!(svg.contains("loudest: 55 rev/s"), "no worst-speed mark");
         assert!(svg.contains("line level (dB(A))"));
         // a sweep with another view is refused naming it
         let bad = PlotSpec::from_json(&json!({"kind": "bode", "sweep": {}}).to_string());

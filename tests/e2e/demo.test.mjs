@@ -71,6 +71,13 @@ test('demo assembly on the page equals the CLI', async () => {
     await s.page.waitForFunction(() => /95 %: /.test(document.getElementById('readout').textContent), null, { timeout: 20000 });
     assert.match(await s.page.textContent('#readout'), /95 %: [-0-9.−∞]+ to [-0-9.]+ dB/);
     await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/13-demo-band.png') });
+    // the compressor's speed sweep: the loudest speed in the headline, the map drawn by the core
+    assert.match(head, /speed sweep 'compressor speed'.*peaks at [0-9.]+ rev\/s/);
+    await s.page.selectOption('#plot-kind', 'speed-map');
+    await s.page.waitForTimeout(1000);
+    assert.doesNotMatch(await s.page.textContent('#readout'), /cannot draw/);
+    assert.equal(await s.page.$eval('#plot-canvas', (c) => c.hidden), false, 'the speed map is drawn');
+    await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/14-demo-speed-map.png') });
     await s.page.selectOption('#plot-kind', 'bode');
     // the path ranking as bars (one-third-octave bands × anchor paths)
     await s.page.selectOption('#plot-kind', 'bars');
