@@ -71,9 +71,12 @@ fn reading(c: &Curve, k: usize) -> Probe {
         level_db: c.level[k],
         db_label: c.db_label.clone(),
         phase_deg: wrap_phase(v),
-        interval_95_db: c.band.as_ref().map(|b| {
+        // an empty line of a line spectrum has no interval (both ends NaN)
+        interval_95_db: c.band.as_ref().and_then(|b| {
             let end = |x: Option<&f64>| x.copied().filter(|v| v.is_finite());
-            [end(b.lo.get(k)), end(b.hi.get(k))]
+            let (lo, hi) = (b.lo.get(k), b.hi.get(k));
+            let none = |x: Option<&f64>| x.map_or(true, |v| v.is_nan());
+            (!(none(lo) && none(hi))).then(|| [end(lo), end(hi)])
         }),
         reliable: c.band.as_ref().and_then(|b| b.reliable.get(k).copied()),
     }

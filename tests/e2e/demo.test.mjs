@@ -66,8 +66,11 @@ test('demo assembly on the page equals the CLI', async () => {
     });
     await s.page.selectOption('#plot-kind', 'magnitude');
     await s.page.waitForTimeout(800);
-    const box = await (await s.page.$('#plot-canvas')).boundingBox();
-    await s.page.mouse.move(box.x + box.width * 0.45, box.y + box.height * 0.3);
+    // the cursor on the strongest harmonic, 116 Hz (the lines between harmonics are empty)
+    const cb = await s.page.$eval('#plot-canvas', (c) => { c.scrollIntoView({ block: 'center' }); const r = c.getBoundingClientRect(); return { x: r.x, y: r.y, scale: c.width / r.width }; });
+    const f0 = (await s.page.$eval('#plot-wrap', (w) => JSON.parse(w.dataset.frames)))[0];
+    const at116 = (Math.log10(116) - Math.log10(f0.x_min)) / (Math.log10(f0.x_max) - Math.log10(f0.x_min));
+    await s.page.mouse.move(cb.x + (f0.x0 + at116 * (f0.x1 - f0.x0)) / cb.scale, cb.y + (f0.y0 + 30) / cb.scale);
     await s.page.waitForFunction(() => /95 %: /.test(document.getElementById('readout').textContent), null, { timeout: 20000 });
     assert.match(await s.page.textContent('#readout'), /95 %: [-0-9.−∞]+ to [-0-9.]+ dB/);
     await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/13-demo-band.png') });
