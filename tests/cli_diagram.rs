@@ -61,7 +61,7 @@ fn the_demo_recipe_drawn_by_the_cli() {
     assert_eq!((r.code, r.stderr.as_str()), (0, ""));
     assert!(
         r.stdout
-            .contains("6 component(s), 6 step(s), 8 joint(s) drawn"),
+            .contains("6 component(s), 8 step(s), 8 joint(s) drawn"),
         "{}",
         r.stdout
     );
