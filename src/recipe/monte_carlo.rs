@@ -68,6 +68,51 @@ pub(crate) fn level_values(steps: &[super::report::StepReport]) -> Vec<Row> {
         .collect()
 }
 
+/// What both Monte Carlo runs start from: the components, their stated
+/// uncertainties, the nominal levels and the count of drawn values.
+struct Prepared {
+    comps: BTreeMap<String, FrfSet>,
+    unc: BTreeMap<String, FrfUncertainty>,
+    nominal: Vec<Row>,
+    total: u64,
+}
+
+/// Check the draws, load the components and their uncertainties (refused
+/// when none has one: nothing to draw), run the nominal recipe.
+fn prepare(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    mc: McOptions,
+) -> Result<Prepared> {
+    if mc.draws < 2 {
+        return Err(Error::usage(format!(
+            "a Monte Carlo of the recipe needs at least 2 draws; {} asked",
+            mc.draws
+        )));
+    }
+    super::check_names(recipe)?;
+    let comps = load_components_with(recipe, files, limits)?;
+    let (unc, _) = component_uncertainties(recipe, &comps)?;
+    if unc.is_empty() {
+        return Err(Error::recipe(
+            "no component has an 'uncertainty' key: there is nothing to draw",
+        ));
+    }
+    let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
+    let total: u64 = unc
+        .keys()
+        .filter_map(|k| comps.get(k))
+        .map(|s| s.data.len() as u64)
+        .sum();
+    Ok(Prepared {
+        comps,
+        unc,
+        nominal,
+        total,
+    })
+}
+
 /// Draw `d` of the uncertain components into `drawn` (a copy of `comps`):
 /// value `v` of the `c`-th component gets the normal pair d·T + o_c + v.
 fn draw_into(
@@ -107,26 +152,12 @@ pub fn monte_carlo_draws(
     range: Option<std::ops::Range<usize>>,
     threads: usize,
 ) -> Result<super::sweep::SweepReport> {
-    if mc.draws < 2 {
-        return Err(Error::usage(format!(
-            "a Monte Carlo of the recipe needs at least 2 draws; {} asked",
-            mc.draws
-        )));
-    }
-    super::check_names(recipe)?;
-    let comps = load_components_with(recipe, files, limits)?;
-    let (unc, _) = component_uncertainties(recipe, &comps)?;
-    if unc.is_empty() {
-        return Err(Error::recipe(
-            "no component has an 'uncertainty' key: there is nothing to draw",
-        ));
-    }
-    let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
-    let total: u64 = unc
-        .keys()
-        .filter_map(|k| comps.get(k))
-        .map(|s| s.data.len() as u64)
-        .sum();
+    let Prepared {
+        comps,
+        unc,
+        nominal,
+        total,
+    } = prepare(recipe, files, limits, mc)?;
     let range = range.unwrap_or(0..mc.draws);
     let idx: Vec<usize> = range.clone().collect();
     let rows = super::sweep::on_threads(&idx, threads, |&d| {
@@ -173,26 +204,12 @@ pub fn monte_carlo_levels(
     limits: &Limits,
     mc: McOptions,
 ) -> Result<RecipeMonteCarlo> {
-    if mc.draws < 2 {
-        return Err(Error::usage(format!(
-            "a Monte Carlo of the recipe needs at least 2 draws; {} asked",
-            mc.draws
-        )));
-    }
-    super::check_names(recipe)?;
-    let comps = load_components_with(recipe, files, limits)?;
-    let (unc, _) = component_uncertainties(recipe, &comps)?;
-    if unc.is_empty() {
-        return Err(Error::recipe(
-            "no component has an 'uncertainty' key: there is nothing to draw",
-        ));
-    }
-    let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
-    let total: u64 = unc
-        .keys()
-        .filter_map(|k| comps.get(k))
-        .map(|s| s.data.len() as u64)
-        .sum();
+    let Prepared {
+        comps,
+        unc,
+        nominal,
+        total,
+    } = prepare(recipe, files, limits, mc)?;
     let mut per: Vec<Vec<f64>> = vec![Vec::with_capacity(mc.draws); nominal.len()];
     let mut drawn = comps.clone();
     for d in 0..mc.draws {
