@@ -30,16 +30,8 @@ pub fn run(args: &Args) -> Result<Done> {
     let ran = (|| -> Result<(recipe::Recipe, RunResult, Written)> {
         let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
         let recipe_sha = io::sha256_hex(&bytes);
-        let dir = Path::new(path)
-            .parent()
-            .map(Path::to_path_buf)
-            .unwrap_or_default();
         // names inside the recipe (or the bundle) are read from its folder
-        let folder = if args.flag("read-outside") {
-            DirSource::anywhere(dir, limits)
-        } else {
-            DirSource::confined(dir, limits)
-        };
+        let folder = recipe_folder(path, args, limits);
         let (r, res) = if matches!(io::detect(&bytes, path), Ok(io::Format::Bundle)) {
             if args.value("monte-carlo").is_some() || args.value("seed").is_some() {
                 return Err(Error::usage(
@@ -481,4 +473,18 @@ pub fn summary(title: &str, res: &RunResult, out: &Path) -> String {
     );
     let _ = writeln!(s, "caution: {}", super::CAUTION);
     s
+}
+
+/// The folder a recipe's (or bundle's) file names are read from: its own,
+/// confined to it unless `--read-outside` (shared by `run` and `sweep`).
+pub(super) fn recipe_folder(path: &str, args: &Args, limits: crate::limits::Limits) -> DirSource {
+    let dir = Path::new(path)
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_default();
+    if args.flag("read-outside") {
+        DirSource::anywhere(dir, limits)
+    } else {
+        DirSource::confined(dir, limits)
+    }
 }

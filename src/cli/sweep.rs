@@ -8,7 +8,7 @@
 use super::{as_data, Args, Done};
 use crate::error::{quote, Error, ErrorKind, Result};
 use crate::io;
-use crate::recipe::{self, DirSource};
+use crate::recipe;
 use std::path::{Path, PathBuf};
 
 /// `--shard K/N`, checked (K from 1 to N).
@@ -68,15 +68,7 @@ pub fn run(args: &Args) -> Result<Done> {
     let limits = super::limits::from_args(args)?;
     let bytes = io::disk::read_file(Path::new(path), path, &limits)?;
     let sha = io::sha256_hex(&bytes);
-    let dir = Path::new(path)
-        .parent()
-        .map(Path::to_path_buf)
-        .unwrap_or_default();
-    let folder = if args.flag("read-outside") {
-        DirSource::anywhere(dir, limits)
-    } else {
-        DirSource::confined(dir, limits)
-    };
+    let folder = super::run::recipe_folder(path, args, limits);
     let text = String::from_utf8(bytes).map_err(|e| {
         Error::parse("a recipe is UTF-8 text; this byte does not begin a UTF-8 character")
             .at_byte(e.utf8_error().valid_up_to())
