@@ -338,6 +338,28 @@ mod tests {
     }
 
     #[test]
+    fn a_sweep_too_large_for_the_memory_budget_is_refused_before_it_runs() {
+        // 10^6 speeds × 4 targets × (1 + 36 orders) levels of 16 bytes: 2.37 GB
+        // against the default 2 GiB budget
+        let (src, mut r) = demo(serde_json::json!({"from": 20.0, "to": 400.0, "steps": 1_000_000}));
+        let more: Vec<serde_json::Value> = (4..=9)
+            .flat_map(|k| {
+                ["101", "102", "103", "104"].map(|s| {
+                    serde_json::json!({"dof": format!("casing:{s}+Z"), "order": k as f64, "re": 0.1, "im": 0.0})
+                })
+            })
+            .collect();
+        if let Some(o) = r["sweep"]["speed"]["orders"].as_array_mut() {
+            o.extend(more);
+        }
+        let rec = parse(&r.to_string()).unwrap();
+        let e = run_sweep(&rec, &src, &Limits::default(), None, 1)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("the sweep's levels (1000000 points)"), "{e}");
+    }
+
+    #[test]
     fn bad_speed_sweeps_are_refused_naming_the_field() {
         let err = |r: serde_json::Value| parse(&r.to_string()).unwrap_err().to_string();
         let (_, r) = demo(serde_json::json!({"values": [30.0, 0.0]}));

@@ -579,6 +579,14 @@ pub(crate) fn sweep_on(
         })
         .collect(),
     };
+    // what the slice will hold, checked before any point runs: per point a
+    // level per column and, for a speed sweep, a line level per order and column
+    let orders = transfer.as_ref().map_or(0, |(sp, _)| sp.orders.len());
+    let per_point = (columns.len() as u64).saturating_mul(1 + orders as u64);
+    limits.check_values(
+        &format!("the sweep's levels ({} points)", range.len()),
+        (range.len() as u64).checked_mul(per_point),
+    )?;
     let todo: Vec<(usize, &PointValue)> = range.clone().map(|i| (i, &points[i])).collect();
     // the components' stated uncertainty, seen by steps that read it (Tikhonov's λ from the noise)
     let (comp_unc, _) = super::uncertainty::component_uncertainties(recipe, comps)?;
