@@ -115,11 +115,14 @@ cli() {
   cargo build --release --quiet --bin mortise
 }
 
-demo() {
+demo() { # the CLI to run it with (release for the build; the test build's own for tests)
   echo "== demo scenario: heat-pump outdoor unit on a timber-frame wall"
-  ./target/release/mortise demo -o sample-frf --check
-  ./target/release/mortise run sample-frf/heat-pump.recipe.json -o target/demo-out
+  "$1" demo -o sample-frf --check
+  "$1" run sample-frf/heat-pump.recipe.json -o target/demo-out
 }
+
+T0=$(date +%s)
+phase() { echo "== $* ($(($(date +%s) - T0)) s since start)"; }
 
 page() {
   echo "== building the offline page"
@@ -132,7 +135,7 @@ case "${1:-build}" in
     ensure_bindgen
     ensure_node_deps
     cli
-    demo
+    demo ./target/release/mortise
     page
     echo
     echo "open: file://$ROOT/dist/mortise.html"
@@ -143,14 +146,18 @@ case "${1:-build}" in
     ensure_node_deps
     ensure_venv
     ensure_chromium
-    echo "== cargo test"
+    phase "cargo test"
     cargo test --quiet --all-targets
     cargo test --quiet --doc
-    cli
-    demo
+    # The browser tests run the CLI the Rust tests just built (dev profile, optimised;
+    # the same sources as the release binary), which saves a second, link-time-optimised build.
+    export MORTISE_BIN="$ROOT/target/debug/mortise"
+    phase "demo scenario and page"
+    demo "$MORTISE_BIN"
     page
-    echo "== browser end-to-end tests"
+    phase "browser end-to-end tests"
     node --test tests/e2e/
+    phase "all tests passed"
     ;;
   bench)
     ensure_venv
