@@ -55,6 +55,27 @@ fn demo_with_stated_uncertainty_reports_interval_reliability_and_files() {
     assert!(lo < level && level < hi, "{lo} {level} {hi}");
     // 1 % on the structure and 5 % on the forces cannot move the level by 6 dB
     assert!(hi - lo > 0.05 && hi - lo < 6.0, "{lo} {hi}");
+    // each anchor path's level has its interval, each but the last the
+    // chance that the next one is as loud (its numbers: the numpy test below)
+    let ranked = step("bedroom")["ranking"]["targets"][0]["overall"]
+        .as_array()
+        .unwrap();
+    assert_eq!(ranked.len(), 4);
+    for (i, p) in ranked.iter().enumerate() {
+        let l = p["level_db"].as_f64().unwrap();
+        let iv = p["interval_95_db"].as_array().unwrap();
+        assert!(
+            iv[0].as_f64().unwrap() <= l && l <= iv[1].as_f64().unwrap(),
+            "{p}"
+        );
+        let c = p.get("swap_chance_with_next").and_then(Value::as_f64);
+        assert_eq!(c.is_some(), i < 3, "{p}");
+        assert!(c.map_or(true, |c| (0.0..=0.5).contains(&c)), "{p}");
+    }
+    assert!(
+        printed.contains("chance that neighbouring paths swap ranks"),
+        "{printed}"
+    );
     // the coupling: its reliability with statements in words
     let u = &step("mounted")["uncertainty"];
     let frac = u["fraction_flagged"].as_f64().unwrap();
@@ -293,4 +314,130 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
     assert!(!svg_plain.contains("opacity=\"0.18\""));
     ws.clear();
     assert!(ws.uncertainties().is_empty());
+}
+
+#[test]
+fn path_swap_chances_agree_with_a_numpy_monte_carlo() {
+    // three paths into one target, four lines, 10 % circular noise on every
+    // FRF value and force; mortise (first order to each path's lines, then
+    // 1,000 draws to the levels) against numpy drawing the FRFs and forces
+    // themselves (200,000 draws, no linearisation): tests/py/path_swap.py
+    use mortise::frf::SignalKind;
+    use mortise::uncertainty::{chain, level, FrfUncertainty};
+    use num_complex::Complex64;
+    let freqs = vec![100.0, 200.0, 300.0, 400.0];
+    let ins: Vec<mortise::Dof> = (1..=3)
+        .map(|i| mortise::Dof::parse(&format!("unit:{i}+Z"), "").unwrap())
+        .collect();
+    let target = vec![mortise::Dof::parse("room:bed", "").unwrap()];
+    let mut h = mortise::FrfSet::zeros(
+        "h",
+        freqs.clone(),
+        target.clone(),
+        ins.clone(),
+        mortise::Quantity::Pressure,
+        mortise::Quantity::Force,
+    );
+    let mut f = mortise::predict::new_spectrum(
+        "f",
+        freqs.clone(),
+        ins.clone(),
+        mortise::Quantity::Force,
+        SignalKind::Peak,
+    );
+    let scale = [1.0, 0.95, 0.85];
+    let (mut hj, mut fj, mut uhj, mut ufj) = (vec![], vec![], vec![], vec![]);
+    for k in 0..4 {
+        let (mut hr, mut fr, mut uhr, mut ufr) = (vec![], vec![], vec![], vec![]);
+        for (p, s) in scale.iter().enumerate() {
+            let hv = Complex64::from_polar(s * 1e-3 * (1.0 + 0.3 * k as f64), (k + p) as f64);
+            let fv = Complex64::from_polar(1.0 + 0.1 * p as f64, 0.5 * p as f64);
+            h.set(k, 0, p, hv);
+            f.set(k, p, 0, fv);
+            hr.push([hv.re, hv.im]);
+            fr.push([fv.re, fv.im]);
+            uhr.push(0.1 * hv.norm());
+            ufr.push(0.1 * fv.norm());
+        }
+        hj.push(hr);
+        fj.push(fr);
+        uhj.push(uhr);
+        ufj.push(ufr);
+    }
+    let uh = FrfUncertainty {
+        std: uhj.iter().flatten().copied().collect(),
+        method: "10 %".into(),
+    };
+    let uf = FrfUncertainty {
+        std: ufj.iter().flatten().copied().collect(),
+        method: "10 %".into(),
+    };
+    let c = mortise::predict::paths::path_contributions(&h, &f, &[]).unwrap();
+    let sets: Vec<mortise::FrfSet> = (0..3)
+        .map(|p| {
+            let mut s = c.total.clone();
+            for k in 0..4 {
+                s.set(k, 0, 0, c.get(k, 0, p));
+            }
+            s
+        })
+        .collect();
+    let rows: Vec<Vec<usize>> = (0..3).map(|p| vec![p]).collect();
+    let us = chain::paths_first_order(&h, Some(&uh), &f, Some(&uf), &rows).unwrap();
+    let paths: Vec<(&mortise::FrfSet, Option<&FrfUncertainty>)> =
+        sets.iter().zip(&us).map(|(s, u)| (s, Some(u))).collect();
+    let ours = level::path_spread(&paths, 0, mortise::levels::Weighting::Z).unwrap();
+
+    let dir = common::scratch("path_swap");
+    let input = json!({"freqs": freqs, "h": hj, "f": fj, "uh": uhj, "uf": ufj,
+        "draws": 200000, "seed": 5});
+    let path = dir.join("in.json");
+    std::fs::write(&path, input.to_string()).unwrap();
+    let out = std::process::Command::new(common::python())
+        .arg(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/tests/py/path_swap.py"
+        ))
+        .stdin(std::fs::File::open(&path).unwrap())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let reference: Value = serde_json::from_slice(&out.stdout).unwrap();
+    eprintln!(
+        "path spread: mortise {:?} {:?}; numpy {}",
+        ours.louder, ours.interval_95_db, reference
+    );
+    let mut intermediate = 0;
+    for a in 0..3 {
+        for b in 0..3 {
+            if a == b {
+                continue;
+            }
+            let r = reference["louder"][a][b].as_f64().unwrap();
+            let o = ours.louder[a][b];
+            // ours is 1,000 draws: binomial standard error at most 0.016, so
+            // 0.05 is three of them (the reference's own error is 0.001)
+            assert!(
+                (o - r).abs() < 0.05,
+                "P(path {a} louder than {b}): {o} vs {r}"
+            );
+            intermediate += usize::from(r > 0.05 && r < 0.95);
+        }
+        let [lo, hi] = ours.interval_95_db[a].unwrap();
+        let (rl, rh) = (
+            reference["intervals"][a][0].as_f64().unwrap(),
+            reference["intervals"][a][1].as_f64().unwrap(),
+        );
+        // quantiles of 1,000 draws, and first order against exact draws
+        assert!(
+            (lo - rl).abs() < 0.2 && (hi - rh).abs() < 0.2,
+            "{lo} {hi} vs {rl} {rh}"
+        );
+    }
+    // the case is one where ranks do swap: the check is not vacuous
+    assert!(intermediate >= 2, "{:?}", reference["louder"]);
 }

@@ -187,6 +187,14 @@ pub struct PathLevel {
     pub share: f64,
     /// 1 = strongest.
     pub rank: usize,
+    /// The level's 95 % interval from the inputs' stated uncertainty
+    /// (overall rankings of a recipe whose inputs carry one).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub interval_95_db: Option<[f64; 2]>,
+    /// The chance that the next path in the ranking is at least as loud as
+    /// this one (from the same draws as the interval).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub swap_chance_with_next: Option<f64>,
 }
 
 /// The ranking in one band.
@@ -234,6 +242,8 @@ fn ranked(names: &[String], ms: &[f64], reference: f64) -> Vec<PathLevel> {
             level_db: levels::db_mean_square(m, reference),
             share: if sum > 0.0 { m / sum } else { 0.0 },
             rank: 0,
+            interval_95_db: None,
+            swap_chance_with_next: None,
         })
         .collect();
     v.sort_by(|a, b| b.level_db.total_cmp(&a.level_db));

@@ -379,13 +379,17 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         sweep: None,
         caution: predict::CAUTION.into(),
     };
-    report.headline = headline(&report);
     if recipe.sweep.is_some() {
         // the whole sweep, on threads where there are threads
         let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
-        let sw = super::sweep::sweep_on(recipe, &comps, files, limits, None, threads)?;
-        report.headline.extend(super::sweep::sweep_headline(&sw));
-        report.sweep = Some(sw);
+        report.sweep = Some(super::sweep::sweep_on(
+            recipe, &comps, files, limits, None, threads,
+        )?);
+    }
+    // the headline names a speed sweep's loudest speed beside the level
+    report.headline = headline(&report);
+    if let Some(sw) = &report.sweep {
+        report.headline.extend(super::sweep::sweep_headline(sw));
     }
     Ok(RunResult {
         outputs,

@@ -23,14 +23,19 @@ pub(crate) fn headline(r: &RunReport) -> Vec<String> {
                 ),
                 _ => String::new(),
             };
+            let loudest = r
+                .sweep
+                .as_ref()
+                .and_then(|sw| super::sweep::loudest_speed(sw, &row.dof, u))
+                .unwrap_or_default();
             if row.weighting == crate::levels::Weighting::Z {
                 out.push(format!(
-                    "{} at {}: {overall:.1} dB ({}){interval}",
+                    "{} at {}: {overall:.1} dB ({}){interval}{loudest}",
                     st.id, row.dof, row.reference
                 ));
             } else {
                 out.push(format!(
-                    "{} at {}: {overall:.1} {u}, {unweighted:.1} dB unweighted ({}){interval}",
+                    "{} at {}: {overall:.1} {u}, {unweighted:.1} dB unweighted ({}){interval}{loudest}",
                     st.id, row.dof, row.reference
                 ));
             }
@@ -73,6 +78,20 @@ pub(crate) fn headline(r: &RunReport) -> Vec<String> {
                 t.target,
                 paths.join("; ")
             ));
+            let swaps: Vec<String> = t
+                .overall
+                .windows(2)
+                .filter_map(|w| {
+                    let c = w[0].swap_chance_with_next?;
+                    Some(format!("{} / {} {:.0} %", w[0].path, w[1].path, 100.0 * c))
+                })
+                .collect();
+            if !swaps.is_empty() {
+                out.push(format!(
+                    "  chance that neighbouring paths swap ranks (from the stated input uncertainty): {}",
+                    swaps.join(", ")
+                ));
+            }
         }
     }
     for v in &r.variants {

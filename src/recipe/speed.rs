@@ -333,6 +333,14 @@ mod tests {
             head[0].contains(&format!("peaks at {} rev/s", worst.value)),
             "{head:?}"
         );
+        // the run's headline names the same speed beside the level there
+        let c = &sw.columns[0];
+        let phrase = crate::recipe::sweep::loudest_speed(&sw, &c.dof, &c.unit).unwrap();
+        assert!(
+            phrase.contains(&format!("at {} rev/s", worst.value)),
+            "{phrase}"
+        );
+        assert!(crate::recipe::sweep::loudest_speed(&sw, "nowhere:1+X", &c.unit).is_none());
         let one = run_sweep(&rec, &src, &Limits::default(), None, 2).unwrap();
         assert_eq!(one, sw);
     }

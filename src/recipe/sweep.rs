@@ -916,6 +916,31 @@ pub fn merge_csv(shards: &[(String, String)]) -> Result<String> {
     Ok(s)
 }
 
+/// For a speed sweep with a level at `dof` in `unit` (a path total, else a
+/// response): "; loudest in the speed sweep 'NAME' at S rev/s (R rpm): L
+/// UNIT", the words the run's headline adds beside that level. None for
+/// a parameter sweep or when no point has a level there.
+pub(crate) fn loudest_speed(rep: &SweepReport, dof: &str, unit: &str) -> Option<String> {
+    if rep.orders.is_empty() {
+        return None;
+    }
+    let has_paths = rep.columns.iter().any(|c| c.op == "paths");
+    let j = rep
+        .columns
+        .iter()
+        .position(|c| c.dof == dof && c.unit == unit && (!has_paths || c.op == "paths"))?;
+    let (speed, level) = rep
+        .rows
+        .iter()
+        .filter_map(|r| Some((r.value.as_str(), r.levels_db.get(j).copied().flatten()?)))
+        .max_by(|a, b| a.1.total_cmp(&b.1))?;
+    let rpm = speed.parse::<f64>().ok()? * 60.0;
+    Some(format!(
+        "; loudest in the speed sweep '{}' at {speed} rev/s ({rpm:.0} rpm): {level:.1} {unit}",
+        rep.name
+    ))
+}
+
 /// Headline lines of a whole sweep: for every path total (else every
 /// response), its range over the points and where it is highest.
 pub fn sweep_headline(rep: &SweepReport) -> Vec<String> {

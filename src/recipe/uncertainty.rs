@@ -241,6 +241,7 @@ pub(crate) fn propagate(
             let (_, u) = uncertainty::respond_first_order(h, get(&p.frf), f, get(&p.excitation))?;
             let rel = assess_std(&out.set, &u, &opts);
             level_intervals(cx, out, &u)?;
+            path_spreads(cx, p, (get(&p.frf), get(&p.excitation)), out)?;
             (u, rel)
         }
         Op::BlockedForces(bf) => {
@@ -415,6 +416,64 @@ fn level_intervals(cx: &Ctx, out: &mut StepOutput, u: &FrfUncertainty) -> Result
         if row.overall_db.is_some() {
             let (lo, hi) = uncertainty::level_interval(&out.set, u, i, w)?;
             row.overall_interval_95_db = Some([lo, hi]);
+        }
+    }
+    Ok(())
+}
+
+/// Each path's 95 % level interval and the chance that it swaps ranks with
+/// the next path, at every target of a path analysis's overall ranking.
+fn path_spreads(
+    cx: &Ctx,
+    p: &super::ops::Paths,
+    (u_frf, u_exc): (Option<&FrfUncertainty>, Option<&FrfUncertainty>),
+    out: &mut StepOutput,
+) -> Result<()> {
+    let h = cx.get("frf", &p.frf)?;
+    let f = cx.get("excitation", &p.excitation)?;
+    let c = crate::predict::paths::path_contributions(h, f, &p.path_groups()?)?;
+    // the paths' own sets, in the contributions' order (the step wrote them)
+    let sets: Vec<&FrfSet> = c
+        .paths
+        .iter()
+        .filter_map(|n| out.extras.iter().find(|(e, _)| e == n).map(|(_, s)| s))
+        .collect();
+    if sets.len() != c.paths.len() {
+        return Err(Error::numeric(
+            "the path analysis's contributions were not all written; cannot rank their spread",
+        ));
+    }
+    let Some(ranking) = out.report.ranking.as_mut() else {
+        return Ok(());
+    };
+    cx.check_work(
+        "the paths' level intervals (a Monte Carlo over the lines of every path)",
+        c.targets.len() as f64
+            * c.paths.len() as f64
+            * (uncertainty::level::LEVEL_DRAWS as f64)
+            * (c.freqs.len() as f64 * 100.0 + c.paths.len() as f64),
+    )?;
+    let rows: Vec<Vec<usize>> = c
+        .path_inputs
+        .iter()
+        .map(|dofs| dofs.iter().filter_map(|d| f.out_place(d)).collect())
+        .collect();
+    let us = uncertainty::chain::paths_first_order(h, u_frf, f, u_exc, &rows)?;
+    let paths: Vec<(&FrfSet, Option<&FrfUncertainty>)> =
+        sets.iter().zip(&us).map(|(s, u)| (*s, Some(u))).collect();
+    for (t, target) in ranking.targets.iter_mut().enumerate() {
+        let sp = uncertainty::level::path_spread(&paths, t, target.weighting)?;
+        let at: Vec<Option<usize>> = target
+            .overall
+            .iter()
+            .map(|pl| c.paths.iter().position(|n| *n == pl.path))
+            .collect();
+        for i in 0..target.overall.len() {
+            let Some(a) = at[i] else { continue };
+            target.overall[i].interval_95_db = sp.interval_95_db[a];
+            if let Some(Some(b)) = at.get(i + 1) {
+                target.overall[i].swap_chance_with_next = Some(1.0 - sp.louder[a][*b]);
+            }
         }
     }
     Ok(())

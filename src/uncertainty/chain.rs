@@ -120,15 +120,56 @@ pub fn respond_first_order(
     u_exc: Option<&FrfUncertainty>,
 ) -> Result<(FrfSet, FrfUncertainty)> {
     let y = crate::predict::operational_response(frf, exc)?;
+    let std = response_std(frf, u_frf, exc, u_exc, &|_| true)?;
+    let what = method(&[(frf, u_frf), (exc, u_exc)], "the response");
+    Ok((y, FrfUncertainty { std, method: what }))
+}
+
+/// The first-order uncertainty of each path's contribution: path `p` is
+/// the response to the excitation's rows `paths[p]` (indices of
+/// `exc.outputs`) alone, lines × targets as the response. Paths through
+/// different inputs draw on different values, so their errors are
+/// independent.
+pub fn paths_first_order(
+    frf: &FrfSet,
+    u_frf: Option<&FrfUncertainty>,
+    exc: &FrfSet,
+    u_exc: Option<&FrfUncertainty>,
+    paths: &[Vec<usize>],
+) -> Result<Vec<FrfUncertainty>> {
+    let what = method(&[(frf, u_frf), (exc, u_exc)], "a path's contribution");
+    paths
+        .iter()
+        .map(|cols| {
+            Ok(FrfUncertainty {
+                std: response_std(frf, u_frf, exc, u_exc, &|r| cols.contains(&r))?,
+                method: what.clone(),
+            })
+        })
+        .collect()
+}
+
+/// The response's standard uncertainty per line and output, summed over
+/// the excitation's rows `r` with `through(r)` (see the module's formulas).
+fn response_std(
+    frf: &FrfSet,
+    u_frf: Option<&FrfUncertainty>,
+    exc: &FrfSet,
+    u_exc: Option<&FrfUncertainty>,
+    through: &dyn Fn(usize) -> bool,
+) -> Result<Vec<f64>> {
+    let coherent = crate::predict::check_pair(frf, exc)?.has_phase();
     let m = crate::predict::match_inputs(frf, exc)?;
-    let coherent = y.signal.is_some_and(|s| s.has_phase());
     let (uh, ue) = (squares(frf, u_frf)?, squares(exc, u_exc)?);
     let (no, ni) = (frf.n_out(), frf.n_in());
-    let mut std = vec![0.0; y.data.len()];
+    let mut std = vec![0.0; frf.n_lines() * no];
     for k in 0..frf.n_lines() {
         for i in 0..no {
             let mut v = 0.0;
             for (r, &(j, _)) in m.iter().enumerate() {
+                if !through(r) {
+                    continue;
+                }
                 let x = (k * no + i) * ni + j;
                 let h2 = frf.data[x].norm_sqr();
                 let f = exc.get(k, r, 0);
@@ -142,8 +183,7 @@ pub fn respond_first_order(
             std[k * no + i] = v.sqrt();
         }
     }
-    let what = method(&[(frf, u_frf), (exc, u_exc)], "the response");
-    Ok((y, FrfUncertainty { std, method: what }))
+    Ok(std)
 }
 
 /// `set.to_kind(kind)` with its first-order uncertainty.

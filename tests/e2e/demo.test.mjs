@@ -76,6 +76,7 @@ test('demo assembly on the page equals the CLI', async () => {
     await (await s.page.$('#plot-wrap')).screenshot({ path: join(ROOT, 'tests/e2e/artifacts/13-demo-band.png') });
     // the compressor's speed sweep: the loudest speed in the headline, the map drawn by the core
     assert.match(head, /speed sweep 'compressor speed'.*peaks at [0-9.]+ rev\/s/);
+    assert.match(head, /43\.2 dB\(A\).*95 % interval.*loudest in the speed sweep 'compressor speed' at [0-9.]+ rev\/s/);
     await s.page.selectOption('#plot-kind', 'speed-map');
     await s.page.waitForTimeout(1000);
     assert.doesNotMatch(await s.page.textContent('#readout'), /cannot draw/);

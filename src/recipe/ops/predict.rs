@@ -86,6 +86,20 @@ impl Operation for Respond {
     }
 }
 
+impl Paths {
+    /// The `groups` operand as path groups (DOF labels parsed).
+    pub(crate) fn path_groups(&self) -> Result<Vec<PathGroup>> {
+        let mut groups = Vec::new();
+        for (name, dofs) in self.groups.iter().flatten() {
+            groups.push(PathGroup {
+                name: name.clone(),
+                inputs: parse_dofs(dofs, &format!("groups.{name}"))?,
+            });
+        }
+        Ok(groups)
+    }
+}
+
 impl Operation for Paths {
     const SUMMARY: &'static str =
         "path contributions: the response split by excitation DOF (or group), ranked per band and overall; each path's complex contribution is written beside the total as ID/PATH";
@@ -100,13 +114,7 @@ impl Operation for Paths {
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let h = cx.get("frf", &self.frf)?;
         let f = cx.get("excitation", &self.excitation)?;
-        let mut groups = Vec::new();
-        for (name, dofs) in self.groups.iter().flatten() {
-            groups.push(PathGroup {
-                name: name.clone(),
-                inputs: parse_dofs(dofs, &format!("groups.{name}"))?,
-            });
-        }
+        let groups = self.path_groups()?;
         // the total and one set per path, each lines × targets
         let paths = h.n_in().saturating_add(1);
         cx.check_set(
