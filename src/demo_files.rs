@@ -151,8 +151,12 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
         })
         .collect();
     // the compressor's blocked forces per order (the harmonics of the running
-    // speed, read at their lines), for the speed sweep
+    // speed, read at their lines), for the speed sweep: the unit maker's
+    // table over speed (invented: the first two orders, from unbalance,
+    // grow as the speed squared, the others, from gas pulsation, as the
+    // speed), equal to the file at the running speed
     let bf = &p.blocked_forces;
+    let table_speeds = [40.0, 50.0, demo::RUNNING_HZ, 66.0, 75.0];
     let mut orders = Vec::new();
     for n in 1..=17u32 {
         let f = demo::RUNNING_HZ * f64::from(n);
@@ -164,7 +168,15 @@ pub fn recipe_json(p: &DemoParts) -> serde_json::Value {
         for (i, seat) in ["s1", "s2", "s3", "s4"].iter().enumerate() {
             let v = bf.get(k, i, 0);
             if v.norm() > 0.0 {
-                orders.push(json!({"dof": format!("casing:{}+Z", node(&CASING_NODES, seat)), "order": n, "re": v.re, "im": v.im}));
+                let power = if n <= 2 { 2 } else { 1 };
+                let rows: Vec<[f64; 3]> = table_speeds
+                    .iter()
+                    .map(|s| {
+                        let g = (s / demo::RUNNING_HZ).powi(power);
+                        [*s, g * v.re, g * v.im]
+                    })
+                    .collect();
+                orders.push(json!({"dof": format!("casing:{}+Z", node(&CASING_NODES, seat)), "order": n, "by_speed": rows}));
             }
         }
     }

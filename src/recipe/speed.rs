@@ -33,21 +33,100 @@ pub struct SpeedSource {
 }
 
 /// One order's complex peak amplitude at one DOF, in the transfer's input
-/// quantity (N for a force), SI units.
+/// quantity (N for a force), SI units: the same at every speed (`re`,
+/// `im`), or a table over speed (`by_speed`, linear in re and im between
+/// its rows, never extrapolated: a sweep reaching outside it is refused).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct OrderForce {
     pub dof: String,
     /// The order: multiples of the rotation frequency (above 0).
     pub order: f64,
-    pub re: f64,
-    pub im: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub re: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub im: Option<f64>,
+    /// Rows [speed in rev/s, re, im], speeds increasing, two rows or more.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub by_speed: Option<Vec<[f64; 3]>>,
+}
+
+impl OrderForce {
+    /// The amplitude at `speed` rev/s (checked entries only: see
+    /// [`SpeedSource::check`]); None outside a table's speeds.
+    pub fn amplitude_at(&self, speed: f64) -> Option<Complex64> {
+        let Some(t) = &self.by_speed else {
+            return Some(Complex64::new(self.re?, self.im?));
+        };
+        let j = t.iter().position(|r| r[0] >= speed)?;
+        if t[j][0] == speed {
+            return Some(Complex64::new(t[j][1], t[j][2]));
+        }
+        let a = t.get(j.checked_sub(1)?)?;
+        let b = &t[j];
+        let x = (speed - a[0]) / (b[0] - a[0]);
+        Some(Complex64::new(
+            a[1] + x * (b[1] - a[1]),
+            a[2] + x * (b[2] - a[2]),
+        ))
+    }
+
+    /// Checks of one entry (`at` names a field of it).
+    fn check(&self, at: &dyn Fn(&str) -> String) -> Result<()> {
+        match (&self.by_speed, self.re, self.im) {
+            (None, Some(re), Some(im)) => {
+                for (k, x) in [("re", re), ("im", im)] {
+                    if !x.is_finite() {
+                        return Err(Error::recipe(format!(
+                            "'{k}' is {x}; expected a finite number"
+                        ))
+                        .field(at(k)));
+                    }
+                }
+                Ok(())
+            }
+            (None, _, _) => Err(Error::recipe(
+                "the amplitude is missing: give 're' and 'im' (the same at every speed) or 'by_speed' (a table over speed)",
+            )
+            .field(at("re"))),
+            (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(Error::recipe(
+                "give either 're'/'im' (the same at every speed) or 'by_speed', not both",
+            )
+            .field(at("by_speed"))),
+            (Some(t), None, None) => {
+                if t.len() < 2 {
+                    return Err(Error::recipe(format!(
+                        "{} row(s); a table over speed needs two rows or more [speed rev/s, re, im]",
+                        t.len()
+                    ))
+                    .field(at("by_speed")));
+                }
+                for (r, row) in t.iter().enumerate() {
+                    if row.iter().any(|x| !x.is_finite()) || row[0] <= 0.0 {
+                        return Err(Error::recipe(format!(
+                            "row {r} is {row:?}; expected [speed above 0 in rev/s, re, im], finite"
+                        ))
+                        .field(at("by_speed")));
+                    }
+                    if r > 0 && row[0] <= t[r - 1][0] {
+                        return Err(Error::recipe(format!(
+                            "row {r}: speed {} rev/s after {} rev/s; the speeds must increase",
+                            row[0],
+                            t[r - 1][0]
+                        ))
+                        .field(at("by_speed")));
+                    }
+                }
+                Ok(())
+            }
+        }
+    }
 }
 
 /// The keys of `"speed"` and of each entry of its `"orders"` (for the help).
 pub const SPEED_FIELDS: &[(&str, &str)] = &[
     ("frf", "a component or step: FRFs from the orders' DOFs to the targets"),
-    ("orders", "list of {dof, order, re, im}: each order's complex peak amplitude at a DOF, in the FRFs' input quantity (N for a force); order k at a speed of s rev/s is the line k·s Hz"),
+    ("orders", "list of {dof, order, re, im} or {dof, order, by_speed}: each order's complex peak amplitude at a DOF, in the FRFs' input quantity (N for a force), the same at every speed (re, im) or a table over speed (by_speed: rows [speed rev/s, re, im], speeds increasing, linear between rows, never extrapolated); order k at a speed of s rev/s is the line k·s Hz"),
     ("interp", "resampling of the FRFs onto the order lines: re-im (default) or log-mag-phase; lines outside the FRFs' grid are left out, never extrapolated"),
 ];
 
@@ -83,14 +162,7 @@ impl SpeedSource {
                 ))
                 .field(at("order")));
             }
-            for (k, x) in [("re", o.re), ("im", o.im)] {
-                if !x.is_finite() {
-                    return Err(
-                        Error::recipe(format!("'{k}' is {x}; expected a finite number"))
-                            .field(at(k)),
-                    );
-                }
-            }
+            o.check(&at)?;
             if let Some(j) = self.orders[..i]
                 .iter()
                 .position(|p| p.dof.trim() == o.dof.trim() && p.order == o.order)
@@ -101,6 +173,34 @@ impl SpeedSource {
                     quote(&o.dof)
                 ))
                 .field(at("dof")));
+            }
+        }
+        Ok(())
+    }
+
+    /// Every speed of the sweep lies inside every amplitude table: a table
+    /// is never extrapolated. The error names the entry and both ranges.
+    pub fn check_speeds(&self, speeds: &[f64]) -> Result<()> {
+        let (Some(lo), Some(hi)) = (
+            speeds.iter().copied().reduce(f64::min),
+            speeds.iter().copied().reduce(f64::max),
+        ) else {
+            return Ok(());
+        };
+        for (i, o) in self.orders.iter().enumerate() {
+            let Some(t) = &o.by_speed else { continue };
+            let (Some(a), Some(b)) = (t.first(), t.last()) else {
+                continue;
+            };
+            if lo < a[0] || hi > b[0] {
+                return Err(Error::recipe(format!(
+                    "the sweep runs from {lo} to {hi} rev/s, but the amplitude table of order {} at '{}' covers {}–{} rev/s; a table is not extrapolated: extend it or narrow the sweep",
+                    o.order,
+                    quote(&o.dof),
+                    a[0],
+                    b[0]
+                ))
+                .field(format!("orders[{i}].by_speed")));
             }
         }
         Ok(())
@@ -157,7 +257,15 @@ impl SpeedSource {
             ) else {
                 continue;
             };
-            exc.set(line, r, 0, Complex64::new(o.re, o.im));
+            let Some(a) = o.amplitude_at(speed) else {
+                return Err(Error::recipe(format!(
+                    "{speed} rev/s is outside the amplitude table of order {} at '{}'",
+                    o.order,
+                    quote(&o.dof)
+                ))
+                .field("by_speed"));
+            };
+            exc.set(line, r, 0, a);
         }
         Ok((Some(exc), notes))
     }
@@ -397,6 +505,102 @@ mod tests {
             .to_string();
         assert!(
             e.contains("orders[0].dof") && e.contains("casing:999+Z"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn an_amplitude_table_is_interpolated_and_never_extrapolated() {
+        // linear interpolation in re and im, worked by hand:
+        // halfway between (1, 0) at 10 rev/s and (3, 2) at 20 rev/s is (2, 1)
+        let o: super::OrderForce = serde_json::from_value(serde_json::json!(
+            {"dof": "casing:101+Z", "order": 1, "by_speed": [[10, 1, 0], [20, 3, 2]]}))
+        .unwrap();
+        assert_eq!(
+            o.amplitude_at(15.0),
+            Some(num_complex::Complex64::new(2.0, 1.0))
+        );
+        assert_eq!(
+            o.amplitude_at(10.0),
+            Some(num_complex::Complex64::new(1.0, 0.0))
+        );
+        assert_eq!(
+            o.amplitude_at(20.0),
+            Some(num_complex::Complex64::new(3.0, 2.0))
+        );
+        assert_eq!(o.amplitude_at(9.99), None);
+        assert_eq!(o.amplitude_at(20.01), None);
+
+        // a table twice the constant amplitude at 60 rev/s and equal to it at
+        // 30: the line at 30 is the constant's bit for bit, at 60 it is
+        // 20·log10(2) = 6.0206 dB louder at every order
+        let (src, r) = demo(serde_json::json!({"values": [30.0, 60.0]}));
+        let rec = parse(&r.to_string()).unwrap();
+        let plain = run_sweep(&rec, &src, &Limits::default(), None, 1).unwrap();
+        let mut t = r.clone();
+        for o in t["sweep"]["speed"]["orders"].as_array_mut().unwrap() {
+            let (re, im) = (o["re"].as_f64().unwrap(), o["im"].as_f64().unwrap());
+            let m = o.as_object_mut().unwrap();
+            m.remove("re");
+            m.remove("im");
+            m.insert(
+                "by_speed".into(),
+                serde_json::json!([[30.0, re, im], [60.0, 2.0 * re, 2.0 * im]]),
+            );
+        }
+        let rec = parse(&t.to_string()).unwrap();
+        let tab = run_sweep(&rec, &src, &Limits::default(), None, 1).unwrap();
+        assert_eq!(tab.rows[0].levels_db, plain.rows[0].levels_db);
+        assert_eq!(tab.rows[0].map_db, plain.rows[0].map_db);
+        for (a, b) in tab.rows[1].map_db.iter().zip(&plain.rows[1].map_db) {
+            if let (Some(a), Some(b)) = (a, b) {
+                assert!((a - b - 20.0 * 2f64.log10()).abs() < 1e-9, "{a} {b}");
+            }
+        }
+        // a sweep reaching outside a table is refused, naming the entry
+        let mut wide = t.clone();
+        wide["sweep"]["values"] = serde_json::json!([30.0, 61.0]);
+        let rec = parse(&wide.to_string()).unwrap();
+        let e = run_sweep(&rec, &src, &Limits::default(), None, 1)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("orders[0].by_speed") && e.contains("30–60 rev/s") && e.contains("61"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn bad_amplitude_tables_are_refused_naming_the_field() {
+        let err = |r: &serde_json::Value| parse(&r.to_string()).unwrap_err().to_string();
+        let (_, mut r) = demo(serde_json::json!({"values": [30.0]}));
+        let o = &mut r["sweep"]["speed"]["orders"][1];
+        o["by_speed"] = serde_json::json!([[20, 1, 0], [40, 1, 0]]);
+        let e = err(&r);
+        assert!(
+            e.contains("orders[1].by_speed") && e.contains("not both"),
+            "{e}"
+        );
+        let o = r["sweep"]["speed"]["orders"][1].as_object_mut().unwrap();
+        o.remove("re");
+        o.remove("im");
+        assert!(parse(&r.to_string()).is_ok());
+        for (table, says) in [
+            (serde_json::json!([[20, 1, 0]]), "two rows"),
+            (serde_json::json!([[20, 1, 0], [20, 2, 0]]), "must increase"),
+            (serde_json::json!([[20, 1, 0], [0, 2, 0]]), "speed above 0"),
+        ] {
+            r["sweep"]["speed"]["orders"][1]["by_speed"] = table;
+            let e = err(&r);
+            assert!(e.contains("orders[1].by_speed") && e.contains(says), "{e}");
+        }
+        r["sweep"]["speed"]["orders"][1]
+            .as_object_mut()
+            .unwrap()
+            .remove("by_speed");
+        let e = err(&r);
+        assert!(
+            e.contains("orders[1].re") && e.contains("amplitude is missing"),
             "{e}"
         );
     }

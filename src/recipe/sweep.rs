@@ -545,6 +545,15 @@ pub(crate) fn sweep_on(
                     .within("sweep.speed"));
                 }
             }
+            let speeds: Vec<f64> = points
+                .iter()
+                .filter_map(|p| match p {
+                    PointValue::Number(x) => Some(*x),
+                    PointValue::Name(_) => None,
+                })
+                .collect();
+            sp.check_speeds(&speeds)
+                .map_err(|e| e.within("sweep.speed"))?;
             Some((sp, h))
         }
         None => None,
