@@ -647,8 +647,11 @@ impl Workspace {
         }
         // the results: everything of the last run, unless something is withheld
         let mut kept = Vec::new();
+        let mut kept_uncertainty = Vec::new();
+        let mut unc_left_out = Vec::new();
         let mut dropped = Vec::new();
         let hidden = self.withheld_namespaces(&r, &withheld);
+        let withheld_comps = withheld_components(&r, &withheld);
         for id in &self.results {
             let Some(s) = self.sets.get(id) else { continue };
             let keep = if withheld.is_empty() {
@@ -666,12 +669,42 @@ impl Workspace {
                 requested && !touches
             };
             if keep {
+                // its per-value uncertainty, unless a withheld input is behind it
+                let base = s.name.split([' ', '/']).next().unwrap_or(&s.name);
+                // a variant's result may read a swapped-in component: with
+                // anything withheld, none of those travels
+                let secret = (s.name.contains(" [") && !withheld_comps.is_empty())
+                    || recipe::components_behind(&r, base)
+                        .iter()
+                        .any(|c| withheld_comps.contains(c));
+                let u = self.uncertainties.get(id).and_then(|a| {
+                    if secret {
+                        unc_left_out.push(s.name.clone());
+                        return None;
+                    }
+                    Some(bundle::BundleUncertainty {
+                        method: a.uncertainty.method.clone(),
+                        std: a.uncertainty.std.clone(),
+                        flags: a.reliability.flags.clone(),
+                    })
+                });
                 kept.push(s.clone());
+                kept_uncertainty.push(u);
             } else {
                 dropped.push(s.name.clone());
             }
         }
-        let notice = notice(&withheld, &hidden, &dropped, &kept, opts.results_only);
+        let mut notice = notice(&withheld, &hidden, &dropped, &kept, opts.results_only);
+        if !unc_left_out.is_empty() {
+            notice.push_str(&format!(
+                " The per-value uncertainty of {} is left out: it is computed from withheld inputs, and with their stated relative uncertainty its spread would say how large their FRFs are, line by line.",
+                unc_left_out
+                    .iter()
+                    .map(|n| format!("'{n}'"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        }
         let b = bundle::Bundle {
             format: bundle::BUNDLE_FORMAT.to_string(),
             version: bundle::BUNDLE_VERSION,
@@ -680,6 +713,7 @@ impl Workspace {
             recipe: Some(recipe_value),
             inputs,
             results: kept.clone(),
+            uncertainties: kept_uncertainty,
             report: self.shared_report(&r, &withheld),
         };
         let bytes = bundle::write(&b)?;
@@ -835,6 +869,27 @@ impl Workspace {
         // the bundle's results join the history as a run of their own
         let number = self.history.last().map_or(1, |h| h.number + 1);
         let stored = self.store_results(number, b.results.clone(), b.report.clone());
+        // the results' uncertainties (version 4) beside them, as after a run
+        let mut carried = BTreeMap::new();
+        for (set, u) in b.results.iter().zip(&b.uncertainties) {
+            let Some(u) = u else { continue };
+            let reliability = crate::uncertainty::reliability::from_flags(
+                set,
+                u.flags.clone(),
+                &crate::uncertainty::ReliabilityOptions::default(),
+            );
+            carried.insert(
+                set.name.clone(),
+                recipe::Assessed {
+                    uncertainty: crate::uncertainty::FrfUncertainty {
+                        std: u.std.clone(),
+                        method: u.method.clone(),
+                    },
+                    reliability,
+                },
+            );
+        }
+        self.keep_uncertainties(number, carried);
         let headline = b
             .report
             .as_ref()
@@ -960,6 +1015,21 @@ fn notice(
         if results_only { ", and no raw data at all" } else { "" },
         if kept_names.is_empty() { "none".to_string() } else { kept_names.join(", ") },
     )
+}
+
+/// The recipe's components read from withheld files.
+fn withheld_components(r: &recipe::Recipe, withheld: &[String]) -> BTreeSet<String> {
+    r.components
+        .iter()
+        .filter(|(_, c)| {
+            c.file.as_ref().is_some_and(|file| {
+                withheld
+                    .iter()
+                    .any(|w| w == file || *w == io::base_name(file))
+            })
+        })
+        .map(|(n, _)| n.clone())
+        .collect()
 }
 
 #[cfg(test)]

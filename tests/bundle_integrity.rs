@@ -196,7 +196,7 @@ fn a_good_bundle_round_trips_and_its_hashes_match_an_independent_python_referenc
     let mut back = Workspace::new();
     let opened = back.open_bundle("shared.json", &made.bytes).unwrap();
     assert_eq!(opened.content_sha256.as_deref(), Some(content.as_str()));
-    assert_eq!(opened.version, 3);
+    assert_eq!(opened.version, 4);
     assert!(opened.notes.is_empty(), "{:?}", opened.notes);
     let (a, b) = (ws.results().0, back.results().0);
     assert_eq!(a.len(), b.len());
@@ -483,11 +483,11 @@ fn malformed_bundles_get_plain_messages_naming_the_entry() {
         ),
         (
             text.replacen("\"positive\": true", "\"positive\": true, \"colour\": \"red\"", 1),
-            "input 1 ('casing.uff'): set 1 ('gehäuse — casing'): outputs, DOF 1.colour: unknown field 'colour'; a version 3 bundle has here: component, node, dir, positive",
+            "input 1 ('casing.uff'): set 1 ('gehäuse — casing'): outputs, DOF 1.colour: unknown field 'colour'; a version 4 bundle has here: component, node, dir, positive",
         ),
         (
             text.replacen("\"created\":", "\"kreated\": 1, \"created\":", 1),
-            "b.json: kreated: unknown field 'kreated'; a version 3 bundle has here: format, version",
+            "b.json: kreated: unknown field 'kreated'; a version 4 bundle has here: format, version",
         ),
         (
             text.replacen("\"created\": \"2026-12-01T08:00:00Z\"", "\"created\": [5]", 1),

@@ -198,18 +198,16 @@ fn monte_carlo_of_the_recipe_and_its_bad_options() {
 /// The page's path, natively: the demo's files in a workspace, the run's
 /// result with its uncertainty kept beside it, and the plot of it carrying
 /// the 95 % band, the pale unreliable lines and the read-out's interval.
-#[test]
-fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
-    use mortise::plot::{probe_data, render_data_svg, PlotData, PlotSpec, View};
-    use mortise::workspace::Workspace;
-    let mut ws = Workspace::new();
+/// A workspace with the demo's files loaded (each with the import options
+/// its component names, as the page does), and the demo's recipe.
+fn demo_workspace() -> (mortise::workspace::Workspace, String) {
+    let mut ws = mortise::workspace::Workspace::new();
     let files = mortise::demo_files::files().unwrap();
     let recipe = files
         .iter()
         .find(|(n, _)| n.ends_with(".recipe.json"))
         .map(|(_, b)| String::from_utf8(b.clone()).unwrap())
         .unwrap();
-    // each file with the import options its component names (as the page does)
     let r: Value = serde_json::from_str(&recipe).unwrap();
     for (name, bytes) in &files {
         if name.ends_with(".recipe.json") {
@@ -224,6 +222,134 @@ fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
             .unwrap_or(json!({}));
         ws.load_file(name, bytes, opts).unwrap();
     }
+    (ws, recipe)
+}
+
+#[test]
+fn a_bundle_carries_each_results_uncertainty_but_not_one_a_withheld_input_is_behind() {
+    use mortise::workspace::{BundleOptions, Workspace};
+    let (mut ws, recipe) = demo_workspace();
+    let run = ws.run_recipe(&recipe).unwrap();
+    let bed = run
+        .results
+        .iter()
+        .find(|r| r.name == "bedroom")
+        .unwrap()
+        .id
+        .clone();
+    let opts = BundleOptions {
+        created: "2026-12-03T00:00:00Z".into(),
+        ..BundleOptions::default()
+    };
+    let made = ws.make_bundle(&recipe, &opts).unwrap();
+    let v: Value = serde_json::from_slice(&made.bytes).unwrap();
+    assert_eq!(v["version"], 4);
+    let results = v["results"].as_array().unwrap();
+    let k = results.iter().position(|r| r["name"] == "bedroom").unwrap();
+    let u = &results[k]["uncertainty"];
+    assert_eq!(
+        u["std"].as_array().unwrap().len(),
+        results[k]["data"].as_array().unwrap().len()
+    );
+    // its SHA-256 against an independent Python version of the documented
+    // layout (tests/py/bundle_hashes.py; SHA-256 itself is FIPS 180-4)
+    let path = common::scratch("bundle_uncertainty").join("shared.json");
+    std::fs::write(&path, &made.bytes).unwrap();
+    let out = common::run_py("bundle_hashes.py", &[path.to_str().unwrap()]);
+    let checked: Vec<&str> = out
+        .lines()
+        .filter(|l| l.starts_with("uncertainty "))
+        .collect();
+    assert!(!checked.is_empty(), "{out}");
+    for l in &checked {
+        let f: Vec<&str> = l.split(' ').collect();
+        assert_eq!(f[2], f[3], "{l}");
+    }
+    // opened elsewhere: the same uncertainty and flags, bit for bit, beside
+    // the result, so the recipient's page draws the same band
+    let mut back = Workspace::new();
+    let opened = back.open_bundle("shared.json", &made.bytes).unwrap();
+    let id = opened
+        .results
+        .iter()
+        .find(|r| r.name == "bedroom")
+        .unwrap()
+        .id
+        .clone();
+    let (a, b) = (&ws.uncertainties()[&bed], &back.uncertainties()[&id]);
+    let bits = |x: &[f64]| x.iter().map(|v| v.to_bits()).collect::<Vec<_>>();
+    assert_eq!(bits(&a.uncertainty.std), bits(&b.uncertainty.std));
+    assert_eq!(a.reliability.flags, b.reliability.flags);
+    assert_eq!(a.reliability.bands, b.reliability.bands);
+    assert_eq!(a.uncertainty.method, b.uncertainty.method);
+    // an altered value is refused, naming the result and the uncertainty
+    let mut t = v.clone();
+    let (j, x) = u["std"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .enumerate()
+        .filter_map(|(j, x)| Some((j, x.as_f64()?)))
+        .max_by(|a, b| a.1.total_cmp(&b.1))
+        .unwrap();
+    assert!(x > 0.0);
+    t["results"][k]["uncertainty"]["std"][j] = json!(x * 1.01);
+    let e = Workspace::new()
+        .open_bundle("shared.json", &serde_json::to_vec_pretty(&t).unwrap())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("result") && e.contains("'bedroom'") && e.contains("uncertainty, sha256"),
+        "{e}"
+    );
+    // a flag outside the reason bits, and a list of the wrong length
+    let mut t = v.clone();
+    t["results"][k]["uncertainty"]["flags"][0] = json!(64);
+    let e = Workspace::new()
+        .open_bundle("shared.json", &serde_json::to_vec_pretty(&t).unwrap())
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("uncertainty, flags, value 1"), "{e}");
+    let mut t = v.clone();
+    t["results"][k]["uncertainty"]["std"]
+        .as_array_mut()
+        .unwrap()
+        .pop();
+    let e = Workspace::new()
+        .open_bundle("shared.json", &serde_json::to_vec_pretty(&t).unwrap())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("uncertainty, std") && e.contains("the set holds"),
+        "{e}"
+    );
+
+    // the wall's maker withholds its FRFs: the bedroom's level still travels
+    // (its DOFs are the room's), its per-value spread does not (every step
+    // to it reads the wall)
+    let mut opts = opts.clone();
+    opts.include_raw
+        .insert("wall-accelerance.csv".into(), false);
+    let made = ws.make_bundle(&recipe, &opts).unwrap();
+    let v: Value = serde_json::from_slice(&made.bytes).unwrap();
+    let r = v["results"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["name"] == "bedroom")
+        .expect("the bedroom's result travels");
+    assert!(r.get("uncertainty").is_none(), "{}", r["uncertainty"]);
+    assert!(
+        made.notice.contains("per-value uncertainty of 'bedroom'"),
+        "{}",
+        made.notice
+    );
+}
+
+#[test]
+fn workspace_keeps_uncertainty_and_the_plot_draws_its_band() {
+    use mortise::plot::{probe_data, render_data_svg, PlotData, PlotSpec, View};
+    let (mut ws, recipe) = demo_workspace();
     let run = ws.run_recipe(&recipe).unwrap();
     let id = |name: &str| {
         run.results

@@ -12,13 +12,18 @@
 //! # Versions
 //! - 1: inputs carry their FRF sets; no hashes but each input file's SHA-256.
 //! - 2: inputs carry their file's bytes (base64), so a bundle runs again.
-//! - 3 (written now): as 2, plus the SHA-256 of every stored set (each set's
-//!   `sha256`) and of the whole content (`content_sha256`, the last field).
+//! - 3: as 2, plus the SHA-256 of every stored set (each set's `sha256`) and
+//!   of the whole content (`content_sha256`, the last field).
+//! - 4 (written now): as 3, plus, on a result, its per-value uncertainty
+//!   when the run propagated one (`uncertainty`: `method`, `std` per value,
+//!   `flags` per value, `sha256`; see below). A recipient's page draws the
+//!   result's 95 % band and unreliable lines from it.
 //!
 //! Versions 1 and 2 are still read, with a plain note that their stored sets
 //! and content carry no SHA-256 (what they do record, the input files'
-//! SHA-256, is checked). A version above 3 is refused as written by a newer
-//! mortise. Whatever the version, every recorded hash must be 64 hex digits.
+//! SHA-256, is checked); version 3 as written. A version above 4 is refused
+//! as written by a newer mortise. Whatever the version, every recorded hash
+//! must be 64 hex digits.
 //!
 //! # What is hashed
 //! - `inputs[i].sha256`: the input file's bytes as loaded (unchanged since
@@ -52,6 +57,15 @@
 //!   It is rebuilt from the stored set alone (no other field enters), so it
 //!   does not depend on how the JSON is laid out; any language with SHA-256
 //!   and a little-endian packer reproduces it (the tests do, in Python).
+//! - `uncertainty.sha256` of a result (version 4): the SHA-256 of
+//!
+//!   ```text
+//!   "mortise-uncertainty 1\n"                22 ASCII bytes
+//!   str set sha256                           the result's own `sha256` (binds the two)
+//!   str method
+//!   u64 n, then n × f64                      std, the set's data layout (NaN: none)
+//!   u64 n, then n × u8                       flags (0 reliable, else reason bits 1..31)
+//!   ```
 //! - `content_sha256`: the SHA-256 of the bundle file's bytes with the 64
 //!   characters of this field's value each replaced by the digit `0`. The
 //!   field is the last member of the top-level object, so it is found
@@ -75,7 +89,10 @@
 //! # Withholding
 //! A withheld input keeps only the SHA-256 of its file (recorded since
 //! version 1, and needed to check the original when it is dropped in again);
-//! no set hash is recorded for it. A hash of its sets' canonical bytes would
+//! no set hash is recorded for it. A result computed from a withheld input
+//! travels without its per-value uncertainty (the workspace leaves it out):
+//! with the stated relative uncertainty, the spread of each value would
+//! say how large the withheld FRFs are, line by line. A hash of its sets' canonical bytes would
 //! let a recipient confirm a guess of the supplier's FRFs without the exact
 //! file, which the file's hash does not; so none is written.
 
@@ -87,8 +104,8 @@ use serde_json::{Map, Value};
 
 /// The `format` field of every bundle.
 pub const BUNDLE_FORMAT: &str = "mortise-bundle";
-/// The current bundle schema version (see the module docs for 1 to 3).
-pub const BUNDLE_VERSION: u32 = 3;
+/// The current bundle schema version (see the module docs for 1 to 4).
+pub const BUNDLE_VERSION: u32 = 4;
 /// The name of the whole-content hash field (the last member of the bundle).
 pub const CONTENT_FIELD: &str = "content_sha256";
 
@@ -142,6 +159,18 @@ impl BundleInput {
     }
 }
 
+/// A result's per-value uncertainty as a bundle carries it (version 4).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BundleUncertainty {
+    /// How it was obtained (the run's words).
+    pub method: String,
+    /// Standard uncertainty per value, the set's data layout; NaN: none.
+    pub std: Vec<f64>,
+    /// Per value: 0 reliable, else the reasons' bits
+    /// ([`crate::uncertainty::reliability::ALL_REASONS`]).
+    pub flags: Vec<u8>,
+}
+
 /// A whole bundle (its hashes are computed by [`write`] and checked by [`read`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Bundle {
@@ -154,6 +183,9 @@ pub struct Bundle {
     pub recipe: Option<Value>,
     pub inputs: Vec<BundleInput>,
     pub results: Vec<FrfSet>,
+    /// The uncertainty of `results[k]` at index k (None, or a shorter list:
+    /// none travels).
+    pub uncertainties: Vec<Option<BundleUncertainty>>,
     /// The run report (conditioning, warnings) as JSON.
     pub report: Option<Value>,
 }
@@ -169,6 +201,7 @@ impl Bundle {
             recipe: None,
             inputs: Vec::new(),
             results: Vec::new(),
+            uncertainties: Vec::new(),
             report: None,
         }
     }
@@ -300,6 +333,26 @@ pub fn set_sha256(s: &FrfSet) -> String {
     crate::io::sha256_hex(&set_canonical_bytes(s))
 }
 
+/// The canonical bytes of a result's uncertainty (module docs), bound to
+/// the set's SHA-256.
+pub fn uncertainty_canonical_bytes(set_sha256: &str, u: &BundleUncertainty) -> Vec<u8> {
+    let mut out = b"mortise-uncertainty 1\n".to_vec();
+    put_str(&mut out, set_sha256);
+    put_str(&mut out, &u.method);
+    put_u64(&mut out, u.std.len());
+    for &x in &u.std {
+        put_f64(&mut out, x);
+    }
+    put_u64(&mut out, u.flags.len());
+    out.extend_from_slice(&u.flags);
+    out
+}
+
+/// SHA-256 (hex) of [`uncertainty_canonical_bytes`].
+pub fn uncertainty_sha256(set_sha256: &str, u: &BundleUncertainty) -> String {
+    crate::io::sha256_hex(&uncertainty_canonical_bytes(set_sha256, u))
+}
+
 /// True for 64 hexadecimal digits (either case).
 pub fn is_sha256_hex(s: &str) -> bool {
     s.len() == 64 && s.bytes().all(|b| b.is_ascii_hexdigit())
@@ -415,6 +468,22 @@ impl<'a> From<&'a FrfSet> for WireSet<'a> {
 }
 
 #[derive(serde::Serialize)]
+struct WireUncertainty<'a> {
+    sha256: String,
+    method: &'a str,
+    std: Vec<Num>,
+    flags: &'a [u8],
+}
+
+#[derive(serde::Serialize)]
+struct WireResult<'a> {
+    #[serde(flatten)]
+    set: WireSet<'a>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    uncertainty: Option<WireUncertainty<'a>>,
+}
+
+#[derive(serde::Serialize)]
 struct WireInput<'a> {
     name: &'a str,
     sha256: &'a str,
@@ -434,7 +503,7 @@ struct WireBundle<'a> {
     created: &'a str,
     recipe: &'a Option<Value>,
     inputs: Vec<WireInput<'a>>,
-    results: Vec<WireSet<'a>>,
+    results: Vec<WireResult<'a>>,
     report: &'a Option<Value>,
     /// Last, so that it is found without ambiguity.
     content_sha256: &'a str,
@@ -466,7 +535,25 @@ pub fn write(bundle: &Bundle) -> Result<Vec<u8>> {
                 data: i.data.as_deref(),
             })
             .collect(),
-        results: bundle.results.iter().map(WireSet::from).collect(),
+        results: bundle
+            .results
+            .iter()
+            .enumerate()
+            .map(|(k, r)| {
+                let set = WireSet::from(r);
+                let uncertainty = bundle
+                    .uncertainties
+                    .get(k)
+                    .and_then(Option::as_ref)
+                    .map(|u| WireUncertainty {
+                        sha256: uncertainty_sha256(&set.sha256, u),
+                        method: &u.method,
+                        std: u.std.iter().map(|&x| Num(x)).collect(),
+                        flags: &u.flags,
+                    });
+                WireResult { set, uncertainty }
+            })
+            .collect(),
         report: &bundle.report,
         content_sha256: &zeros,
     };
@@ -686,6 +773,81 @@ impl At<'_> {
         })
     }
 
+    /// A result's uncertainty (version 4) for `set`, whose recorded SHA-256
+    /// is `set_sha`: every value checked, then its own SHA-256.
+    fn uncertainty(
+        &self,
+        v: &Value,
+        set: &FrfSet,
+        set_sha: &str,
+        version: u32,
+    ) -> Result<BundleUncertainty> {
+        let m = self.object(v, "uncertainty")?;
+        self.known(
+            m,
+            &["sha256", "method", "std", "flags"],
+            version,
+            "uncertainty",
+        )?;
+        let recorded = self
+            .sha256(m, "sha256")
+            .map_err(|e| e.field("uncertainty, sha256"))?;
+        let method = self
+            .required_text(m, "method")
+            .map_err(|e| e.field("uncertainty, method"))?;
+        let std = self.nums("uncertainty, std", self.required_list(m, "std")?)?;
+        let n = set.data.len();
+        if std.len() != n {
+            return Err(self.err(
+                "uncertainty, std",
+                format!("{} values; the set holds {n}", std.len()),
+            ));
+        }
+        if let Some(x) = std
+            .iter()
+            .find(|x| !(x.is_nan() || (x.is_finite() && **x >= 0.0)))
+        {
+            return Err(self.err(
+                "uncertainty, std",
+                format!("found {x}; expected a standard uncertainty ≥ 0 (or null: none)"),
+            ));
+        }
+        let all = crate::uncertainty::reliability::ALL_REASONS;
+        let flags = self
+            .required_list(m, "flags")?
+            .iter()
+            .enumerate()
+            .map(|(i, v)| match v.as_u64() {
+                Some(f) if f <= u64::from(all) && f as u8 & !all == 0 => Ok(f as u8),
+                _ => Err(self.err(
+                    format!("uncertainty, flags, value {}", i + 1),
+                    format!(
+                        "found {}; expected 0 (reliable) or reason bits within {all}",
+                        found(v)
+                    ),
+                )),
+            })
+            .collect::<Result<Vec<u8>>>()?;
+        if flags.len() != n {
+            return Err(self.err(
+                "uncertainty, flags",
+                format!("{} values; the set holds {n}", flags.len()),
+            ));
+        }
+        let u = BundleUncertainty { method, std, flags };
+        let computed = uncertainty_sha256(set_sha, &u);
+        if computed != recorded {
+            return Err(self.err(
+                "uncertainty, sha256",
+                format!(
+                    "the uncertainty of '{}' does not match its recorded SHA-256: recorded {recorded}, computed {computed}; it was altered after the bundle was made",
+                    quote(&set.name)
+                ),
+            ));
+        }
+        Ok(u)
+    }
+
     /// One stored set, with the SHA-256 it records (version 3).
     fn set(&self, m: &Map<String, Value>, version: u32) -> Result<(FrfSet, Option<String>)> {
         let mut keys = vec![
@@ -704,6 +866,9 @@ impl At<'_> {
         ];
         if version >= 3 {
             keys.push("sha256");
+        }
+        if version >= 4 && self.entry.starts_with("result ") {
+            keys.push("uncertainty");
         }
         self.known(m, &keys, version, "")?;
         let sha = if version >= 3 {
@@ -952,6 +1117,7 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
         recipe: optional_value("recipe"),
         inputs: Vec::new(),
         results: Vec::new(),
+        uncertainties: Vec::new(),
         report: optional_value("report"),
     };
     if let Some(r) = &bundle.recipe {
@@ -1062,6 +1228,18 @@ pub fn read_checked(bytes: &[u8], file: &str) -> Result<ReadBundle> {
             entry: label.clone(),
         }
         .set(m, version)?;
+        if let Some(u) = m.get("uncertainty") {
+            let at = At {
+                file,
+                entry: label.clone(),
+            };
+            // read only when the set's own hash is recorded (version 4), so
+            // both are checked below: the set's first
+            let rec = sha.clone().unwrap_or_default();
+            let uv = at.uncertainty(u, &set, &rec, version)?;
+            bundle.uncertainties.resize(n, None);
+            bundle.uncertainties.push(Some(uv));
+        }
         stored.push((label, sha));
         bundle.results.push(set);
     }

@@ -502,6 +502,26 @@ pub fn to_text(r: &Recipe) -> String {
     serde_json::to_string_pretty(r).unwrap_or_default()
 }
 
+/// The components a step's or component's value is computed from (every
+/// component it reads, through every step on the way); a component name
+/// gives itself. Unknown names give nothing.
+pub fn components_behind(recipe: &Recipe, name: &str) -> std::collections::BTreeSet<String> {
+    let mut out = std::collections::BTreeSet::new();
+    let mut todo = vec![name.to_string()];
+    let mut seen = std::collections::BTreeSet::new();
+    while let Some(n) = todo.pop() {
+        if !seen.insert(n.clone()) {
+            continue;
+        }
+        if recipe.components.contains_key(&n) {
+            out.insert(n);
+        } else if let Some(st) = recipe.steps.iter().find(|s| s.id == n) {
+            todo.extend(st.op.reads().into_iter().map(String::from));
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

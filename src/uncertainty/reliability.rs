@@ -168,7 +168,6 @@ pub fn assess(set: &FrfSet, ev: &Evidence, opts: &ReliabilityOptions) -> Reliabi
     let (no, ni, nl) = (set.n_out(), set.n_in(), set.n_lines());
     let mut flags = vec![0u8; set.data.len()];
     let max_rel = opts.max_relative();
-    let (mut present, mut flagged) = (0usize, 0usize);
     for k in 0..nl {
         let ill = condition
             .and_then(|c| c.get(k))
@@ -204,8 +203,29 @@ pub fn assess(set: &FrfSet, ev: &Evidence, opts: &ReliabilityOptions) -> Reliabi
                     f |= ILL_CONDITIONED;
                 }
                 flags[x] = f;
-                present += 1;
-                flagged += usize::from(f != 0);
+            }
+        }
+    }
+    from_flags(set, flags, opts)
+}
+
+/// Every reason bit a flag may carry.
+pub const ALL_REASONS: u8 = BELOW_NOISE | CANCELLATION | ILL_CONDITIONED | INPUT_NOISE | UNCERTAIN;
+
+/// The reliability that per-value flags give (a bundle carries only the
+/// flags): the fraction of present values flagged, the unreliable ranges
+/// and their statements.
+pub fn from_flags(set: &FrfSet, mut flags: Vec<u8>, opts: &ReliabilityOptions) -> Reliability {
+    flags.resize(set.data.len(), 0);
+    let (no, ni, nl) = (set.n_out(), set.n_in(), set.n_lines());
+    let (mut present, mut flagged) = (0usize, 0usize);
+    for i in 0..no {
+        for j in 0..ni {
+            if set.is_present(i, j) {
+                for k in 0..nl {
+                    present += 1;
+                    flagged += usize::from(flags[set.idx(k, i, j)] != 0);
+                }
             }
         }
     }

@@ -5,7 +5,9 @@ library only (hashlib, json, struct, re).
 Usage: bundle_hashes.py BUNDLE.json
 Prints one line `content <hex>` (SHA-256 of the file's bytes with the value of
 the final "content_sha256" member replaced by 64 '0' characters), then for
-every stored set `set <where> <computed hex> <recorded hex>`.
+every stored set `set <where> <computed hex> <recorded hex>`, and for every
+result carrying an uncertainty (version 4) `uncertainty <where> <computed hex>
+<recorded hex>`.
 """
 import hashlib
 import json
@@ -61,6 +63,13 @@ def canonical(s):
     return out
 
 
+def uncertainty_canonical(set_sha, u):
+    out = b"mortise-uncertainty 1\n" + text(set_sha) + text(u["method"])
+    out += u64(len(u["std"])) + b"".join(f64(x) for x in u["std"])
+    out += u64(len(u["flags"])) + bytes(u["flags"])
+    return out
+
+
 def main():
     raw = open(sys.argv[1], "rb").read()
     m = re.search(rb'"content_sha256"\s*:\s*"([0-9a-fA-F]{64})"\s*\}\s*\Z', raw)
@@ -74,6 +83,10 @@ def main():
             print("set", f"input{i + 1}.set{j + 1}", hashlib.sha256(canonical(s)).hexdigest(), s["sha256"])
     for k, s in enumerate(b.get("results", [])):
         print("set", f"result{k + 1}", hashlib.sha256(canonical(s)).hexdigest(), s["sha256"])
+        u = s.get("uncertainty")
+        if u is not None:
+            h = hashlib.sha256(uncertainty_canonical(s["sha256"], u)).hexdigest()
+            print("uncertainty", f"result{k + 1}", h, u["sha256"])
 
 
 main()
