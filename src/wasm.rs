@@ -255,7 +255,20 @@ pub fn load_file(
     bytes: &[u8],
     options_json: &str,
 ) -> std::result::Result<String, JsValue> {
-    let (_, value) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
+    // JSON only here: the workspace reads the options as the file's kind
+    // takes them (import options, or a recording's channels)
+    let text = if options_json.trim().is_empty() {
+        "{}"
+    } else {
+        options_json
+    };
+    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| {
+        js_err(
+            Error::usage(format!("import options are not JSON: {e}"))
+                .field("options")
+                .in_file(name),
+        )
+    })?;
     let sum = WS
         .with(|ws| ws.borrow_mut().load_file(name, bytes, value))
         .map_err(js_err)?;

@@ -62,7 +62,7 @@ fn recordings_from_wav_uff_and_csv_give_scipy_h1_and_coherence() {
                     "overlap": 0.5, "detrend": "constant", "inputs": ["rig:1+Z"], "estimator": "h1"})),
             )
             .unwrap();
-        assert_eq!(out.file, format!("rig.h1.csv"));
+        assert_eq!(out.file, "rig.h1.csv");
         // Harris 1978: Hann coherent gain 0.5, ENBW 1.5 bins
         assert!((out.window.coherent_gain - 0.5).abs() < 1e-12);
         assert!((out.window.enbw_bins - 1.5).abs() < 1e-12);

@@ -66,8 +66,13 @@ async function drawTimeView(f, fig) {
   const width = Math.max(320, Math.min(1100, Math.round((fig.parentElement?.clientWidth || 700) - 20)));
   const height = 90 + 110 * f.summary.recording.channels.length;
   try {
-    const d = await Bridge.callJson('time_view_svg', [f.name, t.range ? JSON.stringify(t.range) : '', JSON.stringify(timeRequest(t)), width, height]);
+    const range = t.range ? JSON.stringify(t.range) : '';
+    // choices the core refuses: the view without blocks, and why
+    let why = null;
+    const d = await Bridge.callJson('time_view_svg', [f.name, range, JSON.stringify(timeRequest(t)), width, height])
+      .catch(async (e) => { why = e; return Bridge.callJson('time_view_svg', [f.name, range, '', width, height]); });
     clear(fig);
+    if (why) fig.append(el('div', { class: 'warn' }, 'no blocks shown: ' + errorText(why)));
     fig.append(el('img', { src: 'data:image/svg+xml;charset=utf-8,' + encodeURIComponent(d.svg), alt: d.summary, width: d.width, height: d.height, 'data-time-view': f.name }));
     const rec = f.summary.recording;
     const whole = [0, Math.max((rec.samples - 1) / rec.sample_rate_hz, 1 / rec.sample_rate_hz)];
