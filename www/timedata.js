@@ -100,7 +100,8 @@ function analysisForm(f, t) {
   const number = (key, label, step) => field(key, label, el('input', { type: 'number', step, value: r[key], size: 7, onchange: (ev) => { r[key] = ev.target.value; refresh(); } }));
   const corr = el('div', { class: 'help', 'data-window-corrections': '' });
   const form = el('div', { class: 'time-form' });
-  const refresh = () => { renderCards(); };
+  // after the event: the control that fired it is not removed while it dispatches (change fires on blur)
+  const refresh = () => { setTimeout(renderCards, 0); };
   form.append(select('analysis', o.analyses, 'Analysis'));
   const windowNames = o.windows.map((w) => w.example || w.name);
   if (!windowNames.includes(r.window)) windowNames.push(r.window);

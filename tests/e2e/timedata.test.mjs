@@ -77,13 +77,13 @@ test('a WAV becomes a recording: time view, flat-top amplitude within 0.01 dB, F
     await analyse(p, 'bench.peak.csv');
     const peak = await setsOf(p, 'bench.peak.csv');
     assert.ok(peak.length >= 3, JSON.stringify(peak));
-    let amp = null;
-    for (const [value] of peak) {
-      const [set, out, inp] = JSON.parse(value);
-      const spec = JSON.stringify({ kind: 'magnitude', db: false, series: [{ set, out, in: inp }] });
-      const probes = await p.evaluate(async ([sp, fr]) => JSON.parse(await Bridge.call('probe', [sp, fr])), [spec, ref.f_sine]);
-      if (probes[0] && /mic/.test(probes[0].label)) amp = probes[0].magnitude;
-    }
+    const mic = peak.find(([, text]) => /: mic:1\+X \//.test(text));
+    assert.ok(mic, JSON.stringify(peak));
+    const [set, out, inp] = JSON.parse(mic[0]);
+    const spec = JSON.stringify({ kind: 'magnitude', db: false, series: [{ set, out, in: inp }] });
+    const probes = await p.evaluate(async ([sp, fr]) => JSON.parse(await Bridge.call('probe', [sp, fr])), [spec, ref.f_sine]);
+    const amp = probes[0].magnitude;
+    console.log(`# measure probe line ${probes[0].freq} Hz, label ${probes[0].label}`);
     const db = 20 * Math.log10(amp / ref.amplitude_pa);
     console.log(`# measure flat-top peak of the ${ref.amplitude_pa} Pa sine at ${ref.f_sine} Hz on the page: ${amp} Pa, ${db.toExponential(3)} dB`);
     assert.ok(Math.abs(db) < 0.01, `${amp} Pa against ${ref.amplitude_pa} Pa`);
