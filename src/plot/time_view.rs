@@ -255,13 +255,6 @@ pub fn time_view_svg(
                 esc(&tick_text(v))
             ));
         }
-        let unit = ch.quantity.si_unit(ch.dof.dir.is_rotational());
-        svg.push_str(&format!(
-            r##"<text x="{:.2}" y="{:.2}" fill="#222222" font-weight="bold">{}</text>"##,
-            LEFT + 4.0,
-            top + 13.0,
-            esc(&format!("{} {} [{unit}]", ch.dof, ch.quantity.name()))
-        ));
         // the trace: a sample polyline when zoomed in, else min/max per column
         let i0 = ((t0 * rec.fs).floor().max(0.0) as usize).min(samples.len());
         let i1 = (((t1 * rec.fs).ceil() + 1.0).max(0.0) as usize).min(samples.len());
@@ -301,6 +294,18 @@ pub fn time_view_svg(
             r#"<path class="trace" data-channel="{}" d="{d}" fill="none" stroke="{}" stroke-width="1.2" clip-path="none"/>"#,
             esc(&ch.dof.to_string()),
             TRACE[c % TRACE.len()]
+        ));
+        // the channel's name over its trace, on a white ground
+        let unit = ch.quantity.si_unit(ch.dof.dir.is_rotational());
+        let label = format!("{} {} [{unit}]", ch.dof, ch.quantity.name());
+        svg.push_str(&format!(
+            r##"<rect x="{:.2}" y="{:.2}" width="{:.2}" height="15" fill="#ffffff" fill-opacity="0.85"/><text x="{:.2}" y="{:.2}" fill="#222222" font-weight="bold">{}</text>"##,
+            LEFT + 1.0,
+            top + 1.0,
+            (label.chars().count() as f64 * 6.6 + 8.0).min(pw - 2.0),
+            LEFT + 4.0,
+            top + 12.0,
+            esc(&label)
         ));
     }
     for t in nice_ticks(t0, t1, ((pw / 90.0) as usize).max(2)) {
