@@ -81,6 +81,39 @@ pub struct FileSummary {
     /// unit ([`geometry_file_summary`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub geometry: Option<GeometryFileSummary>,
+    /// Time data held as a recording (a WAV file, a time CSV, a UFF file's
+    /// time histories; `workspace::time`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub recording: Option<RecordingSummary>,
+}
+
+/// One channel of a recording, for the page's card.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct RecordingChannel {
+    pub dof: String,
+    pub quantity: String,
+    /// The SI unit of its samples.
+    pub unit: String,
+    /// The smallest and largest sample, SI.
+    pub min: f64,
+    pub max: f64,
+}
+
+/// A recording in words: what the card shows.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct RecordingSummary {
+    pub file: String,
+    /// "wav", "time-csv" or the UFF format's name.
+    pub format: String,
+    pub sha256: String,
+    pub sample_rate_hz: f64,
+    pub samples: usize,
+    pub duration_s: f64,
+    pub channels: Vec<RecordingChannel>,
+    /// Bytes of samples held (8 a sample).
+    pub held_bytes: u64,
+    /// How the file was read (channels left out, the WAV's layout).
+    pub notes: Vec<String>,
 }
 
 /// A geometry file in words: how many rows locate channels or impacts, in
@@ -113,6 +146,7 @@ pub fn geometry_file_summary(file: &str, bytes: &[u8], geom: &crate::vpt::Geomet
         warnings: Vec::new(),
         uff: None,
         geometry_svg: None,
+        recording: None,
         geometry: Some(GeometryFileSummary {
             rows: geom.rows.len(),
             unit: geom.unit.clone(),
@@ -313,6 +347,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
                 crate::plot::geometry_svg(g, &dofs)
             }),
         geometry: None,
+        recording: None,
     }
 }
 

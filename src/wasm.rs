@@ -255,7 +255,20 @@ pub fn load_file(
     bytes: &[u8],
     options_json: &str,
 ) -> std::result::Result<String, JsValue> {
-    let (_, value) = options(options_json).map_err(|e| js_err(e.in_file(name)))?;
+    // JSON only here: the workspace reads the options as the file's kind
+    // takes them (import options, or a recording's channels)
+    let text = if options_json.trim().is_empty() {
+        "{}"
+    } else {
+        options_json
+    };
+    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| {
+        js_err(
+            Error::usage(format!("import options are not JSON: {e}"))
+                .field("options")
+                .in_file(name),
+        )
+    })?;
     let sum = WS
         .with(|ws| ws.borrow_mut().load_file(name, bytes, value))
         .map_err(js_err)?;
@@ -980,4 +993,81 @@ pub fn bench_couple(lines: u32) -> std::result::Result<JsValue, JsValue> {
         "seconds": seconds,
         "digest": crate::assemble::values_digest(&r.set),
     }))
+}
+
+// ---------- time data: recordings, their analyses and the time view ----------
+
+fn time_request(json: &str) -> Result<crate::workspace::TimeRequest> {
+    serde_json::from_str(json)
+        .map_err(|e| Error::usage(format!("time analysis: {e}")).field("analysis"))
+}
+
+/// The time analyses' vocabulary (`workspace::time_analysis_options`):
+/// analyses, windows, spectrum kinds, estimators, detrend choices and
+/// defaults, for the page's choices.
+#[wasm_bindgen]
+pub fn time_analysis_options() -> std::result::Result<String, JsValue> {
+    to_json(&crate::workspace::time_analysis_options())
+}
+
+/// A window's coherent gain, ENBW and corrections on `segment` samples at
+/// `fs` Hz (`workspace::window_corrections`), shown beside the choice.
+#[wasm_bindgen]
+pub fn time_window_corrections(
+    window: &str,
+    segment: u32,
+    fs: f64,
+) -> std::result::Result<String, JsValue> {
+    let c = crate::workspace::window_corrections(window, segment as usize, fs).map_err(js_err)?;
+    to_json(&c)
+}
+
+/// Analyse the recording `name` (`request_json` a
+/// `workspace::TimeRequest`); the result file is loaded into the workspace.
+/// Returns `{ bytes: Uint8Array, info: text }`, `info` the JSON of
+/// `workspace::TimeResult`; the page keeps the bytes like a dropped file's.
+#[wasm_bindgen]
+pub fn time_analyse(name: &str, request_json: &str) -> std::result::Result<JsValue, JsValue> {
+    let req = time_request(request_json).map_err(js_err)?;
+    let r = WS
+        .with(|ws| ws.borrow_mut().analyse_time(name, &req))
+        .map_err(js_err)?;
+    let info = to_json(&r)?;
+    bytes_and_text(&r.bytes, "info", &info)
+}
+
+/// The time view of the recording `name` (`plot::time_view`): `range_json`
+/// `[t0, t1]` seconds or empty (the whole record), `request_json` the
+/// analysis whose blocks are shaded or empty (none). Returns a
+/// `plot::Drawing` as JSON.
+#[wasm_bindgen]
+pub fn time_view_svg(
+    name: &str,
+    range_json: &str,
+    request_json: &str,
+    width: f64,
+    height: f64,
+) -> std::result::Result<String, JsValue> {
+    let range: Option<[f64; 2]> = if range_json.trim().is_empty() {
+        None
+    } else {
+        Some(serde_json::from_str(range_json).map_err(|e| {
+            js_err(
+                Error::usage(format!("time range: {e}; expected [t0, t1] in seconds"))
+                    .field("range"),
+            )
+        })?)
+    };
+    let req = if request_json.trim().is_empty() {
+        None
+    } else {
+        Some(time_request(request_json).map_err(js_err)?)
+    };
+    let d = WS
+        .with(|ws| {
+            ws.borrow()
+                .time_view(name, range, req.as_ref(), width, height)
+        })
+        .map_err(js_err)?;
+    to_json(&d)
 }

@@ -85,6 +85,9 @@ fn estimate_and_spectrum_equal_scipy_on_wav_uff_and_csv() {
         assert!(e <= 1e-10 && ec <= 1e-10, "{src}: {e:e} {ec:e}");
         if src == "wav" {
             assert!(text.contains("channel(s) 3 not described"), "{text}");
+            // the streamed file's SHA-256, gathered while its blocks were read: hashlib's
+            let want = common::run_py("sha256_of.py", &[file.as_str()]);
+            assert_eq!(h.provenance[0].sha256, want.trim());
         }
 
         // the response's PSD

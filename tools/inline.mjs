@@ -34,7 +34,7 @@ const workerSrc = safeJs('worker.js', glue + '\n' + read(join(www, 'worker.js'))
 // The page's scripts share one scope, joined in this order inside one function
 // (app.js last: it starts the page). Every other .js file of WWW_DIR must be
 // listed, so none is left out by mistake.
-const PAGE_SCRIPTS = ['ui.js', 'state.js', 'recipe.js', 'files.js', 'assembly.js', 'results.js', 'identify.js', 'vpoints.js', 'history.js', 'mapping.js', 'bundle.js', 'app.js'];
+const PAGE_SCRIPTS = ['ui.js', 'state.js', 'recipe.js', 'files.js', 'timedata.js', 'assembly.js', 'results.js', 'identify.js', 'vpoints.js', 'history.js', 'mapping.js', 'bundle.js', 'app.js'];
 const unlisted = readdirSync(www).filter((n) => n.endsWith('.js') && !['bridge.js', 'worker.js', ...PAGE_SCRIPTS].includes(n));
 if (unlisted.length) {
   console.error(`tools/inline.mjs: ${unlisted.join(', ')} not in PAGE_SCRIPTS`);

@@ -163,6 +163,8 @@ function renderCards() {
     head.append(el('button', { class: 'btn small', title: 'remove this file', 'aria-label': `remove ${f.name}`, onclick: () => removeFile(f.name) }, 'Remove'));
     card.append(head);
     if (f.error) card.append(errorBox(f.error));
+    // a WAV file waits for its channels to be described (the core names the field)
+    if (f.error && f.error.field === 'channels') card.append(channelsBlock(f));
     if (f.mappedLike && f.summary) card.append(el('div', { class: 'help', 'data-mapped-like': f.mappedLike }, `columns read with the map of ${f.mappedLike} (same layout)`));
     // refused because it is not the file an opened bundle was made from
     if (f.error && (S.bundle?.info?.inputs || []).some((inp) => inp.name === f.name) && /SHA-256/.test(errorText(f.error))) {
@@ -189,6 +191,8 @@ function renderCards() {
         card.append(el('img', { class: 'geometry', src: 'data:image/svg+xml;charset=utf-8,' + encodeURIComponent(s.geometry_svg),
           alt: `geometry of ${f.name}: ${g ? g.nodes : ''} nodes in three views, arrows at the DOFs of its FRFs` }));
       }
+      // time data: the core's recording, its time view and analyses (timedata.js)
+      if (s.recording) card.append(recordingBlock(f));
       for (const set of s.sets) card.append(setBlock(set));
     }
     box.append(card);

@@ -110,11 +110,16 @@ pub fn run(args: &Args) -> Result<Done> {
     drop(file);
     let (rec, notes, prov) = if io::wav::looks_like_wav(&head[..n]) {
         let f = io::disk::open_stream(Path::new(path), path)?;
-        let wav = io::wav::WavReader::new(BufReader::with_capacity(1 << 20, f), path)?;
+        // hashed as the blocks pass (`io::wav::hashing`), then the bytes after the samples
+        let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
+        let wav = io::wav::WavReader::new(stream, path)?;
         let (rec, _, notes) = analyse::wav_recording(wav, path, &specs, &limits)?;
+        let mut rest = io::disk::open_stream(Path::new(path), path)?;
+        std::io::copy(&mut (&mut rest).take(hash.len()), &mut std::io::sink())
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
         let prov = Provenance {
             file: shown.clone(),
-            sha256: String::new(),
+            sha256: hash.finish(rest, path)?,
             format: "wav".into(),
             options: String::new(),
         };

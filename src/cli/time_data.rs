@@ -233,7 +233,9 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
     let result: Analysed = if io::wav::looks_like_wav(&head[..n]) {
         drop(file);
         let f = io::disk::open_stream(Path::new(path), path)?;
-        let wav = io::wav::WavReader::new(BufReader::with_capacity(1 << 20, f), path)?;
+        // hashed as the blocks pass: the provenance's SHA-256 without a second read
+        let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
+        let wav = io::wav::WavReader::new(stream, path)?;
         let prov = Provenance {
             file: shown.clone(),
             sha256: String::new(),
@@ -249,7 +251,7 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
                 eprintln!("{cmd}: {}% of {shown}", t * 10);
             }
         };
-        analyse::analyse_wav(
+        let mut a = analyse::analyse_wav(
             wav,
             path,
             &specs,
@@ -259,7 +261,20 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
             &prov,
             &limits,
             &mut progress,
-        )?
+        )?;
+        // the bytes after those the reader took (chunks after the samples)
+        let mut rest = io::disk::open_stream(Path::new(path), path)?;
+        std::io::copy(&mut (&mut rest).take(hash.len()), &mut std::io::sink())
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
+        let sha = hash.finish(rest, path)?;
+        for s in &mut a.sets {
+            for p in &mut s.provenance {
+                if p.file == shown && p.sha256.is_empty() {
+                    p.sha256 = sha.clone();
+                }
+            }
+        }
+        a
     } else {
         drop(file);
         let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;

@@ -412,3 +412,69 @@ mod tests {
         assert_eq!(r.read_all().unwrap(), vec![vec![0.0, 0.5, -0.25]]);
     }
 }
+
+/// The SHA-256 of a file read as a stream, gathered while the blocks pass
+/// (so a streamed recording's provenance names its bytes without a second
+/// read of the samples): [`Hashing`] feeds it, [`StreamHash::finish`] adds
+/// the bytes after those read (chunks after `data`) and gives the hex digest.
+#[derive(Debug, Clone, Default)]
+pub struct StreamHash(std::rc::Rc<std::cell::RefCell<(sha2::Sha256, u64)>>);
+
+/// A reader passing bytes through to [`StreamHash`].
+pub struct Hashing<R: Read> {
+    inner: R,
+    hash: StreamHash,
+}
+
+/// `inner` read through a hash: the reader and the hash it feeds.
+pub fn hashing<R: Read>(inner: R) -> (Hashing<R>, StreamHash) {
+    let hash = StreamHash::default();
+    (
+        Hashing {
+            inner,
+            hash: hash.clone(),
+        },
+        hash,
+    )
+}
+
+impl<R: Read> Read for Hashing<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        use sha2::Digest;
+        let n = self.inner.read(buf)?;
+        let mut s = self.hash.0.borrow_mut();
+        s.0.update(&buf[..n]);
+        s.1 += n as u64;
+        Ok(n)
+    }
+}
+
+impl StreamHash {
+    /// Bytes hashed so far.
+    pub fn len(&self) -> u64 {
+        self.0.borrow().1
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// The digest (lower-case hex) after the rest of the file, `rest`
+    /// (the same file from the byte after those hashed), is read through
+    /// in blocks.
+    pub fn finish<R: Read>(self, mut rest: R, file: &str) -> Result<String> {
+        use sha2::Digest;
+        let mut buf = vec![0u8; 1 << 16];
+        loop {
+            let n = rest.read(&mut buf).map_err(|e| {
+                Error::io(format!("cannot read to the end for its SHA-256: {e}")).in_file(file)
+            })?;
+            if n == 0 {
+                break;
+            }
+            self.0.borrow_mut().0.update(&buf[..n]);
+        }
+        let s = self.0.borrow().0.clone();
+        Ok(s.finalize().iter().map(|b| format!("{b:02x}")).collect())
+    }
+}

@@ -51,6 +51,7 @@ mod resolved;
 mod simplify;
 mod spec;
 mod stabilization;
+pub mod time_view;
 mod vpt_consistency;
 mod vpt_geometry;
 

@@ -24,6 +24,9 @@ use crate::summary::{self, FileSummary, SetSummary};
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, BTreeSet};
 
+pub mod time;
+pub use time::{time_analysis_options, window_corrections, TimeRequest, TimeResult};
+
 /// A loaded file.
 #[derive(Debug, Clone)]
 struct WsFile {
@@ -62,6 +65,8 @@ pub struct Workspace {
     history: Vec<RunRecord>,
     /// The budget of every run (kept when the workspace is cleared).
     limits: Limits,
+    /// Time data held as recordings, by file name (`time.rs`).
+    recordings: BTreeMap<String, time::WsRecording>,
 }
 
 /// What a run left in the workspace.
@@ -188,7 +193,13 @@ impl Workspace {
         bytes: &[u8],
         options: serde_json::Value,
     ) -> Result<FileSummary> {
-        let opts = import_options(&options).map_err(|e| e.in_file(name))?;
+        let recording = io::wav::looks_like_wav(bytes) || io::time_csv::looks_like_time_csv(bytes);
+        // a recording takes its own options (`time.rs`), checked there
+        let opts = if recording {
+            ImportOptions::default()
+        } else {
+            import_options(&options).map_err(|e| e.in_file(name))?
+        };
         if let Some(b) = self.bundle_inputs.get(name) {
             let sha = io::sha256_hex(bytes);
             if sha != b.sha256 {
@@ -203,9 +214,24 @@ impl Workspace {
         if crate::vpt::geometry::looks_like_geometry(bytes) {
             return self.load_geometry(name, bytes, options);
         }
+        if recording {
+            return self.load_recording(name, bytes, options);
+        }
         let loaded =
             io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
+        self.recordings.remove(name);
+        if !loaded.time_histories.is_empty() {
+            // time histories become a recording; when they cannot (and the
+            // file holds sets besides), the reason is a warning on the card
+            match self.uff_recording(name, &loaded.time_histories, loaded.format.name(), bytes) {
+                Ok(r) => sum.recording = Some(r),
+                Err(e) if sum.sets.is_empty() => return Err(e),
+                Err(e) => sum.warnings.push(format!(
+                    "the time histories are not held as a recording: {e}"
+                )),
+            }
+        }
         let prefix = prefix_of("file", name);
         self.drop_prefix(&prefix);
         for (k, (set, s)) in loaded.sets.into_iter().zip(sum.sets.iter_mut()).enumerate() {
@@ -245,6 +271,7 @@ impl Workspace {
             .map_err(|e| e.in_file(name))?;
         let geom = crate::vpt::Geometry::from_csv(bytes, name)?;
         let sum = summary::geometry_file_summary(name, bytes, &geom);
+        self.recordings.remove(name);
         self.drop_prefix(&prefix_of("file", name));
         self.files.insert(
             name.to_string(),
@@ -311,6 +338,7 @@ impl Workspace {
     /// Remove a file and its sets.
     pub fn forget_file(&mut self, name: &str) {
         self.files.remove(name);
+        self.recordings.remove(name);
         self.drop_prefix(&prefix_of("file", name));
     }
 
