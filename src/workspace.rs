@@ -188,6 +188,18 @@ impl Workspace {
         bytes: &[u8],
         options: serde_json::Value,
     ) -> Result<FileSummary> {
+        self.load_file_with_progress(name, bytes, options, &mut |_| {})
+    }
+
+    /// [`Workspace::load_file`] telling `progress` the bytes of a UFF file
+    /// parsed so far (see [`io::load_with_progress`]).
+    pub fn load_file_with_progress(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: serde_json::Value,
+        progress: &mut dyn FnMut(usize),
+    ) -> Result<FileSummary> {
         let opts = import_options(&options).map_err(|e| e.in_file(name))?;
         if let Some(b) = self.bundle_inputs.get(name) {
             let sha = io::sha256_hex(bytes);
@@ -203,8 +215,8 @@ impl Workspace {
         if crate::vpt::geometry::looks_like_geometry(bytes) {
             return self.load_geometry(name, bytes, options);
         }
-        let loaded =
-            io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
+        let loaded = io::load_with_progress(bytes, name, &opts, &self.limits, progress)
+            .map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
         let prefix = prefix_of("file", name);
         self.drop_prefix(&prefix);
