@@ -1286,7 +1286,9 @@ fn build_set(
         s.signal = Some(k);
     }
     let mut first_line = vec![0usize; n_out * n_in];
-    for e in &g.entries {
+    // (entry, output, input, sign) of the entries kept, copied below
+    let mut kept: Vec<(usize, usize, usize, f64)> = Vec::with_capacity(g.entries.len());
+    for (n, e) in g.entries.iter().enumerate() {
         let i = out_at.get(&place(&e.out)).copied().unwrap_or(0);
         let j = in_at.get(&place(&e.inp)).copied().unwrap_or(0);
         let sign = e.out.sign() * s.outputs[i].sign() * e.inp.sign() * s.inputs[j].sign();
@@ -1305,8 +1307,19 @@ fn build_set(
         }
         s.present[m] = true;
         first_line[m] = e.line;
-        for (k, v) in e.values.iter().enumerate() {
-            s.data[(k * n_out + i) * n_in + j] = v * sign;
+        kept.push((n, i, j, sign));
+    }
+    // the values into the line-major matrix a block of lines at a time, so
+    // the part written stays in the cache (a whole entry at a time would
+    // write one value per n_out × n_in × 16 bytes)
+    const BLOCK: usize = 64;
+    for k0 in (0..n_lines).step_by(BLOCK) {
+        let k1 = (k0 + BLOCK).min(n_lines);
+        for &(n, i, j, sign) in &kept {
+            let vals = &g.entries[n].values;
+            for (k, v) in vals.iter().enumerate().take(k1).skip(k0) {
+                s.data[(k * n_out + i) * n_in + j] = v * sign;
+            }
         }
     }
     // a name common to all datasets (ID line 1), else the component
