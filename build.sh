@@ -4,7 +4,8 @@
 #   ./build.sh test   run every test: Rust unit and integration tests (with Python cross-checks),
 #                     and the browser end-to-end tests against the built page
 #   ./build.sh bench  benchmarks: coupling (Rust core against numpy and the machine's limit; the page's
-#                     WebAssembly against native) and the plot canvas (against plain Canvas 2D)
+#                     WebAssembly against native), the plot canvas (against plain Canvas 2D) and
+#                     reading large UFF files (against pyuff)
 #
 # On a fresh machine the first run installs what is missing, and only that: the wasm32 Rust target,
 # the pinned wasm-bindgen CLI, the npm packages (playwright-core, binaryen's wasm-opt); `test` also
@@ -172,6 +173,8 @@ case "${1:-build}" in
     node tools/wasm-bench.mjs
     echo "== plot: 150 curves on the page's canvas against plain Canvas 2D"
     node tools/plot-bench.mjs
+    echo "== large UFF files: mortise's read against pyuff (the first run writes 284 MB into target/bench-uff)"
+    cargo run --release --quiet --example bench_uff
     ;;
   *)
     echo "usage: ./build.sh [build|test|bench]" >&2

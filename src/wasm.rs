@@ -249,11 +249,15 @@ pub fn version() -> String {
 
 /// Load one file into the workspace (replacing one of the same name) and
 /// return its summary as JSON (`summary::FileSummary`, set ids filled).
+/// `report`, when given, is called with (bytes parsed, file length) while a
+/// UFF file is parsed (at most once per `uff58::PROGRESS_STEP` bytes; the
+/// worker forwards it to the page).
 #[wasm_bindgen]
 pub fn load_file(
     name: &str,
     bytes: &[u8],
     options_json: &str,
+    report: Option<js_sys::Function>,
 ) -> std::result::Result<String, JsValue> {
     // JSON only here: the workspace reads the options as the file's kind
     // takes them (import options, or a recording's channels)
@@ -269,8 +273,18 @@ pub fn load_file(
                 .in_file(name),
         )
     })?;
+    let total = JsValue::from_f64(bytes.len() as f64);
+    let mut progress = |done: usize| {
+        if let Some(f) = &report {
+            // a failing report (the page's affair) does not stop the read
+            let _ = f.call2(&JsValue::NULL, &JsValue::from_f64(done as f64), &total);
+        }
+    };
     let sum = WS
-        .with(|ws| ws.borrow_mut().load_file(name, bytes, value))
+        .with(|ws| {
+            ws.borrow_mut()
+                .load_file_with_progress(name, bytes, value, &mut progress)
+        })
         .map_err(js_err)?;
     to_json(&sum)
 }

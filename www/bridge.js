@@ -40,6 +40,7 @@ const Bridge = (() => {
         const p = pending.get(m.id);
         if (!p) return;
         if ('progress' in m) { progressCb({ id: m.id, stage: m.progress }); return; }
+        if ('bytes' in m) { if (p.report) p.report(m.bytes); return; }
         pending.delete(m.id);
         if ('err' in m) p.reject(parseError(m.err)); else p.resolve(m.ok);
       };
@@ -69,18 +70,19 @@ const Bridge = (() => {
   }
 
   // Call a core function in the worker. Byte arguments are copied (structured
-  // clone), so the page keeps its own bytes for replays.
-  async function call(fn, args, stage) {
+  // clone), so the page keeps its own bytes for replays. `report`, when given,
+  // receives { done, total } (bytes) while the core reads (load_file).
+  async function call(fn, args, stage, report) {
     await ready;
     const id = nextId++;
     return new Promise((resolve, reject) => {
-      pending.set(id, { resolve, reject, fn });
-      worker.postMessage({ id, fn, args: args || [], stage });
+      pending.set(id, { resolve, reject, fn, report });
+      worker.postMessage({ id, fn, args: args || [], stage, report: !!report });
     });
   }
 
-  async function callJson(fn, args, stage) {
-    const text = await call(fn, args, stage);
+  async function callJson(fn, args, stage, report) {
+    const text = await call(fn, args, stage, report);
     return JSON.parse(text);
   }
 

@@ -90,13 +90,25 @@ async function mapOthersLike(mapped) {
   }
   return done;
 }
+// The bar of the file being read: the core's count of bytes parsed (a
+// large UFF file reports about every megabyte), as a percentage.
+function readProgress(name, done, total) {
+  const pct = total > 0 ? Math.min(100, Math.floor((100 * done) / total)) : 0;
+  $('read-progress').value = pct;
+  $('read-label').textContent = `reading ${name}: ${pct} %`;
+}
 async function loadEntry(entry) {
+  readProgress(entry.name, 0, entry.bytes.length);
+  $('read-box').hidden = false;
   try {
-    entry.summary = await Bridge.callJson('load_file', [entry.name, entry.bytes, JSON.stringify(entry.options)], 'reading ' + entry.name);
+    entry.summary = await Bridge.callJson('load_file', [entry.name, entry.bytes, JSON.stringify(entry.options)], 'reading ' + entry.name,
+      ({ done, total }) => readProgress(entry.name, done, total));
     entry.error = null;
   } catch (e) {
     entry.summary = null;
     entry.error = e;
+  } finally {
+    $('read-box').hidden = true;
   }
   S.filesEpoch++;
   markStale(`the file ${entry.name} was added or read again after this run`);

@@ -2,6 +2,8 @@
 // which defines the global `wasm_bindgen`. Messages:
 //   { type: 'init', module }              -> { type: 'ready', version } | { type: 'fatal', error }
 //   { id, fn, args, stage }               -> { id, progress: stage }, then { id, ok } | { id, err }
+//   { id, fn, args, stage, report: true } -> the same, with { id, bytes: { done, total } } between:
+//                                            the core calls a function given as the last argument
 // Only functions the core exports are called; nothing here computes anything.
 'use strict';
 let core = null;
@@ -29,7 +31,9 @@ self.onmessage = (ev) => {
   self.postMessage({ id: m.id, progress: m.stage || m.fn });
   const t0 = performance.now();
   try {
-    const out = f(...(m.args || []));
+    const args = (m.args || []).slice();
+    if (m.report) args.push((done, total) => self.postMessage({ id: m.id, bytes: { done, total } }));
+    const out = f(...args);
     const ms = performance.now() - t0;
     // bytes and plot arrays are transferred (moved), not copied
     const transfer = [];

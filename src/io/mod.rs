@@ -592,6 +592,19 @@ pub fn load_with_limits(
     opts: &ImportOptions,
     limits: &crate::limits::Limits,
 ) -> Result<Loaded> {
+    load_with_progress(bytes, file, opts, limits, &mut |_| {})
+}
+
+/// [`load_with_limits`] telling `progress` how many bytes of a UFF file it
+/// has parsed (at most once per [`uff58::PROGRESS_STEP`] bytes, then the
+/// file's length); other formats do not call it.
+pub fn load_with_progress(
+    bytes: &[u8],
+    file: &str,
+    opts: &ImportOptions,
+    limits: &crate::limits::Limits,
+    progress: &mut dyn FnMut(usize),
+) -> Result<Loaded> {
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
@@ -625,13 +638,14 @@ pub fn load_with_limits(
         .in_file(file));
     }
     let mut uff = None;
+    // the UFF reader hashes the file while it parses (see uff58::read_all)
+    let mut sha: Option<String> = None;
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
-            let (extras, notes, has58) = uff58::read_extras(bytes, file, &component)?;
-            uff = extras;
-            if has58 || uff.is_none() {
-                // without a given component, each DOF takes the one written in
-                // the record-6 entity name, else the file stem
+            // the overrides first; a wrong one is reported after the file's
+            // own errors, as reading it alone would (and not at all for a
+            // file of extras alone, which reads no dataset 58)
+            let ov = (|| -> Result<uff58::Overrides> {
                 let mut ov = uff58::Overrides {
                     out_qty: opts.out_qty,
                     in_qty: opts.in_qty,
@@ -645,23 +659,50 @@ pub fn load_with_limits(
                         inp,
                     });
                 }
-                let r = uff58::read_overridden(
-                    bytes,
-                    file,
-                    opts.component.as_deref(),
-                    opts.signal,
-                    &ov,
-                    limits,
-                )?;
-                warnings.extend(r.warnings);
-                time_histories = r.time;
-                // the geometry's and modal model's own notes
-                let seen: std::collections::HashSet<String> = warnings.iter().cloned().collect();
-                warnings.extend(notes.into_iter().filter(|n| !seen.contains(n)));
-                r.sets
-            } else {
-                warnings.extend(notes);
-                Vec::new()
+                Ok(ov)
+            })();
+            match ov {
+                Err(e) => {
+                    let (extras, notes, has58) = uff58::read_extras(bytes, file, &component)?;
+                    if has58 || extras.is_none() {
+                        return Err(e);
+                    }
+                    uff = extras;
+                    warnings.extend(notes);
+                    Vec::new()
+                }
+                Ok(ov) => {
+                    // one parse gives the extras and the sets; without a
+                    // given component, each DOF takes the one written in the
+                    // record-6 entity name, else the file stem
+                    let all = uff58::read_all(
+                        bytes,
+                        file,
+                        &component,
+                        opts.component.as_deref(),
+                        opts.signal,
+                        &ov,
+                        limits,
+                        progress,
+                    )?;
+                    uff = all.extras;
+                    sha = Some(all.sha256);
+                    match all.read {
+                        Some(r) => {
+                            warnings.extend(r.warnings);
+                            time_histories = r.time;
+                            // the geometry's and modal model's own notes
+                            let seen: std::collections::HashSet<String> =
+                                warnings.iter().cloned().collect();
+                            warnings.extend(all.notes.into_iter().filter(|n| !seen.contains(n)));
+                            r.sets
+                        }
+                        None => {
+                            warnings.extend(all.notes);
+                            Vec::new()
+                        }
+                    }
+                }
             }
         }
         Format::CsvNative => {
@@ -752,7 +793,7 @@ mortise can propose one from the column names and units (column map \"auto\"). T
     }
     let prov = Provenance {
         file: base_name(file),
-        sha256: sha256_hex(bytes),
+        sha256: sha.unwrap_or_else(|| sha256_hex(bytes)),
         format: format.name().to_string(),
         options: options_text(opts),
     };

@@ -193,6 +193,18 @@ impl Workspace {
         bytes: &[u8],
         options: serde_json::Value,
     ) -> Result<FileSummary> {
+        self.load_file_with_progress(name, bytes, options, &mut |_| {})
+    }
+
+    /// [`Workspace::load_file`] telling `progress` the bytes of a UFF file
+    /// parsed so far (see [`io::load_with_progress`]).
+    pub fn load_file_with_progress(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: serde_json::Value,
+        progress: &mut dyn FnMut(usize),
+    ) -> Result<FileSummary> {
         let recording = io::wav::looks_like_wav(bytes) || io::time_csv::looks_like_time_csv(bytes);
         // a recording takes its own options (`time.rs`), checked there
         let opts = if recording {
@@ -217,8 +229,8 @@ impl Workspace {
         if recording {
             return self.load_recording(name, bytes, options);
         }
-        let loaded =
-            io::load_with_limits(bytes, name, &opts, &self.limits).map_err(|e| e.in_file(name))?;
+        let loaded = io::load_with_progress(bytes, name, &opts, &self.limits, progress)
+            .map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
         self.recordings.remove(name);
         if !loaded.time_histories.is_empty() {

@@ -16,7 +16,7 @@
 use super::geometry::{Geometry, GeometrySummary};
 use super::header151::Header151;
 use super::modal55::{build_model, ModeSummary};
-use super::scan::parse_file;
+use super::scan::{parse_file, Parsed};
 use super::units164::UnitSystem;
 use crate::error::{Error, Result};
 use crate::frf::Direction;
@@ -95,7 +95,20 @@ pub fn read_extras(
     file: &str,
     component: &str,
 ) -> Result<(Option<UffExtras>, Vec<String>, bool)> {
-    let p = parse_file(bytes, file)?;
+    let mut p = parse_file(bytes, file)?;
+    let has58 = !p.datasets.is_empty();
+    p.datasets = Vec::new();
+    let (x, warnings) = extras_of(p, file, component)?;
+    Ok((x, warnings, has58))
+}
+
+/// The extras of a parsed file (its datasets 58 are not looked at) and the
+/// parse's remarks with the geometry's and modal model's notes.
+pub(super) fn extras_of(
+    p: Parsed,
+    file: &str,
+    component: &str,
+) -> Result<(Option<UffExtras>, Vec<String>)> {
     let mut warnings = p.remarks;
     let geometry = if p.geometry.is_empty() {
         None
@@ -121,8 +134,7 @@ pub fn read_extras(
         modal,
         modes,
     };
-    let has58 = !p.datasets.is_empty();
-    Ok(((!x.is_empty()).then_some(x), warnings, has58))
+    Ok(((!x.is_empty()).then_some(x), warnings))
 }
 
 /// A number in at most `width` columns (leading blank kept): its shortest

@@ -9,9 +9,10 @@
 //! joined by `io::merge`; unit factors (`convert.rs`); parsing (`scan.rs`).
 
 use super::convert::{dir_of, frequencies, frf_meaning, spectrum_meaning, untold, SpectrumMeaning};
+use super::extras::{extras_of, UffExtras};
 use super::provenance::provenance_from_lines;
 use super::records::{data_type_name, function_type_name, Dataset58, TimeHistory};
-use super::scan::parse_datasets;
+use super::scan::{parse_datasets, parse_file_with, Parsed};
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
 use crate::limits::Limits;
@@ -394,6 +395,115 @@ pub fn read_overridden(
     ov: &Overrides,
     limits: &Limits,
 ) -> Result<UffRead> {
+    let (datasets, warnings) = parse_datasets(bytes, file)?;
+    let sha256 = crate::io::sha256_hex(bytes);
+    group_datasets(
+        bytes, file, component, declared, ov, limits, datasets, warnings, sha256,
+    )
+}
+
+/// What a whole UFF file gives in one pass ([`read_all`]).
+#[derive(Debug, Clone, Default)]
+pub struct UffAll {
+    /// Header, units, geometry, modal model (as [`super::read_extras`]).
+    pub extras: Option<UffExtras>,
+    /// The parse's remarks with the geometry's and modal model's notes (as
+    /// [`super::read_extras`]).
+    pub notes: Vec<String>,
+    /// The sets (as [`read_overridden`]), when the file holds datasets 58
+    /// or nothing else mortise reads (then the error of a file without
+    /// them); `None` for a file of extras alone.
+    pub read: Option<UffRead>,
+    /// SHA-256 of the file (hex), as in the sets' provenance.
+    pub sha256: String,
+}
+
+/// [`super::read_extras`] and [`read_overridden`] from one parse of the
+/// file (the same results and errors, in that order), telling `progress`
+/// the bytes read so far (see [`super::PROGRESS_STEP`]). `extras_component`
+/// names the modal model when the file's header does not.
+#[allow(clippy::too_many_arguments)]
+pub fn read_all(
+    bytes: &[u8],
+    file: &str,
+    extras_component: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+    ov: &Overrides,
+    limits: &Limits,
+    progress: &mut dyn FnMut(usize),
+) -> Result<UffAll> {
+    let (parsed, sha256) = parse_and_hash(bytes, file, progress);
+    let mut p = parsed?;
+    let datasets = std::mem::take(&mut p.datasets);
+    let remarks = p.remarks.clone();
+    let (extras, notes) = extras_of(p, file, extras_component)?;
+    let read = if !datasets.is_empty() || extras.is_none() {
+        Some(group_datasets(
+            bytes,
+            file,
+            component,
+            declared,
+            ov,
+            limits,
+            datasets,
+            remarks,
+            sha256.clone(),
+        )?)
+    } else {
+        None
+    };
+    Ok(UffAll {
+        extras,
+        notes,
+        read,
+        sha256,
+    })
+}
+
+/// Files from this size on are hashed on a second thread while they are
+/// parsed (natively; the page's WebAssembly has one thread).
+#[cfg(not(target_arch = "wasm32"))]
+const HASH_APART: usize = 1 << 20;
+
+/// The file parsed, and its SHA-256 (hex): on two threads for a large file
+/// natively (the hash takes about a tenth of the read), else one after
+/// the other.
+fn parse_and_hash(
+    bytes: &[u8],
+    file: &str,
+    progress: &mut dyn FnMut(usize),
+) -> (Result<Parsed>, String) {
+    #[cfg(not(target_arch = "wasm32"))]
+    if bytes.len() >= HASH_APART {
+        return std::thread::scope(|sc| {
+            let h = sc.spawn(|| crate::io::sha256_hex(bytes));
+            let p = parse_file_with(bytes, file, progress);
+            // a hash thread that failed to finish (it cannot panic on
+            // bytes) is hashed again here
+            let sha = h.join().unwrap_or_else(|_| crate::io::sha256_hex(bytes));
+            (p, sha)
+        });
+    }
+    let p = parse_file_with(bytes, file, progress);
+    (p, crate::io::sha256_hex(bytes))
+}
+
+/// The datasets of a parsed file into sets (the body of [`read_overridden`];
+/// `warnings`: the parse's remarks). Each dataset is dropped once read into
+/// its group, so the file's values are not held twice.
+#[allow(clippy::too_many_arguments)]
+fn group_datasets(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+    ov: &Overrides,
+    limits: &Limits,
+    datasets: Vec<Dataset58>,
+    mut warnings: Vec<String>,
+    sha256: String,
+) -> Result<UffRead> {
     let stem = crate::io::file_stem(file);
     let comp_of = |entity: &str| -> String {
         match component {
@@ -402,7 +512,6 @@ pub fn read_overridden(
             None => stem.clone(),
         }
     };
-    let (datasets, mut warnings) = parse_datasets(bytes, file)?;
     if datasets.is_empty() {
         return Err(Error::parse(format!(
             "the file holds no dataset 58 (functions at nodal DOFs), so no FRF or spectrum to read; it holds {}",
@@ -422,7 +531,10 @@ pub fn read_overridden(
     let mut time: Vec<TimeHistory> = Vec::new();
     let mut time_errors: Vec<Error> = Vec::new();
     let n_unnumbered = datasets.iter().filter(|d| unnumbered(d)).count();
-    for (ds_index, ds) in datasets.iter().enumerate() {
+    // start lines, for messages after the loop (the datasets are consumed)
+    let ds_lines: Vec<usize> = datasets.iter().map(|d| d.line).collect();
+    for (ds_index, owned) in datasets.into_iter().enumerate() {
+        let ds = &owned;
         let ds_no = ds_index + 1;
         if header_not_utf8(ds) {
             file_rm.add(
@@ -745,10 +857,9 @@ pub fn read_overridden(
         return Err(Error::usage(match a.dataset {
             Some(n) => format!(
                 "the import option \"dofs\" assigns DOFs to dataset {n}, but {}; assign DOFs only to datasets written without DOF numbers (node 0, direction 0)",
-                if n == 0 || n > datasets.len() {
-                    format!("the file holds {} dataset(s) 58", datasets.len())
-                } else {
-                    format!("dataset {n} (line {}) carries DOF numbers", datasets[n - 1].line)
+                match n.checked_sub(1).and_then(|k| ds_lines.get(k)) {
+                    None => format!("the file holds {} dataset(s) 58", ds_lines.len()),
+                    Some(line) => format!("dataset {n} (line {line}) carries DOF numbers"),
                 }
             ),
             None => format!(
@@ -762,7 +873,7 @@ pub fn read_overridden(
     split_runs(&mut groups);
     let prov_base = Provenance {
         file: crate::io::base_name(file),
-        sha256: crate::io::sha256_hex(bytes),
+        sha256,
         format: String::new(),
         options: match component {
             Some(c) => format!("component={c}"),
@@ -884,7 +995,7 @@ pub fn read_overridden(
     if sets.is_empty() {
         return Err(Error::unsupported(format!(
             "the file holds {} dataset(s) 58 but none mortise reads (FRF, transmissibility, coherence with its FRF, spectra)",
-            datasets.len()
+            ds_lines.len()
         ))
         .field("record 6, function type")
         .in_file(file));
@@ -1175,7 +1286,9 @@ fn build_set(
         s.signal = Some(k);
     }
     let mut first_line = vec![0usize; n_out * n_in];
-    for e in &g.entries {
+    // (entry, output, input, sign) of the entries kept, copied below
+    let mut kept: Vec<(usize, usize, usize, f64)> = Vec::with_capacity(g.entries.len());
+    for (n, e) in g.entries.iter().enumerate() {
         let i = out_at.get(&place(&e.out)).copied().unwrap_or(0);
         let j = in_at.get(&place(&e.inp)).copied().unwrap_or(0);
         let sign = e.out.sign() * s.outputs[i].sign() * e.inp.sign() * s.inputs[j].sign();
@@ -1194,8 +1307,19 @@ fn build_set(
         }
         s.present[m] = true;
         first_line[m] = e.line;
-        for (k, v) in e.values.iter().enumerate() {
-            s.data[(k * n_out + i) * n_in + j] = v * sign;
+        kept.push((n, i, j, sign));
+    }
+    // the values into the line-major matrix a block of lines at a time, so
+    // the part written stays in the cache (a whole entry at a time would
+    // write one value per n_out × n_in × 16 bytes)
+    const BLOCK: usize = 64;
+    for k0 in (0..n_lines).step_by(BLOCK) {
+        let k1 = (k0 + BLOCK).min(n_lines);
+        for &(n, i, j, sign) in &kept {
+            let vals = &g.entries[n].values;
+            for (k, v) in vals.iter().enumerate().take(k1).skip(k0) {
+                s.data[(k * n_out + i) * n_in + j] = v * sign;
+            }
         }
     }
     // a name common to all datasets (ID line 1), else the component

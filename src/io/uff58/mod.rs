@@ -155,13 +155,13 @@ mod write;
 pub use extras::{read_extras, write_2411, write_55, UffExtras, UffExtrasSummary};
 pub use geometry::{CoordSystem, Geometry, GeometrySummary, Node, TraceLine};
 pub use group::{
-    read, read_declared, read_declared_with_limits, read_overridden, read_with, unnumbered_dofs,
-    DofAssignment, Overrides, UffRead,
+    read, read_all, read_declared, read_declared_with_limits, read_overridden, read_with,
+    unnumbered_dofs, DofAssignment, Overrides, UffAll, UffRead,
 };
 pub use header151::Header151;
 pub use modal55::ModeSummary;
 pub use provenance::{provenance_from_lines, provenance_lines};
 pub use records::{function_type_name, AsciiLayout, AxisInfo, Dataset58, Layout, TimeHistory};
-pub use scan::{looks_like_uff, parse_datasets};
+pub use scan::{looks_like_uff, parse_datasets, PROGRESS_STEP};
 pub use units164::{units_code_name, UnitSystem};
 pub use write::{datasets_of, shortest, write, write_dataset, write_with};

@@ -445,7 +445,11 @@ pub(super) fn parse_58(
 
     // values and where each sits
     let mut vals: Vec<f64> = Vec::with_capacity(n_vals.min(1 << 20));
-    let mut pos: Vec<(bool, usize)> = Vec::with_capacity(n_vals.min(1 << 20)); // (is_byte, location)
+    // where the values stand, for error places: binary values by byte
+    // offset (from `payload`), ASCII values by line ((index of the line's
+    // first value, line number), one per data line)
+    let mut payload: Option<(usize, usize)> = None;
+    let mut lines: Vec<(usize, usize)> = Vec::new();
     if binary {
         let size = if double { 8 } else { 4 };
         let need = n_vals.saturating_mul(size);
@@ -459,6 +463,7 @@ pub(super) fn parse_58(
             }
         }
         let p0 = c.pos;
+        payload = Some((p0, size));
         let avail = c.b.len() - p0;
         if avail < need {
             return Err(Error::parse(format!(
@@ -488,7 +493,6 @@ pub(super) fn parse_58(
                 }) as f64
             };
             vals.push(v);
-            pos.push((true, o));
         }
         c.skip_bytes(need);
         // the end tag follows (possibly after a line break)
@@ -529,6 +533,32 @@ pub(super) fn parse_58(
         };
         let mut ended = false;
         while let Some(l) = c.next_line() {
+            // the common line, ASCII numbers between blanks, read from
+            // its bytes without copies; any other line by the general
+            // reading below (identical results, see `fast_line`)
+            match fast_line(l.bytes, &mut vals, n_vals) {
+                Fast::Values(k) => {
+                    if k > 0 {
+                        lines.push((vals.len() - k, l.no));
+                    }
+                    continue;
+                }
+                Fast::Blank => continue,
+                Fast::EndTag => {
+                    ended = true;
+                    break;
+                }
+                Fast::ValuesThenTag(k) => {
+                    lines.push((vals.len() - k, l.no));
+                    remarks.push(format!(
+                        "{file}: line {}: the end tag '-1' of dataset 58 that started at line {start} stands on the last data line; read as the end tag",
+                        l.no
+                    ));
+                    ended = true;
+                    break;
+                }
+                Fast::General => {}
+            }
             let t = l.text();
             let tt = t.trim();
             if tt == "-1" {
@@ -550,10 +580,8 @@ pub(super) fn parse_58(
             }
             let parsed: Vec<Option<f64>> = toks.iter().map(|s| parse_num(s)).collect();
             if tag_here && parsed.iter().all(|p| p.is_some()) {
-                for v in parsed.into_iter().flatten() {
-                    vals.push(v);
-                    pos.push((false, l.no));
-                }
+                lines.push((vals.len(), l.no));
+                vals.extend(parsed.into_iter().flatten());
                 remarks.push(format!(
                     "{file}: line {}: the end tag '-1' of dataset 58 that started at line {start} stands on the last data line; read as the end tag",
                     l.no
@@ -562,10 +590,10 @@ pub(super) fn parse_58(
                 break;
             }
             if parsed.iter().all(|p| p.is_some()) {
-                for v in parsed.into_iter().flatten() {
-                    vals.push(v);
-                    pos.push((false, l.no));
+                if !parsed.is_empty() {
+                    lines.push((vals.len(), l.no));
                 }
+                vals.extend(parsed.into_iter().flatten());
                 continue;
             }
             // fixed columns
@@ -608,10 +636,10 @@ pub(super) fn parse_58(
                     ),
                 ));
             }
-            for v in fixed {
-                vals.push(v);
-                pos.push((false, l.no));
+            if !fixed.is_empty() {
+                lines.push((vals.len(), l.no));
             }
+            vals.extend(fixed);
         }
         if !ended {
             return Err(perr(
@@ -639,11 +667,12 @@ pub(super) fn parse_58(
         }
     }
     let at = |e: Error, k: usize| -> Error {
-        let (is_byte, loc) = pos[k];
-        let e = if is_byte {
-            e.at_byte(loc)
-        } else {
-            e.at_line(loc)
+        let e = match payload {
+            Some((p0, size)) => e.at_byte(p0 + k * size),
+            None => {
+                let n = lines.partition_point(|&(first, _)| first <= k);
+                e.at_line(lines.get(n.wrapping_sub(1)).map_or(start, |l| l.1))
+            }
         };
         e.in_file(file)
     };
@@ -723,4 +752,120 @@ pub(super) fn parse_58(
         line: start,
         latin1,
     })
+}
+
+/// What [`fast_line`] made of a data line.
+#[derive(Debug, PartialEq)]
+enum Fast {
+    /// This many values appended.
+    Values(usize),
+    /// This many values appended, then the end tag on the same line.
+    ValuesThenTag(usize),
+    Blank,
+    EndTag,
+    /// Nothing appended: the line needs the general reading.
+    General,
+}
+
+/// Blanks as `str::trim` and `str::split_whitespace` see them in ASCII
+/// text (tab, line feed, vertical tab, form feed, carriage return, space).
+fn blank(c: u8) -> bool {
+    matches!(c, b'\t' | b'\n' | 0x0b | 0x0c | b'\r' | b' ')
+}
+
+/// A data line of record 12 read from its bytes, when it is ASCII and
+/// every blank-separated token is a number: the same values, tag handling
+/// and results as the general reading in [`parse_58`] (which reads the line
+/// as decoded text), without allocating. `n_vals`: the values record 7
+/// announces (an end tag on the last data line is taken only when the
+/// values are then exactly those).
+fn fast_line(bytes: &[u8], vals: &mut Vec<f64>, n_vals: usize) -> Fast {
+    if !bytes.is_ascii() {
+        return Fast::General;
+    }
+    let Ok(text) = std::str::from_utf8(bytes) else {
+        return Fast::General;
+    };
+    let before = vals.len();
+    let mut n = 0;
+    let mut last_tag = false;
+    let b = text.as_bytes();
+    let mut i = 0;
+    while i < b.len() {
+        while i < b.len() && blank(b[i]) {
+            i += 1;
+        }
+        if i == b.len() {
+            break;
+        }
+        let a = i;
+        while i < b.len() && !blank(b[i]) {
+            i += 1;
+        }
+        // ASCII: every byte index is a character boundary
+        let tok = &text[a..i];
+        // the plain form first (no blanks in a token: parse_num's trim is
+        // not needed), then the Fortran forms
+        let Some(v) = tok.parse::<f64>().ok().or_else(|| parse_num(tok)) else {
+            vals.truncate(before);
+            return Fast::General;
+        };
+        n += 1;
+        last_tag = tok == "-1";
+        vals.push(v);
+    }
+    if n == 0 {
+        return Fast::Blank;
+    }
+    if last_tag && n == 1 {
+        vals.truncate(before);
+        return Fast::EndTag;
+    }
+    if last_tag && before + n == n_vals + 1 {
+        vals.pop();
+        return Fast::ValuesThenTag(n - 1);
+    }
+    Fast::Values(n)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn fast(line: &str, have: usize, n_vals: usize) -> (Fast, Vec<f64>) {
+        let mut v = vec![0.0; have];
+        let f = fast_line(line.as_bytes(), &mut v, n_vals);
+        (f, v.split_off(have))
+    }
+
+    /// The fast reading of a data line gives Rust's own number parsing of
+    /// each blank-separated token (common practice: `str::parse::<f64>` is
+    /// the reference), the Fortran `D` exponent as `parse_num` reads it, and
+    /// leaves every other line to the general reading untouched.
+    #[test]
+    fn fast_line_reads_plain_lines_and_leaves_the_rest() {
+        let (f, v) = fast("  1.25000000000E+00 -3.5E-07\t 4 ", 0, 10);
+        assert_eq!(f, Fast::Values(3));
+        assert_eq!(v, vec![1.25, -3.5e-7, 4.0]);
+        let (f, v) = fast("1.5D+02 2.0d-1", 0, 10);
+        assert_eq!(f, Fast::Values(2));
+        assert_eq!(v, vec![150.0, 0.2]);
+        // blank (as str::trim sees it, vertical tab and form feed too)
+        assert_eq!(fast(" \t\x0b\x0c ", 0, 10).0, Fast::Blank);
+        assert_eq!(fast("    -1", 4, 10).0, Fast::EndTag);
+        // the end tag after the last values: only when the count is then exact
+        let (f, v) = fast(" 1.0 2.0 -1", 8, 10);
+        assert_eq!(f, Fast::ValuesThenTag(2));
+        assert_eq!(v, vec![1.0, 2.0]);
+        let (f, v) = fast(" 1.0 2.0 -1", 4, 10);
+        assert_eq!(f, Fast::Values(3));
+        assert_eq!(v, vec![1.0, 2.0, -1.0]);
+        // touching numbers, words and non-ASCII go to the general reading,
+        // with nothing appended
+        for line in ["1.0E+00-2.0E+00", "1.0 abc", "1.0 2.0\u{a0}", "1,5"] {
+            let (f, v) = fast(line, 3, 10);
+            assert_eq!(f, Fast::General, "{line}");
+            assert!(v.is_empty(), "{line}");
+        }
+    }
 }

@@ -86,7 +86,23 @@ pub(super) struct Parsed {
 /// force for the datasets after it), 15 / 2411 (nodes), 18 / 2420
 /// (coordinate systems), 82 (trace lines), 55 (modes).
 pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
+    parse_file_with(bytes, file, &mut |_| {})
+}
+
+/// Bytes between two calls of a progress callback (at most one call per
+/// this many bytes read, and one at the end).
+pub const PROGRESS_STEP: usize = 1 << 20;
+
+/// [`parse_file`] telling `progress` how many bytes of the file it has read:
+/// after a dataset once at least [`PROGRESS_STEP`] bytes more than at the
+/// last call are read, and with the file's length at the end.
+pub(super) fn parse_file_with(
+    bytes: &[u8],
+    file: &str,
+    progress: &mut dyn FnMut(usize),
+) -> Result<Parsed> {
     let mut c = Cursor::new(bytes);
+    let mut told = 0usize;
     let mut out = Vec::new();
     let mut remarks = Vec::new();
     let mut headers = Vec::new();
@@ -99,6 +115,10 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
     let mut last_end: Option<usize> = None;
     let mut any_text = false;
     while let Some(l) = c.next_line() {
+        if c.pos >= told + PROGRESS_STEP {
+            told = c.pos;
+            progress(told);
+        }
         if l.bytes.iter().all(|b| b.is_ascii_whitespace()) {
             continue;
         }
@@ -275,6 +295,7 @@ pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
             ));
         }
     }
+    progress(bytes.len());
     if !any_text {
         return Err(Error::parse(
             "the file is empty; expected UFF datasets starting with the tag '    -1'",

@@ -45,9 +45,7 @@ impl<'a> Cursor<'a> {
             return None;
         }
         let start = self.pos;
-        let end = self.b[start..]
-            .iter()
-            .position(|&c| c == b'\n' || c == b'\r')
+        let end = line_end(&self.b[start..])
             .map(|p| start + p)
             .unwrap_or(self.b.len());
         let content = &self.b[start..end];
@@ -69,6 +67,31 @@ impl<'a> Cursor<'a> {
             .count();
         self.pos = end;
     }
+}
+
+/// Index of the first LF or CR in `b`: eight bytes at a time while none is
+/// among them (a word holds a byte equal to `c` when `w ^ c·0x01..01` has
+/// a zero byte: (v − 0x01..01) & !v & 0x80..80 ≠ 0, from memory: the
+/// "determine if a word has a zero byte" bit trick), then byte by byte.
+fn line_end(b: &[u8]) -> Option<usize> {
+    const LO: u64 = 0x0101_0101_0101_0101;
+    const HI: u64 = 0x8080_8080_8080_8080;
+    let zero = |v: u64| v.wrapping_sub(LO) & !v & HI != 0;
+    let mut i = 0;
+    for ch in b.chunks_exact(8) {
+        let Ok(w) = <[u8; 8]>::try_from(ch) else {
+            break;
+        };
+        let w = u64::from_le_bytes(w);
+        if zero(w ^ (LO * u64::from(b'\n'))) || zero(w ^ (LO * u64::from(b'\r'))) {
+            break;
+        }
+        i += 8;
+    }
+    b[i..]
+        .iter()
+        .position(|&c| c == b'\n' || c == b'\r')
+        .map(|p| i + p)
 }
 
 /// The UTF-8 byte-order mark some editors put at the start of a text file.
@@ -139,4 +162,30 @@ pub(super) fn parse_int(tok: &str) -> Option<i64> {
 /// Fixed-column slice (padded with blanks past the end of the line).
 pub(super) fn col(text: &str, start: usize, width: usize) -> String {
     text.chars().skip(start).take(width).collect::<String>()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The word-at-a-time search finds what a byte-by-byte search finds
+    /// (common practice: compare with the plain loop), at every offset and
+    /// for every byte value next to the line ends.
+    #[test]
+    fn line_end_matches_the_plain_search() {
+        let plain = |b: &[u8]| b.iter().position(|&c| c == b'\n' || c == b'\r');
+        for len in 0..40 {
+            for at in 0..=len {
+                for end in [b'\n', b'\r'] {
+                    for fill in [0u8, b' ', 0x0b, 0x0c, 0x8d, 0x8a, 0xff, b'9'] {
+                        let mut v = vec![fill; len];
+                        if at < len {
+                            v[at] = end;
+                        }
+                        assert_eq!(line_end(&v), plain(&v), "len {len} at {at} fill {fill}");
+                    }
+                }
+            }
+        }
+    }
 }
