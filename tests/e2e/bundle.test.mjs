@@ -8,7 +8,7 @@ import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import { readFileSync } from 'node:fs';
 import { createHash } from 'node:crypto';
-import { open, addFiles, shot } from './helpers.mjs';
+import { open, addFiles, shot, pasteRecipe } from './helpers.mjs';
 import { frameCsv, massCsv, RECIPE } from './data.mjs';
 
 async function runRecipe(page) {
@@ -43,7 +43,7 @@ test('the content SHA-256 is shown when a bundle is saved and opened; a tampered
   let bundle, shown;
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     await runRecipe(s.page);
     bundle = await saveDownload(s.page, '#bundle-btn');
     shown = await s.page.getAttribute('#bundle-info [data-bundle-content]', 'data-bundle-content');

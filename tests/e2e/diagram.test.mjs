@@ -8,7 +8,7 @@ import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { open, shot, ROOT, ARTIFACTS } from './helpers.mjs';
+import { open, shot, ROOT, ARTIFACTS, pasteRecipe } from './helpers.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
 const AXE = readFileSync(join(ROOT, 'node_modules/axe-core/axe.min.js'), 'utf8');
@@ -122,11 +122,11 @@ test('the diagram draws the demo, follows the recipe and selects in the panel', 
 
     // text that is not JSON: the core's message, no picture
     const good = await p.inputValue('#recipe-text');
-    await p.fill('#recipe-text', good.replace('"mounted"', '"mounted'));
+    await pasteRecipe(p, good.replace('"mounted"', '"mounted'));
     await drawn(p, 'refused');
     assert.match(await p.textContent('#asm-diagram-note'), /not a valid recipe/);
     assert.equal(await p.$$eval('#asm-diagram svg', (x) => x.length), 0);
-    await p.fill('#recipe-text', good);
+    await pasteRecipe(p, good);
     await drawn(p);
     assert.ok((await diagramTexts(p)).includes('spring k = 2.0e8 N/m'));
     await shot(p, '82-assembly-diagram-page');

@@ -82,3 +82,13 @@ export async function pageResults(page) {
   }
   return out;
 }
+
+// Put text into the recipe box as a paste does: one value change, one input
+// event. (Playwright's fill enters long text slowly: the demo recipe, 58 kB
+// with its speed tables, took 50 s, while the page handles it in 0.1 s.)
+export async function pasteRecipe(page, text) {
+  await page.$eval('#recipe-text', (e, t) => {
+    e.value = t;
+    e.dispatchEvent(new Event('input', { bubbles: true }));
+  }, text);
+}

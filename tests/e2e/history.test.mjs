@@ -6,7 +6,7 @@
 // level of a field quantity).
 import { test } from 'node:test';
 import assert from 'node:assert/strict';
-import { open, shot } from './helpers.mjs';
+import { open, shot, pasteRecipe } from './helpers.mjs';
 
 test('two runs are kept, listed, compared side by side and differenced in dB', async () => {
   const s = await open();
@@ -24,7 +24,7 @@ test('two runs are kept, listed, compared side by side and differenced in dB', a
       .replace('"steps": [', '"steps": [\n    { "id": "half_forces", "op": "scale", "from": "forces", "factor": 0.5 },')
       .replace('"excitation": "forces"', '"excitation": "half_forces"');
     assert.notEqual(halved, text);
-    await p.fill('#recipe-text', halved);
+    await pasteRecipe(p, halved);
     await p.click('#run-btn');
     await idle();
     const rows = await p.$$eval('#history tr[data-run]', (r) => r.map((x) => [...x.cells].map((c) => c.textContent)));
@@ -36,7 +36,7 @@ test('two runs are kept, listed, compared side by side and differenced in dB', a
       assert.match(r[5], /dB\(A\)/, 'the headline');
     }
     // a failed run joins the list with its error; the results stay
-    await p.fill('#recipe-text', halved.replace('"op": "paths"', '"op": "pathz"'));
+    await pasteRecipe(p, halved.replace('"op": "paths"', '"op": "pathz"'));
     await p.click('#run-btn');
     await p.waitForFunction(() => /the run failed/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
     await p.waitForFunction(() => document.querySelectorAll('#history tr[data-run]').length === 3);

@@ -6,7 +6,7 @@ import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { open, addFiles, shot, ROOT } from './helpers.mjs';
+import { open, addFiles, shot, ROOT, pasteRecipe } from './helpers.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
 
@@ -30,7 +30,7 @@ async function worstGap(page, work) {
 }
 
 async function runRecipe(page, text) {
-  await page.fill('#recipe-text', text);
+  await pasteRecipe(page, text);
   await page.waitForFunction(() => !/reading/.test(document.getElementById('recipe-state').textContent), null, { timeout: 20000 });
   await page.click('#run-btn');
   await page.waitForFunction(() => document.querySelector('#run-error:not([hidden])') || document.body.dataset.state === 'ready', null, { timeout: 60000 });

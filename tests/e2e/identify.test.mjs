@@ -14,7 +14,7 @@ import { existsSync, readFileSync, writeFileSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
-import { open, addFiles, shot, ROOT } from './helpers.mjs';
+import { open, addFiles, shot, ROOT, pasteRecipe } from './helpers.mjs';
 import { complexRows } from './data.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
@@ -103,7 +103,7 @@ test('modal fit view: chart, choosing poles by click and by keys, quality, overl
   try {
     const p = s.page;
     await addFiles(p, [{ name: 'bracket-hammer.csv', data: Buffer.from(csv) }]);
-    await p.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(p, JSON.stringify(RECIPE, null, 2));
     await readByCore(p);
     await run(p);
 
@@ -229,7 +229,7 @@ test('modal fit view: without a regenerate step the view offers one, then plots 
     const p = s.page;
     await addFiles(p, [{ name: 'bracket-hammer.csv', data: Buffer.from(csv) }]);
     const recipe = { ...RECIPE, steps: [RECIPE.steps[0]], outputs: ['bracket-modes'] };
-    await p.fill('#recipe-text', JSON.stringify(recipe, null, 2));
+    await pasteRecipe(p, JSON.stringify(recipe, null, 2));
     await readByCore(p);
     await run(p);
     assert.equal(await p.$('.fit-overlay-btn'), null);

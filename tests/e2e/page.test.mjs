@@ -6,7 +6,7 @@ import { statSync, readFileSync, mkdtempSync, writeFileSync, existsSync } from '
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
-import { open, addFiles, shot, PAGE, ROOT } from './helpers.mjs';
+import { open, addFiles, shot, PAGE, ROOT, pasteRecipe } from './helpers.mjs';
 import { frameCsv, massCsv, xssCsv, corruptCsv, RECIPE, XSS_NODE, numbers } from './data.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
@@ -70,7 +70,7 @@ test('reload restores the workspace from IndexedDB; clear asks first', async () 
   const profile = mkdtempSync(join(tmpdir(), 'mortise-e2e-keep-'));
   let s = await open(profile);
   await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-  await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+  await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
   await s.page.waitForFunction(() => document.body.dataset.saved);
   await s.page.waitForTimeout(400);
   await s.close(true);
@@ -132,7 +132,7 @@ test('a recipe runs in the worker, plots, exports like the CLI; a bundle with a 
   let csvPage, bundle;
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     const t = await runRecipe(s.page);
     report('small recipe compute (ms)', t.last_run_ms.toFixed(1));
     report('plot (ms)', t.last_plot_ms.toFixed(1));
@@ -235,7 +235,7 @@ test('a bundle with every input opens in a fresh profile and runs again to the s
   let first, bundle;
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     await runRecipe(s.page);
     first = await saveDownload(s.page, '[data-export=csv]');
     bundle = await saveDownload(s.page, '#bundle-btn');
@@ -257,7 +257,7 @@ test('cancel stops a run, restarts the core and keeps the workspace', async () =
   const s = await open();
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE));
     await runRecipe(s.page);
     await s.page.click('#run-btn');
     await s.page.click('#cancel-btn', { timeout: 2000 }).catch(() => {});

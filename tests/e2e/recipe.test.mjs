@@ -10,7 +10,7 @@ import { existsSync, readFileSync, writeFileSync, mkdtempSync, copyFileSync } fr
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
-import { open, addFiles, shot, ROOT, pageResults } from './helpers.mjs';
+import { open, addFiles, shot, ROOT, pageResults, pasteRecipe } from './helpers.mjs';
 import { frameCsv, massCsv, RECIPE, complexRows } from './data.mjs';
 
 const report = (k, v) => console.log(`# measure ${k}: ${v}`);
@@ -187,14 +187,14 @@ test('hand edits of the recipe text and panel edits meet in one recipe; nothing 
   const s = await open();
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     await synced(s.page);
     assert.deepEqual(await jointRows(s.page), [{ a: 'frame:2+Z', b: 'mass:7+Z', type: 'rigid', stiffness: '', k: '' }]);
     // a hand edit of the text shows in the panel
     const hand = structuredClone(RECIPE);
     hand.title = 'edited by hand';
     hand.steps[0].joints[0] = { a: 'frame:2+Z', b: 'mass:7+Z', k: 1e5 }; // no type: the core reads a spring
-    await s.page.fill('#recipe-text', JSON.stringify(hand, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(hand, null, 2));
     await synced(s.page);
     const rows = await jointRows(s.page);
     assert.equal(rows[0].type, 'spring');
@@ -212,7 +212,7 @@ test('hand edits of the recipe text and panel edits meet in one recipe; nothing 
 
     // a hand edit the core cannot read yet: the panel says the text is newer and waits
     const broken = good.replace('"title": "edited by hand",', '"title": "half typed,');
-    await s.page.fill('#recipe-text', broken);
+    await pasteRecipe(s.page, broken);
     await s.page.waitForFunction(() => document.getElementById('asm-panel').dataset.sync === 'text-newer');
     await s.page.waitForFunction(() => /line \d+/.test(document.getElementById('recipe-state').textContent));
     assert.match(await s.page.textContent('#asm-sync'), /The recipe text is newer than this panel/);
@@ -246,7 +246,7 @@ test('a failed run marks the results stale, shows the error with its recipe path
   const s = await open();
   try {
     await addFiles(s.page, [{ name: 'frame.csv', data: frameCsv() }, { name: 'mass.csv', data: massCsv() }]);
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     assert.equal(await run(s.page), '');
     assert.equal(await s.page.$eval('#results-panel', (p) => p.dataset.stale), 'no');
     const [ok] = await Promise.all([s.page.waitForEvent('download'), s.page.click('[data-export=csv]')]);
@@ -255,7 +255,7 @@ test('a failed run marks the results stale, shows the error with its recipe path
     // the recipe changes after the run: the results on screen are stale at once
     const bad = structuredClone(RECIPE);
     bad.steps[0].joints[0].b = 'mass:9+Z';
-    await s.page.fill('#recipe-text', JSON.stringify(bad, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(bad, null, 2));
     await s.page.waitForSelector('#stale-banner:not([hidden])');
     assert.match(await s.page.textContent('#stale-banner'), /STALE RESULTS.*recipe text was edited after this run/);
     // the run fails: the error names its place in the recipe; the results stay stale
@@ -276,7 +276,7 @@ test('a failed run marks the results stale, shows the error with its recipe path
     assert.match(await s.page.textContent('#bundle-info'), /refused: the results are stale/);
 
     // fixed and run again: the mark goes, exports work and give the first run's numbers
-    await s.page.fill('#recipe-text', JSON.stringify(RECIPE, null, 2));
+    await pasteRecipe(s.page, JSON.stringify(RECIPE, null, 2));
     assert.equal(await run(s.page), '');
     assert.equal(await s.page.$eval('#stale-banner', (b) => b.hidden), true);
     assert.equal(await s.page.$eval('#plot-stale', (l) => l.hidden), true);
