@@ -509,4 +509,45 @@ fn mortise_run_writes_the_in_situ_report_and_predictions() {
     for want in ["target-predicted", "target-measured", "fb.uncertainty.csv"] {
         assert!(names.iter().any(|n| n.contains(want)), "{want}: {names:?}");
     }
+    // the predictions' uncertainty beside them: the target's standard
+    // uncertainty per line is the first-order one checked against numpy's
+    // Monte Carlo above, written in the shortest form that reads back
+    for want in ["validation-predicted", "target-predicted"] {
+        assert!(
+            names
+                .iter()
+                .any(|n| n.contains(want) && n.ends_with(".uncertainty.csv")),
+            "{want}: {names:?}"
+        );
+    }
+    let file = names
+        .iter()
+        .find(|n| n.contains("target-predicted") && n.ends_with(".uncertainty.csv"))
+        .unwrap();
+    let csv = std::fs::read_to_string(dir.join("out").join(file)).unwrap();
+    let written: Vec<f64> = csv
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.starts_with("freq"))
+        .map(|l| l.split(',').nth(1).unwrap().parse().unwrap())
+        .collect();
+    let opts = BlockedForceOptions {
+        method: BlockedMethod::InSitu,
+        validation: dofs("validation"),
+        target: dofs("target"),
+        ..BlockedForceOptions::default()
+    };
+    let y0 = responses();
+    let b = blocked_forces(&frf(), &y0, &opts).unwrap();
+    let u = relative_with_floor(&y0, 0.01, None);
+    let ut = blocked_first_order(&frf(), None, &y0, Some(&u), &b)
+        .unwrap()
+        .target
+        .unwrap();
+    assert_eq!(written.len(), ut.len());
+    let worst = written
+        .iter()
+        .zip(&ut)
+        .map(|(a, b)| (a - b).abs() / b.abs().max(1e-300))
+        .fold(0.0, f64::max);
+    assert!(worst < 1e-9, "written target uncertainty vs first order: {worst}");
 }

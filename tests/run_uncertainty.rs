@@ -122,6 +122,14 @@ fn demo_with_stated_uncertainty_reports_interval_reliability_and_files() {
         .count();
     assert_eq!(rows, data_rows);
     assert!(out.join("seat_to_anchor.uncertainty.csv").exists());
+    // each anchor path's contribution has its own (first order through its
+    // FRF column and excitation row: the numpy check of the swap chances)
+    let path_files = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with("bedroom") && n.contains("wall") && n.ends_with(".uncertainty.csv"))
+        .count();
+    assert_eq!(path_files, 4);
 }
 
 #[test]
@@ -566,4 +574,66 @@ fn path_swap_chances_agree_with_a_numpy_monte_carlo() {
     }
     // the case is one where ranks do swap: the check is not vacuous
     assert!(intermediate >= 2, "{:?}", reference["louder"]);
+}
+
+#[test]
+fn tolerance_monte_carlo_gives_the_normal_quantiles() {
+    // the room transfer known within a normal tolerance of 10 % and nothing
+    // else uncertain: the bedroom's pressure is proportional to it, so its
+    // level moves by 20·log10(1 + 0.1 z), z standard normal, and its 95 %
+    // interval is L0 + 20·log10(1 − 1.96 · 0.1) = L0 − 1.897 dB to
+    // L0 + 20·log10(1 + 1.96 · 0.1) = L0 + 1.562 dB (1.96: the standard
+    // normal's 97.5 % quantile, any statistics table)
+    let dir = common::scratch("run_uncertainty_tolerance");
+    let recipe = demo_recipe(&dir, |r| {
+        for c in r["components"].as_object_mut().unwrap().values_mut() {
+            c.as_object_mut().unwrap().remove("uncertainty");
+        }
+        let o = r.as_object_mut().unwrap();
+        o.remove("variants");
+        o.remove("sweep");
+        o.insert(
+            "tolerances".into(),
+            json!([{"scale": "room", "relative": 0.1}]),
+        );
+    });
+    let rp = recipe.to_str().unwrap();
+    let out = dir.join("out");
+    let op = out.to_str().unwrap();
+    // a plain run: the nominal values, and it says the tolerances wait for
+    // a Monte Carlo
+    let printed = cli(&["run", rp, "-o", op]).unwrap();
+    assert!(
+        printed.contains("the tolerances of scale 'room' are drawn by a Monte Carlo"),
+        "{printed}"
+    );
+    assert!(printed.contains("bedroom at room:bed: 43.2 dB(A)"), "{printed}");
+    cli(&["run", rp, "-o", op, "--monte-carlo", "400", "--seed", "3"]).unwrap();
+    let report: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();
+    let mc = &report["monte_carlo"];
+    assert!(
+        mc["method"]
+            .as_str()
+            .unwrap()
+            .contains("the tolerance of scale 'room' (normal 10 %)"),
+        "{mc}"
+    );
+    let bed = mc["levels"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|l| l["step"] == "bedroom")
+        .unwrap();
+    let l0 = bed["nominal_db"].as_f64().unwrap();
+    let lo = bed["interval_95_db"][0].as_f64().unwrap() - l0;
+    let hi = bed["interval_95_db"][1].as_f64().unwrap() - l0;
+    eprintln!("tolerance 10 %: 95 % interval {lo:+.3} … {hi:+.3} dB (closed form −1.897 … +1.562)");
+    // quantiles of 400 draws: about ± 0.3 dB here (common practice: the
+    // order statistic's spread, √(p(1 − p)/n) / density, in dB)
+    assert!((lo + 1.897).abs() < 0.35, "{lo}");
+    assert!((hi - 1.562).abs() < 0.35, "{hi}");
+    // the standard deviation: 8.686 · 0.1 = 0.869 dB to first order
+    let sd = bed["std_db"].as_f64().unwrap();
+    assert!((sd - 0.869).abs() < 0.12, "{sd}");
 }

@@ -7,7 +7,7 @@
 mod common;
 
 use mortise::frf::{Dof, Provenance};
-use mortise::signal::impact::{impact_frf, ImpactSettings};
+use mortise::signal::impact::{impact_esd, impact_frf, ImpactSettings};
 use mortise::signal::{Channel, Estimator, Recording};
 use mortise::units::Quantity;
 use num_complex::Complex64;
@@ -119,6 +119,127 @@ fn hammer_records_flags_and_frf_against_numpy() {
     }
     println!("impact H1 against the exact FRF off resonance: {worst:.4}");
     assert!(worst < 0.05);
+
+    // the energy spectral density over the same accepted records against
+    // numpy's one-sided 2|X|²Δt² (DC and Nyquist once), and Parseval: it
+    // integrates to the records' mean energy Σ x² Δt
+    let (esd, hits2, _) = impact_esd(
+        &rec,
+        0,
+        &[None, Some(limit)],
+        &s,
+        "beam",
+        &Provenance::default(),
+    )
+    .unwrap();
+    assert_eq!(hits2.len(), hits.len());
+    let len = r["record"].as_u64().unwrap() as f64;
+    let df = fs / len;
+    for (set, key, energy) in [
+        (&esd[0], "esd_force", "energy_force"),
+        (&esd[1], "esd_resp", "energy_resp"),
+    ] {
+        assert_eq!(set.signal, Some(mortise::frf::SignalKind::Esd));
+        let want: Vec<f64> = r[key]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
+        let top = want.iter().fold(0.0f64, |m, v| m.max(*v));
+        let mut e = 0.0f64;
+        let mut integral = 0.0;
+        for (k, f) in set.freqs.iter().enumerate() {
+            let v = set.get(k, 0, 0).re;
+            let j = (f / df).round() as usize;
+            e = e.max((v - want[j]).abs() / top);
+            integral += v * df;
+        }
+        let en = r[energy].as_f64().unwrap();
+        let lines_all = set.freqs.len() == want.len();
+        println!(
+            "{key}: against numpy {e:e}; Σ ESD·Δf {integral:e} against the mean record energy {en:e} (all lines: {lines_all})"
+        );
+        assert!(e <= 1e-10, "{key}: {e}");
+        assert!(lines_all, "the ESD holds every line from 0 Hz to fs/2");
+        assert!((integral / en - 1.0).abs() <= 1e-12, "{key}: {integral} {en}");
+    }
+
+    // what a user runs: the same hammer test as a time CSV, through
+    // `mortise spectrum --kind esd` and `mortise estimate --trigger`
+    let mut csv = String::from("time [s],beam:1+Z [N],beam:7+Z [m/s^2]\n");
+    for i in 0..rec.samples[0].len() {
+        csv.push_str(&format!(
+            "{},{},{}\n",
+            i as f64 / fs,
+            rec.samples[0][i],
+            rec.samples[1][i]
+        ));
+    }
+    let file = dir.join("hammer.csv");
+    std::fs::write(&file, csv).unwrap();
+    let run = |cmd: &str, extra: &[&str]| {
+        let mut a: Vec<String> = vec![cmd.into(), file.to_str().unwrap().into()];
+        for x in [
+            "--trigger",
+            "20",
+            "--record-length",
+            "1.5",
+            "--force-width",
+            "0.02",
+            "--decay",
+            "0.3",
+        ]
+        .iter()
+        .chain(extra)
+        {
+            a.push(x.to_string());
+        }
+        mortise::cli::execute(&a)
+    };
+    let out = dir.join("esd.csv");
+    let o = run(
+        "spectrum",
+        &["-o", out.to_str().unwrap(), "--kind", "esd", "--input", "beam:1+Z"],
+    );
+    assert!(o.error.is_none(), "{}", o.stderr);
+    let back = mortise::load(&std::fs::read(&out).unwrap(), "esd.csv", &Default::default())
+        .unwrap()
+        .sets;
+    assert_eq!(back.len(), 2);
+    for (a, b) in back.iter().zip(&esd) {
+        assert_eq!(a.signal, Some(mortise::frf::SignalKind::Esd));
+        let top = b.data.iter().fold(0.0f64, |m, v| m.max(v.re));
+        let e = a
+            .data
+            .iter()
+            .zip(&b.data)
+            .fold(0.0f64, |m, (x, y)| m.max((x - y).norm() / top));
+        assert!(e < 1e-9, "the CLI's ESD from the time CSV against the library: {e}");
+    }
+    // an impact FRF from the same CSV (a UFF or CSV recording, not only a WAV)
+    let frf = dir.join("frf.csv");
+    let o = run("estimate", &["-o", frf.to_str().unwrap(), "--input", "beam:1+Z"]);
+    assert!(o.error.is_none(), "{}", o.stderr);
+    // refused, naming what is missing or misplaced
+    for (cmd, extra, says) in [
+        ("spectrum", vec!["--kind", "psd"], "--trigger makes impact records"),
+        ("spectrum", vec!["--kind", "esd"], "takes one --input"),
+    ] {
+        let mut e = vec!["-o", out.to_str().unwrap()];
+        e.extend(extra);
+        let o = run(cmd, &e);
+        assert!(o.stderr.contains(says), "{cmd} {e:?}: {}", o.stderr);
+    }
+    let o = mortise::cli::execute(&[
+        "spectrum".to_string(),
+        file.to_str().unwrap().into(),
+        "-o".into(),
+        out.to_str().unwrap().into(),
+        "--kind".into(),
+        "esd".into(),
+    ]);
+    assert!(o.stderr.contains("--kind esd is the energy of impact records"), "{}", o.stderr);
 }
 
 #[test]

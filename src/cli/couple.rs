@@ -149,6 +149,7 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
         variants: vec![],
         outputs: vec!["coupled".into()],
         sweep: None,
+        tolerances: Vec::new(),
     })
 }
 

@@ -752,7 +752,7 @@ const TIME_GROUP: Group = Group {
     ],
 };
 
-/// Triggered impact records, for `estimate`.
+/// Triggered impact records, for `estimate` and `spectrum --kind esd`.
 const IMPACT_GROUP: Group = Group {
     title: "impact test (with --trigger: one record per hit instead of Welch segments; --segment, \
             --overlap, --window and --detrend are then refused)",
@@ -817,18 +817,25 @@ pub const SPECTRUM: Command = Command {
                     "KIND",
                     "psd (unit²/Hz), autopower (unit², mean square per line), rms or peak (line \
                      spectrum with the phase against --reference), cross (conj(X_ref)·X per \
-                     line, against --reference) (default psd)",
+                     line, against --reference), esd (unit²·s/Hz: the mean energy of an impact \
+                     record per hertz; needs --trigger, --record-length and --input) (default psd)",
                 ),
                 val(
                     "reference",
                     "DOF",
                     "the channel phases are measured against (needed by rms, peak and cross)",
                 ),
+                val(
+                    "input",
+                    "DOF",
+                    "the force channel the impact records are triggered on (--kind esd only)",
+                ),
                 JSON_OPT,
                 HELP_OPT,
             ],
         },
         TIME_GROUP,
+        IMPACT_GROUP,
         LIMITS_GROUP,
         FILES_GROUP,
     ],

@@ -130,6 +130,21 @@ fn dof(text: &str, option: &str) -> Result<Dof> {
     Dof::parse(text, "").map_err(|e| Error::usage(format!("--{option}: {}", e.message)))
 }
 
+/// A Welch spectrum job of `kind`, with its --reference.
+fn spectrum_job(args: &Args, kind: SignalKind) -> Result<Job> {
+    let reference = args
+        .value("reference")
+        .map(|r| dof(r, "reference"))
+        .transpose()?;
+    if reference.is_some() && matches!(kind, SignalKind::Psd | SignalKind::Autopower) {
+        return Err(Error::usage(format!(
+            "--reference applies to rms, peak and cross spectra; {} has no phase",
+            kind.name()
+        )));
+    }
+    Ok(Job::Spectrum { kind, reference })
+}
+
 pub fn run(args: &Args, frf: bool) -> Result<Done> {
     let cmd = if frf { "estimate" } else { "spectrum" };
     let [path] = args.positional.as_slice() else {
@@ -196,26 +211,54 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
                 "rms" => SignalKind::Rms,
                 "peak" => SignalKind::Peak,
                 "cross" => SignalKind::Cross,
+                "esd" => SignalKind::Esd,
                 _ => {
                     return Err(Error::usage(format!(
-                        "--kind '{}': expected psd, autopower, rms, peak or cross",
+                        "--kind '{}': expected psd, autopower, rms, peak, cross or esd",
                         quote(&k)
                     )))
                 }
             },
         };
-        let reference = args
-            .value("reference")
-            .map(|r| dof(r, "reference"))
-            .transpose()?;
-        if reference.is_some() && matches!(kind, SignalKind::Psd | SignalKind::Autopower) {
-            return Err(Error::usage(format!(
-                "--reference applies to rms, peak and cross spectra; {} has no phase",
-                kind.name()
-            )));
+        let impact = impact_settings(args)?;
+        let inputs = args.values("input");
+        if kind == SignalKind::Esd {
+            let Some(settings) = impact else {
+                return Err(Error::usage(
+                    "--kind esd is the energy of impact records: give --trigger LEVEL, --record-length S and --input DOF (the channel the records are triggered on)",
+                ));
+            };
+            let [input] = inputs.as_slice() else {
+                return Err(Error::usage(format!(
+                    "--kind esd takes one --input, the channel the records are triggered on; {} were given",
+                    inputs.len()
+                )));
+            };
+            if args.value("reference").is_some() {
+                return Err(Error::usage(
+                    "--reference applies to rms, peak and cross spectra; an energy spectral density has no phase",
+                ));
+            }
+            Job::ImpactEnergy {
+                input: dof(input, "input")?,
+                settings,
+            }
+        } else {
+            if impact.is_some() {
+                return Err(Error::usage(format!(
+                    "--trigger makes impact records, which spectrum uses for --kind esd only; {} is averaged over Welch segments",
+                    kind.name()
+                )));
+            }
+            if !inputs.is_empty() {
+                return Err(Error::usage(
+                    "--input names the channel impact records are triggered on (--kind esd); the other spectra take --reference",
+                ));
+            }
+            spectrum_job(args, kind)?
         }
-        Job::Spectrum { kind, reference }
     };
+
     let name = io::file_stem(path);
     let shown = io::base_name(path);
     let specs: Vec<ChannelSpec> = args
@@ -305,7 +348,7 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
             })
         })
         .collect();
-    let impact = matches!(job, Job::Impact { .. });
+    let impact = job.is_impact();
     if args.flag("json") {
         let mut v = serde_json::json!({
             "file": out,

@@ -156,8 +156,10 @@ fn execute(
             uncertainties: &unc,
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
+        let mut extra_unc = Vec::new();
         let mut a = if propagating {
-            propagate(&step.op, &cx, &unc, &mut out).map_err(|e| e.within(label.clone()))?
+            propagate(&step.op, &cx, &unc, &mut out, &mut extra_unc)
+                .map_err(|e| e.within(label.clone()))?
         } else {
             None
         };
@@ -190,6 +192,14 @@ fn execute(
         }
         for (full, s) in &named {
             values.insert(full.clone(), s.clone());
+            unc.remove(full);
+        }
+        // the extras' uncertainties (a variant's scale of the step leaves
+        // its extras as they are, so theirs stay too)
+        for (suffix, ea) in extra_unc {
+            let full = format!("{}/{suffix}", step.id);
+            unc.insert(full.clone(), ea.uncertainty.clone());
+            assessed.insert(full, ea);
         }
         extras.insert(step.id.clone(), named);
         steps.push(out.report);
@@ -293,6 +303,9 @@ fn collect(
         for (full, s) in ex.extras.get(name).into_iter().flatten() {
             let mut s = s.clone();
             s.name = format!("{full}{suffix}");
+            if let Some(a) = ex.assessed.get(full) {
+                uncertainties.insert(s.name.clone(), a.clone());
+            }
             out.push(s);
         }
     }
@@ -339,6 +352,13 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         notes.push(format!("rule: {}", super::INFERENCE_RULE));
     }
     notes.extend(unc_notes);
+    if !recipe.tolerances.is_empty() {
+        let what: Vec<String> = recipe.tolerances.iter().map(|t| t.what()).collect();
+        notes.push(format!(
+            "the tolerances of {} are drawn by a Monte Carlo of the recipe (mortise run --monte-carlo N); this run uses the nominal values",
+            what.join("; ")
+        ));
+    }
     // the fitness audit of every FRF component, with common-practice limits;
     // its conditioning check is one SVD per line
     for (k, s) in comps.iter().filter(|(_, s)| s.signal.is_none()) {

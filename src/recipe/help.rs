@@ -77,6 +77,13 @@ pub fn schema_help() -> String {
     for (k, d) in super::SPEED_FIELDS {
         let _ = writeln!(s, "  {k:<10} {d}");
     }
+    let _ = writeln!(
+        s,
+        "\nTolerances (optional): \"tolerances\": [ {{\"scale\": \"NAME\", \"relative\": 0.15}}, ... ]: parameters\nknown within a tolerance, drawn by the recipe's Monte Carlo (mortise run --monte-carlo N,\nmortise sweep --monte-carlo N) with the components' stated uncertainty; a plain run uses\nthe nominal values and says so. Keys of each entry:"
+    );
+    for (k, d) in super::TOLERANCE_FIELDS {
+        let _ = writeln!(s, "  {k:<12} {d}");
+    }
     s
 }
 

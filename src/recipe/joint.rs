@@ -296,6 +296,22 @@ impl JointSpec {
         ))
     }
 
+    /// The value of numeric parameter `field` (k, c or eta) the recipe
+    /// gives this joint (None when its type has none, or an optional one is
+    /// not given).
+    pub fn param(&self, field: &str) -> Option<f64> {
+        match (&self.kind, field) {
+            (JointType::Spring { k }, "k") => Some(*k),
+            (JointType::Damper { c }, "c") => Some(*c),
+            (JointType::Hysteretic { k, .. }, "k") => Some(*k),
+            (JointType::Hysteretic { eta, .. }, "eta") => Some(*eta),
+            (JointType::SpringDamper { k, .. }, "k") => Some(*k),
+            (JointType::SpringDamper { c, .. }, "c") => *c,
+            (JointType::SpringDamper { eta, .. }, "eta") => *eta,
+            _ => None,
+        }
+    }
+
     /// This joint with one numeric parameter (`k`, `c` or `eta`) set to
     /// `value`: a variant's or a sweep point's `set_joints`. The field must
     /// belong to the joint's type (an optional one of `spring-damper` may be

@@ -27,6 +27,7 @@ mod ops;
 mod report;
 mod speed;
 mod sweep;
+mod tolerance;
 mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
@@ -46,6 +47,7 @@ pub use report::{
     UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
 pub use speed::{OrderForce, SpeedSource, SPEED_FIELDS};
+pub use tolerance::{Tolerance, TOLERANCE_FIELDS};
 pub use sweep::{
     merge_csv as merge_sweep_csv, run_sweep, slice as shard_slice, sweep_csv, sweep_headline,
     sweep_map_csv, PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS,
@@ -237,6 +239,9 @@ pub struct Recipe {
     /// The baseline at a list of points over one parameter.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub sweep: Option<SweepSpec>,
+    /// Parameters known within a tolerance, drawn by the recipe's Monte Carlo.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub tolerances: Vec<Tolerance>,
 }
 
 /// The recipe as written: the top level checked with line numbers, each
@@ -260,6 +265,8 @@ struct RawRecipe {
     outputs: Vec<String>,
     #[serde(default)]
     sweep: Option<serde_json::Value>,
+    #[serde(default)]
+    tolerances: Vec<serde_json::Value>,
 }
 
 /// Parse recipe text. Errors name the entry (`components.NAME`,
@@ -341,6 +348,16 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
             .within("sweep")
         })?),
     };
+    let mut tolerances = Vec::new();
+    for (i, v) in raw.tolerances.into_iter().enumerate() {
+        tolerances.push(serde_json::from_value::<Tolerance>(v).map_err(|e| {
+            Error::recipe(quote_upto(
+                &e.to_string().replace("unknown field", "unknown key"),
+                240,
+            ))
+            .within(format!("tolerances[{i}]"))
+        })?);
+    }
     let r = Recipe {
         format: raw.format,
         version: raw.version,
@@ -351,8 +368,10 @@ fn from_raw(raw: RawRecipe) -> Result<Recipe> {
         variants,
         outputs: raw.outputs,
         sweep,
+        tolerances,
     };
     check_names(&r)?;
+    tolerance::check_all(&r)?;
     if let Some(s) = &r.sweep {
         s.points(&r).map_err(|e| e.within("sweep"))?;
     }

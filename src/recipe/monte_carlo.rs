@@ -10,7 +10,8 @@
 //! components' name order) is the normal pair d·T + o_c + v (T the values of
 //! all those components, o_c those before `c`), times u/√2.
 
-use super::execute::{execute_plain, load_components_with};
+use super::execute::{execute_on, execute_plain, load_components_with};
+use super::tolerance::draw_variant;
 use super::uncertainty::component_uncertainties;
 use super::{FileSource, Recipe};
 use crate::error::{Error, Result};
@@ -94,9 +95,9 @@ fn prepare(
     super::check_names(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
     let (unc, _) = component_uncertainties(recipe, &comps)?;
-    if unc.is_empty() {
+    if unc.is_empty() && recipe.tolerances.is_empty() {
         return Err(Error::recipe(
-            "no component has an 'uncertainty' key: there is nothing to draw",
+            "no component has an 'uncertainty' key and the recipe has no 'tolerances': there is nothing to draw",
         ));
     }
     let nominal = level_values(&execute_plain(recipe, &comps, &unc, limits, files)?);
@@ -163,8 +164,9 @@ pub fn monte_carlo_draws(
     let rows = super::sweep::on_threads(&idx, threads, |&d| {
         let mut drawn = comps.clone();
         draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
-        let got = execute_plain(recipe, &drawn, &unc, limits, files)
-            .map_err(|e| e.within(format!("Monte Carlo draw {}", d + 1)))?;
+        let within = |e: Error| e.within(format!("Monte Carlo draw {}", d + 1));
+        let v = draw_variant(recipe, mc.seed, d).map_err(within)?;
+        let got = execute_on(recipe, &drawn, &unc, v.as_ref(), limits, files).map_err(within)?;
         Ok(super::sweep::SweepRow {
             index: d,
             value: d.to_string(),
@@ -214,9 +216,10 @@ pub fn monte_carlo_levels(
     let mut drawn = comps.clone();
     for d in 0..mc.draws {
         draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
+        let within = |e: Error| e.within(format!("Monte Carlo draw {}", d + 1));
+        let v = draw_variant(recipe, mc.seed, d).map_err(within)?;
         let got = level_values(
-            &execute_plain(recipe, &drawn, &unc, limits, files)
-                .map_err(|e| e.within(format!("Monte Carlo draw {}", d + 1)))?,
+            &execute_on(recipe, &drawn, &unc, v.as_ref(), limits, files).map_err(within)?,
         );
         for (p, (_, l)) in per.iter_mut().zip(&got) {
             if let Some(l) = l {
@@ -247,14 +250,29 @@ pub fn monte_carlo_levels(
         });
     }
     let names: Vec<String> = unc.keys().map(|k| format!("'{k}'")).collect();
+    let mut drawn_what = Vec::new();
+    if !names.is_empty() {
+        drawn_what.push(format!(
+            "{} with their stated uncertainty, lines and values independent",
+            names.join(", ")
+        ));
+    }
+    for t in &recipe.tolerances {
+        drawn_what.push(format!(
+            "the tolerance of {} ({} {} %)",
+            t.what(),
+            t.distribution.as_deref().unwrap_or("normal"),
+            100.0 * t.relative
+        ));
+    }
     Ok(RecipeMonteCarlo {
         draws: mc.draws,
         seed: mc.seed,
         method: format!(
-            "Monte Carlo of the whole recipe: {} draws (seed {}) of {} with their stated uncertainty, lines and values independent",
+            "Monte Carlo of the whole recipe: {} draws (seed {}) of {}",
             mc.draws,
             mc.seed,
-            names.join(", ")
+            drawn_what.join("; ")
         ),
         levels,
     })

@@ -77,6 +77,9 @@ fn first_order_work(lines: usize, rows: usize, cols: usize, m: usize, nr: usize)
 
 /// Propagate the uncertainty of a step's inputs to its result (the step has
 /// just run: `out`), and write the result's reliability into its report.
+/// The uncertainty of extra results (each path's contribution, blocked
+/// forces' validation and target predictions) goes to `extras`, by the
+/// extra's suffix.
 /// `None` when no input carries an uncertainty, or when the operation does
 /// not propagate one (a note says so).
 pub(crate) fn propagate(
@@ -84,6 +87,7 @@ pub(crate) fn propagate(
     cx: &Ctx,
     unc: &BTreeMap<String, FrfUncertainty>,
     out: &mut StepOutput,
+    extras: &mut Vec<(String, Assessed)>,
 ) -> Result<Option<Assessed>> {
     let reads = op.reads();
     let carried: Vec<&str> = reads
@@ -241,7 +245,18 @@ pub(crate) fn propagate(
             let (_, u) = uncertainty::respond_first_order(h, get(&p.frf), f, get(&p.excitation))?;
             let rel = assess_std(&out.set, &u, &opts);
             level_intervals(cx, out, &u)?;
-            path_spreads(cx, p, (get(&p.frf), get(&p.excitation)), out)?;
+            for (name, up) in path_spreads(cx, p, (get(&p.frf), get(&p.excitation)), out)? {
+                if let Some((_, set)) = out.extras.iter().find(|(e, _)| *e == name) {
+                    let r = assess_std(set, &up, &opts);
+                    extras.push((
+                        name,
+                        Assessed {
+                            uncertainty: up,
+                            reliability: r,
+                        },
+                    ));
+                }
+            }
             (u, rel)
         }
         Op::BlockedForces(bf) => {
@@ -265,6 +280,31 @@ pub(crate) fn propagate(
             let bands = prediction_bands(&b, &fo, op, get(&bf.operational));
             if let Some(r) = out.report.blocked.as_mut() {
                 r.prediction_bands = bands;
+            }
+            for (name, std) in [
+                ("validation-predicted", &fo.validation),
+                ("target-predicted", &fo.target),
+            ] {
+                let (Some(std), Some((_, set))) =
+                    (std, out.extras.iter().find(|(e, _)| e == name))
+                else {
+                    continue;
+                };
+                if std.len() != set.data.len() {
+                    continue;
+                }
+                let u = FrfUncertainty {
+                    std: std.clone(),
+                    method: format!("{} (the {name} responses)", fo.forces.method),
+                };
+                let r = assess_std(set, &u, &opts);
+                extras.push((
+                    name.to_string(),
+                    Assessed {
+                        uncertainty: u,
+                        reliability: r,
+                    },
+                ));
             }
             let rel = assess_std(&out.set, &fo.forces, &opts);
             (fo.forces, rel)
@@ -422,13 +462,14 @@ fn level_intervals(cx: &Ctx, out: &mut StepOutput, u: &FrfUncertainty) -> Result
 }
 
 /// Each path's 95 % level interval and the chance that it swaps ranks with
-/// the next path, at every target of a path analysis's overall ranking.
+/// the next path, at every target of a path analysis's overall ranking;
+/// returns each path's first-order uncertainty by its name.
 fn path_spreads(
     cx: &Ctx,
     p: &super::ops::Paths,
     (u_frf, u_exc): (Option<&FrfUncertainty>, Option<&FrfUncertainty>),
     out: &mut StepOutput,
-) -> Result<()> {
+) -> Result<Vec<(String, FrfUncertainty)>> {
     let h = cx.get("frf", &p.frf)?;
     let f = cx.get("excitation", &p.excitation)?;
     let c = crate::predict::paths::path_contributions(h, f, &p.path_groups()?)?;
@@ -444,7 +485,7 @@ fn path_spreads(
         ));
     }
     let Some(ranking) = out.report.ranking.as_mut() else {
-        return Ok(());
+        return Ok(Vec::new());
     };
     cx.check_work(
         "the paths' level intervals (a Monte Carlo over the lines of every path)",
@@ -476,7 +517,7 @@ fn path_spreads(
             }
         }
     }
-    Ok(())
+    Ok(c.paths.into_iter().zip(us).collect())
 }
 
 fn tsvd_of(op: &Op) -> Option<f64> {

@@ -134,6 +134,16 @@ pub enum Job {
         settings: ImpactSettings,
         estimator: Estimator,
     },
+    /// The energy spectral density of every channel over the triggered
+    /// impact records on `input` ([`crate::signal::impact::impact_esd`]).
+    ImpactEnergy { input: Dof, settings: ImpactSettings },
+}
+
+impl Job {
+    /// True for the jobs on triggered impact records.
+    pub fn is_impact(&self) -> bool {
+        matches!(self, Job::Impact { .. } | Job::ImpactEnergy { .. })
+    }
 }
 
 /// The result.
@@ -175,7 +185,9 @@ fn refs_of(channels: &[Channel], job: &Job) -> Result<Vec<usize>> {
         Job::Spectrum {
             reference: None, ..
         } => Vec::new(),
-        Job::Impact { input, .. } => vec![find(channels, input, "input")?],
+        Job::Impact { input, .. } | Job::ImpactEnergy { input, .. } => {
+            vec![find(channels, input, "input")?]
+        }
         Job::Frf { inputs, .. } => {
             let mut v = Vec::new();
             for d in inputs {
@@ -259,7 +271,9 @@ fn finish(
         Job::Spectrum { kind, .. } => {
             spectrum_sets(&a, &channels, *kind, refs.first().copied(), name, prov)?
         }
-        Job::Impact { .. } => return Err(Error::internal("impact records are not Welch averages")),
+        Job::Impact { .. } | Job::ImpactEnergy { .. } => {
+            return Err(Error::internal("impact records are not Welch averages"))
+        }
         Job::Frf { estimator, .. } => {
             let outputs: Vec<usize> = (0..channels.len()).filter(|c| !refs.contains(c)).collect();
             estimate(&a, &channels, refs, &outputs, *estimator, name, prov)?
@@ -309,6 +323,11 @@ pub fn analyse_recording(
     prov: &Provenance,
     limits: &Limits,
 ) -> Result<Analysed> {
+    if job.is_impact() {
+        // no full scale is known for a UFF or CSV channel: no overload flags
+        let over = vec![None; rec.channels.len()];
+        return impacts(rec, &over, job, name, prov, limits);
+    }
     let settings = averaging.settings()?;
     let refs = refs_of(&rec.channels, job)?;
     check_sizes(
@@ -448,7 +467,7 @@ pub fn analyse_wav<R: Read>(
     let info = wav.info.clone();
     let (channels, picks, notes) = pick_channels(&info, file, specs)?;
     let fs = info.sample_rate as f64;
-    if let Job::Impact { .. } = job {
+    if job.is_impact() {
         let (rec, over) = held(wav, file, channels, &picks, limits)?;
         let mut a = impacts(&rec, &over, job, name, prov, limits)?;
         a.notes.extend(notes);
@@ -490,13 +509,12 @@ fn impacts(
     prov: &Provenance,
     limits: &Limits,
 ) -> Result<Analysed> {
-    let Job::Impact {
-        input,
-        settings,
-        estimator,
-    } = job
-    else {
-        return Err(Error::internal("not an impact job"));
+    let (input, settings) = match job {
+        Job::Impact {
+            input, settings, ..
+        }
+        | Job::ImpactEnergy { input, settings } => (input, settings),
+        _ => return Err(Error::internal("not an impact job")),
     };
     let i = find(&rec.channels, input, "input")?;
     let len = (settings.length_s * rec.fs).round();
@@ -515,7 +533,12 @@ fn impacts(
         "the impact records",
         records * rec.channels.len() as f64 * len * (2.5 * len.log2() + 12.0),
     )?;
-    let (sets, hits, notes) = impact_frf(rec, i, over, settings, *estimator, name, prov)?;
+    let (sets, hits, notes) = match job {
+        Job::Impact { estimator, .. } => {
+            impact_frf(rec, i, over, settings, *estimator, name, prov)?
+        }
+        _ => crate::signal::impact::impact_esd(rec, i, over, settings, name, prov)?,
+    };
     let segments = hits
         .iter()
         .filter(|h| h.double_hit.is_none() && h.overloaded.is_empty())

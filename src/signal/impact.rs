@@ -28,7 +28,7 @@ use super::recording::Recording;
 use super::welch::{Detrend, Welch, WelchSettings};
 use super::window::Window;
 use crate::error::{Error, Result};
-use crate::frf::{FrfSet, Provenance};
+use crate::frf::{FrfSet, Provenance, SignalKind};
 
 /// How hits are found and records cut.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -171,17 +171,16 @@ pub fn find_hits(
     Ok((hits, notes))
 }
 
-/// FRFs from `input` to every other channel, averaged over the hits with
-/// neither a double hit nor an overload; the notes name every hit left out.
-pub fn impact_frf(
+/// The accepted records' averages (rectangular window: each record one
+/// segment, force and exponential windows applied to the data), the hits,
+/// the notes naming every hit left out, how many were averaged, and the
+/// processing in words for the provenance.
+fn accepted_records(
     rec: &Recording,
     input: usize,
     limits: &[Option<f64>],
     s: &ImpactSettings,
-    estimator: Estimator,
-    name: &str,
-    source: &Provenance,
-) -> Result<(Vec<FrfSet>, Vec<Hit>, Vec<String>)> {
+) -> Result<(super::welch::Averaged, Vec<Hit>, Vec<String>, String)> {
     let fs = rec.fs;
     let (len, _) = s.check(fs)?;
     let (hits, mut notes) = find_hits(&rec.samples, input, limits, fs, s)?;
@@ -255,11 +254,8 @@ pub fn impact_frf(
         )));
     }
     let a = welch.finish()?;
-    let outputs: Vec<usize> = (0..rec.channels.len()).filter(|&c| c != input).collect();
-    let mut prov = source.clone();
     let what = format!(
-        "{} from {used} of {} impact records: trigger {} at {}, pre-trigger {} s, length {} s, force window {}, exponential window {}, double hit at {} of the peak",
-        estimator.name(),
+        "{used} of {} impact records: trigger {} at {}, pre-trigger {} s, length {} s, force window {}, exponential window {}, double hit at {} of the peak",
         hits.len(),
         s.level,
         rec.channels[input].dof,
@@ -269,11 +265,33 @@ pub fn impact_frf(
         s.decay_s.map_or("none".into(), |t| format!("tau {t} s")),
         s.double_hit_fraction
     );
+    Ok((a, hits, notes, what))
+}
+
+fn with_options(source: &Provenance, what: String) -> Provenance {
+    let mut prov = source.clone();
     prov.options = if prov.options.is_empty() {
         what
     } else {
         format!("{}; {what}", prov.options)
     };
+    prov
+}
+
+/// FRFs from `input` to every other channel, averaged over the hits with
+/// neither a double hit nor an overload; the notes name every hit left out.
+pub fn impact_frf(
+    rec: &Recording,
+    input: usize,
+    limits: &[Option<f64>],
+    s: &ImpactSettings,
+    estimator: Estimator,
+    name: &str,
+    source: &Provenance,
+) -> Result<(Vec<FrfSet>, Vec<Hit>, Vec<String>)> {
+    let (a, hits, notes, what) = accepted_records(rec, input, limits, s)?;
+    let prov = with_options(source, format!("{} from {what}", estimator.name()));
+    let outputs: Vec<usize> = (0..rec.channels.len()).filter(|&c| c != input).collect();
     let mut sets = estimate(
         &a,
         &rec.channels,
@@ -284,6 +302,42 @@ pub fn impact_frf(
         &Provenance::default(),
     )?;
     for set in &mut sets {
+        set.provenance = vec![prov.clone()];
+    }
+    Ok((sets, hits, notes))
+}
+
+/// The energy spectral density of every channel over the accepted records
+/// (the mean energy of a record per hertz, one-sided, unit²·s/Hz): the
+/// records' mean autopower times the record length T squared, since the
+/// autopower of a line is its mean square over T and a line is 1/T wide.
+/// So the ESD integrates over frequency to the mean energy of a record,
+/// Σ x² Δt (Parseval). Each set is one quantity's channels.
+pub fn impact_esd(
+    rec: &Recording,
+    input: usize,
+    limits: &[Option<f64>],
+    s: &ImpactSettings,
+    name: &str,
+    source: &Provenance,
+) -> Result<(Vec<FrfSet>, Vec<Hit>, Vec<String>)> {
+    let (a, hits, notes, what) = accepted_records(rec, input, limits, s)?;
+    let prov = with_options(source, format!("energy spectral density of {what}"));
+    let (len, _) = s.check(rec.fs)?;
+    let t = len as f64 / rec.fs;
+    let mut sets = super::spectra::spectrum_sets(
+        &a,
+        &rec.channels,
+        SignalKind::Autopower,
+        None,
+        name,
+        &Provenance::default(),
+    )?;
+    for set in &mut sets {
+        for v in &mut set.data {
+            *v *= t * t;
+        }
+        set.signal = Some(SignalKind::Esd);
         set.provenance = vec![prov.clone()];
     }
     Ok((sets, hits, notes))

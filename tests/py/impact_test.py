@@ -86,5 +86,19 @@ coh = np.abs(sfx) ** 2 / (sff * sxx)
 fr = np.fft.rfftfreq(L, 1 / fs)
 _, ht = signal.freqz(b, a, worN=fr, fs=fs)
 c = lambda z: {"re": np.real(z[1:]).tolist(), "im": np.imag(z[1:]).tolist()}
+# energy spectral density, one-sided (DC and, L even, Nyquist once), the
+# mean over the accepted records: 2|X|^2 dt^2; and each record's energy
+# sum(x^2) dt (Parseval: the ESD integrates to it over df = fs / L)
+dt = 1.0 / fs
+one_sided = np.full(L // 2 + 1, 2.0)
+one_sided[0] = 1.0
+if L % 2 == 0:
+    one_sided[-1] = 1.0
+esd_f = (one_sided * np.abs(F) ** 2 * dt * dt).mean(0)
+esd_x = (one_sided * np.abs(X) ** 2 * dt * dt).mean(0)
+energy_f = float(np.mean([np.sum((f[s:s + L] * wf * we) ** 2) * dt for s in used]))
+energy_x = float(np.mean([np.sum((x[s:s + L] * we) ** 2) * dt for s in used]))
 print(json.dumps({"fs": fs, "n": n, "limit": limit, "resp_full": resp_full, "hits": found, "used": len(used),
-                  "freqs": fr[1:].tolist(), "h1": c(h1), "coherence": coh[1:].tolist(), "true": c(ht)}))
+                  "freqs": fr[1:].tolist(), "h1": c(h1), "coherence": coh[1:].tolist(), "true": c(ht),
+                  "record": L, "esd_force": esd_f.tolist(), "esd_resp": esd_x.tolist(),
+                  "energy_force": energy_f, "energy_resp": energy_x}))
