@@ -284,6 +284,16 @@ pub enum SignalKind {
 }
 
 impl SignalKind {
+    /// Every kind.
+    pub const ALL: [SignalKind; 6] = [
+        SignalKind::Peak,
+        SignalKind::Rms,
+        SignalKind::Autopower,
+        SignalKind::Psd,
+        SignalKind::Cross,
+        SignalKind::Esd,
+    ];
+
     pub fn name(self) -> &'static str {
         match self {
             SignalKind::Peak => "peak",

@@ -549,5 +549,8 @@ fn mortise_run_writes_the_in_situ_report_and_predictions() {
         .zip(&ut)
         .map(|(a, b)| (a - b).abs() / b.abs().max(1e-300))
         .fold(0.0, f64::max);
-    assert!(worst < 1e-9, "written target uncertainty vs first order: {worst}");
+    assert!(
+        worst < 1e-9,
+        "written target uncertainty vs first order: {worst}"
+    );
 }

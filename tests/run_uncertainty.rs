@@ -127,7 +127,9 @@ fn demo_with_stated_uncertainty_reports_interval_reliability_and_files() {
     let path_files = std::fs::read_dir(&out)
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .filter(|n| n.starts_with("bedroom") && n.contains("wall") && n.ends_with(".uncertainty.csv"))
+        .filter(|n| {
+            n.starts_with("bedroom") && n.contains("wall") && n.ends_with(".uncertainty.csv")
+        })
         .count();
     assert_eq!(path_files, 4);
 }
@@ -607,7 +609,10 @@ fn tolerance_monte_carlo_gives_the_normal_quantiles() {
         printed.contains("the tolerances of scale 'room' are drawn by a Monte Carlo"),
         "{printed}"
     );
-    assert!(printed.contains("bedroom at room:bed: 43.2 dB(A)"), "{printed}");
+    assert!(
+        printed.contains("bedroom at room:bed: 43.2 dB(A)"),
+        "{printed}"
+    );
     cli(&["run", rp, "-o", op, "--monte-carlo", "400", "--seed", "3"]).unwrap();
     let report: Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap()).unwrap();

@@ -973,15 +973,9 @@ impl At<'_> {
                 })
                 .collect::<Result<Vec<_>>>()?,
         };
-        const KINDS: [SignalKind; 4] = [
-            SignalKind::Peak,
-            SignalKind::Rms,
-            SignalKind::Autopower,
-            SignalKind::Psd,
-        ];
         let signal = match m.get("signal") {
             None | Some(Value::Null) => None,
-            Some(v) => Some(self.named("signal", v, &KINDS, "a spectrum kind")?),
+            Some(v) => Some(self.named("signal", v, &SignalKind::ALL, "a spectrum kind")?),
         };
         let set = FrfSet {
             name,

@@ -223,21 +223,21 @@ impl TryFrom<ImportOptionsJson> for ImportOptions {
 }
 
 /// The one parser of spectrum kinds, for every face and file: `peak`,
-/// `rms`, `autopower` or `psd` (any case).
+/// `rms`, `autopower`, `psd`, `cross` or `esd` (any case): every kind a
+/// set can hold, so whatever mortise writes reads back.
 pub fn parse_signal(text: &str) -> Result<SignalKind> {
-    Ok(match text.trim().to_ascii_lowercase().as_str() {
-        "peak" => SignalKind::Peak,
-        "rms" => SignalKind::Rms,
-        "autopower" => SignalKind::Autopower,
-        "psd" => SignalKind::Psd,
-        _ => {
-            return Err(Error::usage(format!(
-                "unknown signal kind '{}'; expected peak, rms, autopower or psd",
+    let t = text.trim().to_ascii_lowercase();
+    SignalKind::ALL
+        .iter()
+        .copied()
+        .find(|k| k.name() == t)
+        .ok_or_else(|| {
+            Error::usage(format!(
+                "unknown signal kind '{}'; expected peak, rms, autopower, psd, cross or esd",
                 crate::error::quote(text)
             ))
-            .field("signal"))
-        }
-    })
+            .field("signal")
+        })
 }
 
 /// One declaration from the import options' `signal` and a column map's

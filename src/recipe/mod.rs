@@ -47,12 +47,12 @@ pub use report::{
     UncertaintyReport, ValidationReport, VariantReport, REPORT_FORMAT, REPORT_VERSION,
 };
 pub use speed::{OrderForce, SpeedSource, SPEED_FIELDS};
-pub use tolerance::{Tolerance, TOLERANCE_FIELDS};
 pub use sweep::{
     merge_csv as merge_sweep_csv, run_sweep, slice as shard_slice, sweep_csv, sweep_headline,
     sweep_map_csv, PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS,
     SWEEP_CSV_MAGIC, SWEEP_FIELDS,
 };
+pub use tolerance::{Tolerance, TOLERANCE_FIELDS};
 pub use uncertainty::Assessed;
 
 use crate::error::{quote, quote_upto, Error, Result};

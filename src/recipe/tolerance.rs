@@ -133,7 +133,8 @@ impl Tolerance {
             }
             (None, false) => {
                 for (i, key) in self.set_joints.iter().enumerate() {
-                    let nominal = nominal(r, key).map_err(|e| e.field(format!("set_joints[{i}]")))?;
+                    let nominal =
+                        nominal(r, key).map_err(|e| e.field(format!("set_joints[{i}]")))?;
                     // the extreme factors the distribution allows stay valid
                     for f in [1.0 - 4.0 * rel, 1.0 + 4.0 * rel] {
                         let f = if shape == Shape::Uniform {
@@ -206,7 +207,8 @@ fn nominal(r: &Recipe, key: &str) -> Result<f64> {
 /// Check every tolerance (errors name `tolerances[i]`).
 pub(crate) fn check_all(r: &Recipe) -> Result<()> {
     for (i, t) in r.tolerances.iter().enumerate() {
-        t.check(r).map_err(|e| e.within(format!("tolerances[{i}]")))?;
+        t.check(r)
+            .map_err(|e| e.within(format!("tolerances[{i}]")))?;
     }
     Ok(())
 }
@@ -255,9 +257,18 @@ mod tests {
     #[test]
     fn bad_tolerances_are_refused_naming_the_field() {
         for (t, says) in [
-            (serde_json::json!({"scale": "isolator", "relative": -0.1}), "tolerances[0]: relative"),
-            (serde_json::json!({"scale": "isolator", "relative": 0}), "above 0"),
-            (serde_json::json!({"scale": "isolator", "relative": 0.3}), "at most 0.25"),
+            (
+                serde_json::json!({"scale": "isolator", "relative": -0.1}),
+                "tolerances[0]: relative",
+            ),
+            (
+                serde_json::json!({"scale": "isolator", "relative": 0}),
+                "above 0",
+            ),
+            (
+                serde_json::json!({"scale": "isolator", "relative": 0.3}),
+                "at most 0.25",
+            ),
             (
                 serde_json::json!({"scale": "isolator", "relative": 1.0, "distribution": "uniform"}),
                 "below 1",
@@ -266,15 +277,24 @@ mod tests {
                 serde_json::json!({"scale": "isolator", "relative": 0.1, "distribution": "lognormal"}),
                 "'lognormal' is not a distribution",
             ),
-            (serde_json::json!({"scale": "nothing", "relative": 0.1}), "'nothing' is not a component"),
+            (
+                serde_json::json!({"scale": "nothing", "relative": 0.1}),
+                "'nothing' is not a component",
+            ),
             (serde_json::json!({"relative": 0.1}), "nothing to vary"),
             (
                 serde_json::json!({"scale": "isolator", "set_joints": ["mounted#0.k"], "relative": 0.1}),
                 "not both",
             ),
             // the demo's isolators are measured joints: no number to vary
-            (serde_json::json!({"set_joints": ["mounted#0.k"], "relative": 0.1}), "set_joints[0]"),
-            (serde_json::json!({"scale": "isolator", "relative": 0.1, "spread": 2}), "unknown key"),
+            (
+                serde_json::json!({"set_joints": ["mounted#0.k"], "relative": 0.1}),
+                "set_joints[0]",
+            ),
+            (
+                serde_json::json!({"scale": "isolator", "relative": 0.1, "spread": 2}),
+                "unknown key",
+            ),
         ] {
             let e = refused(t.clone());
             assert!(e.contains(says), "{t}: {e}");
@@ -297,8 +317,14 @@ mod tests {
             let f: Vec<f64> = (0..n).map(|d| t.factor(5, d, 0, 1)).collect();
             let m = f.iter().sum::<f64>() / n as f64;
             let s = (f.iter().map(|x| (x - m) * (x - m)).sum::<f64>() / (n - 1) as f64).sqrt();
-            assert!((m - 1.0).abs() < 4.0 * sd / (n as f64).sqrt(), "{dist} mean {m}");
-            assert!((s / sd - 1.0).abs() < 4.0 / (2.0 * n as f64).sqrt() * 1.5, "{dist} sd {s}");
+            assert!(
+                (m - 1.0).abs() < 4.0 * sd / (n as f64).sqrt(),
+                "{dist} mean {m}"
+            );
+            assert!(
+                (s / sd - 1.0).abs() < 4.0 / (2.0 * n as f64).sqrt() * 1.5,
+                "{dist} sd {s}"
+            );
             if dist == "uniform" {
                 assert!(f.iter().all(|x| (x - 1.0).abs() <= r));
             }

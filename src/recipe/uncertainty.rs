@@ -285,8 +285,7 @@ pub(crate) fn propagate(
                 ("validation-predicted", &fo.validation),
                 ("target-predicted", &fo.target),
             ] {
-                let (Some(std), Some((_, set))) =
-                    (std, out.extras.iter().find(|(e, _)| e == name))
+                let (Some(std), Some((_, set))) = (std, out.extras.iter().find(|(e, _)| e == name))
                 else {
                     continue;
                 };

@@ -136,7 +136,10 @@ pub enum Job {
     },
     /// The energy spectral density of every channel over the triggered
     /// impact records on `input` ([`crate::signal::impact::impact_esd`]).
-    ImpactEnergy { input: Dof, settings: ImpactSettings },
+    ImpactEnergy {
+        input: Dof,
+        settings: ImpactSettings,
+    },
 }
 
 impl Job {

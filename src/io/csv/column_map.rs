@@ -283,7 +283,7 @@ pub fn map_from_json(mut v: serde_json::Value) -> Result<(ColumnMap, Option<Sign
         }
         Some(other) => {
             return Err(Error::usage(format!(
-                "column_map.signal is {}; expected peak, rms, autopower or psd",
+                "column_map.signal is {}; expected peak, rms, autopower, psd, cross or esd",
                 crate::error::quote(&other.to_string())
             ))
             .field("column_map.signal"))
