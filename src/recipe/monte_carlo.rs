@@ -140,6 +140,28 @@ fn draw_into(
     }
 }
 
+/// Draw `d`: the uncertain components drawn into `drawn` and the
+/// tolerances' factors as a variant, and the steps run on them.
+#[allow(clippy::too_many_arguments)]
+fn run_draw(
+    recipe: &Recipe,
+    (comps, unc, total): (
+        &BTreeMap<String, FrfSet>,
+        &BTreeMap<String, FrfUncertainty>,
+        u64,
+    ),
+    drawn: &mut BTreeMap<String, FrfSet>,
+    seed: u64,
+    d: usize,
+    limits: &Limits,
+    files: &dyn FileSource,
+) -> Result<Vec<super::report::StepReport>> {
+    draw_into(drawn, comps, unc, seed, d, total);
+    let within = |e: Error| e.within(format!("Monte Carlo draw {}", d + 1));
+    let v = draw_variant(recipe, seed, d).map_err(within)?;
+    execute_on(recipe, drawn, unc, v.as_ref(), limits, files).map_err(within)
+}
+
 /// The levels of draws `range` of an `draws`-draw Monte Carlo (seed
 /// `seed`) as a sweep over the draw index: each row one draw's every
 /// response and path-total level, the value its index. Each draw depends on
@@ -163,10 +185,15 @@ pub fn monte_carlo_draws(
     let idx: Vec<usize> = range.clone().collect();
     let rows = super::sweep::on_threads(&idx, threads, |&d| {
         let mut drawn = comps.clone();
-        draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
-        let within = |e: Error| e.within(format!("Monte Carlo draw {}", d + 1));
-        let v = draw_variant(recipe, mc.seed, d).map_err(within)?;
-        let got = execute_on(recipe, &drawn, &unc, v.as_ref(), limits, files).map_err(within)?;
+        let got = run_draw(
+            recipe,
+            (&comps, &unc, total),
+            &mut drawn,
+            mc.seed,
+            d,
+            limits,
+            files,
+        )?;
         Ok(super::sweep::SweepRow {
             index: d,
             value: d.to_string(),
@@ -215,12 +242,15 @@ pub fn monte_carlo_levels(
     let mut per: Vec<Vec<f64>> = vec![Vec::with_capacity(mc.draws); nominal.len()];
     let mut drawn = comps.clone();
     for d in 0..mc.draws {
-        draw_into(&mut drawn, &comps, &unc, mc.seed, d, total);
-        let within = |e: Error| e.within(format!("Monte Carlo draw {}", d + 1));
-        let v = draw_variant(recipe, mc.seed, d).map_err(within)?;
-        let got = level_values(
-            &execute_on(recipe, &drawn, &unc, v.as_ref(), limits, files).map_err(within)?,
-        );
+        let got = level_values(&run_draw(
+            recipe,
+            (&comps, &unc, total),
+            &mut drawn,
+            mc.seed,
+            d,
+            limits,
+            files,
+        )?);
         for (p, (_, l)) in per.iter_mut().zip(&got) {
             if let Some(l) = l {
                 p.push(*l);
