@@ -110,7 +110,8 @@ pub struct RecordingSummary {
     pub samples: usize,
     pub duration_s: f64,
     pub channels: Vec<RecordingChannel>,
-    /// Bytes of samples held (8 a sample).
+    /// Bytes held: the samples (8 a sample) and, for a WAV file or a time
+    /// CSV, the file's own bytes (kept for recipes and bundles).
     pub held_bytes: u64,
     /// How the file was read (channels left out, the WAV's layout).
     pub notes: Vec<String>,

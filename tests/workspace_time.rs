@@ -204,6 +204,25 @@ fn recordings_are_refused_beyond_the_budget_and_requests_are_checked() {
     assert!(e.message.contains("1048576 bytes"), "{}", e.message);
     assert!(ws.recording("first.wav").is_ok());
     assert!(ws.recording("second.wav").is_err());
+    // room for both recordings' samples but not for their files' bytes,
+    // which the workspace keeps too (for recipes and bundles): refused
+    l.memory_bytes = 2 * (2 * 65536 * 8) + 1000;
+    assert!(bytes.len() > 1000);
+    ws.set_limits(l).unwrap();
+    let e = ws
+        .load_file("second.wav", &bytes, chans.clone())
+        .unwrap_err();
+    assert_eq!(e.kind, ErrorKind::Budget);
+    assert!(
+        e.message
+            .contains(&format!("the file's {} bytes", bytes.len())),
+        "{}",
+        e.message
+    );
+    l.memory_bytes = 2 * (2 * 65536 * 8 + bytes.len()) as u64;
+    ws.set_limits(l).unwrap();
+    ws.load_file("second.wav", &bytes, chans.clone()).unwrap();
+    ws.forget_file("second.wav");
     // without channel descriptions: refused, naming the field
     let e = ws.load_file("third.wav", &bytes, json!({})).unwrap_err();
     assert_eq!(e.field.as_deref(), Some("channels"));
@@ -269,4 +288,88 @@ fn recordings_are_refused_beyond_the_budget_and_requests_are_checked() {
     assert!(d.summary.contains("15 analysis block(s)"), "{}", d.summary);
     ws.forget_file("first.wav");
     assert!(ws.recording("first.wav").is_err());
+}
+
+/// A bundle whose inputs are recordings (a WAV with its channel
+/// descriptions, a UFF 58 time-response file) reopens in a fresh workspace:
+/// the recordings come back as recordings (same samples' hash, same
+/// channels), and the recipe run from the opened bundle gives the same
+/// results bit for bit. With the WAV withheld, the bundle opens, names it
+/// as missing, and dropping the same file in again restores the run.
+/// (The check is against the first run's own numbers: a bundle that cannot
+/// reopen, or reopens with different numbers, is lost data.)
+#[test]
+fn a_bundle_with_recordings_reopens_and_reruns_to_the_same_bits() {
+    let dir = common::scratch("workspace_time_bundle");
+    common::run_py("time_files.py", &[dir.to_str().unwrap()]);
+    let recipe = r#"{
+      "format": "mortise-recipe", "version": 1,
+      "title": "bench recording in a bundle",
+      "components": {},
+      "steps": [
+        {"id": "frf", "op": "estimate-frf", "file": "rig.uff", "inputs": ["rig:1+Z"], "segment": 1024},
+        {"id": "wavfrf", "op": "estimate-frf", "file": "rig.wav", "inputs": ["rig:1+Z"], "segment": 1024,
+         "channels": ["1=rig:1+Z force 100 N", "2=rig:2+Z acceleration 50 m/s^2"]}
+      ],
+      "outputs": ["frf", "wavfrf"]
+    }"#;
+    let wav = std::fs::read(dir.join("rig.wav")).unwrap();
+    let uff = std::fs::read(dir.join("rig.uff")).unwrap();
+    let channels =
+        json!({"channels": ["1=rig:1+Z force 100 N", "2=rig:2+Z acceleration 50 m/s^2"]});
+    let mut ws = Workspace::new();
+    ws.load_file("rig.wav", &wav, channels.clone()).unwrap();
+    ws.load_file("rig.uff", &uff, json!({})).unwrap();
+    ws.run_recipe(recipe).unwrap();
+    let first: Vec<_> = ws.results().0.into_iter().cloned().collect();
+    assert_eq!(first.len(), 2);
+
+    // everything included
+    let made = ws
+        .make_bundle(recipe, &mortise::workspace::BundleOptions::default())
+        .unwrap();
+    assert!(made.withheld.is_empty(), "{:?}", made.withheld);
+    let mut back = Workspace::new();
+    let opened = back
+        .open_bundle("rig.bundle.json", &made.bytes)
+        .expect("a bundle holding a WAV and a UFF time file reopens");
+    assert!(opened.missing.is_empty(), "{:?}", opened.missing);
+    for name in ["rig.wav", "rig.uff"] {
+        let a = ws.recording(name).unwrap();
+        let b = back
+            .recording(name)
+            .unwrap_or_else(|e| panic!("{name} is a recording again: {e}"));
+        assert_eq!(a.channels, b.channels, "{name}: channels");
+        assert_eq!(a.fs, b.fs, "{name}: rate");
+        assert_eq!(a.samples, b.samples, "{name}: samples");
+    }
+    back.run_recipe(recipe).unwrap();
+    let again: Vec<_> = back.results().0.into_iter().cloned().collect();
+    assert_eq!(again.len(), 2);
+    for (x, y) in first.iter().zip(&again) {
+        assert_eq!(x.name, y.name);
+        assert_eq!(x.data, y.data, "{}: bit for bit", x.name);
+    }
+
+    // the WAV withheld: the bundle opens, names it; supplied again, it runs
+    let mut opts = mortise::workspace::BundleOptions::default();
+    opts.include_raw.insert("rig.wav".into(), false);
+    let made = ws.make_bundle(recipe, &opts).unwrap();
+    assert_eq!(made.withheld, vec!["rig.wav".to_string()]);
+    let mut back = Workspace::new();
+    let opened = back.open_bundle("rig.bundle.json", &made.bytes).unwrap();
+    assert_eq!(opened.missing, vec!["rig.wav".to_string()]);
+    let e = back.run_recipe(recipe).unwrap_err();
+    assert!(e.to_string().contains("rig.wav"), "{e}");
+    back.load_file("rig.wav", &wav, channels).unwrap();
+    assert!(back.missing_inputs().is_empty());
+    back.run_recipe(recipe).unwrap();
+    let again: Vec<_> = back.results().0.into_iter().cloned().collect();
+    for (x, y) in first.iter().zip(&again) {
+        assert_eq!(
+            x.data, y.data,
+            "{}: bit for bit after supplying the WAV",
+            x.name
+        );
+    }
 }

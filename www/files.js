@@ -219,6 +219,14 @@ function renderCards() {
         el('dl', { class: 'kv' }, el('dt', {}, 'SHA-256'), el('dd', { class: 'sha' }, inp.sha256)),
         inp.withheld ? el('div', { class: 'warn' }, 'raw data withheld by the sender; drop the original file here to re-run (its SHA-256 must match)') : null,
         ...inp.sets.map(setBlock));
+      // a recording carried in the bundle: its time view and analyses, as a
+      // dropped file's (the entry keeps its choices between redraws)
+      if (inp.recording) {
+        S.bundle.recordings ||= {};
+        const entry = S.bundle.recordings[inp.name] ||= { name: inp.name, fromBundle: true };
+        entry.summary = { recording: inp.recording };
+        card.append(recordingBlock(entry));
+      }
       box.append(card);
     }
   }

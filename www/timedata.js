@@ -45,7 +45,7 @@ function recordingBlock(f) {
     el('dt', {}, 'kind'), el('dd', {}, `recording (${rec.format})`),
     el('dt', {}, 'sampling'), el('dd', {}, `${fmt(rec.sample_rate_hz)} Hz, ${rec.samples} samples, ${fmt(rec.duration_s)} s`),
     el('dt', {}, 'channels'), el('dd', { class: 'dofs' }, rec.channels.map((c) => `${c.dof} ${c.quantity} [${c.unit}] (${fmt(c.min)} to ${fmt(c.max)})`).join('; ')),
-    el('dt', {}, 'held'), el('dd', {}, `${rec.held_bytes} bytes of samples`)),
+    el('dt', {}, 'held'), el('dd', {}, `${rec.held_bytes} bytes (the samples at 8 bytes each; a WAV or time CSV keeps its file too)`)),
     ...rec.notes.map((n) => el('div', { class: 'help' }, n)));
   if (!timeOptions) { timeVocabulary().then(() => renderCards()); return box; }
   const t = timeState(f);

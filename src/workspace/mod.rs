@@ -140,6 +140,10 @@ pub struct OpenedInput {
     /// Loaded again from a file the user gave (SHA-256 checked).
     pub supplied: bool,
     pub sets: Vec<SetSummary>,
+    /// Time data the input holds, read again as a recording (none when a
+    /// loaded file of the same name holds its own).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub recording: Option<crate::summary::RecordingSummary>,
 }
 
 fn import_options(value: &serde_json::Value) -> Result<ImportOptions> {
@@ -836,6 +840,16 @@ impl Workspace {
         let mut new_inputs = BTreeMap::new();
         let mut inputs = Vec::new();
         let mut missing = Vec::new();
+        let mut notes = checked.notes;
+        // recordings among the inputs (WAV, time CSV, UFF time histories),
+        // held beside those of the loaded files within the memory budget
+        let mut new_recordings: Vec<(String, time::WsRecording)> = Vec::new();
+        let loaded_held: u64 = self
+            .recordings
+            .iter()
+            .filter(|(n, _)| self.files.contains_key(*n))
+            .map(|(_, r)| r.summary.held_bytes)
+            .sum();
         for inp in &b.inputs {
             // checked against the recorded SHA-256 by bundle::read_checked
             let raw = inp.bytes().map_err(|e| e.in_file(name))?;
@@ -852,15 +866,53 @@ impl Workspace {
                         );
                         e.in_file(inp.name.as_str())
                     };
-                    let opts = import_options(&inp.options).map_err(carried)?;
+                    // held recordings' bytes besides this input's
+                    let others = new_recordings
+                        .iter()
+                        .map(|(_, w)| w.summary.held_bytes)
+                        .fold(loaded_held, u64::saturating_add);
+                    // a loaded file of the same name keeps its own recording
+                    let hold = !self.files.contains_key(&inp.name);
+                    let mut held = |rec, format: &str, raw: u64, notes| {
+                        if hold {
+                            let summary = time::recording_summary(
+                                &inp.name,
+                                format,
+                                inp.sha256.clone(),
+                                raw,
+                                &rec,
+                                notes,
+                            );
+                            new_recordings
+                                .push((inp.name.clone(), time::WsRecording { rec, summary }));
+                        }
+                    };
                     if crate::vpt::geometry::looks_like_geometry(r) {
                         // a geometry file: checked by reading it; it holds no sets
                         crate::vpt::Geometry::from_csv(r, &inp.name).map_err(carried)?;
                         Vec::new()
+                    } else if io::wav::looks_like_wav(r) || io::time_csv::looks_like_time_csv(r) {
+                        // a recording: read with its own options, as when loaded
+                        let (rec, format, rec_notes) = self
+                            .read_recording(&inp.name, r, &inp.options, others)
+                            .map_err(carried)?;
+                        held(rec, &format, r.len() as u64, rec_notes);
+                        Vec::new()
                     } else {
-                        io::load_with_limits(r, &inp.name, &opts, &self.limits)
-                            .map_err(carried)?
-                            .sets
+                        let opts = import_options(&inp.options).map_err(carried)?;
+                        let loaded = io::load_with_limits(r, &inp.name, &opts, &self.limits)
+                            .map_err(carried)?;
+                        if !loaded.time_histories.is_empty() {
+                            match self.read_uff_recording(&inp.name, &loaded.time_histories, others) {
+                                Ok(rec) => held(rec, loaded.format.name(), 0, Vec::new()),
+                                Err(e) if loaded.sets.is_empty() => return Err(carried(e)),
+                                Err(e) => notes.push(format!(
+                                    "input '{}': the time histories are not held as a recording: {e}",
+                                    crate::error::quote(&inp.name)
+                                )),
+                            }
+                        }
+                        loaded.sets
                     }
                 }
                 (None, Some(s)) => s.clone(),
@@ -889,6 +941,10 @@ impl Workspace {
                 withheld: inp.withheld(),
                 supplied,
                 sets: summaries,
+                recording: new_recordings
+                    .last()
+                    .filter(|(n, _)| *n == inp.name)
+                    .map(|(_, w)| w.summary.clone()),
             });
             new_inputs.insert(
                 inp.name.clone(),
@@ -903,6 +959,10 @@ impl Workspace {
         }
         self.drop_prefix("bundle:");
         self.sets.extend(new_sets);
+        // the last bundle's recordings go (a loaded file's stay)
+        let files = &self.files;
+        self.recordings.retain(|n, _| files.contains_key(n));
+        self.recordings.extend(new_recordings);
         self.bundle_inputs = new_inputs;
         self.bundle_name = Some(name.to_string());
         self.bundle_recipe = b.recipe.clone();
@@ -961,7 +1021,7 @@ impl Workspace {
             missing,
             version: b.version,
             content_sha256: checked.content_sha256,
-            notes: checked.notes,
+            notes,
         })
     }
 

@@ -331,24 +331,36 @@ impl Workspace {
             .sum()
     }
 
-    /// Check a recording of `new_bytes` against the memory budget together
-    /// with those held; the error names the file and the sizes.
-    fn check_recording_room(&self, name: &str, new_bytes: Option<u64>) -> Result<()> {
-        let others = self.recordings_bytes(name);
-        let total = new_bytes.and_then(|b| b.checked_add(others));
-        let what = if others > 0 {
-            format!(
-                "the recording {} ({} bytes of samples, 8 a sample) with the {others} bytes of the recordings already held",
-                quote(name),
-                new_bytes.map_or("too many".to_string(), |b| b.to_string())
-            )
-        } else {
-            format!(
-                "the recording {} ({} bytes of samples, 8 a sample)",
-                quote(name),
-                new_bytes.map_or("too many".to_string(), |b| b.to_string())
-            )
-        };
+    /// Check a recording of `samples_bytes` (8 a sample) whose file's `raw`
+    /// bytes are held beside it, against the memory budget together with
+    /// `others` bytes of recordings held besides it; the error names the
+    /// file and the sizes.
+    fn check_recording_room(
+        &self,
+        name: &str,
+        samples_bytes: Option<u64>,
+        raw: u64,
+        others: u64,
+    ) -> Result<()> {
+        let total = samples_bytes
+            .and_then(|b| b.checked_add(raw))
+            .and_then(|b| b.checked_add(others));
+        let mut what = format!(
+            "the recording {} ({} bytes of samples, 8 a sample",
+            quote(name),
+            samples_bytes.map_or("too many".to_string(), |b| b.to_string())
+        );
+        if raw > 0 {
+            what.push_str(&format!(
+                ", and the file's {raw} bytes, kept for recipes and bundles"
+            ));
+        }
+        what.push(')');
+        if others > 0 {
+            what.push_str(&format!(
+                " with the {others} bytes of the recordings already held"
+            ));
+        }
         self.limits
             .check_bytes(&what, total)
             .map_err(|e| e.in_file(name))
@@ -362,6 +374,22 @@ impl Workspace {
         bytes: &[u8],
         options: serde_json::Value,
     ) -> Result<FileSummary> {
+        let others = self.recordings_bytes(name);
+        let (rec, format, notes) = self.read_recording(name, bytes, &options, others)?;
+        Ok(self.keep_recording(name, bytes, options, rec, format, notes))
+    }
+
+    /// Read a WAV file or a time CSV into a recording, checked against the
+    /// memory budget with `others` bytes of recordings held besides; the
+    /// workspace is not changed (a bundle's inputs are all read before it
+    /// changes). Returns the recording, its format name and its notes.
+    pub(super) fn read_recording(
+        &self,
+        name: &str,
+        bytes: &[u8],
+        options: &serde_json::Value,
+        others: u64,
+    ) -> Result<(Recording, String, Vec<String>)> {
         let opts: RecordingOptions = if options.is_null() {
             RecordingOptions::default()
         } else {
@@ -377,7 +405,7 @@ impl Workspace {
             .component
             .clone()
             .unwrap_or_else(|| io::file_stem(name));
-        let (rec, format, notes) = if io::wav::looks_like_wav(bytes) {
+        if io::wav::looks_like_wav(bytes) {
             let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), name)?;
             let info = wav.info.clone();
             let Some(channels) = &opts.channels else {
@@ -394,10 +422,15 @@ impl Workspace {
                 .map(|t| ChannelSpec::parse(t, &component))
                 .collect::<Result<Vec<_>>>()
                 .map_err(|e| e.field("channels").in_file(name))?;
-            self.check_recording_room(name, held_bytes(specs.len(), info.frames))?;
+            self.check_recording_room(
+                name,
+                held_bytes(specs.len(), info.frames),
+                bytes.len() as u64,
+                others,
+            )?;
             let (rec, _over, mut notes) = wav_recording(wav, name, &specs, &self.limits)?;
             notes.insert(0, info.describe());
-            (rec, "wav".to_string(), notes)
+            Ok((rec, "wav".to_string(), notes))
         } else {
             if opts.channels.is_some() {
                 return Err(Error::usage(
@@ -407,10 +440,14 @@ impl Workspace {
                 .in_file(name));
             }
             let rec = io::time_csv::read(bytes, name, &component)?;
-            self.check_recording_room(name, held_bytes(rec.channels.len(), rec.len() as u64))?;
-            (rec, "time-csv".to_string(), Vec::new())
-        };
-        Ok(self.keep_recording(name, bytes, options, rec, format, notes))
+            self.check_recording_room(
+                name,
+                held_bytes(rec.channels.len(), rec.len() as u64),
+                bytes.len() as u64,
+                others,
+            )?;
+            Ok((rec, "time-csv".to_string(), Vec::new()))
+        }
     }
 
     /// A UFF file's time histories as a recording (called by
@@ -422,9 +459,9 @@ impl Workspace {
         format: &str,
         bytes: &[u8],
     ) -> Result<RecordingSummary> {
-        let rec = Recording::from_time_histories(name, histories)?;
-        self.check_recording_room(name, held_bytes(rec.channels.len(), rec.len() as u64))?;
-        let summary = recording_summary(name, format, bytes, &rec, Vec::new());
+        let others = self.recordings_bytes(name);
+        let rec = self.read_uff_recording(name, histories, others)?;
+        let summary = recording_summary(name, format, io::sha256_hex(bytes), 0, &rec, Vec::new());
         self.recordings.insert(
             name.to_string(),
             WsRecording {
@@ -433,6 +470,25 @@ impl Workspace {
             },
         );
         Ok(summary)
+    }
+
+    /// A UFF file's time histories read into a recording, checked against
+    /// the budget with `others` bytes held besides; nothing kept.
+    pub(super) fn read_uff_recording(
+        &self,
+        name: &str,
+        histories: &[io::uff58::TimeHistory],
+        others: u64,
+    ) -> Result<Recording> {
+        let rec = Recording::from_time_histories(name, histories)?;
+        // the UFF file's bytes are held for its sets too, counted there
+        self.check_recording_room(
+            name,
+            held_bytes(rec.channels.len(), rec.len() as u64),
+            0,
+            others,
+        )?;
+        Ok(rec)
     }
 
     fn keep_recording(
@@ -444,7 +500,14 @@ impl Workspace {
         format: String,
         notes: Vec<String>,
     ) -> FileSummary {
-        let summary = recording_summary(name, &format, bytes, &rec, notes);
+        let summary = recording_summary(
+            name,
+            &format,
+            io::sha256_hex(bytes),
+            bytes.len() as u64,
+            &rec,
+            notes,
+        );
         self.drop_prefix(&super::prefix_of("file", name));
         self.recordings.insert(
             name.to_string(),
@@ -557,22 +620,25 @@ impl Workspace {
     }
 }
 
-fn recording_summary(
+pub(super) fn recording_summary(
     name: &str,
     format: &str,
-    bytes: &[u8],
+    sha256: String,
+    raw: u64,
     rec: &Recording,
     notes: Vec<String>,
 ) -> RecordingSummary {
     RecordingSummary {
         file: name.to_string(),
         format: format.to_string(),
-        sha256: io::sha256_hex(bytes),
+        sha256,
         sample_rate_hz: rec.fs,
         samples: rec.len(),
         duration_s: rec.len() as f64 / rec.fs,
         channels: channel_summaries(rec),
-        held_bytes: held_bytes(rec.channels.len(), rec.len() as u64).unwrap_or(u64::MAX),
+        held_bytes: held_bytes(rec.channels.len(), rec.len() as u64)
+            .and_then(|b| b.checked_add(raw))
+            .unwrap_or(u64::MAX),
         notes,
     }
 }
