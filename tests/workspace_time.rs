@@ -329,6 +329,17 @@ fn a_bundle_with_recordings_reopens_and_reruns_to_the_same_bits() {
         .make_bundle(recipe, &mortise::workspace::BundleOptions::default())
         .unwrap();
     assert!(made.withheld.is_empty(), "{:?}", made.withheld);
+    // the CLI runs the same bundle
+    let path = dir.join("rig.bundle.json");
+    std::fs::write(&path, &made.bytes).unwrap();
+    let printed = mortise::cli::run_cli(&[
+        "run".into(),
+        path.to_str().unwrap().into(),
+        "-o".into(),
+        dir.join("out").to_str().unwrap().into(),
+    ])
+    .expect("the CLI runs a bundle holding recordings");
+    assert!(printed.contains("wrote 2 output(s)"), "{printed}");
     let mut back = Workspace::new();
     let opened = back
         .open_bundle("rig.bundle.json", &made.bytes)
