@@ -11,7 +11,7 @@ mod common;
 mod couple_support;
 
 use couple_support::*;
-use mortise::assemble::{couple, decouple, Assembled, CouplingOptions};
+use mortise::assemble::{couple, decouple, Assembled, CouplingOptions, PerLine};
 use mortise::recipe::{self, MapSource};
 use mortise::FrfSet;
 use serde_json::Value;
@@ -36,6 +36,7 @@ fn scenario(name: &str) -> Value {
 fn tsvd(t: f64) -> CouplingOptions {
     CouplingOptions {
         tsvd_rel_threshold: Some(t),
+        per_line: None,
     }
 }
 
@@ -307,4 +308,89 @@ fn extended_interface_decoupling_warns_and_tsvd_brings_it_closer() {
     // without the option the LU solve is backward stable: the noise, not the
     // algorithm, limits it (forming Z⁻¹ and multiplying gave 1.5e-3 here)
     assert!(e_lu < 1e-8, "{e_lu:e}");
+}
+
+// ---- Tikhonov's damped inverse, against numpy ------------------------------
+
+fn tikhonov(x: f64, lines: usize) -> CouplingOptions {
+    CouplingOptions {
+        tsvd_rel_threshold: None,
+        per_line: Some(PerLine::Tikhonov(vec![x; lines])),
+    }
+}
+
+/// Y − Y Bᵀ Z_λ⁺ B Y with Z_λ⁺ = (ZᴴZ + λ²I)⁻¹Zᴴ, λ = x·σ_max, against
+/// numpy's least-squares solution of [Z; λI] P = [I; 0]
+/// (tests/py/couple_tsvd.py), on the redundant joints (one zero singular
+/// value) and on the extended-interface decoupling (rank one up to 1e-12
+/// noise). Returns the largest relative difference.
+fn check_tikhonov(name: &str, got: impl Fn(f64) -> Assembled) {
+    let v = scenario(name);
+    let freqs = freqs_of(&v);
+    for r in v["tikhonov"].as_array().unwrap() {
+        let x = r["x"].as_f64().unwrap();
+        let want = set_from_json(&r["result"], &freqs);
+        let a = got(x);
+        let d = max_rel_diff(&a.set, &want);
+        eprintln!("{name}: tikhonov {x:e}, {d:e} from numpy");
+        // reference: numpy.linalg.lstsq on the stacked system, condition ≤ 1/x
+        assert!(d <= 1e-8, "{name} x = {x:e}: {d:e} from numpy");
+        assert!(a.truncated.iter().all(|&t| t == 0));
+        assert_eq!(a.damped.len(), freqs.len());
+        // a singular value below λ on every line (the zero one, or the noise)
+        assert!(a.damped.iter().all(|&d| d >= 1), "{name}: {:?}", a.damped);
+        assert!(a.warnings.iter().any(|w| w.contains("Tikhonov")), "{:?}", a.warnings);
+    }
+}
+
+#[test]
+fn redundant_joints_with_tikhonov_match_numpy() {
+    let v = scenario("redundant");
+    let freqs = freqs_of(&v);
+    let comps: Vec<FrfSet> = v["components"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| set_from_json(c, &freqs))
+        .collect();
+    let joints = joints_from_json(&v["joints"]);
+    check_tikhonov("redundant", |x| {
+        couple(&comps, &joints, &tikhonov(x, freqs.len())).unwrap()
+    });
+}
+
+#[test]
+fn extended_interface_with_tikhonov_matches_numpy() {
+    let v = scenario("extended");
+    let freqs = freqs_of(&v);
+    let asm = set_from_json(&v["assembly"], &freqs);
+    let rig = set_from_json(&v["removed"], &freqs);
+    let joints = joints_from_json(&v["joints"]);
+    check_tikhonov("extended", |x| {
+        decouple(&asm, &rig, &joints, &tikhonov(x, freqs.len())).unwrap()
+    });
+}
+
+/// λ = 0 on a line is the plain LU solve, bit for bit; a per-line value
+/// list of the wrong length, a negative λ and a per-line rule together with
+/// a uniform threshold are refused.
+#[test]
+fn tikhonov_zero_is_the_plain_solve_and_bad_values_are_refused() {
+    let v = scenario("extended");
+    let freqs = freqs_of(&v);
+    let asm = set_from_json(&v["assembly"], &freqs);
+    let rig = set_from_json(&v["removed"], &freqs);
+    let joints = joints_from_json(&v["joints"]);
+    let plain = decouple(&asm, &rig, &joints, &CouplingOptions::default()).unwrap();
+    let zero = decouple(&asm, &rig, &joints, &tikhonov(0.0, freqs.len())).unwrap();
+    assert!(same_bits(&plain.set, &zero.set));
+    assert!(zero.damped.iter().all(|&d| d == 0));
+    let e = decouple(&asm, &rig, &joints, &tikhonov(1e-3, freqs.len() - 1)).unwrap_err();
+    assert!(e.message.contains("one value per line"), "{}", e.message);
+    let e = decouple(&asm, &rig, &joints, &tikhonov(-1e-3, freqs.len())).unwrap_err();
+    assert!(e.message.contains("Tikhonov"), "{}", e.message);
+    let mut both = tikhonov(1e-3, freqs.len());
+    both.tsvd_rel_threshold = Some(1e-6);
+    let e = decouple(&asm, &rig, &joints, &both).unwrap_err();
+    assert!(e.message.contains("give one"), "{}", e.message);
 }

@@ -38,6 +38,24 @@ use num_complex::Complex64;
 /// Above this condition number an untruncated inverse is refused.
 const SINGULAR: f64 = 1e16;
 
+/// How one line's interface matrix is to be inverted.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum Rule {
+    /// LU with partial pivoting.
+    Plain,
+    /// Truncated SVD at t · σ_max (LU where nothing falls below).
+    Tsvd(f64),
+    /// Tikhonov with λ = x · σ_max, x > 0.
+    Tikhonov(f64),
+}
+
+impl Rule {
+    /// The rule of an optional uniform truncation threshold.
+    pub(crate) fn of_tsvd(t: Option<f64>) -> Rule {
+        t.map_or(Rule::Plain, Rule::Tsvd)
+    }
+}
+
 /// How one line's interface matrix was inverted.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct Inverted {
@@ -45,8 +63,11 @@ pub(crate) struct Inverted {
     pub cond: f64,
     /// Singular values dropped (0 when the LU solve was used).
     pub dropped: usize,
-    /// σ_max / (smallest kept σ): the condition of what was inverted.
+    /// σ_max / (smallest kept σ): the condition of what was inverted
+    /// (Tikhonov: σ_max / max(σ_min, λ), the damped inverse's gain bound).
     pub kept_cond: f64,
+    /// Tikhonov: singular values below λ (0 otherwise).
+    pub damped: usize,
 }
 
 /// Scratch space for one thread.
@@ -92,12 +113,12 @@ pub(crate) struct Columns<'a> {
     pub(crate) cp: usize,
 }
 
-/// Solve Z X = B_u Y at `freq` Hz for the Z in `work.z`: by LU, or with
-/// `tsvd` = Some(t) by the pseudo-inverse without the singular values below
-/// t · σ_max where there are any. `path` and `buf` are the kernel's.
+/// Solve Z X = B_u Y at `freq` Hz for the Z in `work.z` by `rule`: LU; the
+/// pseudo-inverse without the singular values below t · σ_max where there
+/// are any; or Tikhonov's damped inverse. `path` and `buf` are the kernel's.
 pub(crate) fn solve(
     work: &mut SolveWork,
-    tsvd: Option<f64>,
+    rule: Rule,
     freq: f64,
     cols: Columns,
     path: kernel::Path,
@@ -115,7 +136,11 @@ pub(crate) fn solve(
             work.w[c * m + r] = work.z[r * m + c] * scale;
         }
     }
-    let want_v = tsvd.is_some();
+    let tsvd = match rule {
+        Rule::Tsvd(t) => Some(t),
+        _ => None,
+    };
+    let want_v = rule != Rule::Plain;
     if want_v {
         for (n, d) in work.v.iter_mut().enumerate() {
             let one = n % (m + 1) == 0;
@@ -148,6 +173,9 @@ pub(crate) fn solve(
     } else {
         f64::INFINITY
     };
+    if let Rule::Tikhonov(x) = rule {
+        return tikhonov(work, x, smax, smin, scale, cond, cols, path, buf);
+    }
     let thr = tsvd.map(|t| t * smax);
     let keep = |j: usize| match thr {
         Some(thr) => sigma(j) > 0.0 && sigma(j) >= thr,
@@ -160,6 +188,7 @@ pub(crate) fn solve(
             cond,
             dropped,
             kept_cond: cond,
+            damped: 0,
         });
     }
 
@@ -187,6 +216,47 @@ pub(crate) fn solve(
         cond,
         dropped,
         kept_cond,
+        damped: 0,
+    })
+}
+
+/// X = Z_λ⁺ (B_u Y) with Tikhonov's Z_λ⁺ = (ZᴴZ + λ²I)⁻¹ Zᴴ, λ = x · σ_max.
+/// From the Jacobi factors of the scaled matrix s·Z = W Vᴴ (W = U Σ_s,
+/// Σ_s = s Σ): Z_λ⁺ = Σ σ/(σ² + λ²) v uᴴ = s · Σ v wᴴ / (‖w‖² + (s λ)²),
+/// every singular value kept, those below λ damped. `smax` and `smin` are
+/// of the scaled matrix (λ·s = x · smax).
+#[allow(clippy::too_many_arguments)]
+fn tikhonov(
+    work: &mut SolveWork,
+    x: f64,
+    smax: f64,
+    smin: f64,
+    scale: f64,
+    cond: f64,
+    cols: Columns,
+    path: kernel::Path,
+    buf: &mut [f64],
+) -> Result<Inverted> {
+    let m = work.m;
+    let lam = x * smax;
+    let lam2 = lam * lam;
+    let damped = work.norms.iter().filter(|&&n| n.sqrt() < lam).count();
+    for n in work.norms.iter_mut() {
+        *n += lam2;
+    }
+    let out = &mut work.zinv;
+    out.fill(Complex64::new(0.0, 0.0));
+    svd::pinv_from_factors(&work.w, &work.v, &work.norms, m, m, scale, |_| true, out);
+    let Columns { br, bi, xr, xi, cp } = cols;
+    kernel::product(path, m, m, out, br, bi, cp, buf, |i, re, im| {
+        xr[i * cp..(i + 1) * cp].copy_from_slice(re);
+        xi[i * cp..(i + 1) * cp].copy_from_slice(im);
+    });
+    Ok(Inverted {
+        cond,
+        dropped: 0,
+        kept_cond: smax / smin.max(lam),
+        damped,
     })
 }
 
@@ -202,8 +272,10 @@ pub(crate) fn warnings(
     lines: &[Inverted],
     freqs: &[f64],
     tsvd: Option<f64>,
+    per_line: Option<&super::PerLine>,
     m: usize,
 ) -> Vec<String> {
+    use super::PerLine;
     let op = if what == "decoupling" {
         "decouple"
     } else {
@@ -211,8 +283,23 @@ pub(crate) fn warnings(
     };
     let nl = lines.len();
     let mut out = Vec::new();
+    // the regularisation's value(s), as the messages state them
+    let range = |v: &[f64]| {
+        let lo = v.iter().cloned().fold(f64::INFINITY, f64::min);
+        let hi = v.iter().cloned().fold(0.0, f64::max);
+        if lo == hi {
+            format!("{lo:e}")
+        } else {
+            format!("{lo:e} to {hi:e} (per line)")
+        }
+    };
+    let threshold = match (tsvd, per_line) {
+        (Some(t), _) => Some(format!("{t:e}")),
+        (None, Some(PerLine::Tsvd(v))) => Some(range(v)),
+        _ => None,
+    };
     let cut: Vec<usize> = (0..nl).filter(|&k| lines[k].dropped > 0).collect();
-    if let (Some(t), false) = (tsvd, cut.is_empty()) {
+    if let (Some(t), false) = (&threshold, cut.is_empty()) {
         let kept = |k: &usize| m - lines[*k].dropped;
         let (lo, hi) = (
             cut.iter().map(kept).min().unwrap_or(m),
@@ -224,15 +311,36 @@ pub(crate) fn warnings(
             format!("{lo} to {hi}")
         };
         out.push(format!(
-            "{what}: the truncated SVD dropped singular values on {} of {nl} lines ({}): threshold {t:e} of the largest, rank {rank} of {m} kept; the interface forces there are regularised estimates (the joints' constraints are met only in the kept directions)",
+            "{what}: the truncated SVD dropped singular values on {} of {nl} lines ({}): threshold {t} of the largest, rank {rank} of {m} kept; the interface forces there are regularised estimates (the joints' constraints are met only in the kept directions)",
             cut.len(),
             lines_text(&cut, freqs)
         ));
     }
-    // what was actually inverted: the whole matrix, or its kept part
+    let tikhonov = match per_line {
+        Some(PerLine::Tikhonov(v)) => Some(range(v)),
+        _ => None,
+    };
+    if let Some(l) = &tikhonov {
+        let damped: Vec<usize> = (0..nl).filter(|&k| lines[k].damped > 0).collect();
+        if !damped.is_empty() {
+            out.push(format!(
+                "{what}: Tikhonov regularisation (λ {l} of the largest singular value) damped singular values below λ on {} of {nl} lines ({}); the interface forces there are regularised estimates (the joints' constraints are met only approximately)",
+                damped.len(),
+                lines_text(&damped, freqs)
+            ));
+        }
+    }
+    // what was actually inverted: the whole matrix, its kept part, or the
+    // damped inverse
     let eff: Vec<f64> = lines
         .iter()
-        .map(|l| if l.dropped > 0 { l.kept_cond } else { l.cond })
+        .map(|l| {
+            if l.dropped > 0 || tikhonov.is_some() {
+                l.kept_cond
+            } else {
+                l.cond
+            }
+        })
         .collect();
     let bad: Vec<usize> = (0..nl)
         .filter(|&k| eff[k].is_nan() || eff[k] >= ILL)
@@ -242,14 +350,19 @@ pub(crate) fn warnings(
     };
     let at = format!("worst {:.2e} at {} Hz", eff[worst], freqs[worst]);
     let effect = "its inverse amplifies noise and rounding in the FRFs by up to that factor, so the result's entries on those lines are unreliable";
-    out.push(match tsvd {
-        None => format!(
-            "{what}: the interface matrix B Y Bᵀ + Γ is ill-conditioned on {} of {nl} lines ({}): 2-norm condition number above {ILL:.0e}, {at}; {effect}. Typical causes: more joints than the interface needs (an extended interface, or a DOF joined twice), a joint at a point that hardly moves. Remedy: regularise the inversion with a truncated SVD, which drops the singular values below a fraction of the largest: add the operand \"tsvd\": <relative threshold> (for example 1e-6 to 1e-3) to this {op} step of the recipe, or pass --tsvd X (for example --tsvd 1e-6) to the one-line mortise couple",
+    out.push(match (&threshold, &tikhonov) {
+        (Some(t), _) => format!(
+            "{what}: even with the truncated SVD (threshold {t}) the inverted part of the interface matrix B Y Bᵀ + Γ is ill-conditioned on {} of {nl} lines ({}): condition number of the kept singular values above {ILL:.0e}, {at}; {effect}. Remedy: raise the threshold, the operand \"tsvd\" of this {op} step (or --tsvd X on the one-line mortise couple), for example to 1e-6 to 1e-3, or \"noise\"",
             bad.len(),
             lines_text(&bad, freqs)
         ),
-        Some(t) => format!(
-            "{what}: even with the truncated SVD (threshold {t:e}) the inverted part of the interface matrix B Y Bᵀ + Γ is ill-conditioned on {} of {nl} lines ({}): condition number of the kept singular values above {ILL:.0e}, {at}; {effect}. Remedy: raise the threshold, the operand \"tsvd\" of this {op} step (or --tsvd X on the one-line mortise couple), for example to 1e-6 to 1e-3",
+        (None, Some(l)) => format!(
+            "{what}: even with Tikhonov regularisation (λ {l}) the damped inverse of the interface matrix B Y Bᵀ + Γ amplifies by more than {ILL:.0e} on {} of {nl} lines ({}): {at}; {effect}. Remedy: raise λ, the operand \"tikhonov\" of this {op} step, or \"noise\"",
+            bad.len(),
+            lines_text(&bad, freqs)
+        ),
+        (None, None) => format!(
+            "{what}: the interface matrix B Y Bᵀ + Γ is ill-conditioned on {} of {nl} lines ({}): 2-norm condition number above {ILL:.0e}, {at}; {effect}. Typical causes: more joints than the interface needs (an extended interface, or a DOF joined twice), a joint at a point that hardly moves. Remedy: regularise the inversion: a truncated SVD, which drops the singular values below a fraction of the largest (the operand \"tsvd\": <relative threshold>, for example 1e-6 to 1e-3, or \"noise\" for a threshold per line from the inputs' stated uncertainty, on this {op} step of the recipe, or --tsvd X on the one-line mortise couple), or Tikhonov's damped inverse (the operand \"tikhonov\": λ as a fraction of the largest singular value, or \"noise\")",
             bad.len(),
             lines_text(&bad, freqs)
         ),
@@ -431,7 +544,7 @@ mod tests {
             xi: &mut xi,
             cp,
         };
-        let r = solve(w, tsvd, 10.0, cols, kernel::path(), &mut buf)?;
+        let r = solve(w, Rule::of_tsvd(tsvd), 10.0, cols, kernel::path(), &mut buf)?;
         let x = DMatrix::from_fn(m, m, |i, j| Complex64::new(xr[i * cp + j], xi[i * cp + j]));
         Ok((r, x))
     }
@@ -518,14 +631,15 @@ mod tests {
             cond,
             dropped,
             kept_cond,
+            damped: 0,
         };
         let freqs = [10.0, 20.0, 30.0];
         // well conditioned: nothing to say
         let ok = [line(5.0, 0, 5.0); 3];
-        assert!(warnings("coupling", &ok, &freqs, None, 4).is_empty());
+        assert!(warnings("coupling", &ok, &freqs, None, None, 4).is_empty());
         // ill-conditioned without the option: worst value, its line, the remedy
         let ill = [line(5.0, 0, 5.0), line(3e12, 0, 3e12), line(2e11, 0, 2e11)];
-        let w = warnings("coupling", &ill, &freqs, None, 4);
+        let w = warnings("coupling", &ill, &freqs, None, None, 4);
         assert_eq!(w.len(), 1);
         assert!(w[0].contains("on 2 of 3 lines (20 Hz, 30 Hz)"), "{}", w[0]);
         assert!(w[0].contains("worst 3.00e12 at 20 Hz"), "{}", w[0]);
@@ -534,13 +648,13 @@ mod tests {
         assert!(w[0].contains("--tsvd X"), "{}", w[0]);
         // truncated well: the dropped lines and the kept rank, no ill-conditioning
         let cut = [line(3e12, 2, 40.0), line(3e13, 1, 9.0), line(7.0, 0, 7.0)];
-        let w = warnings("decoupling", &cut, &freqs, Some(1e-6), 4);
+        let w = warnings("decoupling", &cut, &freqs, Some(1e-6), None, 4);
         assert_eq!(w.len(), 1, "{w:?}");
         assert!(w[0].contains("on 2 of 3 lines (10 Hz, 20 Hz)"), "{}", w[0]);
         assert!(w[0].contains("rank 2 to 3 of 4 kept"), "{}", w[0]);
         // truncated too little: the kept part is still ill-conditioned
         let weak = [line(3e14, 1, 2e12), line(4.0, 0, 4.0), line(4.0, 0, 4.0)];
-        let w = warnings("decoupling", &weak, &freqs, Some(1e-13), 4);
+        let w = warnings("decoupling", &weak, &freqs, Some(1e-13), None, 4);
         assert_eq!(w.len(), 2, "{w:?}");
         assert!(w[1].contains("even with the truncated SVD"), "{}", w[1]);
         assert!(w[1].contains("worst 2.00e12 at 10 Hz"), "{}", w[1]);

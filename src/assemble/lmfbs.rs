@@ -152,6 +152,7 @@ pub(crate) struct Prepared<'a> {
     /// n_lines × m flexibilities Γ (times the joint sign), row-major.
     pub(crate) gamma: Vec<Complex64>,
     tsvd: Option<f64>,
+    per_line: Option<super::PerLine>,
     /// parts whose rows and columns form the result
     pub(crate) res: Vec<usize>,
     /// offsets of each result part's outputs (rows) and inputs (columns)
@@ -236,6 +237,9 @@ pub(crate) fn prepare<'a>(
                 "the truncated-SVD threshold must be a fraction in [0, 1) of the largest singular value; found {t}"
             )));
         }
+    }
+    if let Some(pl) = &opts.per_line {
+        check_per_line(pl, opts.tsvd_rel_threshold, components[0].n_lines())?;
     }
     check_distinct_dofs(components)?;
 
@@ -326,6 +330,7 @@ pub(crate) fn prepare<'a>(
         ends,
         gamma,
         tsvd: opts.tsvd_rel_threshold,
+        per_line: opts.per_line.clone(),
         res: result_parts.to_vec(),
         row_off,
         col_off,
@@ -335,6 +340,48 @@ pub(crate) fn prepare<'a>(
     };
     check_needed_entries(&prep, what)?;
     Ok(prep)
+}
+
+/// A per-line regularisation: one value per line, each in its range, and
+/// not together with a uniform threshold.
+fn check_per_line(pl: &super::PerLine, tsvd: Option<f64>, nl: usize) -> Result<()> {
+    use super::PerLine;
+    if tsvd.is_some() {
+        return Err(Error::usage(
+            "a uniform truncated-SVD threshold and a per-line regularisation were both given; give one",
+        ));
+    }
+    let v = pl.values();
+    if v.len() != nl {
+        return Err(Error::usage(format!(
+            "a per-line regularisation needs one value per line: {} values for {nl} lines",
+            v.len()
+        )));
+    }
+    for (k, &x) in v.iter().enumerate() {
+        let ok = match pl {
+            PerLine::Tsvd(_) => x.is_finite() && (0.0..1.0).contains(&x),
+            PerLine::Tikhonov(_) => x.is_finite() && x >= 0.0,
+        };
+        if !ok {
+            let what = match pl {
+                PerLine::Tsvd(_) => "truncated-SVD threshold, expected a fraction in [0, 1) of the largest singular value",
+                PerLine::Tikhonov(_) => "Tikhonov λ, expected a fraction of 0 or more of the largest singular value",
+            };
+            return Err(Error::usage(format!("line {k}: {what}; found {x}")));
+        }
+    }
+    Ok(())
+}
+
+impl Prepared<'_> {
+    /// How line `k`'s interface matrix is inverted.
+    pub(crate) fn rule(&self, k: usize) -> interface_solve::Rule {
+        match &self.per_line {
+            Some(pl) => pl.rule(k),
+            None => interface_solve::Rule::of_tsvd(self.tsvd),
+        }
+    }
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -390,6 +437,11 @@ fn solve(
     )?;
     let condition: Vec<f64> = lines.iter().map(|l| l.cond).collect();
     let truncated: Vec<usize> = lines.iter().map(|l| l.dropped).collect();
+    let damped: Vec<usize> = if matches!(prep.per_line, Some(super::PerLine::Tikhonov(_))) {
+        lines.iter().map(|l| l.damped).collect()
+    } else {
+        Vec::new()
+    };
     // SAFETY: run_lines returned Ok, so every line's `one_line` returned Ok,
     // and it does so only after writing all n_rows × n_cols values of its line
     // (it counts the rows written); the lines tile the first `total` values.
@@ -418,6 +470,7 @@ fn solve(
         &lines,
         &first.freqs,
         opts.tsvd_rel_threshold,
+        opts.per_line.as_ref(),
         m,
     ));
     let set = FrfSet {
@@ -441,6 +494,7 @@ fn solve(
         set,
         condition,
         truncated,
+        damped,
         warnings,
     })
 }
@@ -882,7 +936,7 @@ fn one_line(
     // X = Z⁻¹ (B_u Y), or Z⁺ (B_u Y) with the truncated SVD
     let inv = interface_solve::solve(
         &mut w.solve,
-        p.tsvd,
+        p.rule(k),
         freq,
         interface_solve::Columns {
             br: &w.byr,

@@ -42,6 +42,9 @@
 //!   [`CouplingOptions::tsvd_rel_threshold`] the lines where some σ <
 //!   threshold · σ_max use the truncated-SVD pseudo-inverse without them
 //!   instead; lines where none is dropped keep the LU solve, bit for bit.
+//!   [`CouplingOptions::per_line`] sets a truncation threshold or a
+//!   Tikhonov λ per line (the recipe takes them from the input noise):
+//!   Tikhonov inverts Σ σ/(σ² + λ²) v uᴴ from the same Jacobi factors.
 //!   Ill-conditioned lines (condition number, or that of the kept singular
 //!   values, above 1e10) are named in a warning with the worst value and the
 //!   remedy.
@@ -117,6 +120,37 @@ pub struct CouplingOptions {
     /// Lines where none falls below keep the plain LU solve.
     #[serde(default)]
     pub tsvd_rel_threshold: Option<f64>,
+    /// A regularisation set line by line (from the input noise, or one
+    /// value repeated), instead of `tsvd_rel_threshold`: one value per line.
+    #[serde(default)]
+    pub per_line: Option<PerLine>,
+}
+
+/// A regularisation of the interface inversion with its own value on each
+/// line, relative to that line's largest singular value σ_max.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub enum PerLine {
+    /// Truncated SVD: singular values below t · σ_max dropped (t in [0, 1)).
+    Tsvd(Vec<f64>),
+    /// Tikhonov: Z_λ⁺ = (ZᴴZ + λ²I)⁻¹ Zᴴ = Σ σ/(σ² + λ²) v uᴴ with
+    /// λ = x · σ_max (x ≥ 0; x = 0 is the plain LU solve, bit for bit).
+    Tikhonov(Vec<f64>),
+}
+
+impl PerLine {
+    /// The rule of line `k` (the values' count is checked before).
+    pub(crate) fn rule(&self, k: usize) -> interface_solve::Rule {
+        match self {
+            PerLine::Tsvd(t) => interface_solve::Rule::Tsvd(t[k]),
+            PerLine::Tikhonov(x) if x[k] > 0.0 => interface_solve::Rule::Tikhonov(x[k]),
+            PerLine::Tikhonov(_) => interface_solve::Rule::Plain,
+        }
+    }
+    pub(crate) fn values(&self) -> &[f64] {
+        match self {
+            PerLine::Tsvd(v) | PerLine::Tikhonov(v) => v,
+        }
+    }
 }
 
 /// A coupling or decoupling result.
@@ -130,6 +164,9 @@ pub struct Assembled {
     /// Singular values dropped by the regularisation, per line (count; 0 where
     /// the LU solve was used). The rank kept is the number of joints minus this.
     pub truncated: Vec<usize>,
+    /// Tikhonov: singular values below λ per line (damped to less than half
+    /// of their plain inverse); empty without Tikhonov.
+    pub damped: Vec<usize>,
     pub warnings: Vec<String>,
 }
 

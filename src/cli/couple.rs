@@ -143,7 +143,8 @@ pub fn recipe_for(files: &[String], joins: &[&str], tsvd: Option<f64>) -> Result
             op: Op::Couple(Couple {
                 parts,
                 joints,
-                tsvd,
+                tsvd: tsvd.map(crate::recipe::RelativeOrNoise::Relative),
+                tikhonov: None,
             }),
         }],
         variants: vec![],

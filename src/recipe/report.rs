@@ -232,6 +232,23 @@ pub struct InterfaceReport {
     pub worst_condition_hz: Option<f64>,
     /// Singular values dropped by the regularisation, per line.
     pub truncated: Vec<usize>,
+    /// The regularisation's value per line, relative to the line's largest
+    /// singular value (the truncation threshold, or Tikhonov's λ), when it
+    /// was set per line (from the noise, or Tikhonov).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub regularisation: Option<LineRegularisation>,
+    /// Tikhonov: singular values below λ per line (damped).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub damped: Vec<usize>,
+}
+
+/// A per-line regularisation as the report states it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LineRegularisation {
+    /// "tsvd" or "tikhonov".
+    pub method: String,
+    /// Relative to the line's largest singular value.
+    pub relative: Vec<Option<f64>>,
 }
 
 impl InterfaceReport {
@@ -242,7 +259,28 @@ impl InterfaceReport {
             worst_condition: worst,
             worst_condition_hz: at,
             truncated: truncated.to_vec(),
+            regularisation: None,
+            damped: Vec::new(),
         }
+    }
+
+    /// With the per-line regularisation used and the lines it damped.
+    pub fn with_regularisation(
+        mut self,
+        per_line: Option<&crate::assemble::PerLine>,
+        damped: &[usize],
+    ) -> InterfaceReport {
+        use crate::assemble::PerLine;
+        self.regularisation = per_line.map(|p| LineRegularisation {
+            method: match p {
+                PerLine::Tsvd(_) => "tsvd",
+                PerLine::Tikhonov(_) => "tikhonov",
+            }
+            .to_string(),
+            relative: p.values().iter().map(|&v| fin(v)).collect(),
+        });
+        self.damped = damped.to_vec();
+        self
     }
 }
 

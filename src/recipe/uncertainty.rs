@@ -5,7 +5,7 @@
 //! predictions), and
 //! the reliability of each result in the step's report.
 
-use super::ops::{check_tsvd, resolve_joints, Ctx, Op, StepOutput};
+use super::ops::{resolve_joints, Ctx, Op, RelativeOrNoise, StepOutput};
 use super::report::{weighting_for, PredictionBands, UncertaintyReport};
 use super::Recipe;
 use crate::assemble::CouplingOptions;
@@ -121,12 +121,16 @@ pub(crate) fn propagate(
     }
     let opts = ReliabilityOptions::default();
     let (u, reliability) = match op {
-        Op::Couple(c) if c.tsvd.is_some() => {
+        Op::Couple(c) if matches!(c.tsvd, Some(RelativeOrNoise::Relative(_))) => {
+            let t = match c.tsvd {
+                Some(RelativeOrNoise::Relative(t)) => Some(t),
+                _ => None,
+            };
             let parts = cx.get_all("parts", &c.parts)?;
             let (joints, _) = resolve_joints(cx, &c.joints)?;
             let us: Vec<Option<&FrfUncertainty>> = c.parts.iter().map(|n| get(n)).collect();
             let noise = uncertainty::interface_noise::coupling_interface_noise(
-                &parts, &us, &joints, c.tsvd,
+                &parts, &us, &joints, t,
             )?;
             let hit: Vec<usize> = (0..noise.len())
                 .filter(|&k| noise[k].dropped_above_noise > 0)
@@ -135,7 +139,7 @@ pub(crate) fn propagate(
                 let f = &out.set.freqs;
                 out.report.warnings.push(format!(
                     "'tsvd' {} drops interface singular values that lie above the input noise at {} of {} lines (first at {} Hz, threshold from the noise there {:.2e}): the truncation removes coupled dynamics the data resolve",
-                    c.tsvd.unwrap_or(0.0),
+                    t.unwrap_or(0.0),
                     hit.len(),
                     noise.len(),
                     f[k0],
@@ -143,15 +147,17 @@ pub(crate) fn propagate(
                 ));
             }
             out.report.notes.push(format!(
-                "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
-                quoted(&carried)
+                "the uncertainty of {} {}",
+                quoted(&carried),
+                NOT_THROUGH_REGULARISED
             ));
             return Ok(None);
         }
-        _ if tsvd_of(op).is_some() => {
+        _ if regularised(op) => {
             out.report.notes.push(format!(
-                "the uncertainty of {} is not propagated through a truncated-SVD coupling (the first-order propagation linearizes the plain solve): the result carries none",
-                quoted(&carried)
+                "the uncertainty of {} {}",
+                quoted(&carried),
+                NOT_THROUGH_REGULARISED
             ));
             return Ok(None);
         }
@@ -169,9 +175,7 @@ pub(crate) fn propagate(
                 &parts,
                 &us,
                 &joints,
-                &CouplingOptions {
-                    tsvd_rel_threshold: check_tsvd(c.tsvd)?,
-                },
+                &CouplingOptions::default(),
             )?;
             let cond = condition(out);
             let mut r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
@@ -196,9 +200,7 @@ pub(crate) fn propagate(
                 rem,
                 get(&d.remove),
                 &joints,
-                &CouplingOptions {
-                    tsvd_rel_threshold: check_tsvd(d.tsvd)?,
-                },
+                &CouplingOptions::default(),
             )?;
             let cond = condition(out);
             let r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
@@ -519,13 +521,16 @@ fn path_spreads(
     Ok(c.paths.into_iter().zip(us).collect())
 }
 
-fn tsvd_of(op: &Op) -> Option<f64> {
+/// Whether a coupling or decoupling regularises its inversion.
+fn regularised(op: &Op) -> bool {
     match op {
-        Op::Couple(c) => c.tsvd,
-        Op::Decouple(d) => d.tsvd,
-        _ => None,
+        Op::Couple(c) => c.tsvd.is_some() || c.tikhonov.is_some(),
+        Op::Decouple(d) => d.tsvd.is_some() || d.tikhonov.is_some(),
+        _ => false,
     }
 }
+
+const NOT_THROUGH_REGULARISED: &str = "is not propagated to first order through a regularised coupling (truncated SVD or Tikhonov; the first-order propagation linearizes the plain solve): the result carries none; mortise run --monte-carlo draws it";
 
 fn quoted(names: &[&str]) -> String {
     let q: Vec<String> = names.iter().map(|n| format!("'{n}'")).collect();

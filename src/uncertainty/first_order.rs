@@ -82,6 +82,12 @@ fn propagate(
         )
         .field("tsvd"));
     }
+    if opts.per_line.is_some() {
+        return Err(Error::usage(
+            "the first-order propagation linearizes the plain interface solve; with a regularised inversion (truncated SVD or Tikhonov) use the Monte Carlo propagation",
+        )
+        .field("tikhonov"));
+    }
     if uncertainties.len() != originals.len() {
         return Err(Error::usage(format!(
             "{} uncertainties for {} components; give one (or none) per component",

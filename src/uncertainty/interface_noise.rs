@@ -11,7 +11,7 @@
 //! dynamics).
 
 use super::model::FrfUncertainty;
-use crate::assemble::{prepare_coupling, CouplingOptions, Joint};
+use crate::assemble::{prepare_coupling, prepare_decoupling, CouplingOptions, Joint, Prepared};
 use crate::error::Result;
 use crate::frf::FrfSet;
 use num_complex::Complex64;
@@ -39,6 +39,29 @@ pub fn coupling_interface_noise(
 ) -> Result<Vec<LineNoise>> {
     let refs: Vec<&FrfSet> = components.iter().collect();
     let p = prepare_coupling(&refs, joints, &CouplingOptions::default())?;
+    line_noise(&p, &refs, uncertainties, tsvd)
+}
+
+/// [`coupling_interface_noise`] of a decoupling: the assembly with the
+/// removed part (entering with −Y; the sign does not change the variance).
+pub fn decoupling_interface_noise(
+    assembly: &FrfSet,
+    u_assembly: Option<&FrfUncertainty>,
+    removed: &FrfSet,
+    u_removed: Option<&FrfUncertainty>,
+    joints: &[Joint],
+    tsvd: Option<f64>,
+) -> Result<Vec<LineNoise>> {
+    let p = prepare_decoupling(assembly, removed, joints, &CouplingOptions::default())?;
+    line_noise(&p, &[assembly, removed], &[u_assembly, u_removed], tsvd)
+}
+
+fn line_noise(
+    p: &Prepared,
+    components: &[&FrfSet],
+    uncertainties: &[Option<&FrfUncertainty>],
+    tsvd: Option<f64>,
+) -> Result<Vec<LineNoise>> {
     let order = |s: &FrfSet| s.out_qty.motion_order().unwrap_or(0);
     let target = order(&p.sets[0]);
     let mut u2: Vec<Option<Vec<f64>>> = Vec::new();

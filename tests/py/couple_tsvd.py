@@ -14,6 +14,8 @@ outdoor unit, measured on a test rig):
   P-R: the third constraint repeats the other two), coupled with a
   truncated-SVD pseudo-inverse.
 
+Tikhonov: (Z^H Z + lam^2 I)^-1 Z^H with lam = x * s_max, by numpy.linalg.solve.
+
 The pseudo-inverse is numpy.linalg.svd with the singular values below
 t * s_max dropped (the same rule as mortise); the script checks it against
 numpy.linalg.pinv(Z, rtol=t). Y - Y B^T Z^+ B Y is then formed with numpy
@@ -32,6 +34,10 @@ FREQS = np.linspace(5.0, 300.0, 60)
 W = 2 * np.pi * FREQS
 NOISE = 1e-12
 THRESHOLDS = {"extended": [1e-6], "redundant": [1e-9, 0.15]}
+# Tikhonov lambda as a fraction of the largest singular value
+TIKHONOV = {"extended": [1e-4, 1e-3], "redundant": [1e-6, 0.1]}
+# (on the extended interface the result is sensitive to λ below 1e-4: two
+# numpy routes, lstsq and the SVD, differ by 5e-8 at 1e-5 and 4e-6 at 1e-6)
 
 
 def springs(n, pairs):
@@ -77,7 +83,20 @@ def pinv_cut(Z, t):
     return P, int((~keep).sum())
 
 
-def lmfbs(blocks, labels, joints, t):
+def tikhonov_inv(Z, x):
+    """Tikhonov's damped inverse (Z^H Z + lam^2 I)^-1 Z^H, lam = x * s_max,
+    as the least-squares solution of [Z; lam I] P = [I; 0]
+    (numpy.linalg.lstsq: the normal equations' minimiser without squaring
+    the condition number, and not from mortise's SVD route)."""
+    lam = x * np.linalg.svd(Z, compute_uv=False)[0]
+    m = Z.shape[0]
+    A = np.vstack([Z, lam * np.eye(m)])
+    rhs = np.vstack([np.eye(m), np.zeros((m, m))])
+    P = np.linalg.lstsq(A, rhs, rcond=None)[0]
+    return P, 0
+
+
+def lmfbs(blocks, labels, joints, t, inv=None):
     """Y - Y B^T pinv(B Y B^T) B Y over the block diagonal of `blocks`
     (lists of (n_l, n, n) arrays, labels per block); joints: (a, b) labels."""
     allv = [l for ls in labels for l in ls]
@@ -96,7 +115,7 @@ def lmfbs(blocks, labels, joints, t):
     dropped = []
     for l in range(len(W)):
         Z = B @ Y[l] @ B.T
-        P, d = pinv_cut(Z, t)
+        P, d = (inv or pinv_cut)(Z, t)
         out[l] = Y[l] - Y[l] @ B.T @ P @ B @ Y[l]
         dropped.append(d)
     return out, dropped
@@ -133,7 +152,12 @@ def extended():
     for t in THRESHOLDS["extended"]:
         Yd, dropped = lmfbs([mounted, -rig], [lm, lr], joints, t)
         refs.append({"t": t, "result": set_json("pinv", lm, Yd[:, :5, :5]), "dropped": dropped})
+    tik = []
+    for x in TIKHONOV["extended"]:
+        Yd, _ = lmfbs([mounted, -rig], [lm, lr], joints, x, tikhonov_inv)
+        tik.append({"x": x, "result": set_json("tikhonov", lm, Yd[:, :5, :5])})
     return {
+        "tikhonov": tik,
         "assembly": set_json("mounted", lm, mounted),
         "removed": set_json("rig", lr, rig),
         "joints": [{"a": a, "b": b, "kind": {"type": "rigid"}} for a, b in joints],
@@ -157,7 +181,12 @@ def redundant():
     for t in THRESHOLDS["redundant"]:
         Yc, dropped = lmfbs([yp, yq, yr], [lp, lq, lr], joints, t)
         refs.append({"t": t, "result": set_json("pinv", lp + lq + lr, Yc), "dropped": dropped})
+    tik = []
+    for x in TIKHONOV["redundant"]:
+        Yc, _ = lmfbs([yp, yq, yr], [lp, lq, lr], joints, x, tikhonov_inv)
+        tik.append({"x": x, "result": set_json("tikhonov", lp + lq + lr, Yc)})
     return {
+        "tikhonov": tik,
         "components": [set_json("P", lp, yp), set_json("Q", lq, yq), set_json("R", lr, yr)],
         "joints": [{"a": a, "b": b, "kind": {"type": "rigid"}} for a, b in joints],
         "pinv": refs,

@@ -1,7 +1,7 @@
 //! `couple` and `decouple`: LM-FBS through the recipe's joints.
 
-use super::{check_tsvd, opt, req, Ctx, Operand, Operation, StepOutput};
-use crate::assemble::{self, Assembled, CouplingOptions, Joint};
+use super::{check_tsvd, opt, req, Ctx, Operand, Operation, RelativeOrNoise, StepOutput};
+use crate::assemble::{self, Assembled, CouplingOptions, Joint, PerLine};
 use crate::error::{Error, Result};
 use crate::recipe::joint::JointSpec;
 use crate::recipe::report::{InterfaceReport, StepReport};
@@ -14,7 +14,9 @@ pub struct Couple {
     pub parts: Vec<String>,
     pub joints: Vec<JointSpec>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub tsvd: Option<f64>,
+    pub tsvd: Option<RelativeOrNoise>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tikhonov: Option<RelativeOrNoise>,
 }
 
 /// Remove a known part from an assembly.
@@ -25,11 +27,98 @@ pub struct Decouple {
     pub remove: String,
     pub joints: Vec<JointSpec>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub tsvd: Option<f64>,
+    pub tsvd: Option<RelativeOrNoise>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tikhonov: Option<RelativeOrNoise>,
 }
 
 const JOINTS_DOC: &str = "list of {a, b, type, parameters}: see the joint types";
-const TSVD_DOC: &str = "truncated-SVD regularisation of the interface inversion: singular values below this fraction of the largest are dropped (for example 1e-6); nothing dropped → the plain solve";
+const TSVD_DOC: &str = "truncated-SVD regularisation of the interface inversion: singular values below this fraction of the largest are dropped (for example 1e-6); nothing dropped → the plain solve. \"noise\": per line, the threshold where the interface matrix's error from the inputs' stated uncertainty lies (√E‖δZ‖²_F / σ_max), so only singular values the noise hides are dropped";
+const TIKHONOV_DOC: &str = "Tikhonov regularisation of the interface inversion instead of the truncation, Z_λ⁺ = (ZᴴZ + λ²I)⁻¹Zᴴ: a number is λ as a fraction of the largest singular value on each line (for example 1e-4); \"noise\": per line λ = √E‖δZ‖²_F, the interface matrix's error from the inputs' stated uncertainty, so singular values above the noise are kept nearly whole and those below it damped";
+
+/// The inversion's regularisation from the `tsvd` and `tikhonov` operands
+/// on `lines` lines; `noise` gives the per-line noise-referenced values
+/// (√E‖δZ‖²_F / σ_max) when an operand asks for them.
+fn regularisation(
+    tsvd: &Option<RelativeOrNoise>,
+    tikhonov: &Option<RelativeOrNoise>,
+    lines: usize,
+    noise: impl FnOnce(&str) -> Result<Vec<f64>>,
+) -> Result<CouplingOptions> {
+    let rule = |r: &str, field: &str| -> Result<()> {
+        if r == "noise" {
+            Ok(())
+        } else {
+            Err(Error::recipe(format!(
+                "'{field}' is '{}'; expected a number (a fraction of the largest singular value) or \"noise\"",
+                crate::error::quote(r)
+            ))
+            .field(field))
+        }
+    };
+    Ok(match (tsvd, tikhonov) {
+        (Some(_), Some(_)) => {
+            return Err(Error::recipe(
+                "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
+            )
+            .field("tikhonov"))
+        }
+        (None, None) => CouplingOptions::default(),
+        (Some(RelativeOrNoise::Relative(t)), None) => CouplingOptions {
+            tsvd_rel_threshold: check_tsvd(Some(*t))?,
+            per_line: None,
+        },
+        (Some(RelativeOrNoise::Rule(r)), None) => {
+            rule(r, "tsvd")?;
+            // a threshold of 1 or more would drop σ_max too: everything the
+            // noise hides is dropped, the largest is kept
+            let t = noise("tsvd")?
+                .into_iter()
+                .map(|t| if t.is_nan() { 0.0 } else { t.min(1.0 - f64::EPSILON) })
+                .collect();
+            CouplingOptions {
+                tsvd_rel_threshold: None,
+                per_line: Some(PerLine::Tsvd(t)),
+            }
+        }
+        (None, Some(RelativeOrNoise::Relative(x))) => {
+            if !(x.is_finite() && *x > 0.0) {
+                return Err(Error::recipe(format!(
+                    "'tikhonov' is {x}; expected λ as a positive fraction of the largest singular value (for example 1e-4), or \"noise\""
+                ))
+                .field("tikhonov"));
+            }
+            CouplingOptions {
+                tsvd_rel_threshold: None,
+                per_line: Some(PerLine::Tikhonov(vec![*x; lines])),
+            }
+        }
+        (None, Some(RelativeOrNoise::Rule(r))) => {
+            rule(r, "tikhonov")?;
+            let x = noise("tikhonov")?
+                .into_iter()
+                .map(|x| if x.is_finite() { x } else { 0.0 })
+                .collect();
+            CouplingOptions {
+                tsvd_rel_threshold: None,
+                per_line: Some(PerLine::Tikhonov(x)),
+            }
+        }
+    })
+}
+
+/// The noise rule needs a stated uncertainty on at least one operand.
+fn no_uncertainty(field: &str, names: &[&str]) -> Error {
+    Error::recipe(format!(
+        "'{field}': \"noise\" takes its values from the stated uncertainty of {}, which carry none; give a component an \"uncertainty\" key, or a number",
+        names
+            .iter()
+            .map(|n| format!("'{}'", crate::error::quote(n)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    ))
+    .field(field)
+}
 
 impl Operation for Couple {
     const SUMMARY: &'static str =
@@ -38,6 +127,7 @@ impl Operation for Couple {
         req("parts", "names of the components to couple"),
         req("joints", JOINTS_DOC),
         opt("tsvd", TSVD_DOC),
+        opt("tikhonov", TIKHONOV_DOC),
     ];
     fn reads(&self) -> Vec<&str> {
         let mut r: Vec<&str> = self.parts.iter().map(String::as_str).collect();
@@ -46,11 +136,20 @@ impl Operation for Couple {
     }
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let parts = cx.get_all("parts", &self.parts)?;
-        let (joints, notes) = resolve_joints(cx, &self.joints)?;
-        let opts = CouplingOptions {
-            tsvd_rel_threshold: check_tsvd(self.tsvd)?,
-        };
+        let (joints, mut notes) = resolve_joints(cx, &self.joints)?;
         let lines = parts.first().map_or(0, |p| p.n_lines());
+        let opts = regularisation(&self.tsvd, &self.tikhonov, lines, |field| {
+            let us: Vec<_> = self.parts.iter().map(|n| cx.uncertainties.get(n)).collect();
+            if us.iter().all(Option::is_none) {
+                let names: Vec<&str> = self.parts.iter().map(String::as_str).collect();
+                return Err(no_uncertainty(field, &names));
+            }
+            notes.push(format!("'{field}' from the noise: {NOISE_RULE}"));
+            let noise = crate::uncertainty::interface_noise::coupling_interface_noise(
+                &parts, &us, &joints, None,
+            )?;
+            Ok(noise.iter().map(|n| n.threshold).collect())
+        })?;
         let outs = parts
             .iter()
             .fold(0usize, |a, p| a.saturating_add(p.n_out()));
@@ -65,15 +164,15 @@ impl Operation for Couple {
             coupling_work(lines, outs, ins, joints.len()),
         )?;
         let mut a = assemble::couple(&parts, &joints, &opts)?;
-        if a.truncated.iter().any(|&t| t > 0) {
+        if regularised(&a) {
             cx.check_work(
-                "the plain coupling the truncated one is compared with",
+                "the plain coupling the regularised one is compared with",
                 coupling_work(lines, outs, ins, joints.len()),
             )?;
             let plain = assemble::couple(&parts, &joints, &CouplingOptions::default());
             compare_with_plain(&mut a, plain, "coupled FRFs");
         }
-        Ok(output(cx, "couple", a, notes))
+        Ok(output(cx, "couple", a, &opts, notes))
     }
 }
 
@@ -85,6 +184,7 @@ impl Operation for Decouple {
         req("remove", "name of the part to remove"),
         req("joints", JOINTS_DOC),
         opt("tsvd", TSVD_DOC),
+        opt("tikhonov", TIKHONOV_DOC),
     ];
     fn reads(&self) -> Vec<&str> {
         let mut r = vec![self.assembly.as_str(), self.remove.as_str()];
@@ -94,10 +194,21 @@ impl Operation for Decouple {
     fn run(&self, cx: &Ctx) -> Result<StepOutput> {
         let asm = cx.get("assembly", &self.assembly)?;
         let rem = cx.get("remove", &self.remove)?;
-        let (joints, notes) = resolve_joints(cx, &self.joints)?;
-        let opts = CouplingOptions {
-            tsvd_rel_threshold: check_tsvd(self.tsvd)?,
-        };
+        let (joints, mut notes) = resolve_joints(cx, &self.joints)?;
+        let opts = regularisation(&self.tsvd, &self.tikhonov, asm.n_lines(), |field| {
+            let (ua, ur) = (
+                cx.uncertainties.get(&self.assembly),
+                cx.uncertainties.get(&self.remove),
+            );
+            if ua.is_none() && ur.is_none() {
+                return Err(no_uncertainty(field, &[&self.assembly, &self.remove]));
+            }
+            notes.push(format!("'{field}' from the noise: {NOISE_RULE}"));
+            let noise = crate::uncertainty::interface_noise::decoupling_interface_noise(
+                asm, ua, rem, ur, &joints, None,
+            )?;
+            Ok(noise.iter().map(|n| n.threshold).collect())
+        })?;
         let (lines, outs, ins) = (asm.n_lines(), asm.n_out(), asm.n_in());
         cx.check_set("the decoupled set", lines, outs, ins)?;
         cx.check_work(
@@ -113,9 +224,9 @@ impl Operation for Decouple {
             ),
         )?;
         let mut a = assemble::decouple(asm, rem, &joints, &opts)?;
-        if a.truncated.iter().any(|&t| t > 0) {
+        if regularised(&a) {
             cx.check_work(
-                "the plain decoupling the truncated one is compared with",
+                "the plain decoupling the regularised one is compared with",
                 coupling_work(
                     lines,
                     outs.saturating_add(rem.n_out()),
@@ -126,7 +237,7 @@ impl Operation for Decouple {
             let plain = assemble::decouple(asm, rem, &joints, &CouplingOptions::default());
             compare_with_plain(&mut a, plain, "decoupled FRFs");
         }
-        Ok(output(cx, "decouple", a, notes))
+        Ok(output(cx, "decouple", a, &opts, notes))
     }
 }
 
@@ -176,26 +287,40 @@ pub(crate) fn resolve_joints(cx: &Ctx, specs: &[JointSpec]) -> Result<(Vec<Joint
 /// Warn where a truncated-SVD result moves a peak of the plain solve
 /// ([`crate::peaks`]); a plain solve that fails (a singular interface) is
 /// said instead.
+/// The rule the noise-referenced values follow (for the step's notes).
+pub const NOISE_RULE: &str = "per line, √E‖δZ‖²_F / σ_max of the interface matrix Z = B Y Bᵀ + Γ, the root sum of the squared standard uncertainties of the FRF entries that make up Z (joints exact), relative to its largest singular value; a singular value moves by at most ‖δZ‖₂ ≤ ‖δZ‖_F (Weyl's inequality), so those below it cannot be told from the noise";
+
+/// Whether the regularisation changed some line (then the result is
+/// compared with the plain solve's peaks).
+fn regularised(a: &Assembled) -> bool {
+    a.truncated.iter().any(|&t| t > 0) || !a.damped.is_empty()
+}
+
 fn compare_with_plain(a: &mut Assembled, plain: Result<Assembled>, what: &str) {
     match plain {
         Ok(p) => a
             .warnings
             .extend(crate::peaks::peak_changes(&p.set, &a.set, what)),
         Err(e) => a.warnings.push(format!(
-            "the plain solve the truncation is compared with failed ({}), so its effect on the peaks is not checked",
+            "the plain solve the regularised one is compared with failed ({}), so its effect on the peaks is not checked",
             e.message
         )),
     }
 }
 
-fn output(cx: &Ctx, op: &str, a: Assembled, notes: Vec<String>) -> StepOutput {
+fn output(
+    cx: &Ctx,
+    op: &str,
+    a: Assembled,
+    opts: &CouplingOptions,
+    notes: Vec<String>,
+) -> StepOutput {
     let mut report = StepReport::new(cx.id, op, a.warnings.clone());
     report.notes = notes;
-    report.interface = Some(InterfaceReport::new(
-        &a.set.freqs,
-        &a.condition,
-        &a.truncated,
-    ));
+    report.interface = Some(
+        InterfaceReport::new(&a.set.freqs, &a.condition, &a.truncated)
+            .with_regularisation(opts.per_line.as_ref(), &a.damped),
+    );
     StepOutput {
         set: a.set,
         extras: Vec::new(),

@@ -322,6 +322,16 @@ pub(crate) fn parse_dofs(labels: &[String], what: &str) -> Result<Vec<Dof>> {
         .collect()
 }
 
+/// A regularisation operand ("tsvd", "tikhonov"): a fraction of the
+/// largest singular value per line, or a rule by name (`"noise"`: per line
+/// from the inputs' stated uncertainty).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum RelativeOrNoise {
+    Relative(f64),
+    Rule(String),
+}
+
 /// A relative singular-value threshold operand: finite, in (0, 1).
 pub(crate) fn check_tsvd(t: Option<f64>) -> Result<Option<f64>> {
     match t {

@@ -46,12 +46,7 @@ pub struct BlockedForces {
 
 /// The `tikhonov` operand: λ as a fraction of the largest singular value
 /// per line, or `"noise"`: λ from the FRFs' uncertainty.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(untagged)]
-pub enum TikhonovSpec {
-    Relative(f64),
-    Rule(String),
-}
+pub use super::RelativeOrNoise as TikhonovSpec;
 
 /// The λ rule that `"tikhonov": "noise"` names (for the help and the docs).
 pub const TIKHONOV_NOISE_RULE: &str = "per line, λ = (Σ u²)^½ over the standard uncertainties u of the indicator FRFs used (an estimate of ‖δH‖_F, which bounds the spectral norm of the FRF error): singular values well above the FRF noise are kept nearly whole, those below it are damped";
