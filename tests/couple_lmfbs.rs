@@ -226,6 +226,7 @@ fn redundant_joint_needs_and_gets_truncated_svd() {
     .unwrap();
     let opts = CouplingOptions {
         tsvd_rel_threshold: Some(1e-9),
+        per_line: None,
     };
     let got = couple(&three, &redundant, &opts).unwrap();
     assert!(got.truncated.iter().all(|&t| t == 1), "{:?}", got.truncated);
@@ -242,6 +243,7 @@ fn redundant_joint_needs_and_gets_truncated_svd() {
         &c.joints,
         &CouplingOptions {
             tsvd_rel_threshold: Some(0.0),
+            per_line: None,
         },
     )
     .unwrap();

@@ -642,3 +642,122 @@ fn tolerance_monte_carlo_gives_the_normal_quantiles() {
     let sd = bed["std_db"].as_f64().unwrap();
     assert!((sd - 0.869).abs() < 0.12, "{sd}");
 }
+
+/// The couple step's regularisation from the noise: `"tikhonov": "noise"`
+/// and `"tsvd": "noise"` take their per-line values from the parts' stated
+/// uncertainty, written in the step's report beside the lines they damped
+/// or dropped; the operands are used or refused by name (a word other than
+/// "noise", both at once, a λ of 0 or less, "noise" with no stated
+/// uncertainty). The per-line values are the interface noise threshold,
+/// whose formula is checked by hand in `uncertainty::interface_noise`.
+#[test]
+fn couple_step_regularised_from_the_noise_and_its_bad_operands() {
+    let dir = common::scratch("run_uncertainty_tikhonov");
+    let run = |edit: &dyn Fn(&mut Value), out: &str| {
+        let recipe = demo_recipe(&dir, |r| {
+            for c in ["casing", "bracket", "wall"] {
+                r["components"][c]["uncertainty"] = json!({"relative": 0.01, "floor_db": -60});
+            }
+            r.as_object_mut().unwrap().remove("variants");
+            edit(r);
+        });
+        let out = dir.join(out);
+        cli(&["run", recipe.to_str().unwrap(), "-o", out.to_str().unwrap()]).map(|_| {
+            let report: Value =
+                serde_json::from_str(&std::fs::read_to_string(out.join("report.json")).unwrap())
+                    .unwrap();
+            let step = report["steps"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .find(|s| s["id"] == "mounted")
+                .unwrap()
+                .clone();
+            step
+        })
+    };
+    let mounted = |r: &mut Value| -> usize {
+        r["steps"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .position(|s| s["id"] == "mounted")
+            .unwrap()
+    };
+    for (rule, method) in [("tikhonov", "tikhonov"), ("tsvd", "tsvd")] {
+        let step = run(
+            &|r: &mut Value| {
+                let k = mounted(r);
+                r["steps"][k][rule] = json!("noise");
+            },
+            &format!("out-{rule}"),
+        )
+        .unwrap();
+        let reg = &step["interface"]["regularisation"];
+        assert_eq!(reg["method"], method, "{step}");
+        let rel: Vec<f64> = reg["relative"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
+        let n = step["interface"]["condition"].as_array().unwrap().len();
+        assert_eq!(rel.len(), n);
+        // 1 % on three parts: the interface noise is of the order of 1 % of σ_max
+        let mut sorted = rel.clone();
+        sorted.sort_by(|a, b| a.total_cmp(b));
+        let median = sorted[n / 2];
+        eprintln!(
+            "{rule} from the noise: median {median:.2e}, {:.2e} … {:.2e}",
+            sorted[0],
+            sorted[n - 1]
+        );
+        assert!(median > 1e-4 && median < 0.2, "{median}");
+        let notes = step["notes"].to_string();
+        assert!(notes.contains("from the noise"), "{notes}");
+        if rule == "tikhonov" {
+            assert_eq!(step["interface"]["damped"].as_array().unwrap().len(), n);
+        }
+    }
+    for (value, more, expect) in [
+        (json!("loud"), None, "'tikhonov' is 'loud'"),
+        (json!(-1e-3), None, "'tikhonov' is -0.001"),
+        (json!(0.0), None, "'tikhonov' is 0"),
+        (json!(1e-3), Some(json!(1e-6)), "give one"),
+    ] {
+        let e = run(
+            &|r: &mut Value| {
+                let k = mounted(r);
+                r["steps"][k]["tikhonov"] = value.clone();
+                if let Some(t) = &more {
+                    r["steps"][k]["tsvd"] = t.clone();
+                }
+            },
+            "out-bad",
+        )
+        .unwrap_err();
+        let text = e.to_string();
+        assert!(text.contains(expect), "{value}: {text}");
+        assert!(text.contains("mounted"), "{value}: {text}");
+    }
+    // "noise" with no stated uncertainty on the parts
+    let e = run(
+        &|r: &mut Value| {
+            for c in ["casing", "bracket", "wall"] {
+                r["components"][c]
+                    .as_object_mut()
+                    .unwrap()
+                    .remove("uncertainty");
+            }
+            let k = mounted(r);
+            r["steps"][k]["tikhonov"] = json!("noise");
+        },
+        "out-none",
+    )
+    .unwrap_err();
+    let text = e.to_string();
+    assert!(
+        text.contains("carry none") && text.contains("tikhonov"),
+        "{text}"
+    );
+}

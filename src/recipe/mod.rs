@@ -38,8 +38,8 @@ pub use monte_carlo::{monte_carlo_draws, monte_carlo_levels, LevelSpread, Recipe
 pub use ops::{pick_toggled, pick_written};
 pub use ops::{
     virtual_point_groups, virtual_point_plan, vocabulary, BlockedForces, Cascade, Convert, Couple,
-    Decouple, Invert, Op, OpInfo, Operand, Parallel, Paths, RelativeOrNoise, Resample, Respond, Scale, Select,
-    Series, Step, Sum, ToVirtualPoints,
+    Decouple, Invert, Op, OpInfo, Operand, Parallel, Paths, RelativeOrNoise, Resample, Respond,
+    Scale, Select, Series, Step, Sum, ToVirtualPoints,
 };
 pub use report::{
     db_unit, level_rows, step_identification, weighting_for, BandChange, BlockedReport,

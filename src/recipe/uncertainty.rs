@@ -129,9 +129,8 @@ pub(crate) fn propagate(
             let parts = cx.get_all("parts", &c.parts)?;
             let (joints, _) = resolve_joints(cx, &c.joints)?;
             let us: Vec<Option<&FrfUncertainty>> = c.parts.iter().map(|n| get(n)).collect();
-            let noise = uncertainty::interface_noise::coupling_interface_noise(
-                &parts, &us, &joints, t,
-            )?;
+            let noise =
+                uncertainty::interface_noise::coupling_interface_noise(&parts, &us, &joints, t)?;
             let hit: Vec<usize> = (0..noise.len())
                 .filter(|&k| noise[k].dropped_above_noise > 0)
                 .collect();
@@ -171,12 +170,8 @@ pub(crate) fn propagate(
                 "the first-order uncertainty propagation of the coupling",
                 first_order_work(out.set.n_lines(), rows, cols, joints.len(), rows),
             )?;
-            let fo = uncertainty::couple_first_order(
-                &parts,
-                &us,
-                &joints,
-                &CouplingOptions::default(),
-            )?;
+            let fo =
+                uncertainty::couple_first_order(&parts, &us, &joints, &CouplingOptions::default())?;
             let cond = condition(out);
             let mut r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
             let noise =

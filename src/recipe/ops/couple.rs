@@ -74,7 +74,13 @@ fn regularisation(
             // noise hides is dropped, the largest is kept
             let t = noise("tsvd")?
                 .into_iter()
-                .map(|t| if t.is_nan() { 0.0 } else { t.min(1.0 - f64::EPSILON) })
+                .map(|t| {
+                    if t.is_nan() {
+                        0.0
+                    } else {
+                        t.min(1.0 - f64::EPSILON)
+                    }
+                })
                 .collect();
             CouplingOptions {
                 tsvd_rel_threshold: None,
