@@ -96,6 +96,7 @@ struct Executed {
     steps: Vec<StepReport>,
 }
 
+#[allow(clippy::too_many_arguments)]
 fn execute(
     recipe: &Recipe,
     comps: &BTreeMap<String, FrfSet>,
@@ -104,7 +105,14 @@ fn execute(
     limits: &Limits,
     files: &dyn FileSource,
     propagating: bool,
+    demand_driven: bool,
 ) -> Result<Executed> {
+    // what later steps read of each coupling (none: every step whole)
+    let demands = if demand_driven {
+        super::demand::requests(recipe)?
+    } else {
+        BTreeMap::new()
+    };
     let mut values: BTreeMap<String, FrfSet> = comps.clone();
     let mut unc: BTreeMap<String, FrfUncertainty> = comp_unc.clone();
     let mut assessed: BTreeMap<String, Assessed> = BTreeMap::new();
@@ -154,6 +162,7 @@ fn execute(
             files,
             steps: &steps,
             uncertainties: &unc,
+            demand: demands.get(&step.id),
         };
         let mut out = step.op.run(&cx).map_err(|e| e.within(label.clone()))?;
         let mut extra_unc = Vec::new();
@@ -240,7 +249,7 @@ pub(crate) fn execute_on(
     limits: &Limits,
     files: &dyn FileSource,
 ) -> Result<Vec<StepReport>> {
-    Ok(execute(recipe, comps, comp_unc, variant, limits, files, false)?.steps)
+    Ok(execute(recipe, comps, comp_unc, variant, limits, files, false, true)?.steps)
 }
 
 /// Every set of the baseline run on `comps` (components and step results),
@@ -252,7 +261,7 @@ pub(crate) fn baseline_values(
     files: &dyn FileSource,
 ) -> Result<BTreeMap<String, FrfSet>> {
     let (unc, _) = super::uncertainty::component_uncertainties(recipe, comps)?;
-    Ok(execute(recipe, comps, &unc, None, limits, files, false)?.values)
+    Ok(execute(recipe, comps, &unc, None, limits, files, false, false)?.values)
 }
 
 /// The sets the step at index `n` can read, as the baseline run makes them:
@@ -270,7 +279,7 @@ pub(crate) fn values_before(
     before.steps.truncate(n);
     before.variants.clear();
     let (unc, _) = component_uncertainties(&before, &comps)?;
-    Ok(execute(&before, &comps, &unc, None, limits, files, true)?.values)
+    Ok(execute(&before, &comps, &unc, None, limits, files, true, false)?.values)
 }
 
 /// The uncertainty of a set scaled by `f`: |f| times.
@@ -328,13 +337,22 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
     check_uncertainty_used(recipe)?;
     let comps = load_components_with(recipe, files, limits)?;
     let (comp_unc, unc_notes) = component_uncertainties(recipe, &comps)?;
-    let base = execute(recipe, &comps, &comp_unc, None, limits, files, true)?;
+    let base = execute(recipe, &comps, &comp_unc, None, limits, files, true, true)?;
     let mut uncertainties = BTreeMap::new();
     let mut outputs = collect(recipe, &base, "", &mut uncertainties);
     let mut variants = Vec::new();
     for (n, v) in recipe.variants.iter().enumerate() {
-        let res = execute(recipe, &comps, &comp_unc, Some(v), limits, files, true)
-            .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
+        let res = execute(
+            recipe,
+            &comps,
+            &comp_unc,
+            Some(v),
+            limits,
+            files,
+            true,
+            true,
+        )
+        .map_err(|e| e.within(format!("variants[{n}] ('{}')", v.name)))?;
         outputs.extend(collect(
             recipe,
             &res,

@@ -18,6 +18,7 @@
 //! `help` (the schema text).
 
 mod component;
+mod demand;
 pub(crate) mod execute;
 mod headline;
 mod help;

@@ -170,8 +170,23 @@ pub(crate) fn propagate(
                 "the first-order uncertainty propagation of the coupling",
                 first_order_work(out.set.n_lines(), rows, cols, joints.len(), rows),
             )?;
-            let fo =
+            let mut fo =
                 uncertainty::couple_first_order(&parts, &us, &joints, &CouplingOptions::default())?;
+            if cx.demand.is_some() {
+                // the step computed only the rows and columns later steps read
+                let all = |f: fn(&FrfSet) -> &[crate::frf::Dof]| {
+                    parts
+                        .iter()
+                        .flat_map(|p| f(p).iter().cloned())
+                        .collect::<Vec<_>>()
+                };
+                fo = fo.select(
+                    &all(|p| &p.outputs),
+                    &all(|p| &p.inputs),
+                    &out.set.outputs,
+                    &out.set.inputs,
+                )?;
+            }
             let cond = condition(out);
             let mut r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
             let noise =

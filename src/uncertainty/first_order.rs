@@ -21,7 +21,7 @@
 use super::model::FrfUncertainty;
 use crate::assemble::{prepare_coupling, prepare_decoupling, CouplingOptions, Joint, Prepared};
 use crate::error::{Error, Result};
-use crate::frf::FrfSet;
+use crate::frf::{Dof, FrfSet};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
@@ -68,6 +68,59 @@ pub fn decouple_first_order(
 ) -> Result<FirstOrder> {
     let prep = prepare_decoupling(assembly, removed, joints, opts)?;
     propagate(&prep, &[assembly, removed], &[u_assembly, u_removed], opts)
+}
+
+impl FirstOrder {
+    /// The values of the rows `outputs` and columns `inputs` (matched by
+    /// place; a sign-flipped label has the same standard uncertainty) of a
+    /// first order whose set has the rows `all_outputs` and columns
+    /// `all_inputs`: what a demand-driven coupling's result, which holds
+    /// only those, carries.
+    pub fn select(
+        &self,
+        all_outputs: &[Dof],
+        all_inputs: &[Dof],
+        outputs: &[Dof],
+        inputs: &[Dof],
+    ) -> Result<FirstOrder> {
+        let find = |all: &[Dof], want: &[Dof]| -> Result<Vec<usize>> {
+            want.iter()
+                .map(|w| {
+                    all.iter().position(|a| a.same_place(w)).ok_or_else(|| {
+                        Error::usage(format!("the first order has no DOF {w} to select"))
+                    })
+                })
+                .collect()
+        };
+        let (ro, ci) = (find(all_outputs, outputs)?, find(all_inputs, inputs)?);
+        let (no, ni) = (all_outputs.len(), all_inputs.len());
+        let nl = self.uncertainty.std.len() / (no * ni).max(1);
+        if nl * no * ni != self.uncertainty.std.len() {
+            return Err(Error::internal(format!(
+                "a first order of {} values is not {no} × {ni} per line",
+                self.uncertainty.std.len()
+            )));
+        }
+        let pick = |v: &[f64]| -> Vec<f64> {
+            let mut out = Vec::with_capacity(nl * ro.len() * ci.len());
+            for k in 0..nl {
+                for &o in &ro {
+                    for &i in &ci {
+                        out.push(v[(k * no + o) * ni + i]);
+                    }
+                }
+            }
+            out
+        };
+        Ok(FirstOrder {
+            uncertainty: FrfUncertainty {
+                std: pick(&self.uncertainty.std),
+                method: self.uncertainty.method.clone(),
+            },
+            cancellation: pick(&self.cancellation),
+            input_relative: pick(&self.input_relative),
+        })
+    }
 }
 
 fn propagate(

@@ -169,13 +169,32 @@ impl Operation for Couple {
             ),
             coupling_work(lines, outs, ins, joints.len()),
         )?;
-        let mut a = assemble::couple(&parts, &joints, &opts)?;
+        // only the rows and columns later steps read, when that is all they
+        // read (recipe::demand): the same values, bit for bit
+        let couple = |o: &CouplingOptions| {
+            match cx.demand {
+            Some(req) => assemble::couple_requested(&parts, &joints, o, req).map(|d| {
+                let ((r, c), (wr, wc)) = (d.solved, d.whole);
+                (
+                    d.assembled,
+                    Some(format!(
+                        "computed {} × {} of the {wr} × {wc} coupled matrix: the rows and columns the later selects read ({r} × {c} solved with the interface DOFs); the values equal the whole coupling's",
+                        req.outputs.len(),
+                        req.inputs.len()
+                    )),
+                )
+            }),
+            None => assemble::couple(&parts, &joints, o).map(|a| (a, None)),
+        }
+        };
+        let (mut a, computed) = couple(&opts)?;
+        notes.extend(computed);
         if regularised(&a) {
             cx.check_work(
                 "the plain coupling the regularised one is compared with",
                 coupling_work(lines, outs, ins, joints.len()),
             )?;
-            let plain = assemble::couple(&parts, &joints, &CouplingOptions::default());
+            let plain = couple(&CouplingOptions::default()).map(|(a, _)| a);
             compare_with_plain(&mut a, plain, "coupled FRFs");
         }
         Ok(output(cx, "couple", a, &opts, notes))

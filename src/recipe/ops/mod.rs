@@ -86,6 +86,9 @@ pub(crate) struct Ctx<'a> {
     /// The standard uncertainty of the components and earlier results that
     /// carry one, by name (a step may take a regularisation from it).
     pub uncertainties: &'a BTreeMap<String, crate::uncertainty::FrfUncertainty>,
+    /// The rows and columns later steps read of this step's result, when
+    /// that is all they read (`recipe::demand`); None: the whole result.
+    pub demand: Option<&'a crate::assemble::Request>,
 }
 
 impl Ctx<'_> {
