@@ -6,7 +6,7 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance};
 use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, ChannelSpec};
-use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use crate::signal::orders::{order_tracks, parse_profile, OrderSettings, Speed};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -28,24 +28,6 @@ fn whole(args: &Args, name: &str, default: usize) -> Result<usize> {
             .parse::<usize>()
             .map_err(|_| Error::usage(format!("--{name} '{}': expected a whole number", quote(v)))),
     }
-}
-
-fn profile(text: &str) -> Result<Vec<(f64, f64)>> {
-    text.split(',')
-        .map(|p| {
-            let bad = || {
-                Error::usage(format!(
-                    "--speed: '{}' is not TIME:RPM (e.g. '0:600,20:3600')",
-                    quote(p)
-                ))
-            };
-            let (t, r) = p.split_once(':').ok_or_else(bad)?;
-            Ok((
-                t.trim().parse::<f64>().map_err(|_| bad())?,
-                r.trim().parse::<f64>().map_err(|_| bad())?,
-            ))
-        })
-        .collect()
 }
 
 pub fn run(args: &Args) -> Result<Done> {
@@ -140,7 +122,12 @@ pub fn run(args: &Args) -> Result<Done> {
                 Some(i),
             )
         }
-        (None, Some(t)) => (Speed::Profile(profile(t)?), None),
+        (None, Some(t)) => (
+            Speed::Profile(
+                parse_profile(t).map_err(|e| Error::usage(format!("--speed: {}", e.message)))?,
+            ),
+            None,
+        ),
         (None, None) => return Err(Error::internal("speed checked above")),
     };
     let name = format!("{} order {order}", io::file_stem(path));

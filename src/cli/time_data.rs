@@ -91,9 +91,9 @@ fn impact_settings(args: &Args) -> Result<Option<ImpactSettings>> {
     };
     Ok(Some(ImpactSettings {
         level,
-        pre_trigger_s: seconds(args, "pre-trigger")?.unwrap_or(0.01),
+        pre_trigger_s: seconds(args, "pre-trigger")?.unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
         length_s,
-        double_hit_fraction: seconds(args, "double-hit")?.unwrap_or(0.1),
+        double_hit_fraction: seconds(args, "double-hit")?.unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
         force_width_s: seconds(args, "force-width")?,
         decay_s: seconds(args, "decay")?,
     }))

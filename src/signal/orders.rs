@@ -47,6 +47,27 @@ pub struct OrderSettings {
     pub samples_per_rev: usize,
 }
 
+/// A speed profile written `TIME:RPM, ...` (e.g. `0:600, 20:3600`), as
+/// `mortise orders --speed` and the page take it; checked by [`angle`].
+pub fn parse_profile(text: &str) -> Result<Vec<(f64, f64)>> {
+    text.split(',')
+        .map(|p| {
+            let bad = || {
+                Error::usage(format!(
+                    "'{}' is not TIME:RPM (e.g. '0:600,20:3600')",
+                    crate::error::quote(p)
+                ))
+                .field("speed")
+            };
+            let (t, r) = p.split_once(':').ok_or_else(bad)?;
+            Ok((
+                t.trim().parse::<f64>().map_err(|_| bad())?,
+                r.trim().parse::<f64>().map_err(|_| bad())?,
+            ))
+        })
+        .collect()
+}
+
 /// θ in revolutions at every sample time (NaN where the speed source does
 /// not cover it).
 pub fn angle(speed: &Speed, n: usize, fs: f64) -> Result<Vec<f64>> {
@@ -351,4 +372,84 @@ pub fn order_tracks(
         }
     }
     Ok(sets)
+}
+
+/// One channel's order track as a speed sweep's source table
+/// (`"by_speed"` rows `[speed rev/s, re, im]`, see the recipe's speed
+/// sweep): `dof` and `order` as an entry of the sweep's `orders` takes them.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct BySpeed {
+    pub dof: String,
+    pub order: f64,
+    pub by_speed: Vec<[f64; 3]>,
+}
+
+/// The order tracks `sets` (of order `order`, lines at order × speed) read
+/// at every multiple of `step` rev/s inside the tracked speeds, linear in
+/// re and im between blocks (the sweep reads the table the same way), one
+/// table per channel. Refused: a step that is not a positive number, a
+/// range holding fewer than two steps, more than `max_rows` rows.
+pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Result<Vec<BySpeed>> {
+    if !(step.is_finite() && step > 0.0) {
+        return Err(Error::usage(format!(
+            "speed step {step} rev/s; expected a positive number"
+        ))
+        .field("by_speed"));
+    }
+    if !(order.is_finite() && order > 0.0) {
+        return Err(
+            Error::usage(format!("order {order}; expected a positive number")).field("order"),
+        );
+    }
+    let mut out = Vec::new();
+    for set in sets {
+        let speeds: Vec<f64> = set.freqs.iter().map(|f| f / order).collect();
+        let (Some(&lo), Some(&hi)) = (speeds.first(), speeds.last()) else {
+            continue;
+        };
+        let first = (lo / step - 1e-9).ceil();
+        let last = (hi / step + 1e-9).floor();
+        let rows = last - first + 1.0;
+        if !(rows >= 2.0) {
+            return Err(Error::usage(format!(
+                "the tracked speeds {lo:.4} to {hi:.4} rev/s hold fewer than two steps of {step} rev/s; choose a smaller step"
+            ))
+            .field("by_speed"));
+        }
+        if rows > max_rows as f64 {
+            return Err(Error::usage(format!(
+                "steps of {step} rev/s over {lo:.4} to {hi:.4} rev/s make {rows} rows, over {max_rows}; choose a larger step"
+            ))
+            .field("by_speed"));
+        }
+        for (j, dof) in set.outputs.iter().enumerate() {
+            let mut table = Vec::with_capacity(rows as usize);
+            let mut k = 0;
+            for m in 0..rows as usize {
+                let s = (first + m as f64) * step;
+                // the block speeds around s (s inside [lo, hi] up to rounding)
+                while k + 2 < speeds.len() && speeds[k + 1] < s {
+                    k += 1;
+                }
+                let (s0, s1) = (speeds[k], speeds[(k + 1).min(speeds.len() - 1)]);
+                let (a, b) = (set.get(k, j, 0), set.get((k + 1).min(speeds.len() - 1), j, 0));
+                let u = if s1 > s0 {
+                    ((s - s0) / (s1 - s0)).clamp(0.0, 1.0)
+                } else {
+                    0.0
+                };
+                let v = a + (b - a) * u;
+                table.push([s, v.re, v.im]);
+            }
+            out.push(BySpeed {
+                dof: dof.to_string(),
+                order,
+                by_speed: table,
+            });
+        }
+    }
+    if out.is_empty() {
+        return Err(Error::usage("no order track to tabulate").field("by_speed"));
+    }
+    Ok(out)
 }

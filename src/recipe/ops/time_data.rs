@@ -373,9 +373,9 @@ impl Operation for EstimateFrf {
                 };
                 let settings = ImpactSettings {
                     level: i.trigger,
-                    pre_trigger_s: i.pre_trigger.unwrap_or(0.01),
+                    pre_trigger_s: i.pre_trigger.unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
                     length_s: i.record_length,
-                    double_hit_fraction: i.double_hit.unwrap_or(0.1),
+                    double_hit_fraction: i.double_hit.unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
                     force_width_s: i.force_width,
                     decay_s: i.decay,
                 };
