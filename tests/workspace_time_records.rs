@@ -200,3 +200,128 @@ fn impact_records_on_the_page_equal_the_command_line_and_flag_the_double_hit() {
     .unwrap_err();
     assert!(e.to_string().contains("hammer"), "{e}");
 }
+
+/// Worst amplitude error (dB) and phase error (rad) of a table against the
+/// run-up's known order 2 (tests/py/runup_by_speed.py).
+fn against_known(rows: &[[f64; 3]], r: &serde_json::Value) -> (f64, f64) {
+    let speeds = r["speeds"].as_array().unwrap();
+    let (mut db, mut ph) = (0.0f64, 0.0f64);
+    for row in rows {
+        let i = speeds
+            .iter()
+            .position(|s| (s.as_f64().unwrap() - row[0]).abs() < 1e-9)
+            .unwrap_or_else(|| panic!("speed {} is not on the reference's grid", row[0]));
+        let want = num_complex::Complex64::new(
+            r["re"][i].as_f64().unwrap(),
+            r["im"][i].as_f64().unwrap(),
+        );
+        let got = num_complex::Complex64::new(row[1], row[2]);
+        db = db.max((20.0 * (got.norm() / want.norm()).log10()).abs());
+        ph = ph.max((got / want).arg().abs());
+    }
+    (db, ph)
+}
+
+/// `mortise orders --by-speed` on a numpy run-up whose order 2 changes with
+/// speed recovers it within 0.1 dB (the bound) at every step, from the
+/// speed profile and from the tachometer; the table reads as a speed
+/// sweep's orders entries; the page's order tracks give the same table.
+#[test]
+fn order_by_speed_tables_recover_a_speed_dependent_order() {
+    let dir = common::scratch("workspace_time_records_orders");
+    let csv = dir.join("runup.csv");
+    let r: serde_json::Value =
+        serde_json::from_str(&common::run_py("runup_by_speed.py", &[csv.to_str().unwrap()]))
+            .unwrap();
+    let out = dir.join("o2.csv");
+    let argv = |extra: &[&str]| -> Vec<String> {
+        let mut v = vec![
+            "orders",
+            csv.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--order",
+            "2",
+            "--by-speed",
+            "2.5",
+        ];
+        v.extend_from_slice(extra);
+        v.iter().map(|s| s.to_string()).collect()
+    };
+    let mut tables = Vec::new();
+    // phase bounds: the profile's angle is exact (0.02 rad); a square-wave
+    // tachometer places each pulse within half a sample, so order 2's phase
+    // within 2π · 2 · 60 rev/s / (2 · 4096 Hz) = 0.092 rad at the top speed
+    for (how, extra, phase_bound) in [
+        ("speed profile", vec!["--speed", r["speed"].as_str().unwrap()], 0.02),
+        (
+            "tachometer",
+            vec!["--tach", "tach:1+Z", "--tach-level", "0.5", "--pulses-per-rev", "1"],
+            0.092,
+        ),
+    ] {
+        let text = mortise::cli::run_cli(&argv(&extra)).unwrap();
+        assert!(text.contains("o2.by-speed.json"), "{text}");
+        let bytes = std::fs::read(dir.join("o2.by-speed.json")).unwrap();
+        let entries: Vec<mortise::recipe::OrderForce> =
+            serde_json::from_slice(&bytes).unwrap();
+        let fan = entries.iter().find(|e| e.dof == "fan:1+Z").unwrap();
+        assert_eq!(fan.order, 2.0);
+        let rows = fan.by_speed.as_ref().unwrap();
+        // every multiple of 2.5 rev/s inside the tracked speeds (about 11 to 59 rev/s)
+        assert!(rows.len() >= 18, "{how}: {} rows", rows.len());
+        assert!(rows.iter().all(|row| (row[0] / 2.5).fract() == 0.0));
+        let (db, ph) = against_known(rows, &r);
+        println!("# measure order-by-speed table ({how}): {} rows from {} to {} rev/s, worst {db:.4} dB, {ph:.4} rad", rows.len(), rows[0][0], rows[rows.len() - 1][0]);
+        assert!(db < 0.1, "{how}: {db} dB");
+        assert!(ph < phase_bound, "{how}: {ph} rad");
+        // the sweep reads between rows linearly: halfway is the rows' mean
+        let mid = fan.amplitude_at(rows[0][0] + 1.25).unwrap();
+        assert!((mid.re - 0.5 * (rows[0][1] + rows[1][1])).abs() < 1e-12);
+        tables.push(bytes);
+    }
+    // the page: the same order tracks and table from the recording
+    let mut ws = Workspace::new();
+    ws.load_file("runup.csv", &std::fs::read(&csv).unwrap(), json!({}))
+        .unwrap();
+    let page = ws
+        .analyse_time(
+            "runup.csv",
+            &request(json!({"analysis": "orders", "orders": {"order": 2,
+                "speed": r["speed"], "by_speed": 2.5}})),
+        )
+        .unwrap();
+    assert_eq!(page.file, "runup.order2.csv");
+    let page_tables = page.by_speed.unwrap();
+    let cli: Vec<mortise::recipe::OrderForce> = serde_json::from_slice(&tables[0]).unwrap();
+    assert_eq!(page_tables.len(), cli.len());
+    for (p, c) in page_tables.iter().zip(&cli) {
+        assert_eq!(p.dof, c.dof);
+        assert_eq!(Some(&p.by_speed), c.by_speed.as_ref());
+    }
+    // fields used or refused
+    for (bad, field) in [
+        (json!({"analysis": "orders", "orders": {"order": 2}}), "speed"),
+        (
+            json!({"analysis": "orders", "orders": {"order": 2, "speed": "0:600,20:3600", "tach_level": 1}}),
+            "tach_level",
+        ),
+        (
+            json!({"analysis": "orders", "window": "hann", "orders": {"order": 2, "speed": "0:600,20:3600"}}),
+            "window",
+        ),
+        (
+            json!({"analysis": "orders", "orders": {"order": 2, "speed": "0:600,20:3600", "by_speed": 100}}),
+            "by_speed",
+        ),
+        (
+            json!({"analysis": "orders", "orders": {"order": 2, "speed": "0:600;20:3600"}}),
+            "speed",
+        ),
+    ] {
+        let e = ws
+            .analyse_time("runup.csv", &request(bad.clone()))
+            .unwrap_err();
+        assert_eq!(e.field.as_deref(), Some(field), "{bad}: {e}");
+    }
+}

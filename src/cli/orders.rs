@@ -6,7 +6,7 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance};
 use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, ChannelSpec};
-use crate::signal::orders::{order_tracks, parse_profile, OrderSettings, Speed};
+use crate::signal::orders::{by_speed, order_tracks, parse_profile, OrderSettings, Speed};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -139,9 +139,31 @@ pub fn run(args: &Args) -> Result<Done> {
                 e
             }
         })?;
+    let by_speed = number(args, "by-speed")?
+        .map(|step| {
+            by_speed(&sets, order, step, crate::signal::orders::MAX_BY_SPEED_ROWS)
+                .map_err(|e| Error::usage(format!("--by-speed: {}", e.message)))
+        })
+        .transpose()?;
     let exported = io::export(&sets, fmt)?;
     std::fs::write(out, &exported.bytes)
         .map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
+    let table_file = match &by_speed {
+        Some(t) => {
+            let stem = Path::new(out).with_extension("");
+            let file = format!("{}.by-speed.json", stem.display());
+            // one entry a line, ready to paste into a speed sweep's "orders"
+            let lines = t
+                .iter()
+                .map(serde_json::to_string)
+                .collect::<std::result::Result<Vec<_>, _>>()
+                .map_err(|e| super::internal(e.to_string()))?;
+            std::fs::write(&file, format!("[\n{}\n]\n", lines.join(",\n")))
+                .map_err(|e| Error::io(format!("cannot write '{file}': {e}")))?;
+            Some(file)
+        }
+        None => None,
+    };
     let what = sets[0]
         .provenance
         .first()
@@ -158,10 +180,18 @@ pub fn run(args: &Args) -> Result<Done> {
                 "to_hz": s.freqs.last(),
             })).collect::<Vec<_>>(),
             "tracking": what,
+            "by_speed_file": table_file,
             "notes": notes,
         })));
     }
     let mut s = format!("wrote {out}: {} set(s), {what}\n", sets.len());
+    if let (Some(file), Some(t)) = (&table_file, &by_speed) {
+        s.push_str(&format!(
+            "wrote {file}: {} table(s) of {} speed(s) for a speed sweep's orders\n",
+            t.len(),
+            t.first().map_or(0, |x| x.by_speed.len())
+        ));
+    }
     for n in &notes {
         s.push_str(&format!("  note: {n}\n"));
     }

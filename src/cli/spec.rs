@@ -888,7 +888,8 @@ pub const ORDERS: Command = Command {
             peak spectrum set per quantity whose lines are the order's frequency (order × rpm / 60) \
             at each block's speed, the complex amplitude's phase referred to angle 0: a run-up becomes \
             an excitation over frequency. The speed must rise or fall throughout; --order times \
-            --revolutions must be a whole number.",
+            --revolutions must be a whole number. --by-speed STEP tabulates the tracks against \
+            speed for a speed sweep (the recipe's by_speed rows).",
     groups: &[
         Group {
             title: "options",
@@ -912,6 +913,11 @@ pub const ORDERS: Command = Command {
                     "samples-per-rev",
                     "S",
                     "samples per revolution after resampling (orders up to S/2 − 1; default 64)",
+                ),
+                val(
+                    "by-speed",
+                    "STEP",
+                    "also write OUT's stem + '.by-speed.json': each channel's track read every STEP rev/s, as a speed sweep's orders entries with by_speed rows [speed rev/s, re, im]",
                 ),
                 many(
                     "channel",

@@ -374,6 +374,9 @@ pub fn order_tracks(
     Ok(sets)
 }
 
+/// Most rows of a speed sweep's source table made from an order track.
+pub const MAX_BY_SPEED_ROWS: usize = 100_000;
+
 /// One channel's order track as a speed sweep's source table
 /// (`"by_speed"` rows `[speed rev/s, re, im]`, see the recipe's speed
 /// sweep): `dof` and `order` as an entry of the sweep's `orders` takes them.

@@ -25,7 +25,10 @@ use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, BTreeSet};
 
 pub mod time;
-pub use time::{time_analysis_options, window_corrections, TimeRequest, TimeResult};
+pub use time::{
+    time_analysis_options, window_corrections, ImpactRequest, OrdersRequest, RecordInfo, TimeRequest,
+    TimeResult, ORDER_DEFAULTS,
+};
 
 /// A loaded file.
 #[derive(Debug, Clone)]

@@ -157,9 +157,6 @@ pub struct OrdersRequest {
 /// block and samples per revolution when not given (as `mortise orders`).
 pub const ORDER_DEFAULTS: (f64, f64, usize, usize) = (0.5, 1.0, 8, 64);
 
-/// Most rows of a speed sweep's source table made from an order track.
-pub const MAX_BY_SPEED_ROWS: usize = 100_000;
-
 /// What a request asks for, read.
 enum Plan {
     /// Welch averages or impact records (`averaging` unused by the latter).
@@ -964,7 +961,7 @@ impl Workspace {
                         .map_err(|e| e.in_file(name))?;
                 let tables = by_speed
                     .map(|step| {
-                        orders::by_speed(&sets, settings.order, step, MAX_BY_SPEED_ROWS)
+                        orders::by_speed(&sets, settings.order, step, orders::MAX_BY_SPEED_ROWS)
                     })
                     .transpose()?;
                 let described = sets
