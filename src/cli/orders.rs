@@ -91,6 +91,7 @@ pub fn run(args: &Args) -> Result<Done> {
         .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
     drop(file);
     let (rec, notes, prov) = if io::wav::looks_like_wav(&head[..n]) {
+        super::time_data::time_map(args, true)?;
         let f = io::disk::open_stream(Path::new(path), path)?;
         // hashed as the blocks pass (`io::wav::hashing`), then the bytes after the samples
         let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
@@ -107,8 +108,10 @@ pub fn run(args: &Args) -> Result<Done> {
         };
         (rec, notes, prov)
     } else {
-        let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;
-        (rec, Vec::new(), prov)
+        let map = super::time_data::time_map(args, false)?;
+        let (rec, prov, notes) =
+            super::time_data::recording_of(path, &shown, &specs, map.as_ref(), &limits)?;
+        (rec, notes, prov)
     };
     let (speed, tach_index) = match (&tach, speed_text) {
         (Some(d), _) => {

@@ -744,6 +744,7 @@ const TIME_GROUP: Group = Group {
              (channels not described are left out, with a note), refused for UFF and CSV \
              files, whose channels carry their DOFs and units",
         ),
+        TIME_MAP_OPT,
         val(
             "to",
             "FORMAT",
@@ -751,6 +752,16 @@ const TIME_GROUP: Group = Group {
         ),
     ],
 };
+
+/// A supplier's time CSV read through a time column map (spectrum,
+/// estimate, orders).
+const TIME_MAP_OPT: Opt = val(
+    "time-map",
+    "FILE",
+    "a supplier's time CSV: a JSON file mapping its columns (delimiter, skip_rows, header_line, \
+     unit_line, decimal_comma, time and time_unit s or ms, channels [{column, dof, unit}]; \
+     columns by name or number; see README 'time CSV through a column map')",
+);
 
 /// Triggered impact records, for `estimate` and `spectrum --kind esd`.
 const IMPACT_GROUP: Group = Group {
@@ -924,6 +935,7 @@ pub const ORDERS: Command = Command {
                     "'N=DOF QTY FS UNIT'",
                     "a WAV channel, as for 'mortise spectrum' (required for WAV files)",
                 ),
+                TIME_MAP_OPT,
                 val(
                     "to",
                     "FORMAT",

@@ -208,7 +208,10 @@ impl Workspace {
         options: serde_json::Value,
         progress: &mut dyn FnMut(usize),
     ) -> Result<FileSummary> {
-        let recording = io::wav::looks_like_wav(bytes) || io::time_csv::looks_like_time_csv(bytes);
+        // a supplier's time CSV is told by its time map, not by its content
+        let recording = io::wav::looks_like_wav(bytes)
+            || io::time_csv::looks_like_time_csv(bytes)
+            || options.get("time_map").is_some_and(|m| !m.is_null());
         // a recording takes its own options (`time.rs`), checked there
         let opts = if recording {
             ImportOptions::default()

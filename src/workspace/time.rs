@@ -43,6 +43,9 @@ struct RecordingOptions {
     channels: Option<Vec<String>>,
     #[serde(default)]
     component: Option<String>,
+    /// A supplier's time CSV's column map ([`io::csv::TimeColumnMap`]).
+    #[serde(default)]
+    time_map: Option<serde_json::Value>,
 }
 
 /// One analysis of a recording, as the page asks for it. Every field is
@@ -705,7 +708,7 @@ impl Workspace {
         } else {
             serde_json::from_value(options.clone()).map_err(|e| {
                 Error::usage(format!(
-                    "import options of a recording: {e}; a recording takes 'channels' (WAV) and 'component'"
+                    "import options of a recording: {e}; a recording takes 'channels' (WAV), 'time_map' (a supplier's time CSV) and 'component'"
                 ))
                 .field("options")
                 .in_file(name)
@@ -715,7 +718,20 @@ impl Workspace {
             .component
             .clone()
             .unwrap_or_else(|| io::file_stem(name));
-        let (rec, over, format, notes) = if io::wav::looks_like_wav(bytes) {
+        let (rec, over, format, notes) = if let Some(m) = &opts.time_map {
+            if io::wav::looks_like_wav(bytes) || opts.channels.is_some() {
+                return Err(Error::usage(
+                    "'time_map' reads a supplier's time CSV; a WAV file's channels are described by 'channels'",
+                )
+                .field("time_map")
+                .in_file(name));
+            }
+            let map = io::csv::TimeColumnMap::from_json(m.clone()).map_err(|e| e.in_file(name))?;
+            let (rec, notes) = io::csv::read_time_mapped(bytes, name, &map, &component)?;
+            self.check_recording_room(name, held_bytes(rec.channels.len(), rec.len() as u64))?;
+            let over = vec![None; rec.channels.len()];
+            (rec, over, "time-csv (mapped)".to_string(), notes)
+        } else if io::wav::looks_like_wav(bytes) {
             let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), name)?;
             let info = wav.info.clone();
             let Some(channels) = &opts.channels else {
