@@ -38,7 +38,11 @@ fn a_supplier_time_csv_reads_through_its_map_as_numpy_reads_it() {
         .load_file("bench-run4.csv", &bytes, json!({ "time_map": map }))
         .unwrap();
     let rec_sum = sum.recording.as_ref().expect("a recording");
-    assert!(rec_sum.notes.iter().any(|n| n.contains("'Temp'")), "{:?}", rec_sum.notes);
+    assert!(
+        rec_sum.notes.iter().any(|n| n.contains("'Temp'")),
+        "{:?}",
+        rec_sum.notes
+    );
     let rec = ws.recording("bench-run4.csv").unwrap();
     // numpy's reading: time steps of 0.5 ms, force in N, acceleration in g
     // (g = 9.80665 m/s², the standard acceleration of gravity, CGPM 1901)
@@ -46,10 +50,9 @@ fn a_supplier_time_csv_reads_through_its_map_as_numpy_reads_it() {
     assert!((rec.fs - 1000.0 / (t[1] - t[0])).abs() < 1e-9, "{}", rec.fs);
     assert_eq!(rec.samples[0], arr(&r["force"]));
     let acc: Vec<f64> = arr(&r["acc_g"]).iter().map(|a| a * 9.80665).collect();
-    let worst = rec.samples[1]
-        .iter()
-        .zip(&acc)
-        .fold(0.0f64, |m, (a, b)| m.max((a - b).abs() / b.abs().max(1e-300)));
+    let worst = rec.samples[1].iter().zip(&acc).fold(0.0f64, |m, (a, b)| {
+        m.max((a - b).abs() / b.abs().max(1e-300))
+    });
     assert!(worst < 1e-15, "{worst:e}");
     // the command line with the map in a file: the PSD scipy gives on numpy's reading
     let map_file = dir.join("bench.time-map.json");

@@ -47,8 +47,10 @@ fn impact_records_on_the_page_equal_the_command_line_and_flag_the_double_hit() {
         .unwrap();
     let impact = json!({"trigger": r["trigger"], "record_length": r["record_length"],
         "pre_trigger": r["pre_trigger"], "force_width": r["force_width"], "decay": r["decay"]});
-    let req = request(json!({"analysis": "frf", "inputs": [r["input"]], "estimator": "H1",
-        "impact": impact}));
+    let req = request(
+        json!({"analysis": "frf", "inputs": [r["input"]], "estimator": "H1",
+        "impact": impact}),
+    );
     let out = ws.analyse_time("hammer.wav", &req).unwrap();
     assert_eq!(out.file, "hammer.impact-h1.csv");
     // the verdicts put in by construction
@@ -69,13 +71,17 @@ fn impact_records_on_the_page_equal_the_command_line_and_flag_the_double_hit() {
         match verdict.as_str() {
             "accepted" => assert!(rec.rejected.is_none(), "{rec:?}"),
             v => assert!(
-                rec.rejected.as_deref().is_some_and(|why| why.starts_with(v)),
+                rec.rejected
+                    .as_deref()
+                    .is_some_and(|why| why.starts_with(v)),
                 "{rec:?} should be '{v}'"
             ),
         }
     }
     assert_eq!((out.accepted, out.rejected), (4, 2));
-    assert!(out.described.starts_with("4 of 6 impact record(s) averaged, 2 left out"));
+    assert!(out
+        .described
+        .starts_with("4 of 6 impact record(s) averaged, 2 left out"));
     // the command line's path on the same file
     let specs: Vec<ChannelSpec> = channels
         .iter()
@@ -94,8 +100,8 @@ fn impact_records_on_the_page_equal_the_command_line_and_flag_the_double_hit() {
         settings,
         estimator: Estimator::H1,
     };
-    let reader = mortise::io::wav::WavReader::new(std::fs::File::open(&wav).unwrap(), "hammer.wav")
-        .unwrap();
+    let reader =
+        mortise::io::wav::WavReader::new(std::fs::File::open(&wav).unwrap(), "hammer.wav").unwrap();
     let avg = Averaging {
         segment: 2,
         overlap: 0.0,
@@ -141,18 +147,24 @@ fn impact_records_on_the_page_equal_the_command_line_and_flag_the_double_hit() {
         .time_view("hammer.wav", None, Some(&req), 900.0, 320.0)
         .unwrap();
     assert!(
-        d.summary.contains("6 analysis block(s) of 2048 samples, 2 left out (marked)"),
+        d.summary
+            .contains("6 analysis block(s) of 2048 samples, 2 left out (marked)"),
         "{}",
         d.summary
     );
     assert!(d.svg.contains("left out: double hit"), "double hit title");
-    assert!(d.svg.contains("left out: overload on bracket:5+Z"), "overload title");
+    assert!(
+        d.svg.contains("left out: overload on bracket:5+Z"),
+        "overload title"
+    );
     // the energy spectral density over the same records
     let esd = ws
         .analyse_time(
             "hammer.wav",
-            &request(json!({"analysis": "spectrum", "kind": "esd", "inputs": [r["input"]],
-                "impact": {"trigger": 20, "record_length": 1}})),
+            &request(
+                json!({"analysis": "spectrum", "kind": "esd", "inputs": [r["input"]],
+                "impact": {"trigger": 20, "record_length": 1}}),
+            ),
         )
         .unwrap();
     assert_eq!(esd.file, "hammer.esd.csv");
@@ -211,10 +223,8 @@ fn against_known(rows: &[[f64; 3]], r: &serde_json::Value) -> (f64, f64) {
             .iter()
             .position(|s| (s.as_f64().unwrap() - row[0]).abs() < 1e-9)
             .unwrap_or_else(|| panic!("speed {} is not on the reference's grid", row[0]));
-        let want = num_complex::Complex64::new(
-            r["re"][i].as_f64().unwrap(),
-            r["im"][i].as_f64().unwrap(),
-        );
+        let want =
+            num_complex::Complex64::new(r["re"][i].as_f64().unwrap(), r["im"][i].as_f64().unwrap());
         let got = num_complex::Complex64::new(row[1], row[2]);
         db = db.max((20.0 * (got.norm() / want.norm()).log10()).abs());
         ph = ph.max((got / want).arg().abs());
@@ -230,9 +240,11 @@ fn against_known(rows: &[[f64; 3]], r: &serde_json::Value) -> (f64, f64) {
 fn order_by_speed_tables_recover_a_speed_dependent_order() {
     let dir = common::scratch("workspace_time_records_orders");
     let csv = dir.join("runup.csv");
-    let r: serde_json::Value =
-        serde_json::from_str(&common::run_py("runup_by_speed.py", &[csv.to_str().unwrap()]))
-            .unwrap();
+    let r: serde_json::Value = serde_json::from_str(&common::run_py(
+        "runup_by_speed.py",
+        &[csv.to_str().unwrap()],
+    ))
+    .unwrap();
     let out = dir.join("o2.csv");
     let argv = |extra: &[&str]| -> Vec<String> {
         let mut v = vec![
@@ -253,18 +265,28 @@ fn order_by_speed_tables_recover_a_speed_dependent_order() {
     // tachometer places each pulse within half a sample, so order 2's phase
     // within 2π · 2 · 60 rev/s / (2 · 4096 Hz) = 0.092 rad at the top speed
     for (how, extra, phase_bound) in [
-        ("speed profile", vec!["--speed", r["speed"].as_str().unwrap()], 0.02),
+        (
+            "speed profile",
+            vec!["--speed", r["speed"].as_str().unwrap()],
+            0.02,
+        ),
         (
             "tachometer",
-            vec!["--tach", "tach:1+Z", "--tach-level", "0.5", "--pulses-per-rev", "1"],
+            vec![
+                "--tach",
+                "tach:1+Z",
+                "--tach-level",
+                "0.5",
+                "--pulses-per-rev",
+                "1",
+            ],
             0.092,
         ),
     ] {
         let text = mortise::cli::run_cli(&argv(&extra)).unwrap();
         assert!(text.contains("o2.by-speed.json"), "{text}");
         let bytes = std::fs::read(dir.join("o2.by-speed.json")).unwrap();
-        let entries: Vec<mortise::recipe::OrderForce> =
-            serde_json::from_slice(&bytes).unwrap();
+        let entries: Vec<mortise::recipe::OrderForce> = serde_json::from_slice(&bytes).unwrap();
         let fan = entries.iter().find(|e| e.dof == "fan:1+Z").unwrap();
         assert_eq!(fan.order, 2.0);
         let rows = fan.by_speed.as_ref().unwrap();
@@ -301,7 +323,10 @@ fn order_by_speed_tables_recover_a_speed_dependent_order() {
     }
     // fields used or refused
     for (bad, field) in [
-        (json!({"analysis": "orders", "orders": {"order": 2}}), "speed"),
+        (
+            json!({"analysis": "orders", "orders": {"order": 2}}),
+            "speed",
+        ),
         (
             json!({"analysis": "orders", "orders": {"order": 2, "speed": "0:600,20:3600", "tach_level": 1}}),
             "tach_level",

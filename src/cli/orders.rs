@@ -93,9 +93,13 @@ pub fn run(args: &Args) -> Result<Done> {
     let (rec, notes, prov) = if io::wav::looks_like_wav(&head[..n]) {
         super::time_data::time_map(args, true)?;
         let f = io::disk::open_stream(Path::new(path), path)?;
+        let length = f
+            .metadata()
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?
+            .len();
         // hashed as the blocks pass (`io::wav::hashing`), then the bytes after the samples
         let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
-        let wav = io::wav::WavReader::new(stream, path)?;
+        let wav = io::wav::WavReader::with_length(stream, path, length)?;
         let (rec, _, notes) = analyse::wav_recording(wav, path, &specs, &limits)?;
         let mut rest = io::disk::open_stream(Path::new(path), path)?;
         std::io::copy(&mut (&mut rest).take(hash.len()), &mut std::io::sink())

@@ -91,9 +91,11 @@ fn impact_settings(args: &Args) -> Result<Option<ImpactSettings>> {
     };
     Ok(Some(ImpactSettings {
         level,
-        pre_trigger_s: seconds(args, "pre-trigger")?.unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
+        pre_trigger_s: seconds(args, "pre-trigger")?
+            .unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
         length_s,
-        double_hit_fraction: seconds(args, "double-hit")?.unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
+        double_hit_fraction: seconds(args, "double-hit")?
+            .unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
         force_width_s: seconds(args, "force-width")?,
         decay_s: seconds(args, "decay")?,
     }))
@@ -118,9 +120,8 @@ pub(super) fn recording_of(
     let bytes = io::disk::read_file(Path::new(path), path, limits)?;
     let (rec, format, notes) = match map {
         Some(m) => {
-            let (rec, notes) =
-                io::csv::read_time_mapped(&bytes, shown, m, &io::file_stem(path))
-                    .map_err(|e| e.in_file(path.as_str()))?;
+            let (rec, notes) = io::csv::read_time_mapped(&bytes, shown, m, &io::file_stem(path))
+                .map_err(|e| e.in_file(path.as_str()))?;
             (rec, "time-csv (mapped)".to_string(), notes)
         }
         None => {
@@ -313,9 +314,13 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         drop(file);
         time_map(args, true)?;
         let f = io::disk::open_stream(Path::new(path), path)?;
+        let length = f
+            .metadata()
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?
+            .len();
         // hashed as the blocks pass: the provenance's SHA-256 without a second read
         let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
-        let wav = io::wav::WavReader::new(stream, path)?;
+        let wav = io::wav::WavReader::with_length(stream, path, length)?;
         let prov = Provenance {
             file: shown.clone(),
             sha256: String::new(),
@@ -360,15 +365,14 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         let map = time_map(args, false)?;
         let (rec, prov, notes) =
             super::time_data::recording_of(path, &shown, &specs, map.as_ref(), &limits)?;
-        let mut a = analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(
-            |e| {
+        let mut a =
+            analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(|e| {
                 if e.file.is_none() {
                     e.in_file(path.as_str())
                 } else {
                     e
                 }
-            },
-        )?;
+            })?;
         a.notes.extend(notes);
         a
     };

@@ -435,7 +435,10 @@ pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Resu
                     k += 1;
                 }
                 let (s0, s1) = (speeds[k], speeds[(k + 1).min(speeds.len() - 1)]);
-                let (a, b) = (set.get(k, j, 0), set.get((k + 1).min(speeds.len() - 1), j, 0));
+                let (a, b) = (
+                    set.get(k, j, 0),
+                    set.get((k + 1).min(speeds.len() - 1), j, 0),
+                );
                 let u = if s1 > s0 {
                     ((s - s0) / (s1 - s0)).clamp(0.0, 1.0)
                 } else {

@@ -26,8 +26,8 @@ use std::collections::{BTreeMap, BTreeSet};
 
 pub mod time;
 pub use time::{
-    time_analysis_options, window_corrections, ImpactRequest, OrdersRequest, RecordInfo, TimeRequest,
-    TimeResult, ORDER_DEFAULTS,
+    time_analysis_options, window_corrections, ImpactRequest, OrdersRequest, RecordInfo,
+    TimeRequest, TimeResult, ORDER_DEFAULTS,
 };
 
 /// A loaded file.

@@ -14,9 +14,9 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance, SignalKind};
 use crate::io;
 use crate::signal::analyse::{analyse_held, wav_recording, Averaging, ChannelSpec, Job};
+use crate::signal::frf_estimate::Estimator;
 use crate::signal::impact::{find_hits, ImpactSettings};
 use crate::signal::orders::{self, order_tracks, parse_profile, BySpeed, OrderSettings, Speed};
-use crate::signal::frf_estimate::Estimator;
 use crate::signal::welch::Detrend;
 use crate::signal::window::Window;
 use crate::signal::Recording;
@@ -410,7 +410,8 @@ impl TimeRequest {
     /// What the request asks for and the result's tag, every field used or
     /// refused.
     fn read(&self) -> Result<(Plan, String)> {
-        let impact_what = "impact records (each hit is one record: 'record_length', 'force_width', 'decay')";
+        let impact_what =
+            "impact records (each hit is one record: 'record_length', 'force_width', 'decay')";
         match self.analysis.trim() {
             "spectrum" => {
                 if self.orders.is_some() {
@@ -431,7 +432,11 @@ impl TimeRequest {
                         ))
                         .field("kind"));
                     }
-                    if self.reference.as_deref().is_some_and(|r| !r.trim().is_empty()) {
+                    if self
+                        .reference
+                        .as_deref()
+                        .is_some_and(|r| !r.trim().is_empty())
+                    {
                         return Err(refuse("reference", "an energy spectral density (no phase)"));
                     }
                     let job = Job::ImpactEnergy {
@@ -732,7 +737,11 @@ impl Workspace {
             let over = vec![None; rec.channels.len()];
             (rec, over, "time-csv (mapped)".to_string(), notes)
         } else if io::wav::looks_like_wav(bytes) {
-            let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), name)?;
+            let wav = io::wav::WavReader::with_length(
+                std::io::Cursor::new(bytes),
+                name,
+                bytes.len() as u64,
+            )?;
             let info = wav.info.clone();
             let Some(channels) = &opts.channels else {
                 return Err(Error::usage(format!(
@@ -877,8 +886,16 @@ impl Workspace {
                         averaging.detrend.name()
                     );
                 }
-                let a = analyse_held(rec, &held.over, &averaging, &job, &stem, &prov, &self.limits)
-                    .map_err(|e| e.in_file(name))?;
+                let a = analyse_held(
+                    rec,
+                    &held.over,
+                    &averaging,
+                    &job,
+                    &stem,
+                    &prov,
+                    &self.limits,
+                )
+                .map_err(|e| e.in_file(name))?;
                 let df = a.fs / a.settings.segment as f64;
                 if job.is_impact() {
                     let records: Vec<RecordInfo> = a
@@ -972,9 +989,16 @@ impl Workspace {
                     }
                 };
                 let track_name = format!("{stem} order {}", settings.order);
-                let sets =
-                    order_tracks(rec, &speed, tach, &settings, &track_name, &prov, &self.limits)
-                        .map_err(|e| e.in_file(name))?;
+                let sets = order_tracks(
+                    rec,
+                    &speed,
+                    tach,
+                    &settings,
+                    &track_name,
+                    &prov,
+                    &self.limits,
+                )
+                .map_err(|e| e.in_file(name))?;
                 let tables = by_speed
                     .map(|step| {
                         orders::by_speed(&sets, settings.order, step, orders::MAX_BY_SPEED_ROWS)

@@ -294,7 +294,13 @@ pub(super) fn plan(
     })
 }
 
-pub(super) fn cell_num(cells: &[String], c: usize, map: &ColumnMap, ln: usize, what: &str) -> Result<f64> {
+pub(super) fn cell_num(
+    cells: &[String],
+    c: usize,
+    map: &ColumnMap,
+    ln: usize,
+    what: &str,
+) -> Result<f64> {
     let Some(raw) = cells.get(c) else {
         return Err(Error::parse(format!(
             "the row has {} cells; expected column {} for {what}",

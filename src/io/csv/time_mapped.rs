@@ -166,8 +166,13 @@ fn read_inner(
             .map_err(|e| Error::usage(e.message).field(format!("{role}.dof")))?;
         let unit = unit_of(c, &ch.unit, &format!("{role}.unit"))?;
         let u = parse_unit(&unit).map_err(|e| {
-            Error::usage(format!("{} unit '{}': {}", ch.column, quote(&unit), e.message))
-                .field(format!("{role}.unit"))
+            Error::usage(format!(
+                "{} unit '{}': {}",
+                ch.column,
+                quote(&unit),
+                e.message
+            ))
+            .field(format!("{role}.unit"))
         })?;
         let Some((quantity, rot)) = Quantity::from_dim(u.dim) else {
             return Err(Error::usage(format!(
@@ -199,12 +204,11 @@ fn read_inner(
         let cells = lay.delim.split(line);
         let w = *width.get_or_insert(cells.len());
         if cells.len() != w {
-            return Err(Error::parse(format!(
-                "{} cells; the first data row has {w}",
-                cells.len()
-            ))
-            .at_line(ln)
-            .field("row"));
+            return Err(
+                Error::parse(format!("{} cells; the first data row has {w}", cells.len()))
+                    .at_line(ln)
+                    .field("row"),
+            );
         }
         let t = cell_num(&cells, tc, &frame, ln, "time")? * tfactor;
         if let Some(&prev) = times.last() {
@@ -231,7 +235,10 @@ fn read_inner(
         })
         .collect();
     if !left.is_empty() {
-        notes.push(format!("not in the time map, left out: {}", left.join(", ")));
+        notes.push(format!(
+            "not in the time map, left out: {}",
+            left.join(", ")
+        ));
     }
     Ok((
         Recording {
@@ -254,9 +261,11 @@ mod tests {
     #[test]
     fn a_supplier_layout_reads_through_the_map_and_names_what_it_cannot_map() {
         let text = "Bench run 4\nZeit;Hammer;Acc 1;Temp\nms;N;g;degC\n0,0;1,5;0,25;20\n0,5;2,5;0,5;20\n1,0;3,5;0,75;20\n";
-        let m = map(serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
+        let m = map(
+            serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
             "unit_line": 3, "decimal_comma": true, "time": "zeit",
-            "channels": [{"column": "Hammer", "dof": "rig:1+Z"}, {"column": "Acc 1", "dof": "2+Z"}]}));
+            "channels": [{"column": "Hammer", "dof": "rig:1+Z"}, {"column": "Acc 1", "dof": "2+Z"}]}),
+        );
         let (rec, notes) = read_time_mapped(text.as_bytes(), "s.csv", &m, "rig").unwrap();
         // 0.5 ms steps: 2000 Hz; g = 9.80665 m/s² (CGPM 1901)
         assert!((rec.fs - 2000.0).abs() < 1e-9);
@@ -266,16 +275,23 @@ mod tests {
         assert_eq!(rec.samples[0], vec![1.5, 2.5, 3.5]);
         assert!(notes[0].contains("'Temp'"), "{notes:?}");
         // a name the header lacks: refused, listing the names
-        let bad = map(serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
+        let bad = map(
+            serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
             "unit_line": 3, "decimal_comma": true, "time": "Zeit",
-            "channels": [{"column": "Hammer 2", "dof": "rig:1+Z"}]}));
+            "channels": [{"column": "Hammer 2", "dof": "rig:1+Z"}]}),
+        );
         let e = read_time_mapped(text.as_bytes(), "s.csv", &bad, "").unwrap_err();
         assert_eq!(e.field.as_deref(), Some("channels[0]"));
-        assert!(e.message.contains("'Zeit'") && e.message.contains("'Hammer 2'"), "{e}");
+        assert!(
+            e.message.contains("'Zeit'") && e.message.contains("'Hammer 2'"),
+            "{e}"
+        );
         // a units row cell mortise does not know
-        let bad = map(serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
+        let bad = map(
+            serde_json::json!({"delimiter": "semicolon", "skip_rows": 3, "header_line": 2,
             "unit_line": 3, "decimal_comma": true, "time": "Zeit",
-            "channels": [{"column": "Temp", "dof": "rig:9+Z"}]}));
+            "channels": [{"column": "Temp", "dof": "rig:9+Z"}]}),
+        );
         let e = read_time_mapped(text.as_bytes(), "s.csv", &bad, "").unwrap_err();
         assert_eq!(e.field.as_deref(), Some("channels[0].unit"));
         // an unknown key

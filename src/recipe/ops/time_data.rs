@@ -159,7 +159,8 @@ fn analyse_file(
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
         let specs = wav_channels(channels)?;
-        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        let length = bytes.len() as u64;
+        let wav = io::wav::WavReader::with_length(std::io::Cursor::new(bytes), file, length)?;
         analyse::analyse_wav(
             wav,
             file,
@@ -196,7 +197,8 @@ fn recording_of(
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
         let specs = wav_channels(channels)?;
-        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        let length = bytes.len() as u64;
+        let wav = io::wav::WavReader::with_length(std::io::Cursor::new(bytes), file, length)?;
         let (rec, _, notes) = analyse::wav_recording(wav, file, &specs, cx.limits)?;
         return Ok((rec, prov, notes));
     }
@@ -373,7 +375,9 @@ impl Operation for EstimateFrf {
                 };
                 let settings = ImpactSettings {
                     level: i.trigger,
-                    pre_trigger_s: i.pre_trigger.unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
+                    pre_trigger_s: i
+                        .pre_trigger
+                        .unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
                     length_s: i.record_length,
                     double_hit_fraction: i.double_hit.unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
                     force_width_s: i.force_width,
