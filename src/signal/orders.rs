@@ -413,7 +413,7 @@ pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Resu
         let first = (lo / step - 1e-9).ceil();
         let last = (hi / step + 1e-9).floor();
         let rows = last - first + 1.0;
-        if !(rows >= 2.0) {
+        if rows.is_nan() || rows < 2.0 {
             return Err(Error::usage(format!(
                 "the tracked speeds {lo:.4} to {hi:.4} rev/s hold fewer than two steps of {step} rev/s; choose a smaller step"
             ))
@@ -458,4 +458,47 @@ pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Resu
         return Err(Error::usage("no order track to tabulate").field("by_speed"));
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A track linear in speed is read back exactly at every step (linear
+    /// interpolation is exact on a line; common practice).
+    #[test]
+    fn by_speed_reads_a_linear_track_exactly_and_refuses_bad_steps() {
+        // order 2 at block speeds 10.3, 12.1, 15.0, 19.9 rev/s
+        let speeds = [10.3, 12.1, 15.0, 19.9];
+        let mut set = FrfSet::zeros(
+            "t",
+            speeds.iter().map(|s| 2.0 * s).collect(),
+            vec![Dof::parse("fan:1+Z", "").unwrap()],
+            vec![Dof::scalar("", "ref")],
+            Quantity::Force,
+            Quantity::Dimensionless,
+        );
+        for (k, s) in speeds.iter().enumerate() {
+            set.set(k, 0, 0, Complex64::new(0.5 + 0.1 * s, -0.02 * s));
+        }
+        let t = by_speed(&[set.clone()], 2.0, 2.5, 100).unwrap();
+        let rows: Vec<f64> = t[0].by_speed.iter().map(|r| r[0]).collect();
+        assert_eq!(rows, vec![12.5, 15.0, 17.5]);
+        for r in &t[0].by_speed {
+            assert!((r[1] - (0.5 + 0.1 * r[0])).abs() < 1e-12);
+            assert!((r[2] + 0.02 * r[0]).abs() < 1e-12);
+        }
+        assert_eq!(t[0].dof, "fan:1+Z");
+        assert!(by_speed(&[set.clone()], 2.0, 0.0, 100).is_err());
+        assert!(by_speed(&[set.clone()], 2.0, 9.0, 100).is_err());
+        assert!(by_speed(&[set], 2.0, 0.001, 100).is_err());
+        assert_eq!(
+            parse_profile("0:600, 20:3600").unwrap(),
+            vec![(0.0, 600.0), (20.0, 3600.0)]
+        );
+        assert_eq!(
+            parse_profile("0:600;20:3600").unwrap_err().field.as_deref(),
+            Some("speed")
+        );
+    }
 }
