@@ -21,6 +21,23 @@ function channelsBlock(f) {
       await loadEntry(f);
     } }, 'Read with these channels'));
 }
+// A supplier's time CSV: its time map (JSON, the core's TimeColumnMap) typed on its card; the
+// core reads the file through it into a recording, or names what it cannot map.
+function timeMapBlock(f) {
+  const id = 'tmap-' + f.name.replace(/[^A-Za-z0-9_-]/g, '_');
+  const ta = el('textarea', { id, rows: 4, cols: 64, spellcheck: 'false', 'data-time-map': f.name }, f.options?.time_map ? JSON.stringify(f.options.time_map) : '');
+  const msg = el('div', { class: 'help', role: 'status' });
+  return el('details', { class: 'time-channels', open: !!f.options?.time_map },
+    el('summary', {}, 'Read as time data through a time map…'),
+    el('label', { for: id }, 'Time map (JSON): delimiter, skip_rows, header_line, unit_line, decimal_comma, time, time_unit (s or ms), channels [{column, dof, unit}]; columns by name or number:'), ta,
+    el('button', { class: 'btn small', 'data-read-time-map': f.name, onclick: async () => {
+      let map;
+      try { map = JSON.parse(ta.value); } catch (e) { msg.textContent = 'the time map is not JSON: ' + e.message; return; }
+      const { column_map: _drop, ...rest } = f.options || {};
+      f.options = { ...rest, time_map: map };
+      await loadEntry(f);
+    } }, 'Read as time data'), msg);
+}
 function timeState(f) {
   if (!f.time) {
     const o = timeOptions || {};
