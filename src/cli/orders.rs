@@ -6,7 +6,9 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance};
 use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, ChannelSpec};
-use crate::signal::orders::{by_speed, order_tracks, parse_profile, OrderSettings, Speed};
+use crate::signal::orders::{
+    by_speed, order_tracks, parse_profile, OrderSettings, Speed, ORDER_DEFAULTS,
+};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -51,8 +53,8 @@ pub fn run(args: &Args) -> Result<Done> {
     let order = number(args, "order")?.ok_or_else(|| Error::usage("orders needs --order O"))?;
     let settings = OrderSettings {
         order,
-        revolutions: whole(args, "revolutions", 8)?,
-        samples_per_rev: whole(args, "samples-per-rev", 64)?,
+        revolutions: whole(args, "revolutions", ORDER_DEFAULTS.2)?,
+        samples_per_rev: whole(args, "samples-per-rev", ORDER_DEFAULTS.3)?,
     };
     let tach = args
         .value("tach")
@@ -123,8 +125,8 @@ pub fn run(args: &Args) -> Result<Done> {
             (
                 Speed::Tach {
                     samples: rec.samples[i].clone(),
-                    level: number(args, "tach-level")?.unwrap_or(0.5),
-                    pulses_per_rev: number(args, "pulses-per-rev")?.unwrap_or(1.0),
+                    level: number(args, "tach-level")?.unwrap_or(ORDER_DEFAULTS.0),
+                    pulses_per_rev: number(args, "pulses-per-rev")?.unwrap_or(ORDER_DEFAULTS.1),
                 },
                 Some(i),
             )

@@ -374,6 +374,11 @@ pub fn order_tracks(
     Ok(sets)
 }
 
+/// The tachometer's trigger level, pulses per revolution, revolutions per
+/// block and samples per revolution when not given (the command line, the
+/// recipe step and the page).
+pub const ORDER_DEFAULTS: (f64, f64, usize, usize) = (0.5, 1.0, 8, 64);
+
 /// Most rows of a speed sweep's source table made from an order track.
 pub const MAX_BY_SPEED_ROWS: usize = 100_000;
 

@@ -27,7 +27,7 @@ use std::collections::{BTreeMap, BTreeSet};
 pub mod time;
 pub use time::{
     time_analysis_options, window_corrections, ImpactRequest, OrdersRequest, RecordInfo,
-    TimeRequest, TimeResult, ORDER_DEFAULTS,
+    TimeRequest, TimeResult,
 };
 
 /// A loaded file.

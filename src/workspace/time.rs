@@ -16,7 +16,9 @@ use crate::io;
 use crate::signal::analyse::{analyse_held, wav_recording, Averaging, ChannelSpec, Job};
 use crate::signal::frf_estimate::Estimator;
 use crate::signal::impact::{find_hits, ImpactSettings};
-use crate::signal::orders::{self, order_tracks, parse_profile, BySpeed, OrderSettings, Speed};
+use crate::signal::orders::{
+    self, order_tracks, parse_profile, BySpeed, OrderSettings, Speed, ORDER_DEFAULTS,
+};
 use crate::signal::welch::Detrend;
 use crate::signal::window::Window;
 use crate::signal::Recording;
@@ -155,10 +157,6 @@ pub struct OrdersRequest {
     #[serde(default)]
     pub by_speed: Option<f64>,
 }
-
-/// The tachometer's trigger level, pulses per revolution, revolutions per
-/// block and samples per revolution when not given (as `mortise orders`).
-pub const ORDER_DEFAULTS: (f64, f64, usize, usize) = (0.5, 1.0, 8, 64);
 
 /// What a request asks for, read.
 enum Plan {

@@ -10,7 +10,7 @@ use crate::io;
 use crate::recipe::report::StepReport;
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
 use crate::signal::impact::ImpactSettings;
-use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use crate::signal::orders::{order_tracks, OrderSettings, Speed, ORDER_DEFAULTS};
 use crate::signal::{Detrend, Estimator, Recording, Window};
 use serde::{Deserialize, Serialize};
 
@@ -465,8 +465,8 @@ impl Operation for Orders {
                 (
                     Speed::Tach {
                         samples: rec.samples[i].clone(),
-                        level: self.tach_level.unwrap_or(0.5),
-                        pulses_per_rev: self.pulses_per_rev.unwrap_or(1.0),
+                        level: self.tach_level.unwrap_or(ORDER_DEFAULTS.0),
+                        pulses_per_rev: self.pulses_per_rev.unwrap_or(ORDER_DEFAULTS.1),
                     },
                     Some(i),
                 )
@@ -475,8 +475,8 @@ impl Operation for Orders {
         };
         let settings = OrderSettings {
             order: self.order,
-            revolutions: self.revolutions.unwrap_or(8),
-            samples_per_rev: self.samples_per_rev.unwrap_or(64),
+            revolutions: self.revolutions.unwrap_or(ORDER_DEFAULTS.2),
+            samples_per_rev: self.samples_per_rev.unwrap_or(ORDER_DEFAULTS.3),
         };
         let sets = order_tracks(&rec, &speed, tach, &settings, cx.id, &prov, cx.limits)?;
         output(cx, "orders", sets, notes)
