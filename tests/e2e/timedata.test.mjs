@@ -252,8 +252,10 @@ test('a supplier time CSV read through its time map on the page: samples and PSD
     const p = s.page;
     await addFiles(p, [{ name: 'bench-run4.csv', data: readFileSync(csvFile) }]);
     await p.waitForSelector('[data-file="bench-run4.csv"]', { timeout: 20000 });
-    // the FRF column-map dialog may open for an unknown layout: this file is time data
-    if (await p.isVisible('#map-dialog[open]')) await p.click('#map-cancel');
+    // the core asks for an FRF column map (the dialog opens); this file is time data: cancel it
+    await p.waitForSelector('#map-dialog[open]', { timeout: 20000 });
+    await p.click('#map-cancel');
+    await p.waitForFunction(() => !document.querySelector('#map-dialog')?.open);
     await p.click('[data-file="bench-run4.csv"] details.time-channels > summary');
     await p.fill('[data-time-map="bench-run4.csv"]', JSON.stringify(map));
     await p.click('[data-read-time-map="bench-run4.csv"]');
