@@ -96,6 +96,39 @@ fn a_supplier_time_csv_reads_through_its_map_as_numpy_reads_it() {
     }
     println!("# measure supplier time CSV: samples as numpy reads them (worst {worst:.1e}), PSD against scipy.signal.welch {e:.1e} of its largest line");
     assert!(e < 1e-10, "{e:e}");
+    // a recipe's spectrum step with the same map
+    let recipe = json!({"format": "mortise-recipe", "version": 1, "components": {},
+        "steps": [{"id": "bench", "op": "spectrum", "file": "bench-run4.csv", "kind": "psd",
+            "segment": 256, "overlap": 0.5, "detrend": "constant", "time_map": map}],
+        "outputs": ["bench"]});
+    std::fs::write(dir.join("bench.recipe.json"), recipe.to_string()).unwrap();
+    let run_out = dir.join("run");
+    let run = |file: &str| {
+        mortise::cli::run_cli(&[
+            "run".into(),
+            dir.join(file).to_str().unwrap().into(),
+            "-o".into(),
+            run_out.to_str().unwrap().into(),
+        ])
+    };
+    run("bench.recipe.json").unwrap();
+    let acc_run = mortise::io::load(
+        &std::fs::read(run_out.join("bench_acceleration.csv")).unwrap(),
+        "a.csv",
+        &mortise::io::ImportOptions::default(),
+    )
+    .unwrap()
+    .sets;
+    let mut e_run = 0.0f64;
+    for (k, w) in want.iter().enumerate() {
+        e_run = e_run.max((acc_run[0].get(k, 0, 0).re - w).abs() / top);
+    }
+    assert!(e_run < 1e-10, "recipe: {e_run:e}");
+    let mut bad = recipe.clone();
+    bad["steps"][0]["time_map"]["rate"] = json!(2000);
+    std::fs::write(dir.join("bad.recipe.json"), bad.to_string()).unwrap();
+    let e = run("bad.recipe.json").unwrap_err();
+    assert!(e.to_string().contains("rate"), "{e}");
     // a map naming a column the file lacks: refused, listing the names
     std::fs::write(
         &map_file,
