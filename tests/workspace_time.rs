@@ -64,8 +64,8 @@ fn recordings_from_wav_uff_and_csv_give_scipy_h1_and_coherence() {
             .unwrap();
         assert_eq!(out.file, "rig.h1.csv");
         // Harris 1978: Hann coherent gain 0.5, ENBW 1.5 bins
-        assert!((out.window.coherent_gain - 0.5).abs() < 1e-12);
-        assert!((out.window.enbw_bins - 1.5).abs() < 1e-12);
+        assert!((out.window.as_ref().unwrap().coherent_gain - 0.5).abs() < 1e-12);
+        assert!((out.window.as_ref().unwrap().enbw_bins - 1.5).abs() < 1e-12);
         assert_eq!(out.segments, (2048 * 30 - 1024) / 512 + 1);
         let id = &out.summary.sets[0].id;
         let h = ws.set(id).unwrap();

@@ -177,6 +177,8 @@ function renderCards() {
     if (f.error) card.append(errorBox(f.error));
     // a WAV file waits for its channels to be described (the core names the field)
     if (f.error && f.error.field === 'channels') card.append(channelsBlock(f));
+    // a delimited file the core could not read as FRFs or as our time CSV: offer its time map
+    if (f.error && f.error.field !== 'channels' && /\.(csv|tsv|txt)$/i.test(f.name)) card.append(timeMapBlock(f));
     if (f.mappedLike && f.summary) card.append(el('div', { class: 'help', 'data-mapped-like': f.mappedLike }, `columns read with the map of ${f.mappedLike} (same layout)`));
     // refused because it is not the file an opened bundle was made from
     if (f.error && (S.bundle?.info?.inputs || []).some((inp) => inp.name === f.name) && /SHA-256/.test(errorText(f.error))) {

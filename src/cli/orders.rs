@@ -6,7 +6,9 @@ use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance};
 use crate::io::{self, ExportFormat};
 use crate::signal::analyse::{self, ChannelSpec};
-use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use crate::signal::orders::{
+    by_speed, order_tracks, parse_profile, OrderSettings, Speed, ORDER_DEFAULTS,
+};
 use std::io::{BufReader, Read};
 use std::path::Path;
 
@@ -30,24 +32,6 @@ fn whole(args: &Args, name: &str, default: usize) -> Result<usize> {
     }
 }
 
-fn profile(text: &str) -> Result<Vec<(f64, f64)>> {
-    text.split(',')
-        .map(|p| {
-            let bad = || {
-                Error::usage(format!(
-                    "--speed: '{}' is not TIME:RPM (e.g. '0:600,20:3600')",
-                    quote(p)
-                ))
-            };
-            let (t, r) = p.split_once(':').ok_or_else(bad)?;
-            Ok((
-                t.trim().parse::<f64>().map_err(|_| bad())?,
-                r.trim().parse::<f64>().map_err(|_| bad())?,
-            ))
-        })
-        .collect()
-}
-
 pub fn run(args: &Args) -> Result<Done> {
     let [path] = args.positional.as_slice() else {
         return Err(Error::usage("orders takes one FILE of time data"));
@@ -69,8 +53,8 @@ pub fn run(args: &Args) -> Result<Done> {
     let order = number(args, "order")?.ok_or_else(|| Error::usage("orders needs --order O"))?;
     let settings = OrderSettings {
         order,
-        revolutions: whole(args, "revolutions", 8)?,
-        samples_per_rev: whole(args, "samples-per-rev", 64)?,
+        revolutions: whole(args, "revolutions", ORDER_DEFAULTS.2)?,
+        samples_per_rev: whole(args, "samples-per-rev", ORDER_DEFAULTS.3)?,
     };
     let tach = args
         .value("tach")
@@ -109,10 +93,15 @@ pub fn run(args: &Args) -> Result<Done> {
         .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
     drop(file);
     let (rec, notes, prov) = if io::wav::looks_like_wav(&head[..n]) {
+        super::time_data::time_map(args, true)?;
         let f = io::disk::open_stream(Path::new(path), path)?;
+        let length = f
+            .metadata()
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?
+            .len();
         // hashed as the blocks pass (`io::wav::hashing`), then the bytes after the samples
         let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
-        let wav = io::wav::WavReader::new(stream, path)?;
+        let wav = io::wav::WavReader::with_length(stream, path, length)?;
         let (rec, _, notes) = analyse::wav_recording(wav, path, &specs, &limits)?;
         let mut rest = io::disk::open_stream(Path::new(path), path)?;
         std::io::copy(&mut (&mut rest).take(hash.len()), &mut std::io::sink())
@@ -125,8 +114,10 @@ pub fn run(args: &Args) -> Result<Done> {
         };
         (rec, notes, prov)
     } else {
-        let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;
-        (rec, Vec::new(), prov)
+        let map = super::time_data::time_map(args, false)?;
+        let (rec, prov, notes) =
+            super::time_data::recording_of(path, &shown, &specs, map.as_ref(), &limits)?;
+        (rec, notes, prov)
     };
     let (speed, tach_index) = match (&tach, speed_text) {
         (Some(d), _) => {
@@ -134,13 +125,18 @@ pub fn run(args: &Args) -> Result<Done> {
             (
                 Speed::Tach {
                     samples: rec.samples[i].clone(),
-                    level: number(args, "tach-level")?.unwrap_or(0.5),
-                    pulses_per_rev: number(args, "pulses-per-rev")?.unwrap_or(1.0),
+                    level: number(args, "tach-level")?.unwrap_or(ORDER_DEFAULTS.0),
+                    pulses_per_rev: number(args, "pulses-per-rev")?.unwrap_or(ORDER_DEFAULTS.1),
                 },
                 Some(i),
             )
         }
-        (None, Some(t)) => (Speed::Profile(profile(t)?), None),
+        (None, Some(t)) => (
+            Speed::Profile(
+                parse_profile(t).map_err(|e| Error::usage(format!("--speed: {}", e.message)))?,
+            ),
+            None,
+        ),
         (None, None) => return Err(Error::internal("speed checked above")),
     };
     let name = format!("{} order {order}", io::file_stem(path));
@@ -152,9 +148,31 @@ pub fn run(args: &Args) -> Result<Done> {
                 e
             }
         })?;
+    let by_speed = number(args, "by-speed")?
+        .map(|step| {
+            by_speed(&sets, order, step, crate::signal::orders::MAX_BY_SPEED_ROWS)
+                .map_err(|e| Error::usage(format!("--by-speed: {}", e.message)))
+        })
+        .transpose()?;
     let exported = io::export(&sets, fmt)?;
     std::fs::write(out, &exported.bytes)
         .map_err(|e| Error::io(format!("cannot write '{out}': {e}")))?;
+    let table_file = match &by_speed {
+        Some(t) => {
+            let stem = Path::new(out).with_extension("");
+            let file = format!("{}.by-speed.json", stem.display());
+            // one entry a line, ready to paste into a speed sweep's "orders"
+            let lines = t
+                .iter()
+                .map(serde_json::to_string)
+                .collect::<std::result::Result<Vec<_>, _>>()
+                .map_err(|e| super::internal(e.to_string()))?;
+            std::fs::write(&file, format!("[\n{}\n]\n", lines.join(",\n")))
+                .map_err(|e| Error::io(format!("cannot write '{file}': {e}")))?;
+            Some(file)
+        }
+        None => None,
+    };
     let what = sets[0]
         .provenance
         .first()
@@ -171,10 +189,18 @@ pub fn run(args: &Args) -> Result<Done> {
                 "to_hz": s.freqs.last(),
             })).collect::<Vec<_>>(),
             "tracking": what,
+            "by_speed_file": table_file,
             "notes": notes,
         })));
     }
     let mut s = format!("wrote {out}: {} set(s), {what}\n", sets.len());
+    if let (Some(file), Some(t)) = (&table_file, &by_speed) {
+        s.push_str(&format!(
+            "wrote {file}: {} table(s) of {} speed(s) for a speed sweep's orders\n",
+            t.len(),
+            t.first().map_or(0, |x| x.by_speed.len())
+        ));
+    }
     for n in &notes {
         s.push_str(&format!("  note: {n}\n"));
     }

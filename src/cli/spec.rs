@@ -744,6 +744,7 @@ const TIME_GROUP: Group = Group {
              (channels not described are left out, with a note), refused for UFF and CSV \
              files, whose channels carry their DOFs and units",
         ),
+        TIME_MAP_OPT,
         val(
             "to",
             "FORMAT",
@@ -751,6 +752,16 @@ const TIME_GROUP: Group = Group {
         ),
     ],
 };
+
+/// A supplier's time CSV read through a time column map (spectrum,
+/// estimate, orders).
+const TIME_MAP_OPT: Opt = val(
+    "time-map",
+    "FILE",
+    "a supplier's time CSV: a JSON file mapping its columns (delimiter, skip_rows, header_line, \
+     unit_line, decimal_comma, time and time_unit s or ms, channels [{column, dof, unit}]; \
+     columns by name or number; see README 'time CSV through a column map')",
+);
 
 /// Triggered impact records, for `estimate` and `spectrum --kind esd`.
 const IMPACT_GROUP: Group = Group {
@@ -888,7 +899,8 @@ pub const ORDERS: Command = Command {
             peak spectrum set per quantity whose lines are the order's frequency (order × rpm / 60) \
             at each block's speed, the complex amplitude's phase referred to angle 0: a run-up becomes \
             an excitation over frequency. The speed must rise or fall throughout; --order times \
-            --revolutions must be a whole number.",
+            --revolutions must be a whole number. --by-speed STEP tabulates the tracks against \
+            speed for a speed sweep (the recipe's by_speed rows).",
     groups: &[
         Group {
             title: "options",
@@ -913,11 +925,17 @@ pub const ORDERS: Command = Command {
                     "S",
                     "samples per revolution after resampling (orders up to S/2 − 1; default 64)",
                 ),
+                val(
+                    "by-speed",
+                    "STEP",
+                    "also write OUT's stem + '.by-speed.json': each channel's track read every STEP rev/s, as a speed sweep's orders entries with by_speed rows [speed rev/s, re, im]",
+                ),
                 many(
                     "channel",
                     "'N=DOF QTY FS UNIT'",
                     "a WAV channel, as for 'mortise spectrum' (required for WAV files)",
                 ),
+                TIME_MAP_OPT,
                 val(
                     "to",
                     "FORMAT",

@@ -91,9 +91,11 @@ fn impact_settings(args: &Args) -> Result<Option<ImpactSettings>> {
     };
     Ok(Some(ImpactSettings {
         level,
-        pre_trigger_s: seconds(args, "pre-trigger")?.unwrap_or(0.01),
+        pre_trigger_s: seconds(args, "pre-trigger")?
+            .unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
         length_s,
-        double_hit_fraction: seconds(args, "double-hit")?.unwrap_or(0.1),
+        double_hit_fraction: seconds(args, "double-hit")?
+            .unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
         force_width_s: seconds(args, "force-width")?,
         decay_s: seconds(args, "decay")?,
     }))
@@ -106,8 +108,9 @@ pub(super) fn recording_of(
     path: &String,
     shown: &str,
     specs: &[ChannelSpec],
+    map: Option<&io::csv::TimeColumnMap>,
     limits: &crate::limits::Limits,
-) -> Result<(crate::signal::Recording, Provenance)> {
+) -> Result<(crate::signal::Recording, Provenance, Vec<String>)> {
     if !specs.is_empty() {
         return Err(Error::usage(
             "--channel describes WAV channels; a UFF or time CSV file's channels carry their DOFs and units",
@@ -115,15 +118,49 @@ pub(super) fn recording_of(
         .in_file(path.as_str()));
     }
     let bytes = io::disk::read_file(Path::new(path), path, limits)?;
-    let (rec, format) = analyse::recording_from_bytes(&bytes, shown, limits)
-        .map_err(|e| e.in_file(path.as_str()))?;
+    let (rec, format, notes) = match map {
+        Some(m) => {
+            let (rec, notes) = io::csv::read_time_mapped(&bytes, shown, m, &io::file_stem(path))
+                .map_err(|e| e.in_file(path.as_str()))?;
+            (rec, "time-csv (mapped)".to_string(), notes)
+        }
+        None => {
+            let (rec, format) = analyse::recording_from_bytes(&bytes, shown, limits)
+                .map_err(|e| e.in_file(path.as_str()))?;
+            (rec, format, Vec::new())
+        }
+    };
     let prov = Provenance {
         file: shown.to_string(),
         sha256: io::sha256_hex(&bytes),
         format,
         options: String::new(),
     };
-    Ok((rec, prov))
+    Ok((rec, prov, notes))
+}
+
+/// `--time-map FILE`: a supplier's time CSV's column map, read from its
+/// JSON file; refused for a WAV file (`wav`), whose channels `--channel`
+/// describes.
+pub(super) fn time_map(args: &Args, wav: bool) -> Result<Option<io::csv::TimeColumnMap>> {
+    let Some(file) = args.value("time-map") else {
+        return Ok(None);
+    };
+    if wav {
+        return Err(Error::usage(
+            "--time-map reads a supplier's time CSV; a WAV file's channels are described by --channel",
+        ));
+    }
+    let text = std::fs::read_to_string(file)
+        .map_err(|e| Error::io(format!("cannot read the time map '{file}': {e}")))?;
+    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| {
+        Error::parse(format!("the time map is not JSON: {e}"))
+            .in_file(file)
+            .field("time-map")
+    })?;
+    io::csv::TimeColumnMap::from_json(v)
+        .map(Some)
+        .map_err(|e| e.in_file(file))
 }
 
 fn dof(text: &str, option: &str) -> Result<Dof> {
@@ -275,10 +312,15 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?;
     let result: Analysed = if io::wav::looks_like_wav(&head[..n]) {
         drop(file);
+        time_map(args, true)?;
         let f = io::disk::open_stream(Path::new(path), path)?;
+        let length = f
+            .metadata()
+            .map_err(|e| Error::io(format!("cannot read: {e}")).in_file(path.as_str()))?
+            .len();
         // hashed as the blocks pass: the provenance's SHA-256 without a second read
         let (stream, hash) = io::wav::hashing(BufReader::with_capacity(1 << 20, f));
-        let wav = io::wav::WavReader::new(stream, path)?;
+        let wav = io::wav::WavReader::with_length(stream, path, length)?;
         let prov = Provenance {
             file: shown.clone(),
             sha256: String::new(),
@@ -320,14 +362,19 @@ pub fn run(args: &Args, frf: bool) -> Result<Done> {
         a
     } else {
         drop(file);
-        let (rec, prov) = super::time_data::recording_of(path, &shown, &specs, &limits)?;
-        analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(|e| {
-            if e.file.is_none() {
-                e.in_file(path.as_str())
-            } else {
-                e
-            }
-        })?
+        let map = time_map(args, false)?;
+        let (rec, prov, notes) =
+            super::time_data::recording_of(path, &shown, &specs, map.as_ref(), &limits)?;
+        let mut a =
+            analyse::analyse_recording(&rec, &avg, &job, &name, &prov, &limits).map_err(|e| {
+                if e.file.is_none() {
+                    e.in_file(path.as_str())
+                } else {
+                    e
+                }
+            })?;
+        a.notes.extend(notes);
+        a
     };
     let exported = io::export(&result.sets, fmt)?;
     std::fs::write(out, &exported.bytes)

@@ -34,6 +34,32 @@ fn split_name(cell: &str) -> (&str, Option<&str>) {
     }
 }
 
+/// The sample rate of increasing `times` (s) with an even step (each within
+/// 10⁻⁶ of the mean step), or the error naming the rows; shared with the
+/// supplier time CSV read through a map ([`crate::io::csv::read_time_mapped`]).
+pub fn even_rate(times: &[f64]) -> Result<f64> {
+    if times.len() < 2 {
+        return Err(Error::parse(format!(
+            "{} row(s) of data; expected at least 2",
+            times.len()
+        )));
+    }
+    let m = times.len();
+    let step = (times[m - 1] - times[0]) / (m - 1) as f64;
+    for k in 1..m {
+        let d = times[k] - times[k - 1];
+        if (d - step).abs() > 1e-6 * step {
+            return Err(Error::unsupported(format!(
+                "uneven time step: {d} s between rows {} and {} of data, the mean step is {step} s; spectra need an even sample rate",
+                k,
+                k + 1
+            ))
+            .field("column 1"));
+        }
+    }
+    Ok(1.0 / step)
+}
+
 /// True when the first line that is not a comment starts with a time column.
 pub fn looks_like_time_csv(bytes: &[u8]) -> bool {
     let head = &bytes[..bytes.len().min(4096)];
@@ -109,7 +135,7 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<Recording> {
             return Err(err(
                 hline,
                 field,
-                "no unit; expected 'DOF [UNIT]', e.g. 'rig:1+Z [N]'".into(),
+                "no unit; expected 'DOF [UNIT]', e.g. 'rig:1+Z [N]' (a supplier's time CSV is read through a time column map: 'time_map' on the page, --time-map on the command line)".into(),
             ));
         };
         let dof = Dof::parse(name, component).map_err(|e| err(hline, field.clone(), e.message))?;
@@ -192,22 +218,9 @@ pub fn read(bytes: &[u8], file: &str, component: &str) -> Result<Recording> {
         ))
         .in_file(file));
     }
-    let m = times.len();
-    let step = (times[m - 1] - times[0]) / (m - 1) as f64;
-    for k in 1..m {
-        let d = times[k] - times[k - 1];
-        if (d - step).abs() > 1e-6 * step {
-            return Err(Error::unsupported(format!(
-                "uneven time step: {d} s between rows {} and {} of data, the mean step is {step} s; spectra need an even sample rate",
-                k,
-                k + 1
-            ))
-            .in_file(file)
-            .field("column 1"));
-        }
-    }
+    let fs = even_rate(&times).map_err(|e| e.in_file(file))?;
     Ok(Recording {
-        fs: 1.0 / step,
+        fs,
         channels,
         samples,
     })

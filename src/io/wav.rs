@@ -1,4 +1,13 @@
-//! Reading WAV files (RIFF `WAVE`), block by block.
+//! Reading WAV files (RIFF `WAVE`, and RF64 for recordings over 4 GB),
+//! block by block.
+//!
+//! RF64 (EBU Tech 3306): the file starts `RF64`, its 32-bit RIFF size is
+//! 0xFFFFFFFF, and the first chunk, `ds64`, holds the 64-bit RIFF size
+//! (bytes 20–27), data size (28–35) and sample count (36–43), then a table
+//! of other chunks' sizes (skipped). A `data` chunk whose 32-bit size is
+//! 0xFFFFFFFF takes the ds64 data size; one that gives another size must
+//! agree with it. [`WavReader::with_length`] also checks both sizes against
+//! the file's length; each refusal names the field's byte offset.
 //!
 //! Formats: PCM (tag 1) of 8 (unsigned), 16, 24 and 32 bits, IEEE float
 //! (tag 3) of 32 and 64 bits, and `WAVE_FORMAT_EXTENSIBLE` (tag 0xFFFE)
@@ -39,6 +48,8 @@ pub struct WavInfo {
     pub data_offset: u64,
     /// `WAVE_FORMAT_EXTENSIBLE` was used.
     pub extensible: bool,
+    /// An RF64 file's 64-bit sizes (`None` for RIFF).
+    pub ds64: Option<Ds64>,
 }
 
 impl WavInfo {
@@ -62,9 +73,23 @@ impl WavInfo {
     }
 }
 
-/// True when the bytes start like a WAV file.
+/// True when the bytes start like a WAV file (RIFF or RF64).
 pub fn looks_like_wav(bytes: &[u8]) -> bool {
-    bytes.len() >= 12 && &bytes[0..4] == b"RIFF" && &bytes[8..12] == b"WAVE"
+    bytes.len() >= 12
+        && (&bytes[0..4] == b"RIFF" || &bytes[0..4] == b"RF64")
+        && &bytes[8..12] == b"WAVE"
+}
+
+/// The 64-bit sizes of an RF64 file's `ds64` chunk (EBU Tech 3306), with
+/// the byte offsets of their fields for messages.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Ds64 {
+    /// The RIFF size: the file's length less 8.
+    pub riff_size: u64,
+    pub riff_size_at: u64,
+    /// The data chunk's size.
+    pub data_size: u64,
+    pub data_size_at: u64,
 }
 
 /// A WAV file being read.
@@ -101,14 +126,67 @@ impl<R: Read> WavReader<R> {
         };
         let mut head = [0u8; 12];
         read_exact(&mut src, &mut head, file, 0, "RIFF header")?;
-        if &head[0..4] != b"RIFF" || &head[8..12] != b"WAVE" {
+        let rf64 = &head[0..4] == b"RF64";
+        if !(&head[0..4] == b"RIFF" || rf64) || &head[8..12] != b"WAVE" {
             return Err(err(
                 0,
                 "RIFF header",
-                "not a WAV file: expected 'RIFF' at byte 0 and 'WAVE' at byte 8".into(),
+                "not a WAV file: expected 'RIFF' (or 'RF64') at byte 0 and 'WAVE' at byte 8".into(),
             ));
         }
         let mut pos: u64 = 12;
+        let mut ds64: Option<Ds64> = None;
+        if rf64 {
+            let mut ch = [0u8; 8];
+            read_exact(&mut src, &mut ch, file, pos, "ds64 chunk")?;
+            let size = u32le(&ch, 4) as u64;
+            if &ch[0..4] != b"ds64" || size < 28 {
+                return Err(err(
+                    pos,
+                    "ds64 chunk",
+                    format!(
+                        "an RF64 file starts with a 'ds64' chunk of 28 bytes or more; found '{}' of {size} bytes",
+                        String::from_utf8_lossy(&ch[0..4]).escape_default()
+                    ),
+                ));
+            }
+            let mut b = [0u8; 28];
+            read_exact(&mut src, &mut b, file, pos + 8, "ds64 chunk")?;
+            let u64le = |at: usize| {
+                u64::from_le_bytes([
+                    b[at],
+                    b[at + 1],
+                    b[at + 2],
+                    b[at + 3],
+                    b[at + 4],
+                    b[at + 5],
+                    b[at + 6],
+                    b[at + 7],
+                ])
+            };
+            ds64 = Some(Ds64 {
+                riff_size: u64le(0),
+                riff_size_at: pos + 8,
+                data_size: u64le(8),
+                data_size_at: pos + 16,
+            });
+            // the rest of the chunk (the table of other chunks' sizes) and its pad byte
+            let skip = size - 28 + (size & 1);
+            let n =
+                std::io::copy(&mut (&mut src).take(skip), &mut std::io::sink()).map_err(|e| {
+                    Error::io(format!("cannot read: {e}"))
+                        .in_file(file)
+                        .at_byte((pos + 36) as usize)
+                })?;
+            if n < skip {
+                return Err(err(
+                    pos + 4,
+                    "ds64 chunk",
+                    format!("the 'ds64' chunk declares {size} bytes but the file ends inside it"),
+                ));
+            }
+            pos += 8 + size + (size & 1);
+        }
         let mut fmt: Option<(u64, Vec<u8>)> = None;
         loop {
             let mut ch = [0u8; 8];
@@ -151,7 +229,23 @@ impl<R: Read> WavReader<R> {
                             "the 'data' chunk comes before any 'fmt ' chunk".into(),
                         ));
                     };
-                    let info = parse_fmt(&b, at, body, size, file)?;
+                    let size = match ds64 {
+                        None => size,
+                        Some(d) if size == 0xFFFF_FFFF || size == d.data_size => d.data_size,
+                        Some(d) => {
+                            return Err(err(
+                                d.data_size_at,
+                                "ds64 data size",
+                                format!(
+                                    "the 'ds64' chunk gives the data size {} bytes, the 'data' chunk (byte {}) {size}; they disagree",
+                                    d.data_size,
+                                    pos + 4
+                                ),
+                            ))
+                        }
+                    };
+                    let mut info = parse_fmt(&b, at, body, size, file)?;
+                    info.ds64 = ds64;
                     return Ok(WavReader {
                         src,
                         file: file.to_string(),
@@ -182,6 +276,37 @@ impl<R: Read> WavReader<R> {
                 }
             }
         }
+    }
+
+    /// [`WavReader::new`] on a source of `length` bytes: an RF64 file's
+    /// ds64 sizes are checked against it (the RIFF size is the length less
+    /// 8; the data ends inside the file), each refusal naming the field's
+    /// byte offset.
+    pub fn with_length(src: R, file: &str, length: u64) -> Result<WavReader<R>> {
+        let r = WavReader::new(src, file)?;
+        if let Some(d) = r.info.ds64 {
+            if d.riff_size.checked_add(8) != Some(length) {
+                return Err(Error::parse(format!(
+                    "the 'ds64' chunk gives the RIFF size {} bytes (a file of {} bytes), but the file has {length} bytes",
+                    d.riff_size,
+                    d.riff_size as u128 + 8
+                ))
+                .in_file(file)
+                .at_byte(d.riff_size_at as usize)
+                .field("ds64 RIFF size"));
+            }
+            let end = r.info.data_offset as u128 + d.data_size as u128;
+            if end > length as u128 {
+                return Err(Error::parse(format!(
+                    "the 'ds64' chunk gives the data size {} bytes from byte {}, ending at byte {end}, but the file has {length} bytes",
+                    d.data_size, r.info.data_offset
+                ))
+                .in_file(file)
+                .at_byte(d.data_size_at as usize)
+                .field("ds64 data size"));
+            }
+        }
+        Ok(r)
     }
 
     /// Up to `max_frames` frames, interleaved, full scale 1; empty at the end.
@@ -363,6 +488,7 @@ fn parse_fmt(b: &[u8], at: u64, data_at: u64, data_size: u64, file: &str) -> Res
         frames: data_size / block_align as u64,
         data_offset: data_at,
         extensible,
+        ds64: None,
     })
 }
 

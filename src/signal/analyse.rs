@@ -326,10 +326,29 @@ pub fn analyse_recording(
     prov: &Provenance,
     limits: &Limits,
 ) -> Result<Analysed> {
+    // no full scale is known for a UFF or CSV channel: no overload flags
+    let over = vec![None; rec.channels.len()];
+    analyse_held(rec, &over, averaging, job, name, prov, limits)
+}
+
+/// A recording in memory with each channel's overload limit (`over`, as
+/// [`wav_recording`] gives them for a WAV file held whole; `None` where no
+/// full scale is known), so impact records are flagged as the command line
+/// flags them.
+pub fn analyse_held(
+    rec: &Recording,
+    over: &[Option<f64>],
+    averaging: &Averaging,
+    job: &Job,
+    name: &str,
+    prov: &Provenance,
+    limits: &Limits,
+) -> Result<Analysed> {
+    if over.len() != rec.channels.len() {
+        return Err(Error::internal("one overload limit per channel"));
+    }
     if job.is_impact() {
-        // no full scale is known for a UFF or CSV channel: no overload flags
-        let over = vec![None; rec.channels.len()];
-        return impacts(rec, &over, job, name, prov, limits);
+        return impacts(rec, over, job, name, prov, limits);
     }
     let settings = averaging.settings()?;
     let refs = refs_of(&rec.channels, job)?;

@@ -60,7 +60,44 @@ pub struct Hit {
     pub overloaded: Vec<usize>,
 }
 
+impl Hit {
+    /// Why the record is left out of the average (a double hit, an
+    /// overload on the channels named), `None` when it is accepted; the
+    /// words the notes, the time view and the page's cards use.
+    pub fn rejection(&self, channels: &[super::Channel]) -> Option<String> {
+        if let Some((dt, r)) = self.double_hit {
+            return Some(format!(
+                "double hit {:.6} s after the trigger at {:.0} % of the peak",
+                dt,
+                r * 100.0
+            ));
+        }
+        if !self.overloaded.is_empty() {
+            let names: Vec<String> = self
+                .overloaded
+                .iter()
+                .map(|&c| {
+                    channels
+                        .get(c)
+                        .map_or_else(|| format!("channel {}", c + 1), |ch| ch.dof.to_string())
+                })
+                .collect();
+            return Some(format!("overload on {}", names.join(", ")));
+        }
+        None
+    }
+}
+
 impl ImpactSettings {
+    /// The pre-trigger and the double-hit fraction when not given.
+    pub const DEFAULT_PRE_TRIGGER_S: f64 = 0.01;
+    pub const DEFAULT_DOUBLE_HIT: f64 = 0.1;
+
+    /// The record length in samples at `fs` (checked as the records are cut).
+    pub fn record_samples(&self, fs: f64) -> Result<usize> {
+        Ok(self.check(fs)?.0)
+    }
+
     fn check(&self, fs: f64) -> Result<(usize, usize)> {
         let bad = |what: &str, v: f64| {
             Error::usage(format!("{what} {v}; expected a positive number")).field(what.to_string())
@@ -202,26 +239,8 @@ fn accepted_records(
     let mut used = 0;
     for (h_no, h) in hits.iter().enumerate() {
         let at = h.trigger as f64 / fs;
-        if let Some((dt, r)) = h.double_hit {
-            notes.push(format!(
-                "hit {} at {at:.6} s left out: double hit {:.6} s after the trigger at {:.0} % of the peak",
-                h_no + 1,
-                dt,
-                r * 100.0
-            ));
-            continue;
-        }
-        if !h.overloaded.is_empty() {
-            let names: Vec<String> = h
-                .overloaded
-                .iter()
-                .map(|&c| rec.channels[c].dof.to_string())
-                .collect();
-            notes.push(format!(
-                "hit {} at {at:.6} s left out: overload on {}",
-                h_no + 1,
-                names.join(", ")
-            ));
+        if let Some(why) = h.rejection(&rec.channels) {
+            notes.push(format!("hit {} at {at:.6} s left out: {why}", h_no + 1));
             continue;
         }
         let block: Vec<Vec<f64>> = rec

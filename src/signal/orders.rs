@@ -47,6 +47,27 @@ pub struct OrderSettings {
     pub samples_per_rev: usize,
 }
 
+/// A speed profile written `TIME:RPM, ...` (e.g. `0:600, 20:3600`), as
+/// `mortise orders --speed` and the page take it; checked by [`angle`].
+pub fn parse_profile(text: &str) -> Result<Vec<(f64, f64)>> {
+    text.split(',')
+        .map(|p| {
+            let bad = || {
+                Error::usage(format!(
+                    "'{}' is not TIME:RPM (e.g. '0:600,20:3600')",
+                    crate::error::quote(p)
+                ))
+                .field("speed")
+            };
+            let (t, r) = p.split_once(':').ok_or_else(bad)?;
+            Ok((
+                t.trim().parse::<f64>().map_err(|_| bad())?,
+                r.trim().parse::<f64>().map_err(|_| bad())?,
+            ))
+        })
+        .collect()
+}
+
 /// θ in revolutions at every sample time (NaN where the speed source does
 /// not cover it).
 pub fn angle(speed: &Speed, n: usize, fs: f64) -> Result<Vec<f64>> {
@@ -351,4 +372,138 @@ pub fn order_tracks(
         }
     }
     Ok(sets)
+}
+
+/// The tachometer's trigger level, pulses per revolution, revolutions per
+/// block and samples per revolution when not given (the command line, the
+/// recipe step and the page).
+pub const ORDER_DEFAULTS: (f64, f64, usize, usize) = (0.5, 1.0, 8, 64);
+
+/// Most rows of a speed sweep's source table made from an order track.
+pub const MAX_BY_SPEED_ROWS: usize = 100_000;
+
+/// One channel's order track as a speed sweep's source table
+/// (`"by_speed"` rows `[speed rev/s, re, im]`, see the recipe's speed
+/// sweep): `dof` and `order` as an entry of the sweep's `orders` takes them.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct BySpeed {
+    pub dof: String,
+    pub order: f64,
+    pub by_speed: Vec<[f64; 3]>,
+}
+
+/// The order tracks `sets` (of order `order`, lines at order × speed) read
+/// at every multiple of `step` rev/s inside the tracked speeds, linear in
+/// re and im between blocks (the sweep reads the table the same way), one
+/// table per channel. Refused: a step that is not a positive number, a
+/// range holding fewer than two steps, more than `max_rows` rows.
+pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Result<Vec<BySpeed>> {
+    if !(step.is_finite() && step > 0.0) {
+        return Err(Error::usage(format!(
+            "speed step {step} rev/s; expected a positive number"
+        ))
+        .field("by_speed"));
+    }
+    if !(order.is_finite() && order > 0.0) {
+        return Err(
+            Error::usage(format!("order {order}; expected a positive number")).field("order"),
+        );
+    }
+    let mut out = Vec::new();
+    for set in sets {
+        let speeds: Vec<f64> = set.freqs.iter().map(|f| f / order).collect();
+        let (Some(&lo), Some(&hi)) = (speeds.first(), speeds.last()) else {
+            continue;
+        };
+        let first = (lo / step - 1e-9).ceil();
+        let last = (hi / step + 1e-9).floor();
+        let rows = last - first + 1.0;
+        if rows.is_nan() || rows < 2.0 {
+            return Err(Error::usage(format!(
+                "the tracked speeds {lo:.4} to {hi:.4} rev/s hold fewer than two steps of {step} rev/s; choose a smaller step"
+            ))
+            .field("by_speed"));
+        }
+        if rows > max_rows as f64 {
+            return Err(Error::usage(format!(
+                "steps of {step} rev/s over {lo:.4} to {hi:.4} rev/s make {rows} rows, over {max_rows}; choose a larger step"
+            ))
+            .field("by_speed"));
+        }
+        for (j, dof) in set.outputs.iter().enumerate() {
+            let mut table = Vec::with_capacity(rows as usize);
+            let mut k = 0;
+            for m in 0..rows as usize {
+                let s = (first + m as f64) * step;
+                // the block speeds around s (s inside [lo, hi] up to rounding)
+                while k + 2 < speeds.len() && speeds[k + 1] < s {
+                    k += 1;
+                }
+                let (s0, s1) = (speeds[k], speeds[(k + 1).min(speeds.len() - 1)]);
+                let (a, b) = (
+                    set.get(k, j, 0),
+                    set.get((k + 1).min(speeds.len() - 1), j, 0),
+                );
+                let u = if s1 > s0 {
+                    ((s - s0) / (s1 - s0)).clamp(0.0, 1.0)
+                } else {
+                    0.0
+                };
+                let v = a + (b - a) * u;
+                table.push([s, v.re, v.im]);
+            }
+            out.push(BySpeed {
+                dof: dof.to_string(),
+                order,
+                by_speed: table,
+            });
+        }
+    }
+    if out.is_empty() {
+        return Err(Error::usage("no order track to tabulate").field("by_speed"));
+    }
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A track linear in speed is read back exactly at every step (linear
+    /// interpolation is exact on a line; common practice).
+    #[test]
+    fn by_speed_reads_a_linear_track_exactly_and_refuses_bad_steps() {
+        // order 2 at block speeds 10.3, 12.1, 15.0, 19.9 rev/s
+        let speeds = [10.3, 12.1, 15.0, 19.9];
+        let mut set = FrfSet::zeros(
+            "t",
+            speeds.iter().map(|s| 2.0 * s).collect(),
+            vec![Dof::parse("fan:1+Z", "").unwrap()],
+            vec![Dof::scalar("", "ref")],
+            Quantity::Force,
+            Quantity::Dimensionless,
+        );
+        for (k, s) in speeds.iter().enumerate() {
+            set.set(k, 0, 0, Complex64::new(0.5 + 0.1 * s, -0.02 * s));
+        }
+        let t = by_speed(&[set.clone()], 2.0, 2.5, 100).unwrap();
+        let rows: Vec<f64> = t[0].by_speed.iter().map(|r| r[0]).collect();
+        assert_eq!(rows, vec![12.5, 15.0, 17.5]);
+        for r in &t[0].by_speed {
+            assert!((r[1] - (0.5 + 0.1 * r[0])).abs() < 1e-12);
+            assert!((r[2] + 0.02 * r[0]).abs() < 1e-12);
+        }
+        assert_eq!(t[0].dof, "fan:1+Z");
+        assert!(by_speed(&[set.clone()], 2.0, 0.0, 100).is_err());
+        assert!(by_speed(&[set.clone()], 2.0, 9.0, 100).is_err());
+        assert!(by_speed(&[set], 2.0, 0.001, 100).is_err());
+        assert_eq!(
+            parse_profile("0:600, 20:3600").unwrap(),
+            vec![(0.0, 600.0), (20.0, 3600.0)]
+        );
+        assert_eq!(
+            parse_profile("0:600;20:3600").unwrap_err().field.as_deref(),
+            Some("speed")
+        );
+    }
 }

@@ -25,7 +25,10 @@ use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, BTreeSet};
 
 pub mod time;
-pub use time::{time_analysis_options, window_corrections, TimeRequest, TimeResult};
+pub use time::{
+    time_analysis_options, window_corrections, ImpactRequest, OrdersRequest, RecordInfo,
+    TimeRequest, TimeResult,
+};
 
 /// A loaded file.
 #[derive(Debug, Clone)]
@@ -209,7 +212,10 @@ impl Workspace {
         options: serde_json::Value,
         progress: &mut dyn FnMut(usize),
     ) -> Result<FileSummary> {
-        let recording = io::wav::looks_like_wav(bytes) || io::time_csv::looks_like_time_csv(bytes);
+        // a supplier's time CSV is told by its time map, not by its content
+        let recording = io::wav::looks_like_wav(bytes)
+            || io::time_csv::looks_like_time_csv(bytes)
+            || options.get("time_map").is_some_and(|m| !m.is_null());
         // a recording takes its own options (`time.rs`), checked there
         let opts = if recording {
             ImportOptions::default()
@@ -873,30 +879,33 @@ impl Workspace {
                         .fold(loaded_held, u64::saturating_add);
                     // a loaded file of the same name keeps its own recording
                     let hold = !self.files.contains_key(&inp.name);
-                    let mut held = |rec, format: &str, raw: u64, notes| {
-                        if hold {
-                            let summary = time::recording_summary(
-                                &inp.name,
-                                format,
-                                inp.sha256.clone(),
-                                raw,
-                                &rec,
-                                notes,
-                            );
-                            new_recordings
-                                .push((inp.name.clone(), time::WsRecording { rec, summary }));
-                        }
-                    };
+                    let mut held =
+                        |rec: crate::signal::Recording, over, format: &str, raw: u64, notes| {
+                            if hold {
+                                let summary = time::recording_summary(
+                                    &inp.name,
+                                    format,
+                                    inp.sha256.clone(),
+                                    raw,
+                                    &rec,
+                                    notes,
+                                );
+                                new_recordings.push((
+                                    inp.name.clone(),
+                                    time::WsRecording { rec, summary, over },
+                                ));
+                            }
+                        };
                     if crate::vpt::geometry::looks_like_geometry(r) {
                         // a geometry file: checked by reading it; it holds no sets
                         crate::vpt::Geometry::from_csv(r, &inp.name).map_err(carried)?;
                         Vec::new()
                     } else if io::wav::looks_like_wav(r) || io::time_csv::looks_like_time_csv(r) {
                         // a recording: read with its own options, as when loaded
-                        let (rec, format, rec_notes) = self
+                        let (rec, over, format, rec_notes) = self
                             .read_recording(&inp.name, r, &inp.options, others)
                             .map_err(carried)?;
-                        held(rec, &format, r.len() as u64, rec_notes);
+                        held(rec, over, &format, r.len() as u64, rec_notes);
                         Vec::new()
                     } else {
                         let opts = import_options(&inp.options).map_err(carried)?;
@@ -904,7 +913,10 @@ impl Workspace {
                             .map_err(carried)?;
                         if !loaded.time_histories.is_empty() {
                             match self.read_uff_recording(&inp.name, &loaded.time_histories, others) {
-                                Ok(rec) => held(rec, loaded.format.name(), 0, Vec::new()),
+                                Ok(rec) => {
+                                    let over = vec![None; rec.channels.len()];
+                                    held(rec, over, loaded.format.name(), 0, Vec::new())
+                                }
                                 Err(e) if loaded.sets.is_empty() => return Err(carried(e)),
                                 Err(e) => notes.push(format!(
                                     "input '{}': the time histories are not held as a recording: {e}",

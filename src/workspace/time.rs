@@ -13,8 +13,12 @@ use super::{Workspace, WsFile};
 use crate::error::{quote, Error, Result};
 use crate::frf::{Dof, Provenance, SignalKind};
 use crate::io;
-use crate::signal::analyse::{analyse_recording, wav_recording, Averaging, ChannelSpec, Job};
+use crate::signal::analyse::{analyse_held, wav_recording, Averaging, ChannelSpec, Job};
 use crate::signal::frf_estimate::Estimator;
+use crate::signal::impact::{find_hits, ImpactSettings};
+use crate::signal::orders::{
+    self, order_tracks, parse_profile, BySpeed, OrderSettings, Speed, ORDER_DEFAULTS,
+};
 use crate::signal::welch::Detrend;
 use crate::signal::window::Window;
 use crate::signal::Recording;
@@ -26,6 +30,9 @@ use serde::{Deserialize, Serialize};
 pub(super) struct WsRecording {
     pub(super) rec: Recording,
     pub(super) summary: RecordingSummary,
+    /// Each channel's overload limit (0.999 of a WAV channel's full scale;
+    /// `None` where the format gives no full scale), for impact records.
+    pub(super) over: Vec<Option<f64>>,
 }
 
 /// The import options a recording takes: a WAV file's channel
@@ -38,41 +45,144 @@ struct RecordingOptions {
     channels: Option<Vec<String>>,
     #[serde(default)]
     component: Option<String>,
+    /// A supplier's time CSV's column map ([`io::csv::TimeColumnMap`]).
+    #[serde(default)]
+    time_map: Option<serde_json::Value>,
 }
 
 /// One analysis of a recording, as the page asks for it. Every field is
-/// used by the analysis it belongs to and refused by the other.
+/// used by the analysis it belongs to and refused by the others: Welch
+/// averaging (`window`, `segment`, `overlap`, `detrend`) by spectra and FRFs
+/// over segments; `impact` (records cut at each hit) by FRFs and energy
+/// spectral densities of a hammer test; `orders` by order tracks.
 #[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct TimeRequest {
-    /// "spectrum" or "frf".
+    /// "spectrum", "frf" or "orders".
     pub analysis: String,
-    /// A window name as [`Window::parse`] reads it.
-    pub window: String,
-    /// Samples per segment (block length).
-    pub segment: usize,
+    /// A window name as [`Window::parse`] reads it (Welch averaging).
+    #[serde(default)]
+    pub window: Option<String>,
+    /// Samples per segment (block length; Welch averaging).
+    #[serde(default)]
+    pub segment: Option<usize>,
     /// Fraction of a segment shared with the next, 0 ≤ overlap < 1.
-    pub overlap: f64,
+    #[serde(default)]
+    pub overlap: Option<f64>,
     /// "none", "constant" or "linear" (default "none").
     #[serde(default)]
     pub detrend: Option<String>,
-    /// A spectrum's kind: peak, rms, autopower, psd or cross.
+    /// A spectrum's kind: peak, rms, autopower, psd or cross over Welch
+    /// segments; esd over impact records.
     #[serde(default)]
     pub kind: Option<String>,
     /// A spectrum's reference channel (the phase of peak / RMS spectra, the
     /// reference of cross spectra).
     #[serde(default)]
     pub reference: Option<String>,
-    /// An FRF's force channels.
+    /// An FRF's force channels; the one channel impact records are
+    /// triggered on (an impact FRF or ESD).
     #[serde(default)]
     pub inputs: Vec<String>,
     /// An FRF's estimator: H1, H2 or Hv.
     #[serde(default)]
     pub estimator: Option<String>,
+    /// Impact records instead of Welch segments.
+    #[serde(default)]
+    pub impact: Option<ImpactRequest>,
+    /// An order track's choices (analysis "orders").
+    #[serde(default)]
+    pub orders: Option<OrdersRequest>,
+}
+
+/// A hammer test's records, as the command line's `--trigger`,
+/// `--record-length`, `--pre-trigger`, `--double-hit`, `--force-width` and
+/// `--decay` (seconds and SI; see [`crate::signal::impact`]).
+#[derive(Debug, Clone, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImpactRequest {
+    pub trigger: f64,
+    pub record_length: f64,
+    #[serde(default)]
+    pub pre_trigger: Option<f64>,
+    #[serde(default)]
+    pub double_hit: Option<f64>,
+    /// The force window's width, s (window `force:WIDTH`).
+    #[serde(default)]
+    pub force_width: Option<f64>,
+    /// The exponential window's decay time, s (window `exponential:TAU`).
+    #[serde(default)]
+    pub decay: Option<f64>,
+}
+
+impl ImpactRequest {
+    fn settings(&self) -> ImpactSettings {
+        ImpactSettings {
+            level: self.trigger,
+            pre_trigger_s: self
+                .pre_trigger
+                .unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
+            length_s: self.record_length,
+            double_hit_fraction: self
+                .double_hit
+                .unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
+            force_width_s: self.force_width,
+            decay_s: self.decay,
+        }
+    }
+}
+
+/// An order track's choices, as `mortise orders` takes them: the order,
+/// the speed (a profile of [time s, rpm] points or a tachometer channel),
+/// the blocks, and `by_speed`, the step in rev/s of the speed sweep's
+/// source table made from the track (none when left out).
+#[derive(Debug, Clone, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OrdersRequest {
+    pub order: f64,
+    /// The speed profile as `mortise orders --speed` takes it:
+    /// `TIME:RPM, ...` ([`parse_profile`]).
+    #[serde(default)]
+    pub speed: Option<String>,
+    #[serde(default)]
+    pub tach: Option<String>,
+    #[serde(default)]
+    pub tach_level: Option<f64>,
+    #[serde(default)]
+    pub pulses_per_rev: Option<f64>,
+    #[serde(default)]
+    pub revolutions: Option<usize>,
+    #[serde(default)]
+    pub samples_per_rev: Option<usize>,
+    #[serde(default)]
+    pub by_speed: Option<f64>,
+}
+
+/// What a request asks for, read.
+enum Plan {
+    /// Welch averages or impact records (`averaging` unused by the latter).
+    Analyse { averaging: Averaging, job: Job },
+    Orders {
+        settings: OrderSettings,
+        speed: SpeedFrom,
+        by_speed: Option<f64>,
+    },
+}
+
+/// Where an order track's speed comes from.
+enum SpeedFrom {
+    Profile(Vec<(f64, f64)>),
+    Tach {
+        dof: Dof,
+        level: f64,
+        pulses_per_rev: f64,
+    },
 }
 
 /// What an analysis made: the result file (loaded into the workspace),
-/// how it was cut and the window's corrections.
+/// how it was cut, the window's corrections (Welch averaging), the impact
+/// records (a hammer test) and the speed sweep's source tables (order
+/// tracks with `by_speed`).
 #[derive(Debug, Clone, Serialize)]
 pub struct TimeResult {
     /// The result file's name and bytes (our CSV layout).
@@ -81,13 +191,25 @@ pub struct TimeResult {
     pub bytes: Vec<u8>,
     /// Its summary as loaded (set ids filled).
     pub summary: FileSummary,
+    /// How the record was cut, in words.
+    pub described: String,
+    /// Blocks averaged: Welch segments, accepted impact records or order
+    /// blocks.
     pub segments: usize,
-    pub segment: usize,
-    pub overlap_samples: usize,
+    /// Samples per Welch segment or impact record (none for order tracks).
+    pub segment: Option<usize>,
+    pub overlap_samples: Option<usize>,
     pub sample_rate_hz: f64,
-    /// Line spacing, Hz.
-    pub df_hz: f64,
-    pub window: WindowCorrections,
+    /// Line spacing, Hz (none for order tracks: their lines follow the speed).
+    pub df_hz: Option<f64>,
+    pub window: Option<WindowCorrections>,
+    /// Every impact record found, accepted or not (empty otherwise).
+    pub records: Vec<RecordInfo>,
+    pub accepted: usize,
+    pub rejected: usize,
+    /// The order tracks as a speed sweep's `orders` entries with `by_speed`
+    /// rows (order tracks with a `by_speed` step).
+    pub by_speed: Option<Vec<BySpeed>>,
     pub notes: Vec<String>,
 }
 
@@ -171,7 +293,7 @@ pub fn time_analysis_options() -> serde_json::Value {
         .map(|k| k.name())
         .collect();
     serde_json::json!({
-        "analyses": ["spectrum", "frf"],
+        "analyses": ["spectrum", "frf", "orders"],
         "windows": windows,
         "spectrum_kinds": kinds,
         "kinds_with_reference": with_reference,
@@ -179,6 +301,30 @@ pub fn time_analysis_options() -> serde_json::Value {
         "detrend": detrend,
         "averaging": "linear (Welch): every segment weighted equally",
         "defaults": { "analysis": "spectrum", "window": "hann", "segment": 4096, "overlap": 0.5, "detrend": "none", "kind": "psd", "estimator": "H1" },
+        "records": ["welch", "impact"],
+        "impact": {
+            "kinds": [SignalKind::Esd.name()],
+            "fields": [
+                { "key": "trigger", "label": "trigger level on |force|", "unit": "N", "default": null },
+                { "key": "record_length", "label": "record length", "unit": "s", "default": null },
+                { "key": "pre_trigger", "label": "pre-trigger", "unit": "s", "default": ImpactSettings::DEFAULT_PRE_TRIGGER_S },
+                { "key": "double_hit", "label": "double hit at this fraction of the peak", "unit": "", "default": ImpactSettings::DEFAULT_DOUBLE_HIT },
+                { "key": "force_width", "label": "force window width", "unit": "s", "default": null, "window": "force", "parameter": "width in seconds" },
+                { "key": "decay", "label": "exponential window decay time", "unit": "s", "default": null, "window": "exponential", "parameter": "decay time in seconds" },
+            ],
+        },
+        "orders": {
+            "speed": ["profile", "tach"],
+            "fields": [
+                { "key": "order", "label": "order", "unit": "", "default": null },
+                { "key": "revolutions", "label": "revolutions per block", "unit": "", "default": ORDER_DEFAULTS.2 },
+                { "key": "samples_per_rev", "label": "samples per revolution", "unit": "", "default": ORDER_DEFAULTS.3 },
+                { "key": "tach_level", "label": "tachometer trigger level", "unit": "SI", "default": ORDER_DEFAULTS.0, "with": "tach" },
+                { "key": "pulses_per_rev", "label": "tachometer pulses per revolution", "unit": "", "default": ORDER_DEFAULTS.1, "with": "tach" },
+                { "key": "by_speed", "label": "speed sweep table step", "unit": "rev/s", "default": null },
+            ],
+            "profile_form": "TIME:RPM, ... e.g. 0:600, 20:3600",
+        },
     })
 }
 
@@ -204,27 +350,70 @@ fn channel_dof(text: &str, field: &str) -> Result<Dof> {
 }
 
 impl TimeRequest {
-    /// The averaging and the job, every field used or refused.
-    fn read(&self) -> Result<(Averaging, Job, String)> {
-        let window = Window::parse(&self.window).map_err(|e| e.field("window"))?;
+    /// The Welch averaging, every field required (spectra and FRFs over
+    /// segments).
+    fn averaging(&self) -> Result<Averaging> {
+        let Some(w) = &self.window else {
+            return Err(Error::usage("Welch averaging needs its window").field("window"));
+        };
+        let window = Window::parse(w).map_err(|e| e.field("window"))?;
+        let Some(segment) = self.segment else {
+            return Err(
+                Error::usage("Welch averaging needs its block length (samples)").field("segment"),
+            );
+        };
+        let Some(overlap) = self.overlap else {
+            return Err(Error::usage("Welch averaging needs its overlap").field("overlap"));
+        };
         let detrend = match &self.detrend {
             Some(d) => Detrend::parse(d).map_err(|e| e.field("detrend"))?,
             None => Detrend::None,
         };
-        let averaging = Averaging {
-            segment: self.segment,
-            overlap: self.overlap,
+        Ok(Averaging {
+            segment,
+            overlap,
             window,
             detrend,
-        };
-        let refuse = |field: &str, what: &str| {
-            Error::usage(format!("'{field}' does not apply to {what}; leave it out"))
-                .field(field.to_string())
-        };
+        })
+    }
+
+    /// Refuse the Welch fields for an analysis that does not average
+    /// segments (`what`).
+    fn no_welch(&self, what: &str) -> Result<()> {
+        for (given, field) in [
+            (self.window.is_some(), "window"),
+            (self.segment.is_some(), "segment"),
+            (self.overlap.is_some(), "overlap"),
+            (self.detrend.is_some(), "detrend"),
+        ] {
+            if given {
+                return Err(refuse(field, what));
+            }
+        }
+        Ok(())
+    }
+
+    /// The one channel impact records are triggered on.
+    fn trigger_channel(&self) -> Result<Dof> {
+        match self.inputs.as_slice() {
+            [one] => channel_dof(one, "inputs"),
+            other => Err(Error::usage(format!(
+                "impact records are triggered on one channel (the hammer's force); {} were given",
+                other.len()
+            ))
+            .field("inputs")),
+        }
+    }
+
+    /// What the request asks for and the result's tag, every field used or
+    /// refused.
+    fn read(&self) -> Result<(Plan, String)> {
+        let impact_what =
+            "impact records (each hit is one record: 'record_length', 'force_width', 'decay')";
         match self.analysis.trim() {
             "spectrum" => {
-                if !self.inputs.is_empty() {
-                    return Err(refuse("inputs", "a spectrum (it belongs to an FRF)"));
+                if self.orders.is_some() {
+                    return Err(refuse("orders", "a spectrum (it belongs to order tracks)"));
                 }
                 if self.estimator.is_some() {
                     return Err(refuse("estimator", "a spectrum (it belongs to an FRF)"));
@@ -232,6 +421,47 @@ impl TimeRequest {
                 let Some(k) = &self.kind else {
                     return Err(Error::usage("a spectrum needs its kind").field("kind"));
                 };
+                if let Some(i) = &self.impact {
+                    self.no_welch(impact_what)?;
+                    if k.trim().to_ascii_lowercase() != SignalKind::Esd.name() {
+                        return Err(Error::usage(format!(
+                            "spectrum kind '{}' over impact records; impact records give the energy spectral density (esd)",
+                            quote(k)
+                        ))
+                        .field("kind"));
+                    }
+                    if self
+                        .reference
+                        .as_deref()
+                        .is_some_and(|r| !r.trim().is_empty())
+                    {
+                        return Err(refuse("reference", "an energy spectral density (no phase)"));
+                    }
+                    let job = Job::ImpactEnergy {
+                        input: self.trigger_channel()?,
+                        settings: i.settings(),
+                    };
+                    return Ok((
+                        Plan::Analyse {
+                            averaging: unused_averaging(),
+                            job,
+                        },
+                        "esd".to_string(),
+                    ));
+                }
+                if k.trim().to_ascii_lowercase() == SignalKind::Esd.name() {
+                    return Err(Error::usage(
+                        "the energy spectral density (esd) is made over impact records: give 'impact' and the channel they are triggered on",
+                    )
+                    .field("impact"));
+                }
+                if !self.inputs.is_empty() {
+                    return Err(refuse(
+                        "inputs",
+                        "a spectrum over Welch segments (it names an FRF's forces or the channel impact records are triggered on)",
+                    ));
+                }
+                let averaging = self.averaging()?;
                 let kind = spectrum_kind(k)?;
                 let reference = self
                     .reference
@@ -250,12 +480,17 @@ impl TimeRequest {
                         .field("reference"));
                 }
                 Ok((
-                    averaging,
-                    Job::Spectrum { kind, reference },
+                    Plan::Analyse {
+                        averaging,
+                        job: Job::Spectrum { kind, reference },
+                    },
                     kind.name().to_string(),
                 ))
             }
             "frf" => {
+                if self.orders.is_some() {
+                    return Err(refuse("orders", "an FRF (it belongs to order tracks)"));
+                }
                 if self.kind.is_some() {
                     return Err(refuse("kind", "an FRF (it belongs to a spectrum)"));
                 }
@@ -271,11 +506,6 @@ impl TimeRequest {
                             .field("inputs"),
                     );
                 }
-                let inputs = self
-                    .inputs
-                    .iter()
-                    .map(|d| channel_dof(d, "inputs"))
-                    .collect::<Result<Vec<_>>>()?;
                 let estimator = match &self.estimator {
                     Some(e) => Estimator::parse(e).map_err(|e| e.field("estimator"))?,
                     None => {
@@ -284,15 +514,129 @@ impl TimeRequest {
                     }
                 };
                 let tag = estimator.name().to_ascii_lowercase();
-                Ok((averaging, Job::Frf { inputs, estimator }, tag))
+                if let Some(i) = &self.impact {
+                    self.no_welch(impact_what)?;
+                    let job = Job::Impact {
+                        input: self.trigger_channel()?,
+                        settings: i.settings(),
+                        estimator,
+                    };
+                    return Ok((
+                        Plan::Analyse {
+                            averaging: unused_averaging(),
+                            job,
+                        },
+                        format!("impact-{tag}"),
+                    ));
+                }
+                let averaging = self.averaging()?;
+                let inputs = self
+                    .inputs
+                    .iter()
+                    .map(|d| channel_dof(d, "inputs"))
+                    .collect::<Result<Vec<_>>>()?;
+                Ok((
+                    Plan::Analyse {
+                        averaging,
+                        job: Job::Frf { inputs, estimator },
+                    },
+                    tag,
+                ))
+            }
+            "orders" => {
+                let what = "order tracks (blocks of whole revolutions, Hann)";
+                self.no_welch(what)?;
+                for (given, field) in [
+                    (self.kind.is_some(), "kind"),
+                    (self.reference.is_some(), "reference"),
+                    (!self.inputs.is_empty(), "inputs"),
+                    (self.estimator.is_some(), "estimator"),
+                    (self.impact.is_some(), "impact"),
+                ] {
+                    if given {
+                        return Err(refuse(field, what));
+                    }
+                }
+                let Some(o) = &self.orders else {
+                    return Err(Error::usage(
+                        "order tracks need their choices: the order and the speed (a profile or a tachometer channel)",
+                    )
+                    .field("orders"));
+                };
+                let (level, ppr, revs, spr) = ORDER_DEFAULTS;
+                let speed = match (&o.speed, &o.tach) {
+                    (Some(_), Some(_)) | (None, None) => {
+                        return Err(Error::usage(
+                            "give the speed as a profile ('speed': 'TIME:RPM, ...') or a tachometer channel ('tach'), one of them",
+                        )
+                        .field("speed"))
+                    }
+                    (Some(p), None) => {
+                        for (given, field) in [
+                            (o.tach_level.is_some(), "tach_level"),
+                            (o.pulses_per_rev.is_some(), "pulses_per_rev"),
+                        ] {
+                            if given {
+                                return Err(refuse(field, "a speed profile (it belongs to 'tach')"));
+                            }
+                        }
+                        SpeedFrom::Profile(parse_profile(p).map_err(|e| e.field("speed"))?)
+                    }
+                    (None, Some(t)) => SpeedFrom::Tach {
+                        dof: channel_dof(t, "tach")?,
+                        level: o.tach_level.unwrap_or(level),
+                        pulses_per_rev: o.pulses_per_rev.unwrap_or(ppr),
+                    },
+                };
+                let settings = OrderSettings {
+                    order: o.order,
+                    revolutions: o.revolutions.unwrap_or(revs),
+                    samples_per_rev: o.samples_per_rev.unwrap_or(spr),
+                };
+                Ok((
+                    Plan::Orders {
+                        settings,
+                        speed,
+                        by_speed: o.by_speed,
+                    },
+                    format!("order{}", o.order),
+                ))
             }
             other => Err(Error::usage(format!(
-                "analysis '{}'; expected spectrum or frf",
+                "analysis '{}'; expected spectrum, frf or orders",
                 quote(other)
             ))
             .field("analysis")),
         }
     }
+}
+
+fn refuse(field: &str, what: &str) -> Error {
+    Error::usage(format!("'{field}' does not apply to {what}; leave it out"))
+        .field(field.to_string())
+}
+
+/// The averaging an impact job is given and does not use (each record is
+/// one segment).
+fn unused_averaging() -> Averaging {
+    Averaging {
+        segment: 2,
+        overlap: 0.0,
+        window: Window::Rectangular,
+        detrend: Detrend::None,
+    }
+}
+
+/// One impact record as the page lists it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RecordInfo {
+    /// Trigger time and record start, s.
+    pub trigger_s: f64,
+    pub start_s: f64,
+    /// Largest |force| of the pulse, SI.
+    pub peak: f64,
+    /// Why it is left out; `None` when averaged.
+    pub rejected: Option<String>,
 }
 
 fn channel_summaries(rec: &Recording) -> Vec<RecordingChannel> {
@@ -375,27 +719,28 @@ impl Workspace {
         options: serde_json::Value,
     ) -> Result<FileSummary> {
         let others = self.recordings_bytes(name);
-        let (rec, format, notes) = self.read_recording(name, bytes, &options, others)?;
-        Ok(self.keep_recording(name, bytes, options, rec, format, notes))
+        let (rec, over, format, notes) = self.read_recording(name, bytes, &options, others)?;
+        Ok(self.keep_recording(name, bytes, options, (rec, over), format, notes))
     }
 
     /// Read a WAV file or a time CSV into a recording, checked against the
     /// memory budget with `others` bytes of recordings held besides; the
     /// workspace is not changed (a bundle's inputs are all read before it
-    /// changes). Returns the recording, its format name and its notes.
+    /// changes). Returns the recording, each channel's overload limit, its
+    /// format name and its notes.
     pub(super) fn read_recording(
         &self,
         name: &str,
         bytes: &[u8],
         options: &serde_json::Value,
         others: u64,
-    ) -> Result<(Recording, String, Vec<String>)> {
+    ) -> Result<(Recording, Vec<Option<f64>>, String, Vec<String>)> {
         let opts: RecordingOptions = if options.is_null() {
             RecordingOptions::default()
         } else {
             serde_json::from_value(options.clone()).map_err(|e| {
                 Error::usage(format!(
-                    "import options of a recording: {e}; a recording takes 'channels' (WAV) and 'component'"
+                    "import options of a recording: {e}; a recording takes 'channels' (WAV), 'time_map' (a supplier's time CSV) and 'component'"
                 ))
                 .field("options")
                 .in_file(name)
@@ -405,8 +750,30 @@ impl Workspace {
             .component
             .clone()
             .unwrap_or_else(|| io::file_stem(name));
-        if io::wav::looks_like_wav(bytes) {
-            let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), name)?;
+        if let Some(m) = &opts.time_map {
+            if io::wav::looks_like_wav(bytes) || opts.channels.is_some() {
+                return Err(Error::usage(
+                    "'time_map' reads a supplier's time CSV; a WAV file's channels are described by 'channels'",
+                )
+                .field("time_map")
+                .in_file(name));
+            }
+            let map = io::csv::TimeColumnMap::from_json(m.clone()).map_err(|e| e.in_file(name))?;
+            let (rec, notes) = io::csv::read_time_mapped(bytes, name, &map, &component)?;
+            self.check_recording_room(
+                name,
+                held_bytes(rec.channels.len(), rec.len() as u64),
+                bytes.len() as u64,
+                others,
+            )?;
+            let over = vec![None; rec.channels.len()];
+            Ok((rec, over, "time-csv (mapped)".to_string(), notes))
+        } else if io::wav::looks_like_wav(bytes) {
+            let wav = io::wav::WavReader::with_length(
+                std::io::Cursor::new(bytes),
+                name,
+                bytes.len() as u64,
+            )?;
             let info = wav.info.clone();
             let Some(channels) = &opts.channels else {
                 return Err(Error::usage(format!(
@@ -428,9 +795,9 @@ impl Workspace {
                 bytes.len() as u64,
                 others,
             )?;
-            let (rec, _over, mut notes) = wav_recording(wav, name, &specs, &self.limits)?;
+            let (rec, over, mut notes) = wav_recording(wav, name, &specs, &self.limits)?;
             notes.insert(0, info.describe());
-            Ok((rec, "wav".to_string(), notes))
+            Ok((rec, over, "wav".to_string(), notes))
         } else {
             if opts.channels.is_some() {
                 return Err(Error::usage(
@@ -446,7 +813,8 @@ impl Workspace {
                 bytes.len() as u64,
                 others,
             )?;
-            Ok((rec, "time-csv".to_string(), Vec::new()))
+            let over = vec![None; rec.channels.len()];
+            Ok((rec, over, "time-csv".to_string(), Vec::new()))
         }
     }
 
@@ -462,11 +830,13 @@ impl Workspace {
         let others = self.recordings_bytes(name);
         let rec = self.read_uff_recording(name, histories, others)?;
         let summary = recording_summary(name, format, io::sha256_hex(bytes), 0, &rec, Vec::new());
+        let over = vec![None; rec.channels.len()];
         self.recordings.insert(
             name.to_string(),
             WsRecording {
                 rec,
                 summary: summary.clone(),
+                over,
             },
         );
         Ok(summary)
@@ -496,7 +866,7 @@ impl Workspace {
         name: &str,
         bytes: &[u8],
         options: serde_json::Value,
-        rec: Recording,
+        (rec, over): (Recording, Vec<Option<f64>>),
         format: String,
         notes: Vec<String>,
     ) -> FileSummary {
@@ -514,6 +884,7 @@ impl Workspace {
             WsRecording {
                 rec,
                 summary: summary.clone(),
+                over,
             },
         );
         // the bytes stay for recipes' time-data steps and bundles
@@ -552,52 +923,189 @@ impl Workspace {
         })
     }
 
-    /// Analyse a recording: Welch spectra or FRFs with coherence. The result
-    /// is written as our CSV and loaded as the file `STEM.TAG.csv`
+    /// Analyse a recording: Welch spectra or FRFs with coherence, impact
+    /// records' FRFs or energy spectral densities, or order tracks. The
+    /// result is written as our CSV and loaded as the file `STEM.TAG.csv`
     /// (replacing one of that name), so every part of the page uses it.
     pub fn analyse_time(&mut self, name: &str, request: &TimeRequest) -> Result<TimeResult> {
-        let (averaging, job, tag) = request.read()?;
+        let (plan, tag) = request.read()?;
         let held = self.recordings.get(name).ok_or_else(|| {
             Error::missing(format!("no recording '{}' is loaded", quote(name))).field("recording")
         })?;
         let rec = &held.rec;
-        let prov = Provenance {
+        let stem = io::file_stem(name);
+        let mut prov = Provenance {
             file: io::base_name(name),
             sha256: held.summary.sha256.clone(),
             format: held.summary.format.clone(),
-            options: format!(
-                "analysis {}, window {}, segment {}, overlap {}, detrend {}",
-                request.analysis,
-                averaging.window.label(),
-                averaging.segment,
-                averaging.overlap,
-                averaging.detrend.name()
-            ),
+            options: String::new(),
         };
-        let stem = io::file_stem(name);
-        let a = analyse_recording(rec, &averaging, &job, &stem, &prov, &self.limits)
-            .map_err(|e| e.in_file(name))?;
-        let window = window_corrections(&request.window, a.settings.segment, a.fs)?;
-        let bytes = io::save(&a.sets, io::ExportFormat::Csv)?;
         let file = format!("{stem}.{tag}.csv");
-        let summary = self.load_file(&file, &bytes, serde_json::json!({}))?;
-        Ok(TimeResult {
-            file,
-            bytes,
-            summary,
-            segments: a.segments,
-            segment: a.settings.segment,
-            overlap_samples: a.settings.overlap,
-            sample_rate_hz: a.fs,
-            df_hz: a.fs / a.settings.segment as f64,
-            window,
-            notes: a.notes,
-        })
+        let (sets, mut out) = match plan {
+            Plan::Analyse { averaging, job } => {
+                if !job.is_impact() {
+                    prov.options = format!(
+                        "analysis {}, window {}, segment {}, overlap {}, detrend {}",
+                        request.analysis,
+                        averaging.window.label(),
+                        averaging.segment,
+                        averaging.overlap,
+                        averaging.detrend.name()
+                    );
+                }
+                let a = analyse_held(
+                    rec,
+                    &held.over,
+                    &averaging,
+                    &job,
+                    &stem,
+                    &prov,
+                    &self.limits,
+                )
+                .map_err(|e| e.in_file(name))?;
+                let df = a.fs / a.settings.segment as f64;
+                if job.is_impact() {
+                    let records: Vec<RecordInfo> = a
+                        .hits
+                        .iter()
+                        .map(|h| RecordInfo {
+                            trigger_s: h.trigger as f64 / a.fs,
+                            start_s: h.start as f64 / a.fs,
+                            peak: h.peak,
+                            rejected: h.rejection(&rec.channels),
+                        })
+                        .collect();
+                    let rejected = records.iter().filter(|r| r.rejected.is_some()).count();
+                    let described = format!(
+                        "{} of {} impact record(s) averaged, {rejected} left out; records of {} samples ({} s), Δf = {} Hz",
+                        a.segments,
+                        records.len(),
+                        a.settings.segment,
+                        a.settings.segment as f64 / a.fs,
+                        df
+                    );
+                    let out = TimeResult {
+                        file: file.clone(),
+                        bytes: Vec::new(),
+                        summary: empty_summary(),
+                        described,
+                        segments: a.segments,
+                        segment: Some(a.settings.segment),
+                        overlap_samples: None,
+                        sample_rate_hz: a.fs,
+                        df_hz: Some(df),
+                        window: None,
+                        accepted: a.segments,
+                        rejected,
+                        records,
+                        by_speed: None,
+                        notes: a.notes,
+                    };
+                    (a.sets, out)
+                } else {
+                    let window = window_corrections(
+                        averaging.window.label().as_str(),
+                        a.settings.segment,
+                        a.fs,
+                    )?;
+                    let described = format!(
+                        "{} block(s) of {} samples ({} overlapping), Δf = {} Hz",
+                        a.segments, a.settings.segment, a.settings.overlap, df
+                    );
+                    let out = TimeResult {
+                        file: file.clone(),
+                        bytes: Vec::new(),
+                        summary: empty_summary(),
+                        described,
+                        segments: a.segments,
+                        segment: Some(a.settings.segment),
+                        overlap_samples: Some(a.settings.overlap),
+                        sample_rate_hz: a.fs,
+                        df_hz: Some(df),
+                        window: Some(window),
+                        records: Vec::new(),
+                        accepted: 0,
+                        rejected: 0,
+                        by_speed: None,
+                        notes: a.notes,
+                    };
+                    (a.sets, out)
+                }
+            }
+            Plan::Orders {
+                settings,
+                speed,
+                by_speed,
+            } => {
+                let (speed, tach) = match speed {
+                    SpeedFrom::Profile(p) => (Speed::Profile(p), None),
+                    SpeedFrom::Tach {
+                        dof,
+                        level,
+                        pulses_per_rev,
+                    } => {
+                        let i = rec.index_of(&dof).map_err(|e| e.field("tach"))?;
+                        (
+                            Speed::Tach {
+                                samples: rec.samples[i].clone(),
+                                level,
+                                pulses_per_rev,
+                            },
+                            Some(i),
+                        )
+                    }
+                };
+                let track_name = format!("{stem} order {}", settings.order);
+                let sets = order_tracks(
+                    rec,
+                    &speed,
+                    tach,
+                    &settings,
+                    &track_name,
+                    &prov,
+                    &self.limits,
+                )
+                .map_err(|e| e.in_file(name))?;
+                let tables = by_speed
+                    .map(|step| {
+                        orders::by_speed(&sets, settings.order, step, orders::MAX_BY_SPEED_ROWS)
+                    })
+                    .transpose()?;
+                let described = sets
+                    .first()
+                    .and_then(|s| s.provenance.first())
+                    .map(|p| p.options.clone())
+                    .unwrap_or_default();
+                let out = TimeResult {
+                    file: file.clone(),
+                    bytes: Vec::new(),
+                    summary: empty_summary(),
+                    described,
+                    segments: sets.first().map_or(0, |s| s.n_lines()),
+                    segment: None,
+                    overlap_samples: None,
+                    sample_rate_hz: rec.fs,
+                    df_hz: None,
+                    window: None,
+                    records: Vec::new(),
+                    accepted: 0,
+                    rejected: 0,
+                    by_speed: tables,
+                    notes: Vec::new(),
+                };
+                (sets, out)
+            }
+        };
+        let bytes = io::save(&sets, io::ExportFormat::Csv)?;
+        out.summary = self.load_file(&file, &bytes, serde_json::json!({}))?;
+        out.bytes = bytes;
+        Ok(out)
     }
 
     /// The time view of a recording between `t0` and `t1` seconds (the
-    /// whole record when both are `None`), with the analysis blocks the
-    /// request would cut shaded.
+    /// whole record when both are `None`), with the blocks the request
+    /// would cut shaded: Welch segments, or impact records with the ones
+    /// left out marked and their reason in their titles.
     pub fn time_view(
         &self,
         name: &str,
@@ -606,17 +1114,59 @@ impl Workspace {
         width: f64,
         height: f64,
     ) -> Result<crate::plot::Drawing> {
-        let rec = self.recording(name)?;
-        let blocks = match request {
-            Some(r) => {
-                let (avg, _, _) = r.read()?;
-                let s = avg.settings()?;
+        let held = self.recordings.get(name).ok_or_else(|| {
+            Error::missing(format!("no recording '{}' is loaded", quote(name))).field("recording")
+        })?;
+        let rec = &held.rec;
+        let blocks = match request.map(|r| r.read()).transpose()? {
+            Some((
+                Plan::Analyse {
+                    job:
+                        Job::Impact {
+                            input, settings, ..
+                        }
+                        | Job::ImpactEnergy { input, settings },
+                    ..
+                },
+                _,
+            )) => {
+                let i = rec.index_of(&input).map_err(|e| e.field("inputs"))?;
+                let len = settings.record_samples(rec.fs)?;
+                let (hits, _) = find_hits(&rec.samples, i, &held.over, rec.fs, &settings)?;
+                hits.iter()
+                    .map(|h| crate::plot::time_view::Block {
+                        start: h.start,
+                        len,
+                        flag: h.rejection(&rec.channels),
+                    })
+                    .collect()
+            }
+            Some((Plan::Analyse { averaging, .. }, _)) => {
+                let s = averaging.settings()?;
                 s.check(rec.fs)?;
                 crate::plot::time_view::welch_blocks(rec.len(), s.segment, s.step())
             }
-            None => Vec::new(),
+            Some((Plan::Orders { .. }, _)) | None => Vec::new(),
         };
         crate::plot::time_view::time_view_svg(name, rec, range, &blocks, width, height)
+    }
+}
+
+/// A placeholder summary, replaced by the loaded file's.
+fn empty_summary() -> FileSummary {
+    FileSummary {
+        file: String::new(),
+        bytes: 0,
+        sha256: String::new(),
+        format: String::new(),
+        frfs: 0,
+        sets: Vec::new(),
+        time_histories: Vec::new(),
+        warnings: Vec::new(),
+        uff: None,
+        geometry_svg: None,
+        geometry: None,
+        recording: None,
     }
 }
 

@@ -76,13 +76,13 @@ pub(super) fn layout<'a>(lines: &[(usize, &'a str)], map: &ColumnMap) -> Result<
 
 /// The header's column names (ASCII case folded) to the first column of
 /// each name: resolving every map entry is one hash look-up, not a scan.
-struct HeaderIndex<'h> {
+pub(super) struct HeaderIndex<'h> {
     header: &'h [String],
     first: HashMap<String, usize>,
 }
 
 impl<'h> HeaderIndex<'h> {
-    fn new(header: &'h [String]) -> Self {
+    pub(super) fn new(header: &'h [String]) -> Self {
         let mut first = HashMap::with_capacity(header.len());
         for (n, h) in header.iter().enumerate() {
             first.entry(h.to_ascii_lowercase()).or_insert(n);
@@ -104,7 +104,7 @@ fn header_names(header: &[String]) -> String {
     shown.join(", ")
 }
 
-fn resolve(c: &ColumnRef, header: &HeaderIndex, role: &str) -> Result<usize> {
+pub(super) fn resolve(c: &ColumnRef, header: &HeaderIndex, role: &str) -> Result<usize> {
     match c {
         ColumnRef::Index(0) => Err(Error::usage(format!(
             "column 0 for {role}; columns count from 1"
@@ -294,7 +294,13 @@ pub(super) fn plan(
     })
 }
 
-fn cell_num(cells: &[String], c: usize, map: &ColumnMap, ln: usize, what: &str) -> Result<f64> {
+pub(super) fn cell_num(
+    cells: &[String],
+    c: usize,
+    map: &ColumnMap,
+    ln: usize,
+    what: &str,
+) -> Result<f64> {
     let Some(raw) = cells.get(c) else {
         return Err(Error::parse(format!(
             "the row has {} cells; expected column {} for {what}",

@@ -72,6 +72,7 @@ mod mapped;
 mod native;
 mod preview;
 mod text;
+mod time_mapped;
 
 pub use auto::{detect_map, Detected};
 pub use column_map::{
@@ -84,3 +85,4 @@ pub use native::{
 };
 pub use preview::{preview, preview_as, same_layout, Preview, PreviewRow, PreviewValues};
 pub use text::{decode_text, fmt_f64, text_lines};
+pub use time_mapped::{read_time_mapped, TimeChannelMap, TimeColumnMap};

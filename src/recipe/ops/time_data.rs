@@ -10,7 +10,7 @@ use crate::io;
 use crate::recipe::report::StepReport;
 use crate::signal::analyse::{self, Analysed, Averaging, ChannelSpec, Job};
 use crate::signal::impact::ImpactSettings;
-use crate::signal::orders::{order_tracks, OrderSettings, Speed};
+use crate::signal::orders::{order_tracks, OrderSettings, Speed, ORDER_DEFAULTS};
 use crate::signal::{Detrend, Estimator, Recording, Window};
 use serde::{Deserialize, Serialize};
 
@@ -25,6 +25,9 @@ pub struct Spectrum {
     pub reference: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub channels: Option<Vec<String>>,
+    /// A supplier's time CSV's column map.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time_map: Option<io::csv::TimeColumnMap>,
     pub segment: usize,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub overlap: Option<f64>,
@@ -44,6 +47,9 @@ pub struct EstimateFrf {
     pub estimator: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub channels: Option<Vec<String>>,
+    /// A supplier's time CSV's column map.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time_map: Option<io::csv::TimeColumnMap>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub segment: Option<usize>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -76,6 +82,9 @@ pub struct Orders {
     pub samples_per_rev: Option<usize>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub channels: Option<Vec<String>>,
+    /// A supplier's time CSV's column map.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time_map: Option<io::csv::TimeColumnMap>,
 }
 
 /// A hammer test's records (see `signal::impact`), in seconds and SI.
@@ -96,6 +105,7 @@ pub struct Impact {
 
 const FILE: &str = "a WAV file, a UFF file of time responses (function type 1) or a time CSV (time [s], DOF [UNIT], ...), among the recipe's files";
 const CHANNELS: &str = "WAV only, required there: each channel analysed as 'N=DOF QUANTITY FULL_SCALE UNIT', e.g. '1=rig:1+Z force 500 N'";
+const TIME_MAP: &str = "a supplier's time CSV: its column map {delimiter, skip_rows, header_line, unit_line, decimal_comma, time, time_unit (s or ms), channels: [{column, dof, unit}]}, columns by number or name";
 const SEGMENT: &str = "samples per segment (the FFT length; lines every fs/N Hz)";
 const OVERLAP: &str = "fraction of a segment shared with the next, 0 to below 1 (default 0.5)";
 const WINDOW: &str =
@@ -150,16 +160,24 @@ fn analyse_file(
     cx: &Ctx,
     file: &str,
     channels: Option<&[String]>,
+    time_map: Option<&io::csv::TimeColumnMap>,
     avg: &Averaging,
     job: &Job,
 ) -> Result<Analysed> {
-    let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
     let name = cx.id.to_string();
+    if time_map.is_some() {
+        let (rec, prov, notes) = recording_of(cx, file, channels, time_map)?;
+        let mut a = analyse::analyse_recording(&rec, avg, job, &name, &prov, cx.limits)?;
+        a.notes.extend(notes);
+        return Ok(a);
+    }
+    let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
     let mut prov = provenance_of(file, &bytes);
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
         let specs = wav_channels(channels)?;
-        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        let length = bytes.len() as u64;
+        let wav = io::wav::WavReader::with_length(std::io::Cursor::new(bytes), file, length)?;
         analyse::analyse_wav(
             wav,
             file,
@@ -190,13 +208,33 @@ fn recording_of(
     cx: &Ctx,
     file: &str,
     channels: Option<&[String]>,
+    time_map: Option<&io::csv::TimeColumnMap>,
 ) -> Result<(Recording, Provenance, Vec<String>)> {
     let bytes = cx.files.read(file).map_err(|e| e.field("file"))?;
     let mut prov = provenance_of(file, &bytes);
+    if let Some(m) = time_map {
+        if io::wav::looks_like_wav(&bytes) || channels.is_some() {
+            return Err(Error::recipe(
+                "'time_map' reads a supplier's time CSV; a WAV file's channels are described by 'channels'",
+            )
+            .field("time_map"));
+        }
+        let (rec, notes) = io::csv::read_time_mapped(&bytes, file, m, &io::file_stem(file))
+            .map_err(|e| {
+                if e.field.is_none() {
+                    e.field("time_map")
+                } else {
+                    e
+                }
+            })?;
+        prov.format = "time-csv (mapped)".into();
+        return Ok((rec, prov, notes));
+    }
     if io::wav::looks_like_wav(&bytes) {
         prov.format = "wav".into();
         let specs = wav_channels(channels)?;
-        let wav = io::wav::WavReader::new(std::io::Cursor::new(bytes), file)?;
+        let length = bytes.len() as u64;
+        let wav = io::wav::WavReader::with_length(std::io::Cursor::new(bytes), file, length)?;
         let (rec, _, notes) = analyse::wav_recording(wav, file, &specs, cx.limits)?;
         return Ok((rec, prov, notes));
     }
@@ -243,6 +281,7 @@ impl Operation for Spectrum {
             "the channel DOF phases are measured against (rms, peak, cross)",
         ),
         opt("channels", CHANNELS),
+        opt("time_map", TIME_MAP),
         opt("overlap", OVERLAP),
         opt("window", WINDOW),
         opt("detrend", DETREND),
@@ -290,6 +329,7 @@ impl Operation for Spectrum {
             cx,
             &self.file,
             self.channels.as_deref(),
+            self.time_map.as_ref(),
             &avg,
             &Job::Spectrum { kind, reference },
         )?;
@@ -315,6 +355,7 @@ impl Operation for EstimateFrf {
         ),
         opt("estimator", "h1 (default), h2 or hv"),
         opt("channels", CHANNELS),
+        opt("time_map", TIME_MAP),
         opt("overlap", OVERLAP),
         opt("window", WINDOW),
         opt("detrend", DETREND),
@@ -373,9 +414,11 @@ impl Operation for EstimateFrf {
                 };
                 let settings = ImpactSettings {
                     level: i.trigger,
-                    pre_trigger_s: i.pre_trigger.unwrap_or(0.01),
+                    pre_trigger_s: i
+                        .pre_trigger
+                        .unwrap_or(ImpactSettings::DEFAULT_PRE_TRIGGER_S),
                     length_s: i.record_length,
-                    double_hit_fraction: i.double_hit.unwrap_or(0.1),
+                    double_hit_fraction: i.double_hit.unwrap_or(ImpactSettings::DEFAULT_DOUBLE_HIT),
                     force_width_s: i.force_width,
                     decay_s: i.decay,
                 };
@@ -391,14 +434,21 @@ impl Operation for EstimateFrf {
                 )
             }
         };
-        let a =
-            analyse_file(cx, &self.file, self.channels.as_deref(), &avg, &job).map_err(|e| {
-                if matches!(job, Job::Impact { .. }) && e.field.is_none() {
-                    e.field("impact")
-                } else {
-                    e
-                }
-            })?;
+        let a = analyse_file(
+            cx,
+            &self.file,
+            self.channels.as_deref(),
+            self.time_map.as_ref(),
+            &avg,
+            &job,
+        )
+        .map_err(|e| {
+            if matches!(job, Job::Impact { .. }) && e.field.is_none() {
+                e.field("impact")
+            } else {
+                e
+            }
+        })?;
         output(cx, "estimate-frf", a.sets, a.notes)
     }
 }
@@ -433,6 +483,7 @@ impl Operation for Orders {
             "samples per revolution after resampling (default 64)",
         ),
         opt("channels", CHANNELS),
+        opt("time_map", TIME_MAP),
     ];
     fn reads(&self) -> Vec<&str> {
         Vec::new()
@@ -451,7 +502,12 @@ impl Operation for Orders {
                 }
             }
         }
-        let (rec, prov, notes) = recording_of(cx, &self.file, self.channels.as_deref())?;
+        let (rec, prov, notes) = recording_of(
+            cx,
+            &self.file,
+            self.channels.as_deref(),
+            self.time_map.as_ref(),
+        )?;
         let (speed, tach) = match (&self.speed, &self.tach) {
             (Some(p), _) => (Speed::Profile(p.clone()), None),
             (None, Some(t)) => {
@@ -461,8 +517,8 @@ impl Operation for Orders {
                 (
                     Speed::Tach {
                         samples: rec.samples[i].clone(),
-                        level: self.tach_level.unwrap_or(0.5),
-                        pulses_per_rev: self.pulses_per_rev.unwrap_or(1.0),
+                        level: self.tach_level.unwrap_or(ORDER_DEFAULTS.0),
+                        pulses_per_rev: self.pulses_per_rev.unwrap_or(ORDER_DEFAULTS.1),
                     },
                     Some(i),
                 )
@@ -471,8 +527,8 @@ impl Operation for Orders {
         };
         let settings = OrderSettings {
             order: self.order,
-            revolutions: self.revolutions.unwrap_or(8),
-            samples_per_rev: self.samples_per_rev.unwrap_or(64),
+            revolutions: self.revolutions.unwrap_or(ORDER_DEFAULTS.2),
+            samples_per_rev: self.samples_per_rev.unwrap_or(ORDER_DEFAULTS.3),
         };
         let sets = order_tracks(&rec, &speed, tach, &settings, cx.id, &prov, cx.limits)?;
         output(cx, "orders", sets, notes)
