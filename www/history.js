@@ -38,7 +38,7 @@ function renderHistory() {
       })),
       el('td', {}, `run ${h.number}` + (h === cur ? ' (shown)' : '')),
       el('td', {}, clock(h.started_ms)),
-      el('td', {}, seconds(h.duration_ms)),
+      el('td', {}, seconds(h.duration_ms), h.split ? el('div', { class: 'muted' }, h.split) : null),
       el('td', {}, h.title || '–'),
       el('td', { class: 'history-headline' }, (h.headline || [])[0] || '–'),
       el('td', { class: h.error ? 'fail-text' : '' }, state),

@@ -12,7 +12,7 @@ use super::report::{
 use super::uncertainty::{check_uncertainty_used, component_uncertainties, propagate, Assessed};
 use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::limits::Limits;
 use crate::predict;
@@ -323,6 +323,19 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
 /// them before it is computed (an [`ErrorKind::Budget`](crate::error::ErrorKind::Budget)
 /// error names the entry, the size asked for and the budget).
 pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Result<RunResult> {
+    run_with_sweep(recipe, files, limits, None)
+}
+
+/// [`run_with`], its sweep computed elsewhere: `sweep` is the whole sweep
+/// (the page's workers' slices merged by [`super::sweep::merge_reports`]),
+/// or the first error a slice met, which the run fails with where it would
+/// have computed the sweep; `None` computes the sweep here.
+pub fn run_with_sweep(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    sweep: Option<Result<super::sweep::SweepReport>>,
+) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
     check_uncertainty_used(recipe)?;
@@ -400,11 +413,22 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         caution: predict::CAUTION.into(),
     };
     if recipe.sweep.is_some() {
-        // the whole sweep, on threads where there are threads
-        let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
-        report.sweep = Some(super::sweep::sweep_on(
-            recipe, &comps, files, limits, None, threads,
-        )?);
+        report.sweep = Some(match sweep {
+            Some(given) => {
+                let given = given?;
+                super::sweep::check_whole(recipe, &given)?;
+                given
+            }
+            // the whole sweep, on threads where there are threads
+            None => {
+                let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
+                super::sweep::sweep_on(recipe, &comps, files, limits, None, threads)?
+            }
+        });
+    } else if sweep.is_some() {
+        return Err(Error::internal(
+            "a sweep was given for a recipe without a \"sweep\" section",
+        ));
     }
     // the headline names a speed sweep's loudest speed beside the level
     report.headline = headline(&report);

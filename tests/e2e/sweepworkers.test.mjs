@@ -1,0 +1,100 @@
+// A recipe's sweep on several workers, from file://: the same recipe run with
+// 1 worker and with 2 and 3 gives the same report (its JSON text, sweep rows
+// included), the same results and the same headline (the invariant: the
+// split never changes a result; common practice for a parallel split, each
+// point computed alone). The progress line and the run history say how the
+// sweep was split; a number of workers outside 1..8 is refused naming it.
+// The wall times are printed (no timing is asserted).
+import { test } from 'node:test';
+import assert from 'node:assert/strict';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { open, shot, pasteRecipe, ROOT } from './helpers.mjs';
+
+const AXE = readFileSync(join(ROOT, 'node_modules/axe-core/axe.min.js'), 'utf8');
+
+async function runWith(p, workers) {
+  await p.fill('#limit-workers', String(workers));
+  // every text the progress line shows during the run
+  await p.evaluate(() => {
+    window.stageSeen = [];
+    const el = document.getElementById('run-stage');
+    window.stageObs?.disconnect();
+    window.stageObs = new MutationObserver(() => window.stageSeen.push(el.textContent));
+    window.stageObs.observe(el, { childList: true, characterData: true, subtree: true });
+  });
+  const before = await p.$$eval('#history tr[data-run]', (r) => r.length);
+  await p.click('#run-btn');
+  await p.waitForFunction((n) => document.querySelectorAll('#history tr[data-run]').length > n
+    && !document.body.dataset.state.startsWith('busy') && /done in|failed/.test(document.getElementById('status-text').textContent), before, { timeout: 180000 });
+  return p.evaluate(() => ({
+    ms: window.mortiseTimings.last_run_ms,
+    status: document.getElementById('status-text').textContent,
+    report: JSON.stringify(S.results?.report),
+    results: S.resultsJson,
+    headline: document.getElementById('headline')?.textContent,
+    stages: window.stageSeen,
+    history: document.querySelector('#history tr[data-run]')?.textContent,
+  }));
+}
+
+test('a sweep on 1, 2 and 3 workers gives the same report, results and headline', async () => {
+  const s = await open();
+  try {
+    const p = s.page;
+    await p.click('#demo-btn');
+    await p.waitForFunction(() => /demo loaded/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    const demo = await p.inputValue('#recipe-text');
+    const r = JSON.parse(demo);
+    // the isolators' stiffness scaled over 24 points: each point a whole run
+    const iso = JSON.stringify({ ...r, sweep: { name: 'isolator scale', scale: 'isolator', from: 0.25, to: 4, steps: 24, spacing: 'log' } }, null, 2);
+    await p.click('#limits-box summary');
+    for (const [name, text, points] of [['demo (speed sweep)', demo, 71], ['isolator scale', iso, 24]]) {
+      await pasteRecipe(p, text);
+      const one = await runWith(p, 1);
+      assert.match(one.status, /done in/, one.status);
+      assert.ok(one.report.includes('"sweep"'), 'the report holds the sweep');
+      assert.ok(!one.stages.some((t) => /workers/.test(t)), 'one worker: no split');
+      for (const w of [2, 3]) {
+        const got = await runWith(p, w);
+        assert.match(got.status, new RegExp(`done in .* \\(sweep on ${w} workers\\)`), got.status);
+        assert.equal(got.report, one.report, `${name}: the report with ${w} workers`);
+        assert.equal(got.results, one.results, `${name}: the results with ${w} workers`);
+        assert.equal(got.headline, one.headline);
+        assert.ok(got.stages.some((t) => t === `sweep: ${points} points on ${w} workers, started`), got.stages.join(' | '));
+        assert.ok(got.stages.some((t) => new RegExp(`^sweep: ${points} points on ${w} workers, slice \\d( \\d)*`).test(t.replace(/,/g, ''))), got.stages.join(' | '));
+        assert.match(got.history, new RegExp(`sweep '[^']+': ${points} points on ${w} workers \\(points 0\\.\\.`));
+        console.log(`# measure ${name}: ${points} points, run with 1 worker ${(one.ms / 1000).toFixed(2)} s, with ${w} workers ${(got.ms / 1000).toFixed(2)} s (hardwareConcurrency ${await p.evaluate(() => navigator.hardwareConcurrency)})`);
+      }
+      assert.match(one.headline || '', /dB/);
+    }
+    await shot(p, 'sweep-workers');
+    // a number of workers outside 1..8 is refused, naming it, by Run and by Apply
+    await p.fill('#limit-workers', '9');
+    await p.click('#run-btn');
+    await p.waitForFunction(() => /the run failed/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    assert.match(await p.textContent('#run-error'), /workers '9': expected a whole number from 1 to 8/);
+    await p.click('#limits-btn');
+    await p.waitForFunction(() => /not applied/.test(document.getElementById('limits-state').textContent));
+    assert.match(await p.textContent('#limits-state'), /workers '9'/);
+    await p.fill('#limit-workers', '2');
+    await p.click('#limits-btn');
+    await p.waitForFunction(() => /in force/.test(document.getElementById('limits-state').textContent));
+    assert.match(await p.textContent('#limits-state'), /up to 2 worker/);
+    // axe-core on the page with the Limits open and the split run listed
+    await p.evaluate(AXE);
+    const vs = await p.evaluate(async () => {
+      const res = await axe.run(document, { runOnly: { type: 'tag', values: ['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'best-practice'] }, resultTypes: ['violations'] });
+      return res.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.id}: ${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join(', ')}`);
+    });
+    assert.deepEqual(vs, []);
+    // clearing the page ends the extra workers
+    assert.ok(await p.evaluate(() => Bridge.extraCount()) >= 1);
+    await p.click('#clear-btn');
+    await p.click('#confirm-dialog button[value=ok]');
+    await p.waitForFunction(() => /workspace cleared/.test(document.getElementById('status-text').textContent));
+    assert.equal(await p.evaluate(() => Bridge.extraCount()), 0);
+    assert.deepEqual(s.foreign(), []);
+    assert.deepEqual(s.errors, []);
+  } finally { await s.close(); }
+});
