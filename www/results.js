@@ -73,6 +73,8 @@ async function runOnWorkers(text) {
     if (e.kind === 'cancelled') throw e;
     return { r: await Bridge.callJson('run_recipe', [text], 'running the recipe'), workers: 1 };
   }
+  // each extra worker's own copy, made before any is moved away
+  const copies = Array.from({ length: W - 1 }, (_, i) => (i === W - 2 ? inputs : inputs.slice()));
   await Bridge.extraWorkers(W - 1);
   const done = [];
   const line = () => `sweep: ${plan.points} points on ${W} workers` + (done.length ? `, slice ${done.join(', ')} done` : ', started');
@@ -84,8 +86,7 @@ async function runOnWorkers(text) {
       else {
         const i = k - 2;
         if (limitsJson !== '{}') await Bridge.callExtra(i, 'set_limits', [limitsJson]);
-        const copy = k === W ? inputs : inputs.slice();
-        await Bridge.callExtra(i, 'load_sweep_inputs', [copy], [copy.buffer]);
+        await Bridge.callExtra(i, 'load_sweep_inputs', [copies[i]], [copies[i].buffer]);
         t = await Bridge.callExtra(i, 'sweep_slice', [text, k, W]);
       }
       done.push(k);
@@ -94,11 +95,12 @@ async function runOnWorkers(text) {
     } catch (e) {
       if (e.kind === 'cancelled') throw e;
       done.push(`${k} failed`);
-      return `{"err":${JSON.stringify(e)}}`;
+      const err = e && typeof e === 'object' && 'kind' in e ? e : { kind: 'internal', message: `sweep worker ${k}: ${e?.message || e}` };
+      return `{"err":${JSON.stringify(err)}}`;
     }
   };
   const parts = await Promise.all(Array.from({ length: W }, (_, j) => one(j + 1)));
-  const r = await Bridge.callJson('run_recipe_split', [text, '[' + parts.join(',') + ']', started], 'folding the sweep and running the recipe');
+  const r = await Bridge.callJson('run_recipe_split', [text, '[' + parts.join(',') + ']', started], 'running the recipe');
   return { r, workers: W };
 }
 function defaultSelection(results) {
