@@ -462,6 +462,14 @@ pub fn sweep_slice(recipe_text: &str, k: u32, n: u32) -> std::result::Result<Str
     to_json(&rep)
 }
 
+/// Run `recipe_text` without its sweep while the extra workers compute it;
+/// [`run_recipe_split`] with the same text finishes it (a failure is
+/// reported there).
+#[wasm_bindgen]
+pub fn run_recipe_begin(recipe_text: &str) {
+    WS.with(|ws| ws.borrow_mut().run_recipe_begin(recipe_text));
+}
+
 /// [`run_recipe`] with the sweep computed by the workers: `slices_json` is
 /// `[{ "ok": SLICE } | { "err": ERROR }, ...]`, slice 1 to N in order (the
 /// texts [`sweep_slice`] returned or threw); `started_ms` when the page

@@ -45,12 +45,17 @@ fn demo_workspace(text: &str) -> Workspace {
     ws
 }
 
-/// Run `text` with its sweep split over `w` workspaces.
-fn run_split(text: &str, w: usize) -> (Workspace, mortise::workspace::RunSummary) {
+/// Run `text` with its sweep split over `w` workspaces besides the main
+/// one; with `begin`, the main one runs the rest of the recipe first (as the
+/// page does while the workers compute), else all of it at the end.
+fn run_split(text: &str, w: usize, begin: bool) -> (Workspace, mortise::workspace::RunSummary) {
     let mut main = demo_workspace(text);
     let bytes = main.sweep_inputs(text).unwrap();
-    let mut slices = vec![main.sweep_slice(text, 1, w)];
-    for k in 2..=w {
+    if begin {
+        main.run_recipe_begin(text);
+    }
+    let mut slices = vec![];
+    for k in 1..=w {
         // a workspace with none of the files: only the inputs' bytes
         let mut extra = Workspace::new();
         extra.load_sweep_inputs(&bytes).unwrap();
@@ -73,8 +78,8 @@ fn a_split_run_gives_the_report_and_headline_of_the_run_in_one_piece() {
         let whole = one.run_recipe(&text).unwrap();
         let want = serde_json::to_string(&whole.report).unwrap();
         assert!(whole.report.as_ref().unwrap()["sweep"].is_object());
-        for w in [2, 3] {
-            let (main, run) = run_split(&text, w);
+        for (w, begin) in [(2, true), (3, false), (1, true)] {
+            let (main, run) = run_split(&text, w, begin);
             assert_eq!(
                 serde_json::to_string(&run.report).unwrap(),
                 want,
@@ -83,7 +88,13 @@ fn a_split_run_gives_the_report_and_headline_of_the_run_in_one_piece() {
             let h = main.history().last().unwrap();
             assert_eq!(h.headline, one.history().last().unwrap().headline);
             let note = h.split.as_deref().unwrap();
-            assert!(note.contains(&format!("on {w} workers")), "{note}");
+            assert!(
+                note.contains(&format!(
+                    "on {w} {} (points 0..",
+                    if w == 1 { "worker" } else { "workers" }
+                )),
+                "{note}"
+            );
             assert!(one.history().last().unwrap().split.is_none());
             // the results' values too
             assert_eq!(run.results.len(), whole.results.len());
@@ -116,6 +127,7 @@ fn a_failed_slice_fails_the_run_with_its_error_and_is_kept_in_the_history() {
     let second = extra.sweep_slice(&text, 2, 2);
     let err = second.clone().unwrap_err();
     let slices = vec![main.sweep_slice(&text, 1, 2), second];
+    main.run_recipe_begin(&text);
     let e = main.run_recipe_split(&text, slices, f64::NAN).unwrap_err();
     assert_eq!(e, err);
     let h = main.history().last().unwrap();

@@ -53,13 +53,13 @@ async function run() {
 }
 // ---------- a sweep on several workers ----------
 // With a sweep in the recipe and more than one worker asked (Limits), the
-// core gathers the sweep's inputs as bytes (sweep_inputs), each extra worker
-// loads its own copy (moved, not shared: no SharedArrayBuffer from file://)
-// and computes one contiguous slice (sweep_slice, the function of
-// `mortise sweep --shard K/N`) while this page's worker computes slice 1;
-// run_recipe_split folds the slices with the one merge and runs the rest of
-// the recipe. This file only schedules and moves bytes; a failed slice fails
-// the run with its error (the core takes the first in slice order).
+// core gathers the sweep's inputs as bytes (sweep_inputs); W extra workers
+// each load their own copy (moved, not shared: no SharedArrayBuffer from
+// file://) and compute one contiguous slice (sweep_slice, the function of
+// `mortise sweep --shard K/N`), while this page's worker runs the rest of
+// the recipe (run_recipe_begin); run_recipe_split folds the slices with the
+// one merge and finishes the run. This file only schedules and moves bytes;
+// a failed slice fails the run with its error (the first in slice order).
 async function runOnWorkers(text) {
   const plan = await Bridge.callJson('sweep_plan', [text, $('limit-workers').value], 'planning the run');
   const W = Math.max(1, Math.min(plan.workers, plan.points));
@@ -74,21 +74,19 @@ async function runOnWorkers(text) {
     return { r: await Bridge.callJson('run_recipe', [text], 'running the recipe'), workers: 1 };
   }
   // each extra worker's own copy, made before any is moved away
-  const copies = Array.from({ length: W - 1 }, (_, i) => (i === W - 2 ? inputs : inputs.slice()));
-  await Bridge.extraWorkers(W - 1);
+  const copies = Array.from({ length: W }, (_, i) => (i === W - 1 ? inputs : inputs.slice()));
+  await Bridge.extraWorkers(W);
   const done = [];
   const line = () => `sweep: ${plan.points} points on ${W} workers` + (done.length ? `, slice ${done.join(', ')} done` : ', started');
+  // the rest of the recipe, in this page's worker meanwhile
+  const rest = Bridge.call('run_recipe_begin', [text], 'running the recipe');
   $('run-stage').textContent = line();
   const one = async (k) => {
+    const i = k - 1;
     try {
-      let t;
-      if (k === 1) t = await Bridge.call('sweep_slice', [text, 1, W], line());
-      else {
-        const i = k - 2;
-        if (limitsJson !== '{}') await Bridge.callExtra(i, 'set_limits', [limitsJson]);
-        await Bridge.callExtra(i, 'load_sweep_inputs', [copies[i]], [copies[i].buffer]);
-        t = await Bridge.callExtra(i, 'sweep_slice', [text, k, W]);
-      }
+      if (limitsJson !== '{}') await Bridge.callExtra(i, 'set_limits', [limitsJson]);
+      await Bridge.callExtra(i, 'load_sweep_inputs', [copies[i]], [copies[i].buffer]);
+      const t = await Bridge.callExtra(i, 'sweep_slice', [text, k, W]);
       done.push(k);
       $('run-stage').textContent = line();
       return `{"ok":${t}}`;
@@ -99,7 +97,8 @@ async function runOnWorkers(text) {
       return `{"err":${JSON.stringify(err)}}`;
     }
   };
-  const parts = await Promise.all(Array.from({ length: W }, (_, j) => one(j + 1)));
+  const [parts] = await Promise.all([Promise.all(Array.from({ length: W }, (_, j) => one(j + 1))), rest]);
+  $('run-stage').textContent = line();
   const r = await Bridge.callJson('run_recipe_split', [text, '[' + parts.join(',') + ']', started], 'running the recipe');
   return { r, workers: W };
 }

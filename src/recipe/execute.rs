@@ -336,6 +336,56 @@ pub fn run_with_sweep(
     limits: &Limits,
     sweep: Option<Result<super::sweep::SweepReport>>,
 ) -> Result<RunResult> {
+    match sweep {
+        None => run_parts(recipe, files, limits, true),
+        Some(given) => finish_with_sweep(recipe, run_parts(recipe, files, limits, false)?, given),
+    }
+}
+
+/// [`run_with`] without the recipe's sweep (computed meanwhile elsewhere):
+/// no `sweep` in the report and no sweep in the headline until
+/// [`finish_with_sweep`] adds them.
+pub fn run_without_sweep(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<RunResult> {
+    run_parts(recipe, files, limits, false)
+}
+
+/// A run made by [`run_without_sweep`] given its whole sweep (or the first
+/// error of its slices): the report and headline [`run_with`] gives.
+pub fn finish_with_sweep(
+    recipe: &Recipe,
+    mut run: RunResult,
+    sweep: Result<super::sweep::SweepReport>,
+) -> Result<RunResult> {
+    if recipe.sweep.is_none() {
+        return Err(Error::internal(
+            "a sweep was given for a recipe without a \"sweep\" section",
+        ));
+    }
+    let sweep = sweep?;
+    super::sweep::check_whole(recipe, &sweep)?;
+    run.report.sweep = Some(sweep);
+    set_headline(&mut run.report);
+    Ok(run)
+}
+
+/// The headline: the levels, and a speed sweep's loudest speed beside them.
+fn set_headline(report: &mut RunReport) {
+    report.headline = headline(report);
+    if let Some(sw) = &report.sweep {
+        report.headline.extend(super::sweep::sweep_headline(sw));
+    }
+}
+
+fn run_parts(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    with_sweep: bool,
+) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
     check_uncertainty_used(recipe)?;
@@ -412,29 +462,15 @@ pub fn run_with_sweep(
         sweep: None,
         caution: predict::CAUTION.into(),
     };
-    if recipe.sweep.is_some() {
-        report.sweep = Some(match sweep {
-            Some(given) => {
-                let given = given?;
-                super::sweep::check_whole(recipe, &given)?;
-                given
-            }
-            // the whole sweep, on threads where there are threads
-            None => {
-                let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
-                super::sweep::sweep_on(recipe, &comps, files, limits, None, threads)?
-            }
-        });
-    } else if sweep.is_some() {
-        return Err(Error::internal(
-            "a sweep was given for a recipe without a \"sweep\" section",
-        ));
+    if recipe.sweep.is_some() && with_sweep {
+        // the whole sweep, on threads where there are threads
+        let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
+        report.sweep = Some(super::sweep::sweep_on(
+            recipe, &comps, files, limits, None, threads,
+        )?);
     }
     // the headline names a speed sweep's loudest speed beside the level
-    report.headline = headline(&report);
-    if let Some(sw) = &report.sweep {
-        report.headline.extend(super::sweep::sweep_headline(sw));
-    }
+    set_headline(&mut report);
     Ok(RunResult {
         outputs,
         report,

@@ -33,7 +33,8 @@ mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
 pub use execute::{
-    load_components, load_components_with, run, run_with, run_with_sweep, RunResult,
+    finish_with_sweep, load_components, load_components_with, run, run_with, run_with_sweep,
+    run_without_sweep, RunResult,
 };
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};

@@ -102,9 +102,10 @@ pub fn fold_slices(slices: Vec<Result<SweepReport>>) -> Result<SweepReport> {
 /// 200 points on 2 workers (points 0..100, 100..200)".
 pub fn split_note(slices: &[(usize, usize)], name: &str, total: usize) -> String {
     let parts: Vec<String> = slices.iter().map(|(a, b)| format!("{a}..{b}")).collect();
+    let n = slices.len();
     format!(
-        "sweep '{name}': {total} points on {} workers (points {})",
-        slices.len(),
+        "sweep '{name}': {total} points on {n} worker{} (points {})",
+        if n == 1 { "" } else { "s" },
         parts.join(", ")
     )
 }

@@ -71,6 +71,10 @@ pub struct Workspace {
     /// ([`Workspace::sweep_inputs`]) or loaded from another workspace's
     /// bytes ([`Workspace::load_sweep_inputs`]).
     sweep_inputs: Option<recipe::SweepInputs>,
+    /// A run begun without its sweep while the workers compute it
+    /// ([`Workspace::run_recipe_begin`]): the SHA-256 of its recipe text
+    /// and its outcome.
+    pending: Option<(String, Result<recipe::RunResult>)>,
 }
 
 /// What a run left in the workspace.
@@ -433,12 +437,24 @@ impl Workspace {
             .slice(recipe_text, k, n, &self.limits)
     }
 
+    /// Run `recipe_text` without its sweep, on the files as they are now, and
+    /// keep the outcome for [`Workspace::run_recipe_split`] with the same
+    /// text (the workers compute the sweep meanwhile); a failure is kept
+    /// too and reported there.
+    pub fn run_recipe_begin(&mut self, recipe_text: &str) {
+        let run = recipe::parse(recipe_text)
+            .and_then(|r| recipe::run_without_sweep(&r, &Source(self), &self.limits));
+        self.pending = Some((io::sha256_hex(recipe_text.as_bytes()), run));
+    }
+
     /// [`Workspace::run_recipe`] with its sweep computed in `slices` (slice
     /// 1 to N, each the outcome of [`Workspace::sweep_slice`] in some
     /// workspace): folded by the one merge, the first failed slice failing
     /// the run. The report and headline are those of the run computed in
-    /// one piece; the history record notes the split. `started_ms` is when
-    /// the caller began (its slices included), on the same clock.
+    /// one piece; the history record notes the split. The rest of the
+    /// recipe is the run begun by [`Workspace::run_recipe_begin`] with the
+    /// same text, else computed now. `started_ms` is when the caller began
+    /// (its slices included), on the same clock.
     pub fn run_recipe_split(
         &mut self,
         recipe_text: &str,
@@ -472,8 +488,16 @@ impl Workspace {
             }
         });
         let given = slices.map(recipe::fold_slices);
+        let sha = io::sha256_hex(recipe_text.as_bytes());
+        let begun = match self.pending.take() {
+            Some((s, run)) if s == sha && given.is_some() => Some(run),
+            _ => None,
+        };
         let outcome = recipe::parse(recipe_text).and_then(|r| {
-            let run = recipe::run_with_sweep(&r, &Source(self), &self.limits, given)?;
+            let run = match (begun, given) {
+                (Some(run), Some(sweep)) => recipe::finish_with_sweep(&r, run?, sweep)?,
+                (_, given) => recipe::run_with_sweep(&r, &Source(self), &self.limits, given)?,
+            };
             let report = serde_json::to_value(&run.report)
                 .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
             Ok((r.title.clone(), run, report))
