@@ -70,6 +70,19 @@ test('a sweep on 1, 2 and 3 workers gives the same report, results and headline'
       assert.match(one.headline || '', /dB/);
     }
     await shot(p, 'sweep-workers');
+    // a cancel while the workers compute ends them, marks the results stale,
+    // and the next split run starts fresh workers and gives the same report
+    await p.fill('#limit-workers', '2');
+    await p.click('#run-btn');
+    await p.waitForFunction(() => /^sweep: 24 points on 2 workers/.test(document.getElementById('run-stage').textContent), null, { timeout: 60000 });
+    await p.click('#cancel-btn');
+    await p.waitForSelector('#stale-banner:not([hidden])', { timeout: 60000 });
+    assert.match(await p.textContent('#stale-banner'), /cancelled/);
+    assert.equal(await p.evaluate(() => Bridge.extraCount()), 0);
+    await p.waitForFunction(() => !document.getElementById('run-btn').disabled && /cancelled/.test(document.getElementById('status-text').textContent), null, { timeout: 60000 });
+    const again = await runWith(p, 2);
+    assert.match(again.status, /done in .* \(sweep on 2 workers\)/, again.status);
+    assert.equal(await p.$eval('#stale-banner', (b) => b.hidden), true);
     // a number of workers outside 1..8 is refused, naming it, by Run and by Apply
     await p.fill('#limit-workers', '9');
     await p.click('#run-btn');
