@@ -437,10 +437,10 @@ pub fn sweep_plan(recipe_text: &str, workers_text: &str) -> std::result::Result<
 
 /// The inputs of the sweep of `recipe_text` as bytes (components as loaded
 /// and the files its steps read; [`recipe::SweepInputs`]) for the page's
-/// extra workers; this worker keeps them for its own slice.
+/// sweep workers (this worker keeps no copy).
 #[wasm_bindgen]
 pub fn sweep_inputs(recipe_text: &str) -> std::result::Result<Vec<u8>, JsValue> {
-    WS.with(|ws| ws.borrow_mut().sweep_inputs(recipe_text))
+    WS.with(|ws| ws.borrow().sweep_inputs(recipe_text))
         .map_err(js_err)
 }
 

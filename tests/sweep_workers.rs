@@ -126,7 +126,9 @@ fn a_failed_slice_fails_the_run_with_its_error_and_is_kept_in_the_history() {
         .unwrap();
     let second = extra.sweep_slice(&text, 2, 2);
     let err = second.clone().unwrap_err();
-    let slices = vec![main.sweep_slice(&text, 1, 2), second];
+    let mut first = Workspace::new();
+    first.load_sweep_inputs(&bytes).unwrap();
+    let slices = vec![first.sweep_slice(&text, 1, 2), second];
     main.run_recipe_begin(&text);
     let e = main.run_recipe_split(&text, slices, f64::NAN).unwrap_err();
     assert_eq!(e, err);

@@ -67,9 +67,8 @@ pub struct Workspace {
     limits: Limits,
     /// Time data held as recordings, by file name (`time.rs`).
     recordings: BTreeMap<String, time::WsRecording>,
-    /// The inputs of a sweep split over workers: gathered here
-    /// ([`Workspace::sweep_inputs`]) or loaded from another workspace's
-    /// bytes ([`Workspace::load_sweep_inputs`]).
+    /// The inputs of a sweep split over workers, loaded from the bytes
+    /// another workspace gathered ([`Workspace::load_sweep_inputs`]).
     sweep_inputs: Option<recipe::SweepInputs>,
     /// A run begun without its sweep while the workers compute it
     /// ([`Workspace::run_recipe_begin`]): the SHA-256 of its recipe text
@@ -397,18 +396,17 @@ impl Workspace {
         clock: &dyn Fn() -> f64,
     ) -> Result<RunSummary> {
         let started = clock();
+        // a run begun for a split that never came is let go
+        self.pending = None;
         self.run_recorded(recipe_text, clock, started, None)
     }
 
     /// Gather what the sweep of `recipe_text` reads (its components as
-    /// loaded, the files its steps read) as the bytes another workspace
-    /// loads with [`Workspace::load_sweep_inputs`]; this workspace keeps
-    /// them for its own slice.
-    pub fn sweep_inputs(&mut self, recipe_text: &str) -> Result<Vec<u8>> {
-        let inputs = recipe::SweepInputs::gather(recipe_text, &Source(self), &self.limits)?;
-        let bytes = inputs.to_bytes();
-        self.sweep_inputs = Some(inputs);
-        Ok(bytes)
+    /// loaded, the files its steps read) as the bytes a sweep worker's
+    /// workspace loads with [`Workspace::load_sweep_inputs`] (this one keeps
+    /// no copy: it runs the rest of the recipe meanwhile).
+    pub fn sweep_inputs(&self, recipe_text: &str) -> Result<Vec<u8>> {
+        Ok(recipe::SweepInputs::gather(recipe_text, &Source(self), &self.limits)?.to_bytes())
     }
 
     /// Load a sweep's inputs written by [`Workspace::sweep_inputs`] (their

@@ -70,6 +70,20 @@ test('a sweep on 1, 2 and 3 workers gives the same report, results and headline'
       assert.match(one.headline || '', /dB/);
     }
     await shot(p, 'sweep-workers');
+    // a sweep worker that fails fails the run with its own typed error (here
+    // its budget, set on that worker alone), never a partial sweep
+    await p.evaluate(async () => {
+      await Bridge.extraWorkers(2);
+      await Bridge.callExtra(1, 'set_limits', ['{"memory_bytes": 16}']);
+    });
+    const failed = await runWith(p, 2);
+    assert.match(failed.status, /the run failed/, failed.status);
+    // the budget of that worker, not the page's worker's (the default)
+    assert.match(await p.textContent('#run-error'), /budget error: .*the budget is 16 bytes/);
+    assert.match(failed.history, /failed: .*sweep on 2 workers/);
+    assert.ok(failed.stages.some((t) => /slice .*2 failed/.test(t)), failed.stages.join(' | '));
+    assert.match(await p.textContent('#stale-banner'), /failed/);
+    await p.evaluate(() => Bridge.callExtra(1, 'set_limits', ['{}']));
     // a cancel while the workers compute ends them, marks the results stale,
     // and the next split run starts fresh workers and gives the same report
     await p.fill('#limit-workers', '2');
