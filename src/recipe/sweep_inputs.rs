@@ -301,6 +301,10 @@ impl<'a> Reader<'a> {
     }
 }
 
+// The reference of these checks is the same sweep computed in one piece on
+// the inputs as loaded (common practice: a parallel split checked against
+// the serial computation, to the bit), and the CLI's merge of the same
+// slices' files.
 #[cfg(test)]
 mod tests {
     use super::*;
