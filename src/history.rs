@@ -36,6 +36,11 @@ pub struct RunRecord {
     pub curves_kept: bool,
     /// The error of a failed run.
     pub error: Option<String>,
+    /// How the run's sweep was split over the page's workers ("sweep
+    /// 'NAME': 200 points on 2 workers (points 0..100, 100..200)"); absent
+    /// when it was computed in one piece.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub split: Option<String>,
 }
 
 /// The id prefix of run `number`'s sets.

@@ -415,6 +415,102 @@ pub fn run_recipe(recipe_text: &str) -> std::result::Result<String, JsValue> {
     to_json(&run)
 }
 
+/// The number of points of the sweep of `recipe_text` (0 when the text does
+/// not parse or has no sweep: [`run_recipe`] then reports why), and the
+/// workers the page's option `workers_text` asks for (1 to
+/// [`recipe::MAX_WORKERS`], refused naming `workers` otherwise), as JSON
+/// `{ points, workers }`.
+#[wasm_bindgen]
+pub fn sweep_plan(recipe_text: &str, workers_text: &str) -> std::result::Result<String, JsValue> {
+    let workers = recipe::sweep_workers(workers_text).map_err(js_err)?;
+    let points = recipe::parse(recipe_text)
+        .ok()
+        .and_then(|r| {
+            r.sweep
+                .as_ref()
+                .and_then(|s| s.points(&r).ok())
+                .map(|p| p.len())
+        })
+        .unwrap_or(0);
+    to_json(&serde_json::json!({ "points": points, "workers": workers }))
+}
+
+/// The inputs of the sweep of `recipe_text` as bytes (components as loaded
+/// and the files its steps read; [`recipe::SweepInputs`]) for the page's
+/// sweep workers (this worker keeps no copy).
+#[wasm_bindgen]
+pub fn sweep_inputs(recipe_text: &str) -> std::result::Result<Vec<u8>, JsValue> {
+    WS.with(|ws| ws.borrow().sweep_inputs(recipe_text))
+        .map_err(js_err)
+}
+
+/// Load a sweep's inputs made by [`sweep_inputs`] in another worker (hash
+/// and sets checked); returns the SHA-256 of the recipe text they serve.
+#[wasm_bindgen]
+pub fn load_sweep_inputs(bytes: &[u8]) -> std::result::Result<String, JsValue> {
+    WS.with(|ws| ws.borrow_mut().load_sweep_inputs(bytes))
+        .map_err(js_err)
+}
+
+/// Slice `k` of `n` of the sweep of `recipe_text` on the inputs loaded, as
+/// JSON (a sweep report of that slice).
+#[wasm_bindgen]
+pub fn sweep_slice(recipe_text: &str, k: u32, n: u32) -> std::result::Result<String, JsValue> {
+    let rep = WS
+        .with(|ws| ws.borrow().sweep_slice(recipe_text, k as usize, n as usize))
+        .map_err(js_err)?;
+    to_json(&rep)
+}
+
+/// Run `recipe_text` without its sweep while the extra workers compute it;
+/// [`run_recipe_split`] with the same text finishes it (a failure is
+/// reported there).
+#[wasm_bindgen]
+pub fn run_recipe_begin(recipe_text: &str) {
+    WS.with(|ws| ws.borrow_mut().run_recipe_begin(recipe_text));
+}
+
+/// [`run_recipe`] with the sweep computed by the workers: `slices_json` is
+/// `[{ "ok": SLICE } | { "err": ERROR }, ...]`, slice 1 to N in order (the
+/// texts [`sweep_slice`] returned or threw); `started_ms` when the page
+/// began the run. Returns what [`run_recipe`] returns.
+#[wasm_bindgen]
+pub fn run_recipe_split(
+    recipe_text: &str,
+    slices_json: &str,
+    started_ms: f64,
+) -> std::result::Result<String, JsValue> {
+    #[derive(serde::Deserialize)]
+    #[serde(deny_unknown_fields)]
+    struct Outcome {
+        #[serde(default)]
+        ok: Option<recipe::SweepReport>,
+        #[serde(default)]
+        err: Option<Error>,
+    }
+    let outcomes: Vec<Outcome> = serde_json::from_str(slices_json)
+        .map_err(|e| js_err(Error::parse(format!("the sweep's slices: {e}")).field("slices")))?;
+    let slices = outcomes
+        .into_iter()
+        .enumerate()
+        .map(|(i, o)| match (o.ok, o.err) {
+            (Some(r), None) => Ok(r),
+            (None, Some(e)) => Err(e),
+            _ => Err(
+                Error::usage(format!("slice {}: expected one of 'ok' or 'err'", i + 1))
+                    .field("slices"),
+            ),
+        })
+        .collect();
+    let run = WS
+        .with(|ws| {
+            ws.borrow_mut()
+                .run_recipe_split(recipe_text, slices, started_ms)
+        })
+        .map_err(js_err)?;
+    to_json(&run)
+}
+
 /// The runs of the workspace, oldest first, as JSON (`[RunRecord]`, see
 /// [`crate::history`]): recipe text, start, duration, headline, result
 /// summaries (or the error), and whether their curves are still kept.

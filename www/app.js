@@ -19,9 +19,10 @@ async function applyLimits() {
     work: Number($('limit-work').value),
   });
   try {
+    const w = await Bridge.callJson('sweep_plan', ['', $('limit-workers').value], 'checking the workers');
     const l = await Bridge.callJson('set_limits', [ask], 'setting the limits');
     limitsJson = ask;
-    $('limits-state').textContent = `in force: ${(l.memory_bytes / 1e9).toPrecision(4)} GB, ${l.work.toExponential(2)} operations`;
+    $('limits-state').textContent = `in force: ${(l.memory_bytes / 1e9).toPrecision(4)} GB, ${l.work.toExponential(2)} operations, sweeps on up to ${w.workers} worker(s)`;
   } catch (e) {
     $('limits-state').textContent = 'not applied: ' + errorText(e);
   }
@@ -73,6 +74,7 @@ async function restore() {
 }
 async function clearWorkspace() {
   await Bridge.call('clear_workspace', []);
+  Bridge.clearExtras();
   S.files = []; S.bundle = null; S.results = null; S.resultsJson = null; S.stale = null; S.asmStep = null;
   S.plot = { kind: 'bode', db: true, xlog: true, xrange: null, sel: [], compare: null };
   S.includeRaw = {};
@@ -103,6 +105,8 @@ async function loadDemo() {
 
 // ---------- wiring ----------
 function wire() {
+  // sweeps on as many workers as the processor has cores, at most 4 (Limits)
+  $('limit-workers').value = String(Math.max(1, Math.min(navigator.hardwareConcurrency || 1, 4)));
   $('file-input').addEventListener('change', async (e) => { await readFiles([...e.target.files]); e.target.value = ''; });
   document.addEventListener('dragover', (e) => { e.preventDefault(); document.body.classList.add('dragging'); });
   document.addEventListener('dragleave', (e) => { if (!e.relatedTarget) document.body.classList.remove('dragging'); });

@@ -86,7 +86,62 @@ const Bridge = (() => {
     return JSON.parse(text);
   }
 
+  // ---- extra workers: a sweep split over several workers (results.js) ----
+  // Each holds its own workspace and core instance, started once from the
+  // same compiled module and reused; a call's byte arguments may be
+  // transferred (moved) instead of copied. cancel() and clearExtras() end them.
+  const extras = [];
+  function spawnExtra() {
+    const x = { worker: new Worker(workerUrl), pending: new Map(), failed: null };
+    x.ready = new Promise((resolve, reject) => {
+      x.worker.onmessage = (ev) => {
+        const m = ev.data;
+        if (m.type === 'ready') { resolve(m.version); return; }
+        if (m.type === 'fatal') { reject(new Error(m.error)); return; }
+        const p = x.pending.get(m.id);
+        if (!p || 'progress' in m || 'bytes' in m) return;
+        x.pending.delete(m.id);
+        if ('err' in m) p.reject(parseError(m.err)); else p.resolve(m.ok);
+      };
+      // a worker that stops (out of memory, a crash) fails every call it holds
+      x.worker.onerror = (e) => {
+        const err = { kind: 'internal', message: 'a sweep worker stopped: ' + (e.message || 'unknown') };
+        x.failed = err;
+        for (const [, p] of x.pending) p.reject(err);
+        x.pending.clear();
+        reject(new Error(err.message));
+      };
+    });
+    x.worker.postMessage({ type: 'init', module });
+    return x;
+  }
+  // Extra workers 1..n ready (started when missing or failed; kept for reuse).
+  async function extraWorkers(n) {
+    for (let i = 0; i < extras.length; i++) {
+      if (extras[i].failed) { extras[i].worker.terminate(); extras[i] = spawnExtra(); }
+    }
+    while (extras.length < n) extras.push(spawnExtra());
+    await Promise.all(extras.slice(0, n).map((x) => x.ready));
+  }
+  function callExtra(i, fn, args, transfer) {
+    const x = extras[i];
+    if (!x) return Promise.reject({ kind: 'internal', message: `no sweep worker ${i + 1}` });
+    if (x.failed) return Promise.reject(x.failed);
+    const id = nextId++;
+    return new Promise((resolve, reject) => {
+      x.pending.set(id, { resolve, reject });
+      x.worker.postMessage({ id, fn, args: args || [], stage: fn }, transfer || []);
+    });
+  }
+  function clearExtras() {
+    for (const x of extras.splice(0)) {
+      x.worker.terminate();
+      for (const [, p] of x.pending) p.reject({ kind: 'cancelled', message: 'cancelled by the user' });
+    }
+  }
+
   async function cancel() {
+    clearExtras();
     worker.terminate();
     for (const [, p] of pending) p.reject({ kind: 'cancelled', message: 'cancelled by the user' });
     pending.clear();
@@ -95,10 +150,11 @@ const Bridge = (() => {
   }
 
   return {
-    start, call, callJson, cancel, decodeBase64, gunzip,
+    start, call, callJson, cancel, decodeBase64, gunzip, extraWorkers, callExtra, clearExtras,
+    extraCount() { return extras.length; },
     draw() { return drawCore; },
     onProgress(cb) { progressCb = cb; },
     setReplay(fn) { replayHook = fn; },
-    busy() { return pending.size > 0; },
+    busy() { return pending.size > 0 || extras.some((x) => x.pending.size > 0); },
   };
 })();

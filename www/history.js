@@ -41,7 +41,7 @@ function renderHistory() {
       el('td', {}, seconds(h.duration_ms)),
       el('td', {}, h.title || '–'),
       el('td', { class: 'history-headline' }, (h.headline || [])[0] || '–'),
-      el('td', { class: h.error ? 'fail-text' : '' }, state),
+      el('td', { class: h.error ? 'fail-text' : '' }, state, h.split ? el('div', { class: 'muted' }, h.split) : null),
       el('td', {}, el('button', {
         class: 'btn small', type: 'button', 'aria-label': `use this recipe: run ${h.number}'s, put in the recipe text`,
         onclick: () => recallRecipe(h.number),

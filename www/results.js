@@ -15,8 +15,9 @@ async function run() {
     await settleRecipe(); // Run runs the text on screen, read by the core
     const text = R.text, epoch = S.filesEpoch;
     const t0 = performance.now();
-    const r = await Bridge.callJson('run_recipe', [text], 'running the recipe');
+    const { r, workers } = await runOnWorkers(text);
     timings.last_run_ms = performance.now() - t0;
+    timings.last_run_workers = workers;
     S.results = r;
     S.resultsJson = await Bridge.call('results_json', []);
     S.plot.sel = defaultSelection(r.results);
@@ -28,7 +29,7 @@ async function run() {
     renderCompare();
     renderResults();
     await drawPlot();
-    status(`done in ${(timings.last_run_ms / 1000).toFixed(2)} s: ${r.results.length} result(s)` + (S.stale ? ' (already stale: the recipe changed meanwhile)' : ''));
+    status(`done in ${(timings.last_run_ms / 1000).toFixed(2)} s: ${r.results.length} result(s)` + (workers > 1 ? ` (sweep on ${workers} workers)` : '') + (S.stale ? ' (already stale: the recipe changed meanwhile)' : ''));
     autosave();
   } catch (e) {
     if (e.kind !== 'cancelled') {
@@ -49,6 +50,57 @@ async function run() {
     $('run-progress').hidden = true;
     $('run-stage').textContent = '';
   }
+}
+// ---------- a sweep on several workers ----------
+// With a sweep in the recipe and more than one worker asked (Limits), the
+// core gathers the sweep's inputs as bytes (sweep_inputs); W extra workers
+// each load their own copy (moved, not shared: no SharedArrayBuffer from
+// file://) and compute one contiguous slice (sweep_slice, the function of
+// `mortise sweep --shard K/N`), while this page's worker runs the rest of
+// the recipe (run_recipe_begin); run_recipe_split folds the slices with the
+// one merge and finishes the run. This file only schedules and moves bytes;
+// a failed slice fails the run with its error (the first in slice order).
+async function runOnWorkers(text) {
+  const plan = await Bridge.callJson('sweep_plan', [text, $('limit-workers').value], 'planning the run');
+  const W = Math.max(1, Math.min(plan.workers, plan.points));
+  if (W < 2) return { r: await Bridge.callJson('run_recipe', [text], 'running the recipe'), workers: 1 };
+  const started = Date.now();
+  let inputs;
+  try {
+    inputs = await Bridge.call('sweep_inputs', [text], 'gathering the sweep\'s inputs');
+  } catch (e) {
+    // the recipe fails before its sweep: the run in one worker reports it (and records it)
+    if (e.kind === 'cancelled') throw e;
+    return { r: await Bridge.callJson('run_recipe', [text], 'running the recipe'), workers: 1 };
+  }
+  // each extra worker's own copy, made before any is moved away
+  const copies = Array.from({ length: W }, (_, i) => (i === W - 1 ? inputs : inputs.slice()));
+  await Bridge.extraWorkers(W);
+  const done = [];
+  const line = () => `sweep: ${plan.points} points on ${W} workers` + (done.length ? `, slice ${done.join(', ')} done` : ', started');
+  // the rest of the recipe, in this page's worker meanwhile
+  const rest = Bridge.call('run_recipe_begin', [text], 'running the recipe');
+  $('run-stage').textContent = line();
+  const one = async (k) => {
+    const i = k - 1;
+    try {
+      if (limitsJson !== '{}') await Bridge.callExtra(i, 'set_limits', [limitsJson]);
+      await Bridge.callExtra(i, 'load_sweep_inputs', [copies[i]], [copies[i].buffer]);
+      const t = await Bridge.callExtra(i, 'sweep_slice', [text, k, W]);
+      done.push(k);
+      $('run-stage').textContent = line();
+      return `{"ok":${t}}`;
+    } catch (e) {
+      if (e.kind === 'cancelled') throw e;
+      done.push(`${k} failed`);
+      const err = e && typeof e === 'object' && 'kind' in e ? e : { kind: 'internal', message: `sweep worker ${k}: ${e?.message || e}` };
+      return `{"err":${JSON.stringify(err)}}`;
+    }
+  };
+  const [parts] = await Promise.all([Promise.all(Array.from({ length: W }, (_, j) => one(j + 1))), rest]);
+  $('run-stage').textContent = line();
+  const r = await Bridge.callJson('run_recipe_split', [text, '[' + parts.join(',') + ']', started], 'running the recipe');
+  return { r, workers: W };
 }
 function defaultSelection(results) {
   return results.slice(0, 4).map((r) => ({ set: r.id, out: 0, in: 0 }));

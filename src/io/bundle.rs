@@ -328,6 +328,170 @@ pub fn set_canonical_bytes(s: &FrfSet) -> Vec<u8> {
     out
 }
 
+/// A set back from its canonical bytes ([`set_canonical_bytes`]), read from
+/// `bytes[*at..]`; `*at` moves past it. Every value comes back bit for bit
+/// except the payload of a NaN (a missing entry's data), which the
+/// canonical form writes as one quiet NaN; no number depends on it. The
+/// page's extra workers receive a sweep's components this way
+/// ([`crate::recipe::SweepInputs`]). Errors name `what` and the byte.
+pub fn set_from_canonical_bytes(bytes: &[u8], at: &mut usize, what: &str) -> Result<FrfSet> {
+    let mut r = Canon {
+        bytes,
+        at: *at,
+        what,
+    };
+    let set = r.set()?;
+    *at = r.at;
+    Ok(set)
+}
+
+/// A reader of canonical bytes.
+struct Canon<'a> {
+    bytes: &'a [u8],
+    at: usize,
+    what: &'a str,
+}
+
+impl Canon<'_> {
+    fn bad(&self, msg: &str) -> Error {
+        Error::parse(format!("{}: {msg}", self.what)).at_byte(self.at)
+    }
+    fn take(&mut self, n: usize) -> Result<&[u8]> {
+        let end = self
+            .at
+            .checked_add(n)
+            .filter(|&e| e <= self.bytes.len())
+            .ok_or_else(|| self.bad(&format!("{n} more bytes expected; the data end")))?;
+        let s = &self.bytes[self.at..end];
+        self.at = end;
+        Ok(s)
+    }
+    fn u64(&mut self) -> Result<u64> {
+        let b = self.take(8)?;
+        let mut a = [0u8; 8];
+        a.copy_from_slice(b);
+        Ok(u64::from_le_bytes(a))
+    }
+    /// A count of items of `size` bytes each, checked against what is left.
+    fn count(&mut self, size: usize) -> Result<usize> {
+        let n = self.u64()?;
+        let left = (self.bytes.len() - self.at) as u64;
+        if n.saturating_mul(size.max(1) as u64) > left {
+            return Err(self.bad(&format!("a count of {n} is more than the data hold")));
+        }
+        Ok(n as usize)
+    }
+    fn f64(&mut self) -> Result<f64> {
+        Ok(f64::from_bits(self.u64()?))
+    }
+    fn str(&mut self) -> Result<String> {
+        let n = self.count(1)?;
+        let at = self.at;
+        let b = self.take(n)?.to_vec();
+        String::from_utf8(b)
+            .map_err(|_| Error::parse(format!("{}: text that is not UTF-8", self.what)).at_byte(at))
+    }
+    fn named<T: serde::de::DeserializeOwned>(&mut self, field: &str) -> Result<T> {
+        let at = self.at;
+        let s = self.str()?;
+        serde_json::from_value(Value::String(s.clone())).map_err(|_| {
+            Error::parse(format!("{}: '{}' is not a {field}", self.what, quote(&s)))
+                .at_byte(at)
+                .field(field.to_string())
+        })
+    }
+    fn dofs(&mut self) -> Result<Vec<Dof>> {
+        let n = self.count(25)?;
+        let mut out = Vec::with_capacity(n);
+        for _ in 0..n {
+            let component = self.str()?;
+            let node = self.str()?;
+            let dir: Direction = self.named("direction")?;
+            let positive = self.take(1)?[0] != 0;
+            out.push(Dof {
+                component,
+                node,
+                dir,
+                positive,
+            });
+        }
+        Ok(out)
+    }
+    fn set(&mut self) -> Result<FrfSet> {
+        const MAGIC: &[u8] = b"mortise-set 1\n";
+        if self.take(MAGIC.len())? != MAGIC {
+            return Err(self.bad("not a set's canonical bytes (no 'mortise-set 1')"));
+        }
+        let name = self.str()?;
+        let n = self.count(8)?;
+        let freqs = (0..n).map(|_| self.f64()).collect::<Result<Vec<f64>>>()?;
+        let outputs = self.dofs()?;
+        let inputs = self.dofs()?;
+        let out_qty: Quantity = self.named("quantity")?;
+        let in_qty: Quantity = self.named("quantity")?;
+        let at = self.at;
+        let signal = match self.str()?.as_str() {
+            "" => None,
+            s => Some(
+                serde_json::from_value::<SignalKind>(Value::String(s.to_string())).map_err(
+                    |_| {
+                        Error::parse(format!(
+                            "{}: '{}' is not a signal kind",
+                            self.what,
+                            quote(s)
+                        ))
+                        .at_byte(at)
+                    },
+                )?,
+            ),
+        };
+        let n = self.count(16)?;
+        let mut data = Vec::with_capacity(n);
+        for _ in 0..n {
+            let re = self.f64()?;
+            let im = self.f64()?;
+            data.push(Complex64::new(re, im));
+        }
+        let n = self.count(1)?;
+        let present = self.take(n)?.iter().map(|&b| b != 0).collect();
+        let coherence = match self.take(1)?[0] {
+            0 => None,
+            _ => {
+                let n = self.count(8)?;
+                Some((0..n).map(|_| self.f64()).collect::<Result<Vec<f64>>>()?)
+            }
+        };
+        let n = self.count(32)?;
+        let mut provenance = Vec::with_capacity(n);
+        for _ in 0..n {
+            provenance.push(Provenance {
+                file: self.str()?,
+                sha256: self.str()?,
+                format: self.str()?,
+                options: self.str()?,
+            });
+        }
+        let n = self.count(8)?;
+        let warnings = (0..n)
+            .map(|_| self.str())
+            .collect::<Result<Vec<String>>>()?;
+        Ok(FrfSet {
+            name,
+            freqs,
+            outputs,
+            inputs,
+            out_qty,
+            in_qty,
+            data,
+            present,
+            coherence,
+            provenance,
+            warnings,
+            signal,
+        })
+    }
+}
+
 /// The SHA-256 of a set's canonical bytes, lower-case hex.
 pub fn set_sha256(s: &FrfSet) -> String {
     crate::io::sha256_hex(&set_canonical_bytes(s))

@@ -12,7 +12,7 @@ use super::report::{
 use super::uncertainty::{check_uncertainty_used, component_uncertainties, propagate, Assessed};
 use super::{FileSource, Recipe, Variant};
 use crate::audit::{self, AuditOptions};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::frf::FrfSet;
 use crate::limits::Limits;
 use crate::predict;
@@ -332,6 +332,69 @@ pub fn run(recipe: &Recipe, files: &dyn FileSource) -> Result<RunResult> {
 /// them before it is computed (an [`ErrorKind::Budget`](crate::error::ErrorKind::Budget)
 /// error names the entry, the size asked for and the budget).
 pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Result<RunResult> {
+    run_with_sweep(recipe, files, limits, None)
+}
+
+/// [`run_with`], its sweep computed elsewhere: `sweep` is the whole sweep
+/// (the page's workers' slices merged by [`super::sweep::merge_reports`]),
+/// or the first error a slice met, which the run fails with where it would
+/// have computed the sweep; `None` computes the sweep here.
+pub fn run_with_sweep(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    sweep: Option<Result<super::sweep::SweepReport>>,
+) -> Result<RunResult> {
+    match sweep {
+        None => run_parts(recipe, files, limits, true),
+        Some(given) => finish_with_sweep(recipe, run_parts(recipe, files, limits, false)?, given),
+    }
+}
+
+/// [`run_with`] without the recipe's sweep (computed meanwhile elsewhere):
+/// no `sweep` in the report and no sweep in the headline until
+/// [`finish_with_sweep`] adds them.
+pub fn run_without_sweep(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+) -> Result<RunResult> {
+    run_parts(recipe, files, limits, false)
+}
+
+/// A run made by [`run_without_sweep`] given its whole sweep (or the first
+/// error of its slices): the report and headline [`run_with`] gives.
+pub fn finish_with_sweep(
+    recipe: &Recipe,
+    mut run: RunResult,
+    sweep: Result<super::sweep::SweepReport>,
+) -> Result<RunResult> {
+    if recipe.sweep.is_none() {
+        return Err(Error::internal(
+            "a sweep was given for a recipe without a \"sweep\" section",
+        ));
+    }
+    let sweep = sweep?;
+    super::sweep::check_whole(recipe, &sweep)?;
+    run.report.sweep = Some(sweep);
+    set_headline(&mut run.report);
+    Ok(run)
+}
+
+/// The headline: the levels, and a speed sweep's loudest speed beside them.
+fn set_headline(report: &mut RunReport) {
+    report.headline = headline(report);
+    if let Some(sw) = &report.sweep {
+        report.headline.extend(super::sweep::sweep_headline(sw));
+    }
+}
+
+fn run_parts(
+    recipe: &Recipe,
+    files: &dyn FileSource,
+    limits: &Limits,
+    with_sweep: bool,
+) -> Result<RunResult> {
     // a recipe built in code gets the checks a parsed one had
     super::check_names(recipe)?;
     check_uncertainty_used(recipe)?;
@@ -417,7 +480,7 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         sweep: None,
         caution: predict::CAUTION.into(),
     };
-    if recipe.sweep.is_some() {
+    if recipe.sweep.is_some() && with_sweep {
         // the whole sweep, on threads where there are threads
         let threads = if cfg!(target_arch = "wasm32") { 1 } else { 2 };
         report.sweep = Some(super::sweep::sweep_on(
@@ -425,10 +488,7 @@ pub fn run_with(recipe: &Recipe, files: &dyn FileSource, limits: &Limits) -> Res
         )?);
     }
     // the headline names a speed sweep's loudest speed beside the level
-    report.headline = headline(&report);
-    if let Some(sw) = &report.sweep {
-        report.headline.extend(super::sweep::sweep_headline(sw));
-    }
+    set_headline(&mut report);
     Ok(RunResult {
         outputs,
         report,

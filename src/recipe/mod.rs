@@ -28,11 +28,15 @@ mod ops;
 mod report;
 mod speed;
 mod sweep;
+mod sweep_inputs;
 mod tolerance;
 mod uncertainty;
 
 pub use component::{ComponentSpec, GridSpec, Selection, COMPONENT_FIELDS, MAX_GRID_LINES};
-pub use execute::{load_components, load_components_with, run, run_with, RunResult};
+pub use execute::{
+    finish_with_sweep, load_components, load_components_with, run, run_with, run_with_sweep,
+    run_without_sweep, RunResult,
+};
 pub use help::schema_help;
 pub use joint::{JointSpec, JointType, JointTypeInfo, INFERENCE_RULE, JOINT_TYPES};
 pub use monte_carlo::{monte_carlo_draws, monte_carlo_levels, LevelSpread, RecipeMonteCarlo};
@@ -49,9 +53,12 @@ pub use report::{
 };
 pub use speed::{OrderForce, SpeedSource, SPEED_FIELDS};
 pub use sweep::{
-    merge_csv as merge_sweep_csv, run_sweep, slice as shard_slice, sweep_csv, sweep_headline,
-    sweep_map_csv, PointValue, SweepColumn, SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS,
-    SWEEP_CSV_MAGIC, SWEEP_FIELDS,
+    merge_csv as merge_sweep_csv, merge_reports as merge_sweep_reports, run_sweep,
+    slice as shard_slice, sweep_csv, sweep_headline, sweep_map_csv, PointValue, SweepColumn,
+    SweepReport, SweepRow, SweepSpec, MAX_SWEEP_POINTS, SWEEP_CSV_MAGIC, SWEEP_FIELDS,
+};
+pub use sweep_inputs::{
+    fold_slices, split_note, workers as sweep_workers, SweepInputs, MAX_WORKERS, SWEEP_INPUTS_MAGIC,
 };
 pub use tolerance::{Tolerance, TOLERANCE_FIELDS};
 pub use uncertainty::Assessed;

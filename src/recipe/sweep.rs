@@ -842,6 +842,130 @@ fn read_shard<'a>(name: &'a str, text: &'a str) -> Result<ShardFile<'a>> {
     })
 }
 
+/// **The one rule of folding slices** (files by [`merge_csv`], the page's
+/// workers' reports by [`merge_reports`]): the slices (name, first, one past
+/// the last), sorted by their first point, cover 0..`total` with no gap and
+/// no overlap (empty slices aside). Errors name the slice and the points.
+fn check_cover(parts: &[(&str, usize, usize)], total: usize) -> Result<()> {
+    let mut at = 0usize;
+    let mut prev = "";
+    for &(name, first, end) in parts.iter().filter(|p| p.1 < p.2) {
+        if first < at {
+            return Err(Error::recipe(format!(
+                "'{}' holds points {first}..{end}, which overlap points up to {at} of '{}'",
+                quote(name),
+                quote(prev)
+            ))
+            .in_file(name));
+        }
+        if first > at {
+            return Err(Error::recipe(format!(
+                "points {at}..{first} are missing: no shard holds them"
+            )));
+        }
+        at = end;
+        prev = name;
+    }
+    if at != total {
+        return Err(Error::recipe(format!(
+            "points {at}..{total} are missing: no shard holds them"
+        )));
+    }
+    Ok(())
+}
+
+/// Fold slices of one sweep computed apart (the page's workers, each a
+/// [`slice`] of the points) into the report of the whole sweep: the same
+/// sweep (name, parameter, columns, orders, number of points), the slices
+/// covering every point once ([`check_cover`], as [`merge_csv`]), the rows
+/// in point order and the notes once each in the order the whole run meets
+/// them. The result equals the report of the sweep computed in one piece.
+pub fn merge_reports(mut slices: Vec<SweepReport>) -> Result<SweepReport> {
+    if slices.is_empty() {
+        return Err(Error::usage("a sweep's merge needs at least one slice"));
+    }
+    slices.sort_by_key(|s| (s.first, s.end));
+    let names: Vec<String> = slices
+        .iter()
+        .map(|s| format!("slice {}..{}", s.first, s.end))
+        .collect();
+    let first = &slices[0];
+    for (s, n) in slices.iter().zip(&names).skip(1) {
+        if s.name != first.name
+            || s.parameter != first.parameter
+            || s.total != first.total
+            || s.columns != first.columns
+            || s.orders != first.orders
+        {
+            return Err(Error::recipe(format!(
+                "'{}' and '{}' are of different sweeps (name, parameter, columns or number of points differ)",
+                names[0], n
+            )));
+        }
+    }
+    for (s, n) in slices.iter().zip(&names) {
+        let indices_ok = s.rows.len() == s.end.saturating_sub(s.first)
+            && s.rows.iter().zip(s.first..).all(|(r, i)| r.index == i);
+        if !indices_ok {
+            return Err(Error::recipe(format!(
+                "'{n}' holds {} rows, not one for each of its points in order",
+                s.rows.len()
+            )));
+        }
+    }
+    let parts: Vec<(&str, usize, usize)> = slices
+        .iter()
+        .zip(&names)
+        .map(|(s, n)| (n.as_str(), s.first, s.end))
+        .collect();
+    check_cover(&parts, first.total)?;
+    let mut whole = SweepReport {
+        name: first.name.clone(),
+        parameter: first.parameter.clone(),
+        total: first.total,
+        first: 0,
+        end: first.total,
+        columns: first.columns.clone(),
+        rows: Vec::with_capacity(first.total),
+        orders: first.orders.clone(),
+        notes: Vec::new(),
+    };
+    for s in slices {
+        whole.rows.extend(s.rows);
+        whole.notes.extend(s.notes);
+    }
+    super::report::dedup(&mut whole.notes);
+    Ok(whole)
+}
+
+/// Check that `rep` is the whole of the recipe's sweep (its name,
+/// parameter and every point), as a run given a sweep computed elsewhere
+/// ([`super::execute::run_with_sweep`]) requires.
+pub(crate) fn check_whole(recipe: &Recipe, rep: &SweepReport) -> Result<()> {
+    let spec = recipe
+        .sweep
+        .as_ref()
+        .ok_or_else(|| Error::recipe("the recipe has no \"sweep\" section").field("sweep"))?;
+    let total = spec.points(recipe).map_err(|e| e.within("sweep"))?.len();
+    if rep.name != spec.name()
+        || rep.parameter != spec.parameter()
+        || rep.total != total
+        || rep.first != 0
+        || rep.end != total
+        || rep.rows.len() != total
+    {
+        return Err(Error::internal(format!(
+            "the sweep given ('{}', points {}..{} of {}) is not the whole of this recipe's sweep ('{}', {total} points)",
+            quote(&rep.name),
+            rep.first,
+            rep.end,
+            rep.total,
+            quote(spec.name())
+        )));
+    }
+    Ok(())
+}
+
 /// Fold shard files (name, text) into the file of the whole sweep: every
 /// shard of the same recipe and sweep, the slices contiguous from 0 to N
 /// with no gap or overlap. The result is byte for byte the file an
@@ -877,34 +1001,8 @@ pub fn merge_csv(shards: &[(String, String)]) -> Result<String> {
     }
     let total = first.total;
     files.sort_by_key(|f| (f.first, f.end));
-    let mut at = 0usize;
-    let mut prev = "";
-    for f in files.iter().filter(|f| f.first < f.end) {
-        if f.first < at {
-            return Err(Error::recipe(format!(
-                "'{}' holds points {}..{}, which overlap points up to {} of '{}'",
-                quote(f.name),
-                f.first,
-                f.end,
-                at,
-                quote(prev)
-            ))
-            .in_file(f.name));
-        }
-        if f.first > at {
-            return Err(Error::recipe(format!(
-                "points {at}..{} are missing: no shard holds them",
-                f.first
-            )));
-        }
-        at = f.end;
-        prev = f.name;
-    }
-    if at != total {
-        return Err(Error::recipe(format!(
-            "points {at}..{total} are missing: no shard holds them"
-        )));
-    }
+    let parts: Vec<(&str, usize, usize)> = files.iter().map(|f| (f.name, f.first, f.end)).collect();
+    check_cover(&parts, total)?;
     let f0 = &files[0];
     let mut s = String::new();
     s.push_str(SWEEP_CSV_MAGIC);

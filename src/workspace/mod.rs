@@ -70,6 +70,13 @@ pub struct Workspace {
     limits: Limits,
     /// Time data held as recordings, by file name (`time.rs`).
     recordings: BTreeMap<String, time::WsRecording>,
+    /// The inputs of a sweep split over workers, loaded from the bytes
+    /// another workspace gathered ([`Workspace::load_sweep_inputs`]).
+    sweep_inputs: Option<recipe::SweepInputs>,
+    /// A run begun without its sweep while the workers compute it
+    /// ([`Workspace::run_recipe_begin`]): the SHA-256 of its recipe text
+    /// and its outcome.
+    pending: Option<(String, Result<recipe::RunResult>)>,
 }
 
 /// What a run left in the workspace.
@@ -399,8 +406,106 @@ impl Workspace {
         clock: &dyn Fn() -> f64,
     ) -> Result<RunSummary> {
         let started = clock();
+        // a run begun for a split that never came is let go
+        self.pending = None;
+        self.run_recorded(recipe_text, clock, started, None)
+    }
+
+    /// Gather what the sweep of `recipe_text` reads (its components as
+    /// loaded, the files its steps read) as the bytes a sweep worker's
+    /// workspace loads with [`Workspace::load_sweep_inputs`] (this one keeps
+    /// no copy: it runs the rest of the recipe meanwhile).
+    pub fn sweep_inputs(&self, recipe_text: &str) -> Result<Vec<u8>> {
+        Ok(recipe::SweepInputs::gather(recipe_text, &Source(self), &self.limits)?.to_bytes())
+    }
+
+    /// Load a sweep's inputs written by [`Workspace::sweep_inputs`] (their
+    /// hash and every set checked); returns the SHA-256 of the recipe text
+    /// they serve.
+    pub fn load_sweep_inputs(&mut self, bytes: &[u8]) -> Result<String> {
+        let inputs = recipe::SweepInputs::from_bytes(bytes)?;
+        let sha = inputs.recipe_sha256.clone();
+        self.sweep_inputs = Some(inputs);
+        Ok(sha)
+    }
+
+    /// Slice `k` of `n` of the sweep of `recipe_text`, on the sweep inputs
+    /// this workspace holds, within its limits.
+    pub fn sweep_slice(
+        &self,
+        recipe_text: &str,
+        k: usize,
+        n: usize,
+    ) -> Result<recipe::SweepReport> {
+        self.sweep_inputs
+            .as_ref()
+            .ok_or_else(|| {
+                Error::usage("no sweep inputs are loaded in this workspace; load them first")
+            })?
+            .slice(recipe_text, k, n, &self.limits)
+    }
+
+    /// Run `recipe_text` without its sweep, on the files as they are now, and
+    /// keep the outcome for [`Workspace::run_recipe_split`] with the same
+    /// text (the workers compute the sweep meanwhile); a failure is kept
+    /// too and reported there.
+    pub fn run_recipe_begin(&mut self, recipe_text: &str) {
+        let run = recipe::parse(recipe_text)
+            .and_then(|r| recipe::run_without_sweep(&r, &Source(self), &self.limits));
+        self.pending = Some((io::sha256_hex(recipe_text.as_bytes()), run));
+    }
+
+    /// [`Workspace::run_recipe`] with its sweep computed in `slices` (slice
+    /// 1 to N, each the outcome of [`Workspace::sweep_slice`] in some
+    /// workspace): folded by the one merge, the first failed slice failing
+    /// the run. The report and headline are those of the run computed in
+    /// one piece; the history record notes the split. The rest of the
+    /// recipe is the run begun by [`Workspace::run_recipe_begin`] with the
+    /// same text, else computed now. `started_ms` is when the caller began
+    /// (its slices included), on the same clock.
+    pub fn run_recipe_split(
+        &mut self,
+        recipe_text: &str,
+        slices: Vec<Result<recipe::SweepReport>>,
+        started_ms: f64,
+    ) -> Result<RunSummary> {
+        let now = history::now_ms();
+        let started = if started_ms.is_finite() && started_ms <= now {
+            started_ms
+        } else {
+            now
+        };
+        self.run_recorded(recipe_text, &history::now_ms, started, Some(slices))
+    }
+
+    fn run_recorded(
+        &mut self,
+        recipe_text: &str,
+        clock: &dyn Fn() -> f64,
+        started: f64,
+        slices: Option<Vec<Result<recipe::SweepReport>>>,
+    ) -> Result<RunSummary> {
+        let split = slices.as_ref().map(|v| {
+            let ok: Vec<&recipe::SweepReport> = v.iter().filter_map(|s| s.as_ref().ok()).collect();
+            match ok.first() {
+                Some(f) if ok.len() == v.len() => {
+                    let ranges: Vec<(usize, usize)> = ok.iter().map(|r| (r.first, r.end)).collect();
+                    recipe::split_note(&ranges, &f.name, f.total)
+                }
+                _ => format!("sweep on {} workers", v.len()),
+            }
+        });
+        let given = slices.map(recipe::fold_slices);
+        let sha = io::sha256_hex(recipe_text.as_bytes());
+        let begun = match self.pending.take() {
+            Some((s, run)) if s == sha && given.is_some() => Some(run),
+            _ => None,
+        };
         let outcome = recipe::parse(recipe_text).and_then(|r| {
-            let run = recipe::run_with(&r, &Source(self), &self.limits)?;
+            let run = match (begun, given) {
+                (Some(run), Some(sweep)) => recipe::finish_with_sweep(&r, run?, sweep)?,
+                (_, given) => recipe::run_with_sweep(&r, &Source(self), &self.limits, given)?,
+            };
             let report = serde_json::to_value(&run.report)
                 .map_err(|e| Error::internal(format!("cannot encode the report: {e}")))?;
             Ok((r.title.clone(), run, report))
@@ -417,6 +522,7 @@ impl Workspace {
             results: Vec::new(),
             curves_kept: false,
             error: None,
+            split,
         };
         match outcome {
             Err(e) => {
@@ -1022,6 +1128,7 @@ impl Workspace {
             results: stored.results.clone(),
             curves_kept: true,
             error: None,
+            split: None,
         });
         Ok(OpenedBundle {
             recipe: b.recipe,
