@@ -35,6 +35,10 @@ pub(super) struct WsRecording {
     pub(super) over: Vec<Option<f64>>,
 }
 
+/// A recording as read, before it is kept: the samples, each channel's
+/// overload limit, the format name and the notes.
+pub(super) type ReadRecording = (Recording, Vec<Option<f64>>, String, Vec<String>);
+
 /// The import options a recording takes: a WAV file's channel
 /// descriptions ([`ChannelSpec::FORM`]) and the component of DOFs written
 /// without one. Unknown keys are refused.
@@ -734,7 +738,7 @@ impl Workspace {
         bytes: &[u8],
         options: &serde_json::Value,
         others: u64,
-    ) -> Result<(Recording, Vec<Option<f64>>, String, Vec<String>)> {
+    ) -> Result<ReadRecording> {
         let opts: RecordingOptions = if options.is_null() {
             RecordingOptions::default()
         } else {
