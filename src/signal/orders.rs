@@ -197,8 +197,28 @@ pub fn order_track(
         ))
         .field("revolutions"));
     }
+    // sizes from a recipe, the page or the command line: checked before
+    // they drive the resampling buffer and the block loop
+    if s.samples_per_rev < 4 {
+        return Err(Error::usage(format!(
+            "{} samples per revolution; expected 4 or more (the order must lie below half of them)",
+            s.samples_per_rev
+        ))
+        .field("samples per revolution"));
+    }
+    let nb = match s.revolutions.checked_mul(s.samples_per_rev) {
+        Some(nb) if nb <= x.len() => nb,
+        _ => {
+            return Err(Error::usage(format!(
+                "a block of {} revolutions × {} samples per revolution is longer than the recording's {} samples",
+                s.revolutions,
+                s.samples_per_rev,
+                x.len()
+            ))
+            .field("revolutions"))
+        }
+    };
     let k = line.round() as usize;
-    let nb = s.revolutions * s.samples_per_rev;
     if k >= nb / 2 {
         return Err(Error::usage(format!(
             "order {} needs more than {} samples per revolution (at most order {} is resolved)",
@@ -468,6 +488,47 @@ pub fn by_speed(sets: &[FrfSet], order: f64, step: f64, max_rows: usize) -> Resu
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Revolutions and samples per revolution come from users: a size of
+    /// 0 or 1 sample, a product that overflows and a block longer than the
+    /// recording are refused naming the field, not allowed to panic or
+    /// allocate.
+    #[test]
+    fn block_sizes_are_refused_before_they_allocate() {
+        let x = vec![0.0; 1000];
+        let dof = Dof::parse("rig:1+Z", "").unwrap();
+        let speed = Speed::Profile(vec![(0.0, 600.0), (1.0, 600.0)]);
+        let src = Provenance::default();
+        for (revs, spr, field) in [
+            (1usize, 0usize, "samples per revolution"),
+            (1, 1, "samples per revolution"),
+            (usize::MAX, 64, "revolutions"),
+            (100, 64, "revolutions"),
+        ] {
+            let s = OrderSettings {
+                order: 1.0,
+                revolutions: revs,
+                samples_per_rev: spr,
+            };
+            let e = order_track(
+                &x,
+                1000.0,
+                &dof,
+                Quantity::Acceleration,
+                &speed,
+                &s,
+                "t",
+                &src,
+            )
+            .unwrap_err();
+            assert_eq!(
+                e.field.as_deref(),
+                Some(field),
+                "{revs} × {spr}: {}",
+                e.message
+            );
+        }
+    }
 
     /// A track linear in speed is read back exactly at every step (linear
     /// interpolation is exact on a line; common practice).
