@@ -27,24 +27,25 @@ async function applyLimits() {
     $('limits-state').textContent = 'not applied: ' + errorText(e);
   }
 }
-async function replay() {
+// callJson: the bridge's replay call (it passes the gate user calls wait at)
+async function replay(callJson = Bridge.callJson) {
   if (limitsJson !== '{}') {
-    try { await Bridge.callJson('set_limits', [limitsJson]); } catch (_) { limitsJson = '{}'; }
+    try { await callJson('set_limits', [limitsJson]); } catch (_) { limitsJson = '{}'; }
   }
   for (const f of S.files) {
     try {
-      f.summary = await Bridge.callJson('load_file', [f.name, f.bytes, JSON.stringify(f.options)], 'reading ' + f.name);
+      f.summary = await callJson('load_file', [f.name, f.bytes, JSON.stringify(f.options)], 'reading ' + f.name);
       f.error = null;
     } catch (e) { f.summary = null; f.error = e; }
   }
   if (S.bundle) {
-    try { S.bundle.info = await Bridge.callJson('open_bundle', [S.bundle.name, S.bundle.bytes]); } catch (_) { S.bundle = null; }
+    try { S.bundle.info = await callJson('open_bundle', [S.bundle.name, S.bundle.bytes]); } catch (_) { S.bundle = null; }
   }
   if ((S.history || []).length) {
-    try { S.history = await Bridge.callJson('put_history', [JSON.stringify(S.history)]); } catch (_) { S.history = []; }
+    try { S.history = await callJson('put_history', [JSON.stringify(S.history)]); } catch (_) { S.history = []; }
   }
   if (S.resultsJson) {
-    try { S.results = await Bridge.callJson('put_results', [S.resultsJson]); } catch (_) { S.results = null; S.resultsJson = null; }
+    try { S.results = await callJson('put_results', [S.resultsJson]); } catch (_) { S.results = null; S.resultsJson = null; }
   }
 }
 async function restore() {

@@ -14,6 +14,11 @@ const Bridge = (() => {
   const pending = new Map();
   let progressCb = () => {};
   let replayHook = async () => {};
+  // Closed while a restarted core is given the workspace back (cancel): a
+  // call made meanwhile (a Run clicked at once) waits for the replay, so it
+  // never meets a half-loaded workspace nor has its results replaced by the
+  // replayed ones. The replay's own calls pass (send).
+  let gate = Promise.resolve();
 
   function decodeBase64(text) {
     const clean = text.replace(/\s+/g, '');
@@ -73,6 +78,10 @@ const Bridge = (() => {
   // clone), so the page keeps its own bytes for replays. `report`, when given,
   // receives { done, total } (bytes) while the core reads (load_file).
   async function call(fn, args, stage, report) {
+    await gate;
+    return send(fn, args, stage, report);
+  }
+  async function send(fn, args, stage, report) {
     await ready;
     const id = nextId++;
     return new Promise((resolve, reject) => {
@@ -145,8 +154,12 @@ const Bridge = (() => {
     worker.terminate();
     for (const [, p] of pending) p.reject({ kind: 'cancelled', message: 'cancelled by the user' });
     pending.clear();
-    await spawn();
-    await replayHook();
+    let open;
+    gate = new Promise((resolve) => { open = resolve; });
+    try {
+      await spawn();
+      await replayHook(async (fn, args, stage) => JSON.parse(await send(fn, args, stage)));
+    } finally { open(); }
   }
 
   return {
