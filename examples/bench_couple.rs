@@ -131,10 +131,10 @@ fn main() {
     // requested outputs: 4 targets (last outputs of the assembly) × 4
     // sources (first inputs), demand-driven, equal to the full result's
     // entries bit for bit
-    let req = Request {
-        outputs: r.set.outputs[r.set.n_out() - 4..].to_vec(),
-        inputs: r.set.inputs[..4].to_vec(),
-    };
+    let req = Request::of(
+        r.set.outputs[r.set.n_out() - 4..].to_vec(),
+        r.set.inputs[..4].to_vec(),
+    );
     let mut t_req = f64::INFINITY;
     let mut solved = (0, 0);
     for _ in 0..REPS {
@@ -142,10 +142,7 @@ fn main() {
         let q = couple_requested(&comps, &joints, &opts, &req).expect("requested coupling failed");
         t_req = t_req.min(t0.elapsed().as_secs_f64());
         solved = q.solved;
-        let want = r
-            .set
-            .select_dofs(&req.outputs, &req.inputs)
-            .expect("the requested DOFs");
+        let want = req.pick(&r.set);
         assert_eq!(
             q.assembled.set.data, want.data,
             "requested and full results differ"

@@ -6,7 +6,7 @@ mod common;
 mod couple_support;
 
 use couple_support::*;
-use mortise::assemble::{cascade, parallel, series, sum_paths};
+use mortise::assemble::{cascade, cascade_requested, parallel, series, sum_paths, Request};
 use mortise::frf::SignalKind;
 use mortise::{Direction, Dof, ErrorKind, FrfKind, FrfSet, Quantity};
 use num_complex::Complex64;
@@ -59,6 +59,48 @@ fn cascade_matches_control_series() {
     assert!(d < 1e-12, "{d:e}");
     assert_eq!(h.out_qty, Quantity::Pressure);
     assert_eq!(h.in_qty, Quantity::Force);
+    requested_equals_whole(&first, &second);
+}
+
+/// Demand-driven cascades (rows and columns asked alone, in another order,
+/// or one side only) hold the whole cascade's entries bit for bit, with its
+/// name, quantities, signal kind and warnings.
+fn requested_equals_whole(first: &FrfSet, second: &FrfSet) {
+    let whole = cascade(first, second).unwrap();
+    let bits = |x: &FrfSet| -> Vec<(u64, u64)> {
+        x.data
+            .iter()
+            .map(|v| (v.re.to_bits(), v.im.to_bits()))
+            .collect()
+    };
+    let (o, i) = (&whole.outputs, &whole.inputs);
+    let last = |v: &[Dof]| v[v.len() - 1].clone();
+    for req in [
+        Request::of(vec![last(o)], vec![last(i), i[0].clone()]),
+        Request {
+            outputs: Some(vec![last(o), o[0].clone()]),
+            inputs: None,
+        },
+        Request {
+            outputs: None,
+            inputs: Some(vec![last(i)]),
+        },
+    ] {
+        let (got, computed) = cascade_requested(first, second, &req).unwrap();
+        let want = whole
+            .select_dofs(
+                req.outputs.as_deref().unwrap_or(o),
+                req.inputs.as_deref().unwrap_or(i),
+            )
+            .unwrap();
+        assert_eq!(bits(&got), bits(&want), "requested entries differ");
+        assert_eq!((&got.outputs, &got.inputs), (&want.outputs, &want.inputs));
+        assert_eq!(got.name, whole.name);
+        assert_eq!((got.out_qty, got.in_qty), (whole.out_qty, whole.in_qty));
+        assert_eq!(got.signal, whole.signal);
+        assert_eq!(got.warnings, whole.warnings);
+        assert!(computed.0 <= whole.n_out() && computed.1 <= whole.n_in());
+    }
 }
 
 #[test]
@@ -197,6 +239,7 @@ fn halving_the_input_halves_the_output() {
     }
     let a = cascade(&force, &first).unwrap();
     let b = cascade(&half, &first).unwrap();
+    requested_equals_whole(&force, &first);
     assert_eq!(a.signal, Some(SignalKind::Rms));
     for n in 0..a.data.len() {
         let db = 20.0 * (a.data[n].norm() / b.data[n].norm()).log10();
@@ -219,6 +262,15 @@ fn error_cascade_quantity_mismatch_names_both_stages() {
     let third = get("third"); // inputs are forces, first's outputs are velocities
     let e = cascade(&first, &third).unwrap_err();
     assert_eq!(e.kind, ErrorKind::Quantity);
+    // a request is refused alike (the whole cascade's checks run first)
+    let req = Request::of(
+        vec![third.outputs[0].clone()],
+        vec![first.inputs[0].clone()],
+    );
+    assert_eq!(
+        cascade_requested(&first, &third, &req).unwrap_err().message,
+        e.message
+    );
     assert!(
         e.message
             .contains("the outputs of the first stage 'first' are velocity"),
@@ -263,6 +315,18 @@ fn error_cascade_missing_entry() {
     second.present[3] = false;
     let e = cascade(&first, &second).unwrap_err();
     assert_eq!(e.kind, ErrorKind::Missing);
+    // an entry missing outside the requested rows still refuses the request
+    // (the whole cascade's checks run first)
+    let req = Request::of(
+        vec![second.outputs[0].clone()],
+        vec![first.inputs[0].clone()],
+    );
+    assert_eq!(
+        cascade_requested(&first, &second, &req)
+            .unwrap_err()
+            .message,
+        e.message
+    );
     assert!(e.message.contains("room:m2 / mount:2+Z"), "{}", e.message);
 }
 

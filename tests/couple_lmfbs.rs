@@ -10,8 +10,8 @@ mod couple_support;
 
 use couple_support::*;
 use mortise::assemble::{
-    couple, couple_requested, couple_with_threads, decouple, CouplingOptions, Joint, JointKind,
-    Request,
+    couple, couple_requested, couple_with_threads, decouple, decouple_requested, CouplingOptions,
+    Joint, JointKind, Request,
 };
 use mortise::{Direction, Dof, ErrorKind, FrfSet};
 use serde_json::Value;
@@ -75,31 +75,55 @@ fn check_requested(c: &Case, full: &mortise::assemble::Assembled) {
     let s = &full.set;
     let outputs = vec![s.outputs[s.n_out() - 1].clone(), s.outputs[0].clone()];
     let inputs = vec![s.inputs[0].clone(), s.inputs[s.n_in() - 1].clone()];
-    let req = Request {
-        outputs: outputs.clone(),
-        inputs: inputs.clone(),
-    };
-    let got = couple_requested(&c.comps, &c.joints, &CouplingOptions::default(), &req).unwrap();
-    let want = s.select_dofs(&outputs, &inputs).unwrap();
+    // both sides named, and the rows alone (every column)
+    for req in [
+        Request::of(outputs.clone(), inputs.clone()),
+        Request {
+            outputs: Some(outputs.clone()),
+            inputs: None,
+        },
+    ] {
+        let got = couple_requested(&c.comps, &c.joints, &CouplingOptions::default(), &req).unwrap();
+        let want = s
+            .select_dofs(&outputs, req.inputs.as_deref().unwrap_or(&s.inputs))
+            .unwrap();
+        same_entries(&got, &want, full);
+    }
+}
+
+fn bits(x: &FrfSet) -> Vec<(u64, u64)> {
+    x.data
+        .iter()
+        .map(|v| (v.re.to_bits(), v.im.to_bits()))
+        .collect()
+}
+
+/// A demand-driven result holds the whole result's entries `want`, bit for
+/// bit, with its name, condition numbers and warnings.
+fn same_entries(
+    got: &mortise::assemble::Demanded,
+    want: &FrfSet,
+    full: &mortise::assemble::Assembled,
+) {
     assert_eq!(got.assembled.set.outputs, want.outputs);
     assert_eq!(got.assembled.set.inputs, want.inputs);
-    assert_eq!(got.assembled.set.name, s.name);
-    let bits = |x: &FrfSet| -> Vec<(u64, u64)> {
-        x.data
-            .iter()
-            .map(|v| (v.re.to_bits(), v.im.to_bits()))
-            .collect()
-    };
+    assert_eq!(got.assembled.set.name, full.set.name);
     assert_eq!(
         bits(&got.assembled.set),
-        bits(&want),
+        bits(want),
         "requested entries differ"
     );
     assert_eq!(got.assembled.condition, full.condition);
+    assert_eq!(got.assembled.warnings, full.warnings);
     assert!(got.solved.0 <= got.whole.0 && got.solved.1 <= got.whole.1);
     eprintln!(
-        "requested 2 × 2 of {} × {}: solved {} × {}",
-        got.whole.0, got.whole.1, got.solved.0, got.solved.1
+        "requested {} × {} of {} × {}: solved {} × {}",
+        want.n_out(),
+        want.n_in(),
+        got.whole.0,
+        got.whole.1,
+        got.solved.0,
+        got.solved.1
     );
 }
 
@@ -122,6 +146,28 @@ fn check_decoupling(name: &str) {
         .warnings
         .iter()
         .any(|w| w.contains("only the DOFs of the remaining component")));
+    // demand-driven: the first and last DOFs of the remaining component,
+    // and its first output against every input, bit for bit the whole's
+    let s = &r.set;
+    let outputs = vec![s.outputs[s.n_out() - 1].clone(), s.outputs[0].clone()];
+    let inputs = vec![s.inputs[0].clone(), s.inputs[s.n_in() - 1].clone()];
+    for req in [
+        Request::of(outputs.clone(), inputs.clone()),
+        Request {
+            outputs: Some(outputs[1..].to_vec()),
+            inputs: None,
+        },
+    ] {
+        let got =
+            decouple_requested(&asm, &rem, &joints, &CouplingOptions::default(), &req).unwrap();
+        let want = s
+            .select_dofs(
+                req.outputs.as_deref().unwrap_or(&s.outputs),
+                req.inputs.as_deref().unwrap_or(&s.inputs),
+            )
+            .unwrap();
+        same_entries(&got, &want, &r);
+    }
 }
 
 #[test]

@@ -13,6 +13,43 @@ use num_complex::Complex64;
 /// `second`'s outputs and `first`'s inputs. `first` may be a complex spectrum
 /// (peak or RMS, with phase): the result is then the response spectrum.
 pub fn cascade(first: &FrfSet, second: &FrfSet) -> Result<FrfSet> {
+    let map = check_cascade(first, second)?;
+    let (n_o, n_r, n_i) = (second.n_out(), second.n_in(), first.n_in());
+    let mut out = FrfSet::zeros(
+        &format!("{} · {}", second.name, first.name),
+        second.freqs.clone(),
+        second.outputs.clone(),
+        first.inputs.clone(),
+        second.out_qty,
+        first.in_qty,
+    );
+    for k in 0..first.n_lines() {
+        let s = second.line(k);
+        let f = first.line(k);
+        let dst = out.line_mut(k);
+        for i in 0..n_o {
+            for (r, &(p, sg)) in map.iter().enumerate() {
+                let a = s[i * n_r + r] * sg;
+                for j in 0..n_i {
+                    dst[i * n_i + j] += a * f[p * n_i + j];
+                }
+            }
+        }
+    }
+    out.signal = first.signal;
+    out.provenance = first
+        .provenance
+        .iter()
+        .chain(&second.provenance)
+        .cloned()
+        .collect();
+    out.warnings = merged_warnings([first, second]);
+    Ok(out)
+}
+
+/// The cascade's checks; for each input of `second`, the output of `first`
+/// at its place and the sign between their labels.
+pub(crate) fn check_cascade(first: &FrfSet, second: &FrfSet) -> Result<Vec<(usize, f64)>> {
     require_same_grid(first, second, "a cascade")?;
     if second.signal.is_some() {
         return Err(Error::quantity(format!(
@@ -77,38 +114,7 @@ pub fn cascade(first: &FrfSet, second: &FrfSet) -> Result<FrfSet> {
     }
     first.require_complete("a cascade")?;
     second.require_complete("a cascade")?;
-
-    let (n_o, n_r, n_i) = (second.n_out(), second.n_in(), first.n_in());
-    let mut out = FrfSet::zeros(
-        &format!("{} · {}", second.name, first.name),
-        second.freqs.clone(),
-        second.outputs.clone(),
-        first.inputs.clone(),
-        second.out_qty,
-        first.in_qty,
-    );
-    for k in 0..first.n_lines() {
-        let s = second.line(k);
-        let f = first.line(k);
-        let dst = out.line_mut(k);
-        for i in 0..n_o {
-            for (r, &(p, sg)) in map.iter().enumerate() {
-                let a = s[i * n_r + r] * sg;
-                for j in 0..n_i {
-                    dst[i * n_i + j] += a * f[p * n_i + j];
-                }
-            }
-        }
-    }
-    out.signal = first.signal;
-    out.provenance = first
-        .provenance
-        .iter()
-        .chain(&second.provenance)
-        .cloned()
-        .collect();
-    out.warnings = merged_warnings([first, second]);
-    Ok(out)
+    Ok(map)
 }
 
 /// Add sets that share outputs, inputs and quantities.

@@ -15,19 +15,68 @@
 //! that is neither joined nor asked for), the coupling is made whole and
 //! the request selected from it.
 
-use super::{couple_with_threads, default_threads, Assembled, CouplingOptions, Joint};
+use super::{
+    cascade, couple_with_threads, decouple_with_threads, default_threads, Assembled,
+    CouplingOptions, Joint,
+};
 use crate::error::Result;
 use crate::frf::{Dof, FrfSet};
 
-/// The rows (outputs) and columns (inputs) asked of a coupling, by label
-/// (sign included, as `select` names them).
+/// The rows (outputs) and columns (inputs) asked of a result, by label
+/// (sign included, as `select` names them); `None`: every one, in the
+/// result's order.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Request {
-    pub outputs: Vec<Dof>,
-    pub inputs: Vec<Dof>,
+    pub outputs: Option<Vec<Dof>>,
+    pub inputs: Option<Vec<Dof>>,
 }
 
-/// What [`couple_requested`] computed, for the report.
+impl Request {
+    /// Rows and columns both named.
+    pub fn of(outputs: Vec<Dof>, inputs: Vec<Dof>) -> Request {
+        Request {
+            outputs: Some(outputs),
+            inputs: Some(inputs),
+        }
+    }
+
+    /// Does it ask for everything (no cut)?
+    pub fn is_whole(&self) -> bool {
+        self.outputs.is_none() && self.inputs.is_none()
+    }
+
+    /// The requested entries of `set`, in the request's order. A label
+    /// `set` lacks (exactly, sign included) is left out: the reader that
+    /// asked for it refuses it at its own place in the recipe, as it would
+    /// reading the whole result.
+    pub fn pick(&self, set: &FrfSet) -> FrfSet {
+        let have = |asked: &Option<Vec<Dof>>, all: &[Dof]| -> Vec<usize> {
+            match asked {
+                None => (0..all.len()).collect(),
+                Some(a) => a
+                    .iter()
+                    .filter_map(|d| all.iter().position(|x| x == d))
+                    .collect(),
+            }
+        };
+        set.select(
+            &have(&self.outputs, &set.outputs),
+            &have(&self.inputs, &set.inputs),
+        )
+    }
+
+    /// "R × C" in words, for the report.
+    pub fn describe(&self, whole: (usize, usize)) -> String {
+        let n = |v: &Option<Vec<Dof>>, all: usize| v.as_ref().map_or(all, Vec::len);
+        format!(
+            "{} × {}",
+            n(&self.outputs, whole.0),
+            n(&self.inputs, whole.1)
+        )
+    }
+}
+
+/// What a demand-driven operation computed, for the report.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Demanded {
     pub assembled: Assembled,
@@ -37,10 +86,45 @@ pub struct Demanded {
     pub whole: (usize, usize),
 }
 
+/// Each component cut to the requested DOFs and its joints' DOFs (by
+/// place); None when a cut would leave a component with no output or no
+/// input (the whole is then computed).
+fn cut(components: &[&FrfSet], joints: &[Joint], req: &Request) -> Option<Vec<FrfSet>> {
+    let at_joint = |d: &Dof| {
+        joints
+            .iter()
+            .any(|j| j.a.same_place(d) || j.b.same_place(d))
+    };
+    let keep = |d: &Dof, asked: &Option<Vec<Dof>>| {
+        at_joint(d)
+            || asked
+                .as_ref()
+                .map_or(true, |a| a.iter().any(|x| x.same_place(d)))
+    };
+    let mut out = Vec::with_capacity(components.len());
+    for c in components {
+        let outs: Vec<usize> = (0..c.n_out())
+            .filter(|&i| keep(&c.outputs[i], &req.outputs))
+            .collect();
+        let ins: Vec<usize> = (0..c.n_in())
+            .filter(|&j| keep(&c.inputs[j], &req.inputs))
+            .collect();
+        if outs.is_empty() || ins.is_empty() {
+            return None;
+        }
+        out.push(if outs.len() == c.n_out() && ins.len() == c.n_in() {
+            (*c).clone()
+        } else {
+            c.select(&outs, &ins)
+        });
+    }
+    Some(out)
+}
+
 /// The requested rows and columns of the coupling of `components` (see the
 /// module docs); the result's DOFs in the order of `req`, its name that of
-/// the whole coupling. A requested DOF no component has is refused naming
-/// it (as `select` refuses it).
+/// the whole coupling. A requested label the coupling lacks is left out
+/// (see [`Request::pick`]).
 pub fn couple_requested(
     components: &[FrfSet],
     joints: &[Joint],
@@ -62,40 +146,79 @@ pub fn couple_requested_with_threads(
         components.iter().map(FrfSet::n_out).sum(),
         components.iter().map(FrfSet::n_in).sum(),
     );
-    let at_joint = |d: &Dof| {
-        joints
-            .iter()
-            .any(|j| j.a.same_place(d) || j.b.same_place(d))
-    };
-    let keep = |d: &Dof, asked: &[Dof]| at_joint(d) || asked.iter().any(|a| a.same_place(d));
-    let mut cut = Vec::with_capacity(components.len());
-    for c in components {
-        let outs: Vec<usize> = (0..c.n_out())
-            .filter(|&i| keep(&c.outputs[i], &req.outputs))
-            .collect();
-        let ins: Vec<usize> = (0..c.n_in())
-            .filter(|&j| keep(&c.inputs[j], &req.inputs))
-            .collect();
-        if outs.is_empty() || ins.is_empty() {
-            cut.clear();
-            break;
-        }
-        cut.push(if outs.len() == c.n_out() && ins.len() == c.n_in() {
-            c.clone()
-        } else {
-            c.select(&outs, &ins)
-        });
-    }
-    let whole_cut = cut.is_empty();
-    let parts: &[FrfSet] = if whole_cut { components } else { &cut };
+    let refs: Vec<&FrfSet> = components.iter().collect();
+    let cut = cut(&refs, joints, req);
+    let parts: &[FrfSet] = cut.as_deref().unwrap_or(components);
     let mut a = couple_with_threads(parts, joints, opts, threads)?;
     let solved = (a.set.n_out(), a.set.n_in());
-    let name = a.set.name.clone();
-    a.set = a.set.select_dofs(&req.outputs, &req.inputs)?;
-    a.set.name = name;
+    a.set = req.pick(&a.set);
     Ok(Demanded {
         assembled: a,
         solved,
         whole,
     })
+}
+
+/// The requested rows and columns of `assembly` without `removed` (the
+/// decoupling of [`super::decouple`]): both cut to the requested DOFs and
+/// the joints' DOFs, decoupled, the request picked; bit for bit the whole
+/// decoupling's entries, for the reason given in the module docs.
+pub fn decouple_requested(
+    assembly: &FrfSet,
+    removed: &FrfSet,
+    joints: &[Joint],
+    opts: &CouplingOptions,
+    req: &Request,
+) -> Result<Demanded> {
+    let whole = (assembly.n_out(), assembly.n_in());
+    let mut a = match cut(&[assembly, removed], joints, req) {
+        Some(c) => decouple_with_threads(&c[0], &c[1], joints, opts, default_threads())?,
+        None => decouple_with_threads(assembly, removed, joints, opts, default_threads())?,
+    };
+    let solved = (a.set.n_out(), a.set.n_in());
+    a.set = req.pick(&a.set);
+    Ok(Demanded {
+        assembled: a,
+        solved,
+        whole,
+    })
+}
+
+/// The requested rows and columns of the cascade `second · first`: entry
+/// (r, c) is the sum over the shared DOFs of second's row r times first's
+/// column c, in the same order as in the whole product, so `second` cut to
+/// the requested rows and `first` to the requested columns give the whole
+/// cascade's entries bit for bit. The whole cascade's checks (grids,
+/// quantities, DOFs, completeness) run on the uncut stages first, so a
+/// request never lets through what the whole would refuse. Returns the
+/// set and (rows, columns) computed of the whole.
+pub fn cascade_requested(
+    first: &FrfSet,
+    second: &FrfSet,
+    req: &Request,
+) -> Result<(FrfSet, (usize, usize))> {
+    super::chain::check_cascade(first, second)?;
+    let places = |all: &[Dof], asked: &Option<Vec<Dof>>| -> Vec<usize> {
+        (0..all.len())
+            .filter(|&i| {
+                asked
+                    .as_ref()
+                    .map_or(true, |a| a.iter().any(|x| x.same_place(&all[i])))
+            })
+            .collect()
+    };
+    let rows = places(&second.outputs, &req.outputs);
+    let cols = places(&first.inputs, &req.inputs);
+    let name = format!("{} · {}", second.name, first.name);
+    let out = if rows.is_empty() || cols.is_empty() {
+        cascade(first, second)?
+    } else {
+        let f = first.select(&(0..first.n_out()).collect::<Vec<_>>(), &cols);
+        let s = second.select(&rows, &(0..second.n_in()).collect::<Vec<_>>());
+        cascade(&f, &s)?
+    };
+    let computed = (out.n_out(), out.n_in());
+    let mut picked = req.pick(&out);
+    picked.name = name;
+    Ok((picked, computed))
 }

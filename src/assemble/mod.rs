@@ -66,7 +66,10 @@ mod lmfbs;
 
 pub use bench_case::{bench_case, values_digest, BENCH_SEED};
 pub use chain::{cascade, parallel, series, sum_paths};
-pub use demand::{couple_requested, couple_requested_with_threads, Demanded, Request};
+pub use demand::{
+    cascade_requested, couple_requested, couple_requested_with_threads, decouple_requested,
+    Demanded, Request,
+};
 pub use lmfbs::{couple, couple_with_threads, decouple, decouple_with_threads, default_threads};
 pub(crate) use lmfbs::{prepare_coupling, prepare_decoupling, Prepared};
 

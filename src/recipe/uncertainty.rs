@@ -204,7 +204,7 @@ pub(crate) fn propagate(
                 "the first-order uncertainty propagation of the decoupling",
                 first_order_work(out.set.n_lines(), rows, cols, joints.len(), asm.n_out()),
             )?;
-            let fo = uncertainty::decouple_first_order(
+            let mut fo = uncertainty::decouple_first_order(
                 asm,
                 get(&d.assembly),
                 rem,
@@ -212,6 +212,10 @@ pub(crate) fn propagate(
                 &joints,
                 &CouplingOptions::default(),
             )?;
+            if cx.demand.is_some() {
+                // the step computed only the rows and columns later steps read
+                fo = fo.select(&asm.outputs, &asm.inputs, &out.set.outputs, &out.set.inputs)?;
+            }
             let cond = condition(out);
             let r = uncertainty::assess(&out.set, &Evidence::of_coupling(&fo, &cond), &opts);
             (fo.uncertainty, r)
@@ -219,7 +223,13 @@ pub(crate) fn propagate(
         Op::Cascade(c) => {
             let a = cx.get("first", &c.first)?;
             let b = cx.get("second", &c.second)?;
-            let (_, u) = uncertainty::cascade_first_order(a, get(&c.first), b, get(&c.second))?;
+            let (whole, mut u) =
+                uncertainty::cascade_first_order(a, get(&c.first), b, get(&c.second))?;
+            if cx.demand.is_some() {
+                // the step computed only the rows and columns later steps read
+                let (o, i) = (&out.set.outputs, &out.set.inputs);
+                u = uncertainty::select_uncertainty(&whole, &u, &|s| s.select_dofs(o, i))?;
+            }
             let r = assess_std(&out.set, &u, &opts);
             (u, r)
         }

@@ -1,7 +1,7 @@
 //! `couple` and `decouple`: LM-FBS through the recipe's joints.
 
 use super::{check_tsvd, opt, req, Ctx, Operand, Operation, RelativeOrNoise, StepOutput};
-use crate::assemble::{self, Assembled, CouplingOptions, Joint, PerLine};
+use crate::assemble::{self, Assembled, CouplingOptions, Joint, PerLine, Request};
 use crate::error::{Error, Result};
 use crate::recipe::joint::JointSpec;
 use crate::recipe::report::{InterfaceReport, StepReport};
@@ -171,21 +171,14 @@ impl Operation for Couple {
         )?;
         // only the rows and columns later steps read, when that is all they
         // read (recipe::demand): the same values, bit for bit
-        let couple = |o: &CouplingOptions| {
-            match cx.demand {
+        let couple = |o: &CouplingOptions| match cx.demand {
             Some(req) => assemble::couple_requested(&parts, &joints, o, req).map(|d| {
-                let ((r, c), (wr, wc)) = (d.solved, d.whole);
                 (
                     d.assembled,
-                    Some(format!(
-                        "computed {} × {} of the {wr} × {wc} coupled matrix: the rows and columns the later selects read ({r} × {c} solved with the interface DOFs); the values equal the whole coupling's",
-                        req.outputs.len(),
-                        req.inputs.len()
-                    )),
+                    Some(demand_note("coupled", req, d.solved, d.whole)),
                 )
             }),
             None => assemble::couple(&parts, &joints, o).map(|a| (a, None)),
-        }
         };
         let (mut a, computed) = couple(&opts)?;
         notes.extend(computed);
@@ -248,7 +241,17 @@ impl Operation for Decouple {
                 joints.len(),
             ),
         )?;
-        let mut a = assemble::decouple(asm, rem, &joints, &opts)?;
+        let decouple = |o: &CouplingOptions| match cx.demand {
+            Some(req) => assemble::decouple_requested(asm, rem, &joints, o, req).map(|d| {
+                (
+                    d.assembled,
+                    Some(demand_note("decoupled", req, d.solved, d.whole)),
+                )
+            }),
+            None => assemble::decouple(asm, rem, &joints, o).map(|a| (a, None)),
+        };
+        let (mut a, computed) = decouple(&opts)?;
+        notes.extend(computed);
         if regularised(&a) {
             cx.check_work(
                 "the plain decoupling the regularised one is compared with",
@@ -259,11 +262,20 @@ impl Operation for Decouple {
                     joints.len(),
                 ),
             )?;
-            let plain = assemble::decouple(asm, rem, &joints, &CouplingOptions::default());
+            let plain = decouple(&CouplingOptions::default()).map(|(a, _)| a);
             compare_with_plain(&mut a, plain, "decoupled FRFs");
         }
         Ok(output(cx, "decouple", a, &opts, notes))
     }
+}
+
+/// The report's note on a demand-driven coupling or decoupling.
+fn demand_note(what: &str, req: &Request, solved: (usize, usize), whole: (usize, usize)) -> String {
+    let ((r, c), (wr, wc)) = (solved, whole);
+    format!(
+        "computed {} of the {wr} × {wc} {what} matrix: the rows and columns later steps read ({r} × {c} solved with the interface DOFs); the values equal the whole {what} matrix's",
+        req.describe(whole)
+    )
 }
 
 /// Estimated operations of an LM-FBS coupling: per line, the interface

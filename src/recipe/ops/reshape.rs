@@ -59,7 +59,17 @@ impl Operation for Cascade {
             &format!("cascading {l} lines of {o} × {m} by {m} × {i}"),
             8.0 * l as f64 * o as f64 * m as f64 * i as f64,
         )?;
-        Ok(StepOutput::plain(cx, "cascade", assemble::cascade(a, b)?))
+        let Some(req) = cx.demand else {
+            return Ok(StepOutput::plain(cx, "cascade", assemble::cascade(a, b)?));
+        };
+        // only the rows and columns later steps read (recipe::demand)
+        let (set, (r, c)) = assemble::cascade_requested(a, b, req)?;
+        let mut out = StepOutput::plain(cx, "cascade", set);
+        out.report.notes.push(format!(
+            "computed {} of the {o} × {i} its operands give ({r} × {c} multiplied): the rows and columns later steps read; the values equal the whole cascade's",
+            req.describe((o, i))
+        ));
+        Ok(out)
     }
 }
 
