@@ -45,31 +45,15 @@ fn regularisation(
     lines: usize,
     noise: impl FnOnce(&str) -> Result<Vec<f64>>,
 ) -> Result<CouplingOptions> {
-    let rule = |r: &str, field: &str| -> Result<()> {
-        if r == "noise" {
-            Ok(())
-        } else {
-            Err(Error::recipe(format!(
-                "'{field}' is '{}'; expected a number (a fraction of the largest singular value) or \"noise\"",
-                crate::error::quote(r)
-            ))
-            .field(field))
-        }
-    };
     Ok(match (tsvd, tikhonov) {
-        (Some(_), Some(_)) => {
-            return Err(Error::recipe(
-                "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
-            )
-            .field("tikhonov"))
-        }
+        (Some(_), Some(_)) => return Err(RelativeOrNoise::refuse_both()),
         (None, None) => CouplingOptions::default(),
         (Some(RelativeOrNoise::Relative(t)), None) => CouplingOptions {
             tsvd_rel_threshold: check_tsvd(Some(*t))?,
             per_line: None,
         },
         (Some(RelativeOrNoise::Rule(r)), None) => {
-            rule(r, "tsvd")?;
+            RelativeOrNoise::check_rule(r, "tsvd")?;
             // a threshold of 1 or more would drop σ_max too: everything the
             // noise hides is dropped, the largest is kept
             let t = noise("tsvd")?
@@ -87,20 +71,15 @@ fn regularisation(
                 per_line: Some(PerLine::Tsvd(t)),
             }
         }
-        (None, Some(RelativeOrNoise::Relative(x))) => {
-            if !(x.is_finite() && *x > 0.0) {
-                return Err(Error::recipe(format!(
-                    "'tikhonov' is {x}; expected λ as a positive fraction of the largest singular value (for example 1e-4), or \"noise\""
-                ))
-                .field("tikhonov"));
-            }
-            CouplingOptions {
-                tsvd_rel_threshold: None,
-                per_line: Some(PerLine::Tikhonov(vec![*x; lines])),
-            }
-        }
+        (None, Some(RelativeOrNoise::Relative(x))) => CouplingOptions {
+            tsvd_rel_threshold: None,
+            per_line: Some(PerLine::Tikhonov(vec![
+                RelativeOrNoise::check_lambda(*x)?;
+                lines
+            ])),
+        },
         (None, Some(RelativeOrNoise::Rule(r))) => {
-            rule(r, "tikhonov")?;
+            RelativeOrNoise::check_rule(r, "tikhonov")?;
             let x = noise("tikhonov")?
                 .into_iter()
                 .map(|x| if x.is_finite() { x } else { 0.0 })

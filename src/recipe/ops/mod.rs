@@ -335,6 +335,39 @@ pub enum RelativeOrNoise {
     Rule(String),
 }
 
+impl RelativeOrNoise {
+    /// The rule's word, refused unless it is `"noise"` (naming `field`).
+    pub(crate) fn check_rule(rule: &str, field: &str) -> Result<()> {
+        if rule == "noise" {
+            return Ok(());
+        }
+        Err(Error::recipe(format!(
+            "'{field}' is '{}'; expected a number (a fraction of the largest singular value) or \"noise\"",
+            crate::error::quote(rule)
+        ))
+        .field(field))
+    }
+
+    /// A Tikhonov λ given as a number: positive and finite.
+    pub(crate) fn check_lambda(x: f64) -> Result<f64> {
+        if x.is_finite() && x > 0.0 {
+            return Ok(x);
+        }
+        Err(Error::recipe(format!(
+            "'tikhonov' is {x}; expected λ as a positive fraction of the largest singular value (for example 1e-4), or \"noise\""
+        ))
+        .field("tikhonov"))
+    }
+
+    /// `tsvd` and `tikhonov` both given: refused.
+    pub(crate) fn refuse_both() -> Error {
+        Error::recipe(
+            "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
+        )
+        .field("tikhonov")
+    }
+}
+
 /// A relative singular-value threshold operand: finite, in (0, 1).
 pub(crate) fn check_tsvd(t: Option<f64>) -> Result<Option<f64>> {
     match t {

@@ -241,24 +241,14 @@ impl BlockedForces {
         };
         let tsvd = check_tsvd(self.tsvd)?;
         let regularisation = match (&self.tikhonov, tsvd) {
-            (Some(_), Some(_)) => {
-                return Err(Error::recipe(
-                    "'tsvd' and 'tikhonov' are two regularisations of the same inversion; give one",
-                )
-                .field("tikhonov"))
-            }
+            (Some(_), Some(_)) => return Err(TikhonovSpec::refuse_both()),
             (None, Some(t)) => Regularisation::Truncated(t),
             (None, None) => Regularisation::Truncated(1e-3),
             (Some(TikhonovSpec::Relative(x)), None) => {
-                if !(x.is_finite() && *x > 0.0) {
-                    return Err(Error::recipe(format!(
-                        "'tikhonov' is {x}; expected λ as a positive fraction of the largest singular value (for example 1e-3), or \"noise\""
-                    ))
-                    .field("tikhonov"));
-                }
-                Regularisation::TikhonovRelative(*x)
+                Regularisation::TikhonovRelative(TikhonovSpec::check_lambda(*x)?)
             }
-            (Some(TikhonovSpec::Rule(r)), None) if r == "noise" => {
+            (Some(TikhonovSpec::Rule(r)), None) => {
+                TikhonovSpec::check_rule(r, "tikhonov")?;
                 let Some(u) = cx.uncertainties.get(&self.bench) else {
                     return Err(Error::recipe(format!(
                         "'tikhonov': \"noise\" takes λ from the uncertainty of the FRFs '{}', which carry none; give the component an \"uncertainty\" key, or λ as a number",
@@ -268,13 +258,6 @@ impl BlockedForces {
                 };
                 u.check_fits(frf)?;
                 Regularisation::TikhonovNoise(u.std.clone())
-            }
-            (Some(TikhonovSpec::Rule(r)), None) => {
-                return Err(Error::recipe(format!(
-                    "'tikhonov' is '{}'; expected a number (λ as a fraction of the largest singular value) or \"noise\"",
-                    crate::error::quote(r)
-                ))
-                .field("tikhonov"))
             }
         };
         let mut o = predict::blocked::BlockedForceOptions {
