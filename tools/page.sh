@@ -20,7 +20,7 @@ wasm-bindgen --target no-modules --no-typescript --out-dir target/page \
 WASM=target/page/mortise_bg.wasm
 # Only the npm binaryen (Debian's older wasm-opt corrupts wasm-bindgen's externref table).
 if [ -x node_modules/.bin/wasm-opt ]; then
-  node_modules/.bin/wasm-opt -O --enable-reference-types --enable-bulk-memory --enable-nontrapping-float-to-int \
+  node_modules/.bin/wasm-opt -O --enable-simd --enable-reference-types --enable-bulk-memory --enable-nontrapping-float-to-int \
     --enable-sign-ext --enable-mutable-globals --enable-multivalue \
     "$WASM" -o target/page/mortise_opt.wasm
   WASM=target/page/mortise_opt.wasm

@@ -4,7 +4,8 @@
 // `cargo run --release --example bench_couple -- --rust-only --lines N` in the
 // same run. Prints both times, the ratios (wasm is one thread: against native
 // on one thread and on all), and whether the results are the same bits (the
-// SHA-256 of the values). Asserts nothing but equal results.
+// SHA-256 of the values); and the lines split over 2 of the page's workers.
+// Asserts nothing but equal results.
 // usage: node tools/wasm-bench.mjs [LINES] [PAGE.html]   (default 1600 lines, dist/mortise.html)
 import { chromium } from 'playwright-core';
 import { mkdtempSync, rmSync } from 'node:fs';
@@ -24,6 +25,8 @@ const ctx = await chromium.launchPersistentContext(dir, {
   args: ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking'],
 });
 const wasm = [];
+const split = [];
+const half = Math.ceil(lines / 2);
 let digest = null;
 try {
   const p = ctx.pages()[0] || await ctx.newPage();
@@ -34,6 +37,21 @@ try {
     wasm.push(r.seconds);
     if (digest && digest !== r.digest) throw new Error('two runs in the page gave different results');
     digest = r.digest;
+  }
+  // the same number of lines split over 2 of the page's extra workers (each
+  // couples half the lines of the case at once): what splitting one coupling's
+  // lines across workers could gain (a throughput measure; the halves are
+  // cases of their own, so no digest is compared)
+
+  for (let k = 0; k < 3; k++) {
+    const s = await p.evaluate(async (n) => {
+      await Bridge.extraWorkers(2);
+      // each worker times its coupling alone (the case is made before);
+      // both start together, so the slower is the split's wall time
+      const r = await Promise.all([0, 1].map((i) => Bridge.callExtra(i, 'bench_couple', [n])));
+      return Math.max(...r.map((x) => x.seconds));
+    }, half);
+    split.push(s);
   }
 } finally {
   await ctx.close();
@@ -46,6 +64,8 @@ const w = Math.min(...wasm);
 report(`coupling ${lines} lines, wasm in the page's worker (1 thread, best of 3, s)`, w.toFixed(3));
 report(`coupling ${lines} lines, native (1 thread, best of 3, s)`, native.serial_seconds.toFixed(3));
 report(`coupling ${lines} lines, native (${native.threads} threads, best of 5, s)`, native.seconds.toFixed(3));
+report(`coupling ${lines} lines split over 2 page workers (${half} lines each, best of 3, s)`, Math.min(...split).toFixed(3));
+report('ratio wasm on 2 workers / native on 2 threads', (Math.min(...split) / native.seconds).toFixed(2));
 report('ratio wasm / native, one thread each (target ≤ 2)', (w / native.serial_seconds).toFixed(2));
 report(`ratio wasm / native on ${native.threads} threads`, (w / native.seconds).toFixed(2));
 report('results: SHA-256 of the values, wasm and native', `${digest.slice(0, 16)}… ${digest === native.digest ? 'equal' : 'DIFFERENT ' + native.digest.slice(0, 16) + '…'}`);
