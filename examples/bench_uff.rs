@@ -222,7 +222,12 @@ fn main() {
         N_OUT * REFS.len()
     );
     let mut failed = false;
-    for (path, binary) in &files {
+    // --only-58b / --only-ascii: one file (for a profiler)
+    let only = |b: bool| {
+        !(std::env::args().any(|a| a == "--only-58b") && !b
+            || std::env::args().any(|a| a == "--only-ascii") && b)
+    };
+    for (path, binary) in files.iter().filter(|(_, b)| only(*b)) {
         let size = std::fs::metadata(path).expect("benchmark file").len() as f64;
         let kind = if *binary {
             "58b (binary)"

@@ -536,16 +536,16 @@ impl FrfSet {
                 }
             }
         }
-        for k in 0..self.n_lines() {
-            for i in 0..self.n_out() {
-                for j in 0..self.n_in() {
-                    let v = self.get(k, i, j);
-                    if self.is_present(i, j) && !(v.re.is_finite() && v.im.is_finite()) {
-                        return Err(Error::numeric(format!(
-                            "'{}': value {} / {} at {} Hz is not finite",
-                            self.name, self.outputs[i], self.inputs[j], self.freqs[k]
-                        )));
-                    }
+        // line by line against the presence mask (one pass over the values)
+        let per_line = self.n_out() * self.n_in();
+        for (k, line) in self.data.chunks_exact(per_line.max(1)).enumerate() {
+            for (e, (v, &p)) in line.iter().zip(&self.present).enumerate() {
+                if p && !(v.re.is_finite() && v.im.is_finite()) {
+                    let (i, j) = (e / self.n_in(), e % self.n_in());
+                    return Err(Error::numeric(format!(
+                        "'{}': value {} / {} at {} Hz is not finite",
+                        self.name, self.outputs[i], self.inputs[j], self.freqs[k]
+                    )));
                 }
             }
         }

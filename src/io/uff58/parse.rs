@@ -780,9 +780,9 @@ fn blank(c: u8) -> bool {
 /// announces (an end tag on the last data line is taken only when the
 /// values are then exactly those).
 fn fast_line(bytes: &[u8], vals: &mut Vec<f64>, n_vals: usize) -> Fast {
-    if !bytes.is_ascii() {
-        return Fast::General;
-    }
+    // UTF-8 (one check; a non-ASCII character then lies inside a token,
+    // which does not parse and goes to the general reading, and every
+    // blank is an ASCII byte, so each token bound is a character boundary)
     let Ok(text) = std::str::from_utf8(bytes) else {
         return Fast::General;
     };
@@ -802,11 +802,13 @@ fn fast_line(bytes: &[u8], vals: &mut Vec<f64>, n_vals: usize) -> Fast {
         while i < b.len() && !blank(b[i]) {
             i += 1;
         }
-        // ASCII: every byte index is a character boundary
+        // bounded by ASCII blanks or the line's ends: character boundaries
         let tok = &text[a..i];
         // the plain form first (no blanks in a token: parse_num's trim is
         // not needed), then the Fortran forms
-        let Some(v) = tok.parse::<f64>().ok().or_else(|| parse_num(tok)) else {
+        // (a token with a non-ASCII character goes to the general reading)
+        let fortran = || tok.is_ascii().then(|| parse_num(tok)).flatten();
+        let Some(v) = tok.parse::<f64>().ok().or_else(fortran) else {
             vals.truncate(before);
             return Fast::General;
         };
