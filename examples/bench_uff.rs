@@ -170,7 +170,14 @@ fn mortise_read(path: &Path) -> Run {
         PEAK.store(base, Ordering::Relaxed);
         let t0 = Instant::now();
         let c0 = cpu_seconds();
-        let bytes = std::fs::read(path).expect("cannot read the benchmark file");
+        // as the CLI reads a file (one allocation of the file's size, backed
+        // by huge pages on Linux)
+        let limits = mortise::limits::Limits {
+            file_bytes: u64::MAX / 2,
+            ..Default::default()
+        };
+        let bytes = mortise::io::disk::read_file(path, &name, &limits)
+            .unwrap_or_else(|e| panic!("cannot read the benchmark file: {e}"));
         let loaded = mortise::io::load(&bytes, &name, &ImportOptions::default())
             .unwrap_or_else(|e| panic!("mortise: {e}"));
         drop(bytes);

@@ -429,7 +429,9 @@ fn solve(
         }
     }
     let total = nl * n_rows * n_cols;
-    let mut data = large_buffer(total);
+    // written later by the worker threads, so the pages are first touched
+    // in parallel
+    let mut data: Vec<Complex64> = crate::mem::large_vec(total);
     let lines = run_lines(
         &prep,
         &mut data.spare_capacity_mut()[..total],
@@ -497,33 +499,6 @@ fn solve(
         damped,
         warnings,
     })
-}
-
-/// An empty buffer with room for `n` values, written later by the worker
-/// threads (so the pages are first touched in parallel). On Linux the kernel
-/// is first asked to back it with huge pages (results of large couplings run
-/// to gigabytes, and 4 KiB page faults then cost as much as the arithmetic).
-fn large_buffer(n: usize) -> Vec<Complex64> {
-    #[cfg_attr(not(target_os = "linux"), allow(unused_mut))]
-    let mut v: Vec<Complex64> = Vec::with_capacity(n);
-    #[cfg(target_os = "linux")]
-    {
-        const HUGE: usize = 2 << 20;
-        let bytes = n * std::mem::size_of::<Complex64>();
-        if bytes >= 4 * HUGE {
-            let start = v.as_mut_ptr() as usize;
-            let first = start.div_ceil(HUGE) * HUGE;
-            let end = (start + bytes) / HUGE * HUGE;
-            if end > first {
-                // SAFETY: [first, end) lies inside the allocation just made and
-                // not yet touched; MADV_HUGEPAGE only changes how it is backed.
-                unsafe {
-                    libc::madvise(first as *mut libc::c_void, end - first, libc::MADV_HUGEPAGE);
-                }
-            }
-        }
-    }
-    v
 }
 
 fn check_distinct_dofs(components: &[&FrfSet]) -> Result<()> {

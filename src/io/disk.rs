@@ -31,7 +31,10 @@ pub fn read_file(path: &Path, shown: &str, limits: &Limits) -> Result<Vec<u8>> {
     limits
         .check_file(&format!("'{shown}'"), opened.len())
         .map_err(|e| e.in_file(shown))?;
-    let mut bytes = Vec::with_capacity(usize::try_from(opened.len()).unwrap_or(0).min(1 << 26));
+    // room for the whole file (within the budget just checked) and the one
+    // byte that tells it grew: read once, never copied into a larger buffer
+    let room = opened.len().min(limits.file_bytes).saturating_add(1);
+    let mut bytes: Vec<u8> = crate::mem::large_vec(usize::try_from(room).unwrap_or(1 << 26));
     file.take(limits.file_bytes.saturating_add(1))
         .read_to_end(&mut bytes)
         .map_err(|e| Error::io(format!("cannot read: {}", plain_io(&e))).in_file(shown))?;

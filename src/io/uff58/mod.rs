@@ -148,6 +148,7 @@ mod parse;
 mod provenance;
 mod records;
 mod scan;
+mod segments;
 mod text;
 mod units164;
 mod write;

@@ -11,7 +11,8 @@ use super::header151::{parse_151, Header151};
 use super::modal55::{parse_55, Mode55};
 use super::parse::parse_58;
 use super::records::Dataset58;
-use super::text::{col, parse_int, perr, preview, Cursor};
+use super::segments;
+use super::text::{col, parse_int, perr, preview, Cursor, Line};
 use super::units164::{apply_to_58, parse_164, units_code_name, UnitSystem};
 use crate::error::{Error, Result};
 
@@ -101,6 +102,38 @@ pub(super) fn parse_file_with(
     file: &str,
     progress: &mut dyn FnMut(usize),
 ) -> Result<Parsed> {
+    parse_in(bytes, file, progress, segments::count(bytes.len()))
+}
+
+/// [`parse_file_with`] with runs of datasets 58 parsed on `k` threads (1:
+/// on this one alone); the same result whatever `k` (see `segments.rs`).
+pub(super) fn parse_in(
+    bytes: &[u8],
+    file: &str,
+    progress: &mut dyn FnMut(usize),
+    k: usize,
+) -> Result<Parsed> {
+    if k > 1 {
+        let flags: Vec<std::sync::atomic::AtomicBool> = (0..k)
+            .map(|_| std::sync::atomic::AtomicBool::new(false))
+            .collect();
+        return std::thread::scope(|sc| {
+            let plan = segments::Plan::start(sc, bytes, file, k, &flags);
+            walk(bytes, file, progress, plan)
+        });
+    }
+    walk(bytes, file, progress, segments::Plan::none())
+}
+
+/// The body of [`parse_file_with`]: the datasets in file order, taking a
+/// run of datasets 58 parsed ahead on another thread from `plan` where the
+/// walk arrives exactly at its start (see `segments.rs`).
+fn walk(
+    bytes: &[u8],
+    file: &str,
+    progress: &mut dyn FnMut(usize),
+    mut plan: segments::Plan,
+) -> Result<Parsed> {
     let mut c = Cursor::new(bytes);
     let mut told = 0usize;
     let mut out = Vec::new();
@@ -114,72 +147,37 @@ pub(super) fn parse_file_with(
     let mut mode_lines: Vec<usize> = Vec::new();
     let mut last_end: Option<usize> = None;
     let mut any_text = false;
-    while let Some(l) = c.next_line() {
+    loop {
+        if let Some(seg) = plan.take_at(c.pos, c.line) {
+            // the same datasets, remarks and place as parsing them here
+            for mut ds in seg.datasets {
+                if let Some(sys) = units.last() {
+                    if apply_to_58(file, &mut ds, sys)? {
+                        if let Some(v) = converted.last_mut() {
+                            v.push(ds.line);
+                        }
+                    }
+                }
+                out.push(ds);
+            }
+            remarks.extend(seg.remarks);
+            last_end = seg.last_end;
+            any_text = true;
+            c.pos = seg.end;
+            c.line = seg.end_line;
+        }
         if c.pos >= told + PROGRESS_STEP {
             told = c.pos;
             progress(told);
         }
-        if l.bytes.iter().all(|b| b.is_ascii_whitespace()) {
-            continue;
-        }
-        any_text = true;
-        if l.trimmed() != "-1" {
-            let msg = match last_end {
-                None => format!(
-                    "not a UFF file: expected the start tag '    -1' on the first non-blank line, found '{}'",
-                    preview(l.bytes)
-                ),
-                Some(e) => format!(
-                    "expected the start tag '    -1' of a new dataset after the dataset that ended at line {e}, found '{}'",
-                    preview(l.bytes)
-                ),
-            };
-            return Err(perr(file, l.no, "dataset start tag", msg));
-        }
-        let mut start = l.no;
-        let mut next = c.next_line();
-        // a lone tag (an empty dataset, as pyuff 2.5.8 leaves when it writes
-        // 58b in 'overwrite' mode): the next '-1' starts the dataset
-        while let Some(h) = &next {
-            if h.trimmed() != "-1" {
-                break;
-            }
-            remarks.push(format!(
-                "{file}: line {start}: a lone tag '    -1' (an empty dataset) skipped"
-            ));
-            start = h.no;
-            next = c.next_line();
-        }
-        let Some(h) = next else {
-            return Err(perr(
-                file,
-                start + 1,
-                "dataset number",
-                format!("the file ends after the start tag at line {start}; expected a dataset number such as '    58'"),
-            ));
-        };
-        let ht = h.text();
-        let num_s = col(&ht, 0, 6);
-        let (num, binary) = match parse_int(num_s.trim()) {
-            Some(n) => (n, matches!(ht.chars().nth(6), Some('b') | Some('B'))),
-            None => {
-                let tok = ht.split_whitespace().next().unwrap_or("");
-                let b = tok.ends_with(['b', 'B']);
-                match parse_int(tok.trim_end_matches(['b', 'B'])) {
-                    Some(n) => (n, b),
-                    None => {
-                        return Err(perr(
-                            file,
-                            h.no,
-                            "dataset number",
-                            format!(
-                                "expected a dataset number (an integer in columns 1-6, such as '    58'), found '{}'",
-                                preview(h.bytes)
-                            ),
-                        ))
-                    }
-                }
-            }
+        let Some(Head {
+            start,
+            line: h,
+            num,
+            binary,
+        }) = next_head(&mut c, file, last_end, &mut remarks, &mut any_text)?
+        else {
+            break;
         };
         if num != 58 {
             // collect the lines up to the end tag
@@ -312,6 +310,99 @@ pub(super) fn parse_file_with(
         geometry,
         modes,
     })
+}
+
+/// Where a dataset starts: its start tag's line, its number line, the
+/// number and whether it is binary (58b).
+pub(super) struct Head<'a> {
+    pub(super) start: usize,
+    pub(super) line: Line<'a>,
+    pub(super) num: i64,
+    pub(super) binary: bool,
+}
+
+/// The next dataset's head: blank lines skipped (`any_text` set once a line
+/// is not blank), the start tag `-1`, lone tags (an empty dataset, as pyuff
+/// 2.5.8 leaves when it writes 58b in 'overwrite' mode) skipped with a
+/// remark, the dataset number. `None` at the end of the file; `last_end`
+/// (the line where the previous dataset ended) places a missing start tag.
+pub(super) fn next_head<'a>(
+    c: &mut Cursor<'a>,
+    file: &str,
+    last_end: Option<usize>,
+    remarks: &mut Vec<String>,
+    any_text: &mut bool,
+) -> Result<Option<Head<'a>>> {
+    let l = loop {
+        match c.next_line() {
+            None => return Ok(None),
+            Some(l) if l.bytes.iter().all(|b| b.is_ascii_whitespace()) => continue,
+            Some(l) => break l,
+        }
+    };
+    *any_text = true;
+    if l.trimmed() != "-1" {
+        let msg = match last_end {
+            None => format!(
+                "not a UFF file: expected the start tag '    -1' on the first non-blank line, found '{}'",
+                preview(l.bytes)
+            ),
+            Some(e) => format!(
+                "expected the start tag '    -1' of a new dataset after the dataset that ended at line {e}, found '{}'",
+                preview(l.bytes)
+            ),
+        };
+        return Err(perr(file, l.no, "dataset start tag", msg));
+    }
+    let mut start = l.no;
+    let mut next = c.next_line();
+    while let Some(h) = &next {
+        if h.trimmed() != "-1" {
+            break;
+        }
+        remarks.push(format!(
+            "{file}: line {start}: a lone tag '    -1' (an empty dataset) skipped"
+        ));
+        start = h.no;
+        next = c.next_line();
+    }
+    let Some(h) = next else {
+        return Err(perr(
+            file,
+            start + 1,
+            "dataset number",
+            format!("the file ends after the start tag at line {start}; expected a dataset number such as '    58'"),
+        ));
+    };
+    let ht = h.text();
+    let num_s = col(&ht, 0, 6);
+    let (num, binary) = match parse_int(num_s.trim()) {
+        Some(n) => (n, matches!(ht.chars().nth(6), Some('b') | Some('B'))),
+        None => {
+            let tok = ht.split_whitespace().next().unwrap_or("");
+            let b = tok.ends_with(['b', 'B']);
+            match parse_int(tok.trim_end_matches(['b', 'B'])) {
+                Some(n) => (n, b),
+                None => {
+                    return Err(perr(
+                        file,
+                        h.no,
+                        "dataset number",
+                        format!(
+                            "expected a dataset number (an integer in columns 1-6, such as '    58'), found '{}'",
+                            preview(h.bytes)
+                        ),
+                    ))
+                }
+            }
+        }
+    };
+    Ok(Some(Head {
+        start,
+        line: h,
+        num,
+        binary,
+    }))
 }
 
 /// The datasets besides 58 that mortise reads.

@@ -70,7 +70,7 @@ impl<'a> Cursor<'a> {
 /// a byte is zero exactly when ((t & 0x7f..7f) + 0x7f..7f | t) has its high
 /// bit clear (no carry between bytes; from memory, the exact form of the
 /// "word has a zero byte" trick), so each word's LFs are 8 − popcount.
-fn count_lf(b: &[u8]) -> usize {
+pub(super) fn count_lf(b: &[u8]) -> usize {
     const LO: u64 = 0x0101_0101_0101_0101;
     const HI: u64 = 0x8080_8080_8080_8080;
     const SEVEN: u64 = 0x7f7f_7f7f_7f7f_7f7f;
