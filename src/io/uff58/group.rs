@@ -1296,7 +1296,10 @@ fn build_set(
         g.in_qty,
     );
     s.freqs = g.freqs.clone();
-    s.data = vec![Complex64::new(f64::NAN, f64::NAN); n_lines * n_out * n_in];
+    // NaN where no dataset gives an entry; in huge pages when large
+    s.data = crate::mem::large_vec(n_lines * n_out * n_in);
+    s.data
+        .resize(n_lines * n_out * n_in, Complex64::new(f64::NAN, f64::NAN));
     s.present = vec![false; n_out * n_in];
     if let Role::Spectrum(k) = g.role {
         s.signal = Some(k);
