@@ -149,14 +149,19 @@ pub fn couple_requested_with_threads(
     let refs: Vec<&FrfSet> = components.iter().collect();
     let cut = cut(&refs, joints, req);
     let parts: &[FrfSet] = cut.as_deref().unwrap_or(components);
-    let mut a = couple_with_threads(parts, joints, opts, threads)?;
+    let a = couple_with_threads(parts, joints, opts, threads)?;
+    Ok(picked(a, req, whole))
+}
+
+/// What was solved, and the request picked from it.
+fn picked(mut a: Assembled, req: &Request, whole: (usize, usize)) -> Demanded {
     let solved = (a.set.n_out(), a.set.n_in());
     a.set = req.pick(&a.set);
-    Ok(Demanded {
+    Demanded {
         assembled: a,
         solved,
         whole,
-    })
+    }
 }
 
 /// The requested rows and columns of `assembly` without `removed` (the
@@ -171,17 +176,11 @@ pub fn decouple_requested(
     req: &Request,
 ) -> Result<Demanded> {
     let whole = (assembly.n_out(), assembly.n_in());
-    let mut a = match cut(&[assembly, removed], joints, req) {
+    let a = match cut(&[assembly, removed], joints, req) {
         Some(c) => decouple_with_threads(&c[0], &c[1], joints, opts, default_threads())?,
         None => decouple_with_threads(assembly, removed, joints, opts, default_threads())?,
     };
-    let solved = (a.set.n_out(), a.set.n_in());
-    a.set = req.pick(&a.set);
-    Ok(Demanded {
-        assembled: a,
-        solved,
-        whole,
-    })
+    Ok(picked(a, req, whole))
 }
 
 /// The requested rows and columns of the cascade `second · first`: entry
