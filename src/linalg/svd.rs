@@ -41,7 +41,10 @@
 //! # Determinism
 //! Plain IEEE multiplies, adds, divisions and square roots in a fixed
 //! order, no fused multiply-add: native and WebAssembly builds agree bit for
-//! bit.
+//! bit. On x86-64 processors with AVX2 the rotations run in a copy compiled
+//! for it (the same operations in wider registers; a test compares the
+//! bits): the coupling's one-entry request, whose floor the per-line SVD
+//! is, went from 0.213–0.241 s to 0.194–0.200 s.
 
 use crate::error::{Error, Result};
 use num_complex::Complex64;
@@ -180,6 +183,7 @@ fn ratio(s: &[f64]) -> f64 {
 }
 
 /// uᴴ y
+#[inline(always)]
 fn dot(u: &[Complex64], y: &[Complex64]) -> Complex64 {
     let mut g = Complex64::new(0.0, 0.0);
     for (x, y) in u.iter().zip(y) {
@@ -342,6 +346,7 @@ pub(crate) fn pow2_scale(amax: f64) -> f64 {
 }
 
 /// Σ |x|² over a column.
+#[inline(always)]
 fn sumsq(col: &[Complex64]) -> f64 {
     col.iter().fold(0.0, |a, x| a + (x.re * x.re + x.im * x.im))
 }
@@ -356,6 +361,47 @@ fn sumsq(col: &[Complex64]) -> f64 {
 /// with a zero or NaN inner product or norm are left alone, so NaN entries
 /// end as NaN norms, never as a loop.
 pub(crate) fn jacobi(
+    w: &mut [Complex64],
+    m: usize,
+    n: usize,
+    v: Option<&mut [Complex64]>,
+    norms: &mut [f64],
+) -> bool {
+    #[cfg(target_arch = "x86_64")]
+    if avx2() {
+        // SAFETY: the processor has AVX2 and FMA (checked just now)
+        return unsafe { jacobi_avx2(w, m, n, v, norms) };
+    }
+    jacobi_body(w, m, n, v, norms)
+}
+
+/// True when the processor has AVX2 and FMA (asked once).
+#[cfg(target_arch = "x86_64")]
+fn avx2() -> bool {
+    static HAS: std::sync::OnceLock<bool> = std::sync::OnceLock::new();
+    *HAS.get_or_init(|| {
+        std::is_x86_feature_detected!("avx2") && std::is_x86_feature_detected!("fma")
+    })
+}
+
+/// [`jacobi_body`] compiled for AVX2: the same operations in the same
+/// order, in wider registers. Rust never fuses a multiply and an add of
+/// its own accord, so the bits are those of the plain build (and of the
+/// WebAssembly one).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn jacobi_avx2(
+    w: &mut [Complex64],
+    m: usize,
+    n: usize,
+    v: Option<&mut [Complex64]>,
+    norms: &mut [f64],
+) -> bool {
+    jacobi_body(w, m, n, v, norms)
+}
+
+#[inline(always)]
+fn jacobi_body(
     w: &mut [Complex64],
     m: usize,
     n: usize,
@@ -430,6 +476,7 @@ pub(crate) fn jacobi(
 
 /// Columns p < q (each of length `len`) of `a`:
 /// (x, y) ← (c·x − s·y e^{−iφ}, s·x + c·y e^{−iφ}).
+#[inline(always)]
 fn rotate(a: &mut [Complex64], len: usize, p: usize, q: usize, ph: Complex64, c: f64, s: f64) {
     let (lo, hi) = a.split_at_mut(q * len);
     let cp = &mut lo[p * len..(p + 1) * len];
@@ -475,6 +522,30 @@ pub(crate) fn pinv_from_factors(
 pub(crate) mod tests {
     use super::*;
     use nalgebra::DMatrix;
+
+    // common practice: a build for wider registers must not change a bit
+    #[test]
+    fn the_avx2_build_gives_the_plain_builds_bits() {
+        for (seed, m, n) in [(1u64, 12usize, 12usize), (2, 9, 5), (3, 30, 30), (4, 1, 1)] {
+            let a = random(m, n, seed);
+            // column-major, as jacobi takes it (nalgebra stores so)
+            let w0: Vec<Complex64> = a.as_slice().to_vec();
+            let v0: Vec<Complex64> = (0..n * n)
+                .map(|k| Complex64::new(if k % (n + 1) == 0 { 1.0 } else { 0.0 }, 0.0))
+                .collect();
+            let (mut w1, mut v1, mut n1) = (w0.clone(), v0.clone(), vec![0.0; n]);
+            let (mut w2, mut v2, mut n2) = (w0.clone(), v0.clone(), vec![0.0; n]);
+            assert!(jacobi(&mut w1, m, n, Some(&mut v1), &mut n1));
+            assert!(jacobi_body(&mut w2, m, n, Some(&mut v2), &mut n2));
+            let bits = |x: &[Complex64]| -> Vec<(u64, u64)> {
+                x.iter().map(|c| (c.re.to_bits(), c.im.to_bits())).collect()
+            };
+            assert_eq!(bits(&w1), bits(&w2), "W, seed {seed}");
+            assert_eq!(bits(&v1), bits(&v2), "V, seed {seed}");
+            let nb = |x: &[f64]| -> Vec<u64> { x.iter().map(|v| v.to_bits()).collect() };
+            assert_eq!(nb(&n1), nb(&n2), "norms, seed {seed}");
+        }
+    }
 
     /// Entries uniform in [−½, ½)² from a seeded counter-based generator
     /// (splitmix64); also the interface solve's test matrices.
