@@ -159,7 +159,7 @@ pub(crate) fn path() -> Path {
         if std::is_x86_feature_detected!("avx512f") {
             return Path::Avx512;
         }
-        if std::is_x86_feature_detected!("avx2") && std::is_x86_feature_detected!("fma") {
+        if crate::linalg::avx2_fma() {
             return Path::Avx2;
         }
     }
@@ -225,7 +225,7 @@ mod tests {
             let mut paths = vec![Path::Generic];
             #[cfg(target_arch = "x86_64")]
             {
-                if std::is_x86_feature_detected!("avx2") && std::is_x86_feature_detected!("fma") {
+                if crate::linalg::avx2_fma() {
                     paths.push(Path::Avx2);
                 }
                 if std::is_x86_feature_detected!("avx512f") {

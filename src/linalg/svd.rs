@@ -368,20 +368,11 @@ pub(crate) fn jacobi(
     norms: &mut [f64],
 ) -> bool {
     #[cfg(target_arch = "x86_64")]
-    if avx2() {
+    if super::avx2_fma() {
         // SAFETY: the processor has AVX2 and FMA (checked just now)
         return unsafe { jacobi_avx2(w, m, n, v, norms) };
     }
     jacobi_body(w, m, n, v, norms)
-}
-
-/// True when the processor has AVX2 and FMA (asked once).
-#[cfg(target_arch = "x86_64")]
-fn avx2() -> bool {
-    static HAS: std::sync::OnceLock<bool> = std::sync::OnceLock::new();
-    *HAS.get_or_init(|| {
-        std::is_x86_feature_detected!("avx2") && std::is_x86_feature_detected!("fma")
-    })
 }
 
 /// [`jacobi_body`] compiled for AVX2: the same operations in the same
