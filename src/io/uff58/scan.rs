@@ -150,15 +150,8 @@ fn walk(
     loop {
         if let Some(seg) = plan.take_at(c.pos, c.line) {
             // the same datasets, remarks and place as parsing them here
-            for mut ds in seg.datasets {
-                if let Some(sys) = units.last() {
-                    if apply_to_58(file, &mut ds, sys)? {
-                        if let Some(v) = converted.last_mut() {
-                            v.push(ds.line);
-                        }
-                    }
-                }
-                out.push(ds);
+            for ds in seg.datasets {
+                keep_58(file, ds, &units, &mut converted, &mut out)?;
             }
             remarks.extend(seg.remarks);
             last_end = seg.last_end;
@@ -259,16 +252,9 @@ fn walk(
             remarks.push(format!("{file}: line {start}: dataset {num}: {what}"));
             continue;
         }
-        let mut ds = parse_58(&mut c, file, start, &h, binary, &mut remarks)?;
+        let ds = parse_58(&mut c, file, start, &h, binary, &mut remarks)?;
         last_end = Some(c.line.saturating_sub(1));
-        if let Some(sys) = units.last() {
-            if apply_to_58(file, &mut ds, sys)? {
-                if let Some(v) = converted.last_mut() {
-                    v.push(ds.line);
-                }
-            }
-        }
-        out.push(ds);
+        keep_58(file, ds, &units, &mut converted, &mut out)?;
     }
     if !mode_lines.is_empty() {
         let shown: Vec<String> = mode_lines.iter().take(5).map(|l| l.to_string()).collect();
@@ -310,6 +296,27 @@ fn walk(
         geometry,
         modes,
     })
+}
+
+/// A parsed dataset 58 into `out`, converted by the units of the last
+/// dataset 164 before it if there is one (its line then noted in
+/// `converted`, one list per dataset 164).
+fn keep_58(
+    file: &str,
+    mut ds: Dataset58,
+    units: &[UnitSystem],
+    converted: &mut [Vec<usize>],
+    out: &mut Vec<Dataset58>,
+) -> Result<()> {
+    if let Some(sys) = units.last() {
+        if apply_to_58(file, &mut ds, sys)? {
+            if let Some(v) = converted.last_mut() {
+                v.push(ds.line);
+            }
+        }
+    }
+    out.push(ds);
+    Ok(())
 }
 
 /// Where a dataset starts: its start tag's line, its number line, the
