@@ -114,11 +114,9 @@ pub(super) fn parse_in(
     k: usize,
 ) -> Result<Parsed> {
     if k > 1 {
-        let flags: Vec<std::sync::atomic::AtomicBool> = (0..k)
-            .map(|_| std::sync::atomic::AtomicBool::new(false))
-            .collect();
+        let signals = segments::Signal::many(k);
         return std::thread::scope(|sc| {
-            let plan = segments::Plan::start(sc, bytes, file, k, &flags);
+            let plan = segments::Plan::start(sc, bytes, file, k, &signals);
             walk(bytes, file, progress, plan)
         });
     }

@@ -17,10 +17,10 @@
 //! cursor and nothing else, so the taken datasets are the ones the walk
 //! would have parsed (the units of a dataset 164 before them are applied
 //! when they are taken, as to the walk's own). A guess that was not a
-//! dataset start (bytes in a 58b payload that look like tags), or a line
-//! count that differs (a lone CR ends a text line, and is not counted here)
-//! is never arrived at: the walk parses through it itself, and that
-//! segment's work is thrown away.
+//! dataset start (bytes in a 58b payload that look like tags) is never
+//! arrived at, and a line count that differs (a lone CR ends a text line,
+//! and is not counted here) does not match: the walk tells that segment's
+//! thread to stop, without waiting for it, and parses the part itself.
 //!
 //! Natively only (the page's WebAssembly has one thread), for files of at
 //! least [`MIN_SEGMENT`] bytes per thread, and only where the guessed start
@@ -29,7 +29,7 @@
 use super::records::Dataset58;
 use super::scan::{next_head, Head};
 use super::text::{count_lf, Cursor};
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::thread::{Scope, ScopedJoinHandle};
 
 /// Bytes per thread below which a file is parsed on one thread (the
@@ -65,12 +65,27 @@ pub(super) struct Segment {
     pub(super) last_end: Option<usize>,
 }
 
+/// Between the walk and one segment's thread: the walk tells it to stop;
+/// it tells the walk the line number it assumed (0 until counted), so that
+/// a segment the walk cannot take is stopped, not waited for.
+#[derive(Default)]
+pub(super) struct Signal {
+    stop: AtomicBool,
+    line: AtomicUsize,
+}
+
+impl Signal {
+    /// One signal per segment of a parse in `k`.
+    pub(super) fn many(k: usize) -> Vec<Signal> {
+        (0..k).map(|_| Signal::default()).collect()
+    }
+}
+
 /// The segments being parsed, in file order.
 pub(super) struct Plan<'scope> {
-    /// each segment's start, its stop flag and its thread
-    pending:
-        std::collections::VecDeque<(usize, &'scope AtomicBool, ScopedJoinHandle<'scope, Segment>)>,
-    flags: &'scope [AtomicBool],
+    /// each segment's start, its signal and its thread
+    pending: std::collections::VecDeque<(usize, &'scope Signal, ScopedJoinHandle<'scope, Segment>)>,
+    signals: &'scope [Signal],
 }
 
 impl<'scope> Plan<'scope> {
@@ -78,18 +93,18 @@ impl<'scope> Plan<'scope> {
     pub(super) fn none() -> Plan<'scope> {
         Plan {
             pending: Default::default(),
-            flags: &[],
+            signals: &[],
         }
     }
 
-    /// Guess k − 1 dataset starts in `bytes` and start a thread on each;
-    /// `flags` (one per segment) tell a thread to stop.
+    /// Guess k − 1 dataset starts in `bytes` and start a thread on each,
+    /// with one of `signals` ([`Signal::many`]).
     pub(super) fn start<'env>(
         sc: &'scope Scope<'scope, 'env>,
         bytes: &'env [u8],
         file: &'env str,
         k: usize,
-        flags: &'env [AtomicBool],
+        signals: &'env [Signal],
     ) -> Plan<'scope> {
         let mut starts: Vec<usize> = Vec::with_capacity(k);
         for i in 1..k {
@@ -106,24 +121,26 @@ impl<'scope> Plan<'scope> {
         let mut pending = std::collections::VecDeque::new();
         for (i, &s) in starts.iter().enumerate() {
             let stop = starts.get(i + 1).copied().unwrap_or(usize::MAX);
-            let Some(flag) = flags.get(i) else { break };
-            let h = sc.spawn(move || parse_from(bytes, file, s, stop, flag));
-            pending.push_back((s, flag, h));
+            let Some(sig) = signals.get(i) else { break };
+            let h = sc.spawn(move || parse_from(bytes, file, s, stop, sig));
+            pending.push_back((s, sig, h));
         }
-        Plan { pending, flags }
+        Plan { pending, signals }
     }
 
     /// The segment that starts exactly at byte `pos` on line `line`, when
     /// one was parsed from there and holds datasets. Segments starting
-    /// before `pos` are told to stop and dropped (the walk passed them).
+    /// before `pos` (the walk passed them), or at `pos` on another line, are
+    /// told to stop and dropped.
     pub(super) fn take_at(&mut self, pos: usize, line: usize) -> Option<Segment> {
         loop {
-            let &(s, flag, _) = self.pending.front()?;
+            let &(s, sig, _) = self.pending.front()?;
             if s > pos {
                 return None;
             }
-            if s < pos {
-                flag.store(true, Ordering::Relaxed);
+            let assumed = sig.line.load(Ordering::Acquire);
+            if s < pos || (assumed != 0 && assumed != line) {
+                sig.stop.store(true, Ordering::Relaxed);
                 self.pending.pop_front();
                 continue;
             }
@@ -144,8 +161,8 @@ impl<'scope> Plan<'scope> {
 impl Drop for Plan<'_> {
     /// The walk ended (done or an error): threads still parsing stop.
     fn drop(&mut self) {
-        for f in self.flags {
-            f.store(true, Ordering::Relaxed);
+        for sig in self.signals {
+            sig.stop.store(true, Ordering::Relaxed);
         }
     }
 }
@@ -177,9 +194,10 @@ fn guess_start(bytes: &[u8], from: usize) -> Option<(usize, bool)> {
 
 /// Parse datasets 58 from byte `start` (assumed line 1 + the line feeds
 /// before it) until the cursor reaches `stop`, another dataset, an error,
-/// or `flag` is set.
-fn parse_from(bytes: &[u8], file: &str, start: usize, stop: usize, flag: &AtomicBool) -> Segment {
+/// or `sig` says stop. The line number assumed is told through `sig` first.
+fn parse_from(bytes: &[u8], file: &str, start: usize, stop: usize, sig: &Signal) -> Segment {
     let start_line = 1 + count_lf(&bytes[..start.min(bytes.len())]);
+    sig.line.store(start_line, Ordering::Release);
     let mut c = Cursor {
         b: bytes,
         pos: start,
@@ -195,7 +213,7 @@ fn parse_from(bytes: &[u8], file: &str, start: usize, stop: usize, flag: &Atomic
         last_end: None,
     };
     let mut any_text = false;
-    while c.pos < stop && !flag.load(Ordering::Relaxed) {
+    while c.pos < stop && !sig.stop.load(Ordering::Relaxed) {
         let mut remarks = Vec::new();
         let Ok(Some(Head {
             start: ds_start,
@@ -292,8 +310,7 @@ mod tests {
     fn middle_segment_matches(bytes: &[u8]) {
         let all = parse_in(bytes, "f.uff", &mut |_| {}, 1).unwrap().datasets;
         let (s, _) = guess_start(bytes, bytes.len() / 2).unwrap();
-        let flag = AtomicBool::new(false);
-        let seg = parse_from(bytes, "f.uff", s, usize::MAX, &flag);
+        let seg = parse_from(bytes, "f.uff", s, usize::MAX, &Signal::default());
         assert!(!seg.datasets.is_empty());
         let first = all
             .iter()
@@ -313,6 +330,17 @@ mod tests {
             .replace('\n', "\r\n")
             .into_bytes();
         assert!(bin.contains(&b'\r') && bin.contains(&b'\n'));
+        // lone CRs end the lines of the first third: the line a segment
+        // assumes (1 + the LFs before it) is not the walk's, and the segment
+        // is stopped and parsed again by the walk
+        let mut mixed = ascii.clone();
+        let third = mixed.len() / 3;
+        for b in &mut mixed[..third] {
+            if *b == b'\n' {
+                *b = b'\r';
+            }
+        }
+        assert_eq!(same_on_threads(&mixed), Ok(12));
         for (f, text) in [(&ascii, true), (&bin, false), (&crlf, true)] {
             let before = TAKEN.load(Ordering::Relaxed);
             assert_eq!(same_on_threads(f), Ok(12));
