@@ -3,22 +3,22 @@
 //!
 //! Entry (r, c) of Y_c = Y − Y B_fᵀ Z⁻¹ B_u Y (Z = B_u Y B_fᵀ + Γ) reads row
 //! r and column c of the block-diagonal Y and the interface rows and
-//! columns Z is made of, and nothing else. So each component cut to the
-//! requested DOFs plus its interface DOFs, coupled as usual, gives the
-//! requested entries through the same interface solve and the same sums
-//! over the interface (the products run entry by entry): the values equal
-//! the full coupling's bit for bit (tests/couple_lmfbs.rs runs both). The
-//! work falls from rows × columns of the whole assembly to (requested +
-//! interface)², per line.
+//! columns Z is made of, and nothing else. So the coupling is prepared and
+//! checked on the whole components, every line's interface solve is the
+//! whole coupling's, and only the requested rows of Y B_fᵀ and columns of
+//! B_u Y enter the update (the components' picked rows and columns,
+//! [`super::lmfbs::couple_picked`]). The sums over the interface run entry
+//! by entry, so the values equal the whole coupling's bit for bit
+//! (tests/couple_lmfbs.rs runs both). The work per line falls from the
+//! solve plus rows × columns × interface of the whole assembly to the
+//! solve plus requested rows × columns × interface.
 //!
-//! When a cut would leave a component with no output or no input (a part
-//! that is neither joined nor asked for), the coupling is made whole and
-//! the request selected from it.
+//! When nothing is requested of the rows or of the columns (no label of
+//! the request is in the coupling), the coupling is made whole and the
+//! request picked from it (the reader then refuses the missing label).
 
-use super::{
-    cascade, couple_with_threads, decouple_with_threads, default_threads, Assembled,
-    CouplingOptions, Joint,
-};
+use super::lmfbs::{couple_picked, decouple_picked};
+use super::{cascade, default_threads, Assembled, CouplingOptions, Joint};
 use crate::error::Result;
 use crate::frf::{Dof, FrfSet};
 
@@ -86,39 +86,27 @@ pub struct Demanded {
     pub whole: (usize, usize),
 }
 
-/// Each component cut to the requested DOFs and its joints' DOFs (by
-/// place); None when a cut would leave a component with no output or no
-/// input (the whole is then computed).
-fn cut(components: &[&FrfSet], joints: &[Joint], req: &Request) -> Option<Vec<FrfSet>> {
-    let at_joint = |d: &Dof| {
-        joints
-            .iter()
-            .any(|j| j.a.same_place(d) || j.b.same_place(d))
+/// Per component, the indices of its outputs and inputs at a requested
+/// place (all where the request names none); None when nothing at all is
+/// requested of the rows or of the columns (the whole is then computed,
+/// and the request's labels left out by [`Request::pick`]).
+fn picks(components: &[&FrfSet], req: &Request) -> Option<Vec<(Vec<usize>, Vec<usize>)>> {
+    let at = |all: &[Dof], asked: &Option<Vec<Dof>>| -> Vec<usize> {
+        (0..all.len())
+            .filter(|&i| {
+                asked
+                    .as_ref()
+                    .map_or(true, |a| a.iter().any(|x| x.same_place(&all[i])))
+            })
+            .collect()
     };
-    let keep = |d: &Dof, asked: &Option<Vec<Dof>>| {
-        at_joint(d)
-            || asked
-                .as_ref()
-                .map_or(true, |a| a.iter().any(|x| x.same_place(d)))
-    };
-    let mut out = Vec::with_capacity(components.len());
-    for c in components {
-        let outs: Vec<usize> = (0..c.n_out())
-            .filter(|&i| keep(&c.outputs[i], &req.outputs))
-            .collect();
-        let ins: Vec<usize> = (0..c.n_in())
-            .filter(|&j| keep(&c.inputs[j], &req.inputs))
-            .collect();
-        if outs.is_empty() || ins.is_empty() {
-            return None;
-        }
-        out.push(if outs.len() == c.n_out() && ins.len() == c.n_in() {
-            (*c).clone()
-        } else {
-            c.select(&outs, &ins)
-        });
-    }
-    Some(out)
+    let out: Vec<(Vec<usize>, Vec<usize>)> = components
+        .iter()
+        .map(|c| (at(&c.outputs, &req.outputs), at(&c.inputs, &req.inputs)))
+        .collect();
+    let rows: usize = out.iter().map(|(r, _)| r.len()).sum();
+    let cols: usize = out.iter().map(|(_, c)| c.len()).sum();
+    (rows > 0 && cols > 0).then_some(out)
 }
 
 /// The requested rows and columns of the coupling of `components` (see the
@@ -147,9 +135,8 @@ pub fn couple_requested_with_threads(
         components.iter().map(FrfSet::n_in).sum(),
     );
     let refs: Vec<&FrfSet> = components.iter().collect();
-    let cut = cut(&refs, joints, req);
-    let parts: &[FrfSet] = cut.as_deref().unwrap_or(components);
-    let a = couple_with_threads(parts, joints, opts, threads)?;
+    let picks = picks(&refs, req);
+    let a = couple_picked(components, joints, opts, threads, picks.as_deref())?;
     Ok(picked(a, req, whole))
 }
 
@@ -176,10 +163,19 @@ pub fn decouple_requested(
     req: &Request,
 ) -> Result<Demanded> {
     let whole = (assembly.n_out(), assembly.n_in());
-    let a = match cut(&[assembly, removed], joints, req) {
-        Some(c) => decouple_with_threads(&c[0], &c[1], joints, opts, default_threads())?,
-        None => decouple_with_threads(assembly, removed, joints, opts, default_threads())?,
-    };
+    // the removed part's rows and columns are not in the result
+    let picks = picks(&[assembly], req).map(|mut p| {
+        p.push((Vec::new(), Vec::new()));
+        p
+    });
+    let a = decouple_picked(
+        assembly,
+        removed,
+        joints,
+        opts,
+        default_threads(),
+        picks.as_deref(),
+    )?;
     Ok(picked(a, req, whole))
 }
 

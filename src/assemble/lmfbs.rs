@@ -16,6 +16,7 @@ use super::{
 };
 use crate::error::{Error, Result};
 use crate::frf::{labels, Dof, FrfKind, FrfSet};
+use crate::linalg::jacobi_lanes::LANES;
 use crate::units::Quantity;
 use num_complex::Complex64;
 use std::borrow::Cow;
@@ -60,6 +61,23 @@ pub fn couple_with_threads(
     opts: &CouplingOptions,
     threads: usize,
 ) -> Result<Assembled> {
+    couple_picked(components, joints, opts, threads, None)
+}
+
+/// Which rows and columns of each component form a result: per component,
+/// its output and input indices in order (`None`: all of them).
+pub(crate) type Picks<'p> = Option<&'p [(Vec<usize>, Vec<usize>)]>;
+
+/// [`couple_with_threads`] keeping only the rows and columns `picks` names
+/// of each component (the demand-driven coupling of [`super::demand`]):
+/// each kept entry is computed exactly as in the whole coupling.
+pub(crate) fn couple_picked(
+    components: &[FrfSet],
+    joints: &[Joint],
+    opts: &CouplingOptions,
+    threads: usize,
+    picks: Picks,
+) -> Result<Assembled> {
     if components.is_empty() {
         return Err(Error::usage("coupling needs at least one component"));
     }
@@ -76,6 +94,7 @@ pub fn couple_with_threads(
         opts,
         threads,
         &result_parts,
+        picks,
         &name,
         "coupling",
     )
@@ -109,6 +128,19 @@ pub fn decouple_with_threads(
     opts: &CouplingOptions,
     threads: usize,
 ) -> Result<Assembled> {
+    decouple_picked(assembly, removed, joints, opts, threads, None)
+}
+
+/// [`decouple_with_threads`] keeping only the rows and columns of the
+/// assembly that `picks` names (its first entry; see [`couple_picked`]).
+pub(crate) fn decouple_picked(
+    assembly: &FrfSet,
+    removed: &FrfSet,
+    joints: &[Joint],
+    opts: &CouplingOptions,
+    threads: usize,
+    picks: Picks,
+) -> Result<Assembled> {
     let name = format!("{} without {}", assembly.name, removed.name);
     let mut a = solve(
         &[assembly, removed],
@@ -118,6 +150,7 @@ pub fn decouple_with_threads(
         opts,
         threads,
         &[0],
+        picks,
         &name,
         "decoupling",
     )?;
@@ -155,7 +188,12 @@ pub(crate) struct Prepared<'a> {
     per_line: Option<super::PerLine>,
     /// parts whose rows and columns form the result
     pub(crate) res: Vec<usize>,
-    /// offsets of each result part's outputs (rows) and inputs (columns)
+    /// per part, the outputs (rows) and inputs (columns) in the result,
+    /// as ascending local indices (all of a result part's unless picked;
+    /// none of another part's)
+    pub(crate) rows: Vec<Vec<usize>>,
+    pub(crate) cols: Vec<Vec<usize>>,
+    /// offsets of each result part's rows and columns in the result
     pub(crate) row_off: Vec<usize>,
     pub(crate) col_off: Vec<usize>,
     pub(crate) n_rows: usize,
@@ -175,7 +213,9 @@ pub(crate) fn prepare_coupling<'a>(
     }
     let signs = vec![1.0; components.len()];
     let parts: Vec<usize> = (0..components.len()).collect();
-    prepare(components, &signs, joints, 1.0, opts, &parts, "coupling")
+    prepare(
+        components, &signs, joints, 1.0, opts, &parts, None, "coupling",
+    )
 }
 
 /// [`prepare`] for [`decouple`]: the removed part entered negatively.
@@ -192,14 +232,18 @@ pub(crate) fn prepare_decoupling<'a>(
         -1.0,
         opts,
         &[0],
+        None,
         "decoupling",
     )
 }
 
 /// Check and prepare a coupling or decoupling: every component in the first
 /// one's motion order, the joints as B entries, Γ per line, the result
-/// layout. Shared by [`solve`] and the uncertainty propagation
-/// ([`crate::uncertainty`]), so both read the one definition of B and Γ.
+/// layout (the rows and columns of `result_parts`, those `picks` names
+/// where given). Shared by [`solve`] and the uncertainty propagation
+/// ([`crate::uncertainty`], never picked), so both read the one definition
+/// of B and Γ.
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn prepare<'a>(
     components: &[&'a FrfSet],
     signs: &[f64],
@@ -207,6 +251,7 @@ pub(crate) fn prepare<'a>(
     gamma_sign: f64,
     opts: &CouplingOptions,
     result_parts: &[usize],
+    picks: Picks,
     what: &str,
 ) -> Result<Prepared<'a>> {
     let first = components[0];
@@ -316,14 +361,38 @@ pub(crate) fn prepare<'a>(
     }
 
     // Result layout.
+    let mut rows = vec![Vec::new(); components.len()];
+    let mut cols = vec![Vec::new(); components.len()];
     let mut row_off = vec![0; components.len()];
     let mut col_off = vec![0; components.len()];
     let (mut n_rows, mut n_cols) = (0, 0);
     for &p in result_parts {
+        let (r, c) = match picks.and_then(|pk| pk.get(p)) {
+            Some((r, c)) => {
+                let ascending = |v: &[usize], n: usize| {
+                    v.windows(2).all(|w| w[0] < w[1]) && v.last().map_or(true, |&x| x < n)
+                };
+                // ascending and inside the part: a pick of every column is then
+                // the part's columns in order (one_line's whole-row path)
+                if !ascending(r, sets[p].n_out()) || !ascending(c, sets[p].n_in()) {
+                    return Err(Error::internal(format!(
+                        "{what}: the picked rows and columns of '{}' must be ascending indices inside it",
+                        sets[p].name
+                    )));
+                }
+                (r.clone(), c.clone())
+            }
+            None => (
+                (0..sets[p].n_out()).collect(),
+                (0..sets[p].n_in()).collect(),
+            ),
+        };
         row_off[p] = n_rows;
         col_off[p] = n_cols;
-        n_rows += sets[p].n_out();
-        n_cols += sets[p].n_in();
+        n_rows += r.len();
+        n_cols += c.len();
+        rows[p] = r;
+        cols[p] = c;
     }
     let prep = Prepared {
         sets,
@@ -332,6 +401,8 @@ pub(crate) fn prepare<'a>(
         tsvd: opts.tsvd_rel_threshold,
         per_line: opts.per_line.clone(),
         res: result_parts.to_vec(),
+        rows,
+        cols,
         row_off,
         col_off,
         n_rows,
@@ -393,6 +464,7 @@ fn solve(
     opts: &CouplingOptions,
     threads: usize,
     result_parts: &[usize],
+    picks: Picks,
     name: &str,
     what: &str,
 ) -> Result<Assembled> {
@@ -403,6 +475,7 @@ fn solve(
         gamma_sign,
         opts,
         result_parts,
+        picks,
         what,
     )?;
     let first = components[0];
@@ -416,15 +489,17 @@ fn solve(
     let mut outputs: Vec<Dof> = Vec::with_capacity(n_rows);
     let mut inputs: Vec<Dof> = Vec::with_capacity(n_cols);
     for &p in result_parts {
-        outputs.extend(prep.sets[p].outputs.iter().cloned());
-        inputs.extend(prep.sets[p].inputs.iter().cloned());
+        let s = &prep.sets[p];
+        outputs.extend(prep.rows[p].iter().map(|&i| s.outputs[i].clone()));
+        inputs.extend(prep.cols[p].iter().map(|&j| s.inputs[j].clone()));
     }
     let mut present = vec![true; n_rows * n_cols];
     for &p in result_parts {
         let s = &prep.sets[p];
-        for i in 0..s.n_out() {
-            for j in 0..s.n_in() {
-                present[(prep.row_off[p] + i) * n_cols + prep.col_off[p] + j] = s.is_present(i, j);
+        for (ii, &i) in prep.rows[p].iter().enumerate() {
+            for (jj, &j) in prep.cols[p].iter().enumerate() {
+                present[(prep.row_off[p] + ii) * n_cols + prep.col_off[p] + jj] =
+                    s.is_present(i, j);
             }
         }
     }
@@ -633,10 +708,10 @@ fn check_needed_entries(p: &Prepared, what: &str) -> Result<()> {
                 }
             }
             if in_res[e.part] {
-                for j in 0..ni {
+                for &j in &p.cols[e.part] {
                     need[e.part][e.o * ni + j] = true;
                 }
-                for i in 0..s.n_out() {
+                for &i in &p.rows[e.part] {
                     need[e.part][i * ni + e.i] = true;
                 }
             }
@@ -675,8 +750,10 @@ struct Work {
     xi: Vec<f64>,
     /// Y B_fᵀ, n_rows × m
     p: Vec<Complex64>,
-    /// scratch of the interface solve
-    solve: interface_solve::SolveWork,
+    /// scratch of the interface solve, one per line of a group of
+    /// [`LANES`] lines factored together
+    solves: Vec<interface_solve::SolveWork>,
+    lanes: interface_solve::LaneWork,
     buf: Vec<f64>,
 }
 
@@ -695,7 +772,10 @@ impl Work {
                 Complex64::new(0.0, 0.0);
                 p.n_rows.div_ceil(kernel::ROW_PAD) * kernel::ROW_PAD * m
             ],
-            solve: interface_solve::SolveWork::new(m),
+            solves: (0..LANES)
+                .map(|_| interface_solve::SolveWork::new(m))
+                .collect(),
+            lanes: interface_solve::LaneWork::new(m),
             buf: vec![0.0; 8 * cp],
         }
     }
@@ -704,6 +784,10 @@ impl Work {
 /// How each line's interface matrix was inverted, in line order.
 type LineResults = Vec<Inverted>;
 
+/// The lines of `out` from line `k0` on, in groups of [`LANES`] whose
+/// interface matrices are factored together (the bits of one at a time,
+/// see [`crate::linalg::jacobi_lanes`]); the first failing line's error,
+/// as if the lines were computed one by one.
 fn run_chunk(
     p: &Prepared,
     k0: usize,
@@ -713,9 +797,30 @@ fn run_chunk(
     let size = p.n_rows * p.n_cols;
     let n = out.len().checked_div(size).unwrap_or(0);
     let mut done = Vec::with_capacity(n);
-    for (l, dst) in out.chunks_mut(size.max(1)).enumerate() {
-        prefetch_line(p, k0 + l + 1);
-        done.push(one_line(p, k0 + l, w, dst)?);
+    for (g, group) in out.chunks_mut((size * LANES).max(1)).enumerate() {
+        let kg = k0 + g * LANES;
+        let lines = group.len().checked_div(size).unwrap_or(0);
+        // the interface matrices, up to the first that fails
+        let mut failed = None;
+        let mut built = 0;
+        for l in 0..lines {
+            match interface_matrix(p, kg + l, &mut w.solves[l].z) {
+                Ok(()) => built += 1,
+                Err(e) => {
+                    failed = Some(e);
+                    break;
+                }
+            }
+        }
+        let want_v = (0..built).any(|l| p.rule(kg + l) != interface_solve::Rule::Plain);
+        let converged = interface_solve::factor_lanes(&mut w.solves[..built], want_v, &mut w.lanes);
+        for (l, dst) in group.chunks_mut(size.max(1)).take(built).enumerate() {
+            prefetch_line(p, kg + LANES + l);
+            done.push(one_line(p, kg + l, w, l, converged[l], dst)?);
+        }
+        if let Some(e) = failed {
+            return Err(e);
+        }
     }
     Ok(done)
 }
@@ -828,22 +933,11 @@ fn run_lines(
     run_chunk(p, 0, data, &mut Work::new(p))
 }
 
-/// One frequency line: fills `dst` (n_rows × n_cols) and returns how the
-/// interface matrix was inverted (condition number, dropped singular values).
-fn one_line(
-    p: &Prepared,
-    k: usize,
-    w: &mut Work,
-    dst: &mut [MaybeUninit<Complex64>],
-) -> Result<Inverted> {
+/// The interface matrix Z = B_u Y B_fᵀ + Γ of line `k`, row-major, into
+/// `z`; refused where it is not finite.
+fn interface_matrix(p: &Prepared, k: usize, z: &mut [Complex64]) -> Result<()> {
     let m = p.ends.len();
-    let nc = p.n_cols;
-    let cp = w.cp;
-    let line = |q: usize| p.sets[q].line(k);
-    let y = |q: usize, i: usize, j: usize| line(q)[i * p.sets[q].n_in() + j] * p.psign[q];
-
-    // Interface matrix Z = B_u Y B_fᵀ + Γ, row-major.
-    let z = &mut w.solve.z;
+    let y = |q: usize, i: usize, j: usize| p.sets[q].line(k)[i * p.sets[q].n_in() + j] * p.psign[q];
     for (r, er) in p.ends.iter().enumerate() {
         for (s, es) in p.ends.iter().enumerate() {
             let mut v = Complex64::new(0.0, 0.0);
@@ -858,12 +952,32 @@ fn one_line(
         }
         z[r * m + r] += p.gamma[k * m + r];
     }
-    let freq = p.sets[0].freqs[k];
     if z.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
+        let freq = p.sets[0].freqs[k];
         return Err(Error::numeric(format!(
             "the interface matrix at {freq} Hz has non-finite values; check the components' data there"
         )));
     }
+    Ok(())
+}
+
+/// One frequency line whose interface matrix is `w.solves[l]`'s, factored
+/// (`converged`: its Jacobi's outcome): fills `dst` (n_rows × n_cols) and
+/// returns how the interface matrix was inverted (condition number,
+/// dropped singular values).
+fn one_line(
+    p: &Prepared,
+    k: usize,
+    w: &mut Work,
+    l: usize,
+    converged: bool,
+    dst: &mut [MaybeUninit<Complex64>],
+) -> Result<Inverted> {
+    let m = p.ends.len();
+    let nc = p.n_cols;
+    let cp = w.cp;
+    let line = |q: usize| p.sets[q].line(k);
+    let freq = p.sets[0].freqs[k];
 
     // B_u Y restricted to the result columns (signed row selections).
     w.byr.fill(0.0);
@@ -877,9 +991,10 @@ fn one_line(
             let off = r * cp + p.col_off[e.part];
             let row = &line(e.part)[e.o * s.n_in()..(e.o + 1) * s.n_in()];
             let f = e.su * p.psign[e.part];
-            for (j, v) in row.iter().enumerate() {
-                w.byr[off + j] += v.re * f;
-                w.byi[off + j] += v.im * f;
+            for (jj, &j) in p.cols[e.part].iter().enumerate() {
+                let v = row[j];
+                w.byr[off + jj] += v.re * f;
+                w.byi[off + jj] += v.im * f;
             }
         }
     }
@@ -899,9 +1014,9 @@ fn one_line(
             .filter(|(_, g)| g.part == q)
             .map(|(s, g)| (s, g.i, g.sf * p.psign[q]))
             .collect();
-        for i in 0..set.n_out() {
+        for (ii, &i) in p.rows[q].iter().enumerate() {
             let src = &l[i * ni..(i + 1) * ni];
-            let dst = &mut w.p[(off + i) * m..(off + i + 1) * m];
+            let dst = &mut w.p[(off + ii) * m..(off + ii + 1) * m];
             for &(s, j, f) in &cols {
                 dst[s] += src[j] * f;
             }
@@ -910,9 +1025,10 @@ fn one_line(
 
     // X = Z⁻¹ (B_u Y), or Z⁺ (B_u Y) with the truncated SVD
     let inv = interface_solve::solve(
-        &mut w.solve,
+        &mut w.solves[l],
         p.rule(k),
         freq,
+        converged,
         interface_solve::Columns {
             br: &w.byr,
             bi: &w.byi,
@@ -938,28 +1054,44 @@ fn one_line(
         |i, re, im| {
             let row = &mut dst[i * nc..(i + 1) * nc];
             // the diagonal block of the part this row belongs to
-            let (co, src, sg): (usize, &[Complex64], f64) = match p
+            let (co, src, cols, sg): (usize, &[Complex64], &[usize], f64) = match p
                 .res
                 .iter()
-                .find(|&&q| i >= p.row_off[q] && i < p.row_off[q] + p.sets[q].n_out())
+                .find(|&&q| i >= p.row_off[q] && i < p.row_off[q] + p.rows[q].len())
             {
                 Some(&q) => {
                     let ni = p.sets[q].n_in();
-                    let li = i - p.row_off[q];
-                    (p.col_off[q], &line(q)[li * ni..(li + 1) * ni], p.psign[q])
+                    let li = p.rows[q][i - p.row_off[q]];
+                    (
+                        p.col_off[q],
+                        &line(q)[li * ni..(li + 1) * ni],
+                        &p.cols[q],
+                        p.psign[q],
+                    )
                 }
-                None => (0, &[], 1.0),
+                None => (0, &[], &[], 1.0),
             };
-            let end = co + src.len();
+            let end = co + cols.len();
             for j in (0..co).chain(end..nc) {
                 row[j].write(Complex64::new(-re[j], -im[j]));
             }
-            for ((d, y), (r, m)) in row[co..end]
-                .iter_mut()
-                .zip(src)
-                .zip(re[co..end].iter().zip(&im[co..end]))
-            {
-                d.write(Complex64::new(-r, -m) + y * sg);
+            if cols.len() == src.len() {
+                // every column of the part, in order (checked in `prepare`)
+                for ((d, y), (r, m)) in row[co..end]
+                    .iter_mut()
+                    .zip(src)
+                    .zip(re[co..end].iter().zip(&im[co..end]))
+                {
+                    d.write(Complex64::new(-r, -m) + y * sg);
+                }
+            } else {
+                for ((d, &j), (r, m)) in row[co..end]
+                    .iter_mut()
+                    .zip(cols)
+                    .zip(re[co..end].iter().zip(&im[co..end]))
+                {
+                    d.write(Complex64::new(-r, -m) + src[j] * sg);
+                }
             }
             written += 1;
         },

@@ -2,6 +2,7 @@
 //! nalgebra, where nalgebra's result was found wrong: the complex singular
 //! value decomposition ([`svd`]).
 
+pub(crate) mod jacobi_lanes;
 pub mod svd;
 
 /// True when the processor has AVX2 and FMA (x86-64; asked once). The one

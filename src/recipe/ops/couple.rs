@@ -252,7 +252,7 @@ impl Operation for Decouple {
 fn demand_note(what: &str, req: &Request, solved: (usize, usize), whole: (usize, usize)) -> String {
     let ((r, c), (wr, wc)) = (solved, whole);
     format!(
-        "computed {} of the {wr} × {wc} {what} matrix: the rows and columns later steps read ({r} × {c} solved with the interface DOFs); the values equal the whole {what} matrix's",
+        "computed {} of the {wr} × {wc} {what} matrix: the rows and columns later steps read ({r} × {c} at the requested places, after the whole interface solve on every line); the values equal the whole {what} matrix's",
         req.describe(whole)
     )
 }
