@@ -14,7 +14,7 @@
 //! W evolve the same whether V is accumulated or not, so the condition
 //! number does not depend on the threshold being set. The factors are used
 //! unsorted, as they come, so that the arithmetic is the same on every line.
-//! [`factor_lanes`] runs the Jacobi of up to four lines at once, one per
+//! [`factor_lanes`] runs the Jacobi of up to eight lines at once, one per
 //! vector lane ([`crate::linalg::jacobi_lanes`]), with the bits of one
 //! line at a time; on the coupling benchmark a one-entry request, whose
 //! floor this is, went from 0.18–0.26 s to 0.14–0.16 s.

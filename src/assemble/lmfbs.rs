@@ -200,6 +200,24 @@ pub(crate) struct Prepared<'a> {
     pub(crate) n_cols: usize,
     /// sign of each part (−1 for a removed part)
     pub(crate) psign: Vec<f64>,
+    /// the terms of Z = B_u Y B_fᵀ, in the order they are summed
+    z_terms: Vec<ZTerm>,
+    /// per part, the columns of B_fᵀ there: (joint, local input, B_f · sign)
+    bf_cols: Vec<Vec<(usize, usize, f64)>>,
+    /// some result part keeps only some of its rows or columns (what
+    /// the prefetch brings in, x86-64 only)
+    #[cfg_attr(not(target_arch = "x86_64"), allow(dead_code))]
+    picked: bool,
+}
+
+/// One term of an entry of Z: entry `at` (row-major) gains
+/// (Y_part[idx] · psign) · f, f = B_u entry · B_f entry.
+#[derive(Debug, Clone, Copy)]
+struct ZTerm {
+    at: usize,
+    part: usize,
+    idx: usize,
+    f: f64,
 }
 
 /// [`prepare`] for [`couple`]: every component in the result.
@@ -394,7 +412,41 @@ pub(crate) fn prepare<'a>(
         rows[p] = r;
         cols[p] = c;
     }
+    // Z's terms, entry by entry, each entry's in the order of its ends
+    let mut z_terms = Vec::new();
+    for (r, er) in ends.iter().enumerate() {
+        for (s, es) in ends.iter().enumerate() {
+            for e in er {
+                for g in es {
+                    if e.part == g.part {
+                        z_terms.push(ZTerm {
+                            at: r * m + s,
+                            part: e.part,
+                            idx: e.o * sets[e.part].n_in() + g.i,
+                            f: e.su * g.sf,
+                        });
+                    }
+                }
+            }
+        }
+    }
+    let bf_cols: Vec<Vec<(usize, usize, f64)>> = (0..components.len())
+        .map(|q| {
+            ends.iter()
+                .enumerate()
+                .flat_map(|(s, es)| es.iter().map(move |g| (s, g)))
+                .filter(|(_, g)| g.part == q)
+                .map(|(s, g)| (s, g.i, g.sf * signs[q]))
+                .collect()
+        })
+        .collect();
+    let picked = result_parts
+        .iter()
+        .any(|&p| rows[p].len() < sets[p].n_out() || cols[p].len() < sets[p].n_in());
     let prep = Prepared {
+        z_terms,
+        bf_cols,
+        picked,
         sets,
         ends,
         gamma,
@@ -826,23 +878,31 @@ fn run_chunk(
 }
 
 /// Ask for the components' data of line `k` to be brought into the cache
-/// while the current line is computed (x86-64; a no-op elsewhere).
+/// while the current line is computed (x86-64; a no-op elsewhere): the
+/// whole line where the whole result is computed, else the entries of Z
+/// (a picked result reads little more).
 #[inline]
 fn prefetch_line(p: &Prepared, k: usize) {
     #[cfg(target_arch = "x86_64")]
     {
         use std::arch::x86_64::{_mm_prefetch, _MM_HINT_T1};
+        let fetch = |v: &Complex64| {
+            // SAFETY: SSE is part of every x86-64 target; a prefetch of an
+            // address inside a live slice neither faults nor changes memory.
+            unsafe { _mm_prefetch::<_MM_HINT_T1>((v as *const Complex64).cast::<i8>()) };
+        };
+        if k >= p.sets[0].n_lines() {
+            return;
+        }
+        if p.picked {
+            for t in &p.z_terms {
+                fetch(&p.sets[t.part].line(k)[t.idx]);
+            }
+            return;
+        }
         for s in &p.sets {
-            if k >= s.n_lines() {
-                continue;
-            }
-            let l = s.line(k);
             // one cache line (64 bytes) holds 4 values
-            for v in l.iter().step_by(4) {
-                // SAFETY: SSE is part of every x86-64 target; a prefetch of an
-                // address inside a live slice neither faults nor changes memory.
-                unsafe { _mm_prefetch::<_MM_HINT_T1>((v as *const Complex64).cast::<i8>()) };
-            }
+            s.line(k).iter().step_by(4).for_each(fetch);
         }
     }
     #[cfg(not(target_arch = "x86_64"))]
@@ -937,19 +997,12 @@ fn run_lines(
 /// `z`; refused where it is not finite.
 fn interface_matrix(p: &Prepared, k: usize, z: &mut [Complex64]) -> Result<()> {
     let m = p.ends.len();
-    let y = |q: usize, i: usize, j: usize| p.sets[q].line(k)[i * p.sets[q].n_in() + j] * p.psign[q];
-    for (r, er) in p.ends.iter().enumerate() {
-        for (s, es) in p.ends.iter().enumerate() {
-            let mut v = Complex64::new(0.0, 0.0);
-            for e in er {
-                for g in es {
-                    if e.part == g.part {
-                        v += y(e.part, e.o, g.i) * (e.su * g.sf);
-                    }
-                }
-            }
-            z[r * m + s] = v;
-        }
+    // each entry: 0, plus its terms in order, plus Γ on the diagonal
+    z.fill(Complex64::new(0.0, 0.0));
+    for t in &p.z_terms {
+        z[t.at] += p.sets[t.part].line(k)[t.idx] * p.psign[t.part] * t.f;
+    }
+    for r in 0..m {
         z[r * m + r] += p.gamma[k * m + r];
     }
     if z.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
@@ -1006,18 +1059,10 @@ fn one_line(
         let ni = set.n_in();
         let off = p.row_off[q];
         let l = line(q);
-        let cols: Vec<(usize, usize, f64)> = p
-            .ends
-            .iter()
-            .enumerate()
-            .flat_map(|(s, es)| es.iter().map(move |g| (s, g)))
-            .filter(|(_, g)| g.part == q)
-            .map(|(s, g)| (s, g.i, g.sf * p.psign[q]))
-            .collect();
         for (ii, &i) in p.rows[q].iter().enumerate() {
             let src = &l[i * ni..(i + 1) * ni];
             let dst = &mut w.p[(off + ii) * m..(off + ii + 1) * m];
-            for &(s, j, f) in &cols {
+            for &(s, j, f) in &p.bf_cols[q] {
                 dst[s] += src[j] * f;
             }
         }
