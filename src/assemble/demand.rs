@@ -86,23 +86,31 @@ pub struct Demanded {
     pub whole: (usize, usize),
 }
 
+/// The indices, ascending, of the DOFs of `all` at a place `asked` names
+/// (sign aside; every one when `asked` is None).
+fn places(all: &[Dof], asked: &Option<Vec<Dof>>) -> Vec<usize> {
+    (0..all.len())
+        .filter(|&i| {
+            asked
+                .as_ref()
+                .map_or(true, |a| a.iter().any(|x| x.same_place(&all[i])))
+        })
+        .collect()
+}
+
 /// Per component, the indices of its outputs and inputs at a requested
 /// place (all where the request names none); None when nothing at all is
 /// requested of the rows or of the columns (the whole is then computed,
 /// and the request's labels left out by [`Request::pick`]).
 fn picks(components: &[&FrfSet], req: &Request) -> Option<Vec<(Vec<usize>, Vec<usize>)>> {
-    let at = |all: &[Dof], asked: &Option<Vec<Dof>>| -> Vec<usize> {
-        (0..all.len())
-            .filter(|&i| {
-                asked
-                    .as_ref()
-                    .map_or(true, |a| a.iter().any(|x| x.same_place(&all[i])))
-            })
-            .collect()
-    };
     let out: Vec<(Vec<usize>, Vec<usize>)> = components
         .iter()
-        .map(|c| (at(&c.outputs, &req.outputs), at(&c.inputs, &req.inputs)))
+        .map(|c| {
+            (
+                places(&c.outputs, &req.outputs),
+                places(&c.inputs, &req.inputs),
+            )
+        })
         .collect();
     let rows: usize = out.iter().map(|(r, _)| r.len()).sum();
     let cols: usize = out.iter().map(|(_, c)| c.len()).sum();
@@ -193,15 +201,6 @@ pub fn cascade_requested(
     req: &Request,
 ) -> Result<(FrfSet, (usize, usize))> {
     super::chain::check_cascade(first, second)?;
-    let places = |all: &[Dof], asked: &Option<Vec<Dof>>| -> Vec<usize> {
-        (0..all.len())
-            .filter(|&i| {
-                asked
-                    .as_ref()
-                    .map_or(true, |a| a.iter().any(|x| x.same_place(&all[i])))
-            })
-            .collect()
-    };
     let rows = places(&second.outputs, &req.outputs);
     let cols = places(&first.inputs, &req.inputs);
     let name = format!("{} · {}", second.name, first.name);

@@ -139,6 +139,35 @@ impl LaneWork {
     }
 }
 
+/// Whether [`factor_lanes`] runs its matrices' Jacobi in lanes. Not in the
+/// page's WebAssembly: there the lanes took the coupling benchmark from
+/// 0.32 s to 0.42–0.49 s (1,600 lines), the one-matrix code on each line
+/// being faster with 128-bit registers; the bits are the same either way.
+const IN_LANES: bool = cfg!(not(target_arch = "wasm32"));
+
+/// [`factor_lanes`] for one matrix, by [`svd::jacobi`].
+fn factor_one(work: &mut SolveWork, want_v: bool) -> bool {
+    let m = work.m;
+    work.scale = svd::pow2_scale(
+        work.z
+            .iter()
+            .fold(0.0, |a: f64, v| a.max(v.re.abs()).max(v.im.abs())),
+    );
+    // W = scaled Z, column-major
+    for r in 0..m {
+        for c in 0..m {
+            work.w[c * m + r] = work.z[r * m + c] * work.scale;
+        }
+    }
+    if want_v {
+        for (k, d) in work.v.iter_mut().enumerate() {
+            *d = Complex64::new(if k % (m + 1) == 0 { 1.0 } else { 0.0 }, 0.0);
+        }
+    }
+    let v = if want_v { Some(&mut work.v[..]) } else { None };
+    svd::jacobi(&mut work.w, m, m, v, &mut work.norms)
+}
+
 /// The Jacobi factors of the interface matrices in `works` (at most
 /// [`LANES`], each `z` filled), computed together in lanes (see
 /// [`crate::linalg::jacobi_lanes`]; the bits of one at a time): each Z
@@ -153,6 +182,13 @@ pub(crate) fn factor_lanes(
     let Some(m) = works.first().map(|w| w.m) else {
         return [true; LANES];
     };
+    if !IN_LANES {
+        let mut converged = [true; LANES];
+        for (c, work) in converged.iter_mut().zip(works.iter_mut()) {
+            *c = factor_one(work, want_v);
+        }
+        return converged;
+    }
     let LaneWork { w, v, norms } = lanes;
     for l in 0..LANES {
         let Some(work) = works.get_mut(l) else {
@@ -617,6 +653,36 @@ mod tests {
         let r = solve(w, rule, 10.0, conv[0], cols, kernel::path(), &mut buf)?;
         let x = DMatrix::from_fn(m, m, |i, j| Complex64::new(xr[i * cp + j], xi[i * cp + j]));
         Ok((r, x))
+    }
+
+    // common practice: the page's one-matrix path and the native lanes
+    // must give the same bits (the page and the CLI agree)
+    #[test]
+    fn one_matrix_at_a_time_gives_the_lanes_bits() {
+        let m = 12;
+        let mut lanes: Vec<SolveWork> = (0..5).map(|_| SolveWork::new(m)).collect();
+        let mut ones: Vec<SolveWork> = (0..5).map(|_| SolveWork::new(m)).collect();
+        for (l, (a, b)) in lanes.iter_mut().zip(ones.iter_mut()).enumerate() {
+            let z = random(m, 40 + l as u64, 10f64.powi(l as i32 - 2));
+            for r in 0..m {
+                for c in 0..m {
+                    a.z[r * m + c] = z[(r, c)];
+                    b.z[r * m + c] = z[(r, c)];
+                }
+            }
+        }
+        let conv = factor_lanes(&mut lanes, true, &mut LaneWork::new(m));
+        let bits = |x: &[Complex64]| -> Vec<(u64, u64)> {
+            x.iter().map(|c| (c.re.to_bits(), c.im.to_bits())).collect()
+        };
+        for (l, (a, b)) in lanes.iter().zip(ones.iter_mut()).enumerate() {
+            assert_eq!(conv[l], factor_one(b, true), "lane {l}");
+            assert_eq!(a.scale, b.scale);
+            assert_eq!(bits(&a.w), bits(&b.w), "W, lane {l}");
+            assert_eq!(bits(&a.v), bits(&b.v), "V, lane {l}");
+            let nb = |x: &[f64]| -> Vec<u64> { x.iter().map(|v| v.to_bits()).collect() };
+            assert_eq!(nb(&a.norms), nb(&b.norms), "norms, lane {l}");
+        }
     }
 
     #[test]

@@ -32,8 +32,9 @@ use super::svd::MAX_SWEEPS;
 /// Matrices per call: eight f64 fill two 256-bit registers, two
 /// independent chains of additions in each inner product, which hides
 /// their latency (on the coupling benchmark's one-entry request 8 lanes
-/// took 0.072–0.085 s, 4 lanes 0.10 s, 16 lanes 0.081–0.088 s);
-/// WebAssembly's 128-bit registers take two lanes at a time.
+/// took 0.072–0.085 s, 4 lanes 0.10 s, 16 lanes 0.081–0.088 s). The
+/// page's WebAssembly factors one matrix at a time instead (see
+/// `assemble::interface_solve::IN_LANES`).
 pub(crate) const LANES: usize = 8;
 
 /// One value per lane.
