@@ -145,14 +145,19 @@ impl LaneWork {
 /// being faster with 128-bit registers; the bits are the same either way.
 const IN_LANES: bool = cfg!(not(target_arch = "wasm32"));
 
+/// The power of two that brings Z's largest real or imaginary part into
+/// [1, 2) (exact scaling).
+fn z_scale(z: &[Complex64]) -> f64 {
+    svd::pow2_scale(
+        z.iter()
+            .fold(0.0, |a: f64, v| a.max(v.re.abs()).max(v.im.abs())),
+    )
+}
+
 /// [`factor_lanes`] for one matrix, by [`svd::jacobi`].
 fn factor_one(work: &mut SolveWork, want_v: bool) -> bool {
     let m = work.m;
-    work.scale = svd::pow2_scale(
-        work.z
-            .iter()
-            .fold(0.0, |a: f64, v| a.max(v.re.abs()).max(v.im.abs())),
-    );
+    work.scale = z_scale(&work.z);
     // W = scaled Z, column-major
     for r in 0..m {
         for c in 0..m {
@@ -199,11 +204,7 @@ pub(crate) fn factor_lanes(
             }
             continue;
         };
-        work.scale = svd::pow2_scale(
-            work.z
-                .iter()
-                .fold(0.0, |a: f64, v| a.max(v.re.abs()).max(v.im.abs())),
-        );
+        work.scale = z_scale(&work.z);
         // W = scaled Z, column-major
         for r in 0..m {
             for c in 0..m {
