@@ -759,11 +759,13 @@ fn check_needed_entries(p: &Prepared, what: &str) -> Result<()> {
                     }
                 }
             }
+            // the whole result's needs, also when only some rows and
+            // columns are picked: a request refuses what the whole refuses
             if in_res[e.part] {
-                for &j in &p.cols[e.part] {
+                for j in 0..ni {
                     need[e.part][e.o * ni + j] = true;
                 }
-                for &i in &p.rows[e.part] {
+                for i in 0..s.n_out() {
                     need[e.part][i * ni + e.i] = true;
                 }
             }
