@@ -504,6 +504,33 @@ impl FrfSet {
     /// Check the invariants: sizes, strictly increasing finite grid, finite
     /// present data, NaN missing data, unique DOFs.
     pub fn validate(&self) -> Result<()> {
+        self.validate_layout()?;
+        // line by line against the presence mask (one pass over the values,
+        // without a branch per value; the place told when a line fails)
+        let per_line = self.n_out() * self.n_in();
+        for (k, line) in self.data.chunks_exact(per_line.max(1)).enumerate() {
+            let finite = line.iter().zip(&self.present).fold(true, |ok, (v, &p)| {
+                ok & (!p | (v.re.is_finite() & v.im.is_finite()))
+            });
+            if finite {
+                continue;
+            }
+            for (e, (v, &p)) in line.iter().zip(&self.present).enumerate() {
+                if p && !(v.re.is_finite() && v.im.is_finite()) {
+                    let (i, j) = (e / self.n_in(), e % self.n_in());
+                    return Err(Error::numeric(format!(
+                        "'{}': value {} / {} at {} Hz is not finite",
+                        self.name, self.outputs[i], self.inputs[j], self.freqs[k]
+                    )));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// [`Self::validate`] without its pass over the values: for a reader
+    /// that checked each present value finite as it placed it.
+    pub(crate) fn validate_layout(&self) -> Result<()> {
         let n = self.n_lines() * self.n_out() * self.n_in();
         if self.data.len() != n {
             return Err(Error::numeric(format!(
@@ -532,19 +559,6 @@ impl FrfSet {
                         "'{}': {what} DOF {} appears twice",
                         crate::error::quote(&self.name),
                         crate::error::quote(&d.to_string())
-                    )));
-                }
-            }
-        }
-        // line by line against the presence mask (one pass over the values)
-        let per_line = self.n_out() * self.n_in();
-        for (k, line) in self.data.chunks_exact(per_line.max(1)).enumerate() {
-            for (e, (v, &p)) in line.iter().zip(&self.present).enumerate() {
-                if p && !(v.re.is_finite() && v.im.is_finite()) {
-                    let (i, j) = (e / self.n_in(), e % self.n_in());
-                    return Err(Error::numeric(format!(
-                        "'{}': value {} / {} at {} Hz is not finite",
-                        self.name, self.outputs[i], self.inputs[j], self.freqs[k]
                     )));
                 }
             }

@@ -7,6 +7,7 @@
 //! Not here: grouping datasets into sets (`group.rs`), text (`parse.rs`).
 
 use super::group::Remarks;
+use super::payload::even_abscissa;
 use super::records::{data_type_name, function_type_name, Dataset58};
 use crate::error::{Error, Result};
 use crate::frf::{Direction, Dof, SignalKind};
@@ -438,8 +439,26 @@ pub(super) fn spectrum_meaning(
     }
 }
 
-/// The frequencies of a dataset in Hz.
-pub(super) fn frequencies(file: &str, ds: &Dataset58, rm: &mut Remarks) -> Result<Vec<f64>> {
+/// The last abscissa read and its frequencies, so that the datasets of one
+/// grid (most files) are scaled and checked once, not once each.
+#[derive(Default)]
+pub(super) struct LastGrid {
+    x: Vec<f64>,
+    factor: f64,
+    freqs: Option<std::rc::Rc<[f64]>>,
+    /// the abscissa of a dataset whose values are left in the file
+    formed: Vec<f64>,
+}
+
+/// The frequencies of a dataset in Hz (`last`: the previous dataset's, kept
+/// for the next; an abscissa and factor bit for bit equal give the same
+/// frequencies and the same check, and share them).
+pub(super) fn frequencies(
+    file: &str,
+    ds: &Dataset58,
+    rm: &mut Remarks,
+    last: &mut LastGrid,
+) -> Result<std::rc::Rc<[f64]>> {
     let ax = &ds.axes[0];
     let field = "record 8, specific data type";
     match ax.code {
@@ -478,12 +497,37 @@ pub(super) fn frequencies(file: &str, ds: &Dataset58, rm: &mut Remarks) -> Resul
         }
         u.factor
     };
-    let f: Vec<f64> = ds.x.iter().map(|v| v * factor).collect();
+    let LastGrid {
+        x: last_x,
+        factor: last_factor,
+        freqs: last_freqs,
+        formed,
+    } = last;
+    // an abscissa left in the file is formed as the parse forms it
+    let x: &[f64] = match ds.payload {
+        Some(p) => {
+            even_abscissa(ds.x_min, ds.x_inc, p.n_pts, formed);
+            formed
+        }
+        None => &ds.x,
+    };
+    let same = |a: &[f64], b: &[f64]| {
+        a.len() == b.len() && a.iter().zip(b).all(|(p, q)| p.to_bits() == q.to_bits())
+    };
+    if let Some(f) = last_freqs {
+        if factor.to_bits() == last_factor.to_bits() && same(last_x, x) {
+            return Ok(f.clone());
+        }
+    }
+    let f: std::rc::Rc<[f64]> = x.iter().map(|v| v * factor).collect();
     crate::grid::check_grid(&f).map_err(|e| {
         e.field("abscissa (frequency grid)")
             .at_line(ds.record_line(7))
             .in_file(file)
     })?;
+    *last_x = x.to_vec();
+    *last_factor = factor;
+    *last_freqs = Some(f.clone());
     Ok(f)
 }
 

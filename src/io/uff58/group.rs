@@ -8,17 +8,21 @@
 //! Not here: one set spread over several files (a roving-hammer delivery),
 //! joined by `io::merge`; unit factors (`convert.rs`); parsing (`scan.rs`).
 
-use super::convert::{dir_of, frequencies, frf_meaning, spectrum_meaning, untold, SpectrumMeaning};
+use super::convert::{
+    dir_of, frequencies, frf_meaning, spectrum_meaning, untold, LastGrid, SpectrumMeaning,
+};
 use super::extras::{extras_of, UffExtras};
+use super::fill::{line_major, Column, Values};
 use super::provenance::provenance_from_lines;
 use super::records::{data_type_name, function_type_name, Dataset58, TimeHistory};
-use super::scan::{parse_datasets, parse_file_with, Parsed};
+use super::scan::parse_file_with;
 use crate::error::{Error, Result};
 use crate::frf::{Dof, FrfSet, Provenance, SignalKind};
 use crate::limits::Limits;
 use crate::units::Quantity;
 use num_complex::Complex64;
 use std::collections::{HashMap, HashSet};
+use std::rc::Rc;
 
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Role {
@@ -72,7 +76,7 @@ impl Remarks {
 struct Entry {
     out: Dof,
     inp: Dof,
-    values: Vec<Complex64>,
+    values: Values,
     line: usize,
     binary: bool,
     name: String,
@@ -88,7 +92,7 @@ struct Group {
     role: Role,
     out_qty: Quantity,
     in_qty: Quantity,
-    freqs: Vec<f64>,
+    freqs: Rc<[f64]>,
     tag: Option<SetTag>,
     entries: Vec<Entry>,
     remarks: Remarks,
@@ -312,6 +316,7 @@ fn time_only(file: &str, time: &[TimeHistory]) -> Error {
 fn time_history(
     file: &str,
     ds: &Dataset58,
+    y: &[Complex64],
     channel: Option<Dof>,
     rm: &mut Remarks,
 ) -> Result<TimeHistory> {
@@ -370,10 +375,18 @@ fn time_history(
         start_s: times.first().copied().unwrap_or(0.0),
         sample_rate_hz: (ds.even && ds.x_inc > 0.0).then(|| 1.0 / (ds.x_inc * tf)),
         duration_s,
-        values: ds.y.iter().map(|v| v.re * factor).collect(),
+        values: y.iter().map(|v| v.re * factor).collect(),
         times,
         line: ds.line,
     })
+}
+
+/// Values times a factor, in place (the products `v * factor` of a copy).
+fn scaled(mut y: Vec<Complex64>, factor: f64) -> Vec<Complex64> {
+    if factor != 1.0 {
+        y.iter_mut().for_each(|v| *v *= factor);
+    }
+    y
 }
 
 /// The DOFs a dataset without DOF numbers gets until the user assigns them:
@@ -395,11 +408,27 @@ pub fn read_overridden(
     ov: &Overrides,
     limits: &Limits,
 ) -> Result<UffRead> {
-    let (datasets, warnings) = parse_datasets(bytes, file)?;
-    let sha256 = crate::io::sha256_hex(bytes);
-    group_datasets(
-        bytes, file, component, declared, ov, limits, datasets, warnings, sha256,
-    )
+    read_leaving(bytes, file, component, declared, ov, limits, true)
+}
+
+/// [`read_overridden`], with even 58b values left in the file until the
+/// sets are built (`leave`, as every reader does) or copied first (the
+/// tests' reference: the same sets either way).
+fn read_leaving(
+    bytes: &[u8],
+    file: &str,
+    component: Option<&str>,
+    declared: Option<SignalKind>,
+    ov: &Overrides,
+    limits: &Limits,
+    leave: bool,
+) -> Result<UffRead> {
+    with_file_hash(bytes, &mut |sha256| {
+        let p = parse_file_with(bytes, file, &mut |_| {}, leave)?;
+        group_datasets(
+            bytes, file, component, declared, ov, limits, p.datasets, p.remarks, sha256,
+        )
+    })
 }
 
 /// What a whole UFF file gives in one pass ([`read_all`]).
@@ -433,60 +462,60 @@ pub fn read_all(
     limits: &Limits,
     progress: &mut dyn FnMut(usize),
 ) -> Result<UffAll> {
-    let (parsed, sha256) = parse_and_hash(bytes, file, progress);
-    let mut p = parsed?;
-    let datasets = std::mem::take(&mut p.datasets);
-    let remarks = p.remarks.clone();
-    let (extras, notes) = extras_of(p, file, extras_component)?;
-    let read = if !datasets.is_empty() || extras.is_none() {
-        Some(group_datasets(
-            bytes,
-            file,
-            component,
-            declared,
-            ov,
-            limits,
-            datasets,
-            remarks,
-            sha256.clone(),
-        )?)
-    } else {
-        None
-    };
-    Ok(UffAll {
-        extras,
-        notes,
-        read,
-        sha256,
+    with_file_hash(bytes, &mut |sha256| {
+        let mut p = parse_file_with(bytes, file, progress, true)?;
+        let datasets = std::mem::take(&mut p.datasets);
+        let remarks = p.remarks.clone();
+        let (extras, notes) = extras_of(p, file, extras_component)?;
+        let read = if !datasets.is_empty() || extras.is_none() {
+            Some(group_datasets(
+                bytes, file, component, declared, ov, limits, datasets, remarks, sha256,
+            )?)
+        } else {
+            None
+        };
+        Ok(UffAll {
+            extras,
+            notes,
+            read,
+            sha256: sha256(),
+        })
     })
 }
 
 /// Files from this size on are hashed on a second thread while they are
-/// parsed (natively; the page's WebAssembly has one thread).
+/// parsed and grouped (natively; the page's WebAssembly has one thread).
 #[cfg(not(target_arch = "wasm32"))]
 const HASH_APART: usize = 1 << 20;
 
-/// The file parsed, and its SHA-256 (hex): on two threads for a large file
-/// natively (the hash takes about a tenth of the read), else one after
-/// the other.
-fn parse_and_hash(
-    bytes: &[u8],
-    file: &str,
-    progress: &mut dyn FnMut(usize),
-) -> (Result<Parsed>, String) {
+/// `body` run with a function that gives the file's SHA-256 (hex). For a
+/// large file natively the hash is computed on a second thread from the
+/// start, beside the parse and the grouping, and the function waits for
+/// it (the sets' provenance asks for it last); otherwise the hash is
+/// computed when first asked. The value is the same either way.
+fn with_file_hash<R>(bytes: &[u8], body: &mut dyn FnMut(&mut dyn FnMut() -> String) -> R) -> R {
+    let mut done: Option<String> = None;
     #[cfg(not(target_arch = "wasm32"))]
     if bytes.len() >= HASH_APART {
         return std::thread::scope(|sc| {
-            let h = sc.spawn(|| crate::io::sha256_hex(bytes));
-            let p = parse_file_with(bytes, file, progress);
-            // a hash thread that failed to finish (it cannot panic on
-            // bytes) is hashed again here
-            let sha = h.join().unwrap_or_else(|_| crate::io::sha256_hex(bytes));
-            (p, sha)
+            let mut thread = Some(sc.spawn(|| crate::io::sha256_hex(bytes)));
+            body(&mut || {
+                done.get_or_insert_with(|| {
+                    // a hash thread that failed to finish (it cannot panic
+                    // on bytes) is hashed again here
+                    thread
+                        .take()
+                        .and_then(|h| h.join().ok())
+                        .unwrap_or_else(|| crate::io::sha256_hex(bytes))
+                })
+                .clone()
+            })
         });
     }
-    let p = parse_file_with(bytes, file, progress);
-    (p, crate::io::sha256_hex(bytes))
+    body(&mut || {
+        done.get_or_insert_with(|| crate::io::sha256_hex(bytes))
+            .clone()
+    })
 }
 
 /// The datasets of a parsed file into sets (the body of [`read_overridden`];
@@ -502,7 +531,7 @@ fn group_datasets(
     limits: &Limits,
     datasets: Vec<Dataset58>,
     mut warnings: Vec<String>,
-    sha256: String,
+    sha256: &mut dyn FnMut() -> String,
 ) -> Result<UffRead> {
     let stem = crate::io::file_stem(file);
     let comp_of = |entity: &str| -> String {
@@ -522,7 +551,7 @@ fn group_datasets(
     }
     let mut groups = Groups::default();
     // (response, reference, grid, values, line, set tag)
-    type Coh = (Dof, Dof, Vec<f64>, Vec<f64>, usize, Option<SetTag>);
+    type Coh = (Dof, Dof, Rc<[f64]>, Vec<f64>, usize, Option<SetTag>);
     let mut coherences: Vec<Coh> = Vec::new();
     let mut file_rm = Remarks::default();
     let mut used_out_qty = false;
@@ -533,7 +562,15 @@ fn group_datasets(
     let n_unnumbered = datasets.iter().filter(|d| unnumbered(d)).count();
     // start lines, for messages after the loop (the datasets are consumed)
     let ds_lines: Vec<usize> = datasets.iter().map(|d| d.line).collect();
-    for (ds_index, owned) in datasets.into_iter().enumerate() {
+    let mut last_grid = LastGrid::default();
+    for (ds_index, mut owned) in datasets.into_iter().enumerate() {
+        // an FRF's values left in the file stay there until the set is
+        // built (payload.rs); any other dataset's are copied now
+        if !matches!(owned.func_type, 4 | 5) {
+            owned.fill_from(bytes);
+        }
+        // the values leave the dataset (scaled in place below, not copied)
+        let y = std::mem::take(&mut owned.y);
         let ds = &owned;
         let ds_no = ds_index + 1;
         if header_not_utf8(ds) {
@@ -577,7 +614,7 @@ fn group_datasets(
                     c
                 });
                 let mut rm = Remarks::default();
-                match time_history(file, ds, channel, &mut rm) {
+                match time_history(file, ds, &y, channel, &mut rm) {
                     Ok(t) => time.push(t),
                     // a contradictory time dataset does not block the
                     // file's other data; alone, it is the file's error
@@ -606,7 +643,7 @@ fn group_datasets(
             }
         };
         let mut rm = Remarks::default();
-        let freqs = frequencies(file, ds, &mut rm)?;
+        let freqs = frequencies(file, ds, &mut rm, &mut last_grid)?;
         let (od, opos) = dir_of(ds.rsp_dir);
         let mut out = Dof::new(&comp_of(&ds.rsp_entity), &ds.rsp_node.to_string(), od);
         out.positive = opos;
@@ -651,7 +688,7 @@ fn group_datasets(
         let irot = inp.dir.is_rotational();
         let name = ds.id[0].trim().to_string();
         let ids = [ds.id[2].clone(), ds.id[3].clone(), ds.id[4].clone()];
-        let entry = |out: Dof, inp: Dof, values: Vec<Complex64>| Entry {
+        let entry = |out: Dof, inp: Dof, values: Values| Entry {
             out,
             inp,
             values,
@@ -699,7 +736,7 @@ fn group_datasets(
         match role {
             Role::General => unreachable_general(file, ds)?,
             Role::Coherence => {
-                let v: Vec<f64> = ds.y.iter().map(|c| c.re).collect();
+                let v: Vec<f64> = y.iter().map(|c| c.re).collect();
                 coherences.push((out, inp, freqs, v, ds.line, tag));
                 continue;
             }
@@ -753,7 +790,10 @@ fn group_datasets(
                     .at_line(ds.record_line(9))
                     .in_file(file));
                 }
-                let values = ds.y.iter().map(|v| v * m.factor).collect();
+                let values = match ds.payload {
+                    Some(p) => Values::InFile(p, m.factor),
+                    None => Values::Held(scaled(y, m.factor)),
+                };
                 push_entry(
                     &mut groups,
                     (role, oq, iq, freqs, tag),
@@ -811,11 +851,11 @@ fn group_datasets(
                     );
                 }
                 let values: Vec<Complex64> = if sm.square {
-                    ds.y.iter()
+                    y.iter()
                         .map(|v| Complex64::new(v.norm_sqr() * sm.factor, 0.0))
                         .collect()
                 } else {
-                    ds.y.iter().map(|v| v * sm.factor).collect()
+                    scaled(y, sm.factor)
                 };
                 let (reference, in_qty) = match sm.kind {
                     SignalKind::Cross => (inp, sm.ref_qty.unwrap_or(sm.qty)),
@@ -824,7 +864,7 @@ fn group_datasets(
                 push_entry(
                     &mut groups,
                     (Role::Spectrum(sm.kind), sm.qty, in_qty, freqs, tag),
-                    entry(out, reference, values),
+                    entry(out, reference, Values::Held(values)),
                     rm,
                 );
             }
@@ -873,7 +913,8 @@ fn group_datasets(
     split_runs(&mut groups);
     let prov_base = Provenance {
         file: crate::io::base_name(file),
-        sha256,
+        // asked for once the set is built (the hash may still be running)
+        sha256: String::new(),
         format: String::new(),
         options: match component {
             Some(c) => format!("component={c}"),
@@ -888,10 +929,14 @@ fn group_datasets(
     // places of each set's DOFs, for the coherence below
     let mut places: Vec<(DofIndex, DofIndex)> = Vec::new();
     let mut names = UniqueNames::default();
+    // per set: every present value checked finite as it was placed
+    let mut values_finite: Vec<bool> = Vec::new();
     for g in groups.list.iter_mut() {
-        let (mut s, outs, ins) = build_set(file, g, &default_name, limits)?;
+        let (mut s, outs, ins, finite) = build_set(bytes, file, g, &default_name, limits)?;
+        values_finite.push(finite);
         places.push((outs, ins));
         let mut p = prov_base.clone();
+        p.sha256 = sha256();
         p.format = if g.entries.iter().any(|e| e.binary) {
             "uff58-binary"
         } else {
@@ -975,8 +1020,15 @@ fn group_datasets(
             );
         }
     }
-    for s in &sets {
-        s.validate().map_err(|e| e.in_file(file))?;
+    for (s, &finite) in sets.iter().zip(&values_finite) {
+        // the values were checked as they were placed (fill.rs); when one
+        // is not finite, the whole check names it
+        if finite {
+            s.validate_layout()
+        } else {
+            s.validate()
+        }
+        .map_err(|e| e.in_file(file))?;
         warnings.extend(s.warnings.iter().cloned());
     }
     warnings.extend(file_rm.render(file));
@@ -1007,7 +1059,7 @@ fn group_datasets(
     })
 }
 
-type GroupKey = (Role, Quantity, Quantity, Vec<f64>, Option<SetTag>);
+type GroupKey = (Role, Quantity, Quantity, Rc<[f64]>, Option<SetTag>);
 
 /// True when a dataset carries no DOF numbers: node 0 and direction 0 for
 /// both response and reference.
@@ -1142,12 +1194,39 @@ fn grid_key(freqs: &[f64]) -> GridBits {
     GridBits(freqs.iter().map(|f| (f + 0.0).to_bits()).collect())
 }
 
+/// The first dataset's grid of a run shares its frequencies with the
+/// next ones ([`frequencies`]), so their bits are formed once per run and
+/// compared by pointer.
+#[derive(Default)]
+struct LastBits(Option<(Rc<[f64]>, GridBits)>);
+
+impl LastBits {
+    fn of(&mut self, freqs: &Rc<[f64]>) -> GridBits {
+        match &self.0 {
+            Some((f, b)) if Rc::ptr_eq(f, freqs) => b.clone(),
+            _ => {
+                let b = grid_key(freqs);
+                self.0 = Some((freqs.clone(), b.clone()));
+                b
+            }
+        }
+    }
+}
+
 /// A grid's bits, equal when every line is; hashed by its length and its
 /// first and last lines only (equal grids hash alike; grids that differ
 /// only inside are told apart by the comparison), so a file of many long
 /// datasets is not hashed value by value.
-#[derive(Debug, Clone, PartialEq, Eq)]
-struct GridBits(Vec<u64>);
+#[derive(Debug, Clone)]
+struct GridBits(Rc<[u64]>);
+
+impl PartialEq for GridBits {
+    fn eq(&self, o: &Self) -> bool {
+        Rc::ptr_eq(&self.0, &o.0) || self.0 == o.0
+    }
+}
+
+impl Eq for GridBits {}
 
 impl std::hash::Hash for GridBits {
     fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
@@ -1164,6 +1243,7 @@ impl std::hash::Hash for GridBits {
 struct Groups {
     list: Vec<Group>,
     index: HashMap<HashKey, usize>,
+    bits: LastBits,
 }
 
 /// A [`GroupKey`] as hashable values: role, quantities, grid bits, tag.
@@ -1188,7 +1268,7 @@ fn role_key(r: Role) -> (u8, &'static str) {
 fn push_entry(groups: &mut Groups, key: GroupKey, e: Entry, rm: Remarks) {
     let (role, oq, iq, freqs, tag) = key;
     let (rk, rs) = role_key(role);
-    let hk = (rk, rs, oq, iq, grid_key(&freqs), tag.clone());
+    let hk = (rk, rs, oq, iq, groups.bits.of(&freqs), tag.clone());
     let n = match groups.index.get(&hk) {
         Some(&n) => n,
         None => {
@@ -1254,11 +1334,12 @@ impl UniqueNames {
 
 /// The set of a group, with the places of its outputs and inputs.
 fn build_set(
+    bytes: &[u8],
     file: &str,
     g: &mut Group,
     default_name: &str,
     limits: &Limits,
-) -> Result<(FrfSet, DofIndex, DofIndex)> {
+) -> Result<(FrfSet, DofIndex, DofIndex, bool)> {
     let mut outputs: Vec<Dof> = Vec::new();
     let mut inputs: Vec<Dof> = Vec::new();
     let mut out_at = DofIndex::new();
@@ -1295,11 +1376,7 @@ fn build_set(
         g.out_qty,
         g.in_qty,
     );
-    s.freqs = g.freqs.clone();
-    // NaN where no dataset gives an entry; in huge pages when large
-    s.data = crate::mem::large_vec(n_lines * n_out * n_in);
-    s.data
-        .resize(n_lines * n_out * n_in, Complex64::new(f64::NAN, f64::NAN));
+    s.freqs = g.freqs.to_vec();
     s.present = vec![false; n_out * n_in];
     if let Role::Spectrum(k) = g.role {
         s.signal = Some(k);
@@ -1328,19 +1405,17 @@ fn build_set(
         first_line[m] = e.line;
         kept.push((n, i, j, sign));
     }
-    // the values into the line-major matrix a block of lines at a time, so
-    // the part written stays in the cache (a whole entry at a time would
-    // write one value per n_out × n_in × 16 bytes)
-    const BLOCK: usize = 64;
-    for k0 in (0..n_lines).step_by(BLOCK) {
-        let k1 = (k0 + BLOCK).min(n_lines);
-        for &(n, i, j, sign) in &kept {
-            let vals = &g.entries[n].values;
-            for (k, v) in vals.iter().enumerate().take(k1).skip(k0) {
-                s.data[(k * n_out + i) * n_in + j] = v * sign;
-            }
-        }
-    }
+    // the values into the line-major matrix (fill.rs)
+    let cols: Vec<Column> = kept
+        .iter()
+        .map(|&(n, i, j, sign)| Column {
+            values: &g.entries[n].values,
+            place: i * n_in + j,
+            sign,
+        })
+        .collect();
+    let (data, finite) = line_major(bytes, &cols, n_lines, n_out * n_in);
+    s.data = data;
     // a name common to all datasets (ID line 1), else the component
     let first = &g.entries[0].name;
     if !first.is_empty()
@@ -1353,7 +1428,7 @@ fn build_set(
         s.name = format!("{} run {r}", s.name);
     }
     s.warnings = g.remarks.render(file);
-    Ok((s, out_at, in_at))
+    Ok((s, out_at, in_at, finite))
 }
 
 #[cfg(test)]
@@ -1386,5 +1461,186 @@ mod tests {
         ] {
             assert_eq!(id(t), (None, None), "{t}");
         }
+    }
+
+    /// Sets read with even 58b values left in the file equal, bit for
+    /// bit, the sets read with every value copied first: FRFs with missing
+    /// entries and a sign flip, two sets in one file, coherence and a
+    /// spectrum (copied: not FRFs), a dataset 164's units (copied first),
+    /// big-endian single precision in mm (a factor to SI), an ASCII dataset
+    /// among binary ones; and a non-finite value refused alike.
+    #[test]
+    fn values_left_in_the_file_read_as_values_copied() {
+        use super::super::write::write;
+        use crate::frf::Direction;
+        let freqs: Vec<f64> = (0..150).map(|k| 2.0 + 0.75 * k as f64).collect();
+        let dof = |n: usize, d| Dof::new("plate", &n.to_string(), d);
+        let frf = |name: &str, n_out: usize, n_in: usize, skip: usize| {
+            let mut s = FrfSet::zeros(
+                name,
+                freqs.clone(),
+                (0..n_out).map(|i| dof(i + 1, Direction::Z)).collect(),
+                (0..n_in).map(|j| dof(40 + j, Direction::X)).collect(),
+                Quantity::Acceleration,
+                Quantity::Force,
+            );
+            for k in 0..freqs.len() {
+                for i in 0..n_out {
+                    for j in 0..n_in {
+                        let v = Complex64::new(
+                            (k * 7 + i) as f64 * 1.1e-3,
+                            -((j + 1) as f64) / (k + 1) as f64,
+                        );
+                        s.set(k, i, j, v);
+                    }
+                }
+            }
+            // `skip`: an entry left out, when the set has it
+            if let Some(p) = s.present.get_mut(skip) {
+                *p = false;
+            }
+            s
+        };
+        let mut a = frf("left", 5, 2, 3);
+        a.coherence = Some(vec![0.875; a.data.len()]);
+        let b = frf("right", 3, 3, 4);
+        let mut spec = FrfSet::zeros(
+            "levels",
+            freqs.clone(),
+            vec![dof(1, Direction::Y)],
+            vec![Dof::scalar("", "ref")],
+            Quantity::Velocity,
+            Quantity::Dimensionless,
+        );
+        spec.signal = Some(SignalKind::Rms);
+        for k in 0..freqs.len() {
+            spec.set(k, 0, 0, Complex64::new(1e-4 * (k + 1) as f64, 0.0));
+        }
+        let two = write(&[a.clone(), b], true).expect("writes");
+        let one_spec = write(&[spec], true).expect("writes");
+        // a second file's dataset at the same output with a negative
+        // direction: one set, that entry read with a sign
+        let mut flip = write(&[frf("p", 1, 1, 9)], true).expect("writes");
+        let mut neg = frf("q", 1, 1, 9);
+        neg.outputs[0].positive = false;
+        neg.inputs[0] = dof(41, Direction::X);
+        flip.extend(write(&[neg.clone()], true).expect("writes"));
+        // an ASCII dataset, then binary ones
+        let mut mixed = write(&[frf("ascii", 1, 1, 9)], false).expect("writes");
+        mixed.extend(write(&[frf("bin", 2, 1, 9)], true).expect("writes"));
+        // big-endian single precision in mm per N
+        let mut be = String::from("    -1\n");
+        be.push_str(&format!(
+            "{:>6}b{:>6}{:>6}{:>12}{:>12}{:>6}{:>6}{:>12}{:>12}\n",
+            58, 2, 2, 11, 24, 0, 0, 0, 0
+        ));
+        for _ in 0..5 {
+            be.push_str("NONE\n");
+        }
+        be.push_str(&format!(
+            "{:>5}{:>10}{:>5}{:>10} {:>10}{:>10}{:>4} {:>10}{:>10}{:>4}\n",
+            4, 0, 0, 0, "NONE", 3, 2, "NONE", 4, 1
+        ));
+        be.push_str(&format!(
+            "{:>10}{:>10}{:>10}{:>13}{:>13}{:>13}\n",
+            5, 3, 1, "1.00000e+00", "2.00000e+00", "0.00000e+00"
+        ));
+        for (code, unit) in [(18, "Hz"), (8, "mm"), (13, "N"), (0, "NONE")] {
+            be.push_str(&format!(
+                "{code:>10}{:>5}{:>5}{:>5} {:<20} {:<20}\n",
+                0, 0, 0, "NONE", unit
+            ));
+        }
+        let mut be = be.into_bytes();
+        for v in [0.5f32, -0.25, 1.5, 2.0, -3.0, 0.125] {
+            be.extend_from_slice(&v.to_be_bytes());
+        }
+        be.extend_from_slice(b"    -1\n");
+        // a dataset 164 (SI) before binary datasets
+        let mut si = b"    -1\n   164\n         1SI - mks (Newton)  2\n    1.0000000000000000E+00    1.0000000000000000E+00    1.0000000000000000E+00\n    2.7314999999999998E+02\n    -1\n".to_vec();
+        si.extend(write(&[frf("si", 2, 2, 0)], true).expect("writes"));
+        let bits = |s: &FrfSet| -> Vec<(u64, u64)> {
+            s.data
+                .iter()
+                .map(|v| (v.re.to_bits(), v.im.to_bits()))
+                .collect()
+        };
+        let read = |bytes: &[u8], leave: bool| {
+            read_leaving(
+                bytes,
+                "f.uff",
+                None,
+                None,
+                &Overrides::default(),
+                &Limits::default(),
+                leave,
+            )
+        };
+        for (what, bytes) in [
+            ("two sets", &two),
+            ("spectrum", &one_spec),
+            ("sign", &flip),
+            ("mixed", &mixed),
+            ("big-endian", &be),
+            ("164", &si),
+        ] {
+            let left = read(bytes, true).unwrap_or_else(|e| panic!("{what}: {e}"));
+            let copied = read(bytes, false).unwrap_or_else(|e| panic!("{what}: {e}"));
+            assert_eq!(left.sets.len(), copied.sets.len(), "{what}");
+            assert!(!left.sets.is_empty(), "{what}");
+            for (l, c) in left.sets.iter().zip(&copied.sets) {
+                assert_eq!(bits(l), bits(c), "{what}: {}", l.name);
+                assert_eq!(
+                    (&l.freqs, &l.present, &l.outputs, &l.inputs),
+                    (&c.freqs, &c.present, &c.outputs, &c.inputs),
+                    "{what}"
+                );
+                assert_eq!(
+                    (l.out_qty, l.in_qty, l.signal),
+                    (c.out_qty, c.in_qty, c.signal),
+                    "{what}"
+                );
+                let cb = |s: &FrfSet| {
+                    s.coherence
+                        .as_ref()
+                        .map(|c| c.iter().map(|v| v.to_bits()).collect::<Vec<_>>())
+                };
+                assert_eq!(cb(l), cb(c), "{what}");
+                assert_eq!(
+                    (&l.warnings, &l.provenance),
+                    (&c.warnings, &c.provenance),
+                    "{what}"
+                );
+            }
+            assert_eq!(left.warnings, copied.warnings, "{what}");
+        }
+        // the values themselves: the first set as written (its missing entry NaN)
+        let left = read(&two, true).expect("reads").sets;
+        assert!(left[0].coherence.is_some());
+        for k in 0..freqs.len() {
+            for m in 0..10 {
+                let (i, j) = (m / 2, m % 2);
+                let v = left[0].get(k, i, j);
+                if m == 3 {
+                    assert!(v.re.is_nan() && !left[0].present[m]);
+                } else {
+                    assert_eq!(v, a.get(k, i, j), "line {k}, {i} / {j}");
+                }
+            }
+        }
+        let flipped = &read(&flip, true).expect("reads").sets[0];
+        assert_eq!((flipped.n_out(), flipped.n_in()), (1, 2));
+        assert!(flipped.outputs[0].positive);
+        assert_eq!(flipped.get(7, 0, 1), -neg.get(7, 0, 0));
+        let be_set = &read(&be, true).expect("reads").sets[0];
+        assert_eq!(be_set.get(2, 0, 0), Complex64::new(-3.0e-3, 0.125e-3));
+        // a non-finite value: the same error, at its byte, either way
+        let mut bad = write(&[frf("bad", 1, 1, 9)], true).expect("writes");
+        let at = bad.len() - 7 - 16 * 3;
+        bad[at..at + 8].copy_from_slice(&f64::NAN.to_le_bytes());
+        let e1 = read(&bad, true).expect_err("NaN refused").to_string();
+        let e2 = read(&bad, false).expect_err("NaN refused").to_string();
+        assert_eq!(e1, e2);
+        assert!(e1.contains("is NaN; expected a finite number"), "{e1}");
     }
 }

@@ -140,11 +140,13 @@
 mod block;
 mod convert;
 mod extras;
+mod fill;
 mod geometry;
 mod group;
 mod header151;
 mod modal55;
 mod parse;
+mod payload;
 mod provenance;
 mod records;
 mod scan;

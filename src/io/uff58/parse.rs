@@ -7,6 +7,7 @@
 //! Not here: finding datasets in a file (`scan.rs`), units and quantities
 //! (`convert.rs`).
 
+use super::payload::{all_finite, decode_into, even_abscissa, Payload};
 use super::records::{function_type_name, AxisInfo, Dataset58};
 use super::text::{clamp_i32, col, parse_int, parse_num, perr, preview, Cursor, Line};
 use crate::error::{Error, Result};
@@ -217,12 +218,17 @@ fn read_axis(file: &str, line: &Line, record: usize) -> Result<AxisInfo> {
     })
 }
 
+/// One dataset 58 / 58b from the cursor, after its number line `header`.
+/// `leave`: an even 58b dataset's values are checked and left in the file
+/// (`payload`, with `x` and `y` empty) instead of copied; see payload.rs.
+#[allow(clippy::too_many_arguments)]
 pub(super) fn parse_58(
     c: &mut Cursor,
     file: &str,
     start: usize,
     header: &Line,
     binary: bool,
+    leave: bool,
     remarks: &mut Vec<String>,
 ) -> Result<Dataset58> {
     const RECORD_NAMES: [&str; 11] = [
@@ -449,6 +455,7 @@ pub(super) fn parse_58(
     // offset (from `payload`), ASCII values by line ((index of the line's
     // first value, line number), one per data line)
     let mut payload: Option<(usize, usize)> = None;
+    let mut left: Option<Payload> = None;
     let mut lines: Vec<(usize, usize)> = Vec::new();
     if binary {
         let size = if double { 8 } else { 4 };
@@ -473,26 +480,19 @@ pub(super) fn parse_58(
             .at_byte(c.b.len())
             .in_file(file));
         }
-        for k in 0..n_vals {
-            let o = p0 + k * size;
-            let v = if double {
-                let mut a = [0u8; 8];
-                a.copy_from_slice(&c.b[o..o + 8]);
-                if big_endian {
-                    f64::from_be_bytes(a)
-                } else {
-                    f64::from_le_bytes(a)
-                }
-            } else {
-                let mut a = [0u8; 4];
-                a.copy_from_slice(&c.b[o..o + 4]);
-                (if big_endian {
-                    f32::from_be_bytes(a)
-                } else {
-                    f32::from_le_bytes(a)
-                }) as f64
-            };
-            vals.push(v);
+        let data = &c.b[p0..p0 + need];
+        // an even grid of finite values is left in the file when asked
+        // (see payload.rs); anything else, or a value to report, is read
+        if leave && even && all_finite(data, double, big_endian) {
+            left = Some(Payload {
+                at: p0,
+                n_pts,
+                double,
+                big_endian,
+                complex,
+            });
+        } else {
+            decode_into(data, double, big_endian, &mut vals);
         }
         c.skip_bytes(need);
         // the end tag follows (possibly after a line break)
@@ -676,10 +676,32 @@ pub(super) fn parse_58(
         };
         e.in_file(file)
     };
-    // split into x and y; check finiteness and ordering
-    let mut x = Vec::with_capacity(n_pts);
-    let mut y = Vec::with_capacity(n_pts);
-    for p in 0..n_pts {
+    // split into x and y; check finiteness and ordering. The common case,
+    // an even grid of finite values, in loops without a branch per value
+    // (the same values); any other case, and the error's place, below.
+    let (mut x, mut y) = (Vec::new(), Vec::new());
+    if left.is_some() {
+        // nothing to split: the values stay in the file
+    } else if even && vals.iter().fold(true, |ok, v| ok & v.is_finite()) {
+        even_abscissa(x_min, x_inc, n_pts, &mut x);
+        y = if complex {
+            vals.chunks_exact(2)
+                .map(|v| Complex64::new(v[0], v[1]))
+                .collect()
+        } else {
+            vals.iter().map(|&v| Complex64::new(v, 0.0)).collect()
+        };
+    }
+    let general = if y.len() == n_pts || left.is_some() {
+        0
+    } else {
+        n_pts
+    };
+    if general > 0 {
+        x = Vec::with_capacity(n_pts);
+        y = Vec::with_capacity(n_pts);
+    }
+    for p in 0..general {
         let b = p * per_pt;
         let (xv, re_k) = if even {
             (x_min + (p as f64) * x_inc, b)
@@ -751,6 +773,7 @@ pub(super) fn parse_58(
         y,
         line: start,
         latin1,
+        payload: left,
     })
 }
 

@@ -59,6 +59,10 @@ pub struct Dataset58 {
     /// True when header text (records 1-11) was not UTF-8 and was read as
     /// Latin-1 (Windows-1252).
     pub latin1: bool,
+    /// An even 58b dataset's values left in the file by the reader that
+    /// builds sets (`x` and `y` are then empty until [`Self::fill_from`]);
+    /// `None` in every dataset the public parsers return.
+    pub(crate) payload: Option<super::payload::Payload>,
 }
 
 impl Dataset58 {
@@ -71,6 +75,14 @@ impl Dataset58 {
     /// 1-based line of record `r` (1..=11).
     pub fn record_line(&self, r: usize) -> usize {
         self.line + 1 + r
+    }
+    /// Values left in the file (`bytes`: the file parsed) copied into `x`
+    /// and `y`, as the parse would have copied them.
+    pub(crate) fn fill_from(&mut self, bytes: &[u8]) {
+        if let Some(p) = self.payload.take() {
+            super::payload::even_abscissa(self.x_min, self.x_inc, p.n_pts, &mut self.x);
+            self.y = p.values(bytes);
+        }
     }
 }
 

@@ -87,7 +87,7 @@ pub(super) struct Parsed {
 /// force for the datasets after it), 15 / 2411 (nodes), 18 / 2420
 /// (coordinate systems), 82 (trace lines), 55 (modes).
 pub(super) fn parse_file(bytes: &[u8], file: &str) -> Result<Parsed> {
-    parse_file_with(bytes, file, &mut |_| {})
+    parse_file_with(bytes, file, &mut |_| {}, false)
 }
 
 /// Bytes between two calls of a progress callback (at most one call per
@@ -96,13 +96,15 @@ pub const PROGRESS_STEP: usize = 1 << 20;
 
 /// [`parse_file`] telling `progress` how many bytes of the file it has read:
 /// after a dataset once at least [`PROGRESS_STEP`] bytes more than at the
-/// last call are read, and with the file's length at the end.
+/// last call are read, and with the file's length at the end. `leave`: even
+/// 58b datasets' values are checked and left in the file (payload.rs).
 pub(super) fn parse_file_with(
     bytes: &[u8],
     file: &str,
     progress: &mut dyn FnMut(usize),
+    leave: bool,
 ) -> Result<Parsed> {
-    parse_in(bytes, file, progress, segments::count(bytes.len()))
+    parse_in(bytes, file, progress, segments::count(bytes.len()), leave)
 }
 
 /// [`parse_file_with`] with runs of datasets 58 parsed on `k` threads (1:
@@ -112,15 +114,16 @@ pub(super) fn parse_in(
     file: &str,
     progress: &mut dyn FnMut(usize),
     k: usize,
+    leave: bool,
 ) -> Result<Parsed> {
     if k > 1 {
         let signals = segments::Signal::many(k);
         return std::thread::scope(|sc| {
             let plan = segments::Plan::start(sc, bytes, file, k, &signals);
-            walk(bytes, file, progress, plan)
+            walk(bytes, file, progress, plan, leave)
         });
     }
-    walk(bytes, file, progress, segments::Plan::none())
+    walk(bytes, file, progress, segments::Plan::none(), leave)
 }
 
 /// The body of [`parse_file_with`]: the datasets in file order, taking a
@@ -131,6 +134,7 @@ fn walk(
     file: &str,
     progress: &mut dyn FnMut(usize),
     mut plan: segments::Plan,
+    leave: bool,
 ) -> Result<Parsed> {
     let mut c = Cursor::new(bytes);
     let mut told = 0usize;
@@ -149,7 +153,7 @@ fn walk(
         if let Some(seg) = plan.take_at(c.pos, c.line) {
             // the same datasets, remarks and place as parsing them here
             for ds in seg.datasets {
-                keep_58(file, ds, &units, &mut converted, &mut out)?;
+                keep_58(bytes, file, ds, &units, &mut converted, &mut out)?;
             }
             remarks.extend(seg.remarks);
             last_end = seg.last_end;
@@ -250,9 +254,9 @@ fn walk(
             remarks.push(format!("{file}: line {start}: dataset {num}: {what}"));
             continue;
         }
-        let ds = parse_58(&mut c, file, start, &h, binary, &mut remarks)?;
+        let ds = parse_58(&mut c, file, start, &h, binary, leave, &mut remarks)?;
         last_end = Some(c.line.saturating_sub(1));
-        keep_58(file, ds, &units, &mut converted, &mut out)?;
+        keep_58(bytes, file, ds, &units, &mut converted, &mut out)?;
     }
     if !mode_lines.is_empty() {
         let shown: Vec<String> = mode_lines.iter().take(5).map(|l| l.to_string()).collect();
@@ -298,8 +302,10 @@ fn walk(
 
 /// A parsed dataset 58 into `out`, converted by the units of the last
 /// dataset 164 before it if there is one (its line then noted in
-/// `converted`, one list per dataset 164).
+/// `converted`, one list per dataset 164). Values left in the file
+/// (`bytes`) are copied first where units apply.
 fn keep_58(
+    bytes: &[u8],
     file: &str,
     mut ds: Dataset58,
     units: &[UnitSystem],
@@ -307,6 +313,7 @@ fn keep_58(
     out: &mut Vec<Dataset58>,
 ) -> Result<()> {
     if let Some(sys) = units.last() {
+        ds.fill_from(bytes);
         if apply_to_58(file, &mut ds, sys)? {
             if let Some(v) = converted.last_mut() {
                 v.push(ds.line);

@@ -224,7 +224,10 @@ fn parse_from(bytes: &[u8], file: &str, start: usize, stop: usize, sig: &Signal)
         else {
             break;
         };
-        let Ok(ds) = super::parse::parse_58(&mut c, file, ds_start, &h, binary, &mut remarks)
+        // values copied (a segment is ASCII, where nothing is left in the
+        // file; a 58b dataset met on the way is copied as the walk may)
+        let Ok(ds) =
+            super::parse::parse_58(&mut c, file, ds_start, &h, binary, false, &mut remarks)
         else {
             break;
         };
@@ -289,9 +292,9 @@ mod tests {
     /// The parse on 1 thread and on k threads: the same datasets and
     /// remarks, or the same error.
     fn same_on_threads(bytes: &[u8]) -> std::result::Result<usize, String> {
-        let one = parse_in(bytes, "f.uff", &mut |_| {}, 1);
+        let one = parse_in(bytes, "f.uff", &mut |_| {}, 1, false);
         for k in [2, 3, 5] {
-            let many = parse_in(bytes, "f.uff", &mut |_| {}, k);
+            let many = parse_in(bytes, "f.uff", &mut |_| {}, k, false);
             match (&one, &many) {
                 (Ok(a), Ok(b)) => {
                     assert_eq!(a.datasets, b.datasets, "k = {k}");
@@ -308,7 +311,9 @@ mod tests {
     /// A segment parsed from the guessed start in the middle gives the
     /// one-thread parse's datasets from there, on the same lines.
     fn middle_segment_matches(bytes: &[u8]) {
-        let all = parse_in(bytes, "f.uff", &mut |_| {}, 1).unwrap().datasets;
+        let all = parse_in(bytes, "f.uff", &mut |_| {}, 1, false)
+            .unwrap()
+            .datasets;
         let (s, _) = guess_start(bytes, bytes.len() / 2).unwrap();
         let seg = parse_from(bytes, "f.uff", s, usize::MAX, &Signal::default());
         assert!(!seg.datasets.is_empty());

@@ -66,25 +66,16 @@ impl<'a> Cursor<'a> {
     }
 }
 
-/// The number of LF bytes in `b`, eight bytes at a time: in t = w ^ LF·0x01..01
-/// a byte is zero exactly when ((t & 0x7f..7f) + 0x7f..7f | t) has its high
-/// bit clear (no carry between bytes; from memory, the exact form of the
-/// "word has a zero byte" trick), so each word's LFs are 8 − popcount.
+/// The number of LF bytes in `b`: byte counters summed over blocks of 255
+/// bytes (a block cannot overflow a byte), a loop the compiler turns into
+/// 16 byte comparisons per vector instruction.
 pub(super) fn count_lf(b: &[u8]) -> usize {
-    const LO: u64 = 0x0101_0101_0101_0101;
-    const HI: u64 = 0x8080_8080_8080_8080;
-    const SEVEN: u64 = 0x7f7f_7f7f_7f7f_7f7f;
-    let chunks = b.chunks_exact(8);
-    let tail = chunks.remainder();
-    let mut n = 0usize;
-    for ch in chunks {
-        let mut w = [0u8; 8];
-        w.copy_from_slice(ch);
-        let t = u64::from_le_bytes(w) ^ (LO * u64::from(b'\n'));
-        let nonzero = (((t & SEVEN).wrapping_add(SEVEN)) | t) & HI;
-        n += 8 - nonzero.count_ones() as usize;
-    }
-    n + tail.iter().filter(|&&c| c == b'\n').count()
+    b.chunks(255)
+        .map(|blk| {
+            blk.iter()
+                .fold(0u8, |n, &c| n.wrapping_add(u8::from(c == b'\n'))) as usize
+        })
+        .sum()
 }
 
 /// Index of the first LF or CR in `b`: eight bytes at a time while none is

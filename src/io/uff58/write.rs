@@ -369,6 +369,7 @@ pub fn datasets_of(set: &FrfSet, layout: Layout) -> Result<Vec<Dataset58>> {
                 }
             };
             let base = Dataset58 {
+                payload: None,
                 binary: layout == Layout::Binary,
                 id: [
                     set.name.clone(),
