@@ -37,7 +37,9 @@ const REFS: [usize; 2] = [37, 412];
 const LINES: usize = 5000;
 const DF: f64 = 0.5;
 const MODES: usize = 12;
-const REPS: usize = 3;
+/// Reads per file; the best is kept (the build machine is a virtual machine whose
+/// speed varies between runs of the same binary).
+const REPS: usize = 5;
 /// The dataset (0-based, in file order) compared with pyuff's.
 const RECORD: usize = 737;
 

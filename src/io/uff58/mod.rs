@@ -124,9 +124,11 @@
 //! One job a file: `records.rs` the record as it stands in a file and the
 //! names of its codes; `text.rs` lines, numbers and columns of the text;
 //! `scan.rs` a file into datasets (detection, start and end tags);
-//! `parse.rs` one dataset 58 / 58b into a [`Dataset58`]; `convert.rs` the
-//! layout's codes and units labels to and from mortise's quantities and SI;
-//! `group.rs` datasets into FRF sets (the readers); `provenance.rs` the
+//! `parse.rs` one dataset 58 / 58b into a [`Dataset58`]; `payload.rs` 58b
+//! numbers, and an even 58b dataset's values left in the file until its
+//! set is built; `convert.rs` the layout's codes and units labels to and
+//! from mortise's quantities and SI; `group.rs` datasets into FRF sets (the
+//! readers); `fill.rs` a set's line-major matrix from its datasets' values; `provenance.rs` the
 //! provenance chain in ID lines 3-5; `write.rs` the writers.
 //!
 //! ## Datasets besides 58
