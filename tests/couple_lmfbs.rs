@@ -388,6 +388,37 @@ fn error_missing_interface_entry_and_missing_elsewhere_propagates() {
     assert!(r.set.is_present(1, 0));
 }
 
+/// A request refuses what the whole coupling refuses, even when the missing
+/// entry lies outside the requested places: the interface terms of every
+/// line need it (common practice: a result is never given from a coupling
+/// that cannot be formed whole).
+#[test]
+fn a_request_refuses_a_missing_interface_entry_outside_it() {
+    let c = case("rigid");
+    let opts = CouplingOptions::default();
+    // places of the other component, from the coupling of the intact parts
+    let full = couple(&c.comps, &c.joints, &opts).unwrap();
+    let out = full.set.outputs[full.set.n_out() - 1].clone();
+    let inp = full.set.inputs[full.set.n_in() - 1].clone();
+    assert!(
+        out.component != "A" && inp.component != "A",
+        "{out} / {inp}"
+    );
+    let req = Request::of(vec![out], vec![inp]);
+    // the intact parts: the request is given
+    assert!(couple_requested(&c.comps, &c.joints, &opts, &req).is_ok());
+    // A:3+X / A:1+X (in the interface row) missing: both refuse alike
+    let mut a = c.comps[0].clone();
+    let n = a.n_in();
+    a.present[2 * n] = false;
+    let comps = [a, c.comps[1].clone()];
+    let whole = couple(&comps, &c.joints, &opts).unwrap_err();
+    let asked = couple_requested(&comps, &c.joints, &opts, &req).unwrap_err();
+    assert_eq!(asked.kind, ErrorKind::Missing);
+    assert_eq!((asked.kind, &asked.message), (whole.kind, &whole.message));
+    assert!(asked.message.contains("A:3+X / A:1+X"), "{}", asked.message);
+}
+
 #[test]
 fn error_shared_dof_labels_and_bad_joint_values() {
     let c = case("rigid");
