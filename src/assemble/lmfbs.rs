@@ -893,7 +893,7 @@ fn prefetch_line(p: &Prepared, k: usize) {
             // address inside a live slice neither faults nor changes memory.
             unsafe { _mm_prefetch::<_MM_HINT_T1>((v as *const Complex64).cast::<i8>()) };
         };
-        if k >= p.sets[0].n_lines() {
+        if p.sets.first().map_or(true, |s| k >= s.n_lines()) {
             return;
         }
         if p.picked {

@@ -25,9 +25,10 @@ pub(super) enum Values {
 
 impl Values {
     /// Lines `lines` of the values times `sign` into every `stride`-th
-    /// place of `dst` from its first (`bytes`: the file parsed). Lines past
-    /// the values' end are left as they are, which a group's grid rules
-    /// out. True when every value written is finite.
+    /// place of `dst` from its first (`bytes`: the file parsed). True when
+    /// every line got its value and every value is finite: lines past the
+    /// values' end (which a group's grid rules out) are left as they are
+    /// and answer false, so the set's whole check then names them.
     fn put(
         &self,
         bytes: &[u8],
@@ -37,9 +38,11 @@ impl Values {
         stride: usize,
     ) -> bool {
         let places = dst.iter_mut().step_by(stride);
-        let mut ok = true;
+        let (mut ok, mut written) = (true, 0usize);
+        let n = lines.len();
         let mut write = |d: &mut MaybeUninit<Complex64>, w: Complex64| {
             ok &= w.re.is_finite() & w.im.is_finite();
+            written += 1;
             d.write(w);
         };
         match self {
@@ -53,7 +56,7 @@ impl Values {
                 p.each(bytes, lines, places, |d, v| write(d, scaled(v) * sign));
             }
         }
-        ok
+        ok && written == n
     }
 }
 
@@ -236,6 +239,16 @@ mod tests {
             sign: 1.0,
         }];
         assert!(!line_major(&bytes, &cols, n_lines, 1).1);
+        // a column shorter than the lines (which a group's grid rules out)
+        // is not reported finite: its places stay NaN for the whole check
+        let short = Values::Held(vec![Complex64::new(1.0, 0.0); n_lines - 1]);
+        let cols = [Column {
+            values: &short,
+            place: 0,
+            sign: 1.0,
+        }];
+        let (data, ok) = line_major(&bytes, &cols, n_lines, 1);
+        assert!(!ok && data[n_lines - 1].re.is_nan() && data[0].re == 1.0);
     }
 
     /// A matrix large enough for threads gives the one-thread bits.

@@ -971,11 +971,11 @@ fn group_datasets(
     }
     // coherence onto the matching FRF entries: only the groups of the same
     // grid and tag are candidates (found by hash), DOFs by their places
-    let mut by_grid: HashMap<(GridBits, Option<SetTag>), Vec<usize>> = HashMap::new();
+    let mut by_grid: HashMap<(GridKey, Option<SetTag>), Vec<usize>> = HashMap::new();
     for (n, g) in groups.list.iter().enumerate() {
         if g.role == Role::Frf {
             by_grid
-                .entry((grid_key(&g.freqs), g.tag.clone()))
+                .entry((GridKey(g.freqs.clone()), g.tag.clone()))
                 .or_default()
                 .push(n);
         }
@@ -983,7 +983,7 @@ fn group_datasets(
     for (out, inp, freqs, v, line, tag) in coherences {
         let mut done = false;
         let candidates = by_grid
-            .get(&(grid_key(&freqs), tag))
+            .get(&(GridKey(freqs), tag))
             .map(Vec::as_slice)
             .unwrap_or(&[]);
         for &n in candidates {
@@ -1188,52 +1188,45 @@ fn census_text(bytes: &[u8]) -> String {
     )
 }
 
-/// A grid as hashable bits (values are finite, checked by the parser;
-/// -0 is 0 as `==` says).
-fn grid_key(freqs: &[f64]) -> GridBits {
-    GridBits(freqs.iter().map(|f| (f + 0.0).to_bits()).collect())
-}
-
-/// The first dataset's grid of a run shares its frequencies with the
-/// next ones ([`frequencies`]), so their bits are formed once per run and
-/// compared by pointer.
-#[derive(Default)]
-struct LastBits(Option<(Rc<[f64]>, GridBits)>);
-
-impl LastBits {
-    fn of(&mut self, freqs: &Rc<[f64]>) -> GridBits {
-        match &self.0 {
-            Some((f, b)) if Rc::ptr_eq(f, freqs) => b.clone(),
-            _ => {
-                let b = grid_key(freqs);
-                self.0 = Some((freqs.clone(), b.clone()));
-                b
-            }
-        }
-    }
-}
-
-/// A grid's bits, equal when every line is; hashed by its length and its
-/// first and last lines only (equal grids hash alike; grids that differ
-/// only inside are told apart by the comparison), so a file of many long
-/// datasets is not hashed value by value.
+/// A grid as a hash key: two grids are equal when every line's bits are
+/// (values are finite, checked by the parser; -0 is 0 as `==` says), at
+/// once when they are the one grid the datasets of a run share
+/// ([`frequencies`]); hashed by its length and its first and last lines
+/// only (equal grids hash alike; grids that differ only inside are told
+/// apart by the comparison), so a file of many long datasets is not hashed
+/// value by value.
 #[derive(Debug, Clone)]
-struct GridBits(Rc<[u64]>);
+struct GridKey(Rc<[f64]>);
 
-impl PartialEq for GridBits {
+/// A line's bits, -0 as 0.
+fn line_bits(f: &f64) -> u64 {
+    (f + 0.0).to_bits()
+}
+
+impl PartialEq for GridKey {
     fn eq(&self, o: &Self) -> bool {
-        Rc::ptr_eq(&self.0, &o.0) || self.0 == o.0
+        Rc::ptr_eq(&self.0, &o.0)
+            || (self.0.len() == o.0.len()
+                && self
+                    .0
+                    .iter()
+                    .zip(o.0.iter())
+                    .all(|(a, b)| line_bits(a) == line_bits(b)))
     }
 }
 
-impl Eq for GridBits {}
+impl Eq for GridKey {}
 
-impl std::hash::Hash for GridBits {
+impl std::hash::Hash for GridKey {
     fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
         let v = &self.0;
         v.len().hash(h);
-        v[..v.len().min(4)].hash(h);
-        v[v.len().saturating_sub(4)..].hash(h);
+        for f in v[..v.len().min(4)]
+            .iter()
+            .chain(&v[v.len().saturating_sub(4)..])
+        {
+            line_bits(f).hash(h);
+        }
     }
 }
 
@@ -1243,7 +1236,6 @@ impl std::hash::Hash for GridBits {
 struct Groups {
     list: Vec<Group>,
     index: HashMap<HashKey, usize>,
-    bits: LastBits,
 }
 
 /// A [`GroupKey`] as hashable values: role, quantities, grid bits, tag.
@@ -1252,7 +1244,7 @@ type HashKey = (
     &'static str,
     Quantity,
     Quantity,
-    GridBits,
+    GridKey,
     Option<SetTag>,
 );
 
@@ -1268,7 +1260,7 @@ fn role_key(r: Role) -> (u8, &'static str) {
 fn push_entry(groups: &mut Groups, key: GroupKey, e: Entry, rm: Remarks) {
     let (role, oq, iq, freqs, tag) = key;
     let (rk, rs) = role_key(role);
-    let hk = (rk, rs, oq, iq, groups.bits.of(&freqs), tag.clone());
+    let hk = (rk, rs, oq, iq, GridKey(freqs.clone()), tag.clone());
     let n = match groups.index.get(&hk) {
         Some(&n) => n,
         None => {

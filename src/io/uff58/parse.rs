@@ -7,7 +7,7 @@
 //! Not here: finding datasets in a file (`scan.rs`), units and quantities
 //! (`convert.rs`).
 
-use super::payload::{all_finite, decode_into, even_abscissa, Payload};
+use super::payload::{all_finite, decode_into, even_abscissa, points, Payload};
 use super::records::{function_type_name, AxisInfo, Dataset58};
 use super::text::{clamp_i32, col, parse_int, parse_num, perr, preview, Cursor, Line};
 use crate::error::{Error, Result};
@@ -679,28 +679,17 @@ pub(super) fn parse_58(
     // split into x and y; check finiteness and ordering. The common case,
     // an even grid of finite values, in loops without a branch per value
     // (the same values); any other case, and the error's place, below.
+    // (values left in the file: nothing to split)
     let (mut x, mut y) = (Vec::new(), Vec::new());
-    if left.is_some() {
-        // nothing to split: the values stay in the file
-    } else if even && vals.iter().fold(true, |ok, v| ok & v.is_finite()) {
+    let fast = left.is_none() && even && vals.iter().fold(true, |ok, v| ok & v.is_finite());
+    if fast {
         even_abscissa(x_min, x_inc, n_pts, &mut x);
-        y = if complex {
-            vals.chunks_exact(2)
-                .map(|v| Complex64::new(v[0], v[1]))
-                .collect()
-        } else {
-            vals.iter().map(|&v| Complex64::new(v, 0.0)).collect()
-        };
+        y = points(&vals, complex);
     }
-    let general = if y.len() == n_pts || left.is_some() {
-        0
-    } else {
-        n_pts
-    };
-    if general > 0 {
-        x = Vec::with_capacity(n_pts);
-        y = Vec::with_capacity(n_pts);
-    }
+    // the points the general reading goes through: all, or none
+    let general = if left.is_none() && !fast { n_pts } else { 0 };
+    x.reserve(general);
+    y.reserve(general);
     for p in 0..general {
         let b = p * per_pt;
         let (xv, re_k) = if even {

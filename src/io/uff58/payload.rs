@@ -13,15 +13,44 @@
 
 use num_complex::Complex64;
 
-/// The file's numbers in `data` (its byte order, 8-byte doubles or 4-byte
-/// singles widened exactly) appended to `vals`: one loop per byte order and
+/// `f` of each of the file's numbers in `data` (its byte order, 8-byte
+/// doubles or 4-byte singles widened exactly): one loop per byte order and
 /// size over exact chunks, no index arithmetic or bounds check per value.
-pub(super) fn decode_into(data: &[u8], double: bool, big_endian: bool, vals: &mut Vec<f64>) {
+#[inline(always)]
+fn each_number(data: &[u8], double: bool, big_endian: bool, mut f: impl FnMut(f64)) {
     match (double, big_endian) {
-        (true, false) => vals.extend(data.chunks_exact(8).map(|ch| number(ch, true, false))),
-        (true, true) => vals.extend(data.chunks_exact(8).map(|ch| number(ch, true, true))),
-        (false, false) => vals.extend(data.chunks_exact(4).map(|ch| number(ch, false, false))),
-        (false, true) => vals.extend(data.chunks_exact(4).map(|ch| number(ch, false, true))),
+        (true, false) => data.chunks_exact(8).for_each(|c| f(number(c, true, false))),
+        (true, true) => data.chunks_exact(8).for_each(|c| f(number(c, true, true))),
+        (false, false) => data
+            .chunks_exact(4)
+            .for_each(|c| f(number(c, false, false))),
+        (false, true) => data.chunks_exact(4).for_each(|c| f(number(c, false, true))),
+    }
+}
+
+/// The file's numbers in `data` appended to `vals`.
+pub(super) fn decode_into(data: &[u8], double: bool, big_endian: bool, vals: &mut Vec<f64>) {
+    vals.reserve(data.len() / if double { 8 } else { 4 });
+    each_number(data, double, big_endian, |v| vals.push(v));
+}
+
+/// True when every number in `data` is finite (without a branch per value;
+/// where the first one is not, the parse's general path tells).
+pub(super) fn all_finite(data: &[u8], double: bool, big_endian: bool) -> bool {
+    let mut ok = true;
+    each_number(data, double, big_endian, |v| ok &= v.is_finite());
+    ok
+}
+
+/// An even grid's numbers as points: pairs (real, imaginary) when
+/// `complex`, else real values with imaginary part 0.
+pub(super) fn points(vals: &[f64], complex: bool) -> Vec<Complex64> {
+    if complex {
+        vals.chunks_exact(2)
+            .map(|v| Complex64::new(v[0], v[1]))
+            .collect()
+    } else {
+        vals.iter().map(|&v| Complex64::new(v, 0.0)).collect()
     }
 }
 
@@ -132,37 +161,7 @@ impl Payload {
     pub(super) fn values(&self, bytes: &[u8]) -> Vec<Complex64> {
         let mut vals = Vec::with_capacity(self.n_pts * if self.complex { 2 } else { 1 });
         decode_into(self.data(bytes), self.double, self.big_endian, &mut vals);
-        if self.complex {
-            vals.chunks_exact(2)
-                .map(|v| Complex64::new(v[0], v[1]))
-                .collect()
-        } else {
-            vals.iter().map(|&v| Complex64::new(v, 0.0)).collect()
-        }
-    }
-}
-
-/// True when every number in `data` is finite (a fold without a branch per
-/// value; where the first one is not, the parse's general path tells).
-pub(super) fn all_finite(data: &[u8], double: bool, big_endian: bool) -> bool {
-    let ok = |acc: bool, v: f64| acc & v.is_finite();
-    match (double, big_endian) {
-        (true, false) => data
-            .chunks_exact(8)
-            .map(|c| number(c, true, false))
-            .fold(true, ok),
-        (true, true) => data
-            .chunks_exact(8)
-            .map(|c| number(c, true, true))
-            .fold(true, ok),
-        (false, false) => data
-            .chunks_exact(4)
-            .map(|c| number(c, false, false))
-            .fold(true, ok),
-        (false, true) => data
-            .chunks_exact(4)
-            .map(|c| number(c, false, true))
-            .fold(true, ok),
+        points(&vals, self.complex)
     }
 }
 
