@@ -156,6 +156,8 @@ mod tests {
 
     /// The matrix is the same, value for value, on one thread and on
     /// several, with missing places NaN and a non-finite value told.
+    /// Reference: the values the test puts in, computed in the test (common
+    /// practice: a layout change must not change a value).
     #[test]
     fn tiles_and_threads_place_every_value_and_nan_elsewhere() {
         let (n_lines, n_out, n_in) = (333, 70, 3);
@@ -251,7 +253,9 @@ mod tests {
         assert!(!ok && data[n_lines - 1].re.is_nan() && data[0].re == 1.0);
     }
 
-    /// A matrix large enough for threads gives the one-thread bits.
+    /// A matrix large enough for threads holds every value put in, at its
+    /// place (common practice: splitting work over threads must not change
+    /// a bit).
     #[test]
     fn a_large_matrix_on_threads_equals_one_thread() {
         let (n_lines, per_line) = (1100, 600); // 10.6 MB: threads natively

@@ -1460,7 +1460,11 @@ mod tests {
     /// entries and a sign flip, two sets in one file, coherence and a
     /// spectrum (copied: not FRFs), a dataset 164's units (copied first),
     /// big-endian single precision in mm (a factor to SI), an ASCII dataset
-    /// among binary ones; and a non-finite value refused alike.
+    /// among binary ones; and a non-finite value refused alike. Reference:
+    /// the copying read (every reader's path checks against pyuff 2.5.8 in
+    /// `tests/uff_pyuff.rs` and hand-built files in `tests/uff_read.rs`),
+    /// and the written set's own values (common practice: a faster path
+    /// keeps the reference's bits).
     #[test]
     fn values_left_in_the_file_read_as_values_copied() {
         use super::super::write::write;

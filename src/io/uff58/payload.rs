@@ -169,6 +169,9 @@ impl Payload {
 mod tests {
     use super::*;
 
+    /// Reference: the numbers' IEEE 754 encodings as Rust's standard
+    /// library writes them (`to_le_bytes`, `to_be_bytes`; a single widened
+    /// exactly by `f64::from`), against both ways a payload is read.
     #[test]
     fn a_point_decodes_as_the_whole_payload_in_every_byte_order_and_size() {
         let nums = [1.5f64, -2.25e-300, 3.0e12, -0.0, 7.125, 1e-5];
