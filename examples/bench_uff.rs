@@ -60,6 +60,14 @@ unsafe impl GlobalAlloc for Counting {
         }
         p
     }
+    unsafe fn alloc_zeroed(&self, l: Layout) -> *mut u8 {
+        let p = System.alloc_zeroed(l);
+        if !p.is_null() {
+            let now = LIVE.fetch_add(l.size(), Ordering::Relaxed) + l.size();
+            PEAK.fetch_max(now, Ordering::Relaxed);
+        }
+        p
+    }
     unsafe fn dealloc(&self, p: *mut u8, l: Layout) {
         System.dealloc(p, l);
         LIVE.fetch_sub(l.size(), Ordering::Relaxed);
@@ -173,7 +181,7 @@ fn mortise_read(path: &Path) -> Run {
         let t0 = Instant::now();
         let c0 = cpu_seconds();
         // as the CLI reads a file (one allocation of the file's size, backed
-        // by huge pages on Linux)
+        // by huge pages on Linux, a large one read by two threads)
         let limits = mortise::limits::Limits {
             file_bytes: u64::MAX / 2,
             ..Default::default()

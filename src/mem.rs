@@ -6,7 +6,8 @@
 //! buffer took 0.21 s, into one advised so 0.11–0.13 s.
 //!
 //! Only the advice is given: the memory, its contents and its length are
-//! those of `Vec::with_capacity`.
+//! those of `Vec::with_capacity` (or of `vec![0u8; n]` for a zeroed buffer
+//! to read a file into).
 
 /// Buffers smaller than this are left to ordinary pages.
 #[cfg(target_os = "linux")]
@@ -18,24 +19,44 @@ const MIN_BYTES: usize = 8 << 20;
 pub(crate) fn large_vec<T>(n: usize) -> Vec<T> {
     #[cfg_attr(not(target_os = "linux"), allow(unused_mut))]
     let mut v: Vec<T> = Vec::with_capacity(n);
+    advise_huge(
+        v.as_mut_ptr() as usize,
+        n.saturating_mul(std::mem::size_of::<T>()),
+    );
+    v
+}
+
+/// `n` zero bytes, backed by huge pages where the kernel allows. A large
+/// zeroed allocation is fresh memory that reads as zero untouched (the
+/// allocator asks the kernel for it; nothing is written), so the buffer
+/// costs no more than [`large_vec`]'s until it is written, and can be read
+/// into as a slice.
+pub(crate) fn large_zeroed_bytes(n: usize) -> Vec<u8> {
+    let mut v = vec![0u8; n];
+    advise_huge(v.as_mut_ptr() as usize, n);
+    v
+}
+
+/// Ask for huge pages over the whole 2 MiB pages of the `bytes` from
+/// `start`, an allocation just made and not yet written (Linux, from
+/// [`MIN_BYTES`] on; nothing elsewhere).
+#[cfg_attr(not(target_os = "linux"), allow(unused_variables))]
+fn advise_huge(start: usize, bytes: usize) {
     #[cfg(target_os = "linux")]
     {
         const HUGE: usize = 2 << 20;
-        let bytes = n.saturating_mul(std::mem::size_of::<T>());
         if bytes >= MIN_BYTES {
-            let start = v.as_mut_ptr() as usize;
             let first = start.div_ceil(HUGE) * HUGE;
-            let end = (start + bytes) / HUGE * HUGE;
+            let end = start.saturating_add(bytes) / HUGE * HUGE;
             if end > first {
                 // SAFETY: [first, end) lies inside the allocation just made and
-                // not yet touched; MADV_HUGEPAGE only changes how it is backed.
+                // not yet written; MADV_HUGEPAGE only changes how it is backed.
                 unsafe {
                     libc::madvise(first as *mut libc::c_void, end - first, libc::MADV_HUGEPAGE);
                 }
             }
         }
     }
-    v
 }
 
 #[cfg(test)]
@@ -46,5 +67,14 @@ mod tests {
         assert!(v.is_empty() && v.capacity() >= 3 << 20);
         let w: Vec<u8> = super::large_vec(10);
         assert!(w.is_empty() && w.capacity() >= 10);
+    }
+
+    #[test]
+    fn large_zeroed_bytes_are_zero() {
+        for n in [0, 10, 9 << 20] {
+            let v = super::large_zeroed_bytes(n);
+            assert_eq!(v.len(), n);
+            assert!(v.iter().all(|&b| b == 0));
+        }
     }
 }

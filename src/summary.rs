@@ -328,7 +328,7 @@ pub fn file_summary(file: &str, bytes: &[u8], loaded: &Loaded) -> FileSummary {
     FileSummary {
         file: file.to_string(),
         bytes: bytes.len(),
-        sha256: crate::io::sha256_hex(bytes),
+        sha256: loaded.sha256.clone(),
         format: loaded.format.name().to_string(),
         frfs: sets.iter().map(|s| s.frfs).sum(),
         sets,

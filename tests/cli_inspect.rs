@@ -196,3 +196,45 @@ fn map_file_and_option_errors() {
     let h = run_cli(&argv(&["inspect", "--help"])).unwrap();
     assert!(h.contains("--mag-db-ref R"), "{h}");
 }
+
+/// A file large enough to be read by two threads, a half each, and hashed
+/// on a second thread while it is parsed (a 58b file of 9.8 MB): inspect
+/// gives the SHA-256 Python's hashlib gives, the provenance records it,
+/// and the values read are the values written.
+#[test]
+fn a_large_file_is_read_and_hashed_whole() {
+    let d = common::scratch("cli_inspect_large");
+    let dofs: Vec<mortise::Dof> = (0..20)
+        .map(|i| mortise::Dof::new("plate", &format!("{}", i + 1), mortise::Direction::Z))
+        .collect();
+    let freqs: Vec<f64> = (0..1530).map(|k| 1.0 + 0.5 * k as f64).collect();
+    let mut s = mortise::FrfSet::zeros(
+        "plate",
+        freqs,
+        dofs.clone(),
+        dofs,
+        mortise::Quantity::Displacement,
+        mortise::Quantity::Force,
+    );
+    for (i, v) in s.data.iter_mut().enumerate() {
+        *v = num_complex::Complex64::new(1e-6 * (i % 977) as f64 + 1e-9, -1e-7 * (i % 89) as f64);
+    }
+    let bytes = mortise::io::save(
+        std::slice::from_ref(&s),
+        mortise::io::ExportFormat::UffBinary,
+    )
+    .unwrap();
+    assert!(bytes.len() > 9 << 20, "{} bytes", bytes.len());
+    std::fs::write(d.join("plate.uff"), &bytes).unwrap();
+    let f = p(&d, "plate.uff");
+    let sha = common::run_py("sha256_file.py", &[&f]);
+    let j: serde_json::Value =
+        serde_json::from_str(&run_cli(&argv(&["inspect", f.as_str(), "--json"])).unwrap()).unwrap();
+    assert_eq!(j["files"][0]["sha256"], sha.trim());
+    let read = mortise::io::disk::read_file(Path::new(&f), &f, &Default::default()).unwrap();
+    assert!(read == bytes);
+    let l = mortise::io::load(&read, &f, &Default::default()).unwrap();
+    assert_eq!(l.sha256, sha.trim());
+    assert_eq!(l.sets[0].provenance[0].sha256, sha.trim());
+    assert_eq!(l.sets[0].data, s.data);
+}

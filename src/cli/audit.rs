@@ -301,6 +301,7 @@ mod tests {
             warnings: vec!["column 2: unit 'mm' taken from the header".into()],
             uff: None,
             time_histories: vec![],
+            sha256: String::new(),
         };
         let h = Loaded {
             format: io::Format::CsvNative,
@@ -308,6 +309,7 @@ mod tests {
             warnings: vec![],
             uff: None,
             time_histories: vec![],
+            sha256: String::new(),
         };
         let opts = AuditOptions::default();
         let one = audit_loaded("seat.csv", &l, &opts);

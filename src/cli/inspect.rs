@@ -330,7 +330,11 @@ pub fn load_files(paths: &[String], opts: &ImportOptions, limits: &Limits) -> Ve
                 };
                 FileResult {
                     path: p.clone(),
-                    sha256: Some(io::sha256_hex(&bytes)),
+                    // the load's hash where it read the file, else hashed here
+                    sha256: Some(match &result {
+                        Ok(l) => l.sha256.clone(),
+                        Err(_) => io::sha256_hex(&bytes),
+                    }),
                     content_sha256: io::bundle::content_sha256(&bytes).filter(|_| bundle),
                     result,
                     mat_variables,

@@ -269,6 +269,8 @@ pub struct Loaded {
     /// Time histories (UFF function type 1), apart from the sets: no FRF or
     /// spectrum operation takes them.
     pub time_histories: Vec<uff58::TimeHistory>,
+    /// SHA-256 of the file (hex), as the sets' provenance records it.
+    pub sha256: String,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -605,6 +607,20 @@ pub fn load_with_progress(
     limits: &crate::limits::Limits,
     progress: &mut dyn FnMut(usize),
 ) -> Result<Loaded> {
+    load_known(bytes, None, file, opts, limits, progress)
+}
+
+/// The body of every `load`: `sha256`, the bytes' SHA-256 where the caller
+/// already computed it from these very bytes (a bundle's input checked
+/// against its record), else computed here once.
+pub(crate) fn load_known(
+    bytes: &[u8],
+    sha256: Option<&str>,
+    file: &str,
+    opts: &ImportOptions,
+    limits: &crate::limits::Limits,
+    progress: &mut dyn FnMut(usize),
+) -> Result<Loaded> {
     let format = detect(bytes, file)?;
     let component = opts.component.clone().unwrap_or_else(|| file_stem(file));
     let mut warnings = Vec::new();
@@ -639,7 +655,7 @@ pub fn load_with_progress(
     }
     let mut uff = None;
     // the UFF reader hashes the file while it parses (see uff58::read_all)
-    let mut sha: Option<String> = None;
+    let mut sha: Option<String> = sha256.map(str::to_string);
     let mut sets = match format {
         Format::Uff58Ascii | Format::Uff58Binary => {
             // the overrides first; a wrong one is reported after the file's
@@ -677,6 +693,7 @@ pub fn load_with_progress(
                     // record-6 entity name, else the file stem
                     let all = uff58::read_all(
                         bytes,
+                        sha256,
                         file,
                         &component,
                         opts.component.as_deref(),
@@ -836,6 +853,7 @@ mortise can propose one from the column names and units (column map \"auto\"). T
         warnings,
         uff,
         time_histories,
+        sha256: prov.sha256,
     })
 }
 

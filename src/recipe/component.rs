@@ -286,7 +286,7 @@ fn load_file(
     if let (Some(m), true) = (&modal, loaded.sets.is_empty()) {
         let prov = crate::frf::Provenance {
             file: io::base_name(file),
-            sha256: io::sha256_hex(&bytes),
+            sha256: loaded.sha256.clone(),
             format: format!("{} dataset 55, modal superposition", loaded.format.name()),
             options: format!("component={}", opts.component.clone().unwrap_or_default()),
         };

@@ -229,6 +229,8 @@ impl Workspace {
         } else {
             import_options(&options).map_err(|e| e.in_file(name))?
         };
+        // the hash a bundle's input is checked by is the one the load records
+        let mut known = None;
         if let Some(b) = self.bundle_inputs.get(name) {
             let sha = io::sha256_hex(bytes);
             if sha != b.sha256 {
@@ -239,6 +241,7 @@ impl Workspace {
                 ))
                 .in_file(name));
             }
+            known = Some(sha);
         }
         if crate::vpt::geometry::looks_like_geometry(bytes) {
             return self.load_geometry(name, bytes, options);
@@ -246,14 +249,19 @@ impl Workspace {
         if recording {
             return self.load_recording(name, bytes, options);
         }
-        let loaded = io::load_with_progress(bytes, name, &opts, &self.limits, progress)
+        let loaded = io::load_known(bytes, known.as_deref(), name, &opts, &self.limits, progress)
             .map_err(|e| e.in_file(name))?;
         let mut sum = summary::file_summary(name, bytes, &loaded);
         self.recordings.remove(name);
         if !loaded.time_histories.is_empty() {
             // time histories become a recording; when they cannot (and the
             // file holds sets besides), the reason is a warning on the card
-            match self.uff_recording(name, &loaded.time_histories, loaded.format.name(), bytes) {
+            match self.uff_recording(
+                name,
+                &loaded.time_histories,
+                loaded.format.name(),
+                &loaded.sha256,
+            ) {
                 Ok(r) => sum.recording = Some(r),
                 Err(e) if sum.sets.is_empty() => return Err(e),
                 Err(e) => sum.warnings.push(format!(

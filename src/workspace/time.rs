@@ -829,11 +829,11 @@ impl Workspace {
         name: &str,
         histories: &[io::uff58::TimeHistory],
         format: &str,
-        bytes: &[u8],
+        sha256: &str,
     ) -> Result<RecordingSummary> {
         let others = self.recordings_bytes(name);
         let rec = self.read_uff_recording(name, histories, others)?;
-        let summary = recording_summary(name, format, io::sha256_hex(bytes), 0, &rec, Vec::new());
+        let summary = recording_summary(name, format, sha256.to_string(), 0, &rec, Vec::new());
         let over = vec![None; rec.channels.len()];
         self.recordings.insert(
             name.to_string(),

@@ -423,7 +423,7 @@ fn read_leaving(
     limits: &Limits,
     leave: bool,
 ) -> Result<UffRead> {
-    with_file_hash(bytes, &mut |sha256| {
+    with_file_hash(bytes, None, &mut |sha256| {
         let p = parse_file_with(bytes, file, &mut |_| {}, leave)?;
         group_datasets(
             bytes, file, component, declared, ov, limits, p.datasets, p.remarks, sha256,
@@ -450,10 +450,12 @@ pub struct UffAll {
 /// [`super::read_extras`] and [`read_overridden`] from one parse of the
 /// file (the same results and errors, in that order), telling `progress`
 /// the bytes read so far (see [`super::PROGRESS_STEP`]). `extras_component`
-/// names the modal model when the file's header does not.
+/// names the modal model when the file's header does not. `sha256`: the
+/// bytes' SHA-256 when the caller already computed it, else computed here.
 #[allow(clippy::too_many_arguments)]
 pub fn read_all(
     bytes: &[u8],
+    sha256: Option<&str>,
     file: &str,
     extras_component: &str,
     component: Option<&str>,
@@ -462,7 +464,7 @@ pub fn read_all(
     limits: &Limits,
     progress: &mut dyn FnMut(usize),
 ) -> Result<UffAll> {
-    with_file_hash(bytes, &mut |sha256| {
+    with_file_hash(bytes, sha256, &mut |sha256| {
         let mut p = parse_file_with(bytes, file, progress, true)?;
         let datasets = std::mem::take(&mut p.datasets);
         let remarks = p.remarks.clone();
@@ -488,12 +490,20 @@ pub fn read_all(
 #[cfg(not(target_arch = "wasm32"))]
 const HASH_APART: usize = 1 << 20;
 
-/// `body` run with a function that gives the file's SHA-256 (hex). For a
-/// large file natively the hash is computed on a second thread from the
-/// start, beside the parse and the grouping, and the function waits for
-/// it (the sets' provenance asks for it last); otherwise the hash is
-/// computed when first asked. The value is the same either way.
-fn with_file_hash<R>(bytes: &[u8], body: &mut dyn FnMut(&mut dyn FnMut() -> String) -> R) -> R {
+/// `body` run with a function that gives the file's SHA-256 (hex): `known`
+/// where given. Else, for a large file natively, the hash is computed on a
+/// second thread from the start, beside the parse and the grouping, and
+/// the function waits for it (the sets' provenance asks for it last);
+/// otherwise the hash is computed when first asked. The value is the same
+/// every way.
+fn with_file_hash<R>(
+    bytes: &[u8],
+    known: Option<&str>,
+    body: &mut dyn FnMut(&mut dyn FnMut() -> String) -> R,
+) -> R {
+    if let Some(k) = known {
+        return body(&mut || k.to_string());
+    }
     let mut done: Option<String> = None;
     #[cfg(not(target_arch = "wasm32"))]
     if bytes.len() >= HASH_APART {
