@@ -30,7 +30,8 @@ pub(crate) fn large_vec<T>(n: usize) -> Vec<T> {
 /// zeroed allocation is fresh memory that reads as zero untouched (the
 /// allocator asks the kernel for it; nothing is written), so the buffer
 /// costs no more than [`large_vec`]'s until it is written, and can be read
-/// into as a slice.
+/// into as a slice (by two threads, [`crate::io::disk`], Unix).
+#[cfg(unix)]
 pub(crate) fn large_zeroed_bytes(n: usize) -> Vec<u8> {
     let mut v = vec![0u8; n];
     advise_huge(v.as_mut_ptr() as usize, n);
@@ -69,6 +70,7 @@ mod tests {
         assert!(w.is_empty() && w.capacity() >= 10);
     }
 
+    #[cfg(unix)]
     #[test]
     fn large_zeroed_bytes_are_zero() {
         for n in [0, 10, 9 << 20] {
