@@ -58,7 +58,7 @@ pub mod levels;
 pub mod limits;
 pub mod linalg;
 pub mod listen;
-mod mem;
+pub mod mem;
 pub mod peaks;
 pub mod plot;
 pub mod predict;

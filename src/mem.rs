@@ -15,8 +15,9 @@ const MIN_BYTES: usize = 8 << 20;
 
 /// An empty buffer with room for `n` values, backed by huge pages where the
 /// kernel allows (Linux's transparent huge pages in "madvise" or "always"
-/// mode).
-pub(crate) fn large_vec<T>(n: usize) -> Vec<T> {
+/// mode). Public for the coupling benchmark, whose measure of the machine's
+/// limit writes into the same kind of buffer as the coupling's result.
+pub fn large_vec<T>(n: usize) -> Vec<T> {
     #[cfg_attr(not(target_os = "linux"), allow(unused_mut))]
     let mut v: Vec<T> = Vec::with_capacity(n);
     advise_huge(
