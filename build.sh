@@ -5,7 +5,7 @@
 #                     and the browser end-to-end tests against the built page
 #   ./build.sh bench  benchmarks: coupling (Rust core against numpy and the machine's limit; the page's
 #                     WebAssembly against native), the plot canvas (against plain Canvas 2D) and
-#                     reading large UFF files (against pyuff)
+#                     reading large UFF files (against pyuff; on the page against the CLI)
 #
 # On a fresh machine the first run installs what is missing, and only that: the wasm32 Rust target,
 # the pinned wasm-bindgen CLI, the npm packages (playwright-core, binaryen's wasm-opt); `test` also
@@ -175,6 +175,8 @@ case "${1:-build}" in
     node tools/plot-bench.mjs
     echo "== large UFF files: mortise's read against pyuff (the first run writes 284 MB into target/bench-uff)"
     cargo run --release --quiet --example bench_uff
+    echo "== large UFF files on the page (file input to card) against mortise inspect"
+    node tools/uff-page-bench.mjs
     ;;
   *)
     echo "usage: ./build.sh [build|test|bench]" >&2
