@@ -449,10 +449,25 @@ pub fn check_passivity(set: &FrfSet, opts: &AuditOptions) -> CheckResult {
     if set.signal.is_some() {
         return na("a spectrum, not an FRF set".into());
     }
+    // only the outputs and inputs at a driving point are converted (the same
+    // values; the whole set's converted copy was 80 MB for a 58b file of
+    // 500 × 2 FRFs on 5,000 lines, and the page's slowest step after the hash)
+    let mut cols: Vec<usize> = Vec::new();
+    let mut rows: Vec<usize> = Vec::new();
+    for (i, d) in set.outputs.iter().enumerate() {
+        if let Some(j) = set.in_place(d) {
+            rows.push(i);
+            if !cols.contains(&j) {
+                cols.push(j);
+            }
+        }
+    }
+    cols.sort_unstable();
+    let at = set.select(&rows, &cols);
     let conv = if set.out_qty.is_motion() && set.in_qty == Quantity::Force {
-        set.to_quantities(Quantity::Velocity, Quantity::Force)
+        at.to_quantities(Quantity::Velocity, Quantity::Force)
     } else if set.out_qty == Quantity::Force && set.in_qty.is_motion() {
-        set.to_quantities(Quantity::Force, Quantity::Velocity)
+        at.to_quantities(Quantity::Force, Quantity::Velocity)
     } else {
         return na(format!(
             "{} data have no driving-point mobility or impedance",

@@ -435,3 +435,50 @@ fn coarse_resolution_and_uneven_grid_are_flagged() {
         Status::NotApplicable
     );
 }
+
+/// Passivity looks at the driving points only: a set with more outputs
+/// than inputs, its inputs in another order than its outputs and a sign
+/// flipped, gives the check of the square set of its driving points. A
+/// damper of negative rate to ground at DOF 2 of a three-mass chain feeds
+/// energy in, so Re(Y) < 0 at driving points (textbook: the power
+/// ½ Re(Y) |F|² delivered by a point force).
+#[test]
+fn passivity_reads_the_driving_points_of_a_wide_set() {
+    let f = grid(1.0, 40.0, 0.25);
+    let k = DMatrix::from_row_slice(3, 3, &[2e4, -1e4, 0.0, -1e4, 2e4, -1e4, 0.0, -1e4, 1e4]);
+    let c = DMatrix::from_row_slice(3, 3, &[3.0, 0.0, 0.0, 0.0, -12.0, 0.0, 0.0, 0.0, 3.0]);
+    let h = lumped("chain", &f, &[1.0, 1.0, 1.0], &k, &c);
+    // the driving points at DOFs 2 and 3
+    let square = check_passivity(&h.select(&[1, 2], &[1, 2]), &AuditOptions::default());
+    assert_eq!(square.status, Status::Flag);
+    assert!(!square.flagged.is_empty());
+    // outputs 3, 1, 2 of all three; inputs 2 and 3 only, the input at DOF 3
+    // with its sign flipped (the driving point's sign is taken out)
+    let mut wide = h.select(&[2, 0, 1], &[1, 2]);
+    wide.inputs[1].positive = false;
+    for l in 0..f.len() {
+        for i in 0..3 {
+            let v = wide.get(l, i, 1);
+            wide.set(l, i, 1, -v);
+        }
+    }
+    let r = check_passivity(&wide, &AuditOptions::default());
+    assert_eq!(r.status, square.status);
+    // the same ranges, lines and worst values; a range's entries are listed
+    // in the set's output order
+    let sorted = |v: &[FlaggedRange]| -> Vec<FlaggedRange> {
+        v.iter()
+            .map(|x| {
+                let mut x = x.clone();
+                x.entries.sort();
+                x
+            })
+            .collect()
+    };
+    assert_eq!(sorted(&r.flagged), sorted(&square.flagged));
+    assert!(
+        r.summary.contains(" of 2 driving point(s)"),
+        "{}",
+        r.summary
+    );
+}
