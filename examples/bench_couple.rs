@@ -120,14 +120,18 @@ fn main() {
         );
         return;
     }
-    let t1 = Instant::now();
-    let serial = couple_with_threads(&comps, &joints, &opts, 1).expect("coupling failed");
-    let t_serial = t1.elapsed().as_secs_f64();
-    assert_eq!(
-        serial.set.data, r.set.data,
-        "threaded and serial results differ"
-    );
-    drop(serial);
+    // best of 2: the first run's result is the second 1.19 GB held, and its
+    // fresh memory alone took 2.25 s against 0.65 s for the next run
+    let mut t_serial = f64::INFINITY;
+    for _ in 0..2 {
+        let t1 = Instant::now();
+        let serial = couple_with_threads(&comps, &joints, &opts, 1).expect("coupling failed");
+        t_serial = t_serial.min(t1.elapsed().as_secs_f64());
+        assert_eq!(
+            serial.set.data, r.set.data,
+            "threaded and serial results differ"
+        );
+    }
 
     // requested outputs: 4 targets (last outputs of the assembly) × 4
     // sources (first inputs), demand-driven, equal to the full result's
@@ -288,7 +292,7 @@ fn main() {
     println!(
         "mortise (Rust, {threads} threads, best of {REPS}): {best:.3} s wall, {best_cpu:.2} s CPU"
     );
-    println!("mortise (Rust, 1 thread, one run): {t_serial:.3} s wall");
+    println!("mortise (Rust, 1 thread, best of 2): {t_serial:.3} s wall");
     for r in &np_runs {
         let what = if r.version == "matmul" {
             "stacked matmul with Boolean B + batched solve"
