@@ -18,7 +18,6 @@ const MIN_BYTES: usize = 8 << 20;
 /// mode). Public for the coupling benchmark, whose measure of the machine's
 /// limit writes into the same kind of buffer as the coupling's result.
 pub fn large_vec<T>(n: usize) -> Vec<T> {
-    #[cfg_attr(not(target_os = "linux"), allow(unused_mut))]
     let mut v: Vec<T> = Vec::with_capacity(n);
     advise_huge(
         v.as_mut_ptr() as usize,

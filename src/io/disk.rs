@@ -76,51 +76,35 @@ fn read_halves(file: &std::fs::File, len: u64) -> std::io::Result<Option<Vec<u8>
         let other =
             std::thread::Builder::new().spawn_scoped(sc, || fill_at(file, second, half as u64));
         let a = fill_at(file, first, 0);
-        // no thread, or one that failed (it cannot panic on a read): the
-        // second half is read here, below
-        let b = match other {
-            Ok(h) => h.join().unwrap_or(Ok(false)),
-            Err(_) => Ok(false),
-        };
+        // None: no thread could be started, or it failed (it cannot panic
+        // on a read); the second half is then read here, below
+        let b = other.ok().and_then(|h| h.join().ok());
         (a, b)
     });
-    let (a, b) = (a?, b?);
-    // (a second half found short is read again: short again, the file shrank)
-    let b = b || fill_at(file, &mut bytes[half..], half as u64)?;
-    if !(a && b) {
+    let b = match b {
+        Some(b) => b?,
+        None => fill_at(file, &mut bytes[half..], half as u64)?,
+    };
+    if !(a? && b) {
         return Ok(None);
     }
     // one byte past the end tells the file grew
-    let mut past = [0u8; 1];
-    if read_at(file, &mut past, len)? > 0 {
+    if fill_at(file, &mut [0u8; 1], len)? {
         return Ok(None);
     }
     Ok(Some(bytes))
 }
 
-/// Fill `buf` from `file` at `offset`: true when filled, false when the
-/// file ended first.
+/// Fill `buf` from `file` at `offset` (std's `read_exact_at`: reads
+/// retried when interrupted): true when filled, false when the file ended
+/// first.
 #[cfg(unix)]
 fn fill_at(file: &std::fs::File, buf: &mut [u8], offset: u64) -> std::io::Result<bool> {
-    let mut got = 0;
-    while got < buf.len() {
-        match read_at(file, &mut buf[got..], offset + got as u64)? {
-            0 => return Ok(false),
-            n => got += n,
-        }
-    }
-    Ok(true)
-}
-
-/// One read at an offset, retried when interrupted.
-#[cfg(unix)]
-fn read_at(file: &std::fs::File, buf: &mut [u8], offset: u64) -> std::io::Result<usize> {
     use std::os::unix::fs::FileExt;
-    loop {
-        match file.read_at(buf, offset) {
-            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
-            r => return r,
-        }
+    match file.read_exact_at(buf, offset) {
+        Ok(()) => Ok(true),
+        Err(e) if e.kind() == std::io::ErrorKind::UnexpectedEof => Ok(false),
+        Err(e) => Err(e),
     }
 }
 
