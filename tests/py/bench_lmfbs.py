@@ -12,7 +12,8 @@ two ways:
   solve, and the rank-m update written in place into the preallocated result
   in chunks of lines (no full-size temporary).
 Also measured, for the machine's limit: the complex matrix-product rate
-(OpenBLAS zgemm through numpy on large square matrices, best of 3).
+(OpenBLAS zgemm through numpy on large square matrices, best of 7: the
+build machine is shared, and a low rate would make the limit look easy).
 Writes every SAMPLE-th line of both results (complex128, little-endian,
 line-major) for the Rust side to compare, and prints one JSON line with the
 best wall-clock and CPU (all threads) times of each.
@@ -123,7 +124,7 @@ def main():
     a = rng.standard_normal((m, m)) + 1j * rng.standard_normal((m, m))
     b = rng.standard_normal((m, m)) + 1j * rng.standard_normal((m, m))
     t = float("inf")
-    for _ in range(3):
+    for _ in range(7):
         t0 = time.perf_counter()
         a @ b
         t = min(t, time.perf_counter() - t0)
