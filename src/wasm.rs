@@ -255,10 +255,45 @@ pub fn version() -> String {
 #[wasm_bindgen]
 pub fn load_file(
     name: &str,
-    bytes: &[u8],
+    bytes: Vec<u8>,
     options_json: &str,
     report: Option<js_sys::Function>,
 ) -> std::result::Result<String, JsValue> {
+    to_json(&load_summary(name, bytes, options_json, report)?)
+}
+
+/// A file the page was given, in one call, so its bytes cross to the
+/// worker once: a bundle (by its content) is not loaded, and the answer is
+/// `{"kind": "bundle"}` (the page asks before opening it, by
+/// `open_bundle`); any other file is loaded as by [`load_file`], and the
+/// answer is `{"kind": "data", "summary": …}`. Refusals as [`load_file`]'s.
+/// The import options are a data file's (a bundle's own recipe says how
+/// its inputs are read): a bundle's answer leaves them unread, as
+/// `open_bundle` takes none.
+#[wasm_bindgen]
+pub fn take_file(
+    name: &str,
+    bytes: Vec<u8>,
+    options_json: &str,
+    report: Option<js_sys::Function>,
+) -> std::result::Result<String, JsValue> {
+    if matches!(io::detect(&bytes, name), Ok(io::Format::Bundle)) {
+        return to_json(&serde_json::json!({"kind": "bundle"}));
+    }
+    let sum = load_summary(name, bytes, options_json, report)?;
+    to_json(&serde_json::json!({"kind": "data", "summary": sum}))
+}
+
+/// [`load_file`]'s work: the file read into the workspace, its summary.
+/// The bytes are taken, not borrowed: the glue has copied them into this
+/// memory once, and the workspace keeps that copy (a large file is not
+/// copied a second time).
+fn load_summary(
+    name: &str,
+    bytes: Vec<u8>,
+    options_json: &str,
+    report: Option<js_sys::Function>,
+) -> std::result::Result<summary::FileSummary, JsValue> {
     // JSON only here: the workspace reads the options as the file's kind
     // takes them (import options, or a recording's channels)
     let text = if options_json.trim().is_empty() {
@@ -280,22 +315,11 @@ pub fn load_file(
             let _ = f.call2(&JsValue::NULL, &JsValue::from_f64(done as f64), &total);
         }
     };
-    let sum = WS
-        .with(|ws| {
-            ws.borrow_mut()
-                .load_file_with_progress(name, bytes, value, &mut progress)
-        })
-        .map_err(js_err)?;
-    to_json(&sum)
-}
-
-/// The format of a file, detected from its bytes by the core ("uff58-ascii",
-/// "uff58-binary", "csv-mortise", "csv-mapped", "bundle").
-#[wasm_bindgen]
-pub fn detect_format(name: &str, bytes: &[u8]) -> std::result::Result<String, JsValue> {
-    io::detect(bytes, name)
-        .map(|f| f.name().to_string())
-        .map_err(js_err)
+    WS.with(|ws| {
+        ws.borrow_mut()
+            .load_file_with_progress(name, bytes, value, &mut progress)
+    })
+    .map_err(js_err)
 }
 
 /// Remove a file and its sets from the workspace.

@@ -12,8 +12,7 @@ function recipeOptionsFor(name) {
   return null;
 }
 async function addFile(name, bytes, options) {
-  const fmtName = await Bridge.call('detect_format', [name, bytes]).catch(() => null);
-  if (/\.recipe\.json$/i.test(name) || fmtName === 'recipe') {
+  if (/\.recipe\.json$/i.test(name)) {
     if (!(await replaceRecipe(new TextDecoder().decode(bytes), name))) return;
     // files already loaded that the recipe reads with other options: read them again
     for (const f of S.files) {
@@ -26,7 +25,11 @@ async function addFile(name, bytes, options) {
     return;
   }
   if (!options) options = recipeOptionsFor(name) || undefined;
-  if (fmtName === 'bundle') {
+  let entry = S.files.find((f) => f.name === name);
+  // one call, so the bytes cross to the worker once: the core says whether
+  // they are a bundle (not read), else reads them as a data file
+  const read = await readBytes(name, bytes, options || (entry ? entry.options : {}), 'take_file');
+  if (read.kind === 'bundle') {
     // a bundle brings its own recipe and results: ask before the recipe on screen goes
     if (!restoring && R.text.trim() && !(await ask(`Opening the bundle ${name} replaces the recipe text and the results on screen with the bundle's. Open it?`, 'Open the bundle', 'Keep my recipe'))) {
       status(`bundle ${name} not opened; the recipe on screen is kept`);
@@ -38,7 +41,6 @@ async function addFile(name, bytes, options) {
     if (S.bundle && S.bundle.bytes === bytes) clearStale();
     return;
   }
-  let entry = S.files.find((f) => f.name === name);
   if (!entry) {
     entry = { name, bytes, options: options || {}, summary: null, error: null };
     S.files.push(entry);
@@ -46,7 +48,7 @@ async function addFile(name, bytes, options) {
     entry.bytes = bytes;
     if (options) entry.options = options;
   }
-  await loadEntry(entry);
+  settleEntry(entry, read);
   // the core says when a file needs a column map (its error's field); any other error stays on the card
   if (entry.error && entry.error.field === 'column_map' && !restoring) {
     if (await mapLikeLoaded(entry)) return;
@@ -97,19 +99,30 @@ function readProgress(name, done, total) {
   $('read-progress').value = pct;
   $('read-label').textContent = `reading ${name}: ${pct} %`;
 }
-async function loadEntry(entry) {
-  readProgress(entry.name, 0, entry.bytes.length);
+// Read bytes in the worker with the bar shown: `fn` is load_file (the
+// answer is the summary) or take_file (the answer says what the bytes are).
+// Returns { kind: 'data', summary } or { kind: 'data', error }, or take_file's
+// { kind: 'bundle' }.
+async function readBytes(name, bytes, options, fn) {
+  readProgress(name, 0, bytes.length);
   $('read-box').hidden = false;
   try {
-    entry.summary = await Bridge.callJson('load_file', [entry.name, entry.bytes, JSON.stringify(entry.options)], 'reading ' + entry.name,
-      ({ done, total }) => readProgress(entry.name, done, total));
-    entry.error = null;
+    const r = await Bridge.callJson(fn, [name, bytes, JSON.stringify(options || {})], 'reading ' + name,
+      ({ done, total }) => readProgress(name, done, total));
+    return fn === 'take_file' ? r : { kind: 'data', summary: r };
   } catch (e) {
-    entry.summary = null;
-    entry.error = e;
+    return { kind: 'data', error: e };
   } finally {
     $('read-box').hidden = true;
   }
+}
+async function loadEntry(entry) {
+  settleEntry(entry, await readBytes(entry.name, entry.bytes, entry.options, 'load_file'));
+}
+// A file's read: its card's summary or error; later runs are stale.
+function settleEntry(entry, read) {
+  entry.summary = read.summary || null;
+  entry.error = read.error || null;
   S.filesEpoch++;
   markStale(`the file ${entry.name} was added or read again after this run`);
   renderAll();

@@ -183,7 +183,7 @@ fn run_bundle(
         }
         let b = folder.read(name)?;
         let opts = ws.bundle_input_options(name).cloned().unwrap_or_default();
-        ws.load_file(name, &b, opts)?;
+        ws.load_file_with_progress(name, b, opts, &mut |_| {})?;
     }
     let missing = ws.missing_inputs();
     if !missing.is_empty() {

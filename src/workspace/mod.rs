@@ -207,21 +207,22 @@ impl Workspace {
         bytes: &[u8],
         options: serde_json::Value,
     ) -> Result<FileSummary> {
-        self.load_file_with_progress(name, bytes, options, &mut |_| {})
+        self.load_file_with_progress(name, bytes.to_vec(), options, &mut |_| {})
     }
 
-    /// [`Workspace::load_file`] telling `progress` the bytes of a UFF file
-    /// parsed so far (see [`io::load_with_progress`]).
+    /// [`Workspace::load_file`] taking the bytes it keeps (no copy of the
+    /// file: the page's large files), telling `progress` the bytes of a UFF
+    /// file parsed so far (see [`io::load_with_progress`]).
     pub fn load_file_with_progress(
         &mut self,
         name: &str,
-        bytes: &[u8],
+        bytes: Vec<u8>,
         options: serde_json::Value,
         progress: &mut dyn FnMut(usize),
     ) -> Result<FileSummary> {
         // a supplier's time CSV is told by its time map, not by its content
-        let recording = io::wav::looks_like_wav(bytes)
-            || io::time_csv::looks_like_time_csv(bytes)
+        let recording = io::wav::looks_like_wav(&bytes)
+            || io::time_csv::looks_like_time_csv(&bytes)
             || options.get("time_map").is_some_and(|m| !m.is_null());
         // a recording takes its own options (`time.rs`), checked there
         let opts = if recording {
@@ -232,7 +233,7 @@ impl Workspace {
         // the hash a bundle's input is checked by is the one the load records
         let mut known = None;
         if let Some(b) = self.bundle_inputs.get(name) {
-            let sha = io::sha256_hex(bytes);
+            let sha = io::sha256_hex(&bytes);
             if sha != b.sha256 {
                 return Err(Error::parse(format!(
                     "SHA-256 {sha} differs from {} recorded in bundle '{}' for this input: it is not the file the bundle's results came from",
@@ -243,15 +244,22 @@ impl Workspace {
             }
             known = Some(sha);
         }
-        if crate::vpt::geometry::looks_like_geometry(bytes) {
+        if crate::vpt::geometry::looks_like_geometry(&bytes) {
             return self.load_geometry(name, bytes, options);
         }
         if recording {
             return self.load_recording(name, bytes, options);
         }
-        let loaded = io::load_known(bytes, known.as_deref(), name, &opts, &self.limits, progress)
-            .map_err(|e| e.in_file(name))?;
-        let mut sum = summary::file_summary(name, bytes, &loaded);
+        let loaded = io::load_known(
+            &bytes,
+            known.as_deref(),
+            name,
+            &opts,
+            &self.limits,
+            progress,
+        )
+        .map_err(|e| e.in_file(name))?;
+        let mut sum = summary::file_summary(name, &bytes, &loaded);
         self.recordings.remove(name);
         if !loaded.time_histories.is_empty() {
             // time histories become a recording; when they cannot (and the
@@ -279,7 +287,7 @@ impl Workspace {
         self.files.insert(
             name.to_string(),
             WsFile {
-                bytes: bytes.to_vec(),
+                bytes,
                 options,
                 format: loaded.format.name().to_string(),
             },
@@ -293,7 +301,7 @@ impl Workspace {
     fn load_geometry(
         &mut self,
         name: &str,
-        bytes: &[u8],
+        bytes: Vec<u8>,
         options: serde_json::Value,
     ) -> Result<FileSummary> {
         if options.as_object().is_some_and(|o| !o.is_empty()) {
@@ -306,14 +314,14 @@ impl Workspace {
         self.limits
             .check_bytes("the geometry file", Some(bytes.len() as u64))
             .map_err(|e| e.in_file(name))?;
-        let geom = crate::vpt::Geometry::from_csv(bytes, name)?;
-        let sum = summary::geometry_file_summary(name, bytes, &geom);
+        let geom = crate::vpt::Geometry::from_csv(&bytes, name)?;
+        let sum = summary::geometry_file_summary(name, &bytes, &geom);
         self.recordings.remove(name);
         self.drop_prefix(&prefix_of("file", name));
         self.files.insert(
             name.to_string(),
             WsFile {
-                bytes: bytes.to_vec(),
+                bytes,
                 options,
                 format: sum.format.clone(),
             },

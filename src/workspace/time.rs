@@ -719,11 +719,11 @@ impl Workspace {
     pub(super) fn load_recording(
         &mut self,
         name: &str,
-        bytes: &[u8],
+        bytes: Vec<u8>,
         options: serde_json::Value,
     ) -> Result<FileSummary> {
         let others = self.recordings_bytes(name);
-        let (rec, over, format, notes) = self.read_recording(name, bytes, &options, others)?;
+        let (rec, over, format, notes) = self.read_recording(name, &bytes, &options, others)?;
         Ok(self.keep_recording(name, bytes, options, (rec, over), format, notes))
     }
 
@@ -868,7 +868,7 @@ impl Workspace {
     fn keep_recording(
         &mut self,
         name: &str,
-        bytes: &[u8],
+        bytes: Vec<u8>,
         options: serde_json::Value,
         (rec, over): (Recording, Vec<Option<f64>>),
         format: String,
@@ -877,7 +877,7 @@ impl Workspace {
         let summary = recording_summary(
             name,
             &format,
-            io::sha256_hex(bytes),
+            io::sha256_hex(&bytes),
             bytes.len() as u64,
             &rec,
             notes,
@@ -892,17 +892,18 @@ impl Workspace {
             },
         );
         // the bytes stay for recipes' time-data steps and bundles
+        let size = bytes.len();
         self.files.insert(
             name.to_string(),
             WsFile {
-                bytes: bytes.to_vec(),
+                bytes,
                 options,
                 format: format.clone(),
             },
         );
         FileSummary {
             file: name.to_string(),
-            bytes: bytes.len(),
+            bytes: size,
             sha256: summary.sha256.clone(),
             format,
             frfs: 0,
