@@ -27,6 +27,7 @@ use mortise::assemble::{
 };
 use mortise::limits::Limits;
 use num_complex::Complex64;
+use std::mem::MaybeUninit;
 use std::path::PathBuf;
 use std::process::Command;
 use std::time::Instant;
@@ -65,6 +66,40 @@ fn python() -> PathBuf {
         Ok(p) => PathBuf::from(p),
         Err(_) => PathBuf::from(env!("CARGO_MANIFEST_DIR")).join(".venv/bin/python"),
     }
+}
+
+/// Wall time (best of 3) of filling a fresh result of [`LINES`] lines of
+/// `per_line` values, in a buffer advised for huge pages as the coupling's
+/// result is, the lines dealt out to `threads` threads in equal runs:
+/// `line(k, values)` must write every value of line `k`.
+fn fresh_pass(
+    per_line: usize,
+    threads: usize,
+    line: impl Fn(usize, &mut [MaybeUninit<Complex64>]) + Sync,
+) -> f64 {
+    let values = LINES * per_line;
+    let per_thread = LINES.div_ceil(threads.max(1));
+    let mut best = f64::INFINITY;
+    for _ in 0..3 {
+        let t0 = Instant::now();
+        let mut v: Vec<Complex64> = mortise::mem::large_vec(values);
+        let spare = &mut v.spare_capacity_mut()[..values];
+        std::thread::scope(|sc| {
+            for (t, part) in spare.chunks_mut((per_thread * per_line).max(1)).enumerate() {
+                let line = &line;
+                sc.spawn(move || {
+                    for (l, values) in part.chunks_mut(per_line.max(1)).enumerate() {
+                        line(t * per_thread + l, values);
+                    }
+                });
+            }
+        });
+        // SAFETY: `line` wrote every value of every line (its contract)
+        unsafe { v.set_len(values) };
+        best = best.min(t0.elapsed().as_secs_f64());
+        std::hint::black_box(&v);
+    }
+    best
 }
 
 fn main() {
@@ -262,74 +297,43 @@ fn main() {
     // threads, best of 3; a buffer advised for huge pages, as the coupling's
     // result is), and the essential flops at the measured zgemm rate
     let values = LINES * n * n;
-    let mut t_write = f64::INFINITY;
-    for _ in 0..3 {
-        let t0 = Instant::now();
-        let mut v: Vec<Complex64> = mortise::mem::large_vec(values);
-        let spare = v.spare_capacity_mut();
-        let chunk = spare.len().div_ceil(threads.max(1));
-        std::thread::scope(|sc| {
-            for part in spare.chunks_mut(chunk.max(1)) {
-                sc.spawn(move || {
-                    for x in part {
-                        x.write(Complex64::new(1.0, 0.0));
-                    }
-                });
-            }
-        });
-        // SAFETY: every element of the spare capacity was written just above
-        unsafe { v.set_len(values) };
-        t_write = t_write.min(t0.elapsed().as_secs_f64());
-        std::hint::black_box(&v);
-    }
+    let t_write = fresh_pass(n * n, threads, |_, line| {
+        for x in line {
+            x.write(Complex64::new(1.0, 0.0));
+        }
+    });
     // a floor of the memory traffic no coupling avoids, for context beside
     // the limit: every line reads the components' values (the Y term of
     // Y − Y B_fᵀ X) and writes the result's. This pass copies the
     // block-diagonal Y into a fresh result of the same kind, its zero
-    // blocks included, lines dealt out to the threads in halves (best of 3)
+    // blocks included
     assert!(
         comps.iter().all(|c| c.n_out() == c.n_in())
             && comps.iter().map(|c| c.n_in()).sum::<usize>() == n,
         "the copy pass expects square components whose sizes add up to the result's"
     );
-    let mut t_copy = f64::INFINITY;
-    for _ in 0..3 {
-        let t0 = Instant::now();
-        let mut v: Vec<Complex64> = mortise::mem::large_vec(values);
-        let spare = v.spare_capacity_mut();
-        let per_thread = LINES.div_ceil(threads.max(1));
-        std::thread::scope(|sc| {
-            for (t, part) in spare.chunks_mut((per_thread * n * n).max(1)).enumerate() {
-                let comps = &comps;
-                sc.spawn(move || {
-                    for (l, dst) in part.chunks_mut(n * n).enumerate() {
-                        let k = t * per_thread + l;
-                        let mut off = 0;
-                        for c in comps.iter() {
-                            let y = c.line(k);
-                            let w = c.n_in();
-                            for (i, src) in y.chunks(w).enumerate() {
-                                let row = &mut dst[(off + i) * n..(off + i + 1) * n];
-                                for (j, d) in row.iter_mut().enumerate() {
-                                    d.write(if j >= off && j < off + w {
-                                        src[j - off]
-                                    } else {
-                                        Complex64::new(0.0, 0.0)
-                                    });
-                                }
-                            }
-                            off += c.n_out();
-                        }
-                    }
+    let zero = Complex64::new(0.0, 0.0);
+    let t_copy = fresh_pass(n * n, threads, |k, line| {
+        let mut off = 0;
+        for c in &comps {
+            let w = c.n_in();
+            for (i, src) in c.line(k).chunks(w).enumerate() {
+                let row = &mut line[(off + i) * n..(off + i + 1) * n];
+                let (before, rest) = row.split_at_mut(off);
+                let (block, after) = rest.split_at_mut(w);
+                before.iter_mut().for_each(|d| {
+                    d.write(zero);
+                });
+                for (d, &y) in block.iter_mut().zip(src) {
+                    d.write(y);
+                }
+                after.iter_mut().for_each(|d| {
+                    d.write(zero);
                 });
             }
-        });
-        // SAFETY: every line's n × n values were written just above (the
-        // components' outputs and inputs number n each)
-        unsafe { v.set_len(values) };
-        t_copy = t_copy.min(t0.elapsed().as_secs_f64());
-        std::hint::black_box(&v);
-    }
+            off += w;
+        }
+    });
     let input_gb: f64 = comps.iter().map(|c| (c.data.len() * 16) as f64 / 1e9).sum();
 
     // per line: the update (n × m)(m × n), 8 n² m real flops; the solve of

@@ -11,9 +11,11 @@ function recipeOptionsFor(name) {
   }
   return null;
 }
+// Returns what the bytes were: 'recipe', 'bundle' (opened or declined) or
+// 'data' (read onto a card, or refused there).
 async function addFile(name, bytes, options) {
   if (/\.recipe\.json$/i.test(name)) {
-    if (!(await replaceRecipe(new TextDecoder().decode(bytes), name))) return;
+    if (!(await replaceRecipe(new TextDecoder().decode(bytes), name))) return 'recipe';
     // files already loaded that the recipe reads with other options: read them again
     for (const f of S.files) {
       const o = recipeOptionsFor(f.name);
@@ -22,7 +24,7 @@ async function addFile(name, bytes, options) {
     renderAsm();
     status(`recipe read from ${name}`);
     autosave();
-    return;
+    return 'recipe';
   }
   if (!options) options = recipeOptionsFor(name) || undefined;
   let entry = S.files.find((f) => f.name === name);
@@ -33,13 +35,13 @@ async function addFile(name, bytes, options) {
     // a bundle brings its own recipe and results: ask before the recipe on screen goes
     if (!restoring && R.text.trim() && !(await ask(`Opening the bundle ${name} replaces the recipe text and the results on screen with the bundle's. Open it?`, 'Open the bundle', 'Keep my recipe'))) {
       status(`bundle ${name} not opened; the recipe on screen is kept`);
-      return;
+      return 'bundle';
     }
     await openBundle(name, bytes);
     adoptRecipeText('the bundle ' + name);
     // the bundle's results belong to the bundle's recipe: not stale
     if (S.bundle && S.bundle.bytes === bytes) clearStale();
-    return;
+    return 'bundle';
   }
   if (!entry) {
     entry = { name, bytes, options: options || {}, summary: null, error: null };
@@ -51,10 +53,11 @@ async function addFile(name, bytes, options) {
   settleEntry(entry, read);
   // the core says when a file needs a column map (its error's field); any other error stays on the card
   if (entry.error && entry.error.field === 'column_map' && !restoring) {
-    if (await mapLikeLoaded(entry)) return;
+    if (await mapLikeLoaded(entry)) return 'data';
     // one dialog at a time: a file waiting behind it is read when a map of its layout is confirmed
     if (!$('map-dialog').open) openMapping(entry);
   }
+  return 'data';
 }
 // A map made for one file reads every file of the same layout (the core
 // compares delimiter, column names and cells); each file keeps its own
@@ -137,13 +140,13 @@ async function removeFile(name) {
   autosave();
 }
 async function readFiles(list) {
+  const kinds = [];
   for (const f of list) {
     const bytes = new Uint8Array(await f.arrayBuffer());
-    await addFile(f.name, bytes);
+    kinds.push(await addFile(f.name, bytes));
   }
-  // (a recipe alone, or a bundle, says what became of it itself)
-  const data = list.filter((f) => !/\.recipe\.json$/i.test(f.name));
-  if (data.length && !(S.bundle && list.some((f) => f.name === S.bundle.name))) status(`${S.files.length} file(s) in the workspace`);
+  // (a recipe alone, or a bundle opened or declined, says what became of it itself)
+  if (kinds.includes('data') && !kinds.includes('bundle')) status(`${S.files.length} file(s) in the workspace`);
 }
 
 // ---------- cards ----------

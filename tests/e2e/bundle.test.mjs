@@ -61,6 +61,25 @@ test('the content SHA-256 is shown when a bundle is saved and opened; a tampered
     await shot(s2.page, 'bundle-opened-hash');
   } finally { await s2.close(); }
 
+  // declined: with a recipe on screen the page asks first; "keep" leaves the
+  // recipe, the files and the workspace as they were (the core told the
+  // bytes a bundle and read nothing of them)
+  const s4 = await open();
+  try {
+    await addFiles(s4.page, [{ name: 'frame.csv', data: frameCsv() }]);
+    const mine = JSON.stringify(RECIPE, null, 2);
+    await pasteRecipe(s4.page, mine);
+    await dropBundle(s4.page, bundle.name, bundle.bytes);
+    await s4.page.waitForSelector('#ask-dialog[open]', { timeout: 20000 });
+    assert.match(await s4.page.textContent('#ask-text'), /replaces the recipe text/);
+    await s4.page.click('#ask-cancel');
+    await s4.page.waitForFunction(() => /not opened/.test(document.getElementById('status-text').textContent), null, { timeout: 20000 });
+    assert.equal(await s4.page.$eval('#recipe-text', (e) => e.value), mine, 'the recipe on screen is kept');
+    assert.equal(await s4.page.$('#bundle-opened [data-bundle-content]'), null, 'nothing was opened');
+    assert.deepEqual(await s4.page.$$eval('.card[data-file]', (c) => c.map((e) => e.dataset.file)), ['frame.csv'], 'no card for the bundle');
+    assert.deepEqual(s4.errors, []);
+  } finally { await s4.close(); }
+
   // one digit of the first result's first value changed: still valid JSON
   const text = bundle.bytes.toString('utf8');
   const results = text.indexOf('"results": [');
